@@ -1,0 +1,34 @@
+# The two set-up commands of README.md: `make demo` and `make test`.
+PYTHON ?= python3
+VENV   := .venv
+BIN    := $(VENV)/bin
+SOURCES := pyproject.toml $(shell find cardgen -type f -not -name '*.pyc' 2>/dev/null)
+
+.PHONY: demo test system lint bench clean
+
+system:
+	@scripts/system-packages.sh
+
+# A regular (not editable) install: the tests check the installed package.
+$(VENV)/installed: $(SOURCES)
+	test -x $(BIN)/python || $(PYTHON) -m venv $(VENV)
+	$(BIN)/python -m pip install --quiet --upgrade pip
+	$(BIN)/python -m pip install --quiet ".[test]"
+	touch $@
+
+demo: system $(VENV)/installed
+	$(BIN)/cardgen vehicles
+	$(BIN)/cardgen solve --vehicle road-hoods --power 150 --grade 6
+	$(BIN)/cardgen solve --vehicle handcycle --speed 12 --headwind 10
+
+lint: $(VENV)/installed
+	$(BIN)/ruff check cardgen tests bench scripts
+
+test: system $(VENV)/installed lint
+	$(BIN)/pytest -q
+
+bench: $(VENV)/installed
+	$(BIN)/python bench/bench_solver.py
+
+clean:
+	rm -rf $(VENV) build *.egg-info site

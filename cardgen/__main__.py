@@ -1,0 +1,7 @@
+"""Allow ``python -m cardgen``."""
+
+import sys
+
+from cardgen.cli import main
+
+sys.exit(main())

@@ -1,0 +1,23 @@
+"""One exception family for everything the user can get wrong.
+
+Every message says what is wrong, where (file, line or key) and how to fix it.
+Only :mod:`cardgen.cli` turns these into exit codes; nothing else prints.
+"""
+
+from __future__ import annotations
+
+
+class CardgenError(Exception):
+    """Base of every error that is the input's fault, not the program's."""
+
+
+class GpxError(CardgenError):
+    """A GPX file cannot be read or makes no sense as a route."""
+
+
+class VehicleError(CardgenError):
+    """A vehicle profile is unknown, missing a key or physically impossible."""
+
+
+class ConfigError(CardgenError):
+    """A site configuration file is wrong."""

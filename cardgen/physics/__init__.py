@@ -1,0 +1,1 @@
+"""Pure, vectorised physics in SI units: no I/O, no printing."""

@@ -1,0 +1,270 @@
+"""The terms of the cycling power balance.
+
+Every function returns the power [W] a term takes from (positive) or gives to
+(negative) the vehicle at ground speed ``speed``. Arguments broadcast like numpy
+arrays; scalars give scalars.
+
+References
+----------
+Martin, J. C., Milliken, D. L., Cobb, J. E., McFadden, K. L. & Coggan, A. R. (1998).
+Validation of a mathematical model for road cycling power. *Journal of Applied
+Biomechanics* 14(3):276–291. doi:10.1123/jab.14.3.276
+Dahn, K., Mai, L., Poland, J. & Jenkins, C. (1991). Frictional resistance in bicycle
+wheel bearings. *Cycling Science* 3:28–32 (the bearing term as used by Martin et al.).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+#: Standard gravity [m/s²], exact by definition (CGPM 1901).
+G0 = 9.80665
+#: Wheel-bearing friction, P = v·(91 + 8.7·v)·1e-3 [W] (Dahn et al. 1991 via Martin 1998).
+BEARING_A = 0.091  # [N]
+BEARING_B = 0.0087  # [N·s/m]
+
+
+def _slope(grade):
+    """cos and sin of the road angle for a grade (rise/run), exact trigonometry."""
+    g = np.asarray(grade, dtype=float)
+    inv = 1.0 / np.sqrt(1.0 + g * g)
+    return inv, g * inv
+
+
+def rolling_power(speed, mass, crr, grade=0.0):
+    """Power lost to tyre rolling resistance.
+
+    Parameters
+    ----------
+    speed : float or array [m/s] ground speed
+    mass : float or array [kg] total moving mass
+    crr : float or array [-] coefficient of rolling resistance
+    grade : float or array [-] rise/run
+
+    Returns
+    -------
+    float or array [W]
+
+    Notes
+    -----
+    P_RR = v·Crr·m·g·cos(arctan G)
+
+    References
+    ----------
+    Martin et al. (1998), J. Appl. Biomech. 14:276–291.
+    """
+    cos_a, _ = _slope(grade)
+    return (np.asarray(speed, dtype=float) * crr * mass * G0 * cos_a)[()]
+
+
+def gravity_power(speed, mass, grade):
+    """Power against gravity; negative on a descent (gravity pushes).
+
+    Parameters
+    ----------
+    speed : float or array [m/s]
+    mass : float or array [kg]
+    grade : float or array [-]
+
+    Returns
+    -------
+    float or array [W]
+
+    Notes
+    -----
+    P_PE = v·m·g·sin(arctan G)
+
+    References
+    ----------
+    Martin et al. (1998), J. Appl. Biomech. 14:276–291.
+    """
+    _, sin_a = _slope(grade)
+    return (np.asarray(speed, dtype=float) * mass * G0 * sin_a)[()]
+
+
+def aero_power(speed, cda, air_density, headwind=0.0):
+    """Power against air drag, with wind along the direction of travel.
+
+    Parameters
+    ----------
+    speed : float or array [m/s] ground speed
+    cda : float or array [m²] drag area (include any wheel/spoke drag area)
+    air_density : float or array [kg/m³]
+    headwind : float or array [m/s]
+        Wind component against the direction of travel; negative is a tailwind.
+
+    Returns
+    -------
+    float or array [W]; negative when a tailwind faster than the rider pushes.
+
+    Notes
+    -----
+    P_AT = ½·ρ·CdA·v_a·|v_a|·v with v_a = v + headwind. Martin et al. write
+    V_A² for the usual case v_a > 0; the signed form keeps a following wind that is
+    faster than the rider a push, not a drag.
+
+    References
+    ----------
+    Martin et al. (1998), J. Appl. Biomech. 14:276–291.
+    """
+    v = np.asarray(speed, dtype=float)
+    air_speed = v + headwind
+    return (0.5 * air_density * cda * air_speed * np.abs(air_speed) * v)[()]
+
+
+def bearing_power(speed):
+    """Power lost in the wheel bearings.
+
+    Parameters
+    ----------
+    speed : float or array [m/s]
+
+    Returns
+    -------
+    float or array [W]
+
+    Notes
+    -----
+    P_WB = v·(91 + 8.7·v)·10⁻³
+
+    References
+    ----------
+    Dahn et al. (1991), as used by Martin et al. (1998).
+    """
+    v = np.asarray(speed, dtype=float)
+    return (v * (BEARING_A + BEARING_B * v))[()]
+
+
+def kinetic_power(speed_start, speed_end, duration, mass, wheel_inertia_mass=0.0):
+    """Power that changes the kinetic energy of rider, vehicle and wheels.
+
+    Parameters
+    ----------
+    speed_start, speed_end : float or array [m/s]
+    duration : float or array [s]
+    mass : float or array [kg] total moving mass
+    wheel_inertia_mass : float or array [kg]
+        I/r², the extra mass that the wheels' rotation adds (Martin et al.: 0.14 kg·m²
+        on r = 0.311 m, ≈1.45 kg for a road bike).
+
+    Returns
+    -------
+    float or array [W]; NaN where duration ≤ 0.
+
+    Notes
+    -----
+    P_KE = ½·(m + I/r²)·(v_f² − v_i²)/(t_f − t_i)
+
+    References
+    ----------
+    Martin et al. (1998), J. Appl. Biomech. 14:276–291.
+    """
+    dt = np.asarray(duration, dtype=float)
+    vi = np.asarray(speed_start, dtype=float)
+    vf = np.asarray(speed_end, dtype=float)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        p = 0.5 * (mass + wheel_inertia_mass) * (vf * vf - vi * vi) / dt
+    return np.where(dt > 0.0, p, np.nan)[()]
+
+
+def pedal_power(wheel_power, efficiency):
+    """Power the rider must put in for a power needed at the wheel.
+
+    Parameters
+    ----------
+    wheel_power : float or array [W]
+    efficiency : float or array [-] drivetrain efficiency, 0 < E ≤ 1
+
+    Returns
+    -------
+    float or array [W]. Where the wheel needs no power (coasting or braking) the
+    drivetrain carries nothing and the value passes through unchanged.
+
+    Notes
+    -----
+    P = P_wheel / E_C for P_wheel > 0.
+
+    References
+    ----------
+    Martin et al. (1998), J. Appl. Biomech. 14:276–291.
+    """
+    w = np.asarray(wheel_power, dtype=float)
+    return np.where(w > 0.0, w / efficiency, w)[()]
+
+
+def wheel_power(power, efficiency):
+    """Power that reaches the wheel for a rider's power (inverse of :func:`pedal_power`).
+
+    Parameters
+    ----------
+    power : float or array [W] at the pedals (or hand cranks); negative is braking
+    efficiency : float or array [-]
+
+    Returns
+    -------
+    float or array [W]
+
+    References
+    ----------
+    Martin et al. (1998), J. Appl. Biomech. 14:276–291.
+    """
+    p = np.asarray(power, dtype=float)
+    return np.where(p > 0.0, p * efficiency, p)[()]
+
+
+@dataclass(frozen=True)
+class Breakdown:
+    """Steady-state power split by term [W] (arrays or floats of one shape).
+
+    ``total`` is at the pedals: ``rolling + bearings + aero + gravity + drivetrain``.
+    """
+
+    rolling: np.ndarray
+    bearings: np.ndarray
+    aero: np.ndarray
+    gravity: np.ndarray
+    drivetrain: np.ndarray
+    total: np.ndarray
+
+
+def steady_breakdown(
+    speed, *, mass, crr, cda, efficiency=1.0, grade=0.0, headwind=0.0,
+    air_density=1.225, bearings=True,
+):
+    """Every term of the steady (no acceleration) power balance at a speed.
+
+    Parameters
+    ----------
+    speed : float or array [m/s]
+    mass : float or array [kg]
+    crr : float or array [-]
+    cda : float or array [m²]
+    efficiency : float or array [-] drivetrain efficiency
+    grade : float or array [-]
+    headwind : float or array [m/s]
+    air_density : float or array [kg/m³]
+    bearings : bool
+        Include the wheel-bearing term of Dahn et al. (1991).
+
+    Returns
+    -------
+    Breakdown
+
+    Notes
+    -----
+    P = (P_AT + P_RR + P_WB + P_PE) / E_C where that sum is positive (Martin et al.
+    1998, without the kinetic term).
+
+    References
+    ----------
+    Martin et al. (1998), J. Appl. Biomech. 14:276–291.
+    """
+    roll = rolling_power(speed, mass, crr, grade)
+    bear = bearing_power(speed) if bearings else np.zeros_like(np.asarray(roll))[()]
+    aero = aero_power(speed, cda, air_density, headwind)
+    grav = gravity_power(speed, mass, grade)
+    at_wheel = roll + bear + aero + grav
+    total = pedal_power(at_wheel, efficiency)
+    return Breakdown(roll, bear, aero, grav, (total - at_wheel)[()], total)

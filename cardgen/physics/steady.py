@@ -1,0 +1,211 @@
+"""Steady riding: the power for a speed, and the speed for a power.
+
+Vectorised over every argument (numpy broadcasting). Speed for power is solved by a
+safeguarded Newton iteration on the whole array at once (Newton steps that leave the
+current bracket fall back to bisection), so each element converges without a Python
+loop over elements.
+
+References
+----------
+Martin, J. C. et al. (1998). Validation of a mathematical model for road cycling
+power. J. Appl. Biomech. 14(3):276–291. doi:10.1123/jab.14.3.276
+Press, W. H., Teukolsky, S. A., Vetterling, W. T. & Flannery, B. P. (2007).
+*Numerical Recipes*, 3rd ed., §9.4 (Newton-Raphson with bracketing, "rtsafe").
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from cardgen.physics.forces import BEARING_A, BEARING_B, G0, steady_breakdown, wheel_power
+
+#: First guess for the upper end of the speed bracket [m/s]; doubled until it holds.
+_FIRST_UPPER = 1.0
+_MAX_DOUBLINGS = 20
+_TOL = 1e-11
+_MAX_ITER = 100
+
+
+def power_for_speed(
+    speed, *, mass, crr, cda, efficiency=1.0, grade=0.0, headwind=0.0,
+    air_density=1.225, bearings=True,
+):
+    """Power at the pedals to hold a steady ground speed.
+
+    Parameters
+    ----------
+    speed : float or array [m/s], ≥ 0
+    mass : float or array [kg] total moving mass
+    crr : float or array [-]
+    cda : float or array [m²]
+    efficiency : float or array [-] drivetrain efficiency
+    grade : float or array [-] rise/run
+    headwind : float or array [m/s]; negative is a tailwind
+    air_density : float or array [kg/m³]
+    bearings : bool
+        Include wheel-bearing friction (Dahn et al. 1991).
+
+    Returns
+    -------
+    float or array [W]; negative where the rider would have to brake to hold the
+    speed. NaN for a negative speed or impossible parameters.
+
+    Notes
+    -----
+    P = (P_AT + P_RR + P_WB + P_PE) / E_C (positive sums only), Martin et al. (1998).
+
+    References
+    ----------
+    Martin et al. (1998), J. Appl. Biomech. 14:276–291.
+    """
+    total = steady_breakdown(
+        speed, mass=mass, crr=crr, cda=cda, efficiency=efficiency, grade=grade,
+        headwind=headwind, air_density=air_density, bearings=bearings,
+    ).total
+    ok = (np.asarray(speed) >= 0) & _valid(mass, crr, cda, efficiency, air_density, grade)
+    return np.where(ok, total, np.nan)[()]
+
+
+def _valid(mass, crr, cda, efficiency, air_density, grade):
+    with np.errstate(invalid="ignore"):
+        return (
+            (np.asarray(mass) > 0) & (np.asarray(crr) >= 0) & (np.asarray(cda) > 0)
+            & (np.asarray(efficiency) > 0) & (np.asarray(efficiency) <= 1)
+            & (np.asarray(air_density) > 0) & np.isfinite(grade)
+        )
+
+
+def _solve_increasing(fun, lo, hi, x):
+    """Root of ``fun`` in [lo, hi] where fun(lo) ≤ 0 ≤ fun(hi), vectorised.
+
+    ``fun(x, sel)`` returns (f, df/dx) for the elements ``sel`` of the problem. Newton
+    steps are kept inside the shrinking bracket; a step that would leave it is
+    replaced by bisection (rtsafe). Converged elements drop out of the iteration.
+    """
+    x, lo, hi = x.copy(), lo.copy(), hi.copy()
+    active = np.arange(x.size)
+    for _ in range(_MAX_ITER):
+        xa, la, ha = x[active], lo[active], hi[active]
+        f, df = fun(xa, active)
+        below = f < 0.0
+        la = np.where(below, xa, la)
+        ha = np.where(below, ha, xa)
+        with np.errstate(divide="ignore", invalid="ignore"):
+            step = xa - f / df
+        inside = (step >= la) & (step <= ha)
+        new = np.where(inside, step, 0.5 * (la + ha))
+        scale = _TOL * (1.0 + np.abs(xa))
+        done = (inside & (np.abs(step - xa) <= scale)) | (f == 0.0) | (ha - la <= scale)
+        x[active], lo[active], hi[active] = new, la, ha
+        active = active[~done]
+        if not active.size:
+            break
+    return x
+
+
+def speed_for_power(
+    power, *, mass, crr, cda, efficiency=1.0, grade=0.0, headwind=0.0,
+    air_density=1.225, bearings=True,
+):
+    """Steady ground speed reached at a constant power.
+
+    Parameters
+    ----------
+    power : float or array [W] at the pedals; zero is coasting, negative is braking
+    mass, crr, cda, efficiency, grade, headwind, air_density, bearings
+        As in :func:`power_for_speed`.
+
+    Returns
+    -------
+    float or array [m/s]. On a descent the stable (terminal) speed, where extra
+    speed brings extra drag. 0 where the vehicle stops (no power and no downhill
+    pull, or braking stronger than gravity can feed). NaN for impossible parameters.
+
+    Notes
+    -----
+    With F(v) = ½ρCdA(v+w)|v+w| + m·g·(Crr·cos θ + sin θ) + a + b·v the force at the
+    wheel, the answer is the largest v ≥ 0 with v·F(v) = P_wheel. F rises with v, so
+    for P_wheel > 0 that root is unique. For P_wheel ≤ 0 on a descent the largest root
+    lies between the minimum of v·F(v) and the coasting speed F(v₀) = 0, where
+    v·F(v) rises: that is the stable equilibrium.
+
+    References
+    ----------
+    Martin et al. (1998), J. Appl. Biomech. 14:276–291; Press et al. (2007) §9.4.
+    """
+    args = np.broadcast_arrays(
+        np.asarray(power, dtype=float), mass, crr, cda, efficiency, grade, headwind,
+        air_density,
+    )
+    shape = args[0].shape
+    p, m, c_rr, c_da, eff, gr, w, rho = (np.asarray(a, dtype=float).ravel() for a in args)
+    ok = _valid(m, c_rr, c_da, eff, rho, gr) & np.isfinite(p) & np.isfinite(w)
+    pw = wheel_power(np.where(ok, p, 0.0), np.where(ok, eff, 1.0))
+    k = 0.5 * rho * c_da
+    cos_a = 1.0 / np.sqrt(1.0 + gr * gr)
+    const = m * G0 * (c_rr * cos_a + gr * cos_a) + (BEARING_A if bearings else 0.0)
+    b = BEARING_B if bearings else 0.0
+    w = np.where(ok, w, 0.0)
+    k = np.where(ok, k, 1.0)
+    const = np.where(ok, const, 1.0)
+
+    def force(v, idx):
+        air = v + w[idx]
+        return k[idx] * air * np.abs(air) + const[idx] + b * v, 2.0 * k[idx] * np.abs(air) + b
+
+    speed = np.zeros_like(p)
+
+    # Upper end of the bracket, F(hi) > 0 and hi·F(hi) > P_wheel, doubled from a low
+    # first guess so that Newton starts within a factor two of the root.
+    hi = np.full_like(p, _FIRST_UPPER)
+    short = np.flatnonzero(ok)
+    for _ in range(_MAX_DOUBLINGS):
+        f_hi, _ = force(hi[short], short)
+        short = short[(f_hi <= 0) | (hi[short] * f_hi <= pw[short])]
+        if not short.size:
+            break
+        hi[short] *= 2.0
+    ok[short] = False
+
+    # Pedalling: the single root of v·F(v) − P_wheel on [0, hi].
+    push = np.flatnonzero(ok & (pw > 0))
+    if push.size:
+        def excess(v, sel):
+            idx = push[sel]
+            f, df = force(v, idx)
+            return v * f - pw[idx], f + v * df
+        speed[push] = _solve_increasing(excess, np.zeros(push.size), hi[push], hi[push])
+
+    # Coasting or braking with a downhill pull: first the coasting speed F(v0) = 0.
+    f0, _ = force(np.zeros_like(p), slice(None))
+    pulled = np.flatnonzero(ok & (pw <= 0) & (f0 < 0))
+    if pulled.size:
+        def net_force(v, sel):
+            return force(v, pulled[sel])
+
+        v0 = _solve_increasing(net_force, np.zeros(pulled.size), hi[pulled], hi[pulled])
+        speed[pulled] = v0
+        brake_local = np.flatnonzero(pw[pulled] < 0)
+        if brake_local.size:
+            brake = pulled[brake_local]
+            top = v0[brake_local]
+
+            def slope(v, sel):  # d(v·F)/dv and its derivative
+                idx = brake[sel]
+                f, df = force(v, idx)
+                return f + v * df, 2.0 * df + v * 2.0 * k[idx] * np.sign(v + w[idx])
+
+            v_min = _solve_increasing(slope, np.zeros(brake.size), top, top)
+            f_min, _ = force(v_min, brake)
+            reachable = v_min * f_min <= pw[brake]
+
+            def brake_excess(v, sel):
+                idx = brake[sel]
+                f, df = force(v, idx)
+                return v * f - pw[idx], f + v * df
+
+            v_brake = _solve_increasing(brake_excess, v_min, top, top)
+            speed[brake] = np.where(reachable, v_brake, 0.0)
+
+    speed[~ok] = np.nan
+    return speed.reshape(shape)[()]

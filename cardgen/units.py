@@ -1,0 +1,54 @@
+"""Unit conversions, used only at the edges (command line, templates).
+
+Everything inside cardgen is SI: m, s, kg, W, J, Pa, K, rad, grade as a fraction.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+KMH_PER_MS = 3.6
+MPH_PER_MS = 3600.0 / 1609.344
+J_PER_KCAL = 4184.0  # thermochemical calorie, ISO 80000-5
+W_PER_HP = 745.69987158227022  # mechanical horsepower, 550 ft·lbf/s
+ZERO_CELSIUS_K = 273.15
+
+
+def kmh_to_ms(speed_kmh):
+    """Convert km/h to m/s."""
+    return np.asarray(speed_kmh, dtype=float) / KMH_PER_MS
+
+
+def ms_to_kmh(speed):
+    """Convert m/s to km/h."""
+    return np.asarray(speed, dtype=float) * KMH_PER_MS
+
+
+def ms_to_mph(speed):
+    """Convert m/s to statute miles per hour."""
+    return np.asarray(speed, dtype=float) * MPH_PER_MS
+
+
+def pct_to_grade(grade_pct):
+    """Convert a grade in percent (rise/run × 100) to a fraction."""
+    return np.asarray(grade_pct, dtype=float) / 100.0
+
+
+def grade_to_pct(grade):
+    """Convert a grade fraction to percent."""
+    return np.asarray(grade, dtype=float) * 100.0
+
+
+def celsius_to_kelvin(temperature_c):
+    """Convert °C to K."""
+    return np.asarray(temperature_c, dtype=float) + ZERO_CELSIUS_K
+
+
+def j_to_kcal(energy):
+    """Convert joules to kilocalories (thermochemical)."""
+    return np.asarray(energy, dtype=float) / J_PER_KCAL
+
+
+def hp_to_w(power_hp):
+    """Convert mechanical horsepower to watts."""
+    return np.asarray(power_hp, dtype=float) * W_PER_HP

@@ -1,0 +1,36 @@
+"""Shared test helpers."""
+
+from __future__ import annotations
+
+import json
+import os
+import shutil
+import subprocess
+import sys
+
+import pytest
+from hypothesis import settings
+
+# Reproducible property tests: the same examples on every machine and every run.
+settings.register_profile("cardgen", derandomize=True, deadline=None, max_examples=300)
+settings.load_profile("cardgen")
+
+
+def _cardgen_command() -> list[str]:
+    exe = shutil.which("cardgen", path=os.path.dirname(sys.executable))
+    return [exe] if exe else [sys.executable, "-m", "cardgen"]
+
+
+@pytest.fixture
+def run_cli():
+    """Run the installed ``cardgen`` command; returns (exit code, stdout, stderr)."""
+
+    def run(*args: str, cwd=None, parse_json: bool = False, timeout: float = 300):
+        proc = subprocess.run(
+            [*_cardgen_command(), *args], capture_output=True, text=True, cwd=cwd,
+            timeout=timeout,
+        )
+        out = json.loads(proc.stdout) if parse_json and proc.returncode == 0 else proc.stdout
+        return proc.returncode, out, proc.stderr
+
+    return run

@@ -1,0 +1,88 @@
+"""`cardgen solve` and `cardgen vehicles` as a user runs them."""
+
+import pytest
+
+KEYS = {"speed_kmh", "power_w", "grade_pct", "headwind_kmh", "air_density_kg_m3", "breakdown_w"}
+
+
+def test_solve_power_for_speed_json(run_cli):
+    code, out, err = run_cli("solve", "--speed", "30", "--mass", "100", "--crr", "0.008",
+                             "--cda", "0.63", "--air-density", "1.2", "--json", parse_json=True)
+    assert code == 0, err
+    assert set(out) == KEYS
+    assert set(out["breakdown_w"]) == {"rolling", "aero", "gravity", "drivetrain"}
+    # common practice, no published source: ≈285 W at 30 km/h (see test_steady)
+    assert out["power_w"] == pytest.approx(285, rel=0.10)
+    assert out["breakdown_w"]["drivetrain"] == 0.0  # explicit coefficients: efficiency 1.0
+    assert sum(out["breakdown_w"].values()) == pytest.approx(out["power_w"], rel=1e-9)
+
+
+def test_solve_speed_for_power_with_vehicle(run_cli):
+    code, out, err = run_cli("solve", "--power", "200", "--grade", "5", "--vehicle", "road-hoods",
+                             "--json", parse_json=True)
+    assert code == 0, err
+    assert 10 < out["speed_kmh"] < 20
+    assert out["power_w"] == 200
+    assert out["breakdown_w"]["drivetrain"] > 0
+    assert sum(out["breakdown_w"].values()) == pytest.approx(200, rel=1e-6)
+
+
+def test_descent_gravity_is_negative(run_cli):
+    code, out, err = run_cli("solve", "--power", "0", "--grade", "-8", "--vehicle", "city-upright",
+                             "--json", parse_json=True)
+    assert code == 0, err
+    assert out["breakdown_w"]["gravity"] < 0
+    assert out["speed_kmh"] > 30
+
+
+def test_altitude_lowers_air_density(run_cli):
+    code, out, _ = run_cli("solve", "--speed", "30", "--vehicle", "road-hoods", "--altitude", "2000",
+                           "--json", parse_json=True)
+    assert code == 0
+    assert out["air_density_kg_m3"] == pytest.approx(1.0066, abs=5e-4)  # ISO 2533
+
+
+def test_human_output_is_a_table(run_cli):
+    code, out, err = run_cli("solve", "--speed", "20", "--vehicle", "handcycle")
+    assert code == 0, err
+    for word in ("km/h", "rolling", "aero", "gravity", "drivetrain", "%"):
+        assert word in out
+
+
+@pytest.mark.parametrize(
+    "args, code, fragment",
+    [
+        (["--power", "100", "--mass", "-80", "--crr", "0.005", "--cda", "0.4"], 1, "--mass"),
+        (["--power", "100", "--grade", "200", "--vehicle", "road-hoods"], 1, "--grade"),
+        (["--power", "100", "--vehicle", "unicycle"], 1, "unknown vehicle"),
+        (["--power", "100"], 1, "--vehicle"),
+        (["--power", "100", "--speed", "20", "--vehicle", "road-hoods"], 2, "not allowed"),
+        (["--vehicle", "road-hoods"], 2, "required"),
+        (["--power", "nan", "--vehicle", "road-hoods"], 1, "finite"),
+        (["--speed", "20", "--vehicle", "road-hoods", "--mass", "80"], 1, "not both"),
+        (["--power", "abc"], 2, "invalid float"),
+    ],
+)
+def test_wrong_input_is_one_clear_line(run_cli, args, code, fragment):
+    got, _, err = run_cli("solve", *args)
+    assert got == code
+    assert fragment in err
+    assert "Traceback" not in err
+
+
+def test_vehicles_lists_the_library(run_cli):
+    code, out, _ = run_cli("vehicles")
+    assert code == 0
+    assert "handcycle" in out and "e-assist-cargo" in out
+    code, rows, _ = run_cli("vehicles", "--json", parse_json=True)
+    assert code == 0
+    assert all(row["sources"]["cda_m2"] for row in rows)
+
+
+def test_python_dash_m_works():
+    import subprocess
+    import sys
+
+    proc = subprocess.run([sys.executable, "-m", "cardgen", "--version"], capture_output=True, text=True)
+    assert proc.returncode == 0
+    assert proc.stdout.startswith("cardgen ")
