@@ -20,7 +20,6 @@ import numpy as np
 from scipy.optimize import brentq
 
 from cardgen.physics.forces import BEARING_A, BEARING_B, G0
-
 from cardgen.physics.steady import power_for_speed, speed_for_power
 
 PARAMS = dict(mass=85.0, crr=0.005, cda=0.40, efficiency=0.976, air_density=1.2)

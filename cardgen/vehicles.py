@@ -9,11 +9,12 @@ from __future__ import annotations
 
 import math
 import tomllib
+from collections.abc import Mapping
 from dataclasses import dataclass, field
 from importlib import resources
 from pathlib import Path
 from types import MappingProxyType
-from typing import Any, Mapping
+from typing import Any
 
 from cardgen.errors import VehicleError
 from cardgen.physics.forces import G0
@@ -92,7 +93,7 @@ class Vehicle:
         return TWO_WHEEL_MIN_SPEED if self.wheels == 2 else 0.0
 
     @classmethod
-    def from_table(cls, name: str, table: Mapping[str, Any], where: str) -> "Vehicle":
+    def from_table(cls, name: str, table: Mapping[str, Any], where: str) -> Vehicle:
         """Build and validate a vehicle from one table of a profile file.
 
         Every problem in the table is collected and reported together, each naming
