@@ -19,16 +19,18 @@ $(VENV)/installed: $(SOURCES)
 demo: system $(VENV)/installed
 	$(BIN)/cardgen vehicles
 	$(BIN)/cardgen solve --vehicle road-hoods --power 150 --grade 6
-	$(BIN)/cardgen solve --vehicle handcycle --speed 12 --headwind 10
+	$(BIN)/cardgen route sample_routes/hill-loop.gpx --vehicle road-hoods --power 150
+	$(BIN)/cardgen route sample_routes/accessible-path.gpx --vehicle handcycle --wind 15 --wind-from 200
 
 lint: $(VENV)/installed
-	$(BIN)/ruff check cardgen tests bench scripts
+	$(BIN)/ruff check cardgen tests bench scripts sample_routes
 
 test: system $(VENV)/installed lint
 	$(BIN)/pytest -q
 
 bench: $(VENV)/installed
 	$(BIN)/python bench/bench_solver.py
+	$(BIN)/python bench/bench_route.py
 
 clean:
 	rm -rf $(VENV) build *.egg-info site

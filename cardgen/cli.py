@@ -125,6 +125,83 @@ def cmd_solve(args) -> int:
     return 0
 
 
+def _route_plan(args):
+    """Read, analyse and plan one route from the ``route`` command's options."""
+    from cardgen.plan import Conditions, Effort, make_plan
+    from cardgen.route.gpx import read_gpx
+    from cardgen.route.terrain import build_terrain
+    from cardgen.units import celsius_to_kelvin, kmh_to_ms
+    from cardgen.vehicles import find_vehicle
+
+    for name in ("power", "target_speed", "wind", "wind_from", "temperature"):
+        _finite(getattr(args, name), "--" + name.replace("_", "-"))
+    vehicle = find_vehicle(args.vehicle)
+    power = vehicle.typical_power if args.power is None else args.power
+    _ensure(1 <= power <= 2000, f"--power {power} W is outside 1…2000 W")
+    target = vehicle.climb_speed if args.target_speed is None else float(kmh_to_ms(args.target_speed))
+    _ensure(1 / 3.6 <= target <= 60 / 3.6, f"--target-speed {args.target_speed} km/h is outside 1…60 km/h")
+    _ensure(0 <= args.wind <= WIND_LIMIT_KMH, f"--wind {args.wind} km/h is outside 0…{WIND_LIMIT_KMH:g} km/h")
+    _ensure(0 <= args.wind_from <= 360, f"--wind-from {args.wind_from}° is outside 0…360°")
+    temperature = None
+    if args.temperature is not None:
+        _ensure(-30 <= args.temperature <= 50, f"--temperature {args.temperature} °C is outside -30…50 °C")
+        temperature = float(celsius_to_kelvin(args.temperature))
+    conditions = Conditions(float(kmh_to_ms(args.wind)), math.radians(args.wind_from), temperature)
+    track = read_gpx(args.gpx)
+    terrain = build_terrain(track)
+    return make_plan(track, terrain, vehicle, Effort(power, target), conditions)
+
+
+def _clock(seconds: float) -> str:
+    minutes = int(round(seconds / 60))
+    return f"{minutes // 60}:{minutes % 60:02d}"
+
+
+def cmd_route(args) -> int:
+    from cardgen.plan import route_json
+
+    plan = _route_plan(args)
+    data = route_json(plan)
+    if args.json:
+        print(json.dumps(data, indent=2, ensure_ascii=False))
+        return 0
+    r, v, t = data["route"], plan.vehicle, data["totals"]
+    print(f"{r['name']}: {r['distance_km']:.1f} km, +{r['gain_m']:.0f} m / -{r['loss_m']:.0f} m")
+    print(f"{v.label} ({v.name}), {v.mass:.0f} kg, at {plan.effort.power:.0f} W; "
+          f"climb target {plan.effort.target_speed * 3.6:.1f} km/h")
+    print()
+    if data["climbs"]:
+        print(" #   km        length  gain  avg   max   FIETS band       W@target  km/h  time")
+        for i, c in enumerate(data["climbs"], 1):
+            print(f"{i:2}  {c['start_km']:5.1f}-{c['end_km']:<5.1f} {c['length_m']:6.0f} m {c['gain_m']:4.0f}m "
+                  f"{c['avg_grade_pct']:4.1f}% {c['max_grade_pct']:4.1f}% {c['score']:5.2f} "
+                  f"{c['band']:<10} {c['power_for_target_w']:6.0f} W {c['speed_at_effort_kmh']:5.1f} "
+                  f"{_clock(c['time_s']):>5}")
+            for w in c["warnings"]:
+                print(f"      ! {w}")
+    else:
+        print("No climbs.")
+    print()
+    if data["descents"]:
+        print(" #   km          drop  avg     coasting   gravity")
+        for i, d in enumerate(data["descents"], 1):
+            print(f"{i:2}  {d['start_km']:5.1f}-{d['end_km']:<5.1f} {d['drop_m']:5.0f} m {d['avg_grade_pct']:5.1f}% "
+                  f"{d['coast_speed_kmh']:6.0f} km/h {-d['gravity_power_w']:6.0f} W from gravity")
+            for w in d["warnings"]:
+                print(f"      ! {w}")
+    else:
+        print("No descents.")
+    print()
+    print(f"Moving time {_clock(t['time_s'])}, work {t['energy_kj']:.0f} kJ, "
+          f"food about {t['food_kcal']:.0f} kcal")
+    turns = sum(1 for c in plan.cues if c.kind == "turn")
+    print(f"{len(plan.cues)} cues ({turns} turns)")
+    for w in plan.warnings:
+        print(f"note: {w.text}")
+    print("\nModel estimates, not guarantees. Ride descents to the conditions; local road rules apply.")
+    return 0
+
+
 def cmd_vehicles(args) -> int:
     from cardgen.units import ms_to_kmh
     from cardgen.vehicles import builtin_vehicles
@@ -180,6 +257,23 @@ def build_parser() -> argparse.ArgumentParser:
     air.add_argument("--air-density", type=float, metavar="KGM3", help="air density")
     solve.add_argument("--json", action="store_true", help="print one JSON object")
     solve.set_defaults(run=cmd_solve)
+
+    route = sub.add_parser("route", help="climbs, descents, cues and times of one GPX route",
+                           description="Climbs, descents, cues and times of one GPX route.")
+    route.add_argument("gpx", metavar="ROUTE.gpx")
+    route.add_argument("--vehicle", default="road-hoods", metavar="NAME|FILE",
+                       help="built-in vehicle or TOML profile (default road-hoods)")
+    route.add_argument("--power", type=float, metavar="W",
+                       help="rider power held along the route (default: the vehicle's typical power)")
+    route.add_argument("--target-speed", type=float, metavar="KMH",
+                       help="climbing speed for the watts column (default: the vehicle's)")
+    route.add_argument("--wind", type=float, default=0.0, metavar="KMH", help="wind speed")
+    route.add_argument("--wind-from", type=float, default=0.0, metavar="DEG",
+                       help="direction the wind comes from, degrees clockwise from north")
+    route.add_argument("--temperature", type=float, metavar="C",
+                       help="air temperature (default: standard atmosphere at each altitude)")
+    route.add_argument("--json", action="store_true", help="print one JSON object")
+    route.set_defaults(run=cmd_route)
 
     vehicles = sub.add_parser("vehicles", help="list the built-in vehicles",
                               description="List the built-in vehicles.")

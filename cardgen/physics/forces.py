@@ -268,3 +268,27 @@ def steady_breakdown(
     at_wheel = roll + bear + aero + grav
     total = pedal_power(at_wheel, efficiency)
     return Breakdown(roll, bear, aero, grav, (total - at_wheel)[()], total)
+
+
+def headwind(heading, wind_speed, wind_from):
+    """Wind component against the direction of travel.
+
+    Parameters
+    ----------
+    heading : float or array [rad] direction of travel, clockwise from north
+    wind_speed : float or array [m/s]
+    wind_from : float or array [rad] direction the wind blows from, clockwise from north
+
+    Returns
+    -------
+    float or array [m/s]; negative is a tailwind.
+
+    Notes
+    -----
+    V_W·cos(D_W − D_B)
+
+    References
+    ----------
+    Martin et al. (1998), J. Appl. Biomech. 14:276–291.
+    """
+    return (np.asarray(wind_speed, dtype=float) * np.cos(np.asarray(wind_from) - np.asarray(heading)))[()]

@@ -174,7 +174,9 @@ def speed_for_power(
             idx = push[sel]
             f, df = force(v, idx)
             return v * f - pw[idx], f + v * df
-        speed[push] = _solve_increasing(excess, np.zeros(push.size), hi[push], hi[push])
+        # The root lies in (hi/2, hi] once hi has been doubled: start in between.
+        start = np.where(hi[push] > _FIRST_UPPER, 0.75 * hi[push], hi[push])
+        speed[push] = _solve_increasing(excess, np.zeros(push.size), hi[push], start)
 
     # Coasting or braking with a downhill pull: first the coasting speed F(v0) = 0.
     f0, _ = force(np.zeros_like(p), slice(None))

@@ -1,0 +1,1 @@
+"""Routes: GPX in, terrain, climbs, descents and cues out. Knows nothing of vehicles."""

@@ -1,0 +1,304 @@
+"""Terrain along a route: distance, a uniform grid, smoothed elevation, grade,
+heading and curve radius.
+
+References
+----------
+Savitzky, A. & Golay, M. J. E. (1964). Smoothing and differentiation of data by
+simplified least squares procedures. *Analytical Chemistry* 36(8):1627–1639.
+doi:10.1021/ac60214a047
+Tukey, J. W. (1977). *Exploratory Data Analysis*. Addison-Wesley (running medians).
+Sinnott, R. W. (1984). Virtues of the haversine. *Sky and Telescope* 68(2):159.
+Moritz, H. (2000). Geodetic Reference System 1980. *Journal of Geodesy* 74:128–133
+(mean Earth radius R₁ = (2a + b)/3).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+from numpy.lib.stride_tricks import sliding_window_view
+
+from cardgen.errors import GpxError
+
+#: Mean radius R₁ = (2a + b)/3 of the WGS84 ellipsoid [m].
+EARTH_RADIUS = 6371008.8
+#: Default grid step [m].
+GRID_STEP = 10.0
+#: Savitzky–Golay window [m] and polynomial order: keeps straight and parabolic
+#: profiles exactly; chosen on synthetic profiles (tests/test_terrain.py) so that
+#: σ = 3 m noise adds under 5 m of gain per 10 km while a 200 m pitch at 12 % keeps
+#: its grade within 1 percentage point.
+SMOOTH_WINDOW = 250.0
+SMOOTH_ORDER = 2
+#: Running-median width [points] that removes single- and double-point spikes.
+SPIKE_POINTS = 5
+#: Deadband for total gain and loss [m]: a rise or fall counts once it is this far
+#: from the last turning point. Common practice is 1–3 m on barometric data (no
+#: published source); GPS elevations need more: good receivers stay within 5 m
+#: vertically 95 % of the time (GPS SPS Performance Standard, 2008).
+GAIN_DEADBAND = 5.0
+#: Window [m] over which heading change gives the curve radius.
+CURVE_WINDOW = 30.0
+
+
+def cumulative_distance(lat, lon):
+    """Distance along a polyline of WGS84 points, from the first point.
+
+    Parameters
+    ----------
+    lat, lon : array [deg]
+
+    Returns
+    -------
+    array [m], same length, starting at 0.
+
+    Notes
+    -----
+    Haversine on a sphere of the mean Earth radius:
+    d = 2R·asin√(sin²(Δφ/2) + cos φ₁·cos φ₂·sin²(Δλ/2)). Within 0.6 % of the
+    ellipsoidal geodesic (Karney 2013) on 1 km legs at any latitude.
+
+    References
+    ----------
+    Sinnott (1984), Sky and Telescope 68:159; Moritz (2000), J. Geodesy 74:128.
+    """
+    phi = np.radians(np.asarray(lat, dtype=float))
+    lam = np.radians(np.asarray(lon, dtype=float))
+    h = np.sin(np.diff(phi) / 2) ** 2 + np.cos(phi[:-1]) * np.cos(phi[1:]) * np.sin(np.diff(lam) / 2) ** 2
+    step = 2 * EARTH_RADIUS * np.arcsin(np.sqrt(np.clip(h, 0.0, 1.0)))
+    return np.concatenate(([0.0], np.cumsum(step)))
+
+
+def bearing(lat1, lon1, lat2, lon2):
+    """Initial great-circle bearing from point 1 to point 2.
+
+    Returns
+    -------
+    array [rad], clockwise from north, in [0, 2π).
+
+    References
+    ----------
+    Sinnott (1984), Sky and Telescope 68:159 (spherical trigonometry).
+    """
+    p1, p2 = np.radians(lat1), np.radians(lat2)
+    dl = np.radians(np.asarray(lon2) - np.asarray(lon1))
+    y = np.sin(dl) * np.cos(p2)
+    x = np.cos(p1) * np.sin(p2) - np.sin(p1) * np.cos(p2) * np.cos(dl)
+    return np.mod(np.arctan2(y, x), 2 * np.pi)
+
+
+@dataclass(frozen=True)
+class Terrain:
+    """A route on a uniform distance grid.
+
+    Node arrays (n + 1): ``distance`` [m], ``lat``/``lon`` [deg], ``elevation`` [m]
+    (smoothed), ``elevation_raw`` [m] (resampled, spikes removed, not smoothed),
+    ``curve_radius`` [m] (inf on a straight).
+    Segment arrays (n), segment i from node i to i + 1: ``grade`` [-], ``heading``
+    [rad] clockwise from north.
+    ``step`` [m] is the grid spacing; ``gain``/``loss`` [m] use :data:`GAIN_DEADBAND`.
+    """
+
+    distance: np.ndarray
+    lat: np.ndarray
+    lon: np.ndarray
+    elevation: np.ndarray
+    elevation_raw: np.ndarray
+    grade: np.ndarray
+    heading: np.ndarray
+    curve_radius: np.ndarray
+    step: float
+    gain: float
+    loss: float
+
+    @property
+    def length(self) -> float:
+        """Route length [m]."""
+        return float(self.distance[-1])
+
+
+def remove_spikes(elevation, points: int = SPIKE_POINTS):
+    """Running median over ``points`` samples: removes isolated spikes and dips,
+    leaves monotone stretches and steps unchanged.
+
+    References
+    ----------
+    Tukey (1977), Exploratory Data Analysis.
+    """
+    e = np.asarray(elevation, dtype=float)
+    if e.size < points:
+        return e.copy()
+    half = points // 2
+    padded = np.concatenate((np.full(half, e[0]), e, np.full(half, e[-1])))
+    return np.median(sliding_window_view(padded, points), axis=1)
+
+
+def smooth_elevation(elevation, step: float, window: float = SMOOTH_WINDOW, order: int = SMOOTH_ORDER):
+    """Savitzky–Golay smoothing of an elevation profile on a uniform grid.
+
+    Parameters
+    ----------
+    elevation : array [m]
+    step : float [m] grid spacing
+    window : float [m] length of the local polynomial fit
+    order : int  polynomial order; straight and (order 2) parabolic profiles pass
+        through unchanged.
+
+    References
+    ----------
+    Savitzky & Golay (1964), Anal. Chem. 36:1627–1639.
+    """
+    e = np.asarray(elevation, dtype=float)
+    points = int(round(window / step)) | 1  # odd
+    points = min(points, e.size if e.size % 2 else e.size - 1)
+    if points <= order:
+        return e.copy()
+    return savitzky_golay(e, points, order)
+
+
+def savitzky_golay(values, points: int, order: int):
+    """Least-squares polynomial smoothing over a sliding window of ``points`` samples.
+
+    Inside, each value is replaced by the value at the centre of the polynomial of
+    degree ``order`` fitted to the window around it (one fixed convolution). The
+    first and last ``points // 2`` values come from the polynomial fitted to the
+    first and last full window. Same result as ``scipy.signal.savgol_filter(...,
+    mode="interp")`` (checked in the tests), without importing SciPy on the analysis
+    path.
+
+    References
+    ----------
+    Savitzky & Golay (1964), Anal. Chem. 36:1627–1639.
+    """
+    v = np.asarray(values, dtype=float)
+    half = points // 2
+    offsets = np.arange(-half, half + 1, dtype=float)
+    design = offsets[:, None] ** np.arange(order + 1)  # (points, order + 1)
+    fit = np.linalg.pinv(design)  # polynomial coefficients from a window
+    out = np.empty_like(v)
+    out[half:v.size - half] = np.convolve(v, fit[0][::-1], mode="valid")
+    out[:half] = design[:half] @ (fit @ v[:points])
+    out[v.size - half:] = design[half + 1:] @ (fit @ v[-points:])
+    return out
+
+
+def elevation_gain(elevation, deadband: float = GAIN_DEADBAND) -> tuple[float, float]:
+    """Total gain and loss with hysteresis.
+
+    A rise (fall) is counted once the profile has moved ``deadband`` metres away from
+    the last turning point, so noise smaller than the deadband adds nothing.
+
+    Returns
+    -------
+    (gain, loss) [m], both ≥ 0.
+    """
+    turns = turning_points(elevation, deadband)
+    steps = np.diff(np.asarray(elevation, dtype=float)[turns])
+    return float(steps[steps > 0].sum()), float(-steps[steps < 0].sum())
+
+
+def turning_points(elevation, deadband: float) -> np.ndarray:
+    """Indices of the alternating lows and highs of a profile, with hysteresis.
+
+    The first index is always included. A high (low) is confirmed once the profile
+    has fallen (risen) more than ``deadband`` below (above) it; the last extreme
+    counts when it lies more than ``deadband`` from the turning point before it.
+    """
+    e = np.asarray(elevation, dtype=float)
+    n = e.size
+    if n < 2:
+        return np.arange(n)
+    # Only local extrema can be turning points: the loop below runs over them only.
+    d = np.sign(np.diff(e))
+    nz = np.flatnonzero(d)
+    candidates = [0]
+    if nz.size:
+        change = nz[1:][d[nz[1:]] != d[nz[:-1]]]
+        candidates.extend(change.tolist())
+    candidates.append(n - 1)
+    turns = [0]
+    state = 0
+    best = 0
+    for i in candidates[1:]:
+        x = e[i]
+        if state == 0:
+            if x - e[turns[-1]] > deadband:
+                state, best = 1, i
+            elif e[turns[-1]] - x > deadband:
+                state, best = -1, i
+        elif state == 1:
+            if x >= e[best]:
+                best = i
+            elif e[best] - x > deadband:
+                turns.append(best)
+                state, best = -1, i
+        else:
+            if x <= e[best]:
+                best = i
+            elif x - e[best] > deadband:
+                turns.append(best)
+                state, best = 1, i
+    if state != 0 and best != turns[-1]:
+        turns.append(best)
+    return np.asarray(turns)
+
+
+def curve_radius(lat, lon, step: float, window: float = CURVE_WINDOW):
+    """Radius of the path's curve at each grid node.
+
+    Notes
+    -----
+    R = L / |Δψ|: the path length L of a window centred on the node over the change
+    of heading ψ across it (unwrapped, so hairpins keep their full angle). Straight
+    stretches give inf.
+    """
+    n = len(lat)
+    heading = np.unwrap(bearing(lat[:-1], lon[:-1], lat[1:], lon[1:]))
+    half = max(1, int(round(window / (2 * step))))
+    radius = np.full(n, np.inf)
+    if heading.size < 2 * half:
+        return radius
+    # heading[j + half] − heading[j]: the turn between segment j and segment j + half,
+    # whose midpoints are half·step apart along the path around node j + (half+1)//2.
+    turn = np.abs(heading[half:] - heading[:-half])
+    centre = np.arange(turn.size) + (half + 1) // 2
+    with np.errstate(divide="ignore"):
+        r = (half * step) / turn
+    radius[centre] = r
+    return radius
+
+
+def build_terrain(track, step: float = GRID_STEP) -> Terrain:
+    """Resample a :class:`~cardgen.route.gpx.Track` onto a uniform grid and derive
+    the terrain.
+
+    Raises
+    ------
+    GpxError
+        When the route has no length.
+    """
+    d = cumulative_distance(track.lat, track.lon)
+    keep = np.concatenate(([True], np.diff(d) > 0))  # drop repeated points
+    d = d[keep]
+    if d[-1] < 2 * step:
+        raise GpxError(
+            f"{track.path}: the route is {d[-1]:.0f} m long; cardgen needs at least {2 * step:.0f} m "
+            "(are all points the same?)"
+        )
+    ele = remove_spikes(track.elevation[keep])
+    n = int(np.ceil(d[-1] / step))
+    grid = np.linspace(0.0, d[-1], n + 1)
+    grid_step = float(grid[1] - grid[0])
+    lat = np.interp(grid, d, track.lat[keep])
+    lon = np.interp(grid, d, track.lon[keep])
+    raw = np.interp(grid, d, ele)
+    smooth = smooth_elevation(raw, grid_step)
+    grade = np.diff(smooth) / grid_step
+    heading = bearing(lat[:-1], lon[:-1], lat[1:], lon[1:])
+    gain, loss = elevation_gain(smooth)
+    return Terrain(
+        distance=grid, lat=lat, lon=lon, elevation=smooth, elevation_raw=raw, grade=grade,
+        heading=heading, curve_radius=curve_radius(lat, lon, grid_step), step=grid_step,
+        gain=gain, loss=loss,
+    )

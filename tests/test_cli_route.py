@@ -1,0 +1,99 @@
+"""`cardgen route` on the sample routes, as a user runs it."""
+
+from pathlib import Path
+
+import numpy as np
+import pytest
+from gpxmaker import straight, to_latlon, write_gpx
+
+SAMPLES = Path(__file__).resolve().parents[1] / "sample_routes"
+CLIMB_KEYS = {"start_km", "end_km", "length_m", "gain_m", "avg_grade_pct", "max_grade_pct", "score", "band",
+              "power_for_target_w", "speed_at_effort_kmh", "time_s", "assist_level", "warnings"}
+DESCENT_KEYS = {"start_km", "end_km", "drop_m", "avg_grade_pct", "coast_speed_kmh", "gravity_power_w", "warnings"}
+
+
+@pytest.mark.parametrize("name", ["riverside-loop", "hill-loop", "day-ride", "accessible-path"])
+def test_route_json_has_the_contract(run_cli, name):
+    code, out, err = run_cli("route", str(SAMPLES / f"{name}.gpx"), "--json", parse_json=True)
+    assert code == 0, err
+    assert set(out) == {"route", "vehicle", "climbs", "descents", "totals"}
+    assert set(out["route"]) == {"name", "distance_km", "gain_m", "loss_m", "points"}
+    assert set(out["vehicle"]) == {"name", "mass_kg", "cda_m2", "crr"}
+    assert set(out["totals"]) == {"time_s", "energy_kj", "food_kcal", "battery_wh"}
+    for climb in out["climbs"]:
+        assert set(climb) == CLIMB_KEYS
+        assert climb["time_s"] > 0 and climb["power_for_target_w"] > 0
+    for descent in out["descents"]:
+        assert set(descent) == DESCENT_KEYS
+        assert descent["gravity_power_w"] < 0  # gravity drives on a descent (DESIGN.md sign)
+    assert out["totals"]["time_s"] > 0
+
+
+def test_hill_loop_numbers_are_plausible(run_cli):
+    code, out, err = run_cli("route", str(SAMPLES / "hill-loop.gpx"), "--vehicle", "road-hoods",
+                             "--power", "150", "--json", parse_json=True)
+    assert code == 0, err
+    (climb,) = out["climbs"]
+    assert 7 <= climb["avg_grade_pct"] <= 11 and climb["max_grade_pct"] >= 12
+    assert any("walk" in w for w in climb["warnings"])  # 150 W on 14 % is below 5.5 km/h
+    (descent,) = out["descents"]
+    assert any("curve" in w for w in descent["warnings"])  # the hairpins
+    # 26 km with one climb at 150 W: between 50 and 90 minutes
+    assert 50 * 60 < out["totals"]["time_s"] < 90 * 60
+    # food = work / (0.20 · 4184 J/kcal), Moseley & Jeukendrup (2001) gross efficiency
+    assert out["totals"]["food_kcal"] == pytest.approx(out["totals"]["energy_kj"] * 1000 / (0.2 * 4184), rel=1e-9)
+
+
+def test_handcycle_gets_no_walk_warning(run_cli):
+    code, out, err = run_cli("route", str(SAMPLES / "hill-loop.gpx"), "--vehicle", "handcycle", "--json",
+                             parse_json=True)
+    assert code == 0, err
+    assert not any("walk" in w for c in out["climbs"] for w in c["warnings"])
+
+
+def _east_west(tmp_path):
+    x, y, _ = straight(5000, spacing=10, heading_deg=90.0)  # heading east
+    lat, lon = to_latlon(x, y)
+    return write_gpx(tmp_path / "east.gpx", lat, lon, np.zeros(x.size))
+
+
+def test_wind_from_the_east_slows_an_eastbound_rider(run_cli, tmp_path):
+    path = str(_east_west(tmp_path))
+    calm = run_cli("route", path, "--json", parse_json=True)[1]["totals"]["time_s"]
+    into = run_cli("route", path, "--wind", "20", "--wind-from", "90", "--json", parse_json=True)[1]
+    behind = run_cli("route", path, "--wind", "20", "--wind-from", "270", "--json", parse_json=True)[1]
+    assert into["totals"]["time_s"] > calm * 1.2
+    assert behind["totals"]["time_s"] < calm * 0.9
+
+
+def test_cold_air_is_slower(run_cli, tmp_path):
+    path = str(_east_west(tmp_path))
+    cold = run_cli("route", path, "--temperature", "-10", "--json", parse_json=True)[1]["totals"]["time_s"]
+    warm = run_cli("route", path, "--temperature", "35", "--json", parse_json=True)[1]["totals"]["time_s"]
+    assert cold > warm
+
+
+def test_human_table(run_cli):
+    code, out, err = run_cli("route", str(SAMPLES / "hill-loop.gpx"))
+    assert code == 0, err
+    assert "FIETS" in out and "Moving time" in out and "not guarantees" in out
+
+
+@pytest.mark.parametrize("args, fragment", [
+    (["--power", "0"], "--power"),
+    (["--power", "5000"], "--power"),
+    (["--wind", "-3"], "--wind"),
+    (["--wind-from", "400"], "--wind-from"),
+    (["--temperature", "80"], "--temperature"),
+    (["--target-speed", "0"], "--target-speed"),
+    (["--vehicle", "rocket"], "unknown vehicle"),
+])
+def test_route_wrong_options(run_cli, args, fragment):
+    code, _, err = run_cli("route", str(SAMPLES / "riverside-loop.gpx"), *args)
+    assert code == 1
+    assert fragment in err and "Traceback" not in err
+
+
+def test_route_missing_file(run_cli, tmp_path):
+    code, _, err = run_cli("route", str(tmp_path / "nope.gpx"))
+    assert code == 1 and "no such file" in err
