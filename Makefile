@@ -31,6 +31,7 @@ test: system $(VENV)/installed lint
 bench: $(VENV)/installed
 	$(BIN)/python bench/bench_solver.py
 	$(BIN)/python bench/bench_route.py
+	$(BIN)/python bench/bench_plan.py
 
 clean:
 	rm -rf $(VENV) build *.egg-info site

@@ -127,11 +127,11 @@ def cmd_solve(args) -> int:
 
 def _route_plan(args):
     """Read, analyse and plan one route from the ``route`` command's options."""
-    from cardgen.plan import Conditions, Effort, make_plan
+    from cardgen.plan import Conditions, make_plan
     from cardgen.route.gpx import read_gpx
     from cardgen.route.terrain import build_terrain
     from cardgen.units import celsius_to_kelvin, kmh_to_ms
-    from cardgen.vehicles import find_vehicle
+    from cardgen.vehicles import Rider, find_vehicle
 
     for name in ("power", "target_speed", "wind", "wind_from", "temperature"):
         _finite(getattr(args, name), "--" + name.replace("_", "-"))
@@ -147,9 +147,10 @@ def _route_plan(args):
         _ensure(-30 <= args.temperature <= 50, f"--temperature {args.temperature} °C is outside -30…50 °C")
         temperature = float(celsius_to_kelvin(args.temperature))
     conditions = Conditions(float(kmh_to_ms(args.wind)), math.radians(args.wind_from), temperature)
+    rider = Rider.for_vehicle(vehicle, flat_power=power, climb_power=power, target_speed=target)
     track = read_gpx(args.gpx)
     terrain = build_terrain(track)
-    return make_plan(track, terrain, vehicle, Effort(power, target), conditions)
+    return make_plan(track, terrain, rider, conditions)
 
 
 def _clock(seconds: float) -> str:
@@ -165,10 +166,10 @@ def cmd_route(args) -> int:
     if args.json:
         print(json.dumps(data, indent=2, ensure_ascii=False))
         return 0
-    r, v, t = data["route"], plan.vehicle, data["totals"]
+    r, v, t = data["route"], plan.rider.vehicle, data["totals"]
     print(f"{r['name']}: {r['distance_km']:.1f} km, +{r['gain_m']:.0f} m / -{r['loss_m']:.0f} m")
-    print(f"{v.label} ({v.name}), {v.mass:.0f} kg, at {plan.effort.power:.0f} W; "
-          f"climb target {plan.effort.target_speed * 3.6:.1f} km/h")
+    print(f"{v.label} ({v.name}), {v.mass:.0f} kg, at {plan.rider.flat_power:.0f} W; "
+          f"climb target {plan.rider.target_speed * 3.6:.1f} km/h")
     print()
     if data["climbs"]:
         print(" #   km        length  gain  avg   max   FIETS band       W@target  km/h  time")
@@ -177,6 +178,8 @@ def cmd_route(args) -> int:
                   f"{c['avg_grade_pct']:4.1f}% {c['max_grade_pct']:4.1f}% {c['score']:5.2f} "
                   f"{c['band']:<10} {c['power_for_target_w']:6.0f} W {c['speed_at_effort_kmh']:5.1f} "
                   f"{_clock(c['time_s']):>5}")
+            if c["assist_level"] is not None:
+                print(f"      assist: {c['assist_level']}")
             for w in c["warnings"]:
                 print(f"      ! {w}")
     else:
@@ -192,9 +195,10 @@ def cmd_route(args) -> int:
     else:
         print("No descents.")
     print()
+    battery = "" if t["battery_wh"] is None else f", battery about {t['battery_wh']:.0f} Wh"
     print(f"Moving time {_clock(t['time_s'])}, work {t['energy_kj']:.0f} kJ, "
-          f"food about {t['food_kcal']:.0f} kcal")
-    turns = sum(1 for c in plan.cues if c.kind == "turn")
+          f"food about {t['food_kcal']:.0f} kcal{battery}")
+    turns = sum(1 for c in plan.cues if c.cue.kind == "turn")
     print(f"{len(plan.cues)} cues ({turns} turns)")
     for w in plan.warnings:
         print(f"note: {w.text}")

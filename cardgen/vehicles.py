@@ -37,7 +37,7 @@ _NUMBERS = {
     "max_descent_speed_kmh": ("max_descent_speed", 1 / 3.6, 5.0, 120.0),
     "curve_accel_g": ("curve_accel", G0, 0.05, 1.0),
 }
-_TEXT = {"label", "propulsion", "base"}
+_TEXT = {"label", "propulsion", "base", "motor"}
 _KNOWN = set(_NUMBERS) | _TEXT | {"wheels", "sources"}
 
 
@@ -62,6 +62,7 @@ class Vehicle:
     climb_speed : float [m/s]
     max_descent_speed : float [m/s]
     curve_accel : float [m/s²]
+    motor : str or None  name of an e-assist envelope (see cardgen/data/motors.toml)
     sources : mapping of file key → where the value comes from
     """
 
@@ -80,6 +81,7 @@ class Vehicle:
     climb_speed: float
     max_descent_speed: float
     curve_accel: float
+    motor: str | None = None
     sources: Mapping[str, str] = field(default_factory=dict, compare=False)
 
     @property
@@ -122,6 +124,13 @@ class Vehicle:
         propulsion = table.get("propulsion", "legs")
         if propulsion not in ("legs", "arms"):
             problems.append(f"'propulsion' must be \"legs\" or \"arms\", not {propulsion!r}")
+        motor = table.get("motor")
+        if motor is not None:
+            from cardgen.physics.assist import builtin_motors
+
+            if motor not in builtin_motors():
+                problems.append(f"'motor' = {motor!r} is not a known envelope "
+                                f"(allowed: {', '.join(builtin_motors())})")
         if values.get("vehicle_mass", 1.0) + values.get("rider_mass", 1.0) < 20.0:
             problems.append("vehicle_mass_kg + rider_mass_kg must be at least 20 kg")
         if problems:
@@ -130,7 +139,7 @@ class Vehicle:
         sources = table.get("sources", {})
         return cls(
             name=name, label=str(table.get("label", name)), wheels=int(wheels),
-            propulsion=str(propulsion), sources=MappingProxyType(dict(sources)), **values,
+            propulsion=str(propulsion), motor=motor, sources=MappingProxyType(dict(sources)), **values,
         )
 
 
@@ -192,6 +201,8 @@ def _as_table(vehicle: Vehicle) -> dict[str, Any]:
         "label": vehicle.label, "wheels": vehicle.wheels, "propulsion": vehicle.propulsion,
         "sources": dict(vehicle.sources),
     }
+    if vehicle.motor is not None:
+        table["motor"] = vehicle.motor
     for key, (attr, factor, _, _) in _NUMBERS.items():
         table[key] = getattr(vehicle, attr) / factor
     return table
@@ -215,3 +226,90 @@ def find_vehicle(name_or_path: str) -> Vehicle:
         f"unknown vehicle '{name_or_path}'; use one of: {', '.join(library)}, "
         "or the path of a .toml profile file"
     )
+
+
+#: An all-day effort is held at about this share of critical power: common practice,
+#: no published source. Sets the default CP from the vehicle's typical power.
+ALL_DAY_SHARE_OF_CP = 0.70
+#: Default W′ as seconds of CP: from memory (recreational riders ≈ 10–20 kJ on the
+#: legs, ≈ 5–8 kJ on the arms), no published source checked.
+W_PRIME_SECONDS_OF_CP = 70.0
+#: Default cap on climbing power, as a share above CP.
+CLIMB_SHARE_ABOVE_CP = 0.10
+
+
+@dataclass(frozen=True)
+class Rider:
+    """A rider on a vehicle, with a chosen effort.
+
+    Attributes
+    ----------
+    name : str
+    vehicle : Vehicle
+    cp : float [W] critical power
+    w_prime : float [J] work capacity above CP
+    flat_power : float [W] held on flats (at most CP)
+    climb_power : float [W] wanted on climbs; used up to ``cp·(1 + climb_share)``
+    climb_share : float [-] largest share above CP allowed on climbs
+    target_speed : float [m/s] climbing speed for the "watts to hold it" column
+    cruise_level : int  assist level away from climbs (vehicles with a motor)
+
+    Notes
+    -----
+    Defaults (:meth:`for_vehicle`): flat power = the vehicle's typical power, CP =
+    flat power / 0.70, W′ = 70 s × CP, climb power = CP. For a handcycle (typical
+    60 W) that gives CP ≈ 86 W, inside the maximum race power of 55 ± 25 W (arm
+    impairment) to 129 ± 26 W (none) measured by Janssen, Dallmeijer & van der Woude
+    (2001), J. Rehabil. Res. Dev. 38:33–40.
+    """
+
+    name: str
+    vehicle: Vehicle
+    cp: float
+    w_prime: float
+    flat_power: float
+    climb_power: float
+    climb_share: float
+    target_speed: float
+    cruise_level: int = 1
+
+    def __post_init__(self):
+        problems = []
+        if not 10.0 <= self.cp <= 700.0:
+            problems.append(f"critical power {self.cp:g} W is outside 10…700 W")
+        if not 500.0 <= self.w_prime <= 60000.0:
+            problems.append(f"W′ {self.w_prime:g} J is outside 500…60000 J")
+        if not 1.0 <= self.flat_power <= self.cp:
+            problems.append(f"flat power {self.flat_power:g} W must be between 1 W and the CP "
+                            f"({self.cp:g} W): efforts above CP cannot be held for long")
+        if not 1.0 <= self.climb_power <= 2000.0:
+            problems.append(f"climb power {self.climb_power:g} W is outside 1…2000 W")
+        if not 0.0 <= self.climb_share <= 0.5:
+            problems.append(f"climb share above CP {self.climb_share:g} is outside 0…0.5")
+        if not 1 / 3.6 <= self.target_speed <= 60 / 3.6:
+            problems.append(f"target climbing speed {self.target_speed * 3.6:g} km/h is outside 1…60 km/h")
+        if self.vehicle.motor is not None:
+            from cardgen.physics.assist import find_motor
+
+            levels = len(find_motor(self.vehicle.motor).levels)
+            if not 0 <= self.cruise_level <= levels:
+                problems.append(f"cruise assist level {self.cruise_level} is outside 0…{levels}")
+        if problems:
+            raise VehicleError(f"rider '{self.name}': " + "; ".join(problems))
+
+    @property
+    def climb_power_used(self) -> float:
+        """Power actually used on climbs [W]: the wanted power, capped above CP."""
+        return min(self.climb_power, self.cp * (1.0 + self.climb_share))
+
+    @classmethod
+    def for_vehicle(cls, vehicle: Vehicle, name: str | None = None, **given) -> Rider:
+        """A rider with the defaults of the Notes, any of them replaced by ``given``."""
+        flat = given.get("flat_power", vehicle.typical_power)
+        cp = given.get("cp", max(flat, vehicle.typical_power) / ALL_DAY_SHARE_OF_CP)
+        values = dict(
+            cp=cp, w_prime=W_PRIME_SECONDS_OF_CP * cp, flat_power=flat, climb_power=cp,
+            climb_share=CLIMB_SHARE_ABOVE_CP, target_speed=vehicle.climb_speed,
+        )
+        values.update(given)
+        return cls(name=name or vehicle.label, vehicle=vehicle, **values)

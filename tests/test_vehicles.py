@@ -85,3 +85,36 @@ def test_broken_files_are_clear_errors(tmp_path, text, fragment):
 def test_unknown_name_lists_the_choices():
     with pytest.raises(VehicleError, match="road-hoods"):
         find_vehicle("penny-farthing")
+
+
+def test_rider_defaults_follow_the_vehicle():
+    from cardgen.vehicles import Rider
+
+    hand = Rider.for_vehicle(builtin_vehicles()["handcycle"])
+    # Janssen, Dallmeijer & van der Woude (2001): race POmax 55 ± 25 W (arm impairment)
+    # to 129 ± 26 W (none); a default CP must sit inside that span
+    assert 55 - 25 <= hand.cp <= 129 + 26
+    assert hand.flat_power <= hand.cp
+    road = Rider.for_vehicle(builtin_vehicles()["road-hoods"])
+    assert road.cp > hand.cp
+
+
+@pytest.mark.parametrize("given, fragment", [
+    ({"flat_power": 400.0, "cp": 200.0}, "flat power"),
+    ({"cp": 5000.0}, "critical power"),
+    ({"w_prime": -1.0}, "W′"),
+    ({"target_speed": 0.0}, "target climbing speed"),
+    ({"cruise_level": 9}, "cruise assist level"),
+])
+def test_impossible_riders_are_refused(given, fragment):
+    from cardgen.vehicles import Rider
+
+    with pytest.raises(VehicleError, match=fragment):
+        Rider.for_vehicle(builtin_vehicles()["e-assist-city"], **given)
+
+
+def test_climb_power_is_capped_above_cp():
+    from cardgen.vehicles import Rider
+
+    rider = Rider.for_vehicle(builtin_vehicles()["road-hoods"], cp=200.0, climb_power=400.0, climb_share=0.1)
+    assert rider.climb_power_used == pytest.approx(220.0)

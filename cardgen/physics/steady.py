@@ -75,7 +75,7 @@ def _valid(mass, crr, cda, efficiency, air_density, grade):
         )
 
 
-def _solve_increasing(fun, lo, hi, x):
+def _solve_increasing(fun, lo, hi, x, tol=_TOL):
     """Root of ``fun`` in [lo, hi] where fun(lo) ≤ 0 ≤ fun(hi), vectorised.
 
     ``fun(x, sel)`` returns (f, df/dx) for the elements ``sel`` of the problem. Newton
@@ -94,7 +94,7 @@ def _solve_increasing(fun, lo, hi, x):
             step = xa - f / df
         inside = (step >= la) & (step <= ha)
         new = np.where(inside, step, 0.5 * (la + ha))
-        scale = _TOL * (1.0 + np.abs(xa))
+        scale = tol * (1.0 + np.abs(xa))
         done = (inside & (np.abs(step - xa) <= scale)) | (f == 0.0) | (ha - la <= scale)
         x[active], lo[active], hi[active] = new, la, ha
         active = active[~done]
@@ -105,7 +105,7 @@ def _solve_increasing(fun, lo, hi, x):
 
 def speed_for_power(
     power, *, mass, crr, cda, efficiency=1.0, grade=0.0, headwind=0.0,
-    air_density=1.225, bearings=True,
+    air_density=1.225, bearings=True, rtol=_TOL,
 ):
     """Steady ground speed reached at a constant power.
 
@@ -114,6 +114,9 @@ def speed_for_power(
     power : float or array [W] at the pedals; zero is coasting, negative is braking
     mass, crr, cda, efficiency, grade, headwind, air_density, bearings
         As in :func:`power_for_speed`.
+    rtol : float
+        Relative tolerance on the speed (default 1e-11); a first guess for an
+        iteration elsewhere can ask for less.
 
     Returns
     -------
@@ -176,7 +179,7 @@ def speed_for_power(
             return v * f - pw[idx], f + v * df
         # The root lies in (hi/2, hi] once hi has been doubled: start in between.
         start = np.where(hi[push] > _FIRST_UPPER, 0.75 * hi[push], hi[push])
-        speed[push] = _solve_increasing(excess, np.zeros(push.size), hi[push], start)
+        speed[push] = _solve_increasing(excess, np.zeros(push.size), hi[push], start, rtol)
 
     # Coasting or braking with a downhill pull: first the coasting speed F(v0) = 0.
     f0, _ = force(np.zeros_like(p), slice(None))
@@ -185,7 +188,7 @@ def speed_for_power(
         def net_force(v, sel):
             return force(v, pulled[sel])
 
-        v0 = _solve_increasing(net_force, np.zeros(pulled.size), hi[pulled], hi[pulled])
+        v0 = _solve_increasing(net_force, np.zeros(pulled.size), hi[pulled], hi[pulled], rtol)
         speed[pulled] = v0
         brake_local = np.flatnonzero(pw[pulled] < 0)
         if brake_local.size:
@@ -197,7 +200,7 @@ def speed_for_power(
                 f, df = force(v, idx)
                 return f + v * df, 2.0 * df + v * 2.0 * k[idx] * np.sign(v + w[idx])
 
-            v_min = _solve_increasing(slope, np.zeros(brake.size), top, top)
+            v_min = _solve_increasing(slope, np.zeros(brake.size), top, top, rtol)
             f_min, _ = force(v_min, brake)
             reachable = v_min * f_min <= pw[brake]
 
@@ -206,7 +209,7 @@ def speed_for_power(
                 f, df = force(v, idx)
                 return v * f - pw[idx], f + v * df
 
-            v_brake = _solve_increasing(brake_excess, v_min, top, top)
+            v_brake = _solve_increasing(brake_excess, v_min, top, top, rtol)
             speed[brake] = np.where(reachable, v_brake, 0.0)
 
     speed[~ok] = np.nan

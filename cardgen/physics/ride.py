@@ -1,0 +1,298 @@
+"""Riding a route: speed along a profile with inertia, speed limits and braking, and
+the rider's anaerobic work balance.
+
+Everything is vectorised. The kinetic-energy balance along each segment is
+linearised around a reference speed, which turns one step of the ride into a
+clamped affine map of the squared speed; a chain of such maps is evaluated for all
+segments at once with a parallel prefix scan, and the reference is re-centred on the
+result a few times (a Newton iteration on the whole speed profile). With no losses
+and no power the map is exact, so energy is conserved to rounding.
+
+References
+----------
+Martin, J. C. et al. (1998). Validation of a mathematical model for road cycling
+power. J. Appl. Biomech. 14:276–291 (the power balance and its kinetic term).
+Hochbruck, M. & Ostermann, A. (2010). Exponential integrators. *Acta Numerica*
+19:209–286 (the exponential Euler step).
+Blelloch, G. E. (1990). Prefix sums and their applications. CMU-CS-90-190 (the scan).
+Skiba, P. F., Chidnok, W., Vanhatalo, A. & Jones, A. M. (2012). Modeling the
+expenditure and reconstitution of work capacity above critical power. *Med. Sci.
+Sports Exerc.* 44(8):1526–1532. doi:10.1249/MSS.0b013e3182517a80
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+import numpy as np
+
+from cardgen.physics.forces import BEARING_A, BEARING_B, G0
+from cardgen.physics.steady import speed_for_power
+
+#: Stand-in for ±infinity in clamp bounds: keeps 0 × bound finite in the scan.
+_BIG = 1e300
+
+
+def clamp_affine_scan(a, b, lo, hi, x0: float):
+    """Iterate x[i+1] = clip(a[i]·x[i] + b[i], lo[i], hi[i]) for all i at once.
+
+    Parameters
+    ----------
+    a : array, ≥ 0
+    b, lo, hi : arrays of the same length n, lo ≤ hi
+    x0 : float  the starting value
+
+    Returns
+    -------
+    array of n + 1 values, x[0] = x0.
+
+    Notes
+    -----
+    Maps x ↦ clip(a·x + b, l, h) with a ≥ 0 are closed under composition:
+    f₂∘f₁ = (a₂a₁, a₂b₁ + b₂, clip(a₂l₁ + b₂, l₂, h₂), clip(a₂h₁ + b₂, l₂, h₂)).
+    The maps are cut into about √n blocks; prefix compositions are built inside all
+    blocks at once (√n vectorised steps), the values at the block starts follow
+    from one pass over the block totals, and every x is then one clamp-affine map
+    of its block's start (a blocked scan, Blelloch 1990).
+    """
+    a = np.asarray(a, dtype=float)
+    n = a.size
+    if n == 0:
+        return np.array([x0], dtype=float)
+    size = max(1, math.isqrt(n - 1) + 1)
+    blocks = -(-n // size)
+    pad = blocks * size - n
+
+    def shaped(values, fill):  # (size, blocks): step j of every block is one contiguous row
+        values = np.clip(np.asarray(values, dtype=float), -_BIG, _BIG)
+        return np.ascontiguousarray(np.concatenate((values, np.full(pad, fill))).reshape(blocks, size).T)
+
+    pa, pb, pl, ph = shaped(a, 1.0), shaped(b, 0.0), shaped(lo, -_BIG), shaped(hi, _BIG)
+    for j in range(1, size):  # prefix within every block: step j after steps 0…j−1
+        a2, b2, l2, h2 = pa[j], pb[j], pl[j], ph[j]
+        a1, b1, l1, h1 = pa[j - 1], pb[j - 1], pl[j - 1], ph[j - 1]
+        pl[j] = np.minimum(np.maximum(a2 * l1 + b2, l2), h2)  # np.clip's overhead shows here
+        ph[j] = np.minimum(np.maximum(a2 * h1 + b2, l2), h2)
+        pb[j] = a2 * b1 + b2
+        pa[j] = a2 * a1
+    starts = np.empty(blocks)
+    x = float(x0)
+    last_a, last_b, last_l, last_h = (row[-1].tolist() for row in (pa, pb, pl, ph))
+    for k in range(blocks):
+        starts[k] = x
+        x = min(last_h[k], max(last_l[k], last_a[k] * x + last_b[k]))
+    values = np.clip(pa * starts[None, :] + pb, pl, ph).T.ravel()[:n]
+    return np.concatenate(([x0], values))
+
+
+def speed_limit_profile(distance, cap, deceleration: float):
+    """Highest speed at each node from which the rider can still brake down to every
+    cap ahead.
+
+    Parameters
+    ----------
+    distance : array [m] node positions
+    cap : array [m/s] speed limit at each node (inf where none)
+    deceleration : float [m/s²] braking deceleration
+
+    Returns
+    -------
+    array [m/s]: v_lim,i = min over j ≥ i of √(cap_j² + 2·b·(s_j − s_i)).
+
+    Notes
+    -----
+    Constant deceleration b: v² = v_j² + 2·b·Δs. The minimum over j ≥ i is a reverse
+    cumulative minimum of cap_j² + 2·b·s_j.
+    """
+    s = np.asarray(distance, dtype=float)
+    key = np.minimum(np.asarray(cap, dtype=float) ** 2, _BIG) + 2.0 * deceleration * s
+    envelope = np.minimum.accumulate(key[::-1])[::-1]
+    return np.sqrt(np.maximum(envelope - 2.0 * deceleration * s, 0.0))
+
+
+@dataclass(frozen=True)
+class Ride:
+    """A simulated ride. Node arrays (n + 1): ``speed`` [m/s], ``elapsed`` [s].
+    Segment arrays (n): ``mean_speed`` [m/s], ``time`` [s], ``rider_power`` and
+    ``motor_power`` [W] (motor at the wheel), and the split [W]: ``rolling``,
+    ``bearings``, ``aero``, ``gravity``, ``kinetic``, ``drivetrain``, ``braking`` (≥ 0,
+    taken out by the brakes where a speed limit holds the speed down),
+    ``limited`` (bool: a speed limit held the speed down), and ``residual`` [W]: what
+    the step's linearisation leaves unbalanced (small; the tests bound it)."""
+
+    speed: np.ndarray
+    elapsed: np.ndarray
+    mean_speed: np.ndarray
+    time: np.ndarray
+    rider_power: np.ndarray
+    motor_power: np.ndarray
+    rolling: np.ndarray
+    bearings: np.ndarray
+    aero: np.ndarray
+    gravity: np.ndarray
+    kinetic: np.ndarray
+    drivetrain: np.ndarray
+    braking: np.ndarray
+    limited: np.ndarray
+    residual: np.ndarray
+
+
+def simulate(
+    *, step: float, grade, headwind, air_density, mass: float, crr: float, cda: float,
+    efficiency: float, wheel_inertia_mass: float, rider_power, speed_cap, distance,
+    deceleration: float, motor=None, start_speed: float | None = None, bearings: bool = True,
+    passes: int = 4,
+) -> Ride:
+    """Ride a profile of equal segments with the kinetic-energy balance.
+
+    Parameters
+    ----------
+    step : float [m] horizontal segment length (as on a map); each segment is ridden
+        over its slope length step·√(1 + G²)
+    grade, headwind, air_density : arrays (n,) per segment [-], [m/s], [kg/m³]
+    mass : float [kg]; crr, cda, efficiency : floats; wheel_inertia_mass : float [kg]
+    rider_power : array (n,) [W] the rider's power on each segment
+    speed_cap : array (n + 1,) [m/s] limit at each node (descent cap, curves)
+    distance : array (n + 1,) [m] node positions
+    deceleration : float [m/s²] braking used to meet the caps
+    motor : callable or None
+        ``motor(speed, rider_power) -> power at the wheel [W]`` per segment.
+    start_speed : float [m/s] or None
+        None (the default) is a rolling start at the first segment's steady speed.
+    bearings : bool
+    passes : int  re-linearisations of the whole profile (4: see tests/test_ride.py)
+
+    Returns
+    -------
+    Ride
+
+    Notes
+    -----
+    Per segment, in u = v²: du/ds = (2/m_e)·(P_w/v − F(v)), m_e = m + I/r², P_w the
+    power at the wheel, F the resisting force of Martin et al. (1998). Linearised at a
+    reference speed v_r with J = −(P_w/v_r³ + F′(v_r)/v_r)/m_e, one exponential-Euler
+    step is u₊ = u_r + (u − u_r)·e^{J·Δs} + r(u_r)·Δs·φ(J·Δs), φ(z) = (e^z − 1)/z,
+    clamped to [0, v_lim²] (Hochbruck & Ostermann 2010).
+    """
+    grade = np.asarray(grade, dtype=float)
+    n = grade.size
+    wind = np.broadcast_to(np.asarray(headwind, dtype=float), (n,))
+    rho = np.broadcast_to(np.asarray(air_density, dtype=float), (n,))
+    rider = np.broadcast_to(np.asarray(rider_power, dtype=float), (n,))
+    cos_a = 1.0 / np.sqrt(1.0 + grade * grade)
+    sin_a = grade * cos_a
+    k = 0.5 * rho * cda
+    const = mass * G0 * (crr * cos_a + sin_a) + (BEARING_A if bearings else 0.0)
+    bear_b = BEARING_B if bearings else 0.0
+    m_e = mass + wheel_inertia_mass
+    length = step / cos_a  # along the slope
+    limit = speed_limit_profile(distance, speed_cap, deceleration)
+    hi = limit[1:] ** 2
+
+    def force(v):
+        air = v + wind
+        return k * air * np.abs(air) + const + bear_b * v, 2.0 * k * np.abs(air) + bear_b
+
+    def steady(p_wheel):
+        v = speed_for_power(p_wheel, mass=mass, crr=crr, cda=max(cda, 1e-9), efficiency=1.0,
+                            grade=grade, headwind=wind, air_density=rho, bearings=bearings, rtol=1e-4)
+        return np.minimum(np.nan_to_num(v, nan=1.0, posinf=1.0), limit[1:])
+
+    # First reference: the steady speed of each segment (with the motor at that speed).
+    wheel_rider = np.where(rider > 0, rider * efficiency, rider)
+    v_ref = steady(wheel_rider)
+    if motor is not None:
+        v_ref = steady(wheel_rider + motor(np.maximum(v_ref, 0.05), rider))
+    v_ref = np.maximum(v_ref, 0.05)
+    if start_speed is None:
+        start_speed = float(v_ref[0])
+    u = None
+    for _ in range(passes):
+        motor_w = motor(v_ref, rider) if motor is not None else np.zeros(n)
+        p_wheel = wheel_rider + motor_w
+        f, df = force(v_ref)
+        r = 2.0 / m_e * (p_wheel / v_ref - f)
+        jac = -(p_wheel / v_ref**3 + df / v_ref) / m_e
+        z = jac * length
+        a = np.exp(z)
+        with np.errstate(invalid="ignore", divide="ignore"):
+            phi = np.where(np.abs(z) > 1e-12, np.expm1(z) / z, 1.0)
+        u_r = v_ref * v_ref
+        b = u_r * (1.0 - a) + r * length * phi
+        u = clamp_affine_scan(a, b, np.zeros(n), hi, start_speed**2)
+        v_nodes = np.sqrt(u)
+        v_ref = np.maximum(0.5 * (v_nodes[:-1] + v_nodes[1:]), 0.05)
+
+    speed = np.sqrt(u)
+    mean_speed = 0.5 * (speed[:-1] + speed[1:])
+    with np.errstate(divide="ignore"):
+        time = np.where(mean_speed > 0, length / mean_speed, np.inf)
+    motor_w = motor(np.maximum(mean_speed, 0.05), rider) if motor is not None else np.zeros(n)
+    rolling = mean_speed * mass * G0 * crr * cos_a
+    bear = mean_speed * ((BEARING_A if bearings else 0.0) + bear_b * mean_speed)
+    air = mean_speed + wind
+    aero = k * air * np.abs(air) * mean_speed
+    gravity = mean_speed * mass * G0 * sin_a
+    with np.errstate(invalid="ignore", divide="ignore"):
+        kinetic = np.where(np.isfinite(time), 0.5 * m_e * (u[1:] - u[:-1]) / time, 0.0)
+    drivetrain = rider - wheel_rider
+    residual = wheel_rider + motor_w - (rolling + bear + aero + gravity + kinetic)
+    limited = u[1:] >= hi * (1 - 1e-9)
+    braking = np.where(limited, np.maximum(residual, 0.0), 0.0)
+    return Ride(speed, np.concatenate(([0.0], np.cumsum(time))), mean_speed, time, rider.copy(),
+                motor_w, rolling, bear, aero, gravity, kinetic, drivetrain, braking, limited,
+                np.where(limited, residual - braking, residual))
+
+
+def w_prime_balance_skiba(power, time, cp: float, w_prime: float):
+    """Balance of work capacity above critical power along a ride.
+
+    Parameters
+    ----------
+    power : array [W] mean power of each interval
+    time : array [s] duration of each interval
+    cp : float [W] critical power
+    w_prime : float [J] work capacity above CP
+
+    Returns
+    -------
+    array [J] W′bal at the end of each interval (n,), may go below 0 (exhausted).
+
+    Notes
+    -----
+    W′bal(t) = W′ − Σ_u W′exp(u)·e^{−(t−u)/τ}, with W′exp the work done above CP in
+    each interval and τ = 546·e^{−0.01·D_CP} + 316 s, D_CP = CP minus the mean power
+    of the intervals below CP (Skiba et al. 2012). Computed as the recurrence
+    S₊ = S·e^{−Δt/τ} + W′exp with :func:`clamp_affine_scan`.
+
+    References
+    ----------
+    Skiba et al. (2012), Med. Sci. Sports Exerc. 44:1526–1532.
+    """
+    p = np.asarray(power, dtype=float)
+    dt = np.asarray(time, dtype=float)
+    below = p < cp
+    if below.any() and dt[below].sum() > 0:
+        d_cp = cp - np.sum(p[below] * dt[below]) / dt[below].sum()
+    else:
+        d_cp = 0.0
+    tau = skiba_time_constant(d_cp)
+    expended = np.maximum(p - cp, 0.0) * dt
+    decay = np.exp(-dt / tau)
+    spent = clamp_affine_scan(decay, expended, np.full(p.size, -_BIG), np.full(p.size, _BIG), 0.0)[1:]
+    return w_prime - spent
+
+
+def skiba_time_constant(d_cp):
+    """Recovery time constant τ [s] of W′ for a recovery D_CP watts below CP.
+
+    Notes
+    -----
+    τ = 546·e^{−0.01·D_CP} + 316
+
+    References
+    ----------
+    Skiba et al. (2012), Med. Sci. Sports Exerc. 44:1526–1532.
+    """
+    return (546.0 * np.exp(-0.01 * np.asarray(d_cp, dtype=float)) + 316.0)[()]

@@ -1,0 +1,121 @@
+"""Plans: plausibility for every vehicle, the trade's figures, checkpoints, W′ flags."""
+
+from datetime import datetime, timedelta
+from pathlib import Path
+
+import numpy as np
+import pytest
+from gpxmaker import profile_gpx
+
+from cardgen.physics.forces import gravity_power
+from cardgen.physics.steady import power_for_speed, speed_for_power
+from cardgen.plan import checkpoint_windows, checkpoints_from_waypoints, make_plan, route_json
+from cardgen.route.gpx import read_gpx
+from cardgen.route.terrain import build_terrain
+from cardgen.vehicles import Rider, builtin_vehicles
+
+SAMPLES = Path(__file__).resolve().parents[1] / "sample_routes"
+KMH = 1 / 3.6
+
+
+@pytest.fixture(scope="module")
+def hill_loop():
+    track = read_gpx(SAMPLES / "hill-loop.gpx")
+    return track, build_terrain(track)
+
+
+@pytest.mark.parametrize("name", sorted(builtin_vehicles()))
+def test_every_vehicle_gets_a_plausible_plan(hill_loop, name):
+    track, terrain = hill_loop
+    vehicle = builtin_vehicles()[name]
+    plan = make_plan(track, terrain, Rider.for_vehicle(vehicle))
+    ride = plan.ride
+    assert np.isfinite(ride.speed).all() and (ride.time > 0).all()
+    assert (ride.speed <= vehicle.max_descent_speed + 1e-9).all()
+    average = terrain.length / plan.totals.time * 3.6
+    assert 5 < average < 35, f"{name}: {average:.1f} km/h average on a 26 km hilly loop"
+    assert plan.climbs and plan.descents
+    for c in plan.climbs:
+        assert c.time > 0 and c.power_for_target > 0
+        assert (c.assist_level is None) == (vehicle.motor is None)
+    # json-ready
+    data = route_json(plan)
+    assert data["totals"]["time_s"] == pytest.approx(plan.totals.time)
+
+
+# Figures of the trade, common practice, no published source (±15 %): a 250 kg cargo
+# bike with Crr 0.008, CdA 0.6, ρ 1.2, all power at the wheel.
+CARGO = dict(mass=250.0, crr=0.008, cda=0.6, air_density=1.2, efficiency=1.0, bearings=False)
+
+
+def test_cargo_bike_figures_common_practice():
+    assert speed_for_power(200.0, **CARGO) / KMH == pytest.approx(22, rel=0.15)
+    assert speed_for_power(200.0, grade=0.05, **CARGO) / KMH == pytest.approx(5, rel=0.15)
+    assert speed_for_power(200.0, grade=0.10, **CARGO) / KMH < 3
+    assert power_for_speed(22 * KMH, grade=0.10, **CARGO) == pytest.approx(1700, rel=0.15)
+
+
+def test_descending_ten_percent_engages_cap_and_warnings(tmp_path):
+    # common practice, no published source: 100 kg upright rider at 100 W down 10 %
+    # reaches about 58 km/h with well over 1,500 W from gravity
+    upright = dict(mass=100.0, crr=0.008, cda=0.6, air_density=1.2, efficiency=1.0, bearings=False)
+    v = speed_for_power(100.0, grade=-0.10, **upright)
+    assert v / KMH == pytest.approx(58, rel=0.10)
+    assert -gravity_power(v, 100.0, -0.10) > 1500
+    d = np.arange(0, 4001, 10.0)
+    e = np.interp(d, [0, 500, 3500, 4000], [400, 400, 100, 100])
+    track = read_gpx(profile_gpx(tmp_path / "down.gpx", d, e))
+    vehicle = builtin_vehicles()["city-upright"]
+    plan = make_plan(track, build_terrain(track), Rider.for_vehicle(vehicle))
+    (descent,) = plan.descents
+    assert {w.code for w in descent.warnings} >= {"fast"}
+    assert descent.max_speed <= vehicle.max_descent_speed + 1e-9
+    assert descent.braking_energy > 0
+
+
+def test_long_climb_above_cp_flags_w_prime_with_a_safe_power(tmp_path):
+    d = np.arange(0, 8001, 10.0)
+    e = np.interp(d, [0, 1000, 7000, 8000], [0, 0, 480, 480])  # 6 km at 8 %
+    track = read_gpx(profile_gpx(tmp_path / "long.gpx", d, e))
+    vehicle = builtin_vehicles()["road-hoods"]
+    rider = Rider.for_vehicle(vehicle, cp=220.0, w_prime=12000.0, flat_power=150.0, climb_power=300.0,
+                              climb_share=0.3)
+    plan = make_plan(track, build_terrain(track), rider)
+    (climb,) = plan.climbs
+    assert climb.w_prime_low < 0
+    assert any(w.code == "w-prime" for w in climb.warnings)
+    assert rider.cp <= climb.safe_power < rider.climb_power_used
+    easy = make_plan(track, build_terrain(track), Rider.for_vehicle(vehicle, cp=220.0, climb_power=200.0))
+    assert easy.climbs[0].w_prime_low == pytest.approx(easy.rider.w_prime)
+
+
+def test_checkpoint_windows_on_the_day_ride():
+    track = read_gpx(SAMPLES / "day-ride.gpx")
+    terrain = build_terrain(track)
+    lib = builtin_vehicles()
+    plans = [make_plan(track, terrain, Rider.for_vehicle(lib[n])) for n in ("road-drops", "handcycle")]
+    checkpoints = checkpoints_from_waypoints(track, terrain)
+    assert [c.name for c in checkpoints][:1] == ["Checkpoint 1: Hollin Cross"]
+    start = datetime(2026, 6, 6, 8, 0)
+    rows, finish = checkpoint_windows(plans, checkpoints, start, margin=900)
+    assert len(rows) == 4
+    for row in rows:
+        fast, slow = sorted(row.arrivals)
+        assert row.opens == fast - timedelta(seconds=900)
+        assert row.closes == slow + timedelta(seconds=900)
+    assert [r.checkpoint.distance for r in rows] == sorted(r.checkpoint.distance for r in rows)
+    assert finish.closes == start + timedelta(seconds=max(p.totals.time for p in plans) + 900)
+
+
+def test_cue_arrival_times_increase(hill_loop):
+    track, terrain = hill_loop
+    plan = make_plan(track, terrain, Rider.for_vehicle(builtin_vehicles()["tandem"]))
+    times = [c.elapsed for c in plan.cues]
+    assert times == sorted(times) and times[-1] <= plan.totals.time
+
+
+def test_food_energy_uses_gross_efficiency(hill_loop):
+    # Moseley & Jeukendrup (2001) gross efficiency ≈ 20 %: food = work / 0.20
+    track, terrain = hill_loop
+    plan = make_plan(track, terrain, Rider.for_vehicle(builtin_vehicles()["road-hoods"]))
+    assert plan.totals.food_energy == pytest.approx(plan.totals.energy / 0.20)
