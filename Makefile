@@ -2,7 +2,7 @@
 PYTHON ?= python3
 VENV   := .venv
 BIN    := $(VENV)/bin
-SOURCES := pyproject.toml $(shell find cardgen -type f -not -name '*.pyc' 2>/dev/null)
+SOURCES := pyproject.toml $(shell find cardgen templates sample_routes -type f -not -name '*.pyc' 2>/dev/null)
 
 .PHONY: demo test system lint bench clean
 
@@ -17,13 +17,10 @@ $(VENV)/installed: $(SOURCES)
 	touch $@
 
 demo: system $(VENV)/installed
-	$(BIN)/cardgen vehicles
-	$(BIN)/cardgen solve --vehicle road-hoods --power 150 --grade 6
-	$(BIN)/cardgen route sample_routes/hill-loop.gpx --vehicle road-hoods --power 150
-	$(BIN)/cardgen route sample_routes/accessible-path.gpx --vehicle handcycle --wind 15 --wind-from 200
+	$(BIN)/cardgen build
 
 lint: $(VENV)/installed
-	$(BIN)/ruff check cardgen tests bench scripts sample_routes
+	$(BIN)/ruff check cardgen tests bench scripts sample_routes templates
 
 test: system $(VENV)/installed lint
 	$(BIN)/pytest -q

@@ -206,6 +206,119 @@ def cmd_route(args) -> int:
     return 0
 
 
+def _site_config(target: str | None):
+    """The configuration for ``build``/``check``: the bundled demo, a site.toml, or a
+    folder (with or without site.toml)."""
+    from pathlib import Path
+
+    from cardgen.config import folder_config, load_config
+
+    if target is None:
+        from importlib import resources
+
+        return load_config(Path(str(resources.files("cardgen.sample_routes"))) / "site.toml"), True
+    path = Path(target)
+    if path.is_dir():
+        return (load_config(path / "site.toml") if (path / "site.toml").is_file() else folder_config(path)), False
+    if not path.exists():
+        raise CardgenError(f"{path}: no such file or folder; give a site.toml or a folder of .gpx files")
+    return load_config(path), False
+
+
+def _progress_printer():
+    """A rich progress bar on a terminal, plain lines otherwise. Returns (callback, close)."""
+    if sys.stderr.isatty():
+        from rich.progress import BarColumn, MofNCompleteColumn, Progress, TextColumn
+
+        bar = Progress(TextColumn("cards"), BarColumn(), MofNCompleteColumn(), TextColumn("{task.description}"),
+                       transient=True)
+        task = None
+
+        def update(done, total, label):
+            nonlocal task
+            if task is None:
+                bar.start()
+                task = bar.add_task(label, total=total)
+            bar.update(task, completed=done, description=label)
+
+        return update, bar.stop
+
+    def plain(done, total, label):
+        print(f"card {done}/{total}: {label}", file=sys.stderr)
+
+    return plain, lambda: None
+
+
+def cmd_build(args) -> int:
+    import os
+    from pathlib import Path
+
+    from cardgen.build import build_site
+
+    config, demo = _site_config(args.site)
+    for warning in config.warnings:
+        print(f"cardgen: warning: {warning}", file=sys.stderr)
+    out = Path(args.output) if args.output else (Path.cwd() / "site" if demo else config.output)
+    jobs = args.jobs or os.cpu_count() or 1
+    _ensure(1 <= jobs <= 64, f"--jobs {jobs} is outside 1…64")
+    progress, close = _progress_printer()
+    try:
+        report = build_site(config, out, jobs=jobs, pdf=not args.no_pdf, keep_going=args.keep_going,
+                            say=lambda text: print(text, file=sys.stderr), progress=progress)
+    finally:
+        close()
+    if not report.up_to_date:
+        print(f"built {out}: {report.routes} routes ({report.routes_reused} unchanged), "
+              f"{report.cards_rendered} cards rendered, {report.cards_reused} reused")
+    print(f"open {out / 'index.html'}")
+    return 1 if report.failed else 0
+
+
+def cmd_check(args) -> int:
+    from cardgen.route.gpx import read_gpx
+    from cardgen.route.terrain import build_terrain
+
+    config, _ = _site_config(args.site)
+    for warning in config.warnings:
+        print(f"cardgen: warning: {warning}", file=sys.stderr)
+    problems = []
+    for route in config.routes:
+        try:
+            track = read_gpx(route.gpx)
+            terrain = build_terrain(track)
+            print(f"ok  {route.gpx.name}: {terrain.length / 1000:.1f} km, {track.points} points")
+        except CardgenError as exc:
+            problems.append(str(exc))
+    print(f"{len(config.riders)} riders: " + ", ".join(r.rider.name for r in config.riders))
+    if problems:
+        raise CardgenError("\n  ".join(["route problems:"] + problems))
+    print("configuration and routes are fine; nothing was written")
+    return 0
+
+
+def cmd_serve(args) -> int:
+    import functools
+    from http.server import SimpleHTTPRequestHandler, ThreadingHTTPServer
+    from pathlib import Path
+
+    folder = Path(args.folder).resolve()
+    _ensure(folder.is_dir(), f"{folder}: no such folder; build the site first (cardgen build)")
+    _ensure(0 <= args.port <= 65535, f"--port {args.port} is outside 0…65535 (0: any free port)")
+    handler = functools.partial(SimpleHTTPRequestHandler, directory=str(folder))
+    try:
+        server = ThreadingHTTPServer(("127.0.0.1", args.port), handler)
+    except OSError as exc:
+        raise CardgenError(f"cannot listen on 127.0.0.1:{args.port} ({exc.strerror}); try --port") from None
+    print(f"serving {folder} at http://127.0.0.1:{server.server_address[1]}/ (Ctrl-C stops)", flush=True)
+    try:
+        server.serve_forever()
+    except KeyboardInterrupt:
+        pass
+    finally:
+        server.server_close()
+    return 0
+
+
 def cmd_vehicles(args) -> int:
     from cardgen.units import ms_to_kmh
     from cardgen.vehicles import builtin_vehicles
@@ -240,6 +353,20 @@ def build_parser() -> argparse.ArgumentParser:
     )
     parser.add_argument("--version", action="version", version=f"cardgen {__version__}")
     sub = parser.add_subparsers(dest="command", metavar="COMMAND", required=True)
+
+    build = sub.add_parser("build", help="build the site and PDF cards (no argument: the demo event)",
+                           description="Build the site and PDF cards. No argument: the bundled demo event into ./site.")
+    build.add_argument("site", nargs="?", metavar="SITE.toml|FOLDER")
+    build.add_argument("-o", "--output", metavar="OUT", help="output folder")
+    build.add_argument("--jobs", type=int, metavar="N", help="card-rendering processes (default: the number of cores)")
+    build.add_argument("--no-pdf", action="store_true", help="pages only, no PDF cards")
+    build.add_argument("--keep-going", action="store_true", help="publish the good routes when some fail (exit 1)")
+    build.set_defaults(run=cmd_build)
+
+    check = sub.add_parser("check", help="check a site's configuration and routes; writes nothing",
+                           description="Check a site's configuration and routes; writes nothing.")
+    check.add_argument("site", metavar="SITE.toml|FOLDER")
+    check.set_defaults(run=cmd_check)
 
     solve = sub.add_parser("solve", help="steady power for a speed, or speed for a power",
                            description="Steady power for a speed, or speed for a power.")
@@ -278,6 +405,12 @@ def build_parser() -> argparse.ArgumentParser:
                        help="air temperature (default: standard atmosphere at each altitude)")
     route.add_argument("--json", action="store_true", help="print one JSON object")
     route.set_defaults(run=cmd_route)
+
+    serve = sub.add_parser("serve", help="preview a built site on http://127.0.0.1",
+                           description="Serve a built site on 127.0.0.1 for preview.")
+    serve.add_argument("folder", nargs="?", default="site", metavar="OUT")
+    serve.add_argument("--port", type=int, default=8000, metavar="N")
+    serve.set_defaults(run=cmd_serve)
 
     vehicles = sub.add_parser("vehicles", help="list the built-in vehicles",
                               description="List the built-in vehicles.")

@@ -34,3 +34,18 @@ def run_cli():
         return proc.returncode, out, proc.stderr
 
     return run
+
+
+@pytest.fixture(scope="session")
+def demo_site(tmp_path_factory):
+    """The bundled demo event, built once in-process (warnings are errors here)."""
+    from importlib import resources
+    from pathlib import Path
+
+    from cardgen.build import build_site
+    from cardgen.config import load_config
+
+    config = load_config(Path(str(resources.files("cardgen.sample_routes"))) / "site.toml")
+    out = tmp_path_factory.mktemp("demo") / "site"
+    report = build_site(config, out, jobs=2)
+    return config, out, report

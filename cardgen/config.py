@@ -1,0 +1,347 @@
+"""Site configuration: a TOML file checked against a declared schema in one pass.
+
+Every problem is collected with its file, key and (where it can be found) line, and
+reported together; unknown keys are warnings. Paths resolve against the config
+file's folder.
+"""
+
+from __future__ import annotations
+
+import math
+import re
+import tomllib
+from dataclasses import dataclass, field
+from datetime import date, datetime, time, timedelta
+from pathlib import Path
+from typing import Any
+
+from cardgen.errors import CardgenError, ConfigError
+from cardgen.plan import Conditions
+from cardgen.vehicles import Rider, Vehicle, builtin_vehicles, find_vehicle
+
+CARD_SIZES = ("A5", "A4", "pocket")
+UNITS = ("metric", "imperial")
+#: Riders of a zero-config build (a folder of GPX files without site.toml).
+DEFAULT_RIDERS = (("Upright bike", "city-upright"), ("Road bike", "road-hoods"),
+                  ("E-assist bike", "e-assist-city"), ("Handcycle", "handcycle"))
+
+
+@dataclass(frozen=True)
+class Spec:
+    """One key of the schema: its kind, whether it must be given, its default, and for
+    numbers the allowed range."""
+
+    kind: str  # "str", "bool", "number", "int", "choice", "list", "date", "time", "path", "vehicle"
+    required: bool = False
+    default: Any = None
+    low: float | None = None
+    high: float | None = None
+    choices: tuple = ()
+    help: str = ""
+
+
+SCHEMA = {
+    "site": {
+        "title": Spec("str", default="Route cards", help="the site's title"),
+        "units": Spec("choice", default="metric", choices=UNITS),
+        "card_size": Spec("choice", default="A5", choices=CARD_SIZES),
+        "large_print": Spec("bool", default=False),
+        "output": Spec("str", default="site", help="output folder, relative to this file"),
+        "base_url": Spec("str", default="", help="the site's address, for QR codes on cards"),
+        "templates": Spec("str", default="", help="a folder of templates that override cardgen's"),
+    },
+    "event": {
+        "date": Spec("date", help='like "2027-04-18"'),
+        "start": Spec("time", help='like "08:30"'),
+        "start_interval_min": Spec("number", default=0.0, low=0, high=120),
+        "checkpoint_margin_min": Spec("number", default=15.0, low=0, high=240),
+    },
+    "conditions": {
+        "wind_kmh": Spec("number", default=0.0, low=0, high=150),
+        "wind_from_deg": Spec("number", default=0.0, low=0, high=360),
+        "temperature_c": Spec("number", low=-30, high=50),
+    },
+    "routes": {
+        "gpx": Spec("path", required=True, help="a GPX file, relative to this file"),
+        "name": Spec("str"),
+        "notes": Spec("str", default=""),
+        "checkpoints": Spec("list", help="waypoint names or distances in km"),
+    },
+    "riders": {
+        "name": Spec("str", required=True),
+        "vehicle": Spec("vehicle", required=True, help="a built-in vehicle or a .toml profile"),
+        "cp_w": Spec("number", low=10, high=700, help="critical power"),
+        "w_prime_kj": Spec("number", low=0.5, high=60, help="work capacity above CP"),
+        "flat_w": Spec("number", low=1, high=2000, help="power on flats"),
+        "climb_w": Spec("number", low=1, high=2000, help="power on climbs"),
+        "climb_share": Spec("number", low=0, high=0.5, help="largest share above CP on climbs"),
+        "target_kmh": Spec("number", low=1, high=60, help="climbing speed for the watts column"),
+        "cruise_level": Spec("int", low=0, high=10, help="assist level away from climbs"),
+        "routes": Spec("list", help="only these routes (GPX file names or route names)"),
+    },
+}
+TABLE_ARRAYS = {"routes", "riders"}
+
+
+@dataclass(frozen=True)
+class RouteConfig:
+    gpx: Path
+    name: str | None = None
+    notes: str = ""
+    checkpoints: tuple = ()  # names (str) or distances [m] (float); empty: waypoints typed "checkpoint"
+
+
+@dataclass(frozen=True)
+class RiderConfig:
+    rider: Rider
+    routes: tuple[str, ...] = ()  # empty: every route
+
+    def rides(self, route: RouteConfig, name: str) -> bool:
+        return not self.routes or route.gpx.name in self.routes or route.gpx.stem in self.routes \
+            or name in self.routes
+
+
+@dataclass(frozen=True)
+class SiteConfig:
+    source: Path | None  # the TOML file, None for a zero-config folder
+    folder: Path  # where relative paths start
+    title: str
+    units: str
+    card_size: str
+    large_print: bool
+    output: Path
+    base_url: str
+    templates: Path | None
+    start: datetime | None
+    start_interval: float  # [s] between riders' starts
+    checkpoint_margin: float  # [s]
+    conditions: Conditions
+    routes: tuple[RouteConfig, ...]
+    riders: tuple[RiderConfig, ...]
+    warnings: tuple[str, ...] = field(default=())
+
+
+def _line_of(text: str, key: str, section: str, index: int | None) -> int | None:
+    """Best-effort line number of ``key`` inside ``[section]`` (or the index-th
+    ``[[section]]``) of the TOML text."""
+    lines = text.splitlines()
+    header = re.compile(r"^\s*\[\[\s*" + re.escape(section) + r"\s*\]\]" if index is not None
+                        else r"^\s*\[\s*" + re.escape(section) + r"\s*\]")
+    seen = -1
+    inside = False
+    for number, line in enumerate(lines, 1):
+        if re.match(r"^\s*\[", line):
+            inside = bool(header.match(line))
+            if inside and index is not None:
+                seen += 1
+                inside = seen == index
+            if inside and not key:
+                return number
+            continue
+        if inside and re.match(r"^\s*" + re.escape(key) + r"\s*=", line):
+            return number
+    return None
+
+
+class _Checker:
+    def __init__(self, path: Path | None, text: str):
+        self.path = path
+        self.text = text
+        self.problems: list[str] = []
+        self.warnings: list[str] = []
+
+    def where(self, section: str, index: int | None, key: str) -> str:
+        name = f"{section}[{index}].{key}" if index is not None else f"{section}.{key}"
+        line = _line_of(self.text, key, section, index) if self.text else None
+        place = f"{self.path}" + (f", line {line}" if line else "") if self.path else "settings"
+        return f"{place}: {name}"
+
+    def value(self, section: str, table: dict, index: int | None, key: str, spec: Spec, folder: Path):
+        if key not in table:
+            if spec.required:
+                self.problems.append(f"{self.where(section, index, key)} is missing ({spec.help or spec.kind})")
+            return spec.default
+        raw = table[key]
+        where = self.where(section, index, key)
+        kind = spec.kind
+        if kind in ("number", "int"):
+            if isinstance(raw, bool) or not isinstance(raw, int | float) or not math.isfinite(raw) \
+                    or (kind == "int" and not isinstance(raw, int)):
+                self.problems.append(f"{where} must be {'a whole number' if kind == 'int' else 'a number'}, "
+                                     f"not {raw!r}")
+                return spec.default
+            if not spec.low <= raw <= spec.high:
+                self.problems.append(f"{where} = {raw} is outside {spec.low:g}…{spec.high:g}"
+                                     + (f" ({spec.help})" if spec.help else ""))
+                return spec.default
+            return raw
+        if kind == "bool":
+            if not isinstance(raw, bool):
+                self.problems.append(f"{where} must be true or false, not {raw!r}")
+                return spec.default
+            return raw
+        if kind in ("str", "path", "vehicle", "choice"):
+            if not isinstance(raw, str):
+                self.problems.append(f"{where} must be text in quotes, not {raw!r}")
+                return spec.default
+            if kind == "choice" and raw not in spec.choices:
+                self.problems.append(f"{where} = {raw!r}; use one of {', '.join(spec.choices)}")
+                return spec.default
+            if kind == "path":
+                resolved = (folder / raw).resolve()
+                if not resolved.is_file():
+                    self.problems.append(f"{where}: no file {resolved}; check the path (relative to {folder})")
+                    return None
+                return resolved
+            if kind == "vehicle":
+                candidate = folder / raw
+                name = str(candidate) if raw.lower().endswith(".toml") else raw
+                try:
+                    return find_vehicle(name)
+                except CardgenError as exc:
+                    self.problems.append(f"{where}: {exc}")
+                    return None
+            return raw
+        if kind == "list":
+            if not isinstance(raw, list) or not all(isinstance(x, str | int | float) and not isinstance(x, bool)
+                                                    for x in raw):
+                self.problems.append(f"{where} must be a list like [\"name\", 12.5]")
+                return None
+            return tuple(raw)
+        if kind == "date":
+            if isinstance(raw, date) and not isinstance(raw, datetime):
+                return raw
+            try:
+                return date.fromisoformat(str(raw))
+            except ValueError:
+                self.problems.append(f"{where} = {raw!r} is not a date like \"2027-04-18\"")
+                return None
+        if kind == "time":
+            if isinstance(raw, time):
+                return raw
+            try:
+                return time.fromisoformat(str(raw))
+            except ValueError:
+                self.problems.append(f"{where} = {raw!r} is not a time like \"08:30\"")
+                return None
+        raise AssertionError(kind)
+
+    def table(self, section: str, table: Any, index: int | None, folder: Path) -> dict:
+        if not isinstance(table, dict):
+            self.problems.append(f"{self.path}: [{section}] must be a table")
+            return {}
+        schema = SCHEMA[section]
+        for key in table:
+            if key not in schema:
+                self.warnings.append(f"{self.where(section, index, key)}: unknown key, ignored "
+                                     f"(known: {', '.join(schema)})")
+        return {key: self.value(section, table, index, key, spec, folder) for key, spec in schema.items()}
+
+
+def load_config(path: Path) -> SiteConfig:
+    """Read and check a site.toml; raises ConfigError listing every problem."""
+    path = Path(path)
+    try:
+        text = path.read_text(encoding="utf-8")
+    except FileNotFoundError:
+        raise ConfigError(f"{path}: no such file; check the path") from None
+    except (OSError, UnicodeDecodeError) as exc:
+        raise ConfigError(f"{path}: cannot read the file ({exc})") from None
+    try:
+        data = tomllib.loads(text)
+    except tomllib.TOMLDecodeError as exc:
+        raise ConfigError(f"{path}: not valid TOML: {exc}; fix the syntax there") from None
+    return _from_data(data, path, text, path.resolve().parent)
+
+
+def _from_data(data: dict, path: Path | None, text: str, folder: Path) -> SiteConfig:
+    check = _Checker(path, text)
+    for key in data:
+        if key not in SCHEMA:
+            check.warnings.append(f"{path}: [{key}]: unknown section, ignored (known: {', '.join(SCHEMA)})")
+    tables = {}
+    for section in ("site", "event", "conditions"):
+        tables[section] = check.table(section, data.get(section, {}), None, folder)
+    routes_raw = data.get("routes", [])
+    riders_raw = data.get("riders", [])
+    for section, raw in (("routes", routes_raw), ("riders", riders_raw)):
+        if not isinstance(raw, list) or not raw:
+            check.problems.append(f"{path}: no [[{section}]] entries; add at least one")
+    routes = [check.table("routes", t, i, folder) for i, t in enumerate(routes_raw if isinstance(routes_raw, list) else [])]
+    riders = [check.table("riders", t, i, folder) for i, t in enumerate(riders_raw if isinstance(riders_raw, list) else [])]
+
+    rider_objects = []
+    for i, r in enumerate(riders):
+        vehicle: Vehicle | None = r["vehicle"]
+        if vehicle is None or r["name"] is None:
+            continue
+        given = {}
+        for key, attr, factor in (("cp_w", "cp", 1.0), ("w_prime_kj", "w_prime", 1000.0),
+                                  ("flat_w", "flat_power", 1.0), ("climb_w", "climb_power", 1.0),
+                                  ("climb_share", "climb_share", 1.0), ("target_kmh", "target_speed", 1 / 3.6),
+                                  ("cruise_level", "cruise_level", 1)):
+            if r[key] is not None:
+                given[attr] = r[key] * factor if factor != 1 else r[key]
+        if "cp" in given and "w_prime" not in given:
+            given["w_prime"] = given["cp"] * 70.0
+        if "climb_power" not in given and "cp" in given:
+            given["climb_power"] = given["cp"]
+        try:
+            rider_objects.append(RiderConfig(Rider.for_vehicle(vehicle, name=r["name"], **given),
+                                             tuple(str(x) for x in (r["routes"] or ()))))
+        except CardgenError as exc:
+            check.problems.append(f"{check.where('riders', i, 'name')}: {exc}")
+    names = [rc.rider.name for rc in rider_objects]
+    for name in {n for n in names if names.count(n) > 1}:
+        check.problems.append(f"{path}: two riders are named {name!r}; give each a different name")
+
+    site, event, cond = tables["site"], tables["event"], tables["conditions"]
+    start = None
+    if event["start"] is not None:
+        start = datetime.combine(event["date"] or date(2000, 1, 1), event["start"])
+    templates = None
+    if site["templates"]:
+        templates = (folder / site["templates"]).resolve()
+        if not templates.is_dir():
+            check.problems.append(f"{check.where('site', None, 'templates')}: no folder {templates}")
+    if check.problems:
+        raise ConfigError(f"{len(check.problems)} problem(s) in the configuration:\n  "
+                          + "\n  ".join(check.problems))
+    conditions = Conditions(cond["wind_kmh"] / 3.6, math.radians(cond["wind_from_deg"]),
+                            None if cond["temperature_c"] is None else cond["temperature_c"] + 273.15)
+    route_objects = tuple(
+        RouteConfig(r["gpx"], r["name"], r["notes"] or "",
+                    tuple(x * 1000.0 if isinstance(x, int | float) else x for x in (r["checkpoints"] or ())))
+        for r in routes)
+    return SiteConfig(
+        source=path, folder=folder, title=site["title"], units=site["units"], card_size=site["card_size"],
+        large_print=site["large_print"], output=(folder / site["output"]).resolve(), base_url=site["base_url"],
+        templates=templates, start=start, start_interval=event["start_interval_min"] * 60.0,
+        checkpoint_margin=event["checkpoint_margin_min"] * 60.0, conditions=conditions, routes=route_objects,
+        riders=tuple(rider_objects), warnings=tuple(check.warnings),
+    )
+
+
+def folder_config(folder: Path) -> SiteConfig:
+    """A site for a folder of GPX files without site.toml: every route, default riders."""
+    folder = Path(folder).resolve()
+    gpx = sorted(p for p in folder.iterdir() if p.suffix.lower() == ".gpx" and p.is_file())
+    if not gpx:
+        raise ConfigError(f"{folder}: no site.toml and no .gpx files; add routes or a site.toml")
+    lib = builtin_vehicles()
+    riders = tuple(RiderConfig(Rider.for_vehicle(lib[v], name=n)) for n, v in DEFAULT_RIDERS)
+    return SiteConfig(
+        source=None, folder=folder, title=f"Routes in {folder.name}", units="metric", card_size="A5",
+        large_print=False, output=(folder / "site").resolve(), base_url="", templates=None, start=None,
+        start_interval=0.0, checkpoint_margin=15 * 60.0, conditions=Conditions(),
+        routes=tuple(RouteConfig(p) for p in gpx), riders=riders,
+        warnings=(f"{folder}: no site.toml; building {len(gpx)} route(s) with the default riders: "
+                  + ", ".join(f"{n} ({v})" for n, v in DEFAULT_RIDERS),),
+    )
+
+
+def rider_start(config: SiteConfig, index: int) -> datetime | None:
+    """Start time of the index-th rider (starts spaced by the event's interval)."""
+    if config.start is None:
+        return None
+    return config.start + timedelta(seconds=index * config.start_interval)

@@ -1,0 +1,103 @@
+"""Plans as data files: JSON (everything), CSV (one row per climb and rider, one per
+cue and rider), and the route as GPX 1.1 with a waypoint at the foot of every climb
+and at each checkpoint (written with gpxpy)."""
+
+from __future__ import annotations
+
+import csv
+import io
+import json
+import math
+
+
+def _num(x, digits=3):
+    if x is None:
+        return None
+    x = float(x)
+    return round(x, digits) if math.isfinite(x) else None
+
+
+def plan_dict(plan) -> dict:
+    """One rider's plan, JSON-ready, SI units named in the keys."""
+    rider = plan.rider
+    return {
+        "rider": {"name": rider.name, "vehicle": rider.vehicle.name, "cp_w": rider.cp,
+                  "w_prime_j": rider.w_prime, "flat_power_w": rider.flat_power,
+                  "climb_power_w": rider.climb_power_used, "target_speed_m_s": rider.target_speed},
+        "totals": {"time_s": _num(plan.totals.time, 1), "energy_j": _num(plan.totals.energy, 0),
+                   "food_energy_j": _num(plan.totals.food_energy, 0), "battery_j": _num(plan.totals.battery, 0),
+                   "battery_fits": plan.totals.battery_fits, "walk_m": _num(plan.totals.walk_length, 0)},
+        "climbs": [{
+            "number": c.number, "start_m": _num(c.hill.start_distance, 1), "end_m": _num(c.hill.end_distance, 1),
+            "gain_m": _num(c.hill.height, 1), "avg_grade": _num(c.hill.avg_grade, 4),
+            "steepest_grade": _num(c.hill.steepest_grade, 4), "fiets": _num(c.hill.score, 2),
+            "power_for_target_w": _num(c.power_for_target, 1), "speed_m_s": _num(c.speed_at_effort, 3),
+            "time_s": _num(c.time, 1), "assist": c.assist_name,
+            "warnings": [{"code": w.code, "severity": w.severity, "text": w.text} for w in c.warnings],
+        } for c in plan.climbs],
+        "descents": [{
+            "number": d.number, "start_m": _num(d.hill.start_distance, 1), "end_m": _num(d.hill.end_distance, 1),
+            "drop_m": _num(d.hill.height, 1), "avg_grade": _num(d.hill.avg_grade, 4),
+            "coast_speed_m_s": _num(d.coast_speed, 3), "max_speed_m_s": _num(d.max_speed, 3),
+            "gravity_power_w": _num(d.gravity_power, 0),
+            "warnings": [{"code": w.code, "severity": w.severity, "text": w.text} for w in d.warnings],
+        } for d in plan.descents],
+        "cues": [{"distance_m": _num(t.cue.distance, 1), "kind": t.cue.kind, "text": t.cue.text,
+                  "elapsed_s": _num(t.elapsed, 0)} for t in plan.cues],
+        "warnings": [{"code": w.code, "severity": w.severity, "text": w.text} for w in plan.warnings],
+    }
+
+
+def route_json_text(route_name: str, plans) -> str:
+    """All riders' plans of one route as JSON text (stable key order)."""
+    return json.dumps({"route": route_name, "plans": [plan_dict(p) for p in plans]}, indent=1,
+                      ensure_ascii=False, sort_keys=True) + "\n"
+
+
+def climbs_csv_text(plans) -> str:
+    """One row per rider and climb."""
+    out = io.StringIO()
+    writer = csv.writer(out, lineterminator="\n")
+    writer.writerow(["rider", "vehicle", "climb", "start_km", "end_km", "gain_m", "avg_grade_pct",
+                     "steepest_grade_pct", "fiets", "power_for_target_w", "speed_kmh", "time_min", "assist",
+                     "warnings"])
+    for p in plans:
+        for c in p.climbs:
+            writer.writerow([
+                p.rider.name, p.rider.vehicle.name, c.number, f"{c.hill.start_distance / 1000:.2f}",
+                f"{c.hill.end_distance / 1000:.2f}", f"{c.hill.height:.0f}", f"{c.hill.avg_grade * 100:.1f}",
+                f"{c.hill.steepest_grade * 100:.1f}", f"{c.hill.score:.2f}", f"{c.power_for_target:.0f}",
+                f"{c.speed_at_effort * 3.6:.1f}", f"{c.time / 60:.1f}", c.assist_name or "",
+                " | ".join(w.text for w in c.warnings),
+            ])
+    return out.getvalue()
+
+
+def route_gpx_text(track, terrain, climbs, checkpoints) -> str:
+    """GPX 1.1 of the route's (resampled) line, with waypoints at the foot of each
+    climb and at each checkpoint. Names come from the source file: gpxpy escapes them."""
+    import gpxpy.gpx
+
+    gpx = gpxpy.gpx.GPX()
+    gpx.name = track.name
+    gpx.creator = "cardgen"
+    segment = gpxpy.gpx.GPXTrackSegment()
+    for la, lo, el in zip(terrain.lat, terrain.lon, terrain.elevation, strict=True):
+        segment.points.append(gpxpy.gpx.GPXTrackPoint(round(float(la), 7), round(float(lo), 7),
+                                                      elevation=round(float(el), 1)))
+    trk = gpxpy.gpx.GPXTrack(name=track.name)
+    trk.segments.append(segment)
+    gpx.tracks.append(trk)
+    for number, hill in enumerate(climbs, 1):
+        i = hill.start
+        gpx.waypoints.append(gpxpy.gpx.GPXWaypoint(
+            round(float(terrain.lat[i]), 7), round(float(terrain.lon[i]), 7),
+            elevation=round(float(terrain.elevation[i]), 1), name=f"Climb {number}",
+            description=f"{hill.length:.0f} m at {hill.avg_grade * 100:.1f} %, +{hill.height:.0f} m",
+            type="climb"))
+    for cp in checkpoints:
+        i = int(round(cp.distance / terrain.step))
+        gpx.waypoints.append(gpxpy.gpx.GPXWaypoint(
+            round(float(terrain.lat[i]), 7), round(float(terrain.lon[i]), 7),
+            elevation=round(float(terrain.elevation[i]), 1), name=cp.name, type="checkpoint"))
+    return gpx.to_xml(version="1.1")

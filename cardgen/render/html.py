@@ -1,0 +1,87 @@
+"""The Jinja2 environment (autoescape on, undefined values are errors) and the page
+contexts: plain dictionaries of plans and rows, formatted by filters in templates."""
+
+from __future__ import annotations
+
+import re
+import unicodedata
+from dataclasses import dataclass
+from datetime import datetime
+from importlib import resources
+from pathlib import Path
+
+import jinja2
+
+from cardgen.render import format as fmt
+
+#: Cautions printed on every card and page, plain and short.
+CAUTIONS = (
+    "Every figure is a model estimate from average values, not a guarantee: wind, road surface, "
+    "tyres and the rider's day change them.",
+    "Descents and curves: check brakes before the start, ride to the conditions, and slow down "
+    "below the speeds shown wherever you cannot see far ahead.",
+    "Exertion: anyone with a medical condition needs clearance from a qualified professional "
+    "before hard efforts; adaptive athletes follow their clinician's advice.",
+    "Roads are open to traffic: local road rules apply.",
+    "E-assist: legal limits on motor power and assisted speed differ by place; the local rules apply.",
+)
+
+#: Short symbols for warnings on cards, with their meaning (our own letters).
+SYMBOLS = {
+    "walk": ("W", "below balance speed on two wheels: walking may be needed"),
+    "steep": ("S", "steepest 100 m at 10 % or more"),
+    "w-prime": ("R", "the rider's anaerobic reserve (W′) runs out at this effort"),
+    "fast": ("F", "coasting would pass the vehicle's speed limit: control the speed"),
+    "curve": ("C", "tight curve: slow down before it"),
+    "battery": ("B", "the battery may not last with a reserve"),
+}
+
+
+def slugify(text: str, taken: set[str] | None = None) -> str:
+    """A file and URL name of ASCII letters, digits and hyphens: never empty, never
+    '.' or '..', unique among ``taken`` (which it updates)."""
+    ascii_text = unicodedata.normalize("NFKD", text).encode("ascii", "ignore").decode("ascii")
+    slug = re.sub(r"[^a-z0-9]+", "-", ascii_text.lower()).strip("-")[:60].strip("-") or "route"
+    if taken is not None:
+        base, n = slug, 2
+        while slug in taken:
+            slug = f"{base}-{n}"
+            n += 1
+        taken.add(slug)
+    return slug
+
+
+def default_templates() -> Path:
+    """The templates shipped with cardgen."""
+    return Path(str(resources.files("cardgen.templates")))
+
+
+def environment(override: Path | None = None, units: str = "metric") -> jinja2.Environment:
+    """Jinja2 with autoescape, StrictUndefined, the unit filters, and the search path
+    ``override`` (a site's own templates) first, then cardgen's."""
+    paths = ([str(override)] if override else []) + [str(default_templates())]
+    env = jinja2.Environment(
+        loader=jinja2.FileSystemLoader(paths), autoescape=True, undefined=jinja2.StrictUndefined,
+        trim_blocks=True, lstrip_blocks=True, keep_trailing_newline=True,
+    )
+    for name, function in fmt.FILTERS.items():
+        env.filters[name] = function
+    env.globals.update(units=units, cautions=CAUTIONS, symbols=SYMBOLS, clock=fmt.clock)
+    return env
+
+
+@dataclass(frozen=True)
+class RiderView:
+    """One rider's plan as the pages show it."""
+
+    name: str
+    slug: str
+    plan: object  # cardgen.plan.Plan
+    card: str  # file name of the PDF card
+    start: datetime | None
+
+
+def symbols_for(warnings) -> list[str]:
+    """Distinct symbol letters for a row's warnings, in the order of :data:`SYMBOLS`."""
+    codes = {w.code for w in warnings}
+    return [SYMBOLS[c][0] for c in SYMBOLS if c in codes]

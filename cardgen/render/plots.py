@@ -1,0 +1,169 @@
+"""Plots as SVG text, with matplotlib's object API on the Agg-free SVG backend (no
+pyplot state). Each function returns (svg, alt text). The data are thinned to the
+print resolution first: a card is about 130 mm wide, so ~1,000 points is finer than
+the eye or the printer can tell, and keeps the SVG small for WeasyPrint.
+
+Colours: the colour-blind-safe "cividis" colormap (Nuñez, Anderton & Renslow 2018,
+PLoS ONE 13(7):e0199239) for grade.
+"""
+
+from __future__ import annotations
+
+import io
+
+import numpy as np
+
+from cardgen.render import format as fmt
+
+MAX_POINTS = 1000
+GRADE_RANGE = 12.0  # [%] the colour scale runs from −12 % to +12 %
+INK = "#1a1a1a"
+
+
+def _figure(width_in: float, height_in: float):
+    from matplotlib.backends.backend_svg import FigureCanvasSVG
+    from matplotlib.figure import Figure
+
+    fig = Figure(figsize=(width_in, height_in))
+    FigureCanvasSVG(fig)
+    return fig
+
+
+def _svg(fig) -> str:
+    import matplotlib
+
+    buffer = io.StringIO()
+    with matplotlib.rc_context({"svg.hashsalt": "cardgen", "svg.fonttype": "none",
+                                "font.family": "DejaVu Sans"}):
+        fig.savefig(buffer, format="svg", metadata={"Date": None, "Creator": "cardgen"},
+                    bbox_inches="tight", pad_inches=0.03)
+    text = buffer.getvalue()
+    # the XML prolog and DOCTYPE are not wanted when the SVG is inlined in HTML
+    return text[text.index("<svg"):]
+
+
+def thin(distance, elevation, max_points: int = MAX_POINTS):
+    """Every k-th point (always keeping the last) so that at most ``max_points`` remain."""
+    n = len(distance)
+    k = max(1, int(np.ceil(n / max_points)))
+    idx = np.unique(np.concatenate((np.arange(0, n, k), [n - 1])))
+    return np.asarray(distance)[idx], np.asarray(elevation)[idx]
+
+
+def elevation_profile(terrain, climbs, checkpoints=(), units: str = "metric", *, name: str = "",
+                      width_in: float = 6.6, height_in: float = 2.4):
+    """Elevation against distance, filled by grade, climbs numbered, checkpoints marked.
+
+    ``climbs`` are Hill objects (numbered in order), ``checkpoints`` (name, distance)
+    pairs. Returns (svg, alt text).
+    """
+    from matplotlib import colormaps
+    from matplotlib.cm import ScalarMappable
+    from matplotlib.collections import PolyCollection
+    from matplotlib.colors import BoundaryNorm
+
+    imperial = units == "imperial"
+    x_scale = 1 / fmt.M_PER_MI if imperial else 1 / 1000
+    y_scale = 1 / fmt.M_PER_FT if imperial else 1.0
+    d, e = thin(terrain.distance, terrain.elevation)
+    x, y = d * x_scale, e * y_scale
+    grade = np.diff(e) / np.maximum(np.diff(d), 1e-9) * 100
+    bounds = np.arange(-GRADE_RANGE, GRADE_RANGE + 0.1, 2.0)
+    cmap = colormaps["cividis"]
+    norm = BoundaryNorm(bounds, cmap.N, extend="both")
+    bins = np.digitize(grade, bounds)
+    base = min(y.min(), 0.0) if y.min() < 0 else y.min() - 0.08 * max(np.ptp(y), 10)
+    top = y.max() + 0.25 * max(np.ptp(y), 10)
+    polys, colours = [], []
+    start = 0
+    for i in range(1, len(bins) + 1):  # one polygon for each run of the same colour band
+        if i == len(bins) or bins[i] != bins[start]:
+            xs, ys = x[start:i + 1], y[start:i + 1]
+            polys.append(np.column_stack((np.concatenate((xs, xs[::-1])),
+                                          np.concatenate((ys, np.full(xs.size, base))))))
+            colours.append(cmap(norm(float(np.mean(grade[start:i])))))
+            start = i
+
+    fig = _figure(width_in, height_in)
+    ax = fig.add_subplot()
+    # edges in the face colour hide the hairline seams between neighbouring polygons
+    ax.add_collection(PolyCollection(polys, facecolors=colours, edgecolors=colours, linewidths=0.4))
+    ax.plot(x, y, color=INK, linewidth=0.8)
+    ax.set_xlim(x[0], x[-1])
+    ax.set_ylim(base, top)
+    ax.set_xlabel("distance (mi)" if imperial else "distance (km)", fontsize=8, color=INK)
+    ax.set_ylabel("elevation (ft)" if imperial else "elevation (m)", fontsize=8, color=INK)
+    ax.tick_params(labelsize=7, colors=INK)
+    for spine in ("top", "right"):
+        ax.spines[spine].set_visible(False)
+    for number, hill in enumerate(climbs, 1):
+        cx = 0.5 * (hill.start_distance + hill.end_distance) * x_scale
+        cy = hill.top * y_scale
+        ax.annotate(str(number), (cx, cy), xytext=(0, 7), textcoords="offset points", ha="center",
+                    va="bottom", fontsize=8, fontweight="bold", color="white",
+                    bbox={"boxstyle": "circle,pad=0.25", "facecolor": INK, "edgecolor": "none"})
+    for label, where in checkpoints:
+        ax.axvline(where * x_scale, color=INK, linewidth=0.7, linestyle=(0, (3, 2)))
+        ax.text(where * x_scale, top, label, rotation=90, fontsize=6, ha="right", va="top", color=INK)
+    bar = fig.colorbar(ScalarMappable(norm=norm, cmap=cmap), ax=ax, pad=0.01, fraction=0.04,
+                       ticks=bounds[::2])
+    bar.set_label("grade (%)", fontsize=7, color=INK)
+    bar.ax.tick_params(labelsize=6, colors=INK)
+    svg = _svg(fig)
+
+    parts = [f"Elevation profile{' of ' + name if name else ''}: {fmt.distance(terrain.length, units)}, "
+             f"from {fmt.height(float(terrain.elevation.min()), units)} to "
+             f"{fmt.height(float(terrain.elevation.max()), units)}."]
+    for number, hill in enumerate(climbs, 1):
+        parts.append(f"Climb {number}: {fmt.distance(hill.start_distance, units)} to "
+                     f"{fmt.distance(hill.end_distance, units)}, {fmt.height(hill.height, units)} at "
+                     f"{fmt.grade(hill.avg_grade)} average.")
+    if checkpoints:
+        parts.append("Checkpoints: " + ", ".join(f"{label} at {fmt.distance(where, units)}"
+                                                  for label, where in checkpoints) + ".")
+    parts.append("Colour shows the grade; the tables give the same numbers.")
+    return svg, " ".join(parts)
+
+
+def power_curves(climb_row_by_rider, units: str = "metric", *, width_in: float = 6.6, height_in: float = 2.6):
+    """Power needed against speed on one climb's average grade, one line per rider,
+    with each rider's climbing power marked. ``climb_row_by_rider`` is a list of
+    (label, rider, hill). Returns (svg, alt text)."""
+    from cardgen.physics.steady import power_for_speed
+
+    imperial = units == "imperial"
+    fig = _figure(width_in, height_in)
+    ax = fig.add_subplot()
+    from matplotlib import colormaps
+
+    markers = ["o", "s", "^", "D", "v", "P", "X", "*"]
+    styles = ["-", "--", "-.", ":", (0, (5, 1, 1, 1, 1, 1))]
+    shades = colormaps["cividis"](np.linspace(0.0, 0.75, max(2, len(climb_row_by_rider))))
+    speeds = np.linspace(2.0, 30.0, 57) / 3.6
+    alt = []
+    hill = climb_row_by_rider[0][2]
+    for i, (label, rider, _) in enumerate(climb_row_by_rider):
+        v = rider.vehicle
+        watts = power_for_speed(speeds, mass=v.mass, crr=v.crr, cda=v.cda, efficiency=v.efficiency,
+                                grade=hill.avg_grade, air_density=1.2)
+        shown = speeds * (fmt.MPH_PER_MS if imperial else 3.6)
+        ax.plot(shown, watts, color=shades[i], linestyle=styles[i % len(styles)], linewidth=1.3, label=label,
+                marker=markers[i % len(markers)], markevery=(i * 2, 12), markersize=3.5)
+        from cardgen.physics.steady import speed_for_power
+
+        at = float(speed_for_power(rider.climb_power_used, mass=v.mass, crr=v.crr, cda=v.cda,
+                                   efficiency=v.efficiency, grade=hill.avg_grade, air_density=1.2))
+        ax.plot([at * (fmt.MPH_PER_MS if imperial else 3.6)], [rider.climb_power_used], color=shades[i],
+                marker=markers[i % len(markers)], markersize=7, markeredgecolor=INK, linestyle="none")
+        alt.append(f"{label}: {fmt.power(rider.climb_power_used)} gives {fmt.speed(at, units)}")
+    ax.set_xlabel("speed (mph)" if imperial else "speed (km/h)", fontsize=8, color=INK)
+    ax.set_ylabel("power needed (W)", fontsize=8, color=INK)
+    ax.set_ylim(0, None)
+    ax.tick_params(labelsize=7, colors=INK)
+    ax.grid(color="#bbbbbb", linewidth=0.4)
+    for spine in ("top", "right"):
+        ax.spines[spine].set_visible(False)
+    ax.legend(fontsize=7, frameon=False)
+    text = (f"Power needed against speed on a steady {fmt.grade(hill.avg_grade)} grade (the hardest climb's "
+            f"average), for each rider; markers show each rider's climbing power: " + "; ".join(alt) + ".")
+    return _svg(fig), text

@@ -1,0 +1,1 @@
+"""The default templates, shipped inside the wheel as cardgen.templates."""

@@ -1,0 +1,251 @@
+"""The build: configuration errors, atomic publishing, incremental rebuilds, locks."""
+
+import hashlib
+import os
+import re
+import shutil
+import signal
+import subprocess
+import sys
+import time
+from pathlib import Path
+
+import pytest
+
+from cardgen import build as build_module
+from cardgen.build import BuildError, Lock, build_site
+from cardgen.config import folder_config, load_config
+from cardgen.errors import ConfigError
+
+SAMPLES = Path(__file__).resolve().parents[1] / "sample_routes"
+
+
+def _snapshot(folder: Path) -> dict:
+    return {p.relative_to(folder).as_posix(): hashlib.sha256(p.read_bytes()).hexdigest()
+            for p in sorted(folder.rglob("*")) if p.is_file()}
+
+
+def _small_site(tmp_path: Path, routes=("riverside-loop", "accessible-path")) -> Path:
+    src = tmp_path / "src"
+    src.mkdir()
+    for name in routes:
+        shutil.copy(SAMPLES / f"{name}.gpx", src)
+    body = "".join(f'[[routes]]\ngpx = "{name}.gpx"\n' for name in routes)
+    (src / "site.toml").write_text('[site]\ntitle = "Small"\n' + body
+                                   + '[[riders]]\nname = "A"\nvehicle = "road-hoods"\n'
+                                   + '[[riders]]\nname = "B"\nvehicle = "handcycle"\n', encoding="utf-8")
+    return src
+
+
+def _leftovers(out: Path):
+    return [p.name for p in out.parent.iterdir() if ".cardgen-tmp-" in p.name or ".cardgen-old-" in p.name]
+
+
+def test_demo_builds_end_to_end(demo_site):
+    config, out, report = demo_site
+    assert report.routes == 4 and report.cards_rendered == 22
+    assert (out / "index.html").is_file()
+    for route in ("riverside-loop", "hill-loop", "day-ride", "accessible-path"):
+        for name in ("index.html", "profile.svg", "route.gpx", "plan.json", "climbs.csv", "coach.pdf"):
+            assert (out / route / name).is_file(), (route, name)
+
+
+def test_no_change_rebuild_skips_every_card_and_keeps_the_bytes(tmp_path):
+    src = _small_site(tmp_path)
+    out = tmp_path / "out"
+    config = load_config(src / "site.toml")
+    first = build_site(config, out, jobs=1)
+    assert first.cards_rendered == 6  # 2 routes × (2 riders + coach sheet)
+    before = _snapshot(out)
+    again = build_site(load_config(src / "site.toml"), out, jobs=1)
+    assert again.up_to_date and again.cards_rendered == 0 and again.cards_reused == 6
+    assert _snapshot(out) == before
+
+
+def test_changing_one_route_rerenders_only_its_cards(tmp_path):
+    src = _small_site(tmp_path)
+    out = tmp_path / "out"
+    build_site(load_config(src / "site.toml"), out, jobs=1)
+    before = _snapshot(out)
+    text = (src / "accessible-path.gpx").read_text().replace("Reedbed Accessible Path", "Reedbed Path")
+    (src / "accessible-path.gpx").write_text(text)
+    report = build_site(load_config(src / "site.toml"), out, jobs=1)
+    assert report.cards_rendered == 3 and report.cards_reused == 3
+    after = _snapshot(out)
+    assert all(after[k] == v for k, v in before.items() if k.startswith("riverside-loop/"))
+
+
+def test_same_inputs_same_bytes_whatever_the_jobs(tmp_path):
+    src = _small_site(tmp_path, routes=("riverside-loop",))
+    a, b = tmp_path / "a", tmp_path / "b"
+    build_site(load_config(src / "site.toml"), a, jobs=1)
+    build_site(load_config(src / "site.toml"), b, jobs=2)
+    assert _snapshot(a) == _snapshot(b)
+
+
+def test_three_mistakes_are_reported_together(tmp_path):
+    (tmp_path / "site.toml").write_text(
+        '[site]\nunits = "furlongs"\n[[routes]]\ngpx = "missing.gpx"\n'
+        '[[riders]]\nname = "X"\nvehicle = "road-hoods"\ncp_w = 5000\n', encoding="utf-8")
+    with pytest.raises(ConfigError) as info:
+        load_config(tmp_path / "site.toml")
+    message = str(info.value)
+    assert "3 problem(s)" in message
+    assert "site.units" in message and "line 2" in message
+    assert "routes[0].gpx" in message and "missing.gpx" in message
+    assert "riders[0].cp_w" in message and "line 8" in message
+
+
+def test_unknown_keys_warn(tmp_path):
+    src = _small_site(tmp_path, routes=("riverside-loop",))
+    text = (src / "site.toml").read_text().replace('title = "Small"', 'title = "Small"\ncolour = "red"')
+    (src / "site.toml").write_text(text)
+    config = load_config(src / "site.toml")
+    assert any("site.colour" in w and "unknown" in w for w in config.warnings)
+
+
+@pytest.mark.parametrize("text, fragment", [
+    ("[site\n", "not valid TOML"),
+    ('[[routes]]\ngpx = "a.gpx"\n', "no [[riders]]"),
+    ('[[routes]]\ngpx = 3\n[[riders]]\nname = "a"\nvehicle = "rocket"\n', "unknown vehicle"),
+    ('[event]\nstart = "25:99"\n[[routes]]\ngpx = "x.gpx"\n[[riders]]\nname = "a"\nvehicle = "tandem"\n',
+     "not a time"),
+    ('[[routes]]\ngpx = "x.gpx"\n[[riders]]\nname = "a"\nvehicle = "tandem"\nflat_w = 900\ncp_w = 300\n',
+     "flat power"),
+])
+def test_broken_configs_are_clear(tmp_path, text, fragment):
+    (tmp_path / "site.toml").write_text(text, encoding="utf-8")
+    with pytest.raises(ConfigError, match=re.escape(fragment)):
+        load_config(tmp_path / "site.toml")
+
+
+def test_failing_route_leaves_the_previous_site_byte_identical(tmp_path):
+    src = _small_site(tmp_path)
+    out = tmp_path / "out"
+    build_site(load_config(src / "site.toml"), out, jobs=1)
+    before = _snapshot(out)
+    (src / "riverside-loop.gpx").write_text("<gpx><trk><trkseg><trkpt lat='1'", encoding="utf-8")
+    with pytest.raises(BuildError, match="riverside-loop.gpx"):
+        build_site(load_config(src / "site.toml"), out, jobs=1)
+    assert _snapshot(out) == before
+    assert _leftovers(out) == []
+
+
+def test_render_failing_midway_leaves_the_previous_site(tmp_path, monkeypatch):
+    src = _small_site(tmp_path)
+    out = tmp_path / "out"
+    build_site(load_config(src / "site.toml"), out, jobs=1)
+    before = _snapshot(out)
+    (src / "site.toml").write_text((src / "site.toml").read_text().replace("Small", "Smaller"))
+    calls = []
+
+    def flaky(job):
+        calls.append(job)
+        if len(calls) == 3:
+            raise OSError(28, "No space left on device")
+        return real(job)
+
+    real = build_module._render_pdf
+    monkeypatch.setattr(build_module, "_render_pdf", flaky)
+    with pytest.raises(OSError):
+        build_site(load_config(src / "site.toml"), out, jobs=1)
+    assert _snapshot(out) == before
+    assert _leftovers(out) == []
+
+
+def test_keep_going_publishes_the_good_routes(tmp_path):
+    src = _small_site(tmp_path)
+    (src / "accessible-path.gpx").write_text("not xml", encoding="utf-8")
+    out = tmp_path / "out"
+    report = build_site(load_config(src / "site.toml"), out, jobs=1, keep_going=True)
+    assert len(report.failed) == 1
+    assert (out / "riverside-loop" / "index.html").is_file()
+    assert not (out / "accessible-path").exists()
+
+
+def test_sigkill_midway_keeps_the_previous_site_and_the_next_build_works(tmp_path):
+    src = _small_site(tmp_path)
+    out = tmp_path / "out"
+    build_site(load_config(src / "site.toml"), out, jobs=1)
+    before = _snapshot(out)
+    (src / "site.toml").write_text((src / "site.toml").read_text().replace("Small", "Changed"))
+    exe = Path(sys.executable).with_name("cardgen")
+    proc = subprocess.Popen([str(exe), "build", str(src / "site.toml"), "-o", str(out), "--jobs", "1"],
+                            stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL, start_new_session=True)
+    deadline = time.time() + 60
+    while time.time() < deadline and not any(".cardgen-tmp-" in p.name for p in out.parent.iterdir()):
+        time.sleep(0.02)
+    time.sleep(0.3)
+    os.killpg(proc.pid, signal.SIGKILL)
+    proc.wait()
+    assert _snapshot(out) == before
+    report = build_site(load_config(src / "site.toml"), out, jobs=1)
+    assert report.cards_rendered == 6
+    assert "Changed" in (out / "index.html").read_text()
+    assert _leftovers(out) == []
+
+
+def test_two_builds_into_one_folder(tmp_path):
+    src = _small_site(tmp_path, routes=("riverside-loop",))
+    out = tmp_path / "out"
+    with Lock(out):
+        with pytest.raises(BuildError, match="another cardgen build"):
+            build_site(load_config(src / "site.toml"), out, jobs=1)
+
+
+@pytest.mark.parametrize("where", ["src", "parent", "root"])
+def test_output_may_not_hold_the_sources(tmp_path, where):
+    src = _small_site(tmp_path, routes=("riverside-loop",))
+    out = {"src": src, "parent": tmp_path, "root": Path("/")}[where]
+    with pytest.raises(BuildError, match="output folder"):
+        build_site(load_config(src / "site.toml"), out, jobs=1)
+
+
+def test_folder_without_site_toml_uses_default_riders(tmp_path, run_cli):
+    src = tmp_path / "gpx"
+    src.mkdir()
+    shutil.copy(SAMPLES / "riverside-loop.gpx", src)
+    config = folder_config(src)
+    assert [r.rider.vehicle.name for r in config.riders] == ["city-upright", "road-hoods", "e-assist-city",
+                                                            "handcycle"]
+    code, out, err = run_cli("build", str(src), "-o", str(tmp_path / "out"), "--no-pdf")
+    assert code == 0, err
+    assert "no site.toml" in err
+    assert (tmp_path / "out" / "riverside-loop" / "index.html").is_file()
+
+
+def test_check_writes_nothing(tmp_path, run_cli):
+    src = _small_site(tmp_path)
+    before = sorted(p.name for p in tmp_path.rglob("*"))
+    code, out, err = run_cli("check", str(src / "site.toml"))
+    assert code == 0, err
+    assert "nothing was written" in out
+    assert sorted(p.name for p in tmp_path.rglob("*")) == before
+
+
+def test_serve_stays_inside_the_site(tmp_path):
+    import urllib.error
+    import urllib.request
+
+    site = tmp_path / "site"
+    site.mkdir()
+    (site / "index.html").write_text("<!DOCTYPE html><title>x</title>")
+    (tmp_path / "secret.txt").write_text("secret")
+    exe = Path(sys.executable).with_name("cardgen")
+    proc = subprocess.Popen([str(exe), "serve", str(site), "--port", "0"], stdout=subprocess.PIPE, text=True)
+    try:
+        line = proc.stdout.readline()
+        assert "http://127.0.0.1:" in line
+        url = line.split("at ")[1].split(" ")[0]
+        with urllib.request.urlopen(url + "index.html", timeout=10) as response:
+            assert response.status == 200
+        for bad in ("../secret.txt", "%2e%2e/secret.txt", "..%2fsecret.txt"):
+            try:
+                with urllib.request.urlopen(url + bad, timeout=10) as response:
+                    assert b"secret" not in response.read()
+            except urllib.error.HTTPError as exc:
+                assert exc.code == 404
+    finally:
+        proc.terminate()
+        proc.wait(timeout=10)
+        proc.stdout.close()

@@ -1,0 +1,180 @@
+"""Cards and pages of the demo event: numbers, HTML5, a real browser, PDF pages,
+escaping, contrast."""
+
+import re
+import shutil
+import subprocess
+from datetime import timedelta
+from decimal import ROUND_HALF_UP, Decimal
+from pathlib import Path
+
+import html5lib
+import numpy as np
+import pytest
+
+from cardgen.config import rider_start
+from cardgen.plan import analyse, make_plan
+from cardgen.render.html import slugify
+from cardgen.route.gpx import read_gpx
+from cardgen.route.terrain import build_terrain
+
+
+def _half_up(x, step):
+    """Round half up to a multiple of step (spelled out here, not taken from cardgen)."""
+    q = (Decimal(repr(float(x))) / Decimal(str(step))).quantize(Decimal(1), rounding=ROUND_HALF_UP)
+    return q * Decimal(str(step))
+
+
+def _pdftotext(path: Path) -> str:
+    return subprocess.run(["pdftotext", "-layout", str(path), "-"], capture_output=True, text=True,
+                          check=True).stdout
+
+
+needs_poppler = pytest.mark.skipif(shutil.which("pdftotext") is None,
+                                   reason="poppler-utils (pdftotext, pdftoppm) is not installed")
+
+
+@needs_poppler
+def test_every_number_on_the_cards_is_the_plans(demo_site):
+    config, out, _ = demo_site
+    checked = 0
+    for route in config.routes:
+        track = read_gpx(route.gpx)
+        analysis = analyse(track, build_terrain(track))
+        slug = slugify(route.gpx.stem)
+        for index, rc in enumerate(config.riders):
+            if not rc.rides(route, route.gpx.stem):
+                continue
+            plan = make_plan(analysis, rider=rc.rider, conditions=config.conditions)
+            start = rider_start(config, index)
+            text = _pdftotext(out / slug / f"{slugify(rc.rider.name)}.pdf")
+            lines = text.splitlines()
+            for c in plan.climbs:
+                row = next(line for line in lines if re.match(rf"\s*{c.number}\s+\d", line))
+                minutes = int(_half_up(c.time / 60, 1))
+                expected = [
+                    f"{_half_up(c.hill.start_distance / 1000, 0.1):.1f} km",
+                    f"{_half_up(c.power_for_target, 5):.0f} W",
+                    f"{_half_up(c.speed_at_effort * 3.6, 0.5):.1f} km/h",
+                    f"{minutes // 60}:{minutes % 60:02d}",
+                    f"{_half_up(c.hill.avg_grade * 100, 0.5):.1f} %",
+                ]
+                for item in expected:
+                    assert item in row, (route.gpx.name, rc.rider.name, item, row)
+                checked += 1
+            for timed in plan.cues:
+                when = start + timedelta(minutes=int(_half_up(timed.elapsed / 60, 1)))
+                assert when.strftime("%H:%M") in text
+            total = int(_half_up(plan.totals.time / 60, 1))
+            assert f"moving time {total // 60}:{total % 60:02d}" in text
+    assert checked >= 10
+
+
+def _pages(out: Path):
+    return sorted(out.rglob("*.html"))
+
+
+def test_pages_are_valid_html5_and_images_have_alt_text(demo_site):
+    _, out, _ = demo_site
+    pages = _pages(out)
+    assert len(pages) == 5  # the index and four routes
+    for page in pages:
+        text = page.read_text(encoding="utf-8")
+        parser = html5lib.HTMLParser(strict=True)
+        parser.parse(text)  # raises on any parse error
+        for img in re.findall(r"<img\b[^>]*>", text):
+            alt = re.search(r'alt="([^"]*)"', img)
+            assert alt and len(alt.group(1)) > 20, img
+
+
+def test_cautions_on_every_page(demo_site):
+    from cardgen.render.html import CAUTIONS
+
+    _, out, _ = demo_site
+    for page in _pages(out):
+        text = page.read_text(encoding="utf-8")
+        assert "legal limits" in text and "medical condition" in text and len(CAUTIONS) == 5
+
+
+@needs_poppler
+def test_cautions_on_every_card_page(demo_site):
+    _, out, _ = demo_site
+    for pdf in sorted(out.rglob("*.pdf")):
+        for page in _pdftotext(pdf).split("\f"):
+            if page.strip():
+                assert "model estimate" in page and "local rules apply" in page, pdf
+
+
+@needs_poppler
+def test_card_rasterises_non_blank_on_its_page_size(demo_site, tmp_path):
+    from matplotlib.image import imread
+
+    _, out, _ = demo_site
+    card = out / "hill-loop" / "maren-handcycle.pdf"
+    info = subprocess.run(["pdfinfo", str(card)], capture_output=True, text=True, check=True).stdout
+    width, height = map(float, re.search(r"Page size:\s+([\d.]+) x ([\d.]+) pts", info).groups())
+    assert (width, height) == pytest.approx((419.53, 595.28), abs=0.5)  # ISO 216 A5: 148 × 210 mm
+    subprocess.run(["pdftoppm", "-png", "-r", "40", "-f", "1", "-l", "1", str(card), str(tmp_path / "p")],
+                   check=True)
+    image = imread(next(tmp_path.glob("p*.png")))
+    assert image.shape[1] == pytest.approx(148 / 25.4 * 40, abs=2)
+    ink = (image[..., :3].mean(axis=2) < 0.5).mean()
+    assert 0.01 < ink < 0.5
+
+
+def _chromium():
+    return shutil.which("chromium") or shutil.which("chromium-browser")
+
+
+@pytest.mark.skipif(_chromium() is None, reason="Chromium is not installed (Debian package 'chromium')")
+def test_route_page_in_a_real_browser(demo_site, tmp_path):
+    from matplotlib.image import imread
+
+    _, out, _ = demo_site
+    page = (out / "hill-loop" / "index.html").as_uri()
+    flags = ["--headless", "--no-sandbox", "--disable-gpu", "--disable-quic", "--no-first-run",
+             "--disable-background-networking", "--disable-component-update", "--disable-sync",
+             f"--user-data-dir={tmp_path / 'profile'}"]
+    shot = tmp_path / "page.png"
+    subprocess.run([_chromium(), *flags, "--window-size=1200,1600", f"--screenshot={shot}", page],
+                   capture_output=True, timeout=120, check=True)
+    image = imread(shot)
+    assert image.shape[0] >= 1000
+    grey = image[..., :3].mean(axis=2)
+    assert grey.std() > 0.05  # not a blank page
+    assert (grey < 0.5).mean() > 0.01
+    dom = subprocess.run([_chromium(), *flags, "--dump-dom", page], capture_output=True, text=True,
+                         timeout=120, check=True).stdout
+    assert "<title>Gorse Bank Hill Loop" in dom
+
+
+def _contrast(a: str, b: str) -> float:
+    """WCAG 2.2 contrast ratio of two #rrggbb colours (relative luminance, sRGB)."""
+    def luminance(hex_colour):
+        rgb = np.array([int(hex_colour[i:i + 2], 16) for i in (1, 3, 5)]) / 255
+        lin = np.where(rgb <= 0.04045, rgb / 12.92, ((rgb + 0.055) / 1.055) ** 2.4)
+        return float(lin @ [0.2126, 0.7152, 0.0722])
+    hi, lo = sorted((luminance(a), luminance(b)), reverse=True)
+    return (hi + 0.05) / (lo + 0.05)
+
+
+def test_contrast_of_the_theme_colours_wcag_aa():
+    from cardgen.render.html import default_templates
+
+    css = (default_templates() / "style.css").read_text()
+    colours = dict(re.findall(r"--([a-z-]+):\s*(#[0-9a-f]{6})", css))
+    pairs = [("ink", "paper"), ("muted", "paper"), ("accent", "paper"), ("warn-ink", "paper"),
+             ("paper", "accent"), ("ink", "stripe"), ("muted", "stripe"), ("warn-ink", "stripe"),
+             ("accent", "stripe")]
+    for fg, bg in pairs:
+        assert _contrast(colours[fg], colours[bg]) >= 4.5, (fg, bg)
+    # the cards' own colours
+    card = (default_templates() / "card.html").read_text()
+    for fg in set(re.findall(r"color: (#[0-9a-f]{6})", card)):
+        assert _contrast(fg, "#ffffff") >= 4.5 and _contrast(fg, "#f2f2f2") >= 4.5
+
+
+def test_contrast_formula_reference_values():
+    # WCAG 2.2 definition: black on white is 21:1; #767676 on white is the familiar 4.54:1
+    assert _contrast("#000000", "#ffffff") == pytest.approx(21.0)
+    assert _contrast("#767676", "#ffffff") == pytest.approx(4.54, abs=0.01)
