@@ -78,7 +78,7 @@ def card_costs(config_path: Path, work: Path):
         html = env.get_template("card.html").render(
             site={}, route={"name": track.name, "distance": analysis.terrain.length, "gain": analysis.terrain.gain},
             units="metric", version="", symbols_for=symbols_for, rider=RiderView(rider.name, "r", plan, "r.pdf", None),
-            plan=plan, start=None, profile_alt=alt, page=_page(config), qr="")
+            plan=plan, start=None, profile_alt=alt, profile="profile.svg", page=_page(config), qr="")
     t_html = (time.perf_counter() - t0) / n
     t0 = time.perf_counter()
     for _ in range(n):

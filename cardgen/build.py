@@ -330,6 +330,12 @@ def _render_route(env, config, site, rp, folder: Path):
     profile_svg, profile_alt = plots.elevation_profile(
         terrain, analysis.climbs, [(c.name, c.distance) for c in checkpoints], units, name=rp.name)
     (folder / "profile.svg").write_text(profile_svg, encoding="utf-8")
+    card_profile = "profile.svg"
+    if config.large_print:  # the card's own profile, with labels at large-print size
+        big_svg, _ = plots.elevation_profile(terrain, analysis.climbs, [(c.name, c.distance) for c in checkpoints],
+                                             units, name=rp.name, width_in=5.2, height_in=3.0, text_scale=1.9)
+        (folder / "profile-large.svg").write_text(big_svg, encoding="utf-8")
+        card_profile = "profile-large.svg"
     power_svg = power_alt = ""
     if analysis.climbs and rp.riders:
         hardest = max(analysis.climbs, key=lambda h: h.score)
@@ -367,7 +373,7 @@ def _render_route(env, config, site, rp, folder: Path):
     jobs = []
     for view in views:
         html = env.get_template("card.html").render(**common, rider=view, plan=view.plan, start=view.start,
-                                                    profile_alt=profile_alt, page=page, qr=qr)
+                                                    profile_alt=profile_alt, profile=card_profile, page=page, qr=qr)
         jobs.append((html, str(folder), str(folder / view.card)))
     if views:
         html = env.get_template("coach.html").render(**common, riders=views)
@@ -422,6 +428,9 @@ def _page(config):
     size, margin, font = sizes[config.card_size]
     if config.large_print:
         font = "14pt"
-    caution = "9pt" if config.large_print else "6.5pt"
-    footer = "46mm" if config.large_print else ("34mm" if config.card_size == "pocket" else "26mm")
-    return {"size": size, "margin": margin, "font": font, "caution_font": caution, "footer": footer}
+    # Large print: the full cautions are a block of body text on page 2 (at 14 pt they
+    # would not fit a footer); the footer of every page points to them.
+    caution = "12pt" if config.large_print else "6.5pt"
+    footer = "16mm" if config.large_print else ("34mm" if config.card_size == "pocket" else "26mm")
+    return {"size": size, "margin": margin, "font": font, "caution_font": caution, "footer": footer,
+            "large": config.large_print, "narrow": config.large_print or config.card_size == "pocket"}

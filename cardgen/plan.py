@@ -27,7 +27,7 @@ from cardgen.route.climbs import Hill, find_climbs, find_descents
 from cardgen.route.cues import Cue, cue_sheet
 from cardgen.route.gpx import Track
 from cardgen.route.terrain import Terrain
-from cardgen.units import J_PER_KCAL, ms_to_kmh
+from cardgen.units import J_PER_KCAL
 from cardgen.vehicles import Rider
 
 #: Steepest 100 m grade that earns a "steep" note [-]: common practice, no published
@@ -55,11 +55,27 @@ class Conditions:
 @dataclass(frozen=True)
 class Warning:
     """``code`` (stable, for symbols), ``severity`` ("info", "caution", "warning") and
-    a plain sentence."""
+    a plain sentence: ``template`` with named quantities in SI, ``values`` as
+    (name, kind, value) where kind is a filter of :mod:`cardgen.render.format`
+    ("speed", "length", "distance", "power", "grade", "battery"). :meth:`render` writes
+    it in metric or imperial units; :attr:`text` is metric."""
 
     code: str
     severity: str
-    text: str
+    template: str
+    values: tuple = ()
+
+    def render(self, units: str = "metric") -> str:
+        from cardgen.render import format as fmt
+
+        with_units = {"speed", "length", "distance", "height"}
+        words = {name: getattr(fmt, kind)(value, units) if kind in with_units else getattr(fmt, kind)(value)
+                 for name, kind, value in self.values}
+        return self.template.format(**words)
+
+    @property
+    def text(self) -> str:
+        return self.render("metric")
 
 
 @dataclass(frozen=True)
@@ -290,15 +306,16 @@ def make_plan(route: Analysis | Track, terrain: Terrain | None = None, rider: Ri
     energy = float(np.sum(np.maximum(ride.rider_power, 0.0) * ride.time))
     slow = (ride.mean_speed < vehicle.min_stable_speed) & (ride.rider_power > 0)
     battery = fits = None
-    warnings = [Warning("track", "info", w) for w in route.warnings]
+    warnings = [Warning("track", "info", w.replace("{", "{{").replace("}", "}}")) for w in route.warnings]
     if motor is not None:
         battery = battery_energy(motor, ride.motor_power, ride.time)
         fits = battery <= motor.usable_battery * (1.0 - BATTERY_RESERVE)
         if not fits:
             warnings.append(Warning(
                 "battery", "warning",
-                f"the assist would use about {battery / 3600:.0f} Wh of the {motor.usable_battery / 3600:.0f} Wh "
-                f"usable: more than leaves a {BATTERY_RESERVE:.0%} reserve; use lower levels or carry a spare",
+                "the assist would use about {used} of the {usable} usable: more than leaves a "
+                f"{BATTERY_RESERVE:.0%} reserve; use lower levels or carry a spare",
+                (("used", "battery", battery), ("usable", "battery", motor.usable_battery)),
             ))
     totals = Totals(time=float(ride.elapsed[-1]), energy=energy, food_energy=energy / vehicle.gross_efficiency,
                     battery=battery, battery_fits=fits, walk_length=float(np.sum(slow) * terrain.step))
@@ -322,20 +339,21 @@ def _climb_row(number, hill, terrain, rider, motor, level, ride, wbal, wind, rho
     safe = None
     if w_low < 0:
         safe = safe_climb_power(rider, hill, terrain, wind, rho, before)
-        advice = (f"hold about {safe:.0f} W instead" if safe is not None
-                  else "ease off before the climb to recover")
+        advice = "hold about {safe} instead" if safe is not None else "ease off before the climb to recover"
+        values = (("power", "power", rider_power),) + ((("safe", "power", safe),) if safe is not None else ())
         warnings.append(Warning(
             "w-prime", "warning",
-            f"at {rider_power:.0f} W the rider runs out of anaerobic reserve (W′) on this climb; {advice}",
+            "at {power} the rider runs out of anaerobic reserve (W′) on this climb; " + advice, values,
         ))
     if slow > 0:
         warnings.append(Warning(
             "walk", "warning",
-            f"below {ms_to_kmh(vehicle.min_stable_speed):.1f} km/h for about {slow:.0f} m: hard to balance "
-            "on two wheels; walking may be needed",
+            "below {speed} for about {length}: hard to balance on two wheels; walking may be needed",
+            (("speed", "speed", vehicle.min_stable_speed), ("length", "length", slow)),
         ))
     if hill.steepest_grade >= STEEP_GRADE:
-        warnings.append(Warning("steep", "caution", f"steepest 100 m at {hill.steepest_grade * 100:.0f} %"))
+        warnings.append(Warning("steep", "caution", "steepest 100 m at {grade}",
+                                (("grade", "grade", hill.steepest_grade),)))
     return ClimbRow(
         number=number, hill=hill, power_for_target=float(np.mean(need)), speed_at_effort=hill.length / time,
         time=time, min_speed=float(np.min(speeds)), slow_length=slow, rider_power=rider_power,
@@ -364,14 +382,15 @@ def _descent_rows(hills, terrain, rider, ride, wind, rho) -> tuple[DescentRow, .
         if coast > vehicle.max_descent_speed:
             warnings.append(Warning(
                 "fast", "warning",
-                f"coasting would reach {ms_to_kmh(coast):.0f} km/h, above the "
-                f"{ms_to_kmh(vehicle.max_descent_speed):.0f} km/h set for this vehicle: control the speed",
+                "coasting would reach {coast}, above the {cap} set for this vehicle: control the speed",
+                (("coast", "speed", coast), ("cap", "speed", vehicle.max_descent_speed)),
             ))
         if curve_speed < min(coast, vehicle.max_descent_speed):
             warnings.append(Warning(
                 "curve", "warning",
-                f"curve of about {terrain.curve_radius[tight]:.0f} m radius at km "
-                f"{terrain.distance[tight] / 1000:.1f}: slow to {ms_to_kmh(curve_speed):.0f} km/h or less",
+                "curve of about {radius} radius at {where}: slow to {speed} or less",
+                (("radius", "length", float(terrain.curve_radius[tight])),
+                 ("where", "distance", float(terrain.distance[tight])), ("speed", "speed", curve_speed)),
             ))
         rows.append(DescentRow(
             number=number, hill=hill, coast_speed=coast,

@@ -51,12 +51,13 @@ def thin(distance, elevation, max_points: int = MAX_POINTS):
 
 
 def elevation_profile(terrain, climbs, checkpoints=(), units: str = "metric", *, name: str = "",
-                      width_in: float = 6.6, height_in: float = 2.4):
+                      width_in: float = 6.6, height_in: float = 2.4, text_scale: float = 1.0):
     """Elevation against distance, filled by grade, climbs numbered, checkpoints marked.
 
     ``climbs`` are Hill objects (numbered in order), ``checkpoints`` (name, distance)
-    pairs. Returns (svg, alt text).
+    pairs; ``text_scale`` enlarges every label (large print). Returns (svg, alt text).
     """
+    k = text_scale
     from matplotlib import colormaps
     from matplotlib.cm import ScalarMappable
     from matplotlib.collections import PolyCollection
@@ -91,24 +92,24 @@ def elevation_profile(terrain, climbs, checkpoints=(), units: str = "metric", *,
     ax.plot(x, y, color=INK, linewidth=0.8)
     ax.set_xlim(x[0], x[-1])
     ax.set_ylim(base, top)
-    ax.set_xlabel("distance (mi)" if imperial else "distance (km)", fontsize=8, color=INK)
-    ax.set_ylabel("elevation (ft)" if imperial else "elevation (m)", fontsize=8, color=INK)
-    ax.tick_params(labelsize=7, colors=INK)
+    ax.set_xlabel("distance (mi)" if imperial else "distance (km)", fontsize=8 * k, color=INK)
+    ax.set_ylabel("elevation (ft)" if imperial else "elevation (m)", fontsize=8 * k, color=INK)
+    ax.tick_params(labelsize=7 * k, colors=INK)
     for spine in ("top", "right"):
         ax.spines[spine].set_visible(False)
     for number, hill in enumerate(climbs, 1):
         cx = 0.5 * (hill.start_distance + hill.end_distance) * x_scale
         cy = hill.top * y_scale
         ax.annotate(str(number), (cx, cy), xytext=(0, 7), textcoords="offset points", ha="center",
-                    va="bottom", fontsize=8, fontweight="bold", color="white",
+                    va="bottom", fontsize=8 * k, fontweight="bold", color="white",
                     bbox={"boxstyle": "circle,pad=0.25", "facecolor": INK, "edgecolor": "none"})
     for label, where in checkpoints:
         ax.axvline(where * x_scale, color=INK, linewidth=0.7, linestyle=(0, (3, 2)))
-        ax.text(where * x_scale, top, label, rotation=90, fontsize=6, ha="right", va="top", color=INK)
+        ax.text(where * x_scale, top, label, rotation=90, fontsize=6 * k, ha="right", va="top", color=INK)
     bar = fig.colorbar(ScalarMappable(norm=norm, cmap=cmap), ax=ax, pad=0.01, fraction=0.04,
                        ticks=bounds[::2])
-    bar.set_label("grade (%)", fontsize=7, color=INK)
-    bar.ax.tick_params(labelsize=6, colors=INK)
+    bar.set_label("grade (%)", fontsize=7 * k, color=INK)
+    bar.ax.tick_params(labelsize=6 * k, colors=INK)
     svg = _svg(fig)
 
     parts = [f"Elevation profile{' of ' + name if name else ''}: {fmt.distance(terrain.length, units)}, "
