@@ -426,6 +426,11 @@ def main(argv: list[str] | None = None) -> int:
     except CardgenError as exc:
         print(f"cardgen: error: {exc}", file=sys.stderr)
         return 1
+    except OSError as exc:  # the machine's side: disk full, permissions, a vanished folder
+        where = f"{exc.filename}: " if exc.filename else ""
+        print(f"cardgen: error: {where}{exc.strerror or exc}; nothing was published, the previous output is "
+              "unchanged", file=sys.stderr)
+        return 1
     except KeyboardInterrupt:
-        print("cardgen: interrupted", file=sys.stderr)
+        print("cardgen: interrupted; nothing was published, the previous output is unchanged", file=sys.stderr)
         return 130

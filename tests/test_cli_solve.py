@@ -86,3 +86,49 @@ def test_python_dash_m_works():
     proc = subprocess.run([sys.executable, "-m", "cardgen", "--version"], capture_output=True, text=True)
     assert proc.returncode == 0
     assert proc.stdout.startswith("cardgen ")
+
+
+@pytest.mark.parametrize("args", [
+    ["--power", "0", "--grade", "40"], ["--power", "0", "--grade", "-40"], ["--power", "2000", "--grade", "-40"],
+    ["--power", "2000", "--headwind", "150"], ["--power", "50", "--headwind", "-150"],
+    ["--power", "300", "--altitude", "-400"], ["--power", "300", "--altitude", "5000"],
+    ["--speed", "0", "--grade", "40"], ["--speed", "150", "--grade", "-40", "--headwind", "150"],
+])
+@pytest.mark.parametrize("mass", ["20", "500"])
+def test_guard_rails_give_finite_numbers(args, mass):
+    import contextlib
+    import io
+    import json
+    import math
+
+    from cardgen.cli import main
+
+    out = io.StringIO()
+    with contextlib.redirect_stdout(out):
+        code = main(["solve", *args, "--mass", mass, "--crr", "0.006", "--cda", "0.5", "--json"])
+    assert code == 0
+    data = json.loads(out.getvalue())
+    numbers = [data["speed_kmh"], data["power_w"], *data["breakdown_w"].values()]
+    assert all(math.isfinite(x) for x in numbers)
+    assert data["speed_kmh"] >= 0
+
+
+@pytest.mark.parametrize("args, fragment", [
+    (["--power", "100", "--headwind", "151"], "--headwind"),
+    (["--power", "100", "--grade", "51"], "--grade"),
+    (["--power", "3001"], "--power"),
+    (["--speed", "151"], "--speed"),
+    (["--speed", "-1"], "--speed"),
+    (["--power", "100", "--altitude", "9001"], "--altitude"),
+    (["--power", "100", "--air-density", "3"], "--air-density"),
+    (["--power", "100", "--efficiency", "0.2"], "--efficiency"),
+])
+def test_guard_rails_refusals(run_cli, args, fragment):
+    code, _, err = run_cli("solve", *args, "--mass", "80", "--crr", "0.005", "--cda", "0.4")
+    assert code == 1 and fragment in err and "Traceback" not in err
+
+
+@pytest.mark.parametrize("mass", ["19", "601"])
+def test_guard_rails_mass(run_cli, mass):
+    code, _, err = run_cli("solve", "--power", "100", "--mass", mass, "--crr", "0.005", "--cda", "0.4")
+    assert code == 1 and "--mass" in err

@@ -138,8 +138,8 @@ def _check_prolog(path: Path, where: str) -> str:
         return "{" + uri + "}" if uri else ""
     except expat.ExpatError as exc:
         raise GpxError(
-            f"{where}, line {exc.lineno}, column {exc.offset}: not well-formed XML "
-            f"({expat.ErrorString(exc.code)}); the file may be truncated or not GPX"
+            f"{where}, line {exc.lineno}, column {exc.offset}: {expat.ErrorString(exc.code)}: the XML is not "
+            "well-formed (is the file truncated, or not GPX?)"
         ) from None
     raise GpxError(f"{where}: no XML element in the file; is it a GPX file?")
 
@@ -287,8 +287,8 @@ def read_gpx(path: str | os.PathLike) -> Track:
     except ParseError as exc:
         line, column = getattr(exc, "position", (0, 0))
         raise GpxError(
-            f"{where}, line {line}, column {column}: not well-formed XML ({_reason(exc)}); "
-            "the file may be truncated or not GPX"
+            f"{where}, line {line}, column {column}: {_reason(exc)}: the XML is not well-formed "
+            "(is the file truncated, or not GPX?)"
         ) from None
     except OSError as exc:
         raise GpxError(f"{where}: cannot read the file ({exc.strerror})") from None
@@ -298,9 +298,8 @@ def read_gpx(path: str | os.PathLike) -> Track:
     use, source = (track, "track") if track.lat else (route, "route")
     label = "trackpoint" if source == "track" else "route point"
     if len(use.lat) < 2:
-        raise GpxError(
-            f"{where}: {len(use.lat)} {label}s; a route needs at least two points in <trk> or <rte>"
-        )
+        found = "no track or route points" if not use.lat else f"only one {label}"
+        raise GpxError(f"{where}: {found}; a route needs at least two points in <trk> or <rte>")
     lat = _column(use.lat, "lat", label, where)
     lon = _column(use.lon, "lon", label, where)
     warnings = []

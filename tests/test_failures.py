@@ -1,0 +1,130 @@
+"""Failure injection in the build: disk full, permissions, a dying worker, Ctrl-C.
+Each ends with a clear message and exit code 1 (130 for Ctrl-C), no temporary
+folders left behind, and the previous site as it was."""
+
+import errno
+import hashlib
+import os
+import pathlib
+import shutil
+import signal
+import subprocess
+import sys
+import time
+from pathlib import Path
+
+import pytest
+
+from cardgen import build as build_module
+from cardgen.cli import main
+
+SAMPLES = Path(__file__).resolve().parents[1] / "sample_routes"
+
+
+def _site(tmp_path: Path) -> tuple[Path, Path]:
+    src = tmp_path / "src"
+    src.mkdir()
+    shutil.copy(SAMPLES / "riverside-loop.gpx", src)
+    shutil.copy(SAMPLES / "accessible-path.gpx", src)
+    (src / "site.toml").write_text('[site]\ntitle = "One"\n[[routes]]\ngpx = "riverside-loop.gpx"\n'
+                                   '[[routes]]\ngpx = "accessible-path.gpx"\n'
+                                   '[[riders]]\nname = "A"\nvehicle = "road-hoods"\n'
+                                   '[[riders]]\nname = "B"\nvehicle = "trike-recumbent"\n', encoding="utf-8")
+    out = tmp_path / "out"
+    assert main(["build", str(src / "site.toml"), "-o", str(out), "--jobs", "1"]) == 0
+    (src / "site.toml").write_text((src / "site.toml").read_text().replace('"One"', '"Two"'))
+    return src, out
+
+
+def _snapshot(folder: Path) -> dict:
+    return {p.relative_to(folder).as_posix(): hashlib.sha256(p.read_bytes()).hexdigest()
+            for p in sorted(folder.rglob("*")) if p.is_file()}
+
+
+def _clean(out: Path) -> bool:
+    return not [p for p in out.parent.iterdir() if ".cardgen-tmp-" in p.name or ".cardgen-old-" in p.name]
+
+
+def test_disk_full_while_writing(tmp_path, monkeypatch, capsys):
+    src, out = _site(tmp_path)
+    before = _snapshot(out)
+    real = pathlib.Path.write_text
+
+    def full(self, *args, **kwargs):
+        if ".cardgen-tmp-" in str(self) and self.name == "plan.json":
+            raise OSError(errno.ENOSPC, os.strerror(errno.ENOSPC), str(self))
+        return real(self, *args, **kwargs)
+
+    monkeypatch.setattr(pathlib.Path, "write_text", full)
+    assert main(["build", str(src / "site.toml"), "-o", str(out), "--jobs", "1"]) == 1
+    err = capsys.readouterr().err
+    assert "No space left on device" in err and "previous output is unchanged" in err
+    assert "Traceback" not in err
+    assert _snapshot(out) == before and _clean(out)
+
+
+def test_permission_denied_on_the_output_folder(tmp_path, monkeypatch, capsys):
+    # CI runs as root, which ignores permission bits, so the error is injected where
+    # the build creates its temporary folder beside the output.
+    src, out = _site(tmp_path)
+    before = _snapshot(out)
+    real = pathlib.Path.mkdir
+
+    def denied(self, *args, **kwargs):
+        if ".cardgen-tmp-" in self.name:
+            raise PermissionError(errno.EACCES, os.strerror(errno.EACCES), str(self))
+        return real(self, *args, **kwargs)
+
+    monkeypatch.setattr(pathlib.Path, "mkdir", denied)
+    assert main(["build", str(src / "site.toml"), "-o", str(out), "--jobs", "1"]) == 1
+    err = capsys.readouterr().err
+    assert "Permission denied" in err and "Traceback" not in err
+    assert _snapshot(out) == before and _clean(out)
+
+
+def _die(job):
+    os._exit(9)  # the worker vanishes without a word, as under the out-of-memory killer
+
+
+def test_a_worker_process_dies(tmp_path, monkeypatch, capsys):
+    src, out = _site(tmp_path)
+    before = _snapshot(out)
+    monkeypatch.setattr(build_module, "_render_pdf", _die)
+    assert main(["build", str(src / "site.toml"), "-o", str(out), "--jobs", "2"]) == 1
+    err = capsys.readouterr().err
+    assert "card-rendering process died" in err and "Traceback" not in err
+    assert _snapshot(out) == before and _clean(out)
+
+
+def test_ctrl_c_during_rendering(tmp_path):
+    src, out = _site(tmp_path)
+    before = _snapshot(out)
+    exe = Path(sys.executable).with_name("cardgen")
+    proc = subprocess.Popen([str(exe), "build", str(src / "site.toml"), "-o", str(out), "--jobs", "1"],
+                            stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True)
+    deadline = time.time() + 60
+    while time.time() < deadline and not any(".cardgen-tmp-" in p.name for p in out.parent.iterdir()):
+        time.sleep(0.01)
+    time.sleep(0.2)
+    proc.send_signal(signal.SIGINT)
+    stdout, stderr = proc.communicate(timeout=60)
+    assert proc.returncode == 130, stderr
+    assert "interrupted" in stderr and "Traceback" not in stderr
+    assert _snapshot(out) == before and _clean(out)
+
+
+@pytest.mark.parametrize("name", ["../../escape", "/etc/passwd", "..", ".", "", "CON", "a/b\\c", "\u202e🚲"])
+def test_route_names_become_safe_slugs(name):
+    from cardgen.render.html import slugify
+
+    slug = slugify(name)
+    assert slug and slug not in (".", "..")
+    assert all(c.isascii() and (c.isalnum() or c == "-") for c in slug)
+
+
+def test_output_may_not_be_the_home_folder(tmp_path, monkeypatch, capsys):
+    src, _ = _site(tmp_path)
+    monkeypatch.setenv("HOME", str(tmp_path / "home"))
+    (tmp_path / "home").mkdir()
+    assert main(["build", str(src / "site.toml"), "-o", str(tmp_path / "home")]) == 1
+    assert "home folder" in capsys.readouterr().err
