@@ -1,16 +1,15 @@
 """The build: configuration errors, atomic publishing, incremental rebuilds, locks."""
 
-import hashlib
 import os
 import re
 import shutil
 import signal
 import subprocess
 import sys
-import time
 from pathlib import Path
 
 import pytest
+from buildkit import leftovers, snapshot, wait_until_rendering
 
 from cardgen import build as build_module
 from cardgen.build import BuildError, Lock, build_site
@@ -18,11 +17,6 @@ from cardgen.config import folder_config, load_config
 from cardgen.errors import ConfigError
 
 SAMPLES = Path(__file__).resolve().parents[1] / "sample_routes"
-
-
-def _snapshot(folder: Path) -> dict:
-    return {p.relative_to(folder).as_posix(): hashlib.sha256(p.read_bytes()).hexdigest()
-            for p in sorted(folder.rglob("*")) if p.is_file()}
 
 
 def _small_site(tmp_path: Path, routes=("riverside-loop", "accessible-path")) -> Path:
@@ -35,10 +29,6 @@ def _small_site(tmp_path: Path, routes=("riverside-loop", "accessible-path")) ->
                                    + '[[riders]]\nname = "A"\nvehicle = "road-hoods"\n'
                                    + '[[riders]]\nname = "B"\nvehicle = "handcycle"\n', encoding="utf-8")
     return src
-
-
-def _leftovers(out: Path):
-    return [p.name for p in out.parent.iterdir() if ".cardgen-tmp-" in p.name or ".cardgen-old-" in p.name]
 
 
 def test_demo_builds_end_to_end(demo_site):
@@ -56,22 +46,22 @@ def test_no_change_rebuild_skips_every_card_and_keeps_the_bytes(tmp_path):
     config = load_config(src / "site.toml")
     first = build_site(config, out, jobs=1)
     assert first.cards_rendered == 6  # 2 routes × (2 riders + coach sheet)
-    before = _snapshot(out)
+    before = snapshot(out)
     again = build_site(load_config(src / "site.toml"), out, jobs=1)
     assert again.up_to_date and again.cards_rendered == 0 and again.cards_reused == 6
-    assert _snapshot(out) == before
+    assert snapshot(out) == before
 
 
 def test_changing_one_route_rerenders_only_its_cards(tmp_path):
     src = _small_site(tmp_path)
     out = tmp_path / "out"
     build_site(load_config(src / "site.toml"), out, jobs=1)
-    before = _snapshot(out)
+    before = snapshot(out)
     text = (src / "accessible-path.gpx").read_text().replace("Reedbed Accessible Path", "Reedbed Path")
     (src / "accessible-path.gpx").write_text(text)
     report = build_site(load_config(src / "site.toml"), out, jobs=1)
     assert report.cards_rendered == 3 and report.cards_reused == 3
-    after = _snapshot(out)
+    after = snapshot(out)
     assert all(after[k] == v for k, v in before.items() if k.startswith("riverside-loop/"))
 
 
@@ -80,7 +70,7 @@ def test_same_inputs_same_bytes_whatever_the_jobs(tmp_path):
     a, b = tmp_path / "a", tmp_path / "b"
     build_site(load_config(src / "site.toml"), a, jobs=1)
     build_site(load_config(src / "site.toml"), b, jobs=2)
-    assert _snapshot(a) == _snapshot(b)
+    assert snapshot(a) == snapshot(b)
 
 
 def test_three_mistakes_are_reported_together(tmp_path):
@@ -123,19 +113,19 @@ def test_failing_route_leaves_the_previous_site_byte_identical(tmp_path):
     src = _small_site(tmp_path)
     out = tmp_path / "out"
     build_site(load_config(src / "site.toml"), out, jobs=1)
-    before = _snapshot(out)
+    before = snapshot(out)
     (src / "riverside-loop.gpx").write_text("<gpx><trk><trkseg><trkpt lat='1'", encoding="utf-8")
     with pytest.raises(BuildError, match="riverside-loop.gpx"):
         build_site(load_config(src / "site.toml"), out, jobs=1)
-    assert _snapshot(out) == before
-    assert _leftovers(out) == []
+    assert snapshot(out) == before
+    assert leftovers(out) == []
 
 
 def test_render_failing_midway_leaves_the_previous_site(tmp_path, monkeypatch):
     src = _small_site(tmp_path)
     out = tmp_path / "out"
     build_site(load_config(src / "site.toml"), out, jobs=1)
-    before = _snapshot(out)
+    before = snapshot(out)
     (src / "site.toml").write_text((src / "site.toml").read_text().replace("Small", "Smaller"))
     calls = []
 
@@ -149,8 +139,8 @@ def test_render_failing_midway_leaves_the_previous_site(tmp_path, monkeypatch):
     monkeypatch.setattr(build_module, "_render_pdf", flaky)
     with pytest.raises(OSError):
         build_site(load_config(src / "site.toml"), out, jobs=1)
-    assert _snapshot(out) == before
-    assert _leftovers(out) == []
+    assert snapshot(out) == before
+    assert leftovers(out) == []
 
 
 def test_keep_going_publishes_the_good_routes(tmp_path):
@@ -167,22 +157,19 @@ def test_sigkill_midway_keeps_the_previous_site_and_the_next_build_works(tmp_pat
     src = _small_site(tmp_path)
     out = tmp_path / "out"
     build_site(load_config(src / "site.toml"), out, jobs=1)
-    before = _snapshot(out)
+    before = snapshot(out)
     (src / "site.toml").write_text((src / "site.toml").read_text().replace("Small", "Changed"))
     exe = Path(sys.executable).with_name("cardgen")
     proc = subprocess.Popen([str(exe), "build", str(src / "site.toml"), "-o", str(out), "--jobs", "1"],
                             stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL, start_new_session=True)
-    deadline = time.time() + 60
-    while time.time() < deadline and not any(".cardgen-tmp-" in p.name for p in out.parent.iterdir()):
-        time.sleep(0.02)
-    time.sleep(0.3)
+    wait_until_rendering(out)
     os.killpg(proc.pid, signal.SIGKILL)
     proc.wait()
-    assert _snapshot(out) == before
+    assert snapshot(out) == before
     report = build_site(load_config(src / "site.toml"), out, jobs=1)
     assert report.cards_rendered == 6
     assert "Changed" in (out / "index.html").read_text()
-    assert _leftovers(out) == []
+    assert leftovers(out) == []
 
 
 def test_two_builds_into_one_folder(tmp_path):

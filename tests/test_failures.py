@@ -3,17 +3,16 @@ Each ends with a clear message and exit code 1 (130 for Ctrl-C), no temporary
 folders left behind, and the previous site as it was."""
 
 import errno
-import hashlib
 import os
 import pathlib
 import shutil
 import signal
 import subprocess
 import sys
-import time
 from pathlib import Path
 
 import pytest
+from buildkit import leftovers, snapshot, wait_until_rendering
 
 from cardgen import build as build_module
 from cardgen.cli import main
@@ -36,18 +35,13 @@ def _site(tmp_path: Path) -> tuple[Path, Path]:
     return src, out
 
 
-def _snapshot(folder: Path) -> dict:
-    return {p.relative_to(folder).as_posix(): hashlib.sha256(p.read_bytes()).hexdigest()
-            for p in sorted(folder.rglob("*")) if p.is_file()}
-
-
 def _clean(out: Path) -> bool:
-    return not [p for p in out.parent.iterdir() if ".cardgen-tmp-" in p.name or ".cardgen-old-" in p.name]
+    return not leftovers(out)
 
 
 def test_disk_full_while_writing(tmp_path, monkeypatch, capsys):
     src, out = _site(tmp_path)
-    before = _snapshot(out)
+    before = snapshot(out)
     real = pathlib.Path.write_text
 
     def full(self, *args, **kwargs):
@@ -60,14 +54,14 @@ def test_disk_full_while_writing(tmp_path, monkeypatch, capsys):
     err = capsys.readouterr().err
     assert "No space left on device" in err and "previous output is unchanged" in err
     assert "Traceback" not in err
-    assert _snapshot(out) == before and _clean(out)
+    assert snapshot(out) == before and _clean(out)
 
 
 def test_permission_denied_on_the_output_folder(tmp_path, monkeypatch, capsys):
     # CI runs as root, which ignores permission bits, so the error is injected where
     # the build creates its temporary folder beside the output.
     src, out = _site(tmp_path)
-    before = _snapshot(out)
+    before = snapshot(out)
     real = pathlib.Path.mkdir
 
     def denied(self, *args, **kwargs):
@@ -79,7 +73,7 @@ def test_permission_denied_on_the_output_folder(tmp_path, monkeypatch, capsys):
     assert main(["build", str(src / "site.toml"), "-o", str(out), "--jobs", "1"]) == 1
     err = capsys.readouterr().err
     assert "Permission denied" in err and "Traceback" not in err
-    assert _snapshot(out) == before and _clean(out)
+    assert snapshot(out) == before and _clean(out)
 
 
 def _die(job):
@@ -88,29 +82,26 @@ def _die(job):
 
 def test_a_worker_process_dies(tmp_path, monkeypatch, capsys):
     src, out = _site(tmp_path)
-    before = _snapshot(out)
+    before = snapshot(out)
     monkeypatch.setattr(build_module, "_render_pdf", _die)
     assert main(["build", str(src / "site.toml"), "-o", str(out), "--jobs", "2"]) == 1
     err = capsys.readouterr().err
     assert "card-rendering process died" in err and "Traceback" not in err
-    assert _snapshot(out) == before and _clean(out)
+    assert snapshot(out) == before and _clean(out)
 
 
 def test_ctrl_c_during_rendering(tmp_path):
     src, out = _site(tmp_path)
-    before = _snapshot(out)
+    before = snapshot(out)
     exe = Path(sys.executable).with_name("cardgen")
     proc = subprocess.Popen([str(exe), "build", str(src / "site.toml"), "-o", str(out), "--jobs", "1"],
                             stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True)
-    deadline = time.time() + 60
-    while time.time() < deadline and not any(".cardgen-tmp-" in p.name for p in out.parent.iterdir()):
-        time.sleep(0.01)
-    time.sleep(0.2)
+    wait_until_rendering(out)
     proc.send_signal(signal.SIGINT)
     stdout, stderr = proc.communicate(timeout=60)
     assert proc.returncode == 130, stderr
     assert "interrupted" in stderr and "Traceback" not in stderr
-    assert _snapshot(out) == before and _clean(out)
+    assert snapshot(out) == before and _clean(out)
 
 
 @pytest.mark.parametrize("name", ["../../escape", "/etc/passwd", "..", ".", "", "CON", "a/b\\c", "\u202e🚲"])

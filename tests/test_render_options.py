@@ -73,3 +73,14 @@ def test_large_print_body_is_at_least_14_pt(tmp_path):
     assert share_small < 0.1, large
     text = subprocess.run(["pdftotext", str(large_pdf), "-"], capture_output=True, text=True, check=True).stdout
     assert "medical condition" in text and "legal limits" in text
+
+
+def test_base_url_puts_a_qr_code_on_each_card(tmp_path):
+    out = _site(tmp_path, 'base_url = "https://rides.example.invalid/spring"')
+    qr = out / "hill-loop" / "qr.svg"
+    assert qr.is_file() and "<svg" in qr.read_text()
+    # the card embeds it: the PDF grows by the code's drawing compared with a card without one
+    plain = _site(tmp_path / "plain", "") / "hill-loop" / "rider.pdf"
+    assert (out / "hill-loop" / "rider.pdf").stat().st_size > plain.stat().st_size
+    text = (out / "hill-loop" / "index.html").read_text()
+    assert "qr.svg" not in text  # the page itself needs no code to its own address

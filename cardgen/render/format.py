@@ -8,6 +8,7 @@ grade to 0.5 %, food energy to 10 kcal, battery to 5 Wh.
 
 from __future__ import annotations
 
+import functools
 import math
 from datetime import datetime, timedelta
 
@@ -25,35 +26,39 @@ def _missing(value) -> bool:
     return value is None or (isinstance(value, float) and not math.isfinite(value))
 
 
+def _dash_if_missing(function):
+    """A value that is absent or not finite prints as a dash, never as "nan"."""
+    @functools.wraps(function)
+    def wrapper(value, *args, **kwargs):
+        return "–" if _missing(value) else function(value, *args, **kwargs)
+    return wrapper
+
+
+@_dash_if_missing
 def power(watts) -> str:
     """"185 W"."""
-    if _missing(watts):
-        return "–"
     return f"{_nearest(watts, 5):.0f} W"
 
 
+@_dash_if_missing
 def speed(ms, units: str = "metric") -> str:
     """"12.5 km/h" or "7.5 mph"."""
-    if _missing(ms):
-        return "–"
     if units == "imperial":
         return f"{_nearest(ms * MPH_PER_MS, 0.5):.1f} mph"
     return f"{_nearest(ms * KMH_PER_MS, 0.5):.1f} km/h"
 
 
+@_dash_if_missing
 def distance(metres, units: str = "metric") -> str:
     """"12.3 km" or "7.6 mi"."""
-    if _missing(metres):
-        return "–"
     if units == "imperial":
         return f"{_nearest(metres / M_PER_MI, 0.1):.1f} mi"
     return f"{_nearest(metres / 1000, 0.1):.1f} km"
 
 
+@_dash_if_missing
 def length(metres, units: str = "metric") -> str:
     """Short lengths: "850 m" or "0.53 mi"; from 10 km as :func:`distance`."""
-    if _missing(metres):
-        return "–"
     if metres >= 10000:
         return distance(metres, units)
     if units == "imperial":
@@ -61,26 +66,23 @@ def length(metres, units: str = "metric") -> str:
     return f"{_nearest(metres, 10):.0f} m"
 
 
+@_dash_if_missing
 def height(metres, units: str = "metric") -> str:
     """"240 m" or "785 ft"."""
-    if _missing(metres):
-        return "–"
     if units == "imperial":
         return f"{_nearest(metres / M_PER_FT, 5):.0f} ft"
     return f"{_nearest(metres, 1):.0f} m"
 
 
+@_dash_if_missing
 def grade(fraction) -> str:
     """"7.5 %"."""
-    if _missing(fraction):
-        return "–"
     return f"{_nearest(fraction * 100, 0.5):.1f} %"
 
 
+@_dash_if_missing
 def duration(seconds) -> str:
     """"1:07" (hours:minutes), to the minute."""
-    if _missing(seconds):
-        return "–"
     minutes = int(_nearest(seconds / 60, 1))
     return f"{minutes // 60}:{minutes % 60:02d}"
 
@@ -95,24 +97,21 @@ def clock(start: datetime | None, seconds) -> str:
     return when.strftime("%H:%M")
 
 
+@_dash_if_missing
 def food(joules) -> str:
     """"1,240 kcal"."""
-    if _missing(joules):
-        return "–"
     return f"{_nearest(joules / J_PER_KCAL, 10):,.0f} kcal"
 
 
+@_dash_if_missing
 def battery(joules) -> str:
     """"215 Wh"."""
-    if _missing(joules):
-        return "–"
     return f"{_nearest(joules / 3600, 5):.0f} Wh"
 
 
+@_dash_if_missing
 def score(value) -> str:
     """FIETS index to one decimal."""
-    if _missing(value):
-        return "–"
     return f"{value:.1f}"
 
 

@@ -1,0 +1,27 @@
+"""Helpers shared by the build and failure tests."""
+
+from __future__ import annotations
+
+import hashlib
+import time
+from pathlib import Path
+
+
+def snapshot(folder: Path) -> dict:
+    """Every file under ``folder`` by its SHA-256: equal snapshots are equal bytes."""
+    return {p.relative_to(folder).as_posix(): hashlib.sha256(p.read_bytes()).hexdigest()
+            for p in sorted(folder.rglob("*")) if p.is_file()}
+
+
+def leftovers(out: Path) -> list[str]:
+    """Temporary or moved-aside folders a build left beside ``out``."""
+    return [p.name for p in out.parent.iterdir() if ".cardgen-tmp-" in p.name or ".cardgen-old-" in p.name]
+
+
+def wait_until_rendering(out: Path, timeout: float = 60.0) -> None:
+    """Return once a build has created its temporary folder beside ``out`` (plus a
+    moment, so that it is busy rendering)."""
+    deadline = time.time() + timeout
+    while time.time() < deadline and not any(".cardgen-tmp-" in p.name for p in out.parent.iterdir()):
+        time.sleep(0.01)
+    time.sleep(0.2)
