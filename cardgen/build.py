@@ -9,6 +9,7 @@ route whose inputs did not change, and skip the whole build when nothing did.
 
 from __future__ import annotations
 
+import contextlib
 import fcntl
 import hashlib
 import json
@@ -163,11 +164,51 @@ def build_site(config: SiteConfig, out: Path, *, jobs: int = 1, pdf: bool = True
         return _build_locked(config, out, jobs, pdf, keep_going, say, progress, report)
 
 
-def _build_locked(config, out, jobs, pdf, keep_going, say, progress, report):
+def _pool(jobs: int, tasks: int):
+    """A process pool when it pays (jobs > 1 and more than one task), else a stand-in
+    that runs in this process."""
+    if jobs > 1 and tasks > 1:
+        return ProcessPoolExecutor(max_workers=min(jobs, tasks))
+    return contextlib.nullcontext(None)
+
+
+def _map(pool, function, items):
+    """``pool.map``, or plain ``map`` without a pool; a dead worker is a clear error."""
+    if pool is None:
+        return map(function, items)
+    try:
+        return list(pool.map(function, items))
+    except BrokenProcessPool:
+        raise BuildError("a worker process died (out of memory, or killed); nothing was published; "
+                         "try again with --jobs 1") from None
+
+
+def _plan_route(task):
+    """Worker: read, analyse and plan one route for its riders.
+
+    Returns ((analysis, name, checkpoints, [(RiderConfig, start, Plan)]), None) or
+    (None, error message)."""
     from cardgen.plan import analyse, make_plan
-    from cardgen.render.html import slugify
     from cardgen.route.gpx import read_gpx
     from cardgen.route.terrain import build_terrain
+
+    rp, config = task
+    try:
+        track = read_gpx(rp.config.gpx)
+        analysis = analyse(track, build_terrain(track))
+        checkpoints = _checkpoints(rp, analysis)
+        riders = []
+        for i, rc in enumerate(config.riders):
+            if rc.rides(rp.config, rp.config.name or rp.config.gpx.stem):
+                riders.append((rc, rider_start(config, i),
+                               make_plan(analysis, rider=rc.rider, conditions=config.conditions)))
+        return (analysis, rp.config.name or track.name, checkpoints, riders), None
+    except CardgenError as exc:
+        return None, (f"{rp.config.gpx}: {exc}" if str(rp.config.gpx) not in str(exc) else str(exc))
+
+
+def _build_locked(config, out, jobs, pdf, keep_going, say, progress, report):
+    from cardgen.render.html import slugify
 
     t0 = time.perf_counter()
     templates = _templates_digest(config)
@@ -192,25 +233,17 @@ def _build_locked(config, out, jobs, pdf, keep_going, say, progress, report):
         say(f"{out}: up to date ({len(routes)} routes, {report.cards_reused} cards unchanged)")
         return report
 
-    # Phase 1: plan every route that changed.
+    # Phase 1: plan every route that changed (in the process pool when jobs > 1).
+    todo = [rp for rp in routes
+            if not (old.get("routes", {}).get(rp.slug, {}).get("key") == rp.key and (out / rp.slug).is_dir())]
     failures = []
-    for rp in routes:
-        previous = old.get("routes", {}).get(rp.slug, {})
-        if previous.get("key") == rp.key and (out / rp.slug).is_dir():
-            continue
-        try:
-            track = read_gpx(rp.config.gpx)
-            analysis = analyse(track, build_terrain(track))
-            rp.checkpoints = _checkpoints(rp, analysis)
-            rp.name = rp.config.name or track.name
-            for i, rc in enumerate(config.riders):
-                if rc.rides(rp.config, rp.config.name or rp.config.gpx.stem):
-                    rp.riders.append((rc, rider_start(config, i), make_plan(analysis, rider=rc.rider,
-                                                                           conditions=config.conditions)))
-            rp.analysis = analysis
-            say(f"planned {rp.name}: {len(rp.riders)} riders")
-        except CardgenError as exc:
-            failures.append(f"{rp.config.gpx}: {exc}" if str(rp.config.gpx) not in str(exc) else str(exc))
+    with _pool(jobs, len(todo)) as pool:
+        for rp, (result, error) in zip(todo, _map(pool, _plan_route, [(rp, config) for rp in todo]), strict=True):
+            if error:
+                failures.append(error)
+            else:
+                rp.analysis, rp.name, rp.checkpoints, rp.riders = result
+                say(f"planned {rp.name}: {len(rp.riders)} riders")
     report.seconds["plan"] = time.perf_counter() - t0
     if failures and not keep_going:
         raise BuildError("the build stopped; nothing was published (the previous site is unchanged):\n  "
@@ -222,7 +255,8 @@ def _build_locked(config, out, jobs, pdf, keep_going, say, progress, report):
     shutil.rmtree(tmp, ignore_errors=True)
     tmp.mkdir(parents=True)
     try:
-        manifest = _render(config, routes, old, out, tmp, jobs, pdf, say, progress, report, failures)
+        with _pool(jobs, len(routes) + 1) as pool:
+            manifest = _render(config, routes, old, out, tmp, pool, pdf, say, progress, report, failures)
         manifest["site_key"] = site_key if not failures else ""
         (tmp / MANIFEST).write_text(json.dumps(manifest, indent=1, sort_keys=True) + "\n", encoding="utf-8")
         publish(tmp, out)
@@ -251,21 +285,43 @@ def _built_stamp() -> str:
         return ""
 
 
-def _render(config, routes, old, out, tmp, jobs, pdf, say, progress, report, failures):
-    from cardgen.render.html import environment
-
-    env = environment(config.templates, config.units)
+def _site_context(config) -> dict:
     built = _built_stamp()
     event_line = ""
     if config.start is not None:
         event_line = f"Start {config.start.strftime('%A %d %B %Y, %H:%M')}"
         if config.start_interval:
             event_line += f", riders {config.start_interval / 60:.0f} min apart"
-    site = {"title": config.title, "units": config.units, "large_print": config.large_print, "built": built,
+    return {"title": config.title, "units": config.units, "large_print": config.large_print, "built": built,
             "event_line": event_line, "card_size": config.card_size}
+
+
+_ENVIRONMENTS: dict = {}
+
+
+def _environment(config):
+    """One Jinja2 environment per process and template folder."""
+    from cardgen.render.html import environment
+
+    key = (config.templates, config.units)
+    if key not in _ENVIRONMENTS:
+        _ENVIRONMENTS[key] = environment(config.templates, config.units)
+    return _ENVIRONMENTS[key]
+
+
+def _render_route_task(task):
+    """Worker: pages, plots and exports of one route; returns (manifest entry, card jobs)."""
+    config, rp, folder = task
+    return _render_route(_environment(config), config, _site_context(config), rp, Path(folder))
+
+
+def _render(config, routes, old, out, tmp, pool, pdf, say, progress, report, failures):
+    env = _environment(config)
+    site = _site_context(config)
     manifest = {"version": __version__, "routes": {}}
     jobs_list = []
     t_render = time.perf_counter()
+    fresh = []
     for rp in routes:
         previous = old.get("routes", {}).get(rp.slug, {})
         if rp.analysis is None:
@@ -275,30 +331,29 @@ def _render(config, routes, old, out, tmp, jobs, pdf, say, progress, report, fai
                 report.routes_reused += 1
                 report.cards_reused += len(previous.get("cards", []))
             continue  # a failed route (with --keep-going) is left out
-        folder = tmp / rp.slug
-        folder.mkdir()
-        entry, route_jobs = _render_route(env, config, site, rp, folder)
+        (tmp / rp.slug).mkdir()
+        fresh.append(rp)
+    for rp, (entry, route_jobs) in zip(fresh, _map(pool, _render_route_task,
+                                                   [(config, rp, str(tmp / rp.slug)) for rp in fresh]), strict=True):
         manifest["routes"][rp.slug] = entry
         jobs_list.extend(route_jobs if pdf else [])
     report.seconds["html"] = time.perf_counter() - t_render
 
     t_pdf = time.perf_counter()
     total = len(jobs_list)
-    if total:
-        if jobs > 1 and total > 1:
-            try:
-                with ProcessPoolExecutor(max_workers=min(jobs, total)) as pool:
-                    for done, target in enumerate(pool.map(_render_pdf, jobs_list), 1):
-                        if progress:
-                            progress(done, total, Path(target).relative_to(tmp).as_posix())
-            except BrokenProcessPool:
-                raise BuildError("a card-rendering process died (out of memory, or killed); "
-                                 "nothing was published; try again with --jobs 1") from None
-        else:
-            for done, job in enumerate(jobs_list, 1):
-                _render_pdf(job)
+    if pool is None:
+        for done, job in enumerate(jobs_list, 1):
+            _render_pdf(job)
+            if progress:
+                progress(done, total, Path(job[2]).relative_to(tmp).as_posix())
+    elif total:
+        try:
+            for done, target in enumerate(pool.map(_render_pdf, jobs_list), 1):
                 if progress:
-                    progress(done, total, Path(job[2]).relative_to(tmp).as_posix())
+                    progress(done, total, Path(target).relative_to(tmp).as_posix())
+        except BrokenProcessPool:
+            raise BuildError("a card-rendering process died (out of memory, or killed); "
+                             "nothing was published; try again with --jobs 1") from None
     report.cards_rendered = total
     report.seconds["pdf"] = time.perf_counter() - t_pdf
 

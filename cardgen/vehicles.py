@@ -13,7 +13,6 @@ from collections.abc import Mapping
 from dataclasses import dataclass, field
 from importlib import resources
 from pathlib import Path
-from types import MappingProxyType
 from typing import Any
 
 from cardgen.errors import VehicleError
@@ -139,7 +138,7 @@ class Vehicle:
         sources = table.get("sources", {})
         return cls(
             name=name, label=str(table.get("label", name)), wheels=int(wheels),
-            propulsion=str(propulsion), motor=motor, sources=MappingProxyType(dict(sources)), **values,
+            propulsion=str(propulsion), motor=motor, sources=dict(sources), **values,
         )
 
 

@@ -19,7 +19,6 @@ import tomllib
 from collections.abc import Mapping
 from dataclasses import dataclass, field
 from importlib import resources
-from types import MappingProxyType
 from typing import Any
 
 import numpy as np
@@ -123,7 +122,7 @@ def _motor_from_table(name: str, table: Mapping[str, Any], where: str) -> Motor:
         raise VehicleError(f"{where}: motor '{name}':\n  " + "\n  ".join(problems))
     return Motor(name=name, label=str(table.get("label", name)), rule=str(table.get("rule", "")),
                  levels=tuple(float(x) for x in levels), throttle=bool(table.get("throttle", False)),
-                 sources=MappingProxyType(dict(table.get("sources", {}))), **values)
+                 sources=dict(table.get("sources", {})), **values)
 
 
 def builtin_motors() -> dict[str, Motor]:
