@@ -296,25 +296,77 @@ def cmd_check(args) -> int:
     return 0
 
 
+def _watched_files(config) -> tuple:
+    """What a watched site is made of: the config, its routes, its own templates."""
+    from pathlib import Path
+
+    paths = [r.gpx for r in config.routes]
+    if config.source is not None:
+        paths.append(config.source)
+    if config.templates:
+        paths.extend(p for p in Path(config.templates).rglob("*") if p.is_file())
+    state = []
+    for path in sorted(paths):
+        try:
+            st = path.stat()
+            state.append((str(path), st.st_mtime_ns, st.st_size))
+        except OSError:
+            state.append((str(path), None, None))
+    return tuple(state)
+
+
+def _watch(args, out, stop) -> None:
+    """Rebuild the site whenever its files change, until ``stop`` is set. A failed
+    rebuild is reported and the last good site stays served (builds are atomic)."""
+    from cardgen.build import build_site
+
+    config, _ = _site_config(args.watch)
+    seen = _watched_files(config)
+    while not stop.wait(1.0):
+        try:
+            config, _ = _site_config(args.watch)
+            now = _watched_files(config)
+            if now == seen:
+                continue
+            seen = now
+            print("change seen: rebuilding", file=sys.stderr, flush=True)
+            build_site(config, out, jobs=1, pdf=not args.no_pdf)
+            print(f"rebuilt {out}", file=sys.stderr, flush=True)
+        except (CardgenError, OSError) as exc:
+            print(f"cardgen: error: {exc}; still serving the last good site", file=sys.stderr, flush=True)
+
+
 def cmd_serve(args) -> int:
     import functools
+    import threading
     from http.server import SimpleHTTPRequestHandler, ThreadingHTTPServer
     from pathlib import Path
 
-    folder = Path(args.folder).resolve()
-    _ensure(folder.is_dir(), f"{folder}: no such folder; build the site first (cardgen build)")
     _ensure(0 <= args.port <= 65535, f"--port {args.port} is outside 0…65535 (0: any free port)")
+    if args.watch is not None:
+        from cardgen.build import build_site
+
+        config, demo = _site_config(args.watch)
+        folder = Path(args.folder).resolve() if args.folder else config.output
+        build_site(config, folder, jobs=1, pdf=not args.no_pdf)
+    else:
+        folder = Path(args.folder or "site").resolve()
+    _ensure(folder.is_dir(), f"{folder}: no such folder; build the site first (cardgen build)")
     handler = functools.partial(SimpleHTTPRequestHandler, directory=str(folder))
     try:
         server = ThreadingHTTPServer(("127.0.0.1", args.port), handler)
     except OSError as exc:
         raise CardgenError(f"cannot listen on 127.0.0.1:{args.port} ({exc.strerror}); try --port") from None
+    stop = threading.Event()
+    if args.watch is not None:
+        threading.Thread(target=_watch, args=(args, folder, stop), daemon=True).start()
     print(f"serving {folder} at http://127.0.0.1:{server.server_address[1]}/ (Ctrl-C stops)", flush=True)
     try:
         server.serve_forever()
     except KeyboardInterrupt:
         pass
     finally:
+        stop.set()
         server.server_close()
     return 0
 
@@ -408,8 +460,11 @@ def build_parser() -> argparse.ArgumentParser:
 
     serve = sub.add_parser("serve", help="preview a built site on http://127.0.0.1",
                            description="Serve a built site on 127.0.0.1 for preview.")
-    serve.add_argument("folder", nargs="?", default="site", metavar="OUT")
-    serve.add_argument("--port", type=int, default=8000, metavar="N")
+    serve.add_argument("folder", nargs="?", metavar="OUT", help="the built site (default: site)")
+    serve.add_argument("--port", type=int, default=8000, metavar="N", help="port on 127.0.0.1 (0: any free)")
+    serve.add_argument("--watch", metavar="SITE.toml|FOLDER",
+                       help="build this site first, then rebuild it whenever its files change")
+    serve.add_argument("--no-pdf", action="store_true", help="with --watch: pages only, for quick previews")
     serve.set_defaults(run=cmd_serve)
 
     vehicles = sub.add_parser("vehicles", help="list the built-in vehicles",

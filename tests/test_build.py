@@ -6,6 +6,7 @@ import shutil
 import signal
 import subprocess
 import sys
+import time
 from pathlib import Path
 
 import pytest
@@ -232,6 +233,32 @@ def test_serve_stays_inside_the_site(tmp_path):
                     assert b"secret" not in response.read()
             except urllib.error.HTTPError as exc:
                 assert exc.code == 404
+    finally:
+        proc.terminate()
+        proc.wait(timeout=10)
+        proc.stdout.close()
+
+
+def test_serve_watch_rebuilds_on_change(tmp_path):
+    import urllib.request
+
+    src = _small_site(tmp_path, routes=("riverside-loop",))
+    out = tmp_path / "out"
+    exe = Path(sys.executable).with_name("cardgen")
+    proc = subprocess.Popen([str(exe), "serve", str(out), "--port", "0", "--watch", str(src / "site.toml"),
+                             "--no-pdf"], stdout=subprocess.PIPE, stderr=subprocess.DEVNULL, text=True)
+    try:
+        url = proc.stdout.readline().split("at ")[1].split(" ")[0]
+        with urllib.request.urlopen(url + "index.html", timeout=10) as response:
+            assert b"Small" in response.read()
+        (src / "site.toml").write_text((src / "site.toml").read_text().replace('"Small"', '"Renamed"'))
+        deadline = time.time() + 90
+        page = b""
+        while time.time() < deadline and b"Renamed" not in page:
+            time.sleep(0.5)
+            with urllib.request.urlopen(url + "index.html", timeout=10) as response:
+                page = response.read()
+        assert b"Renamed" in page
     finally:
         proc.terminate()
         proc.wait(timeout=10)
