@@ -394,8 +394,9 @@ def _render_route(env, config, site, rp, folder: Path):
     power_svg = power_alt = ""
     if analysis.climbs and rp.riders:
         hardest = max(analysis.climbs, key=lambda h: h.score)
-        power_svg, power_alt = plots.power_curves([(rc.rider.name, rc.rider, hardest) for rc, _, _ in rp.riders],
-                                                  units)
+        index = analysis.climbs.index(hardest)
+        power_svg, power_alt = plots.power_curves(
+            [(rc.rider.name, rc.rider, hardest, plan.climbs[index]) for rc, _, plan in rp.riders], units)
         (folder / "power.svg").write_text(power_svg, encoding="utf-8")
     taken: set[str] = set()
     views = [RiderView(rc.rider.name, slugify(rc.rider.name, taken), plan, f"{slugify(rc.rider.name)}.pdf", start)

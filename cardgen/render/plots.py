@@ -128,8 +128,9 @@ def elevation_profile(terrain, climbs, checkpoints=(), units: str = "metric", *,
 
 def power_curves(climb_row_by_rider, units: str = "metric", *, width_in: float = 6.6, height_in: float = 2.6):
     """Power needed against speed on one climb's average grade, one line per rider,
-    with each rider's climbing power marked. ``climb_row_by_rider`` is a list of
-    (label, rider, hill). Returns (svg, alt text)."""
+    each marked where that rider rides the climb (their planned average speed there,
+    assist included). ``climb_row_by_rider`` is a list of (label, rider, hill, climb
+    row of the rider's plan). Returns (svg, alt text)."""
     from cardgen.physics.steady import power_for_speed
 
     imperial = units == "imperial"
@@ -143,20 +144,20 @@ def power_curves(climb_row_by_rider, units: str = "metric", *, width_in: float =
     speeds = np.linspace(2.0, 30.0, 57) / 3.6
     alt = []
     hill = climb_row_by_rider[0][2]
-    for i, (label, rider, _) in enumerate(climb_row_by_rider):
+    for i, (label, rider, _, row) in enumerate(climb_row_by_rider):
         v = rider.vehicle
         watts = power_for_speed(speeds, mass=v.mass, crr=v.crr, cda=v.cda, efficiency=v.efficiency,
                                 grade=hill.avg_grade, air_density=1.2)
         shown = speeds * (fmt.MPH_PER_MS if imperial else 3.6)
         ax.plot(shown, watts, color=shades[i], linestyle=styles[i % len(styles)], linewidth=1.3, label=label,
                 marker=markers[i % len(markers)], markevery=(i * 2, 12), markersize=3.5)
-        from cardgen.physics.steady import speed_for_power
-
-        at = float(speed_for_power(rider.climb_power_used, mass=v.mass, crr=v.crr, cda=v.cda,
-                                   efficiency=v.efficiency, grade=hill.avg_grade, air_density=1.2))
-        ax.plot([at * (fmt.MPH_PER_MS if imperial else 3.6)], [rider.climb_power_used], color=shades[i],
+        at = row.speed_at_effort
+        need = float(power_for_speed(at, mass=v.mass, crr=v.crr, cda=v.cda, efficiency=v.efficiency,
+                                     grade=hill.avg_grade, air_density=1.2))
+        ax.plot([at * (fmt.MPH_PER_MS if imperial else 3.6)], [need], color=shades[i],
                 marker=markers[i % len(markers)], markersize=7, markeredgecolor=INK, linestyle="none")
-        alt.append(f"{label}: {fmt.power(rider.climb_power_used)} gives {fmt.speed(at, units)}")
+        assist = f" with assist {row.assist_name}" if row.assist_name and row.assist_level else ""
+        alt.append(f"{label} rides it at about {fmt.speed(at, units)}{assist}, which takes {fmt.power(need)} in all")
     ax.set_xlabel("speed (mph)" if imperial else "speed (km/h)", fontsize=8, color=INK)
     ax.set_ylabel("power needed (W)", fontsize=8, color=INK)
     ax.set_ylim(0, None)
@@ -166,5 +167,5 @@ def power_curves(climb_row_by_rider, units: str = "metric", *, width_in: float =
         ax.spines[spine].set_visible(False)
     ax.legend(fontsize=7, frameon=False)
     text = (f"Power needed against speed on a steady {fmt.grade(hill.avg_grade)} grade (the hardest climb's "
-            f"average), for each rider; markers show each rider's climbing power: " + "; ".join(alt) + ".")
+            f"average), for each rider; markers show where each rider rides it: " + "; ".join(alt) + ".")
     return _svg(fig), text
