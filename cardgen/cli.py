@@ -315,13 +315,12 @@ def _watched_files(config) -> tuple:
     return tuple(state)
 
 
-def _watch(args, out, stop) -> None:
-    """Rebuild the site whenever its files change, until ``stop`` is set. A failed
-    rebuild is reported and the last good site stays served (builds are atomic)."""
+def _watch(args, out, stop, seen) -> None:
+    """Rebuild the site whenever its files change from ``seen`` (taken before the first
+    build), until ``stop`` is set. A failed rebuild is reported and the last good site
+    stays served (builds are atomic)."""
     from cardgen.build import build_site
 
-    config, _ = _site_config(args.watch)
-    seen = _watched_files(config)
     while not stop.wait(1.0):
         try:
             config, _ = _site_config(args.watch)
@@ -347,6 +346,7 @@ def cmd_serve(args) -> int:
         from cardgen.build import build_site
 
         config, demo = _site_config(args.watch)
+        seen = _watched_files(config)  # before building: a change from now on is caught
         folder = Path(args.folder).resolve() if args.folder else config.output
         build_site(config, folder, jobs=1, pdf=not args.no_pdf)
     else:
@@ -359,7 +359,7 @@ def cmd_serve(args) -> int:
         raise CardgenError(f"cannot listen on 127.0.0.1:{args.port} ({exc.strerror}); try --port") from None
     stop = threading.Event()
     if args.watch is not None:
-        threading.Thread(target=_watch, args=(args, folder, stop), daemon=True).start()
+        threading.Thread(target=_watch, args=(args, folder, stop, seen), daemon=True).start()
     print(f"serving {folder} at http://127.0.0.1:{server.server_address[1]}/ (Ctrl-C stops)", flush=True)
     try:
         server.serve_forever()
