@@ -187,8 +187,10 @@ def rider_powers(terrain: Terrain, rider: Rider, climbs, wind, rho):
     for hill in climbs:
         power[hill.start:hill.end] = rider.climb_power_used
     flat_speed = speed_for_power(rider.flat_power, **_physics(rider, 0.0, 0.0, 1.2))
-    coast = speed_for_power(0.0, **_physics(rider, terrain.grade, wind, rho), rtol=1e-6)
-    power[coast >= flat_speed] = 0.0
+    # Coasting is at least as fast as the flat speed exactly where, at that speed,
+    # gravity (and wind) already cover every loss: no solve needed.
+    coasts = power_for_speed(flat_speed, **_physics(rider, terrain.grade, wind, rho, efficiency=1.0)) <= 0
+    power[coasts] = 0.0
     return power
 
 

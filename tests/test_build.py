@@ -263,3 +263,20 @@ def test_serve_watch_rebuilds_on_change(tmp_path):
         proc.terminate()
         proc.wait(timeout=10)
         proc.stdout.close()
+
+
+def test_template_digest_ignores_python_byte_code(tmp_path):
+    from cardgen.build import _templates_digest
+
+    src = _small_site(tmp_path, routes=("riverside-loop",))
+    theme = tmp_path / "theme"
+    theme.mkdir()
+    (theme / "style.css").write_text("body { color: #1a1a1a; }")
+    config = load_config(src / "site.toml")
+    config = type(config)(**{**config.__dict__, "templates": theme})
+    before = _templates_digest(config)
+    (theme / "__pycache__").mkdir()
+    (theme / "__pycache__" / "x.cpython-311.pyc").write_bytes(b"\0\1")
+    assert _templates_digest(config) == before
+    (theme / "style.css").write_text("body { color: #000000; }")
+    assert _templates_digest(config) != before
