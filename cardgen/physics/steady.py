@@ -156,6 +156,14 @@ def speed_for_power(
         air = v + w[idx]
         return k[idx] * air * np.abs(air) + const[idx] + b * v, 2.0 * k[idx] * np.abs(air) + b
 
+    def excess_over(elements):
+        """v·F(v) − P_wheel and its derivative, for the given elements of the problem."""
+        def excess(v, sel):
+            idx = elements[sel]
+            f, df = force(v, idx)
+            return v * f - pw[idx], f + v * df
+        return excess
+
     speed = np.zeros_like(p)
 
     # Upper end of the bracket, F(hi) > 0 and hi·F(hi) > P_wheel, doubled from a low
@@ -173,13 +181,9 @@ def speed_for_power(
     # Pedalling: the single root of v·F(v) − P_wheel on [0, hi].
     push = np.flatnonzero(ok & (pw > 0))
     if push.size:
-        def excess(v, sel):
-            idx = push[sel]
-            f, df = force(v, idx)
-            return v * f - pw[idx], f + v * df
         # The root lies in (hi/2, hi] once hi has been doubled: start in between.
         start = np.where(hi[push] > _FIRST_UPPER, 0.75 * hi[push], hi[push])
-        speed[push] = _solve_increasing(excess, np.zeros(push.size), hi[push], start, rtol)
+        speed[push] = _solve_increasing(excess_over(push), np.zeros(push.size), hi[push], start, rtol)
 
     # Coasting or braking with a downhill pull: first the coasting speed F(v0) = 0.
     f0, _ = force(np.zeros_like(p), slice(None))
@@ -204,12 +208,7 @@ def speed_for_power(
             f_min, _ = force(v_min, brake)
             reachable = v_min * f_min <= pw[brake]
 
-            def brake_excess(v, sel):
-                idx = brake[sel]
-                f, df = force(v, idx)
-                return v * f - pw[idx], f + v * df
-
-            v_brake = _solve_increasing(brake_excess, v_min, top, top, rtol)
+            v_brake = _solve_increasing(excess_over(brake), v_min, top, top, rtol)
             speed[brake] = np.where(reachable, v_brake, 0.0)
 
     speed[~ok] = np.nan
