@@ -153,13 +153,9 @@ def _route_plan(args):
     return make_plan(track, terrain, rider, conditions)
 
 
-def _clock(seconds: float) -> str:
-    minutes = int(round(seconds / 60))
-    return f"{minutes // 60}:{minutes % 60:02d}"
-
-
 def cmd_route(args) -> int:
     from cardgen.plan import route_json
+    from cardgen.render.format import duration
 
     plan = _route_plan(args)
     data = route_json(plan)
@@ -177,7 +173,7 @@ def cmd_route(args) -> int:
             print(f"{i:2}  {c['start_km']:5.1f}-{c['end_km']:<5.1f} {c['length_m']:6.0f} m {c['gain_m']:4.0f}m "
                   f"{c['avg_grade_pct']:4.1f}% {c['max_grade_pct']:4.1f}% {c['score']:5.2f} "
                   f"{c['band']:<10} {c['power_for_target_w']:6.0f} W {c['speed_at_effort_kmh']:5.1f} "
-                  f"{_clock(c['time_s']):>5}")
+                  f"{duration(c['time_s']):>5}")
             if c["assist_level"] is not None:
                 print(f"      assist: {c['assist_level']}")
             for w in c["warnings"]:
@@ -196,7 +192,7 @@ def cmd_route(args) -> int:
         print("No descents.")
     print()
     battery = "" if t["battery_wh"] is None else f", battery about {t['battery_wh']:.0f} Wh"
-    print(f"Moving time {_clock(t['time_s'])}, work {t['energy_kj']:.0f} kJ, "
+    print(f"Moving time {duration(t['time_s'])}, work {t['energy_kj']:.0f} kJ, "
           f"food about {t['food_kcal']:.0f} kcal{battery}")
     turns = sum(1 for c in plan.cues if c.cue.kind == "turn")
     print(f"{len(plan.cues)} cues ({turns} turns)")
