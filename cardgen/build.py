@@ -401,8 +401,10 @@ def _render_route(env, config, site, rp, folder: Path):
             [(rc.rider.name, rc.rider, hardest, plan.climbs[index]) for rc, _, plan in rp.riders], units)
         (folder / "power.svg").write_text(power_svg, encoding="utf-8")
     taken: set[str] = set()
-    views = [RiderView(rc.rider.name, slugify(rc.rider.name, taken), plan, f"{slugify(rc.rider.name)}.pdf", start)
-             for rc, start, plan in rp.riders]
+    views = []
+    for rc, start, plan in rp.riders:
+        slug = slugify(rc.rider.name, taken)  # unique within the route: it names the card file
+        views.append(RiderView(rc.rider.name, slug, plan, f"{slug}.pdf", start))
     plans = [v.plan for v in views]
     windows, margin_text = [], ""
     if plans and config.start is not None:

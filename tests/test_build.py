@@ -280,3 +280,15 @@ def test_template_digest_ignores_python_byte_code(tmp_path):
     assert _templates_digest(config) == before
     (theme / "style.css").write_text("body { color: #000000; }")
     assert _templates_digest(config) != before
+
+
+def test_riders_whose_names_slug_alike_get_their_own_cards(tmp_path):
+    src = _small_site(tmp_path, routes=("riverside-loop",))
+    text = (src / "site.toml").read_text().replace('name = "A"', 'name = "Ann B"').replace('name = "B"',
+                                                                                             'name = "Ann-B"')
+    (src / "site.toml").write_text(text)
+    out = tmp_path / "out"
+    report = build_site(load_config(src / "site.toml"), out, jobs=1)
+    cards = sorted(p.name for p in (out / "riverside-loop").glob("*.pdf"))
+    assert cards == ["ann-b-2.pdf", "ann-b.pdf", "coach.pdf"]
+    assert report.cards_rendered == 3
