@@ -174,14 +174,16 @@ def _pool(jobs: int, tasks: int):
     return contextlib.nullcontext(None)
 
 
-def _map(pool, function, items):
-    """``pool.map``, or plain ``map`` without a pool; a dead worker is a clear error."""
+def _map(pool, function, items, what: str = "a worker process"):
+    """``pool.map``, or plain ``map`` without a pool, yielding results in order; a dead
+    worker is a clear error."""
     if pool is None:
-        return map(function, items)
+        yield from map(function, items)
+        return
     try:
-        return list(pool.map(function, items))
+        yield from pool.map(function, items)
     except BrokenProcessPool:
-        raise BuildError("a worker process died (out of memory, or killed); nothing was published; "
+        raise BuildError(f"{what} died (out of memory, or killed); nothing was published; "
                          "try again with --jobs 1") from None
 
 
@@ -343,19 +345,9 @@ def _render(config, routes, old, out, tmp, pool, pdf, say, progress, report, fai
 
     t_pdf = time.perf_counter()
     total = len(jobs_list)
-    if pool is None:
-        for done, job in enumerate(jobs_list, 1):
-            _render_pdf(job)
-            if progress:
-                progress(done, total, Path(job[2]).relative_to(tmp).as_posix())
-    elif total:
-        try:
-            for done, target in enumerate(pool.map(_render_pdf, jobs_list), 1):
-                if progress:
-                    progress(done, total, Path(target).relative_to(tmp).as_posix())
-        except BrokenProcessPool:
-            raise BuildError("a card-rendering process died (out of memory, or killed); "
-                             "nothing was published; try again with --jobs 1") from None
+    for done, target in enumerate(_map(pool, _render_pdf, jobs_list, "a card-rendering process"), 1):
+        if progress:
+            progress(done, total, Path(target).relative_to(tmp).as_posix())
     report.cards_rendered = total
     report.seconds["pdf"] = time.perf_counter() - t_pdf
 
