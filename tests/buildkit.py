@@ -2,7 +2,10 @@
 
 from __future__ import annotations
 
+import contextlib
 import hashlib
+import subprocess
+import sys
 import time
 from pathlib import Path
 
@@ -25,3 +28,19 @@ def wait_until_rendering(out: Path, timeout: float = 60.0) -> None:
     while time.time() < deadline and not any(".cardgen-tmp-" in p.name for p in out.parent.iterdir()):
         time.sleep(0.01)
     time.sleep(0.2)
+
+
+@contextlib.contextmanager
+def serving(*args: str):
+    """Run ``cardgen serve ARGS --port 0``; yield its base URL; stop it afterwards."""
+    exe = Path(sys.executable).with_name("cardgen")
+    proc = subprocess.Popen([str(exe), "serve", *args, "--port", "0"], stdout=subprocess.PIPE,
+                            stderr=subprocess.DEVNULL, text=True)
+    try:
+        line = proc.stdout.readline()
+        assert "http://127.0.0.1:" in line, line
+        yield line.split("at ")[1].split(" ")[0]
+    finally:
+        proc.terminate()
+        proc.wait(timeout=10)
+        proc.stdout.close()

@@ -10,7 +10,7 @@ import time
 from pathlib import Path
 
 import pytest
-from buildkit import leftovers, snapshot, wait_until_rendering
+from buildkit import leftovers, serving, snapshot, wait_until_rendering
 
 from cardgen import build as build_module
 from cardgen.build import BuildError, Lock, build_site
@@ -219,12 +219,7 @@ def test_serve_stays_inside_the_site(tmp_path):
     site.mkdir()
     (site / "index.html").write_text("<!DOCTYPE html><title>x</title>")
     (tmp_path / "secret.txt").write_text("secret")
-    exe = Path(sys.executable).with_name("cardgen")
-    proc = subprocess.Popen([str(exe), "serve", str(site), "--port", "0"], stdout=subprocess.PIPE, text=True)
-    try:
-        line = proc.stdout.readline()
-        assert "http://127.0.0.1:" in line
-        url = line.split("at ")[1].split(" ")[0]
+    with serving(str(site)) as url:
         with urllib.request.urlopen(url + "index.html", timeout=10) as response:
             assert response.status == 200
         for bad in ("../secret.txt", "%2e%2e/secret.txt", "..%2fsecret.txt"):
@@ -233,10 +228,6 @@ def test_serve_stays_inside_the_site(tmp_path):
                     assert b"secret" not in response.read()
             except urllib.error.HTTPError as exc:
                 assert exc.code == 404
-    finally:
-        proc.terminate()
-        proc.wait(timeout=10)
-        proc.stdout.close()
 
 
 def test_serve_watch_rebuilds_on_change(tmp_path):
@@ -244,11 +235,7 @@ def test_serve_watch_rebuilds_on_change(tmp_path):
 
     src = _small_site(tmp_path, routes=("riverside-loop",))
     out = tmp_path / "out"
-    exe = Path(sys.executable).with_name("cardgen")
-    proc = subprocess.Popen([str(exe), "serve", str(out), "--port", "0", "--watch", str(src / "site.toml"),
-                             "--no-pdf"], stdout=subprocess.PIPE, stderr=subprocess.DEVNULL, text=True)
-    try:
-        url = proc.stdout.readline().split("at ")[1].split(" ")[0]
+    with serving(str(out), "--watch", str(src / "site.toml"), "--no-pdf") as url:
         with urllib.request.urlopen(url + "index.html", timeout=10) as response:
             assert b"Small" in response.read()
         (src / "site.toml").write_text((src / "site.toml").read_text().replace('"Small"', '"Renamed"'))
@@ -259,10 +246,6 @@ def test_serve_watch_rebuilds_on_change(tmp_path):
             with urllib.request.urlopen(url + "index.html", timeout=10) as response:
                 page = response.read()
         assert b"Renamed" in page
-    finally:
-        proc.terminate()
-        proc.wait(timeout=10)
-        proc.stdout.close()
 
 
 def test_template_digest_ignores_python_byte_code(tmp_path):
