@@ -24,29 +24,14 @@ def ms_to_kmh(speed):
     return np.asarray(speed, dtype=float) * KMH_PER_MS
 
 
-def ms_to_mph(speed):
-    """Convert m/s to statute miles per hour."""
-    return np.asarray(speed, dtype=float) * MPH_PER_MS
-
-
 def pct_to_grade(grade_pct):
     """Convert a grade in percent (rise/run × 100) to a fraction."""
     return np.asarray(grade_pct, dtype=float) / 100.0
 
 
-def grade_to_pct(grade):
-    """Convert a grade fraction to percent."""
-    return np.asarray(grade, dtype=float) * 100.0
-
-
 def celsius_to_kelvin(temperature_c):
     """Convert °C to K."""
     return np.asarray(temperature_c, dtype=float) + ZERO_CELSIUS_K
-
-
-def j_to_kcal(energy):
-    """Convert joules to kilocalories (thermochemical)."""
-    return np.asarray(energy, dtype=float) / J_PER_KCAL
 
 
 def hp_to_w(power_hp):
