@@ -44,7 +44,7 @@ def _resistance(args):
     explicit = [args.mass, args.crr, args.cda]
     if args.vehicle is not None:
         _ensure(all(v is None for v in explicit), "give either --vehicle or --mass/--crr/--cda, not both")
-        from cardgen.vehicles import find_vehicle
+        from cardgen.profiles.vehicles import find_vehicle
 
         v = find_vehicle(args.vehicle)
         eff = v.efficiency if args.efficiency is None else args.efficiency
@@ -127,11 +127,13 @@ def cmd_solve(args) -> int:
 
 def _route_plan(args):
     """Read, analyse and plan one route from the ``route`` command's options."""
-    from cardgen.plan import Conditions, make_plan
+    from cardgen.physics.atmosphere import Conditions
+    from cardgen.plan import make_plan
+    from cardgen.profiles.riders import Rider
+    from cardgen.profiles.vehicles import find_vehicle
     from cardgen.route.gpx import read_gpx
     from cardgen.route.terrain import build_terrain
     from cardgen.units import celsius_to_kelvin, kmh_to_ms
-    from cardgen.vehicles import Rider, find_vehicle
 
     for name in ("power", "target_speed", "wind", "wind_from", "temperature"):
         _finite(getattr(args, name), "--" + name.replace("_", "-"))
@@ -154,8 +156,9 @@ def _route_plan(args):
 
 
 def cmd_route(args) -> int:
-    from cardgen.plan import route_json
+    from cardgen.render.exports import route_json
     from cardgen.render.format import duration
+    from cardgen.render.notices import notice_text
 
     plan = _route_plan(args)
     data = route_json(plan)
@@ -197,7 +200,7 @@ def cmd_route(args) -> int:
     turns = sum(1 for c in plan.cues if c.cue.kind == "turn")
     print(f"{len(plan.cues)} cues ({turns} turns)")
     for w in plan.warnings:
-        print(f"note: {w.text}")
+        print(f"note: {notice_text(w)}")
     print("\nModel estimates, not guarantees. Ride descents to the conditions; local road rules apply.")
     return 0
 
@@ -210,9 +213,9 @@ def _site_config(target: str | None):
     from cardgen.config import folder_config, load_config
 
     if target is None:
-        from importlib import resources
+        from cardgen.paths import demo_site
 
-        return load_config(Path(str(resources.files("cardgen.sample_routes"))) / "site.toml"), True
+        return load_config(demo_site()), True
     path = Path(target)
     if path.is_dir():
         return (load_config(path / "site.toml") if (path / "site.toml").is_file() else folder_config(path)), False
@@ -368,8 +371,8 @@ def cmd_serve(args) -> int:
 
 
 def cmd_vehicles(args) -> int:
+    from cardgen.profiles.vehicles import builtin_vehicles
     from cardgen.units import ms_to_kmh
-    from cardgen.vehicles import builtin_vehicles
 
     library = builtin_vehicles()
     if args.json:
@@ -482,6 +485,7 @@ def main(argv: list[str] | None = None) -> int:
         print(f"cardgen: error: {where}{exc.strerror or exc}; nothing was published, the previous output is "
               "unchanged", file=sys.stderr)
         return 1
-    except KeyboardInterrupt:
-        print("cardgen: interrupted; nothing was published, the previous output is unchanged", file=sys.stderr)
+    except KeyboardInterrupt as exc:
+        message = getattr(exc, "message", "interrupted; nothing was published, the previous output is unchanged")
+        print(f"cardgen: {message}", file=sys.stderr)
         return 130

@@ -9,15 +9,17 @@ from __future__ import annotations
 
 import math
 import re
-import tomllib
 from dataclasses import dataclass, field
 from datetime import date, datetime, time, timedelta
 from pathlib import Path
 from typing import Any
 
 from cardgen.errors import CardgenError, ConfigError
-from cardgen.plan import Conditions
-from cardgen.vehicles import Rider, Vehicle, builtin_vehicles, find_vehicle
+from cardgen.physics.atmosphere import Conditions
+from cardgen.profiles.limits import LIMITS
+from cardgen.profiles.riders import Rider
+from cardgen.profiles.tables import read_toml
+from cardgen.profiles.vehicles import Vehicle, builtin_vehicles, find_vehicle
 
 CARD_SIZES = ("A5", "A4", "pocket")
 UNITS = ("metric", "imperial")
@@ -34,10 +36,14 @@ class Spec:
     kind: str  # "str", "bool", "number", "int", "choice", "list", "date", "time", "path", "vehicle"
     required: bool = False
     default: Any = None
-    low: float | None = None
-    high: float | None = None
+    limit: str = ""  # for numbers: the key of cardgen.profiles.limits.LIMITS with the range
     choices: tuple = ()
     help: str = ""
+
+    @property
+    def about(self) -> str:
+        """What the key is, for messages."""
+        return self.help or (LIMITS[self.limit].help if self.limit else "")
 
 
 SCHEMA = {
@@ -53,13 +59,13 @@ SCHEMA = {
     "event": {
         "date": Spec("date", help='like "2027-04-18"'),
         "start": Spec("time", help='like "08:30"'),
-        "start_interval_min": Spec("number", default=0.0, low=0, high=120),
-        "checkpoint_margin_min": Spec("number", default=15.0, low=0, high=240),
+        "start_interval_min": Spec("number", default=0.0, limit="start_interval_min"),
+        "checkpoint_margin_min": Spec("number", default=15.0, limit="checkpoint_margin_min"),
     },
     "conditions": {
-        "wind_kmh": Spec("number", default=0.0, low=0, high=150),
-        "wind_from_deg": Spec("number", default=0.0, low=0, high=360),
-        "temperature_c": Spec("number", low=-30, high=50),
+        "wind_kmh": Spec("number", default=0.0, limit="wind_kmh"),
+        "wind_from_deg": Spec("number", default=0.0, limit="wind_from_deg"),
+        "temperature_c": Spec("number", limit="temperature_c"),
     },
     "routes": {
         "gpx": Spec("path", required=True, help="a GPX file, relative to this file"),
@@ -70,13 +76,13 @@ SCHEMA = {
     "riders": {
         "name": Spec("str", required=True),
         "vehicle": Spec("vehicle", required=True, help="a built-in vehicle or a .toml profile"),
-        "cp_w": Spec("number", low=10, high=700, help="critical power"),
-        "w_prime_kj": Spec("number", low=0.5, high=60, help="work capacity above CP"),
-        "flat_w": Spec("number", low=1, high=2000, help="power on flats"),
-        "climb_w": Spec("number", low=1, high=2000, help="power on climbs"),
-        "climb_share": Spec("number", low=0, high=0.5, help="largest share above CP on climbs"),
-        "target_kmh": Spec("number", low=1, high=60, help="climbing speed for the watts column"),
-        "cruise_level": Spec("int", low=0, high=10, help="assist level away from climbs"),
+        "cp_w": Spec("number", limit="cp_w"),
+        "w_prime_kj": Spec("number", limit="w_prime_kj"),
+        "flat_w": Spec("number", limit="flat_w"),
+        "climb_w": Spec("number", limit="climb_w"),
+        "climb_share": Spec("number", limit="climb_share"),
+        "target_kmh": Spec("number", limit="target_kmh"),
+        "cruise_level": Spec("int", limit="cruise_level"),
         "routes": Spec("list", help="only these routes (GPX file names or route names)"),
     },
 }
@@ -119,6 +125,7 @@ class SiteConfig:
     routes: tuple[RouteConfig, ...]
     riders: tuple[RiderConfig, ...]
     warnings: tuple[str, ...] = field(default=())
+    inputs: tuple[Path, ...] = field(default=())  # every file and folder the configuration reads
 
 
 def _line_of(text: str, key: str, section: str, index: int | None) -> int | None:
@@ -149,6 +156,7 @@ class _Checker:
         self.text = text
         self.problems: list[str] = []
         self.warnings: list[str] = []
+        self.inputs: list[Path] = []
 
     def where(self, section: str, index: int | None, key: str) -> str:
         name = f"{section}[{index}].{key}" if index is not None else f"{section}.{key}"
@@ -159,20 +167,18 @@ class _Checker:
     def value(self, section: str, table: dict, index: int | None, key: str, spec: Spec, folder: Path):
         if key not in table:
             if spec.required:
-                self.problems.append(f"{self.where(section, index, key)} is missing ({spec.help or spec.kind})")
+                self.problems.append(f"{self.where(section, index, key)} is missing ({spec.about or spec.kind})")
             return spec.default
         raw = table[key]
         where = self.where(section, index, key)
         kind = spec.kind
         if kind in ("number", "int"):
-            if isinstance(raw, bool) or not isinstance(raw, int | float) or not math.isfinite(raw) \
-                    or (kind == "int" and not isinstance(raw, int)):
-                self.problems.append(f"{where} must be {'a whole number' if kind == 'int' else 'a number'}, "
-                                     f"not {raw!r}")
+            if kind == "int" and (isinstance(raw, bool) or not isinstance(raw, int)):
+                self.problems.append(f"{where} must be a whole number, not {raw!r}")
                 return spec.default
-            if not spec.low <= raw <= spec.high:
-                self.problems.append(f"{where} = {raw} is outside {spec.low:g}…{spec.high:g}"
-                                     + (f" ({spec.help})" if spec.help else ""))
+            problem = LIMITS[spec.limit].problem(raw)
+            if problem:
+                self.problems.append(f"{where} {problem}" + (f" ({spec.about})" if spec.about else ""))
                 return spec.default
             return raw
         if kind == "bool":
@@ -196,6 +202,8 @@ class _Checker:
             if kind == "vehicle":
                 candidate = folder / raw
                 name = str(candidate) if raw.lower().endswith(".toml") else raw
+                if raw.lower().endswith(".toml"):
+                    self.inputs.append(candidate)
                 try:
                     return find_vehicle(name)
                 except CardgenError as exc:
@@ -241,16 +249,7 @@ class _Checker:
 def load_config(path: Path) -> SiteConfig:
     """Read and check a site.toml; raises ConfigError listing every problem."""
     path = Path(path)
-    try:
-        text = path.read_text(encoding="utf-8")
-    except FileNotFoundError:
-        raise ConfigError(f"{path}: no such file; check the path") from None
-    except (OSError, UnicodeDecodeError) as exc:
-        raise ConfigError(f"{path}: cannot read the file ({exc})") from None
-    try:
-        data = tomllib.loads(text)
-    except tomllib.TOMLDecodeError as exc:
-        raise ConfigError(f"{path}: not valid TOML: {exc}; fix the syntax there") from None
+    data, text = read_toml(path, "site configuration", ConfigError)
     return _from_data(data, path, text, path.resolve().parent)
 
 
@@ -282,10 +281,6 @@ def _from_data(data: dict, path: Path | None, text: str, folder: Path) -> SiteCo
                                   ("cruise_level", "cruise_level", 1)):
             if r[key] is not None:
                 given[attr] = r[key] * factor if factor != 1 else r[key]
-        if "cp" in given and "w_prime" not in given:
-            given["w_prime"] = given["cp"] * 70.0
-        if "climb_power" not in given and "cp" in given:
-            given["climb_power"] = given["cp"]
         try:
             rider_objects.append(RiderConfig(Rider.for_vehicle(vehicle, name=r["name"], **given),
                                              tuple(str(x) for x in (r["routes"] or ()))))
@@ -319,6 +314,8 @@ def _from_data(data: dict, path: Path | None, text: str, folder: Path) -> SiteCo
         templates=templates, start=start, start_interval=event["start_interval_min"] * 60.0,
         checkpoint_margin=event["checkpoint_margin_min"] * 60.0, conditions=conditions, routes=route_objects,
         riders=tuple(rider_objects), warnings=tuple(check.warnings),
+        inputs=tuple(dict.fromkeys([*( [path] if path else []), folder, *(r.gpx for r in route_objects),
+                                    *check.inputs, *([templates] if templates else [])])),
     )
 
 
@@ -334,7 +331,7 @@ def folder_config(folder: Path) -> SiteConfig:
         source=None, folder=folder, title=f"Routes in {folder.name}", units="metric", card_size="A5",
         large_print=False, output=(folder / "site").resolve(), base_url="", templates=None, start=None,
         start_interval=0.0, checkpoint_margin=15 * 60.0, conditions=Conditions(),
-        routes=tuple(RouteConfig(p) for p in gpx), riders=riders,
+        routes=tuple(RouteConfig(p) for p in gpx), riders=riders, inputs=(folder, *gpx),
         warnings=(f"{folder}: no site.toml; building {len(gpx)} route(s) with the default riders: "
                   + ", ".join(f"{n} ({v})" for n, v in DEFAULT_RIDERS),),
     )

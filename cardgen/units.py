@@ -12,6 +12,8 @@ MPH_PER_MS = 3600.0 / 1609.344
 J_PER_KCAL = 4184.0  # thermochemical calorie, ISO 80000-5
 W_PER_HP = 745.69987158227022  # mechanical horsepower, 550 ft·lbf/s
 ZERO_CELSIUS_K = 273.15
+#: Standard gravity [m/s²], exact by definition (CGPM 1901): also converts g to m/s².
+G0 = 9.80665
 
 
 def kmh_to_ms(speed_kmh):

@@ -39,13 +39,11 @@ def run_cli():
 @pytest.fixture(scope="session")
 def demo_site(tmp_path_factory):
     """The bundled demo event, built once in-process (warnings are errors here)."""
-    from importlib import resources
-    from pathlib import Path
-
     from cardgen.build import build_site
     from cardgen.config import load_config
+    from cardgen.paths import demo_site
 
-    config = load_config(Path(str(resources.files("cardgen.sample_routes"))) / "site.toml")
+    config = load_config(demo_site())
     out = tmp_path_factory.mktemp("demo") / "site"
     report = build_site(config, out, jobs=2)
     return config, out, report

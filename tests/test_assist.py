@@ -5,13 +5,17 @@ import pytest
 from gpxmaker import profile_gpx
 
 from cardgen.errors import VehicleError
-from cardgen.physics.assist import builtin_motors, find_motor, motor_power, taper_factor
+from cardgen.physics.assist import motor_power, suggest_levels, taper_factor
+from cardgen.physics.atmosphere import Conditions
 from cardgen.physics.steady import speed_for_power
-from cardgen.plan import Conditions, _segment_air, make_plan, suggest_levels
+from cardgen.plan import make_plan
+from cardgen.plan.rider import BATTERY_RESERVE, segment_air
+from cardgen.profiles.motors import builtin_motors, find_motor
+from cardgen.profiles.riders import Rider
+from cardgen.profiles.vehicles import builtin_vehicles
 from cardgen.route.climbs import find_climbs
 from cardgen.route.gpx import read_gpx
 from cardgen.route.terrain import build_terrain
-from cardgen.vehicles import Rider, builtin_vehicles
 
 MPH = 1609.344 / 3600
 
@@ -61,9 +65,12 @@ def test_suggested_level_is_the_lowest_that_works_brute_force(tmp_path):
     vehicle = builtin_vehicles()["e-assist-cargo"]
     motor = find_motor(vehicle.motor)
     rider = Rider.for_vehicle(vehicle)
-    wind, rho = _segment_air(terrain, Conditions())
+    wind, rho = segment_air(terrain, Conditions())
     (hill,) = find_climbs(terrain)
-    ((level, _),) = suggest_levels(rider, motor, [hill], terrain, wind, rho)
+    ((level, _),) = suggest_levels(motor, [(hill.start, hill.end)], climb_power=rider.climb_power_used,
+                                   target_speed=rider.target_speed, min_speed=vehicle.min_stable_speed,
+                                   resistance=vehicle.resistance, grade=terrain.grade, headwind=wind,
+                                   air_density=rho)
     g = terrain.grade[hill.start:hill.end]
     ok = []
     for lv in range(len(motor.levels) + 1):
@@ -78,15 +85,20 @@ def test_suggested_level_is_the_lowest_that_works_brute_force(tmp_path):
     assert level > 0  # 14 % with 160 kg needs help
 
 
-def test_battery_use_and_warning(tmp_path):
-    d = np.arange(0, 20001, 10.0)
+@pytest.mark.parametrize("km", [20, 160])
+def test_battery_use_is_bounded_and_warned_exactly_when_it_does_not_fit(tmp_path, km):
+    """The motor gives at most ratio × the rider's power (pedal assist; EN 15194), so the
+    battery can hold no more than ratio × the rider's work / drive efficiency; and the
+    warning appears exactly when the use passes the usable capacity less the reserve."""
+    d = np.arange(0, km * 1000 + 1, 10.0)
     e = 50 + 40 * np.sin(d / 1500)
     track = read_gpx(profile_gpx(tmp_path / "b.gpx", d, e))
     terrain = build_terrain(track)
     vehicle = builtin_vehicles()["e-assist-city"]
     plan = make_plan(track, terrain, Rider.for_vehicle(vehicle, cruise_level=2))
-    assert plan.totals.battery > 0
-    used = np.sum(plan.ride.motor_power * plan.ride.time) / plan.motor.drive_efficiency
-    assert plan.totals.battery == pytest.approx(used)
-    assert plan.totals.battery_fits
-    assert (plan.ride.motor_power[plan.ride.mean_speed >= plan.motor.cutoff_speed] == 0).all()
+    motor = plan.motor
+    ratio = max([motor.levels[1], *(motor.levels[c.assist_level - 1] for c in plan.climbs if c.assist_level)])
+    assert 0 < plan.totals.battery <= ratio * plan.totals.energy / motor.drive_efficiency
+    over = plan.totals.battery > motor.usable_battery * (1 - BATTERY_RESERVE)
+    assert ("battery" in {w.code for w in plan.warnings}) == over
+    assert plan.totals.battery_fits == (not over)

@@ -12,8 +12,9 @@ from pathlib import Path
 import pytest
 from buildkit import leftovers, serving, snapshot, wait_until_rendering
 
-from cardgen import build as build_module
-from cardgen.build import BuildError, Lock, build_site
+from cardgen.build import BuildError, build_site
+from cardgen.build import pipeline as build_module
+from cardgen.build.publish import Lock
 from cardgen.config import folder_config, load_config
 from cardgen.errors import ConfigError
 
@@ -249,7 +250,7 @@ def test_serve_watch_rebuilds_on_change(tmp_path):
 
 
 def test_template_digest_ignores_python_byte_code(tmp_path):
-    from cardgen.build import _templates_digest
+    from cardgen.build.cache import templates_digest
 
     src = _small_site(tmp_path, routes=("riverside-loop",))
     theme = tmp_path / "theme"
@@ -257,12 +258,12 @@ def test_template_digest_ignores_python_byte_code(tmp_path):
     (theme / "style.css").write_text("body { color: #1a1a1a; }")
     config = load_config(src / "site.toml")
     config = type(config)(**{**config.__dict__, "templates": theme})
-    before = _templates_digest(config)
+    before = templates_digest([config.templates])
     (theme / "__pycache__").mkdir()
     (theme / "__pycache__" / "x.cpython-311.pyc").write_bytes(b"\0\1")
-    assert _templates_digest(config) == before
+    assert templates_digest([config.templates]) == before
     (theme / "style.css").write_text("body { color: #000000; }")
-    assert _templates_digest(config) != before
+    assert templates_digest([config.templates]) != before
 
 
 def test_riders_whose_names_slug_alike_get_their_own_cards(tmp_path):

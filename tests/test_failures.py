@@ -14,7 +14,7 @@ from pathlib import Path
 import pytest
 from buildkit import leftovers, snapshot, wait_until_rendering
 
-from cardgen import build as build_module
+from cardgen.build import pipeline as build_module
 from cardgen.cli import main
 
 SAMPLES = Path(__file__).resolve().parents[1] / "sample_routes"

@@ -15,9 +15,10 @@ from cardgen.errors import CardgenError, ConfigError, GpxError
 from cardgen.physics.atmosphere import air_density_isa
 from cardgen.physics.steady import power_for_speed, speed_for_power
 from cardgen.plan import analyse, make_plan
+from cardgen.profiles.riders import Rider
+from cardgen.profiles.vehicles import builtin_vehicles
 from cardgen.route.gpx import read_gpx
 from cardgen.route.terrain import build_terrain
-from cardgen.vehicles import Rider, builtin_vehicles
 
 VEHICLES = builtin_vehicles()
 SLOW = settings(max_examples=120, suppress_health_check=[HealthCheck.too_slow, HealthCheck.function_scoped_fixture])
@@ -112,7 +113,7 @@ def tracks(draw):
 def test_fuzz_terrain_and_plans(tmp_path_factory, route, vehicle, wind, wind_from, temperature):
     from gpxmaker import write_gpx
 
-    from cardgen.plan import Conditions
+    from cardgen.physics.atmosphere import Conditions
 
     lat, lon, ele = route
     path = write_gpx(tmp_path_factory.mktemp("fuzz") / "r.gpx", lat, lon, ele)
@@ -131,7 +132,7 @@ def test_fuzz_terrain_and_plans(tmp_path_factory, route, vehicle, wind, wind_fro
     for value in (plan.totals.time, plan.totals.energy, plan.totals.food_energy):
         assert math.isfinite(value) and value >= 0
     for c in plan.climbs:
-        assert all(math.isfinite(x) for x in (c.power_for_target, c.speed_at_effort, c.time, c.hill.score))
+        assert all(math.isfinite(x) for x in (c.power_for_target, c.speed_at_effort, c.time, c.climb.score))
         assert c.time > 0
     for d in plan.descents:
         assert math.isfinite(d.coast_speed) and d.coast_speed >= 0

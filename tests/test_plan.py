@@ -9,10 +9,13 @@ from gpxmaker import profile_gpx
 
 from cardgen.physics.forces import gravity_power
 from cardgen.physics.steady import power_for_speed, speed_for_power
-from cardgen.plan import checkpoint_windows, checkpoints_from_waypoints, make_plan, route_json
+from cardgen.plan import checkpoint_windows, make_plan
+from cardgen.profiles.riders import Rider
+from cardgen.profiles.vehicles import builtin_vehicles
+from cardgen.render.exports import route_json
+from cardgen.route.checkpoints import checkpoints_from_waypoints
 from cardgen.route.gpx import read_gpx
 from cardgen.route.terrain import build_terrain
-from cardgen.vehicles import Rider, builtin_vehicles
 
 SAMPLES = Path(__file__).resolve().parents[1] / "sample_routes"
 KMH = 1 / 3.6

@@ -53,11 +53,11 @@ def test_every_number_on_the_cards_is_the_plans(demo_site):
                 row = next(line for line in lines if re.match(rf"\s*{c.number}\s+\d", line))
                 minutes = int(_half_up(c.time / 60, 1))
                 expected = [
-                    f"{_half_up(c.hill.start_distance / 1000, 0.1):.1f} km",
+                    f"{_half_up(c.climb.start_distance / 1000, 0.1):.1f} km",
                     f"{_half_up(c.power_for_target, 5):.0f} W",
                     f"{_half_up(c.speed_at_effort * 3.6, 0.5):.1f} km/h",
                     f"{minutes // 60}:{minutes % 60:02d}",
-                    f"{_half_up(c.hill.avg_grade * 100, 0.5):.1f} %",
+                    f"{_half_up(c.climb.avg_grade * 100, 0.5):.1f} %",
                 ]
                 for item in expected:
                     assert item in row, (route.gpx.name, rc.rider.name, item, row)
@@ -159,7 +159,7 @@ def _contrast(a: str, b: str) -> float:
 
 
 def test_contrast_of_the_theme_colours_wcag_aa():
-    from cardgen.render.html import default_templates
+    from cardgen.paths import default_templates
 
     css = (default_templates() / "style.css").read_text()
     colours = dict(re.findall(r"--([a-z-]+):\s*(#[0-9a-f]{6})", css))

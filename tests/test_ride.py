@@ -5,14 +5,9 @@ import math
 import numpy as np
 import pytest
 
-from cardgen.physics.forces import G0
-from cardgen.physics.ride import (
-    clamp_affine_scan,
-    simulate,
-    skiba_time_constant,
-    speed_limit_profile,
-    w_prime_balance_skiba,
-)
+from cardgen.physics.effort import skiba_time_constant, w_prime_balance_skiba
+from cardgen.physics.forces import G0, Resistance
+from cardgen.physics.ride import clamp_affine_scan, simulate, speed_limit_profile
 from cardgen.physics.steady import speed_for_power
 
 ROAD = dict(mass=85.0, crr=0.005, cda=0.4, efficiency=0.976, wheel_inertia_mass=1.45)
@@ -23,10 +18,12 @@ def _ride(grade, power, cap=None, step=10.0, **kw):
     n = grade.size
     d = np.arange(n + 1) * step
     params = {**ROAD, **kw}
-    return simulate(step=step, grade=grade, headwind=params.pop("headwind", 0.0),
-                    air_density=params.pop("air_density", 1.2), rider_power=np.broadcast_to(power, (n,)),
+    headwind, rho = params.pop("headwind", 0.0), params.pop("air_density", 1.2)
+    extra = {k: params.pop(k) for k in ("start_speed", "passes", "motor") if k in params}
+    return simulate(step=step, grade=grade, headwind=headwind, air_density=rho, resistance=Resistance(**params),
+                    rider_power=np.broadcast_to(power, (n,)),
                     speed_cap=np.full(n + 1, np.inf) if cap is None else cap, distance=d,
-                    deceleration=2.45, **params)
+                    deceleration=2.45, **extra)
 
 
 @pytest.mark.parametrize("n", [1, 2, 3, 17, 777, 1024])

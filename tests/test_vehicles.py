@@ -4,7 +4,7 @@ import pytest
 
 from cardgen.errors import VehicleError
 from cardgen.physics.forces import G0
-from cardgen.vehicles import builtin_vehicles, find_vehicle, load_vehicles
+from cardgen.profiles.vehicles import builtin_vehicles, find_vehicle, load_vehicles
 
 REQUIRED = {
     "city-upright", "mountain-bike", "road-hoods", "road-drops", "cargo-empty", "cargo-loaded",
@@ -89,7 +89,7 @@ def test_unknown_name_lists_the_choices():
 
 
 def test_rider_defaults_follow_the_vehicle():
-    from cardgen.vehicles import Rider
+    from cardgen.profiles.riders import Rider
 
     hand = Rider.for_vehicle(builtin_vehicles()["handcycle"])
     # Janssen, Dallmeijer & van der Woude (2001): race POmax 55 ± 25 W (arm impairment)
@@ -108,14 +108,14 @@ def test_rider_defaults_follow_the_vehicle():
     ({"cruise_level": 9}, "cruise assist level"),
 ])
 def test_impossible_riders_are_refused(given, fragment):
-    from cardgen.vehicles import Rider
+    from cardgen.profiles.riders import Rider
 
     with pytest.raises(VehicleError, match=fragment):
         Rider.for_vehicle(builtin_vehicles()["e-assist-city"], **given)
 
 
 def test_climb_power_is_capped_above_cp():
-    from cardgen.vehicles import Rider
+    from cardgen.profiles.riders import Rider
 
     rider = Rider.for_vehicle(builtin_vehicles()["road-hoods"], cp=200.0, climb_power=400.0, climb_share=0.1)
     assert rider.climb_power_used == pytest.approx(220.0)

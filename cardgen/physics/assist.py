@@ -14,16 +14,13 @@ California Vehicle Code § 312.5 (classes 1, 2 and 3).
 
 from __future__ import annotations
 
-import math
-import tomllib
 from collections.abc import Mapping
 from dataclasses import dataclass, field
-from importlib import resources
-from typing import Any
 
 import numpy as np
 
-from cardgen.errors import VehicleError
+from cardgen.physics.forces import Resistance
+from cardgen.physics.steady import power_for_speed, speed_for_power
 
 
 @dataclass(frozen=True)
@@ -91,49 +88,72 @@ def battery_energy(motor: Motor, power, time) -> float:
     return float(np.sum(np.asarray(power) * np.asarray(time)) / motor.drive_efficiency)
 
 
-_NUMBERS = {
-    "rated_power_w": ("rated_power", 1.0, 1.0, 5000.0),
-    "peak_power_w": ("peak_power", 1.0, 1.0, 5000.0),
-    "cutoff_kmh": ("cutoff_speed", 1 / 3.6, 1.0, 80.0),
-    "taper_kmh": ("taper", 1 / 3.6, 0.0, 20.0),
-    "drive_efficiency": ("drive_efficiency", 1.0, 0.3, 1.0),
-    "battery_wh": ("battery", 3600.0, 1.0, 10000.0),
-    "usable_share": ("usable_share", 1.0, 0.1, 1.0),
-}
+def assisted_speed(motor: Motor, ratio, rider_power, *, resistance: Resistance, grade, headwind, air_density):
+    """Steady speed [m/s] with the rider's power and assist at ``ratio``.
+
+    The motor's share falls with speed near the cut-off, so the speed is solved, then
+    the taper at that speed applied and solved again (two fixed-point rounds).
+    """
+    rider_power = np.asarray(rider_power, dtype=float)
+    wheel = np.where(rider_power > 0, rider_power * resistance.efficiency, rider_power)
+    boost = np.minimum(ratio * np.maximum(rider_power, 0.0), motor.peak_power)
+    phys = dict(**{**resistance.steady(), "efficiency": 1.0}, grade=grade, headwind=headwind,
+                air_density=air_density, rtol=1e-6)
+    speed = speed_for_power(wheel + boost, **phys)
+    for _ in range(2):
+        slower = taper_factor(speed, motor.cutoff_speed, motor.taper) < 1
+        if not np.any(slower):  # all below the taper: the first answer stands
+            break
+        speed = speed_for_power(wheel + boost * taper_factor(speed, motor.cutoff_speed, motor.taper), **phys)
+    return speed
 
 
-def _motor_from_table(name: str, table: Mapping[str, Any], where: str) -> Motor:
-    problems = []
-    values = {}
-    for key, (attr, factor, low, high) in _NUMBERS.items():
-        raw = table.get(key)
-        if isinstance(raw, bool) or not isinstance(raw, (int, float)) or not math.isfinite(raw):
-            problems.append(f"'{key}' must be a number")
-        elif not low <= raw <= high:
-            problems.append(f"'{key}' = {raw} is outside {low}…{high}")
-        else:
-            values[attr] = float(raw) * factor
-    levels = table.get("levels")
-    if (not isinstance(levels, list) or not levels
-            or not all(isinstance(x, (int, float)) and 0 < x <= 10 for x in levels)
-            or list(levels) != sorted(levels)):
-        problems.append("'levels' must be a rising list of assist ratios, e.g. [0.5, 1.0, 2.0]")
-    if problems:
-        raise VehicleError(f"{where}: motor '{name}':\n  " + "\n  ".join(problems))
-    return Motor(name=name, label=str(table.get("label", name)), rule=str(table.get("rule", "")),
-                 levels=tuple(float(x) for x in levels), throttle=bool(table.get("throttle", False)),
-                 sources=dict(table.get("sources", {})), **values)
+def rider_power_for_speed(motor: Motor | None, ratio, speed, *, resistance: Resistance, grade, headwind,
+                          air_density):
+    """Rider's pedal power [W] to hold ``speed`` with assist at ``ratio`` (0 = none).
+
+    Notes
+    -----
+    At the wheel P_need = P_rider·E + min(ratio·P_rider, P_peak)·taper(v); solved for
+    P_rider on the branch below the peak, else with the motor at its peak.
+    """
+    need = power_for_speed(speed, **{**resistance.steady(), "efficiency": 1.0}, grade=grade,
+                           headwind=headwind, air_density=air_density)  # at the wheel
+    eff = resistance.efficiency
+    if motor is None:
+        return np.where(need > 0, need / eff, 0.0)
+    f = taper_factor(speed, motor.cutoff_speed, motor.taper)
+    p = need / (eff + ratio * f)
+    over_peak = ratio * p > motor.peak_power
+    p = np.where(over_peak, (need - motor.peak_power * f) / eff, p)
+    return np.maximum(p, 0.0)
 
 
-def builtin_motors() -> dict[str, Motor]:
-    """The built-in envelopes, by name."""
-    text = (resources.files("cardgen") / "data" / "motors.toml").read_text(encoding="utf-8")
-    return {name: _motor_from_table(name, t, "built-in motors") for name, t in tomllib.loads(text).items()}
+def suggest_levels(motor: Motor, climbs, *, climb_power: float, target_speed: float, min_speed: float,
+                   resistance: Resistance, grade, headwind, air_density):
+    """For each climb, the lowest assist level (0 = off) at which the rider, at no more
+    than ``climb_power``, stays at or above ``min_speed`` on every segment. The rider
+    eases off once ``target_speed`` is reached.
 
-
-def find_motor(name: str) -> Motor:
-    """A built-in envelope by name."""
-    motors = builtin_motors()
-    if name not in motors:
-        raise VehicleError(f"unknown motor '{name}'; use one of: {', '.join(motors)}")
-    return motors[name]
+    ``climbs`` are (start, end) segment ranges; ``grade``, ``headwind`` and
+    ``air_density`` arrays over the whole route. Returns a list, one (level, slowest
+    speed [m/s] at each level 0…N) per climb; where no level is enough, the highest
+    level. All climbs and levels are solved at once.
+    """
+    if not climbs:
+        return []
+    segments = [np.arange(start, end) for start, end in climbs]
+    idx = np.concatenate(segments)
+    starts = np.cumsum([0] + [len(x) for x in segments[:-1]])
+    phys = dict(resistance=resistance, grade=grade[idx], headwind=headwind[idx], air_density=air_density[idx])
+    ratios = np.array([0.0, *motor.levels])[:, None]  # (levels, 1) against (segments,)
+    wanted = rider_power_for_speed(motor, ratios, target_speed, **phys)
+    power = np.minimum(wanted, climb_power)
+    speed = np.minimum(assisted_speed(motor, ratios, power, **phys), target_speed)
+    slowest = np.minimum.reduceat(speed, starts, axis=1)  # (levels, climbs)
+    enough = slowest >= min_speed
+    out = []
+    for k in range(len(climbs)):
+        level = int(np.argmax(enough[:, k])) if enough[:, k].any() else len(motor.levels)
+        out.append((level, slowest[:, k].tolist()))
+    return out

@@ -11,6 +11,8 @@ doi:10.1175/1520-0450(1981)020<1527:NEFCVP>2.0.CO;2
 
 from __future__ import annotations
 
+from dataclasses import dataclass
+
 import numpy as np
 
 #: Specific gas constant of dry air [J/(kg·K)], ISO 2533.
@@ -160,3 +162,13 @@ def air_density_isa(altitude, temperature=None, relative_humidity=0.0):
     """
     t = isa_temperature(altitude) if temperature is None else temperature
     return air_density(t, isa_pressure(altitude), relative_humidity)
+
+
+@dataclass(frozen=True)
+class Conditions:
+    """Weather: ``wind_speed`` [m/s], ``wind_from`` [rad] clockwise from north (where
+    the wind comes from), ``temperature`` [K] or None for the ISA temperature."""
+
+    wind_speed: float = 0.0
+    wind_from: float = 0.0
+    temperature: float | None = None

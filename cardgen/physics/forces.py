@@ -19,8 +19,8 @@ from dataclasses import dataclass
 
 import numpy as np
 
-#: Standard gravity [m/s²], exact by definition (CGPM 1901).
-G0 = 9.80665
+from cardgen.units import G0
+
 #: Wheel-bearing friction, P = v·(91 + 8.7·v)·1e-3 [W] (Dahn et al. 1991 via Martin 1998).
 BEARING_A = 0.091  # [N]
 BEARING_B = 0.0087  # [N·s/m]
@@ -292,3 +292,62 @@ def headwind(heading, wind_speed, wind_from):
     Martin et al. (1998), J. Appl. Biomech. 14:276–291.
     """
     return (np.asarray(wind_speed, dtype=float) * np.cos(np.asarray(wind_from) - np.asarray(heading)))[()]
+
+
+@dataclass(frozen=True)
+class Resistance:
+    """What a vehicle with its rider(s) resists motion with, in SI units.
+
+    ``mass`` [kg] total moving mass, ``crr`` [-], ``cda`` [m²], ``efficiency`` [-]
+    drivetrain, ``wheel_inertia_mass`` [kg] I/r² of the wheels, ``bearings``: include
+    the wheel-bearing term of Dahn et al. (1991).
+    """
+
+    mass: float
+    crr: float
+    cda: float
+    efficiency: float = 1.0
+    wheel_inertia_mass: float = 0.0
+    bearings: bool = True
+
+    def steady(self) -> dict:
+        """Keyword arguments of :func:`cardgen.physics.steady.power_for_speed`."""
+        return dict(mass=self.mass, crr=self.crr, cda=self.cda, efficiency=self.efficiency,
+                    bearings=self.bearings)
+
+
+@dataclass(frozen=True)
+class ForceLaw:
+    """The one resisting force along the direction of travel, F(v), and dF/dv.
+
+    F(v) = ½ρCdA(v + w)|v + w| + m·g·(Crr·cos θ + sin θ) + a + b·v, with w the
+    headwind, θ = arctan(grade), and a + b·v the wheel-bearing friction of Dahn et
+    al. (1991). Arrays ``k`` = ½ρCdA, ``const`` and ``wind`` are per element; ``b``
+    is shared. Used by the steady solver and the ride simulation alike.
+
+    References
+    ----------
+    Martin et al. (1998), J. Appl. Biomech. 14:276–291.
+    """
+
+    k: np.ndarray
+    const: np.ndarray
+    wind: np.ndarray
+    b: float
+
+    @classmethod
+    def build(cls, *, mass, crr, cda, grade, headwind, air_density, bearings: bool = True) -> ForceLaw:
+        """Precompute the law for every element (arguments broadcast together)."""
+        g, m, c_rr, c_da, w, rho = np.broadcast_arrays(*(np.asarray(x, dtype=float) for x in (
+            grade, mass, crr, cda, headwind, air_density)))
+        cos_a, sin_a = _slope(g)
+        const = m * G0 * (c_rr * cos_a + sin_a) + (BEARING_A if bearings else 0.0)
+        return cls(0.5 * rho * c_da, const, w, BEARING_B if bearings else 0.0)
+
+    def __call__(self, speed, idx=None):
+        """(F [N], dF/dv [N·s/m]) at ``speed`` for the elements ``idx`` (all when None)."""
+        if idx is None:
+            idx = slice(None)
+        air = speed + self.wind[idx]
+        return (self.k[idx] * air * np.abs(air) + self.const[idx] + self.b * speed,
+                2.0 * self.k[idx] * np.abs(air) + self.b)

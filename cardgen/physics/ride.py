@@ -1,5 +1,4 @@
-"""Riding a route: speed along a profile with inertia, speed limits and braking, and
-the rider's anaerobic work balance.
+"""Riding a route: speed along a profile with inertia, speed limits and braking.
 
 Everything is vectorised. The kinetic-energy balance along each segment is
 linearised around a reference speed, which turns one step of the ride into a
@@ -15,9 +14,6 @@ power. J. Appl. Biomech. 14:276–291 (the power balance and its kinetic term).
 Hochbruck, M. & Ostermann, A. (2010). Exponential integrators. *Acta Numerica*
 19:209–286 (the exponential Euler step).
 Blelloch, G. E. (1990). Prefix sums and their applications. CMU-CS-90-190 (the scan).
-Skiba, P. F., Chidnok, W., Vanhatalo, A. & Jones, A. M. (2012). Modeling the
-expenditure and reconstitution of work capacity above critical power. *Med. Sci.
-Sports Exerc.* 44(8):1526–1532. doi:10.1249/MSS.0b013e3182517a80
 """
 
 from __future__ import annotations
@@ -27,11 +23,18 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from cardgen.physics.forces import BEARING_A, BEARING_B, G0
+from cardgen.physics.forces import (
+    ForceLaw,
+    Resistance,
+    aero_power,
+    bearing_power,
+    gravity_power,
+    rolling_power,
+)
 from cardgen.physics.steady import speed_for_power
 
 #: Stand-in for ±infinity in clamp bounds: keeps 0 × bound finite in the scan.
-_BIG = 1e300
+UNBOUNDED = 1e300
 
 
 def clamp_affine_scan(a, b, lo, hi, x0: float):
@@ -65,10 +68,10 @@ def clamp_affine_scan(a, b, lo, hi, x0: float):
     pad = blocks * size - n
 
     def shaped(values, fill):  # (size, blocks): step j of every block is one contiguous row
-        values = np.clip(np.asarray(values, dtype=float), -_BIG, _BIG)
+        values = np.clip(np.asarray(values, dtype=float), -UNBOUNDED, UNBOUNDED)
         return np.ascontiguousarray(np.concatenate((values, np.full(pad, fill))).reshape(blocks, size).T)
 
-    pa, pb, pl, ph = shaped(a, 1.0), shaped(b, 0.0), shaped(lo, -_BIG), shaped(hi, _BIG)
+    pa, pb, pl, ph = shaped(a, 1.0), shaped(b, 0.0), shaped(lo, -UNBOUNDED), shaped(hi, UNBOUNDED)
     for j in range(1, size):  # prefix within every block: step j after steps 0…j−1
         a2, b2, l2, h2 = pa[j], pb[j], pl[j], ph[j]
         a1, b1, l1, h1 = pa[j - 1], pb[j - 1], pl[j - 1], ph[j - 1]
@@ -106,7 +109,7 @@ def speed_limit_profile(distance, cap, deceleration: float):
     cumulative minimum of cap_j² + 2·b·s_j.
     """
     s = np.asarray(distance, dtype=float)
-    key = np.minimum(np.asarray(cap, dtype=float) ** 2, _BIG) + 2.0 * deceleration * s
+    key = np.minimum(np.asarray(cap, dtype=float) ** 2, UNBOUNDED) + 2.0 * deceleration * s
     envelope = np.minimum.accumulate(key[::-1])[::-1]
     return np.sqrt(np.maximum(envelope - 2.0 * deceleration * s, 0.0))
 
@@ -139,10 +142,8 @@ class Ride:
 
 
 def simulate(
-    *, step: float, grade, headwind, air_density, mass: float, crr: float, cda: float,
-    efficiency: float, wheel_inertia_mass: float, rider_power, speed_cap, distance,
-    deceleration: float, motor=None, start_speed: float | None = None, bearings: bool = True,
-    passes: int = 4,
+    *, step: float, grade, headwind, air_density, resistance: Resistance, rider_power, speed_cap, distance,
+    deceleration: float, motor=None, start_speed: float | None = None, passes: int = 4,
 ) -> Ride:
     """Ride a profile of equal segments with the kinetic-energy balance.
 
@@ -151,7 +152,7 @@ def simulate(
     step : float [m] horizontal segment length (as on a map); each segment is ridden
         over its slope length step·√(1 + G²)
     grade, headwind, air_density : arrays (n,) per segment [-], [m/s], [kg/m³]
-    mass : float [kg]; crr, cda, efficiency : floats; wheel_inertia_mass : float [kg]
+    resistance : Resistance  mass, Crr, CdA, drivetrain, wheel inertia, bearings
     rider_power : array (n,) [W] the rider's power on each segment
     speed_cap : array (n + 1,) [m/s] limit at each node (descent cap, curves)
     distance : array (n + 1,) [m] node positions
@@ -160,7 +161,6 @@ def simulate(
         ``motor(speed, rider_power) -> power at the wheel [W]`` per segment.
     start_speed : float [m/s] or None
         None (the default) is a rolling start at the first segment's steady speed.
-    bearings : bool
     passes : int  re-linearisations of the whole profile (4: see tests/test_ride.py)
 
     Returns
@@ -175,32 +175,27 @@ def simulate(
     step is u₊ = u_r + (u − u_r)·e^{J·Δs} + r(u_r)·Δs·φ(J·Δs), φ(z) = (e^z − 1)/z,
     clamped to [0, v_lim²] (Hochbruck & Ostermann 2010).
     """
+    res = resistance
     grade = np.asarray(grade, dtype=float)
     n = grade.size
     wind = np.broadcast_to(np.asarray(headwind, dtype=float), (n,))
     rho = np.broadcast_to(np.asarray(air_density, dtype=float), (n,))
     rider = np.broadcast_to(np.asarray(rider_power, dtype=float), (n,))
     cos_a = 1.0 / np.sqrt(1.0 + grade * grade)
-    sin_a = grade * cos_a
-    k = 0.5 * rho * cda
-    const = mass * G0 * (crr * cos_a + sin_a) + (BEARING_A if bearings else 0.0)
-    bear_b = BEARING_B if bearings else 0.0
-    m_e = mass + wheel_inertia_mass
+    force = ForceLaw.build(mass=res.mass, crr=res.crr, cda=res.cda, grade=grade, headwind=wind,
+                           air_density=rho, bearings=res.bearings)
+    m_e = res.mass + res.wheel_inertia_mass
     length = step / cos_a  # along the slope
     limit = speed_limit_profile(distance, speed_cap, deceleration)
     hi = limit[1:] ** 2
 
-    def force(v):
-        air = v + wind
-        return k * air * np.abs(air) + const + bear_b * v, 2.0 * k * np.abs(air) + bear_b
-
     def steady(p_wheel):
-        v = speed_for_power(p_wheel, mass=mass, crr=crr, cda=max(cda, 1e-9), efficiency=1.0,
-                            grade=grade, headwind=wind, air_density=rho, bearings=bearings, rtol=1e-4)
+        v = speed_for_power(p_wheel, mass=res.mass, crr=res.crr, cda=max(res.cda, 1e-9), efficiency=1.0,
+                            grade=grade, headwind=wind, air_density=rho, bearings=res.bearings, rtol=1e-4)
         return np.minimum(np.nan_to_num(v, nan=1.0, posinf=1.0), limit[1:])
 
     # First reference: the steady speed of each segment (with the motor at that speed).
-    wheel_rider = np.where(rider > 0, rider * efficiency, rider)
+    wheel_rider = np.where(rider > 0, rider * res.efficiency, rider)
     v_ref = steady(wheel_rider)
     if motor is not None:
         v_ref = steady(wheel_rider + motor(np.maximum(v_ref, 0.05), rider))
@@ -229,11 +224,10 @@ def simulate(
     with np.errstate(divide="ignore"):
         time = np.where(mean_speed > 0, length / mean_speed, np.inf)
     motor_w = motor(np.maximum(mean_speed, 0.05), rider) if motor is not None else np.zeros(n)
-    rolling = mean_speed * mass * G0 * crr * cos_a
-    bear = mean_speed * ((BEARING_A if bearings else 0.0) + bear_b * mean_speed)
-    air = mean_speed + wind
-    aero = k * air * np.abs(air) * mean_speed
-    gravity = mean_speed * mass * G0 * sin_a
+    rolling = rolling_power(mean_speed, res.mass, res.crr, grade)
+    bear = bearing_power(mean_speed) if res.bearings else np.zeros(n)
+    aero = aero_power(mean_speed, res.cda, rho, wind)
+    gravity = gravity_power(mean_speed, res.mass, grade)
     with np.errstate(invalid="ignore", divide="ignore"):
         kinetic = np.where(np.isfinite(time), 0.5 * m_e * (u[1:] - u[:-1]) / time, 0.0)
     drivetrain = rider - wheel_rider
@@ -243,56 +237,3 @@ def simulate(
     return Ride(speed, np.concatenate(([0.0], np.cumsum(time))), mean_speed, time, rider.copy(),
                 motor_w, rolling, bear, aero, gravity, kinetic, drivetrain, braking, limited,
                 np.where(limited, residual - braking, residual))
-
-
-def w_prime_balance_skiba(power, time, cp: float, w_prime: float):
-    """Balance of work capacity above critical power along a ride.
-
-    Parameters
-    ----------
-    power : array [W] mean power of each interval
-    time : array [s] duration of each interval
-    cp : float [W] critical power
-    w_prime : float [J] work capacity above CP
-
-    Returns
-    -------
-    array [J] W′bal at the end of each interval (n,), may go below 0 (exhausted).
-
-    Notes
-    -----
-    W′bal(t) = W′ − Σ_u W′exp(u)·e^{−(t−u)/τ}, with W′exp the work done above CP in
-    each interval and τ = 546·e^{−0.01·D_CP} + 316 s, D_CP = CP minus the mean power
-    of the intervals below CP (Skiba et al. 2012). Computed as the recurrence
-    S₊ = S·e^{−Δt/τ} + W′exp with :func:`clamp_affine_scan`.
-
-    References
-    ----------
-    Skiba et al. (2012), Med. Sci. Sports Exerc. 44:1526–1532.
-    """
-    p = np.asarray(power, dtype=float)
-    dt = np.asarray(time, dtype=float)
-    below = p < cp
-    if below.any() and dt[below].sum() > 0:
-        d_cp = cp - np.sum(p[below] * dt[below]) / dt[below].sum()
-    else:
-        d_cp = 0.0
-    tau = skiba_time_constant(d_cp)
-    expended = np.maximum(p - cp, 0.0) * dt
-    decay = np.exp(-dt / tau)
-    spent = clamp_affine_scan(decay, expended, np.full(p.size, -_BIG), np.full(p.size, _BIG), 0.0)[1:]
-    return w_prime - spent
-
-
-def skiba_time_constant(d_cp):
-    """Recovery time constant τ [s] of W′ for a recovery D_CP watts below CP.
-
-    Notes
-    -----
-    τ = 546·e^{−0.01·D_CP} + 316
-
-    References
-    ----------
-    Skiba et al. (2012), Med. Sci. Sports Exerc. 44:1526–1532.
-    """
-    return (546.0 * np.exp(-0.01 * np.asarray(d_cp, dtype=float)) + 316.0)[()]

@@ -17,7 +17,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from cardgen.physics.forces import BEARING_A, BEARING_B, G0, steady_breakdown, wheel_power
+from cardgen.physics.forces import ForceLaw, steady_breakdown, wheel_power
 
 #: First guess for the upper end of the speed bracket [m/s]; doubled until it holds.
 _FIRST_UPPER = 1.0
@@ -144,17 +144,11 @@ def speed_for_power(
     p, m, c_rr, c_da, eff, gr, w, rho = (np.asarray(a, dtype=float).ravel() for a in args)
     ok = _valid(m, c_rr, c_da, eff, rho, gr) & np.isfinite(p) & np.isfinite(w)
     pw = wheel_power(np.where(ok, p, 0.0), np.where(ok, eff, 1.0))
-    k = 0.5 * rho * c_da
-    cos_a = 1.0 / np.sqrt(1.0 + gr * gr)
-    const = m * G0 * (c_rr * cos_a + gr * cos_a) + (BEARING_A if bearings else 0.0)
-    b = BEARING_B if bearings else 0.0
-    w = np.where(ok, w, 0.0)
-    k = np.where(ok, k, 1.0)
-    const = np.where(ok, const, 1.0)
-
-    def force(v, idx):
-        air = v + w[idx]
-        return k[idx] * air * np.abs(air) + const[idx] + b * v, 2.0 * k[idx] * np.abs(air) + b
+    # invalid elements get a harmless law; they are set to NaN at the end
+    force = ForceLaw.build(mass=np.where(ok, m, 1.0), crr=np.where(ok, c_rr, 0.0), cda=np.where(ok, c_da, 1.0),
+                           grade=np.where(ok, gr, 1.0), headwind=np.where(ok, w, 0.0),
+                           air_density=np.where(ok, rho, 2.0), bearings=bearings)
+    k = force.k
 
     def excess_over(elements):
         """v·F(v) − P_wheel and its derivative, for the given elements of the problem."""
@@ -202,7 +196,7 @@ def speed_for_power(
             def slope(v, sel):  # d(v·F)/dv and its derivative
                 idx = brake[sel]
                 f, df = force(v, idx)
-                return f + v * df, 2.0 * df + v * 2.0 * k[idx] * np.sign(v + w[idx])
+                return f + v * df, 2.0 * df + v * 2.0 * k[idx] * np.sign(v + force.wind[idx])
 
             v_min = _solve_increasing(slope, np.zeros(brake.size), top, top, rtol)
             f_min, _ = force(v_min, brake)

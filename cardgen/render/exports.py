@@ -9,12 +9,19 @@ import io
 import json
 import math
 
+from cardgen.render.notices import notice_text
+from cardgen.units import J_PER_KCAL
+
 
 def _num(x, digits=3):
     if x is None:
         return None
     x = float(x)
     return round(x, digits) if math.isfinite(x) else None
+
+
+def _notices(notices, units: str = "metric") -> list[dict]:
+    return [{"code": n.code, "severity": n.severity, "text": notice_text(n, units)} for n in notices]
 
 
 def plan_dict(plan) -> dict:
@@ -28,23 +35,23 @@ def plan_dict(plan) -> dict:
                    "food_energy_j": _num(plan.totals.food_energy, 0), "battery_j": _num(plan.totals.battery, 0),
                    "battery_fits": plan.totals.battery_fits, "walk_m": _num(plan.totals.walk_length, 0)},
         "climbs": [{
-            "number": c.number, "start_m": _num(c.hill.start_distance, 1), "end_m": _num(c.hill.end_distance, 1),
-            "gain_m": _num(c.hill.height, 1), "avg_grade": _num(c.hill.avg_grade, 4),
-            "steepest_grade": _num(c.hill.steepest_grade, 4), "fiets": _num(c.hill.score, 2),
+            "number": c.number, "start_m": _num(c.climb.start_distance, 1), "end_m": _num(c.climb.end_distance, 1),
+            "gain_m": _num(c.climb.height, 1), "avg_grade": _num(c.climb.avg_grade, 4),
+            "steepest_grade": _num(c.climb.steepest_grade, 4), "fiets": _num(c.climb.score, 2),
             "power_for_target_w": _num(c.power_for_target, 1), "speed_m_s": _num(c.speed_at_effort, 3),
             "time_s": _num(c.time, 1), "assist": c.assist_name,
-            "warnings": [{"code": w.code, "severity": w.severity, "text": w.text} for w in c.warnings],
+            "warnings": _notices(c.warnings),
         } for c in plan.climbs],
         "descents": [{
-            "number": d.number, "start_m": _num(d.hill.start_distance, 1), "end_m": _num(d.hill.end_distance, 1),
-            "drop_m": _num(d.hill.height, 1), "avg_grade": _num(d.hill.avg_grade, 4),
+            "number": d.number, "start_m": _num(d.descent.start_distance, 1), "end_m": _num(d.descent.end_distance, 1),
+            "drop_m": _num(d.descent.height, 1), "avg_grade": _num(d.descent.avg_grade, 4),
             "coast_speed_m_s": _num(d.coast_speed, 3), "max_speed_m_s": _num(d.max_speed, 3),
             "gravity_power_w": _num(d.gravity_power, 0),
-            "warnings": [{"code": w.code, "severity": w.severity, "text": w.text} for w in d.warnings],
+            "warnings": _notices(d.warnings),
         } for d in plan.descents],
         "cues": [{"distance_m": _num(t.cue.distance, 1), "kind": t.cue.kind, "text": t.cue.text,
                   "elapsed_s": _num(t.elapsed, 0)} for t in plan.cues],
-        "warnings": [{"code": w.code, "severity": w.severity, "text": w.text} for w in plan.warnings],
+        "warnings": _notices(plan.warnings),
     }
 
 
@@ -64,11 +71,11 @@ def climbs_csv_text(plans) -> str:
     for p in plans:
         for c in p.climbs:
             writer.writerow([
-                p.rider.name, p.rider.vehicle.name, c.number, f"{c.hill.start_distance / 1000:.2f}",
-                f"{c.hill.end_distance / 1000:.2f}", f"{c.hill.height:.0f}", f"{c.hill.avg_grade * 100:.1f}",
-                f"{c.hill.steepest_grade * 100:.1f}", f"{c.hill.score:.2f}", f"{c.power_for_target:.0f}",
+                p.rider.name, p.rider.vehicle.name, c.number, f"{c.climb.start_distance / 1000:.2f}",
+                f"{c.climb.end_distance / 1000:.2f}", f"{c.climb.height:.0f}", f"{c.climb.avg_grade * 100:.1f}",
+                f"{c.climb.steepest_grade * 100:.1f}", f"{c.climb.score:.2f}", f"{c.power_for_target:.0f}",
                 f"{c.speed_at_effort * 3.6:.1f}", f"{c.time / 60:.1f}", c.assist_name or "",
-                " | ".join(w.text for w in c.warnings),
+                " | ".join(notice_text(w) for w in c.warnings),
             ])
     return out.getvalue()
 
@@ -88,12 +95,12 @@ def route_gpx_text(track, terrain, climbs, checkpoints) -> str:
     trk = gpxpy.gpx.GPXTrack(name=track.name)
     trk.segments.append(segment)
     gpx.tracks.append(trk)
-    for number, hill in enumerate(climbs, 1):
-        i = hill.start
+    for number, climb in enumerate(climbs, 1):
+        i = climb.start
         gpx.waypoints.append(gpxpy.gpx.GPXWaypoint(
             round(float(terrain.lat[i]), 7), round(float(terrain.lon[i]), 7),
             elevation=round(float(terrain.elevation[i]), 1), name=f"Climb {number}",
-            description=f"{hill.length:.0f} m at {hill.avg_grade * 100:.1f} %, +{hill.height:.0f} m",
+            description=f"{climb.length:.0f} m at {climb.avg_grade * 100:.1f} %, +{climb.height:.0f} m",
             type="climb"))
     for cp in checkpoints:
         i = int(round(cp.distance / terrain.step))
@@ -101,3 +108,48 @@ def route_gpx_text(track, terrain, climbs, checkpoints) -> str:
             round(float(terrain.lat[i]), 7), round(float(terrain.lon[i]), 7),
             elevation=round(float(terrain.elevation[i]), 1), name=cp.name, type="checkpoint"))
     return gpx.to_xml(version="1.1")
+
+
+def route_json(plan) -> dict:
+    """The ``cardgen route --json`` object (docs/contracts.md): one rider on one route,
+    in the units its key names carry."""
+    kmh = 3.6
+    totals = plan.totals
+    return _rounded({
+        "route": {
+            "name": plan.track.name, "distance_km": plan.terrain.length / 1000,
+            "gain_m": plan.terrain.gain, "loss_m": plan.terrain.loss, "points": plan.track.points,
+        },
+        "vehicle": {"name": plan.rider.vehicle.name, "mass_kg": plan.rider.vehicle.mass,
+                    "cda_m2": plan.rider.vehicle.cda, "crr": plan.rider.vehicle.crr},
+        "climbs": [{
+            "start_km": c.climb.start_distance / 1000, "end_km": c.climb.end_distance / 1000,
+            "length_m": c.climb.length, "gain_m": c.climb.height,
+            "avg_grade_pct": c.climb.avg_grade * 100, "max_grade_pct": c.climb.steepest_grade * 100,
+            "score": c.climb.score, "band": c.climb.band, "power_for_target_w": c.power_for_target,
+            "speed_at_effort_kmh": c.speed_at_effort * kmh, "time_s": c.time,
+            "assist_level": c.assist_name, "warnings": [notice_text(w) for w in c.warnings],
+        } for c in plan.climbs],
+        "descents": [{
+            "start_km": d.descent.start_distance / 1000, "end_km": d.descent.end_distance / 1000,
+            "drop_m": d.descent.height, "avg_grade_pct": d.descent.avg_grade * 100,
+            "coast_speed_kmh": d.coast_speed * kmh, "gravity_power_w": d.gravity_power,
+            "warnings": [notice_text(w) for w in d.warnings],
+        } for d in plan.descents],
+        "totals": {
+            "time_s": totals.time, "energy_kj": totals.energy / 1000,
+            "food_kcal": totals.food_energy / J_PER_KCAL,
+            "battery_wh": None if totals.battery is None else totals.battery / 3600,
+        },
+    })
+
+
+def _rounded(tree):
+    """Every float of a JSON tree to 4 decimals; NaN and infinities become null."""
+    if isinstance(tree, dict):
+        return {key: _rounded(value) for key, value in tree.items()}
+    if isinstance(tree, list):
+        return [_rounded(value) for value in tree]
+    if isinstance(tree, float):
+        return _num(tree, 4)
+    return tree

@@ -7,12 +7,14 @@ import re
 import unicodedata
 from dataclasses import dataclass
 from datetime import datetime
-from importlib import resources
 from pathlib import Path
 
 import jinja2
+import jinja2.sandbox
 
+from cardgen.paths import default_templates
 from cardgen.render import format as fmt
+from cardgen.render.notices import notice_text
 
 #: Cautions printed on every card and page, plain and short.
 CAUTIONS = (
@@ -51,21 +53,20 @@ def slugify(text: str, taken: set[str] | None = None) -> str:
     return slug
 
 
-def default_templates() -> Path:
-    """The templates shipped with cardgen."""
-    return Path(str(resources.files("cardgen.templates")))
-
-
 def environment(override: Path | None = None, units: str = "metric") -> jinja2.Environment:
     """Jinja2 with autoescape, StrictUndefined, the unit filters, and the search path
-    ``override`` (a site's own templates) first, then cardgen's."""
+    ``override`` (a site's own templates) first, then cardgen's.
+
+    A theme is code: it is rendered in Jinja2's sandbox, so a template can read the
+    values it is given but cannot reach Python's internals or run commands."""
     paths = ([str(override)] if override else []) + [str(default_templates())]
-    env = jinja2.Environment(
+    env = jinja2.sandbox.SandboxedEnvironment(
         loader=jinja2.FileSystemLoader(paths), autoescape=True, undefined=jinja2.StrictUndefined,
         trim_blocks=True, lstrip_blocks=True, keep_trailing_newline=True,
     )
     for name, function in fmt.FILTERS.items():
         env.filters[name] = function
+    env.filters["notice"] = notice_text
     env.globals.update(units=units, cautions=CAUTIONS, symbols=SYMBOLS, clock=fmt.clock)
     return env
 

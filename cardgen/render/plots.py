@@ -54,7 +54,7 @@ def elevation_profile(terrain, climbs, checkpoints=(), units: str = "metric", *,
                       width_in: float = 6.6, height_in: float = 2.4, text_scale: float = 1.0):
     """Elevation against distance, filled by grade, climbs numbered, checkpoints marked.
 
-    ``climbs`` are Hill objects (numbered in order), ``checkpoints`` (name, distance)
+    ``climbs`` are Climb objects (numbered in order), ``checkpoints`` (name, distance)
     pairs; ``text_scale`` enlarges every label (large print). Returns (svg, alt text).
     """
     k = text_scale
@@ -97,15 +97,16 @@ def elevation_profile(terrain, climbs, checkpoints=(), units: str = "metric", *,
     ax.tick_params(labelsize=7 * k, colors=INK)
     for spine in ("top", "right"):
         ax.spines[spine].set_visible(False)
-    for number, hill in enumerate(climbs, 1):
-        cx = 0.5 * (hill.start_distance + hill.end_distance) * x_scale
-        cy = hill.top * y_scale
+    for number, climb in enumerate(climbs, 1):
+        cx = 0.5 * (climb.start_distance + climb.end_distance) * x_scale
+        cy = climb.top * y_scale
         ax.annotate(str(number), (cx, cy), xytext=(0, 7), textcoords="offset points", ha="center",
                     va="bottom", fontsize=8 * k, fontweight="bold", color="white",
                     bbox={"boxstyle": "circle,pad=0.25", "facecolor": INK, "edgecolor": "none"})
     for label, where in checkpoints:
         ax.axvline(where * x_scale, color=INK, linewidth=0.7, linestyle=(0, (3, 2)))
-        ax.text(where * x_scale, top, label, rotation=90, fontsize=6 * k, ha="right", va="top", color=INK)
+        ax.text(where * x_scale, top, label, rotation=90, fontsize=6 * k, ha="right", va="top", color=INK,
+                parse_math=False)
     bar = fig.colorbar(ScalarMappable(norm=norm, cmap=cmap), ax=ax, pad=0.01, fraction=0.04,
                        ticks=bounds[::2])
     bar.set_label("grade (%)", fontsize=7 * k, color=INK)
@@ -115,10 +116,10 @@ def elevation_profile(terrain, climbs, checkpoints=(), units: str = "metric", *,
     parts = [f"Elevation profile{' of ' + name if name else ''}: {fmt.distance(terrain.length, units)}, "
              f"from {fmt.height(float(terrain.elevation.min()), units)} to "
              f"{fmt.height(float(terrain.elevation.max()), units)}."]
-    for number, hill in enumerate(climbs, 1):
-        parts.append(f"Climb {number}: {fmt.distance(hill.start_distance, units)} to "
-                     f"{fmt.distance(hill.end_distance, units)}, {fmt.height(hill.height, units)} at "
-                     f"{fmt.grade(hill.avg_grade)} average.")
+    for number, climb in enumerate(climbs, 1):
+        parts.append(f"Climb {number}: {fmt.distance(climb.start_distance, units)} to "
+                     f"{fmt.distance(climb.end_distance, units)}, {fmt.height(climb.height, units)} at "
+                     f"{fmt.grade(climb.avg_grade)} average.")
     if checkpoints:
         parts.append("Checkpoints: " + ", ".join(f"{label} at {fmt.distance(where, units)}"
                                                   for label, where in checkpoints) + ".")
@@ -126,36 +127,30 @@ def elevation_profile(terrain, climbs, checkpoints=(), units: str = "metric", *,
     return svg, " ".join(parts)
 
 
-def power_curves(climb_row_by_rider, units: str = "metric", *, width_in: float = 6.6, height_in: float = 2.6):
+def power_curves(rows, units: str = "metric", *, width_in: float = 6.6, height_in: float = 2.6):
     """Power needed against speed on one climb's average grade, one line per rider,
     each marked where that rider rides the climb (their planned average speed there,
-    assist included). ``climb_row_by_rider`` is a list of (label, rider, hill, climb
-    row of the rider's plan). Returns (svg, alt text)."""
-    from cardgen.physics.steady import power_for_speed
-
-    imperial = units == "imperial"
-    fig = _figure(width_in, height_in)
-    ax = fig.add_subplot()
+    assist included). ``rows`` is a list of (label, climb row of the rider's plan); the
+    curves are the plan's own (the climb's grade, mean wind and air density). Returns
+    (svg, alt text)."""
     from matplotlib import colormaps
 
+    imperial = units == "imperial"
+    to_shown = fmt.MPH_PER_MS if imperial else 3.6
+    fig = _figure(width_in, height_in)
+    ax = fig.add_subplot()
     markers = ["o", "s", "^", "D", "v", "P", "X", "*"]
     styles = ["-", "--", "-.", ":", (0, (5, 1, 1, 1, 1, 1))]
-    shades = colormaps["cividis"](np.linspace(0.0, 0.75, max(2, len(climb_row_by_rider))))
-    speeds = np.linspace(2.0, 30.0, 57) / 3.6
+    shades = colormaps["cividis"](np.linspace(0.0, 0.75, max(2, len(rows))))
     alt = []
-    hill = climb_row_by_rider[0][2]
-    for i, (label, rider, _, row) in enumerate(climb_row_by_rider):
-        v = rider.vehicle
-        watts = power_for_speed(speeds, mass=v.mass, crr=v.crr, cda=v.cda, efficiency=v.efficiency,
-                                grade=hill.avg_grade, air_density=1.2)
-        shown = speeds * (fmt.MPH_PER_MS if imperial else 3.6)
-        ax.plot(shown, watts, color=shades[i], linestyle=styles[i % len(styles)], linewidth=1.3, label=label,
-                marker=markers[i % len(markers)], markevery=(i * 2, 12), markersize=3.5)
-        at = row.speed_at_effort
-        need = float(power_for_speed(at, mass=v.mass, crr=v.crr, cda=v.cda, efficiency=v.efficiency,
-                                     grade=hill.avg_grade, air_density=1.2))
-        ax.plot([at * (fmt.MPH_PER_MS if imperial else 3.6)], [need], color=shades[i],
-                marker=markers[i % len(markers)], markersize=7, markeredgecolor=INK, linestyle="none")
+    climb = rows[0][1].climb
+    for i, (label, row) in enumerate(rows):
+        speeds, watts = row.power_curve
+        ax.plot(speeds * to_shown, watts, color=shades[i], linestyle=styles[i % len(styles)], linewidth=1.3,
+                label=_literal(label), marker=markers[i % len(markers)], markevery=(i * 2, 12), markersize=3.5)
+        at, need = row.speed_at_effort, row.power_at_effort
+        ax.plot([at * to_shown], [need], color=shades[i], marker=markers[i % len(markers)], markersize=7,
+                markeredgecolor=INK, linestyle="none")
         assist = f" with assist {row.assist_name}" if row.assist_name and row.assist_level else ""
         alt.append(f"{label} rides it at about {fmt.speed(at, units)}{assist}, which takes {fmt.power(need)} in all")
     ax.set_xlabel("speed (mph)" if imperial else "speed (km/h)", fontsize=8, color=INK)
@@ -165,7 +160,15 @@ def power_curves(climb_row_by_rider, units: str = "metric", *, width_in: float =
     ax.grid(color="#bbbbbb", linewidth=0.4)
     for spine in ("top", "right"):
         ax.spines[spine].set_visible(False)
-    ax.legend(fontsize=7, frameon=False)
-    text = (f"Power needed against speed on a steady {fmt.grade(hill.avg_grade)} grade (the hardest climb's "
+    for text in ax.legend(fontsize=7, frameon=False).get_texts():
+        text.set_parse_math(False)
+    text = (f"Power needed against speed on a steady {fmt.grade(climb.avg_grade)} grade (the hardest climb's "
             f"average), for each rider; markers show where each rider rides it: " + "; ".join(alt) + ".")
     return _svg(fig), text
+
+
+def _literal(label: str) -> str:
+    """A legend label shown as written: one starting with "_" would be hidden by
+    matplotlib, so it gets a zero-width space in front. (Math parsing is switched off
+    on every text that shows a name.)"""
+    return "\u200b" + label if label.startswith("_") else label

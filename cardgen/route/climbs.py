@@ -67,18 +67,15 @@ def difficulty_band(score: float) -> str:
 
 
 @dataclass(frozen=True)
-class Hill:
-    """A climb (``direction`` +1) or a descent (−1) between grid nodes ``start`` and
-    ``end`` of a :class:`Terrain`.
+class Descent:
+    """A sustained fall between grid nodes ``start`` and ``end`` of a :class:`Terrain`.
 
     Attributes: ``start_distance``/``end_distance`` [m], ``length`` [m], ``height`` [m]
-    gained (climb) or lost (descent), ``avg_grade`` [-] (negative on descents),
-    ``steepest_grade`` [-] over :data:`GRADE_WINDOW` (signed like ``avg_grade``),
-    ``top`` [m] highest elevation, ``score`` (FIETS, climbs only; NaN for descents),
-    ``band`` (words), ``tightest_radius`` [m].
+    lost, ``avg_grade`` [-] (negative), ``steepest_grade`` [-] over
+    :data:`GRADE_WINDOW` (negative), ``top`` [m] highest elevation, ``tightest_radius``
+    [m].
     """
 
-    direction: int
     start: int
     end: int
     start_distance: float
@@ -88,13 +85,21 @@ class Hill:
     avg_grade: float
     steepest_grade: float
     top: float
-    score: float
-    band: str
     tightest_radius: float
 
 
+@dataclass(frozen=True)
+class Climb(Descent):
+    """A sustained rise: the fields of :class:`Descent` with ``height`` gained and
+    positive grades, plus its difficulty: ``score`` (FIETS index) and ``band`` (our
+    own words for the score)."""
+
+    score: float = float("nan")
+    band: str = ""
+
+
 def _find(terrain: Terrain, direction: int, min_gain: float, min_avg_grade: float,
-          dip_tolerance: float, max_gap: float) -> list[Hill]:
+          dip_tolerance: float, max_gap: float) -> list[dict]:
     e = terrain.elevation * direction  # descents are climbs of the negated profile
     step = terrain.step
     n = e.size
@@ -134,20 +139,18 @@ def _find(terrain: Terrain, direction: int, min_gain: float, min_avg_grade: floa
         window = e[start + kk:end + 1] - e[start:end + 1 - kk]
         steepest = float(window.max() / (kk * step))
         top = float(terrain.elevation[start:end + 1].max())
-        score = float(fiets_index(height, length, top)) if direction > 0 else float("nan")
-        hills.append(Hill(
-            direction=direction, start=start, end=end,
+        hills.append(dict(
+            start=start, end=end,
             start_distance=float(terrain.distance[start]), end_distance=float(terrain.distance[end]),
             length=float(length), height=float(height), avg_grade=float(direction * height / length),
-            steepest_grade=direction * steepest, top=top, score=score,
-            band=difficulty_band(score) if direction > 0 else "",
+            steepest_grade=direction * steepest, top=top,
             tightest_radius=float(terrain.curve_radius[start:end + 1].min()),
         ))
     return hills
 
 
 def find_climbs(terrain: Terrain, *, min_gain: float = MIN_GAIN, min_avg_grade: float = MIN_AVG_GRADE,
-                dip_tolerance: float = DIP_TOLERANCE, max_gap: float = MAX_GAP) -> list[Hill]:
+                dip_tolerance: float = DIP_TOLERANCE, max_gap: float = MAX_GAP) -> list[Climb]:
     """Sustained rises: at least ``min_gain`` metres at ``min_avg_grade`` or steeper.
 
     Stretches where every 100 m rises at ``min_avg_grade`` are joined across gaps of
@@ -155,10 +158,14 @@ def find_climbs(terrain: Terrain, *, min_gain: float = MIN_GAIN, min_avg_grade: 
     as the joined climb still averages ``min_avg_grade``; each end is then trimmed to
     the first (last) segment that is that steep.
     """
-    return _find(terrain, +1, min_gain, min_avg_grade, dip_tolerance, max_gap)
+    climbs = []
+    for found in _find(terrain, +1, min_gain, min_avg_grade, dip_tolerance, max_gap):
+        score = float(fiets_index(found["height"], found["length"], found["top"]))
+        climbs.append(Climb(**found, score=score, band=difficulty_band(score)))
+    return climbs
 
 
 def find_descents(terrain: Terrain, *, min_drop: float = MIN_GAIN, min_avg_grade: float = MIN_AVG_GRADE,
-                  rise_tolerance: float = DIP_TOLERANCE, max_gap: float = MAX_GAP) -> list[Hill]:
+                  rise_tolerance: float = DIP_TOLERANCE, max_gap: float = MAX_GAP) -> list[Descent]:
     """Sustained falls, the mirror of :func:`find_climbs`."""
-    return _find(terrain, -1, min_drop, min_avg_grade, rise_tolerance, max_gap)
+    return [Descent(**found) for found in _find(terrain, -1, min_drop, min_avg_grade, rise_tolerance, max_gap)]

@@ -6,7 +6,8 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from cardgen.route.terrain import EARTH_RADIUS, Terrain
+from cardgen.route.geodesy import local_plane
+from cardgen.route.terrain import Terrain
 
 #: Heading change [deg] over :data:`TURN_WINDOW` that makes a turn …
 TURN_THRESHOLD = 45.0
@@ -81,14 +82,9 @@ def place_points(terrain: Terrain, points, kind: str, reach: float = WAYPOINT_RE
     """
     if not points:
         return [], []
-    lat0 = np.radians(np.mean(terrain.lat))
-
-    def plane(lat, lon):
-        lat, lon = np.radians(np.asarray(lat)), np.radians(np.asarray(lon))
-        return np.column_stack((lon * np.cos(lat0) * EARTH_RADIUS, lat * EARTH_RADIUS))
-
-    nodes_xy = plane(terrain.lat, terrain.lon)
-    points_xy = plane([p.lat for p in points], [p.lon for p in points])
+    lat0 = float(np.radians(np.mean(terrain.lat)))
+    nodes_xy = local_plane(terrain.lat, terrain.lon, lat0)
+    points_xy = local_plane([p.lat for p in points], [p.lon for p in points], lat0)
     gaps = np.empty(len(points))
     nodes = np.empty(len(points), dtype=int)
     chunk = max(1, 4_000_000 // nodes_xy.shape[0])  # bounds the distance matrix to ~32 MB

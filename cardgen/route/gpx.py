@@ -22,6 +22,7 @@ from xml.parsers import expat
 import numpy as np
 
 from cardgen.errors import GpxError
+from cardgen.route.geodesy import cumulative_distance
 
 #: Largest GPX file read [bytes]: 100 MiB holds about 800,000 plain trackpoints,
 #: over 8,000 km at one point every 10 m.
@@ -348,8 +349,6 @@ def _elevation(values: list, lat, lon, label: str, where: str):
         )
     missing = int((~usable).sum())
     if missing:
-        from cardgen.route.terrain import cumulative_distance
-
         distance = cumulative_distance(lat, lon)
         ele = np.interp(distance, distance[usable], ele[usable])
     return ele, missing

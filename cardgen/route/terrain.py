@@ -7,9 +7,6 @@ Savitzky, A. & Golay, M. J. E. (1964). Smoothing and differentiation of data by
 simplified least squares procedures. *Analytical Chemistry* 36(8):1627–1639.
 doi:10.1021/ac60214a047
 Tukey, J. W. (1977). *Exploratory Data Analysis*. Addison-Wesley (running medians).
-Sinnott, R. W. (1984). Virtues of the haversine. *Sky and Telescope* 68(2):159.
-Moritz, H. (2000). Geodetic Reference System 1980. *Journal of Geodesy* 74:128–133
-(mean Earth radius R₁ = (2a + b)/3).
 """
 
 from __future__ import annotations
@@ -20,9 +17,8 @@ import numpy as np
 from numpy.lib.stride_tricks import sliding_window_view
 
 from cardgen.errors import GpxError
+from cardgen.route.geodesy import bearing, cumulative_distance
 
-#: Mean radius R₁ = (2a + b)/3 of the WGS84 ellipsoid [m].
-EARTH_RADIUS = 6371008.8
 #: Default grid step [m].
 GRID_STEP = 10.0
 #: Savitzky–Golay window [m] and polynomial order: keeps straight and parabolic
@@ -40,52 +36,6 @@ SPIKE_POINTS = 5
 GAIN_DEADBAND = 5.0
 #: Window [m] over which heading change gives the curve radius.
 CURVE_WINDOW = 30.0
-
-
-def cumulative_distance(lat, lon):
-    """Distance along a polyline of WGS84 points, from the first point.
-
-    Parameters
-    ----------
-    lat, lon : array [deg]
-
-    Returns
-    -------
-    array [m], same length, starting at 0.
-
-    Notes
-    -----
-    Haversine on a sphere of the mean Earth radius:
-    d = 2R·asin√(sin²(Δφ/2) + cos φ₁·cos φ₂·sin²(Δλ/2)). Within 0.6 % of the
-    ellipsoidal geodesic (Karney 2013) on 1 km legs at any latitude.
-
-    References
-    ----------
-    Sinnott (1984), Sky and Telescope 68:159; Moritz (2000), J. Geodesy 74:128.
-    """
-    phi = np.radians(np.asarray(lat, dtype=float))
-    lam = np.radians(np.asarray(lon, dtype=float))
-    h = np.sin(np.diff(phi) / 2) ** 2 + np.cos(phi[:-1]) * np.cos(phi[1:]) * np.sin(np.diff(lam) / 2) ** 2
-    step = 2 * EARTH_RADIUS * np.arcsin(np.sqrt(np.clip(h, 0.0, 1.0)))
-    return np.concatenate(([0.0], np.cumsum(step)))
-
-
-def bearing(lat1, lon1, lat2, lon2):
-    """Initial great-circle bearing from point 1 to point 2.
-
-    Returns
-    -------
-    array [rad], clockwise from north, in [0, 2π).
-
-    References
-    ----------
-    Sinnott (1984), Sky and Telescope 68:159 (spherical trigonometry).
-    """
-    p1, p2 = np.radians(lat1), np.radians(lat2)
-    dl = np.radians(np.asarray(lon2) - np.asarray(lon1))
-    y = np.sin(dl) * np.cos(p2)
-    x = np.cos(p1) * np.sin(p2) - np.sin(p1) * np.cos(p2) * np.cos(dl)
-    return np.mod(np.arctan2(y, x), 2 * np.pi)
 
 
 @dataclass(frozen=True)

@@ -1,0 +1,111 @@
+"""What a plan holds: frozen data in SI units, no words and no rounding.
+
+Notices carry a stable ``code``, a ``severity`` and the numbers they are about;
+:mod:`cardgen.render.notices` turns them into sentences in the chosen units.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from cardgen.physics.assist import Motor
+from cardgen.physics.atmosphere import Conditions
+from cardgen.physics.ride import Ride
+from cardgen.profiles.riders import Rider
+from cardgen.route.climbs import Climb, Descent
+from cardgen.route.cues import Cue
+from cardgen.route.gpx import Track
+from cardgen.route.terrain import Terrain
+
+
+@dataclass(frozen=True)
+class Notice:
+    """Something a rider should know: ``code`` (stable, e.g. "walk", "curve"),
+    ``severity`` ("info", "caution", "warning") and ``values``, (name, value) pairs
+    in SI units (or text from the route for code "track")."""
+
+    code: str
+    severity: str
+    values: tuple[tuple[str, float | str | None], ...] = ()
+
+    def value(self, name: str, default=None):
+        """The value called ``name``, or ``default``."""
+        return dict(self.values).get(name, default)
+
+
+@dataclass(frozen=True)
+class ClimbRow:
+    number: int
+    climb: Climb
+    power_for_target: float  # [W] rider's power to hold the target speed (with the suggested assist)
+    speed_at_effort: float  # [m/s] average simulated speed
+    time: float  # [s] simulated
+    min_speed: float  # [m/s] slowest segment
+    slow_length: float  # [m] below the two-wheel stable speed
+    rider_power: float  # [W] time-averaged simulated rider power on the climb
+    w_prime_low: float  # [J] lowest W′ balance on the climb
+    safe_power: float | None  # [W] highest steady power that keeps W′ ≥ 0, where it runs out
+    assist_level: int | None  # suggested level (0 = off); None without a motor
+    assist_name: str | None
+    warnings: tuple[Notice, ...]
+    power_curve: tuple[np.ndarray, np.ndarray]  # ([m/s], [W]) power needed against speed on the average grade
+    power_at_effort: float  # [W] on that curve at ``speed_at_effort``
+
+
+@dataclass(frozen=True)
+class DescentRow:
+    number: int
+    descent: Descent
+    coast_speed: float  # [m/s] steady coasting speed on the average grade
+    max_speed: float  # [m/s] fastest simulated speed (after braking for limits)
+    gravity_power: float  # [W] at the coasting speed; negative: gravity drives
+    braking_energy: float  # [J] taken out by the brakes on the descent
+    curve_distance: float  # [m] where the tightest curve is
+    curve_speed: float  # [m/s] lateral-acceleration limit there (inf on a straight)
+    warnings: tuple[Notice, ...]
+
+
+@dataclass(frozen=True)
+class TimedCue:
+    cue: Cue
+    elapsed: float  # [s] from the start
+
+
+@dataclass(frozen=True)
+class Totals:
+    time: float  # [s] moving
+    energy: float  # [J] rider's mechanical work
+    food_energy: float  # [J] metabolic, at the vehicle's gross efficiency
+    battery: float | None  # [J] drawn from the battery; None without a motor
+    battery_fits: bool | None  # within the usable capacity less the reserve
+    walk_length: float  # [m] two-wheeler below its stable speed
+
+
+@dataclass(frozen=True)
+class Analysis:
+    """What a route is, whoever rides it: climbs, descents and cues."""
+
+    track: Track
+    terrain: Terrain
+    climbs: tuple[Climb, ...]
+    descents: tuple[Descent, ...]
+    cues: tuple[Cue, ...]
+    warnings: tuple[str, ...]
+
+
+@dataclass(frozen=True)
+class Plan:
+    track: Track
+    terrain: Terrain
+    rider: Rider
+    conditions: Conditions
+    motor: Motor | None
+    ride: Ride
+    w_prime_balance: np.ndarray  # [J] per segment
+    climbs: tuple[ClimbRow, ...]
+    descents: tuple[DescentRow, ...]
+    cues: tuple[TimedCue, ...]
+    totals: Totals
+    warnings: tuple[Notice, ...]

@@ -1,0 +1,212 @@
+"""One rider on one route: wire the route and the physics together into a Plan.
+
+How a rider rides is the effort model of :mod:`cardgen.physics.effort`; the ride is
+simulated with inertia, wind on every segment, air density by altitude, and the
+vehicle's descent and curve speed limits, braking at :data:`BRAKING` before them.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from cardgen.physics.assist import (
+    Motor,
+    battery_energy,
+    motor_power,
+    rider_power_for_speed,
+    suggest_levels,
+)
+from cardgen.physics.atmosphere import Conditions, air_density_isa
+from cardgen.physics.effort import effort_power, safe_climb_power, w_prime_balance_skiba
+from cardgen.physics.forces import G0, gravity_power, headwind
+from cardgen.physics.ride import Ride, simulate
+from cardgen.physics.steady import power_for_speed, speed_for_power
+from cardgen.plan.model import Analysis, ClimbRow, DescentRow, Notice, Plan, TimedCue, Totals
+from cardgen.profiles.motors import find_motor
+from cardgen.profiles.riders import Rider
+from cardgen.route.climbs import Climb, Descent, find_climbs, find_descents
+from cardgen.route.cues import cue_sheet
+from cardgen.route.gpx import Track
+from cardgen.route.terrain import Terrain
+
+#: Steepest 100 m grade that earns a "steep" note [-]: common practice, no published
+#: source (AASHTO's bicycle guide calls grades over 5 % undesirable on shared paths).
+STEEP_GRADE = 0.10
+#: Braking deceleration before a speed limit [m/s²]: f = 0.25 of the AASHTO Guide
+#: for the Development of Bicycle Facilities (1999) stopping-sight-distance formula
+#: (wet pavement, ordinary brakes) [S].
+BRAKING = 0.25 * G0
+#: Battery share kept in reserve when judging whether a route fits: common practice,
+#: no published source.
+BATTERY_RESERVE = 0.20
+#: Speeds [m/s] at which a climb's power curve is drawn: 2 to 30 km/h.
+CURVE_SPEEDS = np.linspace(2.0, 30.0, 57) / 3.6
+
+
+def analyse(track: Track, terrain: Terrain) -> Analysis:
+    """Climbs, descents and the cue sheet of a route (done once, shared by riders)."""
+    cues, warnings = cue_sheet(terrain, track)
+    return Analysis(track, terrain, tuple(find_climbs(terrain)), tuple(find_descents(terrain)),
+                    tuple(cues), (*track.warnings, *warnings))
+
+
+def segment_air(terrain: Terrain, conditions: Conditions):
+    """Headwind [m/s] and air density [kg/m³] on every segment."""
+    wind = headwind(terrain.heading, conditions.wind_speed, conditions.wind_from)
+    mid = 0.5 * (terrain.elevation[1:] + terrain.elevation[:-1])
+    rho = air_density_isa(np.clip(mid, -1000.0, 9000.0), conditions.temperature)
+    return np.asarray(wind, dtype=float), np.asarray(rho, dtype=float)
+
+
+def speed_caps(terrain: Terrain, rider: Rider):
+    """Speed limit at every node [m/s]: the vehicle's descent cap and v = √(a·R) in
+    curves (a the vehicle's lateral acceleration; FHWA-HRT-04-103, 2004)."""
+    v = rider.vehicle
+    return np.minimum(v.max_descent_speed, np.sqrt(v.curve_accel * terrain.curve_radius))
+
+
+def _assist_ratios(rider: Rider, motor: Motor | None, climbs, terrain, wind, rho):
+    """Assist ratio on every segment and the level chosen for each climb (by start)."""
+    ratio = np.zeros(terrain.grade.size)
+    levels: dict[int, int] = {}
+    if motor is None:
+        return ratio, levels
+    ratio[:] = 0.0 if rider.cruise_level == 0 else motor.levels[rider.cruise_level - 1]
+    chosen = suggest_levels(motor, [(c.start, c.end) for c in climbs], climb_power=rider.climb_power_used,
+                            target_speed=rider.target_speed, min_speed=rider.vehicle.min_stable_speed,
+                            resistance=rider.vehicle.resistance, grade=terrain.grade, headwind=wind,
+                            air_density=rho)
+    for climb, (level, _) in zip(climbs, chosen, strict=True):
+        levels[climb.start] = level
+        ratio[climb.start:climb.end] = 0.0 if level == 0 else motor.levels[level - 1]
+    return ratio, levels
+
+
+def make_plan(route: Analysis | Track, terrain: Terrain | None = None, rider: Rider | None = None,
+              conditions: Conditions | None = None) -> Plan:
+    """Work out the plan of one rider on one route (still air and the standard
+    atmosphere when ``conditions`` is None).
+
+    ``route`` is an :class:`Analysis` (from :func:`analyse`, shared by several riders),
+    or a Track followed by its Terrain.
+    """
+    if not isinstance(route, Analysis):
+        route = analyse(route, terrain)
+    if rider is None:
+        raise ValueError("make_plan needs a rider")
+    track, terrain = route.track, route.terrain
+    conditions = conditions or Conditions()
+    vehicle = rider.vehicle
+    wind, rho = segment_air(terrain, conditions)
+    motor = find_motor(vehicle.motor) if vehicle.motor else None
+    ratio, levels = _assist_ratios(rider, motor, route.climbs, terrain, wind, rho)
+
+    on_climb = np.zeros(terrain.grade.size, dtype=bool)
+    for climb in route.climbs:
+        on_climb[climb.start:climb.end] = True
+    power = effort_power(flat_power=rider.flat_power, climb_power=rider.climb_power_used, on_climb=on_climb,
+                         grade=terrain.grade, headwind=wind, air_density=rho, resistance=vehicle.resistance)
+    drive = None if motor is None else (lambda v, p: motor_power(motor, ratio, v, p))
+    ride = simulate(
+        step=terrain.step, grade=terrain.grade, headwind=wind, air_density=rho, resistance=vehicle.resistance,
+        rider_power=power, speed_cap=speed_caps(terrain, rider), distance=terrain.distance,
+        deceleration=BRAKING, motor=drive,
+    )
+    wbal = w_prime_balance_skiba(ride.rider_power, ride.time, rider.cp, rider.w_prime)
+
+    climbs = tuple(_climb_row(i + 1, c, terrain, rider, motor, levels.get(c.start), ride, wbal, wind, rho)
+                   for i, c in enumerate(route.climbs))
+    descents = _descent_rows(route.descents, terrain, rider, ride, wind, rho)
+    timed = tuple(TimedCue(c, float(np.interp(c.distance, terrain.distance, ride.elapsed))) for c in route.cues)
+
+    energy = float(np.sum(np.maximum(ride.rider_power, 0.0) * ride.time))
+    slow = (ride.mean_speed < vehicle.min_stable_speed) & (ride.rider_power > 0)
+    battery = fits = None
+    warnings = [Notice("track", "info", (("text", w),)) for w in route.warnings]
+    if motor is not None:
+        battery = battery_energy(motor, ride.motor_power, ride.time)
+        fits = battery <= motor.usable_battery * (1.0 - BATTERY_RESERVE)
+        if not fits:
+            warnings.append(Notice("battery", "warning", (("used", battery), ("usable", motor.usable_battery),
+                                                          ("reserve", BATTERY_RESERVE))))
+    totals = Totals(time=float(ride.elapsed[-1]), energy=energy, food_energy=energy / vehicle.gross_efficiency,
+                    battery=battery, battery_fits=fits, walk_length=float(np.sum(slow) * terrain.step))
+    return Plan(track, terrain, rider, conditions, motor, ride, wbal, climbs, descents, timed, totals,
+                tuple(warnings))
+
+
+def _climb_row(number: int, climb: Climb, terrain: Terrain, rider: Rider, motor: Motor | None,
+               level: int | None, ride: Ride, wbal, wind, rho) -> ClimbRow:
+    vehicle = rider.vehicle
+    segs = slice(climb.start, climb.end)
+    air = dict(grade=terrain.grade[segs], headwind=wind[segs], air_density=rho[segs])
+    ratio = 0.0 if not level or motor is None else motor.levels[level - 1]
+    need = rider_power_for_speed(motor, ratio, rider.target_speed, resistance=vehicle.resistance, **air)
+    time = float(np.sum(ride.time[segs]))
+    speeds = ride.mean_speed[segs]
+    slow = float(np.sum(speeds < vehicle.min_stable_speed) * terrain.step)
+    rider_power = float(np.sum(ride.rider_power[segs] * ride.time[segs]) / time)
+    w_low = float(np.min(wbal[segs]))
+    before = float(wbal[climb.start - 1]) if climb.start > 0 else rider.w_prime
+    warnings = []
+    safe = None
+    if w_low < 0:
+        safe = safe_climb_power(cp=rider.cp, climb_power=rider.climb_power_used, w_prime_left=before,
+                                step=terrain.step, resistance=vehicle.resistance, **air)
+        warnings.append(Notice("w-prime", "warning", (("power", rider_power), ("safe", safe))))
+    if slow > 0:
+        warnings.append(Notice("walk", "warning", (("speed", vehicle.min_stable_speed), ("length", slow))))
+    if climb.steepest_grade >= STEEP_GRADE:
+        warnings.append(Notice("steep", "caution", (("grade", climb.steepest_grade),)))
+    # power needed against speed on the climb's average grade, in its mean wind and air
+    curve_air = dict(grade=climb.avg_grade, headwind=float(np.mean(wind[segs])),
+                     air_density=float(np.mean(rho[segs])))
+    steady = vehicle.resistance.steady()
+    curve = power_for_speed(CURVE_SPEEDS, **steady, **curve_air)
+    speed_at_effort = climb.length / time
+    return ClimbRow(
+        number=number, climb=climb, power_for_target=float(np.mean(need)), speed_at_effort=speed_at_effort,
+        time=time, min_speed=float(np.min(speeds)), slow_length=slow, rider_power=rider_power,
+        w_prime_low=w_low, safe_power=safe, assist_level=level,
+        assist_name=None if motor is None else motor.level_name(level or 0), warnings=tuple(warnings),
+        power_curve=(CURVE_SPEEDS, np.asarray(curve)),
+        power_at_effort=float(power_for_speed(speed_at_effort, **steady, **curve_air)),
+    )
+
+
+def _descent_rows(descents, terrain: Terrain, rider: Rider, ride: Ride, wind, rho) -> tuple[DescentRow, ...]:
+    if not descents:
+        return ()
+    vehicle = rider.vehicle
+    grade = np.array([d.avg_grade for d in descents])
+    mean_wind = np.array([np.mean(wind[d.start:d.end]) for d in descents])
+    mean_rho = np.array([np.mean(rho[d.start:d.end]) for d in descents])
+    coasts = speed_for_power(0.0, **vehicle.resistance.steady(), grade=grade, headwind=mean_wind,
+                             air_density=mean_rho)  # all descents at once
+    rows = []
+    for number, (descent, coast) in enumerate(zip(descents, coasts, strict=True), 1):
+        rows.append(_descent_row(number, descent, float(coast), terrain, rider, ride))
+    return tuple(rows)
+
+
+def _descent_row(number: int, descent: Descent, coast: float, terrain: Terrain, rider: Rider,
+                 ride: Ride) -> DescentRow:
+    vehicle = rider.vehicle
+    segs = slice(descent.start, descent.end)
+    gravity = float(gravity_power(coast, vehicle.mass, descent.avg_grade))
+    radii = terrain.curve_radius[descent.start:descent.end + 1]
+    tight = descent.start + int(np.argmin(radii))
+    curve_speed = float(np.sqrt(vehicle.curve_accel * terrain.curve_radius[tight]))
+    warnings = []
+    if coast > vehicle.max_descent_speed:
+        warnings.append(Notice("fast", "warning", (("coast", coast), ("cap", vehicle.max_descent_speed))))
+    if curve_speed < min(coast, vehicle.max_descent_speed):
+        warnings.append(Notice("curve", "warning", (("radius", float(terrain.curve_radius[tight])),
+                                                    ("where", float(terrain.distance[tight])),
+                                                    ("speed", curve_speed))))
+    return DescentRow(
+        number=number, descent=descent, coast_speed=coast,
+        max_speed=float(np.max(ride.speed[descent.start:descent.end + 1])), gravity_power=gravity,
+        braking_energy=float(np.sum(ride.braking[segs] * ride.time[segs])),
+        curve_distance=float(terrain.distance[tight]), curve_speed=curve_speed, warnings=tuple(warnings),
+    )

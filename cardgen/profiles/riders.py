@@ -1,0 +1,94 @@
+"""Riders: critical power, W′ and the efforts they ride at, on a vehicle."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+from cardgen.errors import VehicleError
+from cardgen.profiles.limits import LIMITS
+from cardgen.profiles.motors import find_motor
+from cardgen.profiles.vehicles import Vehicle
+
+#: An all-day effort is held at about this share of critical power: common practice,
+#: no published source. Sets the default CP from the vehicle's typical power.
+ALL_DAY_SHARE_OF_CP = 0.70
+#: Default W′ as seconds of CP: from memory (recreational riders ≈ 10–20 kJ on the
+#: legs, ≈ 5–8 kJ on the arms), no published source checked.
+W_PRIME_SECONDS_OF_CP = 70.0
+#: Default cap on climbing power, as a share above CP.
+CLIMB_SHARE_ABOVE_CP = 0.10
+
+
+@dataclass(frozen=True)
+class Rider:
+    """A rider on a vehicle, with a chosen effort.
+
+    Attributes
+    ----------
+    name : str
+    vehicle : Vehicle
+    cp : float [W] critical power
+    w_prime : float [J] work capacity above CP
+    flat_power : float [W] held on flats (at most CP)
+    climb_power : float [W] wanted on climbs; used up to ``cp·(1 + climb_share)``
+    climb_share : float [-] largest share above CP allowed on climbs
+    target_speed : float [m/s] climbing speed for the "watts to hold it" column
+    cruise_level : int  assist level away from climbs (vehicles with a motor)
+
+    Notes
+    -----
+    Defaults (:meth:`for_vehicle`): flat power = the vehicle's typical power, CP =
+    flat power / 0.70, W′ = 70 s × CP, climb power = CP. For a handcycle (typical
+    60 W) that gives CP ≈ 86 W, inside the maximum race power of 55 ± 25 W (arm
+    impairment) to 129 ± 26 W (none) measured by Janssen, Dallmeijer & van der Woude
+    (2001), J. Rehabil. Res. Dev. 38:33–40.
+    """
+
+    name: str
+    vehicle: Vehicle
+    cp: float
+    w_prime: float
+    flat_power: float
+    climb_power: float
+    climb_share: float
+    target_speed: float
+    cruise_level: int = 1
+
+    def __post_init__(self):
+        problems = []
+        for what, key, value in (("critical power", "cp_w", self.cp), ("W′", "w_prime_kj", self.w_prime / 1000),
+                                 ("climb power", "climb_w", self.climb_power),
+                                 ("climb share above CP", "climb_share", self.climb_share),
+                                 ("target climbing speed", "target_kmh", self.target_speed * 3.6)):
+            problem = LIMITS[key].problem(value)
+            if problem:
+                problems.append(f"{what} {problem.removeprefix('= ')}")
+        if not 1.0 <= self.flat_power <= self.cp:
+            problems.append(f"flat power {self.flat_power:g} W must be between 1 W and the CP "
+                            f"({self.cp:g} W): efforts above CP cannot be held for long")
+        if self.vehicle.motor is not None:
+            levels = len(find_motor(self.vehicle.motor).levels)
+            if not 0 <= self.cruise_level <= levels:
+                problems.append(f"cruise assist level {self.cruise_level} is outside 0…{levels}")
+        if problems:
+            raise VehicleError(f"rider '{self.name}': " + "; ".join(problems))
+
+    @property
+    def climb_power_used(self) -> float:
+        """Power actually used on climbs [W]: the wanted power, capped above CP."""
+        return min(self.climb_power, self.cp * (1.0 + self.climb_share))
+
+    @classmethod
+    def for_vehicle(cls, vehicle: Vehicle, name: str | None = None, **given) -> Rider:
+        """A rider with the defaults of the Notes, any of them replaced by ``given``.
+
+        Defaults follow what is given: W′ and the climbing power from the CP, the CP
+        from the flat power."""
+        flat = given.get("flat_power", vehicle.typical_power)
+        cp = given.get("cp", max(flat, vehicle.typical_power) / ALL_DAY_SHARE_OF_CP)
+        values = dict(
+            cp=cp, w_prime=W_PRIME_SECONDS_OF_CP * cp, flat_power=flat, climb_power=cp,
+            climb_share=CLIMB_SHARE_ABOVE_CP, target_speed=vehicle.climb_speed,
+        )
+        values.update(given)
+        return cls(name=name or vehicle.label, vehicle=vehicle, **values)

@@ -1,0 +1,97 @@
+"""Reading TOML profile files and checking their tables of numbers, in one place."""
+
+from __future__ import annotations
+
+import difflib
+import os
+import stat
+import tomllib
+from collections.abc import Iterable, Mapping
+from pathlib import Path
+from typing import Any
+
+from cardgen.errors import CardgenError
+from cardgen.profiles.limits import LIMITS
+
+#: Largest TOML file read [bytes]: a site of 10,000 riders is about 1.5 MB.
+MAX_TOML_BYTES = 16 * 1024 * 1024
+
+
+def read_text_bounded(path: Path, what: str, error: type[CardgenError], limit: int = MAX_TOML_BYTES) -> str:
+    """The UTF-8 text of a regular file no larger than ``limit`` bytes.
+
+    FIFOs, devices and folders are refused before anything is read (reading them
+    could hang or never end), and so is a file over the limit.
+    """
+    path = Path(path)
+    try:
+        st = os.stat(path)
+    except FileNotFoundError:
+        raise error(f"{path}: no such {what} file; check the path") from None
+    except OSError as exc:
+        raise error(f"{path}: cannot read the {what} file ({exc.strerror or exc})") from None
+    if not stat.S_ISREG(st.st_mode):
+        raise error(f"{path}: not a regular file; give the path of a {what} file") from None
+    if st.st_size > limit:
+        raise error(f"{path}: {st.st_size:,} bytes is more than a {what} file may hold "
+                    f"({limit:,} bytes)") from None
+    try:
+        with open(path, "rb") as handle:
+            data = handle.read(limit + 1)
+    except OSError as exc:
+        raise error(f"{path}: cannot read the {what} file ({exc.strerror or exc})") from None
+    if len(data) > limit:
+        raise error(f"{path}: more than a {what} file may hold ({limit:,} bytes)") from None
+    try:
+        return data.decode("utf-8")
+    except UnicodeDecodeError as exc:
+        raise error(f"{path}: not UTF-8 text ({exc.reason} at byte {exc.start}); save it as UTF-8") from None
+
+
+def read_toml(path: Path, what: str, error: type[CardgenError]) -> tuple[dict, str]:
+    """A TOML file as (data, text); every failure is ``error`` naming the file."""
+    text = read_text_bounded(path, what, error)
+    try:
+        return tomllib.loads(text), text
+    except tomllib.TOMLDecodeError as exc:
+        raise error(f"{path}: not valid TOML: {exc}; fix the syntax there") from None
+
+
+def close_matches(word: str, known: Iterable[str]) -> str:
+    """", did you mean 'x' or 'y'?" for the closest known words, or ""."""
+    matches = difflib.get_close_matches(word, list(known), n=3, cutoff=0.6)
+    if not matches:
+        return ""
+    return "; did you mean " + " or ".join(f"'{m}'" for m in matches) + "?"
+
+
+def check_numbers(table: Mapping[str, Any], keys: Mapping[str, str], *,
+                  required: bool = True) -> tuple[dict[str, float], list[str]]:
+    """Check the numbers of a table against :data:`LIMITS`.
+
+    ``keys`` maps each key of the file to the attribute it fills. Returns (values in
+    SI by attribute, problems as "'key' …" phrases); a missing key is a problem when
+    ``required``.
+    """
+    values: dict[str, float] = {}
+    problems: list[str] = []
+    for key, attr in keys.items():
+        raw = table.get(key)
+        if raw is None:
+            if required:
+                problems.append(f"missing key '{key}'")
+            continue
+        limit = LIMITS[key]
+        problem = limit.problem(raw)
+        if problem:
+            problems.append(f"'{key}' {problem}")
+        else:
+            values[attr] = float(raw) * limit.to_si
+    return values, problems
+
+
+def unknown_keys(table: Mapping[str, Any], known: Iterable[str]) -> list[str]:
+    """A problem phrase for every key of ``table`` not in ``known``, with close matches."""
+    known = list(known)
+    return [f"unknown key '{key}'{close_matches(key, known)} (allowed: {', '.join(sorted(known))})"
+            for key in table if key not in known]

@@ -1,0 +1,57 @@
+"""Checkpoints on a route: by waypoint name, by distance, or the waypoints typed
+"checkpoint"."""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+from dataclasses import dataclass
+
+from cardgen.errors import ConfigError
+from cardgen.route.cues import place_points
+from cardgen.route.gpx import Track
+from cardgen.route.terrain import Terrain
+
+
+@dataclass(frozen=True)
+class Checkpoint:
+    name: str
+    distance: float  # [m] from the start
+
+
+def checkpoints_from_waypoints(track: Track, terrain: Terrain) -> list[Checkpoint]:
+    """Waypoints of type "checkpoint" (or named "Checkpoint …") on the route."""
+    chosen = [w for w in track.waypoints
+              if w.kind.strip().lower() == "checkpoint" or w.name.strip().lower().startswith("checkpoint")]
+    cues, _ = place_points(terrain, chosen, "waypoint")
+    return [Checkpoint(c.text, c.distance) for c in cues]
+
+
+def resolve_checkpoints(items: Sequence[str | float], track: Track, terrain: Terrain,
+                        where: str) -> list[Checkpoint]:
+    """The checkpoints a configuration names: waypoint names (str) or distances [m];
+    none given: the waypoints typed "checkpoint". Sorted by distance.
+
+    Raises ConfigError naming ``where`` (the GPX file) for a name that is not a
+    waypoint or a distance off the route.
+    """
+    if not items:
+        return checkpoints_from_waypoints(track, terrain)
+    by_name = {c.name: c for c in checkpoints_from_waypoints(track, terrain)}
+    names = {w.name for w in track.waypoints}
+    out = []
+    for item in items:
+        if isinstance(item, str):
+            if item in by_name:
+                out.append(by_name[item])
+            elif item in names:
+                cues, _ = place_points(terrain, [w for w in track.waypoints if w.name == item], "waypoint")
+                out.extend(Checkpoint(c.text, c.distance) for c in cues)
+            else:
+                raise ConfigError(f"checkpoint {item!r} is not a waypoint of {where}; "
+                                  "use a waypoint name or a distance in km")
+        else:
+            if not 0 <= item <= terrain.length:
+                raise ConfigError(f"checkpoint at {item / 1000:g} km is beyond the route's "
+                                  f"{terrain.length / 1000:.1f} km")
+            out.append(Checkpoint(f"Checkpoint at {item / 1000:g} km", float(item)))
+    return sorted(out, key=lambda c: c.distance)
