@@ -1,15 +1,17 @@
 # The two set-up commands of README.md: `make demo` and `make test`.
+# `make check` is the quick loop while working: lint and the fast tests, no re-install.
 PYTHON ?= python3
 VENV   := .venv
 BIN    := $(VENV)/bin
 SOURCES := pyproject.toml $(shell find cardgen templates sample_routes -type f -not -name '*.pyc' 2>/dev/null)
+CODE   := cardgen tests bench scripts sample_routes
 
-.PHONY: demo test system lint bench clean
+.PHONY: demo test check system lint bench docs clean
 
 system:
 	@scripts/system-packages.sh
 
-# A regular (not editable) install: the tests check the installed package.
+# A regular (not editable) install: `make test` checks the installed package.
 $(VENV)/installed: $(SOURCES)
 	test -x $(BIN)/python || $(PYTHON) -m venv $(VENV)
 	$(BIN)/python -m pip install --quiet --upgrade pip
@@ -20,10 +22,23 @@ demo: system $(VENV)/installed
 	$(BIN)/cardgen build
 
 lint: $(VENV)/installed
-	$(BIN)/ruff check cardgen tests bench scripts sample_routes templates
+	$(BIN)/ruff check $(CODE) templates
+	$(BIN)/ruff format --check $(CODE)
+	$(BIN)/lint-imports
+	$(BIN)/mypy cardgen
 
+# Everything, as CI runs it, with the coverage figure of the installed package.
 test: system $(VENV)/installed lint
-	$(BIN)/pytest -q
+	$(BIN)/pytest -q --cov --cov-report=term
+
+# Lint and the tests not marked slow, against the source tree (no re-install).
+check:
+	test -x $(BIN)/python || $(MAKE) $(VENV)/installed
+	$(BIN)/ruff check $(CODE) templates
+	$(BIN)/ruff format --check $(CODE)
+	$(BIN)/lint-imports
+	$(BIN)/mypy cardgen
+	PYTHONPATH=$(CURDIR) $(BIN)/python -m pytest -q -m "not slow" -p no:cacheprovider
 
 bench: $(VENV)/installed
 	$(BIN)/python bench/bench_solver.py

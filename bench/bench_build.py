@@ -32,7 +32,9 @@ def synthetic_site(folder: Path) -> Path:
             (folder / name).write_text(text, encoding="utf-8")
             routes.append(name)
     demo = (SAMPLES / "site.toml").read_text(encoding="utf-8")
-    riders = demo[demo.index("[[riders]]"):].replace('routes = ["riverside-loop", "hill-loop", "accessible-path"]\n', "")
+    riders = demo[demo.index("[[riders]]") :].replace(
+        'routes = ["riverside-loop", "hill-loop", "accessible-path"]\n', ""
+    )
     riders = riders.replace('routes = ["riverside-loop", "accessible-path", "hill-loop"]\n', "")
     body = '[site]\ntitle = "Synthetic"\n[event]\nstart = "08:00"\n'
     body += "".join(f'[[routes]]\ngpx = "{r}"\n' for r in routes) + riders
@@ -49,11 +51,12 @@ def timed_build(config_path: Path, out: Path, jobs: int):
 
 def card_costs(config_path: Path, work: Path):
     """Time to make one card's HTML and to render its PDF, on the demo's hill loop."""
-    from cardgen.build import _checkpoints, _page, _RoutePlans
     from cardgen.plan import analyse, make_plan
     from cardgen.render.html import RiderView, environment, symbols_for
+    from cardgen.render.pages import page_geometry
     from cardgen.render.pdf import write_pdf
     from cardgen.render.plots import elevation_profile
+    from cardgen.route.checkpoints import resolve_checkpoints
     from cardgen.route.gpx import read_gpx
     from cardgen.route.terrain import build_terrain
 
@@ -63,22 +66,33 @@ def card_costs(config_path: Path, work: Path):
     analysis = analyse(track, build_terrain(track))
     rider = config.riders[0].rider
     plan = make_plan(analysis, rider=rider, conditions=config.conditions)
-    rp = _RoutePlans(route, "hill-loop", "")
+    checkpoints = resolve_checkpoints(route.checkpoints, track, analysis.terrain, str(route.gpx))
     env = environment(None, config.units)
     work.mkdir(parents=True, exist_ok=True)
     n = 5
     t0 = time.perf_counter()
     for _ in range(n):
-        svg, alt = elevation_profile(analysis.terrain, analysis.climbs,
-                                     [(c.name, c.distance) for c in _checkpoints(rp, analysis)])
+        svg, alt = elevation_profile(
+            analysis.terrain, analysis.climbs, [(c.name, c.distance) for c in checkpoints]
+        )
     t_plot = (time.perf_counter() - t0) / n
     (work / "profile.svg").write_text(svg)
     t0 = time.perf_counter()
     for _ in range(n):
         html = env.get_template("card.html").render(
-            site={}, route={"name": track.name, "distance": analysis.terrain.length, "gain": analysis.terrain.gain},
-            units="metric", version="", symbols_for=symbols_for, rider=RiderView(rider.name, "r", plan, "r.pdf", None),
-            plan=plan, start=None, profile_alt=alt, profile="profile.svg", page=_page(config), qr="")
+            site={},
+            route={"name": track.name, "distance": analysis.terrain.length, "gain": analysis.terrain.gain},
+            units="metric",
+            version="",
+            symbols_for=symbols_for,
+            rider=RiderView(rider.name, "r", plan, "r.pdf", None),
+            plan=plan,
+            start=None,
+            profile_alt=alt,
+            profile="profile.svg",
+            page=page_geometry(config.card_size, config.large_print),
+            qr="",
+        )
     t_html = (time.perf_counter() - t0) / n
     t0 = time.perf_counter()
     for _ in range(n):
@@ -91,12 +105,16 @@ def main() -> None:
     with tempfile.TemporaryDirectory() as tmp:
         tmp = Path(tmp)
         t_plot, t_html, t_pdf = card_costs(SAMPLES / "site.toml", tmp / "card")
-        print(f"one card: HTML {t_html * 1000:.0f} ms, PDF {t_pdf * 1000:.0f} ms; PDF share "
-              f"{t_pdf / (t_html + t_pdf):.0%} (target >= 80%). The route's profile plot, shared by "
-              f"all its cards and its page: {t_plot * 1000:.0f} ms; with it counted on one card the share "
-              f"would be {t_pdf / (t_plot + t_html + t_pdf):.0%}")
-        for label, config_path in (("demo", SAMPLES / "site.toml"), ("20 routes x 5 riders",
-                                                                      synthetic_site(tmp / "synthetic"))):
+        print(
+            f"one card: HTML {t_html * 1000:.0f} ms, PDF {t_pdf * 1000:.0f} ms; PDF share "
+            f"{t_pdf / (t_html + t_pdf):.0%} (target >= 80%). The route's profile plot, shared by "
+            f"all its cards and its page: {t_plot * 1000:.0f} ms; with it counted on one card the share "
+            f"would be {t_pdf / (t_plot + t_html + t_pdf):.0%}"
+        )
+        for label, config_path in (
+            ("demo", SAMPLES / "site.toml"),
+            ("20 routes x 5 riders", synthetic_site(tmp / "synthetic")),
+        ):
             out = tmp / "out"
             one, report = timed_build(config_path, out, 1)
             two, _ = timed_build(config_path, out, 2)
@@ -105,10 +123,12 @@ def main() -> None:
             rebuild = time.perf_counter() - t0
             assert again.up_to_date
             share = report.seconds["pdf"] / one
-            print(f"{label}: {report.cards_rendered} cards; --jobs 1 {one:.1f} s, --jobs 2 {two:.1f} s, "
-                  f"speed-up {one / two:.2f}x (target >= 1.7x); PDF share of the --jobs 1 build {share:.0%} "
-                  f"(target >= 75%); no-change rebuild {rebuild:.2f} s = {rebuild / two:.1%} of the --jobs 2 "
-                  f"build (target <= 5%)")
+            print(
+                f"{label}: {report.cards_rendered} cards; --jobs 1 {one:.1f} s, --jobs 2 {two:.1f} s, "
+                f"speed-up {one / two:.2f}x (target >= 1.7x); PDF share of the --jobs 1 build {share:.0%} "
+                f"(target >= 75%); no-change rebuild {rebuild:.2f} s = {rebuild / two:.1%} of the --jobs 2 "
+                f"build (target <= 5%)"
+            )
 
 
 if __name__ == "__main__":

@@ -41,10 +41,14 @@ def main() -> None:
         t2 = time.perf_counter()
         best_analysis = min(best_analysis, t1 - t0)
         best_plans = min(best_plans, t2 - t1)
-    print(f"route: {track.points:,} points, {analysis.terrain.length / 1000:.0f} km, "
-          f"{len(analysis.climbs)} climbs, {len(analysis.descents)} descents")
-    print(f"analysis: {best_analysis:.2f} s; five plans: {best_plans:.2f} s; "
-          f"plans / analysis = {best_plans / best_analysis:.2f}x (target <= 1x)")
+    print(
+        f"route: {track.points:,} points, {analysis.terrain.length / 1000:.0f} km, "
+        f"{len(analysis.climbs)} climbs, {len(analysis.descents)} descents"
+    )
+    print(
+        f"analysis: {best_analysis:.2f} s; five plans: {best_plans:.2f} s; "
+        f"plans / analysis = {best_plans / best_analysis:.2f}x (target <= 1x)"
+    )
     for plan in plans:
         print(f"  {plan.rider.vehicle.name:<15} {plan.totals.time / 3600:6.1f} h")
 

@@ -77,13 +77,17 @@ def make_route(path: Path) -> None:
     lon = -140.3 + np.degrees(x / (6371008.8 * math.cos(math.radians(-40.5))))
     t0 = np.datetime64("2026-06-01T06:00:00")
     times = (t0 + (s / 7.0).astype("timedelta64[s]")).astype(str)
-    lines = ['<?xml version="1.0" encoding="UTF-8"?>',
-             '<gpx version="1.1" creator="cardgen bench" xmlns="http://www.topografix.com/GPX/1/1">']
+    lines = [
+        '<?xml version="1.0" encoding="UTF-8"?>',
+        '<gpx version="1.1" creator="cardgen bench" xmlns="http://www.topografix.com/GPX/1/1">',
+    ]
     for i in range(0, POINTS, 12_000):
         lines.append(f'<wpt lat="{lat[i]:.7f}" lon="{lon[i]:.7f}"><name>Control {i // 12_000}</name></wpt>')
     lines.append("<trk><name>Long synthetic route</name><trkseg>")
-    lines += [f'<trkpt lat="{a:.7f}" lon="{b:.7f}"><ele>{c:.1f}</ele><time>{t}Z</time></trkpt>'
-              for a, b, c, t in zip(lat, lon, z, times, strict=True)]
+    lines += [
+        f'<trkpt lat="{a:.7f}" lon="{b:.7f}"><ele>{c:.1f}</ele><time>{t}Z</time></trkpt>'
+        for a, b, c, t in zip(lat, lon, z, times, strict=True)
+    ]
     lines.append("</trkseg></trk></gpx>")
     path.write_text("\n".join(lines) + "\n", encoding="utf-8")
 
@@ -109,14 +113,21 @@ def main() -> None:
     cardgen = best([py, "-m", "cardgen", "route", str(route), "--json"], args.repeat)
     bare = best([py, "-c", BARE, str(route)], args.repeat)
     gpxpy_time = best([py, "-c", GPXPY, str(route)], 1)
-    peak_kib = int(subprocess.run([py, "-c", PEAK, str(route)], check=True, capture_output=True,
-                                  text=True).stdout.strip())
+    peak_kib = int(
+        subprocess.run(
+            [py, "-c", PEAK, str(route)], check=True, capture_output=True, text=True
+        ).stdout.strip()
+    )
     size = route.stat().st_size / 2**20
     print(f"route: {POINTS:,} trackpoints, {size:.1f} MiB")
-    print(f"cardgen route --json: {cardgen:.2f} s; bare iterparse: {bare:.2f} s; "
-          f"ratio {cardgen / bare:.2f}x (target <= 1.5x)")
-    print(f"gpxpy + per-point loops: {gpxpy_time:.2f} s; cardgen is {gpxpy_time / cardgen:.1f}x faster "
-          f"(target >= 15x)")
+    print(
+        f"cardgen route --json: {cardgen:.2f} s; bare iterparse: {bare:.2f} s; "
+        f"ratio {cardgen / bare:.2f}x (target <= 1.5x)"
+    )
+    print(
+        f"gpxpy + per-point loops: {gpxpy_time:.2f} s; cardgen is {gpxpy_time / cardgen:.1f}x faster "
+        f"(target >= 15x)"
+    )
     print(f"cardgen peak memory: {peak_kib / 1024:.0f} MiB (target <= 150 MB)")
 
 

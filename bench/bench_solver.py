@@ -45,8 +45,10 @@ def main() -> None:
     t0 = time.perf_counter()
     reference = np.empty(m)
     for i in range(m):
+
         def excess(v, i=i):
             return power_for_speed(v, grade=grade[i], headwind=wind[i], **PARAMS) - power[i]
+
         reference[i] = brentq(excess, 0.0, 200.0, xtol=1e-12)
     loop_time = time.perf_counter() - t0
 
@@ -61,16 +63,22 @@ def main() -> None:
         def residual(v, w=w, const=const, target=target):
             air = v + w
             return v * (0.5 * rho * cda * air * abs(air) + const + BEARING_B * v) - target
+
         plain[i] = brentq(residual, 0.0, 200.0, xtol=1e-12)
     plain_time = time.perf_counter() - t0
 
     worst = max(np.max(np.abs(speed[:m] - reference)), np.max(np.abs(speed[:m] - plain)))
     per_vector = vector_time / n
     print(f"vectorised: {n:,} segments in {vector_time:.3f} s = {per_vector * 1e9:.0f} ns/segment")
-    for name, elapsed in (("brentq on power_for_speed", loop_time), ("brentq on a math residual", plain_time)):
+    for name, elapsed in (
+        ("brentq on power_for_speed", loop_time),
+        ("brentq on a math residual", plain_time),
+    ):
         per_loop = elapsed / m
-        print(f"{name}: {m:,} segments in {elapsed:.3f} s = {per_loop * 1e6:.1f} µs/segment; "
-              f"vectorised is {per_loop / per_vector:.0f}x faster per segment (target >= 100x)")
+        print(
+            f"{name}: {m:,} segments in {elapsed:.3f} s = {per_loop * 1e6:.1f} µs/segment; "
+            f"vectorised is {per_loop / per_vector:.0f}x faster per segment (target >= 100x)"
+        )
     print(f"largest speed difference on the sample: {worst:.2e} m/s")
 
 

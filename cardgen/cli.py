@@ -65,25 +65,49 @@ def cmd_solve(args) -> int:
     from cardgen.physics.steady import speed_for_power
     from cardgen.units import kmh_to_ms, ms_to_kmh, pct_to_grade
 
-    for name in ("power", "speed", "grade", "headwind", "mass", "crr", "cda", "efficiency",
-                 "altitude", "air_density"):
+    for name in (
+        "power",
+        "speed",
+        "grade",
+        "headwind",
+        "mass",
+        "crr",
+        "cda",
+        "efficiency",
+        "altitude",
+        "air_density",
+    ):
         _finite(getattr(args, name), "--" + name.replace("_", "-"))
     _ensure(abs(args.grade) <= GRADE_LIMIT_PCT, f"--grade {args.grade} % is outside ±{GRADE_LIMIT_PCT:g} %")
-    _ensure(abs(args.headwind) <= WIND_LIMIT_KMH, f"--headwind {args.headwind} km/h is outside ±{WIND_LIMIT_KMH:g} km/h")
+    _ensure(
+        abs(args.headwind) <= WIND_LIMIT_KMH,
+        f"--headwind {args.headwind} km/h is outside ±{WIND_LIMIT_KMH:g} km/h",
+    )
     if args.efficiency is not None:
         _ensure(0.5 <= args.efficiency <= 1, f"--efficiency {args.efficiency} is outside 0.5…1")
     mass, crr, cda, eff, bearings, label = _resistance(args)
     rho = _air_density(args)
     grade = float(pct_to_grade(args.grade))
     headwind = float(kmh_to_ms(args.headwind))
-    common = dict(mass=mass, crr=crr, cda=cda, efficiency=eff, grade=grade, headwind=headwind,
-                  air_density=rho, bearings=bearings)
+    common = dict(
+        mass=mass,
+        crr=crr,
+        cda=cda,
+        efficiency=eff,
+        grade=grade,
+        headwind=headwind,
+        air_density=rho,
+        bearings=bearings,
+    )
     if args.power is not None:
         _ensure(abs(args.power) <= POWER_LIMIT_W, f"--power {args.power} W is outside ±{POWER_LIMIT_W:g} W")
         speed = float(speed_for_power(args.power, **common))
         _ensure(math.isfinite(speed), "no steady speed exists for these values; check the inputs")
     else:
-        _ensure(0 <= args.speed <= SPEED_LIMIT_KMH, f"--speed {args.speed} km/h is outside 0…{SPEED_LIMIT_KMH:g} km/h")
+        _ensure(
+            0 <= args.speed <= SPEED_LIMIT_KMH,
+            f"--speed {args.speed} km/h is outside 0…{SPEED_LIMIT_KMH:g} km/h",
+        )
         speed = float(kmh_to_ms(args.speed))
     parts = steady_breakdown(speed, **common)
     power = float(parts.total) if args.power is None else float(args.power)
@@ -167,16 +191,20 @@ def cmd_route(args) -> int:
         return 0
     r, v, t = data["route"], plan.rider.vehicle, data["totals"]
     print(f"{r['name']}: {r['distance_km']:.1f} km, +{r['gain_m']:.0f} m / -{r['loss_m']:.0f} m")
-    print(f"{v.label} ({v.name}), {v.mass:.0f} kg, at {plan.rider.flat_power:.0f} W; "
-          f"climb target {plan.rider.target_speed * 3.6:.1f} km/h")
+    print(
+        f"{v.label} ({v.name}), {v.mass:.0f} kg, at {plan.rider.flat_power:.0f} W; "
+        f"climb target {plan.rider.target_speed * 3.6:.1f} km/h"
+    )
     print()
     if data["climbs"]:
         print(" #   km        length  gain  avg   max   FIETS band       W@target  km/h  time")
         for i, c in enumerate(data["climbs"], 1):
-            print(f"{i:2}  {c['start_km']:5.1f}-{c['end_km']:<5.1f} {c['length_m']:6.0f} m {c['gain_m']:4.0f}m "
-                  f"{c['avg_grade_pct']:4.1f}% {c['max_grade_pct']:4.1f}% {c['score']:5.2f} "
-                  f"{c['band']:<10} {c['power_for_target_w']:6.0f} W {c['speed_at_effort_kmh']:5.1f} "
-                  f"{duration(c['time_s']):>5}")
+            print(
+                f"{i:2}  {c['start_km']:5.1f}-{c['end_km']:<5.1f} {c['length_m']:6.0f} m {c['gain_m']:4.0f}m "
+                f"{c['avg_grade_pct']:4.1f}% {c['max_grade_pct']:4.1f}% {c['score']:5.2f} "
+                f"{c['band']:<10} {c['power_for_target_w']:6.0f} W {c['speed_at_effort_kmh']:5.1f} "
+                f"{duration(c['time_s']):>5}"
+            )
             if c["assist_level"] is not None:
                 print(f"      assist: {c['assist_level']}")
             for w in c["warnings"]:
@@ -187,16 +215,20 @@ def cmd_route(args) -> int:
     if data["descents"]:
         print(" #   km          drop  avg     coasting   gravity")
         for i, d in enumerate(data["descents"], 1):
-            print(f"{i:2}  {d['start_km']:5.1f}-{d['end_km']:<5.1f} {d['drop_m']:5.0f} m {d['avg_grade_pct']:5.1f}% "
-                  f"{d['coast_speed_kmh']:6.0f} km/h {-d['gravity_power_w']:6.0f} W from gravity")
+            print(
+                f"{i:2}  {d['start_km']:5.1f}-{d['end_km']:<5.1f} {d['drop_m']:5.0f} m {d['avg_grade_pct']:5.1f}% "
+                f"{d['coast_speed_kmh']:6.0f} km/h {-d['gravity_power_w']:6.0f} W from gravity"
+            )
             for w in d["warnings"]:
                 print(f"      ! {w}")
     else:
         print("No descents.")
     print()
     battery = "" if t["battery_wh"] is None else f", battery about {t['battery_wh']:.0f} Wh"
-    print(f"Moving time {duration(t['time_s'])}, work {t['energy_kj']:.0f} kJ, "
-          f"food about {t['food_kcal']:.0f} kcal{battery}")
+    print(
+        f"Moving time {duration(t['time_s'])}, work {t['energy_kj']:.0f} kJ, "
+        f"food about {t['food_kcal']:.0f} kcal{battery}"
+    )
     turns = sum(1 for c in plan.cues if c.cue.kind == "turn")
     print(f"{len(plan.cues)} cues ({turns} turns)")
     for w in plan.warnings:
@@ -218,7 +250,9 @@ def _site_config(target: str | None):
         return load_config(demo_site()), True
     path = Path(target)
     if path.is_dir():
-        return (load_config(path / "site.toml") if (path / "site.toml").is_file() else folder_config(path)), False
+        return (
+            load_config(path / "site.toml") if (path / "site.toml").is_file() else folder_config(path)
+        ), False
     if not path.exists():
         raise CardgenError(f"{path}: no such file or folder; give a site.toml or a folder of .gpx files")
     return load_config(path), False
@@ -229,8 +263,13 @@ def _progress_printer():
     if sys.stderr.isatty():
         from rich.progress import BarColumn, MofNCompleteColumn, Progress, TextColumn
 
-        bar = Progress(TextColumn("cards"), BarColumn(), MofNCompleteColumn(), TextColumn("{task.description}"),
-                       transient=True)
+        bar = Progress(
+            TextColumn("cards"),
+            BarColumn(),
+            MofNCompleteColumn(),
+            TextColumn("{task.description}"),
+            transient=True,
+        )
         task = None
 
         def update(done, total, label):
@@ -258,17 +297,29 @@ def cmd_build(args) -> int:
     for warning in config.warnings:
         print(f"cardgen: warning: {warning}", file=sys.stderr)
     out = Path(args.output) if args.output else (Path.cwd() / "site" if demo else config.output)
-    jobs = args.jobs or os.cpu_count() or 1
-    _ensure(1 <= jobs <= 64, f"--jobs {jobs} is outside 1…64")
+    jobs = args.jobs or min(os.cpu_count() or 1, 64)
     progress, close = _progress_printer()
     try:
-        report = build_site(config, out, jobs=jobs, pdf=not args.no_pdf, keep_going=args.keep_going,
-                            say=lambda text: print(text, file=sys.stderr), progress=progress)
+        report = build_site(
+            config,
+            out,
+            jobs=jobs,
+            pdf=not args.no_pdf,
+            keep_going=args.keep_going,
+            say=lambda text: print(text, file=sys.stderr),
+            progress=progress,
+        )
     finally:
         close()
     if not report.up_to_date:
-        print(f"built {out}: {report.routes} routes ({report.routes_reused} unchanged), "
-              f"{report.cards_rendered} cards rendered, {report.cards_reused} reused")
+        print(
+            f"built {out}: {report.routes - len(report.failed)} of {report.routes} routes "
+            f"({report.routes_reused} unchanged), {report.cards_rendered} cards rendered, {report.cards_reused} reused"
+        )
+    if report.failed:
+        print(f"cardgen: {len(report.failed)} route(s) failed and were left out:", file=sys.stderr)
+        for failure in report.failed:
+            print(f"  {failure}", file=sys.stderr)
     print(f"open {out / 'index.html'}")
     return 1 if report.failed else 0
 
@@ -340,7 +391,6 @@ def cmd_serve(args) -> int:
     from http.server import SimpleHTTPRequestHandler, ThreadingHTTPServer
     from pathlib import Path
 
-    _ensure(0 <= args.port <= 65535, f"--port {args.port} is outside 0…65535 (0: any free port)")
     if args.watch is not None:
         from cardgen.build import build_site
 
@@ -378,99 +428,195 @@ def cmd_vehicles(args) -> int:
     if args.json:
         rows = []
         for v in library.values():
-            rows.append({
-                "name": v.name, "label": v.label, "wheels": v.wheels, "propulsion": v.propulsion,
-                "vehicle_mass_kg": v.vehicle_mass, "rider_mass_kg": v.rider_mass,
-                "mass_kg": v.mass, "cda_m2": v.cda, "crr": v.crr, "efficiency": v.efficiency,
-                "wheel_inertia_kg": v.wheel_inertia_mass, "gross_efficiency": v.gross_efficiency,
-                "typical_power_w": v.typical_power,
-                "climb_speed_kmh": float(ms_to_kmh(v.climb_speed)),
-                "max_descent_speed_kmh": float(ms_to_kmh(v.max_descent_speed)),
-                "curve_accel_m_s2": v.curve_accel, "sources": dict(v.sources),
-            })
+            rows.append(
+                {
+                    "name": v.name,
+                    "label": v.label,
+                    "wheels": v.wheels,
+                    "propulsion": v.propulsion,
+                    "vehicle_mass_kg": v.vehicle_mass,
+                    "rider_mass_kg": v.rider_mass,
+                    "mass_kg": v.mass,
+                    "cda_m2": v.cda,
+                    "crr": v.crr,
+                    "efficiency": v.efficiency,
+                    "wheel_inertia_kg": v.wheel_inertia_mass,
+                    "gross_efficiency": v.gross_efficiency,
+                    "typical_power_w": v.typical_power,
+                    "climb_speed_kmh": float(ms_to_kmh(v.climb_speed)),
+                    "max_descent_speed_kmh": float(ms_to_kmh(v.max_descent_speed)),
+                    "curve_accel_m_s2": v.curve_accel,
+                    "sources": dict(v.sources),
+                }
+            )
         print(json.dumps(rows, indent=2))
         return 0
     print(f"{'name':<16} {'wheels':>6} {'mass kg':>8} {'CdA m²':>7} {'Crr':>7} {'drive':>6}  description")
     for v in library.values():
-        print(f"{v.name:<16} {v.wheels:>6} {v.mass:>8.0f} {v.cda:>7.2f} {v.crr:>7.4f} "
-              f"{v.efficiency * 100:>5.1f}%  {v.label}")
+        print(
+            f"{v.name:<16} {v.wheels:>6} {v.mass:>8.0f} {v.cda:>7.2f} {v.crr:>7.4f} "
+            f"{v.efficiency * 100:>5.1f}%  {v.label}"
+        )
     print("\nmass is vehicle + rider(s). Sources of every value: cardgen vehicles --json")
     return 0
 
 
 def build_parser() -> argparse.ArgumentParser:
     parser = argparse.ArgumentParser(
-        prog="cardgen", description="Route power cards and pages from GPX routes.",
+        prog="cardgen",
+        description="Route power cards and pages from GPX routes.",
     )
     parser.add_argument("--version", action="version", version=f"cardgen {__version__}")
     sub = parser.add_subparsers(dest="command", metavar="COMMAND", required=True)
 
-    build = sub.add_parser("build", help="build the site and PDF cards (no argument: the demo event)",
-                           description="Build the site and PDF cards. No argument: the bundled demo event into ./site.")
+    build = sub.add_parser(
+        "build",
+        help="build the site and PDF cards (no argument: the demo event)",
+        description="Build the site and PDF cards. No argument: the bundled demo event into ./site.",
+    )
     build.add_argument("site", nargs="?", metavar="SITE.toml|FOLDER")
     build.add_argument("-o", "--output", metavar="OUT", help="output folder")
-    build.add_argument("--jobs", type=int, metavar="N", help="card-rendering processes (default: the number of cores)")
+    build.add_argument(
+        "--jobs",
+        type=_ranged(1, 64, "worker processes"),
+        metavar="N",
+        help="card-rendering processes (default: the number of cores)",
+    )
     build.add_argument("--no-pdf", action="store_true", help="pages only, no PDF cards")
-    build.add_argument("--keep-going", action="store_true", help="publish the good routes when some fail (exit 1)")
+    build.add_argument(
+        "--keep-going", action="store_true", help="publish the good routes when some fail (exit 1)"
+    )
     build.set_defaults(run=cmd_build)
 
-    check = sub.add_parser("check", help="check a site's configuration and routes; writes nothing",
-                           description="Check a site's configuration and routes; writes nothing.")
+    check = sub.add_parser(
+        "check",
+        help="check a site's configuration and routes; writes nothing",
+        description="Check a site's configuration and routes; writes nothing.",
+    )
     check.add_argument("site", metavar="SITE.toml|FOLDER")
     check.set_defaults(run=cmd_check)
 
-    solve = sub.add_parser("solve", help="steady power for a speed, or speed for a power",
-                           description="Steady power for a speed, or speed for a power.")
+    solve = sub.add_parser(
+        "solve",
+        help="steady power for a speed, or speed for a power",
+        description="Steady power for a speed, or speed for a power.",
+    )
     goal = solve.add_mutually_exclusive_group(required=True)
     goal.add_argument("--power", type=float, metavar="W", help="rider power at the pedals")
     goal.add_argument("--speed", type=float, metavar="KMH", help="ground speed")
     solve.add_argument("--grade", type=float, default=0.0, metavar="PCT", help="road grade in %%")
-    solve.add_argument("--headwind", type=float, default=0.0, metavar="KMH",
-                       help="wind against the direction of travel; negative is a tailwind")
+    solve.add_argument(
+        "--headwind",
+        type=float,
+        default=0.0,
+        metavar="KMH",
+        help="wind against the direction of travel; negative is a tailwind",
+    )
     solve.add_argument("--vehicle", metavar="NAME|FILE", help="built-in vehicle or TOML profile")
     solve.add_argument("--mass", type=float, metavar="KG", help="total mass, rider + vehicle")
     solve.add_argument("--crr", type=float, metavar="X", help="rolling-resistance coefficient")
     solve.add_argument("--cda", type=float, metavar="M2", help="drag area")
-    solve.add_argument("--efficiency", type=float, metavar="E",
-                       help="drivetrain efficiency (default: the vehicle's; 1.0 with --mass/--crr/--cda)")
+    solve.add_argument(
+        "--efficiency",
+        type=float,
+        metavar="E",
+        help="drivetrain efficiency (default: the vehicle's; 1.0 with --mass/--crr/--cda)",
+    )
     air = solve.add_mutually_exclusive_group()
-    air.add_argument("--altitude", type=float, default=0.0, metavar="M",
-                     help="altitude for the ISA air density (default 0)")
+    air.add_argument(
+        "--altitude",
+        type=float,
+        default=0.0,
+        metavar="M",
+        help="altitude for the ISA air density (default 0)",
+    )
     air.add_argument("--air-density", type=float, metavar="KGM3", help="air density")
     solve.add_argument("--json", action="store_true", help="print one JSON object")
     solve.set_defaults(run=cmd_solve)
 
-    route = sub.add_parser("route", help="climbs, descents, cues and times of one GPX route",
-                           description="Climbs, descents, cues and times of one GPX route.")
+    route = sub.add_parser(
+        "route",
+        help="climbs, descents, cues and times of one GPX route",
+        description="Climbs, descents, cues and times of one GPX route.",
+    )
     route.add_argument("gpx", metavar="ROUTE.gpx")
-    route.add_argument("--vehicle", default="road-hoods", metavar="NAME|FILE",
-                       help="built-in vehicle or TOML profile (default road-hoods)")
-    route.add_argument("--power", type=float, metavar="W",
-                       help="rider power held along the route (default: the vehicle's typical power)")
-    route.add_argument("--target-speed", type=float, metavar="KMH",
-                       help="climbing speed for the watts column (default: the vehicle's)")
+    route.add_argument(
+        "--vehicle",
+        default="road-hoods",
+        metavar="NAME|FILE",
+        help="built-in vehicle or TOML profile (default road-hoods)",
+    )
+    route.add_argument(
+        "--power",
+        type=float,
+        metavar="W",
+        help="rider power held along the route (default: the vehicle's typical power)",
+    )
+    route.add_argument(
+        "--target-speed",
+        type=float,
+        metavar="KMH",
+        help="climbing speed for the watts column (default: the vehicle's)",
+    )
     route.add_argument("--wind", type=float, default=0.0, metavar="KMH", help="wind speed")
-    route.add_argument("--wind-from", type=float, default=0.0, metavar="DEG",
-                       help="direction the wind comes from, degrees clockwise from north")
-    route.add_argument("--temperature", type=float, metavar="C",
-                       help="air temperature (default: standard atmosphere at each altitude)")
+    route.add_argument(
+        "--wind-from",
+        type=float,
+        default=0.0,
+        metavar="DEG",
+        help="direction the wind comes from, degrees clockwise from north",
+    )
+    route.add_argument(
+        "--temperature",
+        type=float,
+        metavar="C",
+        help="air temperature (default: standard atmosphere at each altitude)",
+    )
     route.add_argument("--json", action="store_true", help="print one JSON object")
     route.set_defaults(run=cmd_route)
 
-    serve = sub.add_parser("serve", help="preview a built site on http://127.0.0.1",
-                           description="Serve a built site on 127.0.0.1 for preview.")
+    serve = sub.add_parser(
+        "serve",
+        help="preview a built site on http://127.0.0.1",
+        description="Serve a built site on 127.0.0.1 for preview.",
+    )
     serve.add_argument("folder", nargs="?", metavar="OUT", help="the built site (default: site)")
-    serve.add_argument("--port", type=int, default=8000, metavar="N", help="port on 127.0.0.1 (0: any free)")
-    serve.add_argument("--watch", metavar="SITE.toml|FOLDER",
-                       help="build this site first, then rebuild it whenever its files change")
+    serve.add_argument(
+        "--port",
+        type=_ranged(0, 65535, "0: any free port"),
+        default=8000,
+        metavar="N",
+        help="port on 127.0.0.1 (0: any free)",
+    )
+    serve.add_argument(
+        "--watch",
+        metavar="SITE.toml|FOLDER",
+        help="build this site first, then rebuild it whenever its files change",
+    )
     serve.add_argument("--no-pdf", action="store_true", help="with --watch: pages only, for quick previews")
     serve.set_defaults(run=cmd_serve)
 
-    vehicles = sub.add_parser("vehicles", help="list the built-in vehicles",
-                              description="List the built-in vehicles.")
+    vehicles = sub.add_parser(
+        "vehicles", help="list the built-in vehicles", description="List the built-in vehicles."
+    )
     vehicles.add_argument("--json", action="store_true", help="every value with its source, as JSON")
     vehicles.set_defaults(run=cmd_vehicles)
     return parser
+
+
+def _ranged(low: int, high: int, what: str):
+    """An argparse type: a whole number from ``low`` to ``high`` (else a usage error, exit 2)."""
+
+    def parse(text: str) -> int:
+        try:
+            value = int(text)
+        except ValueError:
+            raise argparse.ArgumentTypeError(f"{text!r} is not a whole number") from None
+        if not low <= value <= high:
+            raise argparse.ArgumentTypeError(f"{value} is outside {low}…{high} ({what})")
+        return value
+
+    return parse
 
 
 def main(argv: list[str] | None = None) -> int:
@@ -482,10 +628,15 @@ def main(argv: list[str] | None = None) -> int:
         return 1
     except OSError as exc:  # the machine's side: disk full, permissions, a vanished folder
         where = f"{exc.filename}: " if exc.filename else ""
-        print(f"cardgen: error: {where}{exc.strerror or exc}; nothing was published, the previous output is "
-              "unchanged", file=sys.stderr)
+        print(
+            f"cardgen: error: {where}{exc.strerror or exc}; nothing was published, the previous output is "
+            "unchanged",
+            file=sys.stderr,
+        )
         return 1
     except KeyboardInterrupt as exc:
-        message = getattr(exc, "message", "interrupted; nothing was published, the previous output is unchanged")
+        message = getattr(
+            exc, "message", "interrupted; nothing was published, the previous output is unchanged"
+        )
         print(f"cardgen: {message}", file=sys.stderr)
         return 130

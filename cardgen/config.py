@@ -24,8 +24,12 @@ from cardgen.profiles.vehicles import Vehicle, builtin_vehicles, find_vehicle
 CARD_SIZES = ("A5", "A4", "pocket")
 UNITS = ("metric", "imperial")
 #: Riders of a zero-config build (a folder of GPX files without site.toml).
-DEFAULT_RIDERS = (("Upright bike", "city-upright"), ("Road bike", "road-hoods"),
-                  ("E-assist bike", "e-assist-city"), ("Handcycle", "handcycle"))
+DEFAULT_RIDERS = (
+    ("Upright bike", "city-upright"),
+    ("Road bike", "road-hoods"),
+    ("E-assist bike", "e-assist-city"),
+    ("Handcycle", "handcycle"),
+)
 
 
 @dataclass(frozen=True)
@@ -103,8 +107,12 @@ class RiderConfig:
     routes: tuple[str, ...] = ()  # empty: every route
 
     def rides(self, route: RouteConfig, name: str) -> bool:
-        return not self.routes or route.gpx.name in self.routes or route.gpx.stem in self.routes \
+        return (
+            not self.routes
+            or route.gpx.name in self.routes
+            or route.gpx.stem in self.routes
             or name in self.routes
+        )
 
 
 @dataclass(frozen=True)
@@ -132,8 +140,11 @@ def _line_of(text: str, key: str, section: str, index: int | None) -> int | None
     """Best-effort line number of ``key`` inside ``[section]`` (or the index-th
     ``[[section]]``) of the TOML text."""
     lines = text.splitlines()
-    header = re.compile(r"^\s*\[\[\s*" + re.escape(section) + r"\s*\]\]" if index is not None
-                        else r"^\s*\[\s*" + re.escape(section) + r"\s*\]")
+    header = re.compile(
+        r"^\s*\[\[\s*" + re.escape(section) + r"\s*\]\]"
+        if index is not None
+        else r"^\s*\[\s*" + re.escape(section) + r"\s*\]"
+    )
     seen = -1
     inside = False
     for number, line in enumerate(lines, 1):
@@ -164,10 +175,13 @@ class _Checker:
         place = f"{self.path}" + (f", line {line}" if line else "") if self.path else "settings"
         return f"{place}: {name}"
 
-    def value(self, section: str, table: dict, index: int | None, key: str, spec: Spec, folder: Path):
+    # one branch per kind of key, each short; splitting them apart would scatter the schema's rules
+    def value(self, section: str, table: dict, index: int | None, key: str, spec: Spec, folder: Path):  # noqa: C901
         if key not in table:
             if spec.required:
-                self.problems.append(f"{self.where(section, index, key)} is missing ({spec.about or spec.kind})")
+                self.problems.append(
+                    f"{self.where(section, index, key)} is missing ({spec.about or spec.kind})"
+                )
             return spec.default
         raw = table[key]
         where = self.where(section, index, key)
@@ -196,7 +210,9 @@ class _Checker:
             if kind == "path":
                 resolved = (folder / raw).resolve()
                 if not resolved.is_file():
-                    self.problems.append(f"{where}: no file {resolved}; check the path (relative to {folder})")
+                    self.problems.append(
+                        f"{where}: no file {resolved}; check the path (relative to {folder})"
+                    )
                     return None
                 return resolved
             if kind == "vehicle":
@@ -211,9 +227,10 @@ class _Checker:
                     return None
             return raw
         if kind == "list":
-            if not isinstance(raw, list) or not all(isinstance(x, str | int | float) and not isinstance(x, bool)
-                                                    for x in raw):
-                self.problems.append(f"{where} must be a list like [\"name\", 12.5]")
+            if not isinstance(raw, list) or not all(
+                isinstance(x, str | int | float) and not isinstance(x, bool) for x in raw
+            ):
+                self.problems.append(f'{where} must be a list like ["name", 12.5]')
                 return None
             return tuple(raw)
         if kind == "date":
@@ -222,7 +239,7 @@ class _Checker:
             try:
                 return date.fromisoformat(str(raw))
             except ValueError:
-                self.problems.append(f"{where} = {raw!r} is not a date like \"2027-04-18\"")
+                self.problems.append(f'{where} = {raw!r} is not a date like "2027-04-18"')
                 return None
         if kind == "time":
             if isinstance(raw, time):
@@ -230,7 +247,7 @@ class _Checker:
             try:
                 return time.fromisoformat(str(raw))
             except ValueError:
-                self.problems.append(f"{where} = {raw!r} is not a time like \"08:30\"")
+                self.problems.append(f'{where} = {raw!r} is not a time like "08:30"')
                 return None
         raise AssertionError(kind)
 
@@ -241,8 +258,10 @@ class _Checker:
         schema = SCHEMA[section]
         for key in table:
             if key not in schema:
-                self.warnings.append(f"{self.where(section, index, key)}: unknown key, ignored "
-                                     f"(known: {', '.join(schema)})")
+                self.warnings.append(
+                    f"{self.where(section, index, key)}: unknown key, ignored "
+                    f"(known: {', '.join(schema)})"
+                )
         return {key: self.value(section, table, index, key, spec, folder) for key, spec in schema.items()}
 
 
@@ -253,7 +272,7 @@ def load_config(path: Path) -> SiteConfig:
     return _from_data(data, path, text, path.resolve().parent)
 
 
-def _from_data(data: dict, path: Path | None, text: str, folder: Path) -> SiteConfig:
+def _from_data(data: dict, path: Path | None, text: str, folder: Path) -> SiteConfig:  # noqa: C901 (one pass, in order)
     check = _Checker(path, text)
     for key in data:
         if key not in SCHEMA:
@@ -266,8 +285,14 @@ def _from_data(data: dict, path: Path | None, text: str, folder: Path) -> SiteCo
     for section, raw in (("routes", routes_raw), ("riders", riders_raw)):
         if not isinstance(raw, list) or not raw:
             check.problems.append(f"{path}: no [[{section}]] entries; add at least one")
-    routes = [check.table("routes", t, i, folder) for i, t in enumerate(routes_raw if isinstance(routes_raw, list) else [])]
-    riders = [check.table("riders", t, i, folder) for i, t in enumerate(riders_raw if isinstance(riders_raw, list) else [])]
+    routes = [
+        check.table("routes", t, i, folder)
+        for i, t in enumerate(routes_raw if isinstance(routes_raw, list) else [])
+    ]
+    riders = [
+        check.table("riders", t, i, folder)
+        for i, t in enumerate(riders_raw if isinstance(riders_raw, list) else [])
+    ]
 
     rider_objects = []
     for i, r in enumerate(riders):
@@ -275,15 +300,24 @@ def _from_data(data: dict, path: Path | None, text: str, folder: Path) -> SiteCo
         if vehicle is None or r["name"] is None:
             continue
         given = {}
-        for key, attr, factor in (("cp_w", "cp", 1.0), ("w_prime_kj", "w_prime", 1000.0),
-                                  ("flat_w", "flat_power", 1.0), ("climb_w", "climb_power", 1.0),
-                                  ("climb_share", "climb_share", 1.0), ("target_kmh", "target_speed", 1 / 3.6),
-                                  ("cruise_level", "cruise_level", 1)):
+        for key, attr, factor in (
+            ("cp_w", "cp", 1.0),
+            ("w_prime_kj", "w_prime", 1000.0),
+            ("flat_w", "flat_power", 1.0),
+            ("climb_w", "climb_power", 1.0),
+            ("climb_share", "climb_share", 1.0),
+            ("target_kmh", "target_speed", 1 / 3.6),
+            ("cruise_level", "cruise_level", 1),
+        ):
             if r[key] is not None:
                 given[attr] = r[key] * factor if factor != 1 else r[key]
         try:
-            rider_objects.append(RiderConfig(Rider.for_vehicle(vehicle, name=r["name"], **given),
-                                             tuple(str(x) for x in (r["routes"] or ()))))
+            rider_objects.append(
+                RiderConfig(
+                    Rider.for_vehicle(vehicle, name=r["name"], **given),
+                    tuple(str(x) for x in (r["routes"] or ())),
+                )
+            )
         except CardgenError as exc:
             check.problems.append(f"{check.where('riders', i, 'name')}: {exc}")
     names = [rc.rider.name for rc in rider_objects]
@@ -300,22 +334,51 @@ def _from_data(data: dict, path: Path | None, text: str, folder: Path) -> SiteCo
         if not templates.is_dir():
             check.problems.append(f"{check.where('site', None, 'templates')}: no folder {templates}")
     if check.problems:
-        raise ConfigError(f"{len(check.problems)} problem(s) in the configuration:\n  "
-                          + "\n  ".join(check.problems))
-    conditions = Conditions(cond["wind_kmh"] / 3.6, math.radians(cond["wind_from_deg"]),
-                            None if cond["temperature_c"] is None else cond["temperature_c"] + 273.15)
+        raise ConfigError(
+            f"{len(check.problems)} problem(s) in the configuration:\n  " + "\n  ".join(check.problems)
+        )
+    conditions = Conditions(
+        cond["wind_kmh"] / 3.6,
+        math.radians(cond["wind_from_deg"]),
+        None if cond["temperature_c"] is None else cond["temperature_c"] + 273.15,
+    )
     route_objects = tuple(
-        RouteConfig(r["gpx"], r["name"], r["notes"] or "",
-                    tuple(x * 1000.0 if isinstance(x, int | float) else x for x in (r["checkpoints"] or ())))
-        for r in routes)
+        RouteConfig(
+            r["gpx"],
+            r["name"],
+            r["notes"] or "",
+            tuple(x * 1000.0 if isinstance(x, int | float) else x for x in (r["checkpoints"] or ())),
+        )
+        for r in routes
+    )
     return SiteConfig(
-        source=path, folder=folder, title=site["title"], units=site["units"], card_size=site["card_size"],
-        large_print=site["large_print"], output=(folder / site["output"]).resolve(), base_url=site["base_url"],
-        templates=templates, start=start, start_interval=event["start_interval_min"] * 60.0,
-        checkpoint_margin=event["checkpoint_margin_min"] * 60.0, conditions=conditions, routes=route_objects,
-        riders=tuple(rider_objects), warnings=tuple(check.warnings),
-        inputs=tuple(dict.fromkeys([*( [path] if path else []), folder, *(r.gpx for r in route_objects),
-                                    *check.inputs, *([templates] if templates else [])])),
+        source=path,
+        folder=folder,
+        title=site["title"],
+        units=site["units"],
+        card_size=site["card_size"],
+        large_print=site["large_print"],
+        output=(folder / site["output"]).resolve(),
+        base_url=site["base_url"],
+        templates=templates,
+        start=start,
+        start_interval=event["start_interval_min"] * 60.0,
+        checkpoint_margin=event["checkpoint_margin_min"] * 60.0,
+        conditions=conditions,
+        routes=route_objects,
+        riders=tuple(rider_objects),
+        warnings=tuple(check.warnings),
+        inputs=tuple(
+            dict.fromkeys(
+                [
+                    *([path] if path else []),
+                    folder,
+                    *(r.gpx for r in route_objects),
+                    *check.inputs,
+                    *([templates] if templates else []),
+                ]
+            )
+        ),
     )
 
 
@@ -328,12 +391,26 @@ def folder_config(folder: Path) -> SiteConfig:
     lib = builtin_vehicles()
     riders = tuple(RiderConfig(Rider.for_vehicle(lib[v], name=n)) for n, v in DEFAULT_RIDERS)
     return SiteConfig(
-        source=None, folder=folder, title=f"Routes in {folder.name}", units="metric", card_size="A5",
-        large_print=False, output=(folder / "site").resolve(), base_url="", templates=None, start=None,
-        start_interval=0.0, checkpoint_margin=15 * 60.0, conditions=Conditions(),
-        routes=tuple(RouteConfig(p) for p in gpx), riders=riders, inputs=(folder, *gpx),
-        warnings=(f"{folder}: no site.toml; building {len(gpx)} route(s) with the default riders: "
-                  + ", ".join(f"{n} ({v})" for n, v in DEFAULT_RIDERS),),
+        source=None,
+        folder=folder,
+        title=f"Routes in {folder.name}",
+        units="metric",
+        card_size="A5",
+        large_print=False,
+        output=(folder / "site").resolve(),
+        base_url="",
+        templates=None,
+        start=None,
+        start_interval=0.0,
+        checkpoint_margin=15 * 60.0,
+        conditions=Conditions(),
+        routes=tuple(RouteConfig(p) for p in gpx),
+        riders=riders,
+        inputs=(folder, *gpx),
+        warnings=(
+            f"{folder}: no site.toml; building {len(gpx)} route(s) with the default riders: "
+            + ", ".join(f"{n} ({v})" for n, v in DEFAULT_RIDERS),
+        ),
     )
 
 

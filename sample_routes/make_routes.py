@@ -80,14 +80,18 @@ def write(path2d: Path2D, filename: str, name: str, description: str, waypoints,
     y = np.asarray(path2d.y) + rng.normal(0, 0.8, len(path2d.y))
     z = np.asarray(path2d.z) + rng.normal(0, 1.0, len(path2d.z))
     lat, lon = _latlon(x, y)
-    out = ['<?xml version="1.0" encoding="UTF-8"?>',
-           '<gpx version="1.1" creator="cardgen sample_routes/make_routes.py" '
-           'xmlns="http://www.topografix.com/GPX/1/1">',
-           f"<metadata><name>{escape(name)}</name><desc>{escape(description)}</desc></metadata>"]
+    out = [
+        '<?xml version="1.0" encoding="UTF-8"?>',
+        '<gpx version="1.1" creator="cardgen sample_routes/make_routes.py" '
+        'xmlns="http://www.topografix.com/GPX/1/1">',
+        f"<metadata><name>{escape(name)}</name><desc>{escape(description)}</desc></metadata>",
+    ]
     for label, kind, desc in waypoints:
         i = path2d.marks[label]
-        out.append(f'<wpt lat="{lat[i]:.7f}" lon="{lon[i]:.7f}"><ele>{z[i]:.1f}</ele>'
-                   f"<name>{escape(label)}</name><desc>{escape(desc)}</desc><type>{kind}</type></wpt>")
+        out.append(
+            f'<wpt lat="{lat[i]:.7f}" lon="{lon[i]:.7f}"><ele>{z[i]:.1f}</ele>'
+            f"<name>{escape(label)}</name><desc>{escape(desc)}</desc><type>{kind}</type></wpt>"
+        )
     out.append(f"<trk><name>{escape(name)}</name><trkseg>")
     for a, b, c in zip(lat, lon, z, strict=True):
         out.append(f'<trkpt lat="{a:.7f}" lon="{b:.7f}"><ele>{c:.1f}</ele></trkpt>')
@@ -101,12 +105,19 @@ def riverside_loop():
     p.bend(-20, 200).straight(3100, 0.0008).bend(90, 25).straight(400, 0.004)
     p.mark("Weir Bridge").bend(90, 20).straight(2800, -0.0006).bend(25, 150)
     p.straight(2900, -0.0008).mark("Boathouse Café").bend(-40, 90).straight(1500).home()
-    write(p, "riverside-loop.gpx", "Riverside Loop",
-          "A flat loop along both banks of the river, crossing at Weir Bridge.",
-          [("Tarnwhistle Green", "start", "Start and finish by the bandstand"),
-           ("Ferry Steps", "landmark", "Cobbled ramp on the right: keep left"),
-           ("Weir Bridge", "checkpoint", "Narrow bridge: give way to walkers"),
-           ("Boathouse Café", "food", "Toilets and water")], seed=11)
+    write(
+        p,
+        "riverside-loop.gpx",
+        "Riverside Loop",
+        "A flat loop along both banks of the river, crossing at Weir Bridge.",
+        [
+            ("Tarnwhistle Green", "start", "Start and finish by the bandstand"),
+            ("Ferry Steps", "landmark", "Cobbled ramp on the right: keep left"),
+            ("Weir Bridge", "checkpoint", "Narrow bridge: give way to walkers"),
+            ("Boathouse Café", "food", "Toilets and water"),
+        ],
+        seed=11,
+    )
 
 
 def hill_loop():
@@ -118,13 +129,20 @@ def hill_loop():
     p.straight(800, -0.07).bend(170, 12, -0.06).straight(700, -0.08).bend(-165, 14, -0.07)
     p.straight(1200, -0.075).bend(30, 80, -0.04).straight(1500, -0.03).mark("Millpond Lane")
     p.straight(2500, -0.002).home()
-    write(p, "hill-loop.gpx", "Gorse Bank Hill Loop",
-          "One steep climb up Gorse Bank and a fast descent through the Raven Gap hairpins.",
-          [("Tarnwhistle Green", "start", "Start and finish by the bandstand"),
-           ("Foot of Gorse Bank", "climb", "Change down before the first bend"),
-           ("Gorse Bank top", "landmark", "Viewpoint; regroup here"),
-           ("Raven Gap", "danger", "Two hairpins below: brake before them, not in them"),
-           ("Millpond Lane", "landmark", "Narrow lane, oncoming farm traffic")], seed=12)
+    write(
+        p,
+        "hill-loop.gpx",
+        "Gorse Bank Hill Loop",
+        "One steep climb up Gorse Bank and a fast descent through the Raven Gap hairpins.",
+        [
+            ("Tarnwhistle Green", "start", "Start and finish by the bandstand"),
+            ("Foot of Gorse Bank", "climb", "Change down before the first bend"),
+            ("Gorse Bank top", "landmark", "Viewpoint; regroup here"),
+            ("Raven Gap", "danger", "Two hairpins below: brake before them, not in them"),
+            ("Millpond Lane", "landmark", "Narrow lane, oncoming farm traffic"),
+        ],
+        seed=12,
+    )
 
 
 def day_ride():
@@ -136,13 +154,20 @@ def day_ride():
     p.bend(-30, 150).straight(6000, 0.0015).straight(3000, 0.06).mark("Checkpoint 3: Brindle Top")
     p.straight(3500, -0.05).bend(60, 40).straight(9000, -0.001).mark("Checkpoint 4: Eelby Lock")
     p.bend(40, 80).straight(7000, 0.0005).home()
-    write(p, "day-ride.gpx", "Tarnwhistle Day Ride",
-          "A long day out over the northern moors with four staffed checkpoints.",
-          [("Tarnwhistle Green", "start", "Start and finish by the bandstand"),
-           ("Checkpoint 1: Hollin Cross", "checkpoint", "Stamp your card; water"),
-           ("Checkpoint 2: Saltmarsh Hall", "checkpoint", "Lunch stop"),
-           ("Checkpoint 3: Brindle Top", "checkpoint", "Windy top: bring a layer"),
-           ("Checkpoint 4: Eelby Lock", "checkpoint", "Last checkpoint; mechanic on hand")], seed=13)
+    write(
+        p,
+        "day-ride.gpx",
+        "Tarnwhistle Day Ride",
+        "A long day out over the northern moors with four staffed checkpoints.",
+        [
+            ("Tarnwhistle Green", "start", "Start and finish by the bandstand"),
+            ("Checkpoint 1: Hollin Cross", "checkpoint", "Stamp your card; water"),
+            ("Checkpoint 2: Saltmarsh Hall", "checkpoint", "Lunch stop"),
+            ("Checkpoint 3: Brindle Top", "checkpoint", "Windy top: bring a layer"),
+            ("Checkpoint 4: Eelby Lock", "checkpoint", "Last checkpoint; mechanic on hand"),
+        ],
+        seed=13,
+    )
 
 
 def accessible_path():
@@ -150,11 +175,18 @@ def accessible_path():
     p.straight(1500, 0.002).bend(45, 60).straight(2500, 0.012).mark("Reedbed Hide")
     p.straight(1800, 0.005).bend(-60, 40).straight(1200, -0.015).mark("Orchard Rest")
     p.straight(2000, 0.0).bend(100, 30).straight(1500, -0.004).home()
-    write(p, "accessible-path.gpx", "Reedbed Accessible Path",
-          "A smooth, gentle path with wide gates, chosen for handcycles, trikes and tandems.",
-          [("Tarnwhistle Green", "start", "Accessible toilets and parking"),
-           ("Reedbed Hide", "landmark", "Level boardwalk; rest area"),
-           ("Orchard Rest", "food", "Café with step-free access")], seed=14)
+    write(
+        p,
+        "accessible-path.gpx",
+        "Reedbed Accessible Path",
+        "A smooth, gentle path with wide gates, chosen for handcycles, trikes and tandems.",
+        [
+            ("Tarnwhistle Green", "start", "Accessible toilets and parking"),
+            ("Reedbed Hide", "landmark", "Level boardwalk; rest area"),
+            ("Orchard Rest", "food", "Café with step-free access"),
+        ],
+        seed=14,
+    )
 
 
 def main(out: Path = HERE) -> None:

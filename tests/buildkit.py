@@ -12,8 +12,11 @@ from pathlib import Path
 
 def snapshot(folder: Path) -> dict:
     """Every file under ``folder`` by its SHA-256: equal snapshots are equal bytes."""
-    return {p.relative_to(folder).as_posix(): hashlib.sha256(p.read_bytes()).hexdigest()
-            for p in sorted(folder.rglob("*")) if p.is_file()}
+    return {
+        p.relative_to(folder).as_posix(): hashlib.sha256(p.read_bytes()).hexdigest()
+        for p in sorted(folder.rglob("*"))
+        if p.is_file()
+    }
 
 
 def leftovers(out: Path) -> list[str]:
@@ -34,8 +37,12 @@ def wait_until_rendering(out: Path, timeout: float = 60.0) -> None:
 def serving(*args: str):
     """Run ``cardgen serve ARGS --port 0``; yield its base URL; stop it afterwards."""
     exe = Path(sys.executable).with_name("cardgen")
-    proc = subprocess.Popen([str(exe), "serve", *args, "--port", "0"], stdout=subprocess.PIPE,
-                            stderr=subprocess.DEVNULL, text=True)
+    proc = subprocess.Popen(
+        [str(exe), "serve", *args, "--port", "0"],
+        stdout=subprocess.PIPE,
+        stderr=subprocess.DEVNULL,
+        text=True,
+    )
     try:
         line = proc.stdout.readline()
         assert "http://127.0.0.1:" in line, line

@@ -27,7 +27,10 @@ def run_cli():
 
     def run(*args: str, cwd=None, parse_json: bool = False, timeout: float = 300):
         proc = subprocess.run(
-            [*_cardgen_command(), *args], capture_output=True, text=True, cwd=cwd,
+            [*_cardgen_command(), *args],
+            capture_output=True,
+            text=True,
+            cwd=cwd,
             timeout=timeout,
         )
         out = json.loads(proc.stdout) if parse_json and proc.returncode == 0 else proc.stdout

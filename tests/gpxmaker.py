@@ -29,16 +29,22 @@ def straight(length: float, spacing: float = 10.0, heading_deg: float = 90.0):
     return s * np.sin(h), s * np.cos(h), s
 
 
-def write_gpx(path: Path, lat, lon, ele=None, *, name="Synthetic", waypoints=(), version="1.1",
-              times=None, route=False) -> Path:
+def write_gpx(
+    path: Path, lat, lon, ele=None, *, name="Synthetic", waypoints=(), version="1.1", times=None, route=False
+) -> Path:
     """Write a GPX file; ``ele`` entries that are None or NaN are left out."""
     ns = "http://www.topografix.com/GPX/1/1" if version == "1.1" else "http://www.topografix.com/GPX/1/0"
-    lines = ['<?xml version="1.0" encoding="UTF-8"?>',
-             f'<gpx version="{version}" creator="cardgen tests" xmlns="{ns}">']
+    lines = [
+        '<?xml version="1.0" encoding="UTF-8"?>',
+        f'<gpx version="{version}" creator="cardgen tests" xmlns="{ns}">',
+    ]
     for w in waypoints:
-        lines.append(f'<wpt lat="{w["lat"]:.8f}" lon="{w["lon"]:.8f}"><name>{escape(w["name"])}</name>'
-                     + (f'<desc>{escape(w["desc"])}</desc>' if "desc" in w else "")
-                     + (f'<link href={quoteattr(w["link"])}/>' if "link" in w else "") + "</wpt>")
+        lines.append(
+            f'<wpt lat="{w["lat"]:.8f}" lon="{w["lon"]:.8f}"><name>{escape(w["name"])}</name>'
+            + (f'<desc>{escape(w["desc"])}</desc>' if "desc" in w else "")
+            + (f'<link href={quoteattr(w["link"])}/>' if "link" in w else "")
+            + "</wpt>"
+        )
     outer, inner, pt = ("rte", "", "rtept") if route else ("trk", "trkseg", "trkpt")
     lines.append(f"<{outer}><name>{escape(name)}</name>" + (f"<{inner}>" if inner else ""))
     for i, (a, b) in enumerate(zip(lat, lon, strict=True)):

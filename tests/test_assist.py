@@ -48,7 +48,9 @@ def test_no_assist_at_or_above_cutoff_and_never_above_peak():
         assert (p <= motor.peak_power).all()
     assert motor_power(motor, 3.0, 2.0, 400.0) == motor.peak_power
     assert motor_power(motor, 1.0, 2.0, 0.0) == 0.0  # pedal assist: no pedalling, no help
-    assert taper_factor(motor.cutoff_speed - motor.taper / 2, motor.cutoff_speed, motor.taper) == pytest.approx(0.5)
+    assert taper_factor(
+        motor.cutoff_speed - motor.taper / 2, motor.cutoff_speed, motor.taper
+    ) == pytest.approx(0.5)
 
 
 def test_unknown_motor():
@@ -67,18 +69,34 @@ def test_suggested_level_is_the_lowest_that_works_brute_force(tmp_path):
     rider = Rider.for_vehicle(vehicle)
     wind, rho = segment_air(terrain, Conditions())
     (hill,) = find_climbs(terrain)
-    ((level, _),) = suggest_levels(motor, [(hill.start, hill.end)], climb_power=rider.climb_power_used,
-                                   target_speed=rider.target_speed, min_speed=vehicle.min_stable_speed,
-                                   resistance=vehicle.resistance, grade=terrain.grade, headwind=wind,
-                                   air_density=rho)
-    g = terrain.grade[hill.start:hill.end]
+    ((level, _),) = suggest_levels(
+        motor,
+        [(hill.start, hill.end)],
+        climb_power=rider.climb_power_used,
+        target_speed=rider.target_speed,
+        min_speed=vehicle.min_stable_speed,
+        resistance=vehicle.resistance,
+        grade=terrain.grade,
+        headwind=wind,
+        air_density=rho,
+    )
+    g = terrain.grade[hill.start : hill.end]
     ok = []
     for lv in range(len(motor.levels) + 1):
         ratio = 0.0 if lv == 0 else motor.levels[lv - 1]
         # the rider at their climbing power, assist below the cut-off (speeds here are low)
-        wheel = rider.climb_power_used * vehicle.efficiency + min(ratio * rider.climb_power_used, motor.peak_power)
-        v = speed_for_power(wheel, mass=vehicle.mass, crr=vehicle.crr, cda=vehicle.cda, efficiency=1.0,
-                            grade=g, air_density=rho[hill.start:hill.end])
+        wheel = rider.climb_power_used * vehicle.efficiency + min(
+            ratio * rider.climb_power_used, motor.peak_power
+        )
+        v = speed_for_power(
+            wheel,
+            mass=vehicle.mass,
+            crr=vehicle.crr,
+            cda=vehicle.cda,
+            efficiency=1.0,
+            grade=g,
+            air_density=rho[hill.start : hill.end],
+        )
         v = np.minimum(v, rider.target_speed)
         ok.append(bool(v.min() >= vehicle.min_stable_speed))
     assert ok.index(True) == level

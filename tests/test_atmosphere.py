@@ -47,8 +47,14 @@ def test_isa_outside_the_troposphere_is_nan():
 # independently in shared/REFERENCES.md section 2 [C].
 @pytest.mark.parametrize(
     "celsius, hpa, density",
-    [(0, 1013.25, 1.2923), (15, 1013.25, 1.2250), (20, 1013.25, 1.2041), (30, 1013.25, 1.1644),
-     (25, 900.0, 1.0516), (10, 800.0, 0.9843)],
+    [
+        (0, 1013.25, 1.2923),
+        (15, 1013.25, 1.2250),
+        (20, 1013.25, 1.2041),
+        (30, 1013.25, 1.1644),
+        (25, 900.0, 1.0516),
+        (10, 800.0, 0.9843),
+    ],
 )
 def test_dry_air_ideal_gas(celsius, hpa, density):
     assert air_density(celsius + 273.15, hpa * 100) == pytest.approx(density, abs=1e-4)

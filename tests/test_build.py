@@ -18,6 +18,8 @@ from cardgen.build.publish import Lock
 from cardgen.config import folder_config, load_config
 from cardgen.errors import ConfigError
 
+pytestmark = pytest.mark.slow  # builds whole sites, fuzzes or checks the install: not in make check
+
 SAMPLES = Path(__file__).resolve().parents[1] / "sample_routes"
 
 
@@ -27,9 +29,13 @@ def _small_site(tmp_path: Path, routes=("riverside-loop", "accessible-path")) ->
     for name in routes:
         shutil.copy(SAMPLES / f"{name}.gpx", src)
     body = "".join(f'[[routes]]\ngpx = "{name}.gpx"\n' for name in routes)
-    (src / "site.toml").write_text('[site]\ntitle = "Small"\n' + body
-                                   + '[[riders]]\nname = "A"\nvehicle = "road-hoods"\n'
-                                   + '[[riders]]\nname = "B"\nvehicle = "handcycle"\n', encoding="utf-8")
+    (src / "site.toml").write_text(
+        '[site]\ntitle = "Small"\n'
+        + body
+        + '[[riders]]\nname = "A"\nvehicle = "road-hoods"\n'
+        + '[[riders]]\nname = "B"\nvehicle = "handcycle"\n',
+        encoding="utf-8",
+    )
     return src
 
 
@@ -78,7 +84,9 @@ def test_same_inputs_same_bytes_whatever_the_jobs(tmp_path):
 def test_three_mistakes_are_reported_together(tmp_path):
     (tmp_path / "site.toml").write_text(
         '[site]\nunits = "furlongs"\n[[routes]]\ngpx = "missing.gpx"\n'
-        '[[riders]]\nname = "X"\nvehicle = "road-hoods"\ncp_w = 5000\n', encoding="utf-8")
+        '[[riders]]\nname = "X"\nvehicle = "road-hoods"\ncp_w = 5000\n',
+        encoding="utf-8",
+    )
     with pytest.raises(ConfigError) as info:
         load_config(tmp_path / "site.toml")
     message = str(info.value)
@@ -96,15 +104,22 @@ def test_unknown_keys_warn(tmp_path):
     assert any("site.colour" in w and "unknown" in w for w in config.warnings)
 
 
-@pytest.mark.parametrize("text, fragment", [
-    ("[site\n", "not valid TOML"),
-    ('[[routes]]\ngpx = "a.gpx"\n', "no [[riders]]"),
-    ('[[routes]]\ngpx = 3\n[[riders]]\nname = "a"\nvehicle = "rocket"\n', "unknown vehicle"),
-    ('[event]\nstart = "25:99"\n[[routes]]\ngpx = "x.gpx"\n[[riders]]\nname = "a"\nvehicle = "tandem"\n',
-     "not a time"),
-    ('[[routes]]\ngpx = "x.gpx"\n[[riders]]\nname = "a"\nvehicle = "tandem"\nflat_w = 900\ncp_w = 300\n',
-     "flat power"),
-])
+@pytest.mark.parametrize(
+    "text, fragment",
+    [
+        ("[site\n", "not valid TOML"),
+        ('[[routes]]\ngpx = "a.gpx"\n', "no [[riders]]"),
+        ('[[routes]]\ngpx = 3\n[[riders]]\nname = "a"\nvehicle = "rocket"\n', "unknown vehicle"),
+        (
+            '[event]\nstart = "25:99"\n[[routes]]\ngpx = "x.gpx"\n[[riders]]\nname = "a"\nvehicle = "tandem"\n',
+            "not a time",
+        ),
+        (
+            '[[routes]]\ngpx = "x.gpx"\n[[riders]]\nname = "a"\nvehicle = "tandem"\nflat_w = 900\ncp_w = 300\n',
+            "flat power",
+        ),
+    ],
+)
 def test_broken_configs_are_clear(tmp_path, text, fragment):
     (tmp_path / "site.toml").write_text(text, encoding="utf-8")
     with pytest.raises(ConfigError, match=re.escape(fragment)):
@@ -162,8 +177,12 @@ def test_sigkill_midway_keeps_the_previous_site_and_the_next_build_works(tmp_pat
     before = snapshot(out)
     (src / "site.toml").write_text((src / "site.toml").read_text().replace("Small", "Changed"))
     exe = Path(sys.executable).with_name("cardgen")
-    proc = subprocess.Popen([str(exe), "build", str(src / "site.toml"), "-o", str(out), "--jobs", "1"],
-                            stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL, start_new_session=True)
+    proc = subprocess.Popen(
+        [str(exe), "build", str(src / "site.toml"), "-o", str(out), "--jobs", "1"],
+        stdout=subprocess.DEVNULL,
+        stderr=subprocess.DEVNULL,
+        start_new_session=True,
+    )
     wait_until_rendering(out)
     os.killpg(proc.pid, signal.SIGKILL)
     proc.wait()
@@ -195,8 +214,12 @@ def test_folder_without_site_toml_uses_default_riders(tmp_path, run_cli):
     src.mkdir()
     shutil.copy(SAMPLES / "riverside-loop.gpx", src)
     config = folder_config(src)
-    assert [r.rider.vehicle.name for r in config.riders] == ["city-upright", "road-hoods", "e-assist-city",
-                                                            "handcycle"]
+    assert [r.rider.vehicle.name for r in config.riders] == [
+        "city-upright",
+        "road-hoods",
+        "e-assist-city",
+        "handcycle",
+    ]
     code, out, err = run_cli("build", str(src), "-o", str(tmp_path / "out"), "--no-pdf")
     assert code == 0, err
     assert "no site.toml" in err
@@ -268,8 +291,12 @@ def test_template_digest_ignores_python_byte_code(tmp_path):
 
 def test_riders_whose_names_slug_alike_get_their_own_cards(tmp_path):
     src = _small_site(tmp_path, routes=("riverside-loop",))
-    text = (src / "site.toml").read_text().replace('name = "A"', 'name = "Ann B"').replace('name = "B"',
-                                                                                             'name = "Ann-B"')
+    text = (
+        (src / "site.toml")
+        .read_text()
+        .replace('name = "A"', 'name = "Ann B"')
+        .replace('name = "B"', 'name = "Ann-B"')
+    )
     (src / "site.toml").write_text(text)
     out = tmp_path / "out"
     report = build_site(load_config(src / "site.toml"), out, jobs=1)

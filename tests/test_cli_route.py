@@ -7,9 +7,30 @@ import pytest
 from gpxmaker import straight, to_latlon, write_gpx
 
 SAMPLES = Path(__file__).resolve().parents[1] / "sample_routes"
-CLIMB_KEYS = {"start_km", "end_km", "length_m", "gain_m", "avg_grade_pct", "max_grade_pct", "score", "band",
-              "power_for_target_w", "speed_at_effort_kmh", "time_s", "assist_level", "warnings"}
-DESCENT_KEYS = {"start_km", "end_km", "drop_m", "avg_grade_pct", "coast_speed_kmh", "gravity_power_w", "warnings"}
+CLIMB_KEYS = {
+    "start_km",
+    "end_km",
+    "length_m",
+    "gain_m",
+    "avg_grade_pct",
+    "max_grade_pct",
+    "score",
+    "band",
+    "power_for_target_w",
+    "speed_at_effort_kmh",
+    "time_s",
+    "assist_level",
+    "warnings",
+}
+DESCENT_KEYS = {
+    "start_km",
+    "end_km",
+    "drop_m",
+    "avg_grade_pct",
+    "coast_speed_kmh",
+    "gravity_power_w",
+    "warnings",
+}
 
 
 @pytest.mark.parametrize("name", ["riverside-loop", "hill-loop", "day-ride", "accessible-path"])
@@ -30,8 +51,16 @@ def test_route_json_has_the_contract(run_cli, name):
 
 
 def test_hill_loop_numbers_are_plausible(run_cli):
-    code, out, err = run_cli("route", str(SAMPLES / "hill-loop.gpx"), "--vehicle", "road-hoods",
-                             "--power", "150", "--json", parse_json=True)
+    code, out, err = run_cli(
+        "route",
+        str(SAMPLES / "hill-loop.gpx"),
+        "--vehicle",
+        "road-hoods",
+        "--power",
+        "150",
+        "--json",
+        parse_json=True,
+    )
     assert code == 0, err
     (climb,) = out["climbs"]
     assert 7 <= climb["avg_grade_pct"] <= 11 and climb["max_grade_pct"] >= 12
@@ -52,8 +81,9 @@ def test_hill_loop_numbers_are_plausible(run_cli):
 
 
 def test_handcycle_gets_no_walk_warning(run_cli):
-    code, out, err = run_cli("route", str(SAMPLES / "hill-loop.gpx"), "--vehicle", "handcycle", "--json",
-                             parse_json=True)
+    code, out, err = run_cli(
+        "route", str(SAMPLES / "hill-loop.gpx"), "--vehicle", "handcycle", "--json", parse_json=True
+    )
     assert code == 0, err
     assert not any("walk" in w for c in out["climbs"] for w in c["warnings"])
 
@@ -86,15 +116,18 @@ def test_human_table(run_cli):
     assert "FIETS" in out and "Moving time" in out and "not guarantees" in out
 
 
-@pytest.mark.parametrize("args, fragment", [
-    (["--power", "0"], "--power"),
-    (["--power", "5000"], "--power"),
-    (["--wind", "-3"], "--wind"),
-    (["--wind-from", "400"], "--wind-from"),
-    (["--temperature", "80"], "--temperature"),
-    (["--target-speed", "0"], "--target-speed"),
-    (["--vehicle", "rocket"], "unknown vehicle"),
-])
+@pytest.mark.parametrize(
+    "args, fragment",
+    [
+        (["--power", "0"], "--power"),
+        (["--power", "5000"], "--power"),
+        (["--wind", "-3"], "--wind"),
+        (["--wind-from", "400"], "--wind-from"),
+        (["--temperature", "80"], "--temperature"),
+        (["--target-speed", "0"], "--target-speed"),
+        (["--vehicle", "rocket"], "unknown vehicle"),
+    ],
+)
 def test_route_wrong_options(run_cli, args, fragment):
     code, _, err = run_cli("route", str(SAMPLES / "riverside-loop.gpx"), *args)
     assert code == 1

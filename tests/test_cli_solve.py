@@ -6,8 +6,21 @@ KEYS = {"speed_kmh", "power_w", "grade_pct", "headwind_kmh", "air_density_kg_m3"
 
 
 def test_solve_power_for_speed_json(run_cli):
-    code, out, err = run_cli("solve", "--speed", "30", "--mass", "100", "--crr", "0.008",
-                             "--cda", "0.63", "--air-density", "1.2", "--json", parse_json=True)
+    code, out, err = run_cli(
+        "solve",
+        "--speed",
+        "30",
+        "--mass",
+        "100",
+        "--crr",
+        "0.008",
+        "--cda",
+        "0.63",
+        "--air-density",
+        "1.2",
+        "--json",
+        parse_json=True,
+    )
     assert code == 0, err
     assert set(out) == KEYS
     assert set(out["breakdown_w"]) == {"rolling", "aero", "gravity", "drivetrain"}
@@ -18,8 +31,9 @@ def test_solve_power_for_speed_json(run_cli):
 
 
 def test_solve_speed_for_power_with_vehicle(run_cli):
-    code, out, err = run_cli("solve", "--power", "200", "--grade", "5", "--vehicle", "road-hoods",
-                             "--json", parse_json=True)
+    code, out, err = run_cli(
+        "solve", "--power", "200", "--grade", "5", "--vehicle", "road-hoods", "--json", parse_json=True
+    )
     assert code == 0, err
     assert 10 < out["speed_kmh"] < 20
     assert out["power_w"] == 200
@@ -28,16 +42,18 @@ def test_solve_speed_for_power_with_vehicle(run_cli):
 
 
 def test_descent_gravity_is_negative(run_cli):
-    code, out, err = run_cli("solve", "--power", "0", "--grade", "-8", "--vehicle", "city-upright",
-                             "--json", parse_json=True)
+    code, out, err = run_cli(
+        "solve", "--power", "0", "--grade", "-8", "--vehicle", "city-upright", "--json", parse_json=True
+    )
     assert code == 0, err
     assert out["breakdown_w"]["gravity"] < 0
     assert out["speed_kmh"] > 30
 
 
 def test_altitude_lowers_air_density(run_cli):
-    code, out, _ = run_cli("solve", "--speed", "30", "--vehicle", "road-hoods", "--altitude", "2000",
-                           "--json", parse_json=True)
+    code, out, _ = run_cli(
+        "solve", "--speed", "30", "--vehicle", "road-hoods", "--altitude", "2000", "--json", parse_json=True
+    )
     assert code == 0
     assert out["air_density_kg_m3"] == pytest.approx(1.0066, abs=5e-4)  # ISO 2533
 
@@ -88,12 +104,20 @@ def test_python_dash_m_works():
     assert proc.stdout.startswith("cardgen ")
 
 
-@pytest.mark.parametrize("args", [
-    ["--power", "0", "--grade", "40"], ["--power", "0", "--grade", "-40"], ["--power", "2000", "--grade", "-40"],
-    ["--power", "2000", "--headwind", "150"], ["--power", "50", "--headwind", "-150"],
-    ["--power", "300", "--altitude", "-400"], ["--power", "300", "--altitude", "5000"],
-    ["--speed", "0", "--grade", "40"], ["--speed", "150", "--grade", "-40", "--headwind", "150"],
-])
+@pytest.mark.parametrize(
+    "args",
+    [
+        ["--power", "0", "--grade", "40"],
+        ["--power", "0", "--grade", "-40"],
+        ["--power", "2000", "--grade", "-40"],
+        ["--power", "2000", "--headwind", "150"],
+        ["--power", "50", "--headwind", "-150"],
+        ["--power", "300", "--altitude", "-400"],
+        ["--power", "300", "--altitude", "5000"],
+        ["--speed", "0", "--grade", "40"],
+        ["--speed", "150", "--grade", "-40", "--headwind", "150"],
+    ],
+)
 @pytest.mark.parametrize("mass", ["20", "500"])
 def test_guard_rails_give_finite_numbers(args, mass):
     import contextlib
@@ -113,16 +137,19 @@ def test_guard_rails_give_finite_numbers(args, mass):
     assert data["speed_kmh"] >= 0
 
 
-@pytest.mark.parametrize("args, fragment", [
-    (["--power", "100", "--headwind", "151"], "--headwind"),
-    (["--power", "100", "--grade", "51"], "--grade"),
-    (["--power", "3001"], "--power"),
-    (["--speed", "151"], "--speed"),
-    (["--speed", "-1"], "--speed"),
-    (["--power", "100", "--altitude", "9001"], "--altitude"),
-    (["--power", "100", "--air-density", "3"], "--air-density"),
-    (["--power", "100", "--efficiency", "0.2"], "--efficiency"),
-])
+@pytest.mark.parametrize(
+    "args, fragment",
+    [
+        (["--power", "100", "--headwind", "151"], "--headwind"),
+        (["--power", "100", "--grade", "51"], "--grade"),
+        (["--power", "3001"], "--power"),
+        (["--speed", "151"], "--speed"),
+        (["--speed", "-1"], "--speed"),
+        (["--power", "100", "--altitude", "9001"], "--altitude"),
+        (["--power", "100", "--air-density", "3"], "--air-density"),
+        (["--power", "100", "--efficiency", "0.2"], "--efficiency"),
+    ],
+)
 def test_guard_rails_refusals(run_cli, args, fragment):
     code, _, err = run_cli("solve", *args, "--mass", "80", "--crr", "0.005", "--cda", "0.4")
     assert code == 1 and fragment in err and "Traceback" not in err

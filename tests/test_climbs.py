@@ -11,12 +11,15 @@ from cardgen.route.terrain import build_terrain
 
 # FIETS index as published by the Dutch magazine Fiets (formula via secondary sources);
 # values computed in shared/REFERENCES.md §5 [C].
-@pytest.mark.parametrize("gain, length, top, score", [
-    (100.0, 1000.0, 200.0, 1.00),
-    (160.0, 2000.0, 300.0, 1.28),
-    (500.0, 10000.0, 600.0, 2.50),
-    (1071.0, 13800.0, 1850.0, 9.16),
-])
+@pytest.mark.parametrize(
+    "gain, length, top, score",
+    [
+        (100.0, 1000.0, 200.0, 1.00),
+        (160.0, 2000.0, 300.0, 1.28),
+        (500.0, 10000.0, 600.0, 2.50),
+        (1071.0, 13800.0, 1850.0, 9.16),
+    ],
+)
 def test_fiets_index(gain, length, top, score):
     assert fiets_index(gain, length, top) == pytest.approx(score, abs=0.005)
 

@@ -50,9 +50,11 @@ def test_waypoints_become_cues_in_order(tmp_path):
     x, y, _ = straight(2000, spacing=10)
     lat, lon = to_latlon(x, y)
     far_lat, far_lon = to_latlon(np.array([1000.0]), np.array([5000.0]))
-    wpts = [{"lat": lat[150], "lon": lon[150], "name": "Second"},
-            {"lat": lat[50], "lon": lon[50], "name": "First"},
-            {"lat": far_lat[0], "lon": far_lon[0], "name": "Far away"}]
+    wpts = [
+        {"lat": lat[150], "lon": lon[150], "name": "Second"},
+        {"lat": lat[50], "lon": lon[50], "name": "First"},
+        {"lat": far_lat[0], "lon": far_lon[0], "name": "Far away"},
+    ]
     track = read_gpx(write_gpx(tmp_path / "w.gpx", lat, lon, np.zeros(x.size), waypoints=wpts))
     cues, warnings = cue_sheet(build_terrain(track), track)
     assert [c.text for c in cues] == ["First", "Second"]

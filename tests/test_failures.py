@@ -17,6 +17,8 @@ from buildkit import leftovers, snapshot, wait_until_rendering
 from cardgen.build import pipeline as build_module
 from cardgen.cli import main
 
+pytestmark = pytest.mark.slow  # builds whole sites, fuzzes or checks the install: not in make check
+
 SAMPLES = Path(__file__).resolve().parents[1] / "sample_routes"
 
 
@@ -25,10 +27,13 @@ def _site(tmp_path: Path) -> tuple[Path, Path]:
     src.mkdir()
     shutil.copy(SAMPLES / "riverside-loop.gpx", src)
     shutil.copy(SAMPLES / "accessible-path.gpx", src)
-    (src / "site.toml").write_text('[site]\ntitle = "One"\n[[routes]]\ngpx = "riverside-loop.gpx"\n'
-                                   '[[routes]]\ngpx = "accessible-path.gpx"\n'
-                                   '[[riders]]\nname = "A"\nvehicle = "road-hoods"\n'
-                                   '[[riders]]\nname = "B"\nvehicle = "trike-recumbent"\n', encoding="utf-8")
+    (src / "site.toml").write_text(
+        '[site]\ntitle = "One"\n[[routes]]\ngpx = "riverside-loop.gpx"\n'
+        '[[routes]]\ngpx = "accessible-path.gpx"\n'
+        '[[riders]]\nname = "A"\nvehicle = "road-hoods"\n'
+        '[[riders]]\nname = "B"\nvehicle = "trike-recumbent"\n',
+        encoding="utf-8",
+    )
     out = tmp_path / "out"
     assert main(["build", str(src / "site.toml"), "-o", str(out), "--jobs", "1"]) == 0
     (src / "site.toml").write_text((src / "site.toml").read_text().replace('"One"', '"Two"'))
@@ -94,8 +99,12 @@ def test_ctrl_c_during_rendering(tmp_path):
     src, out = _site(tmp_path)
     before = snapshot(out)
     exe = Path(sys.executable).with_name("cardgen")
-    proc = subprocess.Popen([str(exe), "build", str(src / "site.toml"), "-o", str(out), "--jobs", "1"],
-                            stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True)
+    proc = subprocess.Popen(
+        [str(exe), "build", str(src / "site.toml"), "-o", str(out), "--jobs", "1"],
+        stdout=subprocess.PIPE,
+        stderr=subprocess.PIPE,
+        text=True,
+    )
     wait_until_rendering(out)
     proc.send_signal(signal.SIGINT)
     stdout, stderr = proc.communicate(timeout=60)

@@ -20,8 +20,12 @@ from cardgen.profiles.vehicles import builtin_vehicles
 from cardgen.route.gpx import read_gpx
 from cardgen.route.terrain import build_terrain
 
+pytestmark = pytest.mark.slow  # builds whole sites, fuzzes or checks the install: not in make check
+
 VEHICLES = builtin_vehicles()
-SLOW = settings(max_examples=120, suppress_health_check=[HealthCheck.too_slow, HealthCheck.function_scoped_fixture])
+SLOW = settings(
+    max_examples=120, suppress_health_check=[HealthCheck.too_slow, HealthCheck.function_scoped_fixture]
+)
 
 numberish = st.one_of(
     st.floats(allow_nan=True, allow_infinity=True).map(repr),
@@ -40,24 +44,33 @@ def gpx_documents(draw):
     for _ in range(draw(st.integers(0, 3))):
         kind = draw(st.sampled_from(["trk", "rte", "wpt", "junk"]))
         if kind == "wpt":
-            parts.append(f'<wpt lat={quoteattr(draw(numberish))} lon={quoteattr(draw(numberish))}>'
-                         f"<name>{escape(draw(text))}</name></wpt>")
+            parts.append(
+                f"<wpt lat={quoteattr(draw(numberish))} lon={quoteattr(draw(numberish))}>"
+                f"<name>{escape(draw(text))}</name></wpt>"
+            )
         elif kind == "junk":
             parts.append(f"<extensions><a>{escape(draw(text))}</a></extensions>")
         else:
             pt = "trkpt" if kind == "trk" else "rtept"
             points = []
             for _ in range(draw(st.integers(0, 25))):
-                attrs = "".join(f" {k}={quoteattr(v)}" for k, v in (("lat", draw(attr_value)),
-                                                                     ("lon", draw(attr_value))) if v is not None)
+                attrs = "".join(
+                    f" {k}={quoteattr(v)}"
+                    for k, v in (("lat", draw(attr_value)), ("lon", draw(attr_value)))
+                    if v is not None
+                )
                 ele = draw(st.one_of(st.none(), numberish))
                 when = draw(st.one_of(st.none(), text))
-                body = ("" if ele is None else f"<ele>{escape(ele)}</ele>") + \
-                       ("" if when is None else f"<time>{escape(when)}</time>")
+                body = ("" if ele is None else f"<ele>{escape(ele)}</ele>") + (
+                    "" if when is None else f"<time>{escape(when)}</time>"
+                )
                 points.append(f"<{pt}{attrs}>{body}</{pt}>")
             inner = "".join(points)
-            parts.append(f"<trk><name>{escape(draw(text))}</name><trkseg>{inner}</trkseg></trk>"
-                         if kind == "trk" else f"<rte>{inner}</rte>")
+            parts.append(
+                f"<trk><name>{escape(draw(text))}</name><trkseg>{inner}</trkseg></trk>"
+                if kind == "trk"
+                else f"<rte>{inner}</rte>"
+            )
     parts.append("</gpx>")
     return "".join(parts)
 
@@ -107,8 +120,13 @@ def tracks(draw):
     return lat, lon, ele
 
 
-@given(route=tracks(), vehicle=st.sampled_from(sorted(VEHICLES)),
-       wind=st.floats(0, 150 / 3.6), wind_from=st.floats(0, 2 * math.pi), temperature=st.floats(243.15, 323.15))
+@given(
+    route=tracks(),
+    vehicle=st.sampled_from(sorted(VEHICLES)),
+    wind=st.floats(0, 150 / 3.6),
+    wind_from=st.floats(0, 2 * math.pi),
+    temperature=st.floats(243.15, 323.15),
+)
 @SLOW
 def test_fuzz_terrain_and_plans(tmp_path_factory, route, vehicle, wind, wind_from, temperature):
     from gpxmaker import write_gpx
@@ -123,8 +141,11 @@ def test_fuzz_terrain_and_plans(tmp_path_factory, route, vehicle, wind, wind_fro
     except GpxError:
         return
     v = VEHICLES[vehicle]
-    plan = make_plan(analyse(track, terrain), rider=Rider.for_vehicle(v),
-                     conditions=Conditions(wind, wind_from, temperature))
+    plan = make_plan(
+        analyse(track, terrain),
+        rider=Rider.for_vehicle(v),
+        conditions=Conditions(wind, wind_from, temperature),
+    )
     ride = plan.ride
     assert np.isfinite(ride.speed).all() and (ride.speed >= 0).all()
     assert (ride.speed <= v.max_descent_speed * (1 + 1e-9)).all()
@@ -140,14 +161,21 @@ def test_fuzz_terrain_and_plans(tmp_path_factory, route, vehicle, wind, wind_fro
         assert 0 <= t.elapsed <= plan.totals.time + 1e-6
 
 
-@given(power=st.floats(0, 2000), grade=st.floats(-0.4, 0.4), wind_kmh=st.floats(-150, 150),
-       mass=st.floats(20, 500), altitude=st.floats(-400, 5000), cda=st.floats(0.1, 1.5),
-       crr=st.floats(0.001, 0.05))
+@given(
+    power=st.floats(0, 2000),
+    grade=st.floats(-0.4, 0.4),
+    wind_kmh=st.floats(-150, 150),
+    mass=st.floats(20, 500),
+    altitude=st.floats(-400, 5000),
+    cda=st.floats(0.1, 1.5),
+    crr=st.floats(0.001, 0.05),
+)
 @settings(max_examples=500)
 def test_fuzz_solver_guard_rails(power, grade, wind_kmh, mass, altitude, cda, crr):
     rho = air_density_isa(altitude)
-    common = dict(mass=mass, crr=crr, cda=cda, efficiency=0.97, grade=grade, headwind=wind_kmh / 3.6,
-                  air_density=rho)
+    common = dict(
+        mass=mass, crr=crr, cda=cda, efficiency=0.97, grade=grade, headwind=wind_kmh / 3.6, air_density=rho
+    )
     v = speed_for_power(power, **common)
     assert math.isfinite(v) and v >= 0
     if grade >= 0 and wind_kmh >= 0:  # no push from gravity or wind: the rider's power bounds the speed
@@ -158,9 +186,17 @@ def test_fuzz_solver_guard_rails(power, grade, wind_kmh, mass, altitude, cda, cr
         assert back == pytest.approx(power, rel=1e-6, abs=1e-6)
 
 
-scalar = st.one_of(st.none(), st.booleans(), st.integers(-10**6, 10**6), st.floats(allow_nan=True),
-                   st.text(max_size=12), st.lists(st.integers(), max_size=3))
-keys = {section: list(spec) + ["bogus"] for section, spec in __import__("cardgen.config").config.SCHEMA.items()}
+scalar = st.one_of(
+    st.none(),
+    st.booleans(),
+    st.integers(-(10**6), 10**6),
+    st.floats(allow_nan=True),
+    st.text(max_size=12),
+    st.lists(st.integers(), max_size=3),
+)
+keys = {
+    section: list(spec) + ["bogus"] for section, spec in __import__("cardgen.config").config.SCHEMA.items()
+}
 
 
 @st.composite
@@ -168,11 +204,15 @@ def configs(draw):
     data = {}
     for section in ("site", "event", "conditions"):
         if draw(st.booleans()):
-            data[section] = {k: draw(scalar) for k in draw(st.lists(st.sampled_from(keys[section]), max_size=4))}
+            data[section] = {
+                k: draw(scalar) for k in draw(st.lists(st.sampled_from(keys[section]), max_size=4))
+            }
     for section in ("routes", "riders"):
         if draw(st.booleans()):
-            data[section] = [{k: draw(scalar) for k in draw(st.lists(st.sampled_from(keys[section]), max_size=5))}
-                             for _ in range(draw(st.integers(0, 3)))]
+            data[section] = [
+                {k: draw(scalar) for k in draw(st.lists(st.sampled_from(keys[section]), max_size=5))}
+                for _ in range(draw(st.integers(0, 3)))
+            ]
     if draw(st.booleans()):
         data[draw(st.text(max_size=5))] = draw(scalar)
     return data

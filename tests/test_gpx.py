@@ -36,9 +36,23 @@ def test_points_identical_to_gpxpy(path):
 def test_gpx_10_route_points_and_waypoint_text(tmp_path):
     x, y, _ = straight(500)
     lat, lon = to_latlon(x, y)
-    path = write_gpx(tmp_path / "r.gpx", lat, lon, np.full(lat.size, 12.0), version="1.0", route=True,
-                     waypoints=[{"lat": lat[3], "lon": lon[3], "name": "Café <b>", "desc": "a & b",
-                                 "link": "https://example.invalid/x"}])
+    path = write_gpx(
+        tmp_path / "r.gpx",
+        lat,
+        lon,
+        np.full(lat.size, 12.0),
+        version="1.0",
+        route=True,
+        waypoints=[
+            {
+                "lat": lat[3],
+                "lon": lon[3],
+                "name": "Café <b>",
+                "desc": "a & b",
+                "link": "https://example.invalid/x",
+            }
+        ],
+    )
     track = read_gpx(path)
     assert track.source == "route"
     assert track.points == lat.size
@@ -49,11 +63,19 @@ def test_gpx_10_route_points_and_waypoint_text(tmp_path):
 
 def test_several_tracks_and_segments_are_joined_in_order(tmp_path):
     body = "".join(
-        f'<trk><name>T{t}</name>' + "".join(
-            "<trkseg>" + "".join(
+        f"<trk><name>T{t}</name>"
+        + "".join(
+            "<trkseg>"
+            + "".join(
                 f'<trkpt lat="{-40.5 + 0.001 * (t * 4 + s * 2 + i)}" lon="-140.3"><ele>{t}</ele></trkpt>'
-                for i in range(2)) + "</trkseg>" for s in range(2)) + "</trk>"
-        for t in range(2))
+                for i in range(2)
+            )
+            + "</trkseg>"
+            for s in range(2)
+        )
+        + "</trk>"
+        for t in range(2)
+    )
     path = tmp_path / "multi.gpx"
     path.write_text(f'<gpx version="1.1" xmlns="http://www.topografix.com/GPX/1/1">{body}</gpx>')
     track = read_gpx(path)
@@ -93,23 +115,50 @@ HOSTILE = {
     "not-xml.gpx": ("this is not xml at all", "line 1"),
     "truncated.gpx": (_gpx()[:150], "not well-formed"),
     "not-gpx.gpx": ("<html><body>hi</body></html>", "not a GPX file"),
-    "dtd.gpx": (_gpx(head=HEAD + '<!DOCTYPE gpx [<!ELEMENT gpx ANY>]>\n'), "document type"),
-    "bomb.gpx": (_gpx(points=GOOD_POINTS.replace("<ele>1</ele>", "<ele>&lol9;</ele>"), head=HEAD + (
-        '<!DOCTYPE gpx [<!ENTITY lol "lol">'
-        + "".join(f'<!ENTITY lol{i} "{("&lol" + (str(i - 1) if i > 1 else "") + ";") * 10}">' for i in range(1, 10))
-        + "]>\n")), "document type"),
-    "external.gpx": (_gpx(points=GOOD_POINTS.replace("<ele>1</ele>", "<ele>&secret;</ele>"), head=HEAD + (
-        '<!DOCTYPE gpx [<!ENTITY secret SYSTEM "file:///etc/passwd">]>\n')), "document type"),
-    "undeclared-entity.gpx": (_gpx(points=GOOD_POINTS.replace("<ele>1</ele>", "<ele>&x;</ele>")), "undefined entity"),
+    "dtd.gpx": (_gpx(head=HEAD + "<!DOCTYPE gpx [<!ELEMENT gpx ANY>]>\n"), "document type"),
+    "bomb.gpx": (
+        _gpx(
+            points=GOOD_POINTS.replace("<ele>1</ele>", "<ele>&lol9;</ele>"),
+            head=HEAD
+            + (
+                '<!DOCTYPE gpx [<!ENTITY lol "lol">'
+                + "".join(
+                    f'<!ENTITY lol{i} "{("&lol" + (str(i - 1) if i > 1 else "") + ";") * 10}">'
+                    for i in range(1, 10)
+                )
+                + "]>\n"
+            ),
+        ),
+        "document type",
+    ),
+    "external.gpx": (
+        _gpx(
+            points=GOOD_POINTS.replace("<ele>1</ele>", "<ele>&secret;</ele>"),
+            head=HEAD + ('<!DOCTYPE gpx [<!ENTITY secret SYSTEM "file:///etc/passwd">]>\n'),
+        ),
+        "document type",
+    ),
+    "undeclared-entity.gpx": (
+        _gpx(points=GOOD_POINTS.replace("<ele>1</ele>", "<ele>&x;</ele>")),
+        "undefined entity",
+    ),
     "one-point.gpx": (_gpx(points='<trkpt lat="-40.5" lon="-140.3"><ele>1</ele></trkpt>'), "at least two"),
     "no-points.gpx": (_gpx(points=""), "at least two"),
     "lat-range.gpx": (_gpx(points=GOOD_POINTS.replace('lat="-40.5"', 'lat="95"')), "lat 95.0 is outside"),
-    "lon-range.gpx": (_gpx(points=GOOD_POINTS.replace('lon="-140.3"', 'lon="-190"', 1)), "lon -190.0 is outside"),
-    "nan.gpx": (_gpx(points=GOOD_POINTS.replace('lat="-40.5"', 'lat="nan"')), "trackpoint 1: lat is 'nan', not a finite"),
-    "missing-lat.gpx": (_gpx(points=GOOD_POINTS.replace('lat="-40.5" ', '')), "lat is None"),
+    "lon-range.gpx": (
+        _gpx(points=GOOD_POINTS.replace('lon="-140.3"', 'lon="-190"', 1)),
+        "lon -190.0 is outside",
+    ),
+    "nan.gpx": (
+        _gpx(points=GOOD_POINTS.replace('lat="-40.5"', 'lat="nan"')),
+        "trackpoint 1: lat is 'nan', not a finite",
+    ),
+    "missing-lat.gpx": (_gpx(points=GOOD_POINTS.replace('lat="-40.5" ', "")), "lat is None"),
     "text-lat.gpx": (_gpx(points=GOOD_POINTS.replace('lat="-40.5"', 'lat="north"')), "'north', not a number"),
-    "no-elevation.gpx": (_gpx(points=GOOD_POINTS.replace("<ele>1</ele>", "").replace("<ele>2</ele>", "")),
-                         "no trackpoint has an elevation"),
+    "no-elevation.gpx": (
+        _gpx(points=GOOD_POINTS.replace("<ele>1</ele>", "").replace("<ele>2</ele>", "")),
+        "no trackpoint has an elevation",
+    ),
     "same-point.gpx": (_gpx(points=GOOD_POINTS.replace('lat="-40.501"', 'lat="-40.5"')), "long"),
 }
 

@@ -81,8 +81,9 @@ def test_long_climb_above_cp_flags_w_prime_with_a_safe_power(tmp_path):
     e = np.interp(d, [0, 1000, 7000, 8000], [0, 0, 480, 480])  # 6 km at 8 %
     track = read_gpx(profile_gpx(tmp_path / "long.gpx", d, e))
     vehicle = builtin_vehicles()["road-hoods"]
-    rider = Rider.for_vehicle(vehicle, cp=220.0, w_prime=12000.0, flat_power=150.0, climb_power=300.0,
-                              climb_share=0.3)
+    rider = Rider.for_vehicle(
+        vehicle, cp=220.0, w_prime=12000.0, flat_power=150.0, climb_power=300.0, climb_share=0.3
+    )
     plan = make_plan(track, build_terrain(track), rider)
     (climb,) = plan.climbs
     assert climb.w_prime_low < 0

@@ -18,6 +18,8 @@ from cardgen.render.html import slugify
 from cardgen.route.gpx import read_gpx
 from cardgen.route.terrain import build_terrain
 
+pytestmark = pytest.mark.slow  # builds whole sites, fuzzes or checks the install: not in make check
+
 
 def _half_up(x, step):
     """Round half up to a multiple of step (spelled out here, not taken from cardgen)."""
@@ -26,12 +28,14 @@ def _half_up(x, step):
 
 
 def _pdftotext(path: Path) -> str:
-    return subprocess.run(["pdftotext", "-layout", str(path), "-"], capture_output=True, text=True,
-                          check=True).stdout
+    return subprocess.run(
+        ["pdftotext", "-layout", str(path), "-"], capture_output=True, text=True, check=True
+    ).stdout
 
 
-needs_poppler = pytest.mark.skipif(shutil.which("pdftotext") is None,
-                                   reason="poppler-utils (pdftotext, pdftoppm) is not installed")
+needs_poppler = pytest.mark.skipif(
+    shutil.which("pdftotext") is None, reason="poppler-utils (pdftotext, pdftoppm) is not installed"
+)
 
 
 @needs_poppler
@@ -114,8 +118,9 @@ def test_card_rasterises_non_blank_on_its_page_size(demo_site, tmp_path):
     info = subprocess.run(["pdfinfo", str(card)], capture_output=True, text=True, check=True).stdout
     width, height = map(float, re.search(r"Page size:\s+([\d.]+) x ([\d.]+) pts", info).groups())
     assert (width, height) == pytest.approx((419.53, 595.28), abs=0.5)  # ISO 216 A5: 148 × 210 mm
-    subprocess.run(["pdftoppm", "-png", "-r", "40", "-f", "1", "-l", "1", str(card), str(tmp_path / "p")],
-                   check=True)
+    subprocess.run(
+        ["pdftoppm", "-png", "-r", "40", "-f", "1", "-l", "1", str(card), str(tmp_path / "p")], check=True
+    )
     image = imread(next(tmp_path.glob("p*.png")))
     assert image.shape[1] == pytest.approx(148 / 25.4 * 40, abs=2)
     ink = (image[..., :3].mean(axis=2) < 0.5).mean()
@@ -132,28 +137,43 @@ def test_route_page_in_a_real_browser(demo_site, tmp_path):
 
     _, out, _ = demo_site
     page = (out / "hill-loop" / "index.html").as_uri()
-    flags = ["--headless", "--no-sandbox", "--disable-gpu", "--disable-quic", "--no-first-run",
-             "--disable-background-networking", "--disable-component-update", "--disable-sync",
-             f"--user-data-dir={tmp_path / 'profile'}"]
+    flags = [
+        "--headless",
+        "--no-sandbox",
+        "--disable-gpu",
+        "--disable-quic",
+        "--no-first-run",
+        "--disable-background-networking",
+        "--disable-component-update",
+        "--disable-sync",
+        f"--user-data-dir={tmp_path / 'profile'}",
+    ]
     shot = tmp_path / "page.png"
-    subprocess.run([_chromium(), *flags, "--window-size=1200,1600", f"--screenshot={shot}", page],
-                   capture_output=True, timeout=120, check=True)
+    subprocess.run(
+        [_chromium(), *flags, "--window-size=1200,1600", f"--screenshot={shot}", page],
+        capture_output=True,
+        timeout=120,
+        check=True,
+    )
     image = imread(shot)
     assert image.shape[0] >= 1000
     grey = image[..., :3].mean(axis=2)
     assert grey.std() > 0.05  # not a blank page
     assert (grey < 0.5).mean() > 0.01
-    dom = subprocess.run([_chromium(), *flags, "--dump-dom", page], capture_output=True, text=True,
-                         timeout=120, check=True).stdout
+    dom = subprocess.run(
+        [_chromium(), *flags, "--dump-dom", page], capture_output=True, text=True, timeout=120, check=True
+    ).stdout
     assert "<title>Gorse Bank Hill Loop" in dom
 
 
 def _contrast(a: str, b: str) -> float:
     """WCAG 2.2 contrast ratio of two #rrggbb colours (relative luminance, sRGB)."""
+
     def luminance(hex_colour):
-        rgb = np.array([int(hex_colour[i:i + 2], 16) for i in (1, 3, 5)]) / 255
+        rgb = np.array([int(hex_colour[i : i + 2], 16) for i in (1, 3, 5)]) / 255
         lin = np.where(rgb <= 0.04045, rgb / 12.92, ((rgb + 0.055) / 1.055) ** 2.4)
         return float(lin @ [0.2126, 0.7152, 0.0722])
+
     hi, lo = sorted((luminance(a), luminance(b)), reverse=True)
     return (hi + 0.05) / (lo + 0.05)
 
@@ -163,9 +183,17 @@ def test_contrast_of_the_theme_colours_wcag_aa():
 
     css = (default_templates() / "style.css").read_text()
     colours = dict(re.findall(r"--([a-z-]+):\s*(#[0-9a-f]{6})", css))
-    pairs = [("ink", "paper"), ("muted", "paper"), ("accent", "paper"), ("warn-ink", "paper"),
-             ("paper", "accent"), ("ink", "stripe"), ("muted", "stripe"), ("warn-ink", "stripe"),
-             ("accent", "stripe")]
+    pairs = [
+        ("ink", "paper"),
+        ("muted", "paper"),
+        ("accent", "paper"),
+        ("warn-ink", "paper"),
+        ("paper", "accent"),
+        ("ink", "stripe"),
+        ("muted", "stripe"),
+        ("warn-ink", "stripe"),
+        ("accent", "stripe"),
+    ]
     for fg, bg in pairs:
         assert _contrast(colours[fg], colours[bg]) >= 4.5, (fg, bg)
     # the cards' own colours

@@ -12,6 +12,8 @@ from pypdf import PdfReader
 from cardgen.build import build_site
 from cardgen.config import load_config
 
+pytestmark = pytest.mark.slow  # builds whole sites, fuzzes or checks the install: not in make check
+
 SAMPLES = Path(__file__).resolve().parents[1] / "sample_routes"
 needs_poppler = pytest.mark.skipif(shutil.which("pdfinfo") is None, reason="poppler-utils is not installed")
 
@@ -20,8 +22,11 @@ def _site(tmp_path: Path, site: str) -> Path:
     src = tmp_path / "src"
     src.mkdir(parents=True)
     shutil.copy(SAMPLES / "hill-loop.gpx", src)
-    (src / "site.toml").write_text(f'[site]\n{site}\n[[routes]]\ngpx = "hill-loop.gpx"\n'
-                                   '[[riders]]\nname = "Rider"\nvehicle = "road-hoods"\n', encoding="utf-8")
+    (src / "site.toml").write_text(
+        f'[site]\n{site}\n[[routes]]\ngpx = "hill-loop.gpx"\n'
+        '[[riders]]\nname = "Rider"\nvehicle = "road-hoods"\n',
+        encoding="utf-8",
+    )
     out = tmp_path / "out"
     build_site(load_config(src / "site.toml"), out, jobs=1)
     return out
@@ -36,10 +41,12 @@ def _font_sizes(pdf: Path) -> Counter:
     """Effective font sizes [pt] of the text on a PDF's pages, counted by characters."""
     sizes = Counter()
     for page in PdfReader(pdf).pages:
+
         def visit(text, cm, tm, font, size):
             scale = abs(tm[3] * cm[3]) or 1.0
             if text.strip():
                 sizes[round(size * scale, 1)] += len(text.strip())
+
         page.extract_text(visitor_text=visit)
     return sizes
 
@@ -50,8 +57,9 @@ def test_imperial_units_on_page_and_card(tmp_path):
     page = (out / "hill-loop" / "index.html").read_text(encoding="utf-8")
     assert " mi" in page and " mph" in page and " ft" in page
     assert " km/h" not in page
-    text = subprocess.run(["pdftotext", str(out / "hill-loop" / "rider.pdf"), "-"], capture_output=True,
-                          text=True, check=True).stdout
+    text = subprocess.run(
+        ["pdftotext", str(out / "hill-loop" / "rider.pdf"), "-"], capture_output=True, text=True, check=True
+    ).stdout
     assert "mph" in text and re.search(r"\d+\.\d mi", text)
 
 
@@ -71,7 +79,9 @@ def test_large_print_body_is_at_least_14_pt(tmp_path):
     # table headings are a little smaller than the body, never below 11.5 pt
     share_small = sum(n for size, n in large.items() if size < 11.5) / sum(large.values())
     assert share_small < 0.1, large
-    text = subprocess.run(["pdftotext", str(large_pdf), "-"], capture_output=True, text=True, check=True).stdout
+    text = subprocess.run(
+        ["pdftotext", str(large_pdf), "-"], capture_output=True, text=True, check=True
+    ).stdout
     assert "medical condition" in text and "legal limits" in text
 
 

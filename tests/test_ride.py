@@ -20,10 +20,18 @@ def _ride(grade, power, cap=None, step=10.0, **kw):
     params = {**ROAD, **kw}
     headwind, rho = params.pop("headwind", 0.0), params.pop("air_density", 1.2)
     extra = {k: params.pop(k) for k in ("start_speed", "passes", "motor") if k in params}
-    return simulate(step=step, grade=grade, headwind=headwind, air_density=rho, resistance=Resistance(**params),
-                    rider_power=np.broadcast_to(power, (n,)),
-                    speed_cap=np.full(n + 1, np.inf) if cap is None else cap, distance=d,
-                    deceleration=2.45, **extra)
+    return simulate(
+        step=step,
+        grade=grade,
+        headwind=headwind,
+        air_density=rho,
+        resistance=Resistance(**params),
+        rider_power=np.broadcast_to(power, (n,)),
+        speed_cap=np.full(n + 1, np.inf) if cap is None else cap,
+        distance=d,
+        deceleration=2.45,
+        **extra,
+    )
 
 
 @pytest.mark.parametrize("n", [1, 2, 3, 17, 777, 1024])
@@ -41,7 +49,9 @@ def test_scan_equals_the_plain_loop(n):
 @pytest.mark.parametrize("grade", [0.0, 0.03, 0.08, 0.12, -0.02, -0.06])
 def test_long_constant_grade_converges_to_steady_speed(grade):
     ride = _ride(np.full(2000, grade), 180.0, start_speed=3.0)
-    steady = speed_for_power(180.0, grade=grade, air_density=1.2, mass=85.0, crr=0.005, cda=0.4, efficiency=0.976)
+    steady = speed_for_power(
+        180.0, grade=grade, air_density=1.2, mass=85.0, crr=0.005, cda=0.4, efficiency=0.976
+    )
     assert ride.speed[-1] == pytest.approx(steady, rel=0.005)
 
 
@@ -65,8 +75,16 @@ def test_work_equals_the_integral_of_the_split_terms():
     cap = np.full(grade.size + 1, 11.0)
     ride = _ride(grade, power, cap=cap, headwind=3.0)
     work = np.sum(ride.rider_power * ride.time)
-    terms = (ride.rolling + ride.bearings + ride.aero + ride.gravity + ride.kinetic + ride.drivetrain
-             + ride.braking + ride.residual)
+    terms = (
+        ride.rolling
+        + ride.bearings
+        + ride.aero
+        + ride.gravity
+        + ride.kinetic
+        + ride.drivetrain
+        + ride.braking
+        + ride.residual
+    )
     assert np.sum(terms * ride.time) == pytest.approx(work, rel=1e-9)
     # the linearisation's leftover is tiny next to the work done (this profile has
     # abrupt grade steps, the worst case; measured 0.08 % with 5 passes)

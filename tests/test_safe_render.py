@@ -3,11 +3,14 @@
 from pathlib import Path
 
 import numpy as np
+import pytest
 from gpxmaker import straight, to_latlon, write_gpx
 
 from cardgen.build import build_site
 from cardgen.config import load_config
 from cardgen.render.pdf import write_pdf
+
+pytestmark = pytest.mark.slow  # builds whole sites, fuzzes or checks the install: not in make check
 
 EVIL = "<script>alert(1)</script>"
 
@@ -18,12 +21,27 @@ def _evil_site(tmp_path: Path) -> Path:
     x, y, d = straight(3000, spacing=10)
     lat, lon = to_latlon(x, y)
     e = 20 + 0.04 * np.clip(d - 1000, 0, 1000)
-    write_gpx(src / "evil.gpx", lat, lon, e, name=EVIL,
-              waypoints=[{"lat": lat[100], "lon": lon[100], "name": f"Stop {EVIL}",
-                          "desc": '<img src="file:///etc/passwd">', "link": "file:///etc/passwd"}])
+    write_gpx(
+        src / "evil.gpx",
+        lat,
+        lon,
+        e,
+        name=EVIL,
+        waypoints=[
+            {
+                "lat": lat[100],
+                "lon": lon[100],
+                "name": f"Stop {EVIL}",
+                "desc": '<img src="file:///etc/passwd">',
+                "link": "file:///etc/passwd",
+            }
+        ],
+    )
     (src / "site.toml").write_text(
         '[site]\ntitle = "T <b>bold</b>"\n[[routes]]\ngpx = "evil.gpx"\n'
-        '[[riders]]\nname = "R <i>x</i>"\nvehicle = "road-hoods"\n', encoding="utf-8")
+        '[[riders]]\nname = "R <i>x</i>"\nvehicle = "road-hoods"\n',
+        encoding="utf-8",
+    )
     return src
 
 
@@ -46,8 +64,10 @@ def test_pdf_renderer_fetches_only_build_files(tmp_path):
     (base / "ok.svg").write_text('<svg xmlns="http://www.w3.org/2000/svg" width="10" height="10"/>')
     outside = tmp_path / "secret.png"
     outside.write_bytes(b"not an image")
-    html = (f'<img src="ok.svg"><img src="file:///etc/passwd"><img src="{outside.as_uri()}">'
-            '<img src="http://127.0.0.1:9/x.png"><img src="../secret.png"><link rel="stylesheet" href="https://example.invalid/x.css">')
+    html = (
+        f'<img src="ok.svg"><img src="file:///etc/passwd"><img src="{outside.as_uri()}">'
+        '<img src="http://127.0.0.1:9/x.png"><img src="../secret.png"><link rel="stylesheet" href="https://example.invalid/x.css">'
+    )
     refused = write_pdf(html, base, tmp_path / "out.pdf")
     assert (tmp_path / "out.pdf").stat().st_size > 500
     assert any("etc/passwd" in url for url in refused)

@@ -94,7 +94,8 @@ def _stable(v, grade, wind, params):
     """d(power)/d(speed) > 0: a small speed-up meets more resistance."""
     dv = 1e-4
     return power_for_speed(v + dv, grade=grade, headwind=wind, **params) > power_for_speed(
-        v, grade=grade, headwind=wind, **params)
+        v, grade=grade, headwind=wind, **params
+    )
 
 
 @given(
@@ -114,4 +115,5 @@ def test_round_trip_speed_power_speed(v, grade, wind, mass, cda):
         # On the unstable branch the solver returns the stable speed with the same power.
         assert back >= v
         assert power_for_speed(back, grade=grade, headwind=wind, **params) == pytest.approx(
-            power, rel=1e-6, abs=1e-6)
+            power, rel=1e-6, abs=1e-6
+        )

@@ -21,10 +21,18 @@ WGS84 = Geodesic.WGS84
 
 # Karney (2013), "Algorithms for geodesics", J. Geodesy 87:43–55, via geographiclib:
 # haversine on the mean radius must agree within 0.6 % (shared/REFERENCES.md §9 [C]).
-@pytest.mark.parametrize("lat1, lon1, lat2, lon2", [
-    (0, 0, 0, 1), (0, 0, 1, 0), (51.5, -0.1, 48.85, 2.35), (45, 6, 45.01, 6.01), (-40.5, -140.3, -40.49, -140.31),
-    (70, 20, 70.005, 20.02), (-80, 10, -80.009, 10.0),
-])
+@pytest.mark.parametrize(
+    "lat1, lon1, lat2, lon2",
+    [
+        (0, 0, 0, 1),
+        (0, 0, 1, 0),
+        (51.5, -0.1, 48.85, 2.35),
+        (45, 6, 45.01, 6.01),
+        (-40.5, -140.3, -40.49, -140.31),
+        (70, 20, 70.005, 20.02),
+        (-80, 10, -80.009, 10.0),
+    ],
+)
 def test_distance_against_geographiclib(lat1, lat2, lon1, lon2):
     geodesic = WGS84.Inverse(lat1, lon1, lat2, lon2)["s12"]
     ours = cumulative_distance([lat1, lat2], [lon1, lon2])[-1]
@@ -133,8 +141,9 @@ def test_savitzky_golay_matches_scipy(points, order):
     from cardgen.route.terrain import savitzky_golay
 
     e = np.random.default_rng(points).normal(0, 5, 300).cumsum()
-    np.testing.assert_allclose(savitzky_golay(e, points, order), savgol_filter(e, points, order, mode="interp"),
-                               atol=1e-9)
+    np.testing.assert_allclose(
+        savitzky_golay(e, points, order), savgol_filter(e, points, order, mode="interp"), atol=1e-9
+    )
 
 
 def test_running_median_matches_scipy():

@@ -7,12 +7,30 @@ from cardgen.physics.forces import G0
 from cardgen.profiles.vehicles import builtin_vehicles, find_vehicle, load_vehicles
 
 REQUIRED = {
-    "city-upright", "mountain-bike", "road-hoods", "road-drops", "cargo-empty", "cargo-loaded",
-    "tandem", "trike-recumbent", "handcycle", "e-assist-city", "e-assist-cargo",
+    "city-upright",
+    "mountain-bike",
+    "road-hoods",
+    "road-drops",
+    "cargo-empty",
+    "cargo-loaded",
+    "tandem",
+    "trike-recumbent",
+    "handcycle",
+    "e-assist-city",
+    "e-assist-cargo",
 }
 COEFFICIENTS = [
-    "vehicle_mass_kg", "rider_mass_kg", "cda_m2", "crr", "efficiency", "wheel_inertia_kg",
-    "gross_efficiency", "typical_power_w", "climb_speed_kmh", "max_descent_speed_kmh", "curve_accel_g",
+    "vehicle_mass_kg",
+    "rider_mass_kg",
+    "cda_m2",
+    "crr",
+    "efficiency",
+    "wheel_inertia_kg",
+    "gross_efficiency",
+    "typical_power_w",
+    "climb_speed_kmh",
+    "max_descent_speed_kmh",
+    "curve_accel_g",
 ]
 
 
@@ -73,8 +91,12 @@ def test_user_file_reports_every_problem_with_file_and_key(tmp_path):
 
 @pytest.mark.parametrize(
     "text, fragment",
-    [("not toml [", "not valid TOML"), ("", "no vehicle tables"), ("x = 1\n", "must be a table"),
-     ('[a]\nbase = "rocket"\n', "not a built-in vehicle")],
+    [
+        ("not toml [", "not valid TOML"),
+        ("", "no vehicle tables"),
+        ("x = 1\n", "must be a table"),
+        ('[a]\nbase = "rocket"\n', "not a built-in vehicle"),
+    ],
 )
 def test_broken_files_are_clear_errors(tmp_path, text, fragment):
     path = tmp_path / "v.toml"
@@ -100,13 +122,16 @@ def test_rider_defaults_follow_the_vehicle():
     assert road.cp > hand.cp
 
 
-@pytest.mark.parametrize("given, fragment", [
-    ({"flat_power": 400.0, "cp": 200.0}, "flat power"),
-    ({"cp": 5000.0}, "critical power"),
-    ({"w_prime": -1.0}, "W′"),
-    ({"target_speed": 0.0}, "target climbing speed"),
-    ({"cruise_level": 9}, "cruise assist level"),
-])
+@pytest.mark.parametrize(
+    "given, fragment",
+    [
+        ({"flat_power": 400.0, "cp": 200.0}, "flat power"),
+        ({"cp": 5000.0}, "critical power"),
+        ({"w_prime": -1.0}, "W′"),
+        ({"target_speed": 0.0}, "target climbing speed"),
+        ({"cruise_level": 9}, "cruise assist level"),
+    ],
+)
 def test_impossible_riders_are_refused(given, fragment):
     from cardgen.profiles.riders import Rider
 
@@ -130,5 +155,7 @@ def test_handcycle_against_janssen_2001(max_power, race_kmh):
     from cardgen.physics.steady import speed_for_power
 
     v = builtin_vehicles()["handcycle"]
-    speed = speed_for_power(max_power, mass=v.mass, crr=v.crr, cda=v.cda, efficiency=v.efficiency, air_density=1.2)
+    speed = speed_for_power(
+        max_power, mass=v.mass, crr=v.crr, cda=v.cda, efficiency=v.efficiency, air_density=1.2
+    )
     assert race_kmh <= speed * 3.6 <= race_kmh * 1.15

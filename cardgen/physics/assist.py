@@ -47,7 +47,7 @@ class Motor:
         return self.battery * self.usable_share
 
     def level_name(self, level: int) -> str:
-        """"off", or "level N (R %)"."""
+        """ "off", or "level N (R %)"."""
         if level == 0:
             return "off"
         return f"level {level} ({self.levels[level - 1] * 100:.0f} %)"
@@ -97,8 +97,13 @@ def assisted_speed(motor: Motor, ratio, rider_power, *, resistance: Resistance, 
     rider_power = np.asarray(rider_power, dtype=float)
     wheel = np.where(rider_power > 0, rider_power * resistance.efficiency, rider_power)
     boost = np.minimum(ratio * np.maximum(rider_power, 0.0), motor.peak_power)
-    phys = dict(**{**resistance.steady(), "efficiency": 1.0}, grade=grade, headwind=headwind,
-                air_density=air_density, rtol=1e-6)
+    phys = dict(
+        **{**resistance.steady(), "efficiency": 1.0},
+        grade=grade,
+        headwind=headwind,
+        air_density=air_density,
+        rtol=1e-6,
+    )
     speed = speed_for_power(wheel + boost, **phys)
     for _ in range(2):
         slower = taper_factor(speed, motor.cutoff_speed, motor.taper) < 1
@@ -108,8 +113,9 @@ def assisted_speed(motor: Motor, ratio, rider_power, *, resistance: Resistance, 
     return speed
 
 
-def rider_power_for_speed(motor: Motor | None, ratio, speed, *, resistance: Resistance, grade, headwind,
-                          air_density):
+def rider_power_for_speed(
+    motor: Motor | None, ratio, speed, *, resistance: Resistance, grade, headwind, air_density
+):
     """Rider's pedal power [W] to hold ``speed`` with assist at ``ratio`` (0 = none).
 
     Notes
@@ -117,8 +123,13 @@ def rider_power_for_speed(motor: Motor | None, ratio, speed, *, resistance: Resi
     At the wheel P_need = P_rider·E + min(ratio·P_rider, P_peak)·taper(v); solved for
     P_rider on the branch below the peak, else with the motor at its peak.
     """
-    need = power_for_speed(speed, **{**resistance.steady(), "efficiency": 1.0}, grade=grade,
-                           headwind=headwind, air_density=air_density)  # at the wheel
+    need = power_for_speed(
+        speed,
+        **{**resistance.steady(), "efficiency": 1.0},
+        grade=grade,
+        headwind=headwind,
+        air_density=air_density,
+    )  # at the wheel
     eff = resistance.efficiency
     if motor is None:
         return np.where(need > 0, need / eff, 0.0)
@@ -129,8 +140,18 @@ def rider_power_for_speed(motor: Motor | None, ratio, speed, *, resistance: Resi
     return np.maximum(p, 0.0)
 
 
-def suggest_levels(motor: Motor, climbs, *, climb_power: float, target_speed: float, min_speed: float,
-                   resistance: Resistance, grade, headwind, air_density):
+def suggest_levels(
+    motor: Motor,
+    climbs,
+    *,
+    climb_power: float,
+    target_speed: float,
+    min_speed: float,
+    resistance: Resistance,
+    grade,
+    headwind,
+    air_density,
+):
     """For each climb, the lowest assist level (0 = off) at which the rider, at no more
     than ``climb_power``, stays at or above ``min_speed`` on every segment. The rider
     eases off once ``target_speed`` is reached.

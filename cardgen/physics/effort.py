@@ -26,8 +26,9 @@ from cardgen.physics.steady import power_for_speed, speed_for_power
 FLAT_AIR_DENSITY = 1.2
 
 
-def effort_power(*, flat_power: float, climb_power: float, on_climb, grade, headwind, air_density,
-                 resistance: Resistance):
+def effort_power(
+    *, flat_power: float, climb_power: float, on_climb, grade, headwind, air_density, resistance: Resistance
+):
     """Rider power [W] on every segment: the effort model of the module notes.
 
     Parameters
@@ -49,14 +50,31 @@ def effort_power(*, flat_power: float, climb_power: float, on_climb, grade, head
     power = np.where(np.asarray(on_climb, dtype=bool), climb_power, flat_power).astype(float)
     steady = resistance.steady()
     flat_speed = speed_for_power(flat_power, **steady, grade=0.0, headwind=0.0, air_density=FLAT_AIR_DENSITY)
-    coasts = power_for_speed(flat_speed, **{**steady, "efficiency": 1.0}, grade=grade, headwind=headwind,
-                             air_density=air_density) <= 0
+    coasts = (
+        power_for_speed(
+            flat_speed,
+            **{**steady, "efficiency": 1.0},
+            grade=grade,
+            headwind=headwind,
+            air_density=air_density,
+        )
+        <= 0
+    )
     power[coasts] = 0.0
     return power
 
 
-def safe_climb_power(*, cp: float, climb_power: float, w_prime_left: float, step: float, grade, headwind,
-                     air_density, resistance: Resistance) -> float | None:
+def safe_climb_power(
+    *,
+    cp: float,
+    climb_power: float,
+    w_prime_left: float,
+    step: float,
+    grade,
+    headwind,
+    air_density,
+    resistance: Resistance,
+) -> float | None:
     """Highest steady power [W] whose work above CP over a climb, (P − CP)·T(P), fits
     the W′ left at its foot; None when nothing is left.
 
@@ -75,8 +93,17 @@ def safe_climb_power(*, cp: float, climb_power: float, w_prime_left: float, step
     candidates = np.linspace(cp, max(cp, climb_power), 41)
     grade = np.asarray(grade, dtype=float)
     length = step * np.sqrt(1.0 + grade**2)  # along the slope
-    t = np.sum(length / speed_for_power(candidates[:, None], **resistance.steady(), grade=grade,
-                                         headwind=headwind, air_density=air_density), axis=1)
+    t = np.sum(
+        length
+        / speed_for_power(
+            candidates[:, None],
+            **resistance.steady(),
+            grade=grade,
+            headwind=headwind,
+            air_density=air_density,
+        ),
+        axis=1,
+    )
     fits = (candidates - cp) * t <= w_prime_left
     return float(candidates[fits].max())
 
@@ -116,7 +143,9 @@ def w_prime_balance_skiba(power, time, cp: float, w_prime: float):
     tau = skiba_time_constant(d_cp)
     expended = np.maximum(p - cp, 0.0) * dt
     decay = np.exp(-dt / tau)
-    spent = clamp_affine_scan(decay, expended, np.full(p.size, -UNBOUNDED), np.full(p.size, UNBOUNDED), 0.0)[1:]
+    spent = clamp_affine_scan(decay, expended, np.full(p.size, -UNBOUNDED), np.full(p.size, UNBOUNDED), 0.0)[
+        1:
+    ]
     return w_prime - spent
 
 

@@ -230,8 +230,16 @@ class Breakdown:
 
 
 def steady_breakdown(
-    speed, *, mass, crr, cda, efficiency=1.0, grade=0.0, headwind=0.0,
-    air_density=1.225, bearings=True,
+    speed,
+    *,
+    mass,
+    crr,
+    cda,
+    efficiency=1.0,
+    grade=0.0,
+    headwind=0.0,
+    air_density=1.225,
+    bearings=True,
 ):
     """Every term of the steady (no acceleration) power balance at a speed.
 
@@ -312,8 +320,9 @@ class Resistance:
 
     def steady(self) -> dict:
         """Keyword arguments of :func:`cardgen.physics.steady.power_for_speed`."""
-        return dict(mass=self.mass, crr=self.crr, cda=self.cda, efficiency=self.efficiency,
-                    bearings=self.bearings)
+        return dict(
+            mass=self.mass, crr=self.crr, cda=self.cda, efficiency=self.efficiency, bearings=self.bearings
+        )
 
 
 @dataclass(frozen=True)
@@ -338,8 +347,9 @@ class ForceLaw:
     @classmethod
     def build(cls, *, mass, crr, cda, grade, headwind, air_density, bearings: bool = True) -> ForceLaw:
         """Precompute the law for every element (arguments broadcast together)."""
-        g, m, c_rr, c_da, w, rho = np.broadcast_arrays(*(np.asarray(x, dtype=float) for x in (
-            grade, mass, crr, cda, headwind, air_density)))
+        g, m, c_rr, c_da, w, rho = np.broadcast_arrays(
+            *(np.asarray(x, dtype=float) for x in (grade, mass, crr, cda, headwind, air_density))
+        )
         cos_a, sin_a = _slope(g)
         const = m * G0 * (c_rr * cos_a + sin_a) + (BEARING_A if bearings else 0.0)
         return cls(0.5 * rho * c_da, const, w, BEARING_B if bearings else 0.0)
@@ -349,5 +359,7 @@ class ForceLaw:
         if idx is None:
             idx = slice(None)
         air = speed + self.wind[idx]
-        return (self.k[idx] * air * np.abs(air) + self.const[idx] + self.b * speed,
-                2.0 * self.k[idx] * np.abs(air) + self.b)
+        return (
+            self.k[idx] * air * np.abs(air) + self.const[idx] + self.b * speed,
+            2.0 * self.k[idx] * np.abs(air) + self.b,
+        )

@@ -142,8 +142,19 @@ class Ride:
 
 
 def simulate(
-    *, step: float, grade, headwind, air_density, resistance: Resistance, rider_power, speed_cap, distance,
-    deceleration: float, motor=None, start_speed: float | None = None, passes: int = 4,
+    *,
+    step: float,
+    grade,
+    headwind,
+    air_density,
+    resistance: Resistance,
+    rider_power,
+    speed_cap,
+    distance,
+    deceleration: float,
+    motor=None,
+    start_speed: float | None = None,
+    passes: int = 4,
 ) -> Ride:
     """Ride a profile of equal segments with the kinetic-energy balance.
 
@@ -182,16 +193,33 @@ def simulate(
     rho = np.broadcast_to(np.asarray(air_density, dtype=float), (n,))
     rider = np.broadcast_to(np.asarray(rider_power, dtype=float), (n,))
     cos_a = 1.0 / np.sqrt(1.0 + grade * grade)
-    force = ForceLaw.build(mass=res.mass, crr=res.crr, cda=res.cda, grade=grade, headwind=wind,
-                           air_density=rho, bearings=res.bearings)
+    force = ForceLaw.build(
+        mass=res.mass,
+        crr=res.crr,
+        cda=res.cda,
+        grade=grade,
+        headwind=wind,
+        air_density=rho,
+        bearings=res.bearings,
+    )
     m_e = res.mass + res.wheel_inertia_mass
     length = step / cos_a  # along the slope
     limit = speed_limit_profile(distance, speed_cap, deceleration)
     hi = limit[1:] ** 2
 
     def steady(p_wheel):
-        v = speed_for_power(p_wheel, mass=res.mass, crr=res.crr, cda=max(res.cda, 1e-9), efficiency=1.0,
-                            grade=grade, headwind=wind, air_density=rho, bearings=res.bearings, rtol=1e-4)
+        v = speed_for_power(
+            p_wheel,
+            mass=res.mass,
+            crr=res.crr,
+            cda=max(res.cda, 1e-9),
+            efficiency=1.0,
+            grade=grade,
+            headwind=wind,
+            air_density=rho,
+            bearings=res.bearings,
+            rtol=1e-4,
+        )
         return np.minimum(np.nan_to_num(v, nan=1.0, posinf=1.0), limit[1:])
 
     # First reference: the steady speed of each segment (with the motor at that speed).
@@ -202,7 +230,7 @@ def simulate(
     v_ref = np.maximum(v_ref, 0.05)
     if start_speed is None:
         start_speed = float(v_ref[0])
-    u = None
+    u = np.full(n + 1, start_speed**2)
     for _ in range(passes):
         motor_w = motor(v_ref, rider) if motor is not None else np.zeros(n)
         p_wheel = wheel_rider + motor_w
@@ -234,6 +262,20 @@ def simulate(
     residual = wheel_rider + motor_w - (rolling + bear + aero + gravity + kinetic)
     limited = u[1:] >= hi * (1 - 1e-9)
     braking = np.where(limited, np.maximum(residual, 0.0), 0.0)
-    return Ride(speed, np.concatenate(([0.0], np.cumsum(time))), mean_speed, time, rider.copy(),
-                motor_w, rolling, bear, aero, gravity, kinetic, drivetrain, braking, limited,
-                np.where(limited, residual - braking, residual))
+    return Ride(
+        speed,
+        np.concatenate(([0.0], np.cumsum(time))),
+        mean_speed,
+        time,
+        rider.copy(),
+        motor_w,
+        rolling,
+        bear,
+        aero,
+        gravity,
+        kinetic,
+        drivetrain,
+        braking,
+        limited,
+        np.where(limited, residual - braking, residual),
+    )

@@ -27,8 +27,16 @@ _MAX_ITER = 100
 
 
 def power_for_speed(
-    speed, *, mass, crr, cda, efficiency=1.0, grade=0.0, headwind=0.0,
-    air_density=1.225, bearings=True,
+    speed,
+    *,
+    mass,
+    crr,
+    cda,
+    efficiency=1.0,
+    grade=0.0,
+    headwind=0.0,
+    air_density=1.225,
+    bearings=True,
 ):
     """Power at the pedals to hold a steady ground speed.
 
@@ -59,8 +67,15 @@ def power_for_speed(
     Martin et al. (1998), J. Appl. Biomech. 14:276–291.
     """
     total = steady_breakdown(
-        speed, mass=mass, crr=crr, cda=cda, efficiency=efficiency, grade=grade,
-        headwind=headwind, air_density=air_density, bearings=bearings,
+        speed,
+        mass=mass,
+        crr=crr,
+        cda=cda,
+        efficiency=efficiency,
+        grade=grade,
+        headwind=headwind,
+        air_density=air_density,
+        bearings=bearings,
     ).total
     ok = (np.asarray(speed) >= 0) & _valid(mass, crr, cda, efficiency, air_density, grade)
     return np.where(ok, total, np.nan)[()]
@@ -69,9 +84,13 @@ def power_for_speed(
 def _valid(mass, crr, cda, efficiency, air_density, grade):
     with np.errstate(invalid="ignore"):
         return (
-            (np.asarray(mass) > 0) & (np.asarray(crr) >= 0) & (np.asarray(cda) > 0)
-            & (np.asarray(efficiency) > 0) & (np.asarray(efficiency) <= 1)
-            & (np.asarray(air_density) > 0) & np.isfinite(grade)
+            (np.asarray(mass) > 0)
+            & (np.asarray(crr) >= 0)
+            & (np.asarray(cda) > 0)
+            & (np.asarray(efficiency) > 0)
+            & (np.asarray(efficiency) <= 1)
+            & (np.asarray(air_density) > 0)
+            & np.isfinite(grade)
         )
 
 
@@ -104,8 +123,17 @@ def _solve_increasing(fun, lo, hi, x, tol=_TOL):
 
 
 def speed_for_power(
-    power, *, mass, crr, cda, efficiency=1.0, grade=0.0, headwind=0.0,
-    air_density=1.225, bearings=True, rtol=_TOL,
+    power,
+    *,
+    mass,
+    crr,
+    cda,
+    efficiency=1.0,
+    grade=0.0,
+    headwind=0.0,
+    air_density=1.225,
+    bearings=True,
+    rtol=_TOL,
 ):
     """Steady ground speed reached at a constant power.
 
@@ -137,7 +165,13 @@ def speed_for_power(
     Martin et al. (1998), J. Appl. Biomech. 14:276–291; Press et al. (2007) §9.4.
     """
     args = np.broadcast_arrays(
-        np.asarray(power, dtype=float), mass, crr, cda, efficiency, grade, headwind,
+        np.asarray(power, dtype=float),
+        mass,
+        crr,
+        cda,
+        efficiency,
+        grade,
+        headwind,
         air_density,
     )
     shape = args[0].shape
@@ -145,17 +179,25 @@ def speed_for_power(
     ok = _valid(m, c_rr, c_da, eff, rho, gr) & np.isfinite(p) & np.isfinite(w)
     pw = wheel_power(np.where(ok, p, 0.0), np.where(ok, eff, 1.0))
     # invalid elements get a harmless law; they are set to NaN at the end
-    force = ForceLaw.build(mass=np.where(ok, m, 1.0), crr=np.where(ok, c_rr, 0.0), cda=np.where(ok, c_da, 1.0),
-                           grade=np.where(ok, gr, 1.0), headwind=np.where(ok, w, 0.0),
-                           air_density=np.where(ok, rho, 2.0), bearings=bearings)
+    force = ForceLaw.build(
+        mass=np.where(ok, m, 1.0),
+        crr=np.where(ok, c_rr, 0.0),
+        cda=np.where(ok, c_da, 1.0),
+        grade=np.where(ok, gr, 1.0),
+        headwind=np.where(ok, w, 0.0),
+        air_density=np.where(ok, rho, 2.0),
+        bearings=bearings,
+    )
     k = force.k
 
     def excess_over(elements):
         """v·F(v) − P_wheel and its derivative, for the given elements of the problem."""
+
         def excess(v, sel):
             idx = elements[sel]
             f, df = force(v, idx)
             return v * f - pw[idx], f + v * df
+
         return excess
 
     speed = np.zeros_like(p)
@@ -183,6 +225,7 @@ def speed_for_power(
     f0, _ = force(np.zeros_like(p), slice(None))
     pulled = np.flatnonzero(ok & (pw <= 0) & (f0 < 0))
     if pulled.size:
+
         def net_force(v, sel):
             return force(v, pulled[sel])
 

@@ -10,5 +10,16 @@ from cardgen.plan.event import CheckpointWindow, checkpoint_windows
 from cardgen.plan.model import Analysis, ClimbRow, DescentRow, Notice, Plan, TimedCue, Totals
 from cardgen.plan.rider import analyse, make_plan
 
-__all__ = ["Analysis", "CheckpointWindow", "ClimbRow", "DescentRow", "Notice", "Plan", "TimedCue", "Totals",
-           "analyse", "checkpoint_windows", "make_plan"]
+__all__ = [
+    "Analysis",
+    "CheckpointWindow",
+    "ClimbRow",
+    "DescentRow",
+    "Notice",
+    "Plan",
+    "TimedCue",
+    "Totals",
+    "analyse",
+    "checkpoint_windows",
+    "make_plan",
+]

@@ -20,21 +20,27 @@ class CheckpointWindow:
     arrivals: tuple[datetime, ...]  # one per plan, in the order given
 
 
-def checkpoint_windows(plans: Sequence[Plan], checkpoints: Sequence[Checkpoint], start: datetime,
-                       margin: float) -> tuple[list[CheckpointWindow], CheckpointWindow]:
+def checkpoint_windows(
+    plans: Sequence[Plan], checkpoints: Sequence[Checkpoint], start: datetime, margin: float
+) -> tuple[list[CheckpointWindow], CheckpointWindow]:
     """Opening and closing times of checkpoints for riders who all start at ``start``.
 
     A checkpoint opens ``margin`` seconds before the fastest plan arrives and closes
     ``margin`` seconds after the slowest; the finish closes likewise. Returns
     (windows, finish window).
     """
+
     def at(plan: Plan, distance: float) -> datetime:
         return start + timedelta(seconds=float(np.interp(distance, plan.terrain.distance, plan.ride.elapsed)))
 
     def window(checkpoint: Checkpoint) -> CheckpointWindow:
         arrivals = tuple(at(p, checkpoint.distance) for p in plans)
-        return CheckpointWindow(checkpoint, min(arrivals) - timedelta(seconds=margin),
-                                max(arrivals) + timedelta(seconds=margin), arrivals)
+        return CheckpointWindow(
+            checkpoint,
+            min(arrivals) - timedelta(seconds=margin),
+            max(arrivals) + timedelta(seconds=margin),
+            arrivals,
+        )
 
     rows = [window(cp) for cp in sorted(checkpoints, key=lambda c: c.distance)]
     return rows, window(Checkpoint("Finish", plans[0].terrain.length))

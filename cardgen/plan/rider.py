@@ -46,8 +46,14 @@ CURVE_SPEEDS = np.linspace(2.0, 30.0, 57) / 3.6
 def analyse(track: Track, terrain: Terrain) -> Analysis:
     """Climbs, descents and the cue sheet of a route (done once, shared by riders)."""
     cues, warnings = cue_sheet(terrain, track)
-    return Analysis(track, terrain, tuple(find_climbs(terrain)), tuple(find_descents(terrain)),
-                    tuple(cues), (*track.warnings, *warnings))
+    return Analysis(
+        track,
+        terrain,
+        tuple(find_climbs(terrain)),
+        tuple(find_descents(terrain)),
+        tuple(cues),
+        (*track.warnings, *warnings),
+    )
 
 
 def segment_air(terrain: Terrain, conditions: Conditions):
@@ -72,18 +78,29 @@ def _assist_ratios(rider: Rider, motor: Motor | None, climbs, terrain, wind, rho
     if motor is None:
         return ratio, levels
     ratio[:] = 0.0 if rider.cruise_level == 0 else motor.levels[rider.cruise_level - 1]
-    chosen = suggest_levels(motor, [(c.start, c.end) for c in climbs], climb_power=rider.climb_power_used,
-                            target_speed=rider.target_speed, min_speed=rider.vehicle.min_stable_speed,
-                            resistance=rider.vehicle.resistance, grade=terrain.grade, headwind=wind,
-                            air_density=rho)
+    chosen = suggest_levels(
+        motor,
+        [(c.start, c.end) for c in climbs],
+        climb_power=rider.climb_power_used,
+        target_speed=rider.target_speed,
+        min_speed=rider.vehicle.min_stable_speed,
+        resistance=rider.vehicle.resistance,
+        grade=terrain.grade,
+        headwind=wind,
+        air_density=rho,
+    )
     for climb, (level, _) in zip(climbs, chosen, strict=True):
         levels[climb.start] = level
-        ratio[climb.start:climb.end] = 0.0 if level == 0 else motor.levels[level - 1]
+        ratio[climb.start : climb.end] = 0.0 if level == 0 else motor.levels[level - 1]
     return ratio, levels
 
 
-def make_plan(route: Analysis | Track, terrain: Terrain | None = None, rider: Rider | None = None,
-              conditions: Conditions | None = None) -> Plan:
+def make_plan(
+    route: Analysis | Track,
+    terrain: Terrain | None = None,
+    rider: Rider | None = None,
+    conditions: Conditions | None = None,
+) -> Plan:
     """Work out the plan of one rider on one route (still air and the standard
     atmosphere when ``conditions`` is None).
 
@@ -91,6 +108,8 @@ def make_plan(route: Analysis | Track, terrain: Terrain | None = None, rider: Ri
     or a Track followed by its Terrain.
     """
     if not isinstance(route, Analysis):
+        if terrain is None:
+            raise ValueError("make_plan needs the Terrain of a Track")
         route = analyse(route, terrain)
     if rider is None:
         raise ValueError("make_plan needs a rider")
@@ -103,21 +122,39 @@ def make_plan(route: Analysis | Track, terrain: Terrain | None = None, rider: Ri
 
     on_climb = np.zeros(terrain.grade.size, dtype=bool)
     for climb in route.climbs:
-        on_climb[climb.start:climb.end] = True
-    power = effort_power(flat_power=rider.flat_power, climb_power=rider.climb_power_used, on_climb=on_climb,
-                         grade=terrain.grade, headwind=wind, air_density=rho, resistance=vehicle.resistance)
+        on_climb[climb.start : climb.end] = True
+    power = effort_power(
+        flat_power=rider.flat_power,
+        climb_power=rider.climb_power_used,
+        on_climb=on_climb,
+        grade=terrain.grade,
+        headwind=wind,
+        air_density=rho,
+        resistance=vehicle.resistance,
+    )
     drive = None if motor is None else (lambda v, p: motor_power(motor, ratio, v, p))
     ride = simulate(
-        step=terrain.step, grade=terrain.grade, headwind=wind, air_density=rho, resistance=vehicle.resistance,
-        rider_power=power, speed_cap=speed_caps(terrain, rider), distance=terrain.distance,
-        deceleration=BRAKING, motor=drive,
+        step=terrain.step,
+        grade=terrain.grade,
+        headwind=wind,
+        air_density=rho,
+        resistance=vehicle.resistance,
+        rider_power=power,
+        speed_cap=speed_caps(terrain, rider),
+        distance=terrain.distance,
+        deceleration=BRAKING,
+        motor=drive,
     )
     wbal = w_prime_balance_skiba(ride.rider_power, ride.time, rider.cp, rider.w_prime)
 
-    climbs = tuple(_climb_row(i + 1, c, terrain, rider, motor, levels.get(c.start), ride, wbal, wind, rho)
-                   for i, c in enumerate(route.climbs))
+    climbs = tuple(
+        _climb_row(i + 1, c, terrain, rider, motor, levels.get(c.start), ride, wbal, wind, rho)
+        for i, c in enumerate(route.climbs)
+    )
     descents = _descent_rows(route.descents, terrain, rider, ride, wind, rho)
-    timed = tuple(TimedCue(c, float(np.interp(c.distance, terrain.distance, ride.elapsed))) for c in route.cues)
+    timed = tuple(
+        TimedCue(c, float(np.interp(c.distance, terrain.distance, ride.elapsed))) for c in route.cues
+    )
 
     energy = float(np.sum(np.maximum(ride.rider_power, 0.0) * ride.time))
     slow = (ride.mean_speed < vehicle.min_stable_speed) & (ride.rider_power > 0)
@@ -127,16 +164,38 @@ def make_plan(route: Analysis | Track, terrain: Terrain | None = None, rider: Ri
         battery = battery_energy(motor, ride.motor_power, ride.time)
         fits = battery <= motor.usable_battery * (1.0 - BATTERY_RESERVE)
         if not fits:
-            warnings.append(Notice("battery", "warning", (("used", battery), ("usable", motor.usable_battery),
-                                                          ("reserve", BATTERY_RESERVE))))
-    totals = Totals(time=float(ride.elapsed[-1]), energy=energy, food_energy=energy / vehicle.gross_efficiency,
-                    battery=battery, battery_fits=fits, walk_length=float(np.sum(slow) * terrain.step))
-    return Plan(track, terrain, rider, conditions, motor, ride, wbal, climbs, descents, timed, totals,
-                tuple(warnings))
+            warnings.append(
+                Notice(
+                    "battery",
+                    "warning",
+                    (("used", battery), ("usable", motor.usable_battery), ("reserve", BATTERY_RESERVE)),
+                )
+            )
+    totals = Totals(
+        time=float(ride.elapsed[-1]),
+        energy=energy,
+        food_energy=energy / vehicle.gross_efficiency,
+        battery=battery,
+        battery_fits=fits,
+        walk_length=float(np.sum(slow) * terrain.step),
+    )
+    return Plan(
+        track, terrain, rider, conditions, motor, ride, wbal, climbs, descents, timed, totals, tuple(warnings)
+    )
 
 
-def _climb_row(number: int, climb: Climb, terrain: Terrain, rider: Rider, motor: Motor | None,
-               level: int | None, ride: Ride, wbal, wind, rho) -> ClimbRow:
+def _climb_row(
+    number: int,
+    climb: Climb,
+    terrain: Terrain,
+    rider: Rider,
+    motor: Motor | None,
+    level: int | None,
+    ride: Ride,
+    wbal,
+    wind,
+    rho,
+) -> ClimbRow:
     vehicle = rider.vehicle
     segs = slice(climb.start, climb.end)
     air = dict(grade=terrain.grade[segs], headwind=wind[segs], air_density=rho[segs])
@@ -151,24 +210,40 @@ def _climb_row(number: int, climb: Climb, terrain: Terrain, rider: Rider, motor:
     warnings = []
     safe = None
     if w_low < 0:
-        safe = safe_climb_power(cp=rider.cp, climb_power=rider.climb_power_used, w_prime_left=before,
-                                step=terrain.step, resistance=vehicle.resistance, **air)
+        safe = safe_climb_power(
+            cp=rider.cp,
+            climb_power=rider.climb_power_used,
+            w_prime_left=before,
+            step=terrain.step,
+            resistance=vehicle.resistance,
+            **air,
+        )
         warnings.append(Notice("w-prime", "warning", (("power", rider_power), ("safe", safe))))
     if slow > 0:
         warnings.append(Notice("walk", "warning", (("speed", vehicle.min_stable_speed), ("length", slow))))
     if climb.steepest_grade >= STEEP_GRADE:
         warnings.append(Notice("steep", "caution", (("grade", climb.steepest_grade),)))
     # power needed against speed on the climb's average grade, in its mean wind and air
-    curve_air = dict(grade=climb.avg_grade, headwind=float(np.mean(wind[segs])),
-                     air_density=float(np.mean(rho[segs])))
+    curve_air = dict(
+        grade=climb.avg_grade, headwind=float(np.mean(wind[segs])), air_density=float(np.mean(rho[segs]))
+    )
     steady = vehicle.resistance.steady()
     curve = power_for_speed(CURVE_SPEEDS, **steady, **curve_air)
     speed_at_effort = climb.length / time
     return ClimbRow(
-        number=number, climb=climb, power_for_target=float(np.mean(need)), speed_at_effort=speed_at_effort,
-        time=time, min_speed=float(np.min(speeds)), slow_length=slow, rider_power=rider_power,
-        w_prime_low=w_low, safe_power=safe, assist_level=level,
-        assist_name=None if motor is None else motor.level_name(level or 0), warnings=tuple(warnings),
+        number=number,
+        climb=climb,
+        power_for_target=float(np.mean(need)),
+        speed_at_effort=speed_at_effort,
+        time=time,
+        min_speed=float(np.min(speeds)),
+        slow_length=slow,
+        rider_power=rider_power,
+        w_prime_low=w_low,
+        safe_power=safe,
+        assist_level=level,
+        assist_name=None if motor is None else motor.level_name(level or 0),
+        warnings=tuple(warnings),
         power_curve=(CURVE_SPEEDS, np.asarray(curve)),
         power_at_effort=float(power_for_speed(speed_at_effort, **steady, **curve_air)),
     )
@@ -179,34 +254,49 @@ def _descent_rows(descents, terrain: Terrain, rider: Rider, ride: Ride, wind, rh
         return ()
     vehicle = rider.vehicle
     grade = np.array([d.avg_grade for d in descents])
-    mean_wind = np.array([np.mean(wind[d.start:d.end]) for d in descents])
-    mean_rho = np.array([np.mean(rho[d.start:d.end]) for d in descents])
-    coasts = speed_for_power(0.0, **vehicle.resistance.steady(), grade=grade, headwind=mean_wind,
-                             air_density=mean_rho)  # all descents at once
+    mean_wind = np.array([np.mean(wind[d.start : d.end]) for d in descents])
+    mean_rho = np.array([np.mean(rho[d.start : d.end]) for d in descents])
+    coasts = speed_for_power(
+        0.0, **vehicle.resistance.steady(), grade=grade, headwind=mean_wind, air_density=mean_rho
+    )  # all descents at once
     rows = []
     for number, (descent, coast) in enumerate(zip(descents, coasts, strict=True), 1):
         rows.append(_descent_row(number, descent, float(coast), terrain, rider, ride))
     return tuple(rows)
 
 
-def _descent_row(number: int, descent: Descent, coast: float, terrain: Terrain, rider: Rider,
-                 ride: Ride) -> DescentRow:
+def _descent_row(
+    number: int, descent: Descent, coast: float, terrain: Terrain, rider: Rider, ride: Ride
+) -> DescentRow:
     vehicle = rider.vehicle
     segs = slice(descent.start, descent.end)
     gravity = float(gravity_power(coast, vehicle.mass, descent.avg_grade))
-    radii = terrain.curve_radius[descent.start:descent.end + 1]
+    radii = terrain.curve_radius[descent.start : descent.end + 1]
     tight = descent.start + int(np.argmin(radii))
     curve_speed = float(np.sqrt(vehicle.curve_accel * terrain.curve_radius[tight]))
     warnings = []
     if coast > vehicle.max_descent_speed:
         warnings.append(Notice("fast", "warning", (("coast", coast), ("cap", vehicle.max_descent_speed))))
     if curve_speed < min(coast, vehicle.max_descent_speed):
-        warnings.append(Notice("curve", "warning", (("radius", float(terrain.curve_radius[tight])),
-                                                    ("where", float(terrain.distance[tight])),
-                                                    ("speed", curve_speed))))
+        warnings.append(
+            Notice(
+                "curve",
+                "warning",
+                (
+                    ("radius", float(terrain.curve_radius[tight])),
+                    ("where", float(terrain.distance[tight])),
+                    ("speed", curve_speed),
+                ),
+            )
+        )
     return DescentRow(
-        number=number, descent=descent, coast_speed=coast,
-        max_speed=float(np.max(ride.speed[descent.start:descent.end + 1])), gravity_power=gravity,
+        number=number,
+        descent=descent,
+        coast_speed=coast,
+        max_speed=float(np.max(ride.speed[descent.start : descent.end + 1])),
+        gravity_power=gravity,
         braking_energy=float(np.sum(ride.braking[segs] * ride.time[segs])),
-        curve_distance=float(terrain.distance[tight]), curve_speed=curve_speed, warnings=tuple(warnings),
+        curve_distance=float(terrain.distance[tight]),
+        curve_speed=curve_speed,
+        warnings=tuple(warnings),
     )

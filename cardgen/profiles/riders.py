@@ -56,16 +56,21 @@ class Rider:
 
     def __post_init__(self):
         problems = []
-        for what, key, value in (("critical power", "cp_w", self.cp), ("W′", "w_prime_kj", self.w_prime / 1000),
-                                 ("climb power", "climb_w", self.climb_power),
-                                 ("climb share above CP", "climb_share", self.climb_share),
-                                 ("target climbing speed", "target_kmh", self.target_speed * 3.6)):
+        for what, key, value in (
+            ("critical power", "cp_w", self.cp),
+            ("W′", "w_prime_kj", self.w_prime / 1000),
+            ("climb power", "climb_w", self.climb_power),
+            ("climb share above CP", "climb_share", self.climb_share),
+            ("target climbing speed", "target_kmh", self.target_speed * 3.6),
+        ):
             problem = LIMITS[key].problem(value)
             if problem:
                 problems.append(f"{what} {problem.removeprefix('= ')}")
         if not 1.0 <= self.flat_power <= self.cp:
-            problems.append(f"flat power {self.flat_power:g} W must be between 1 W and the CP "
-                            f"({self.cp:g} W): efforts above CP cannot be held for long")
+            problems.append(
+                f"flat power {self.flat_power:g} W must be between 1 W and the CP "
+                f"({self.cp:g} W): efforts above CP cannot be held for long"
+            )
         if self.vehicle.motor is not None:
             levels = len(find_motor(self.vehicle.motor).levels)
             if not 0 <= self.cruise_level <= levels:
@@ -87,8 +92,12 @@ class Rider:
         flat = given.get("flat_power", vehicle.typical_power)
         cp = given.get("cp", max(flat, vehicle.typical_power) / ALL_DAY_SHARE_OF_CP)
         values = dict(
-            cp=cp, w_prime=W_PRIME_SECONDS_OF_CP * cp, flat_power=flat, climb_power=cp,
-            climb_share=CLIMB_SHARE_ABOVE_CP, target_speed=vehicle.climb_speed,
+            cp=cp,
+            w_prime=W_PRIME_SECONDS_OF_CP * cp,
+            flat_power=flat,
+            climb_power=cp,
+            climb_share=CLIMB_SHARE_ABOVE_CP,
+            target_speed=vehicle.climb_speed,
         )
         values.update(given)
         return cls(name=name or vehicle.label, vehicle=vehicle, **values)

@@ -33,8 +33,9 @@ def read_text_bounded(path: Path, what: str, error: type[CardgenError], limit: i
     if not stat.S_ISREG(st.st_mode):
         raise error(f"{path}: not a regular file; give the path of a {what} file") from None
     if st.st_size > limit:
-        raise error(f"{path}: {st.st_size:,} bytes is more than a {what} file may hold "
-                    f"({limit:,} bytes)") from None
+        raise error(
+            f"{path}: {st.st_size:,} bytes is more than a {what} file may hold " f"({limit:,} bytes)"
+        ) from None
     try:
         with open(path, "rb") as handle:
             data = handle.read(limit + 1)
@@ -58,15 +59,16 @@ def read_toml(path: Path, what: str, error: type[CardgenError]) -> tuple[dict, s
 
 
 def close_matches(word: str, known: Iterable[str]) -> str:
-    """", did you mean 'x' or 'y'?" for the closest known words, or ""."""
+    """ ", did you mean 'x' or 'y'?" for the closest known words, or ""."""
     matches = difflib.get_close_matches(word, list(known), n=3, cutoff=0.6)
     if not matches:
         return ""
     return "; did you mean " + " or ".join(f"'{m}'" for m in matches) + "?"
 
 
-def check_numbers(table: Mapping[str, Any], keys: Mapping[str, str], *,
-                  required: bool = True) -> tuple[dict[str, float], list[str]]:
+def check_numbers(
+    table: Mapping[str, Any], keys: Mapping[str, str], *, required: bool = True
+) -> tuple[dict[str, float], list[str]]:
     """Check the numbers of a table against :data:`LIMITS`.
 
     ``keys`` maps each key of the file to the attribute it fills. Returns (values in
@@ -93,5 +95,8 @@ def check_numbers(table: Mapping[str, Any], keys: Mapping[str, str], *,
 def unknown_keys(table: Mapping[str, Any], known: Iterable[str]) -> list[str]:
     """A problem phrase for every key of ``table`` not in ``known``, with close matches."""
     known = list(known)
-    return [f"unknown key '{key}'{close_matches(key, known)} (allowed: {', '.join(sorted(known))})"
-            for key in table if key not in known]
+    return [
+        f"unknown key '{key}'{close_matches(key, known)} (allowed: {', '.join(sorted(known))})"
+        for key in table
+        if key not in known
+    ]

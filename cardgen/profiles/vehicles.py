@@ -27,10 +27,17 @@ TWO_WHEEL_MIN_SPEED = 5.5 / 3.6  # [m/s]
 
 # key in the file → attribute (ranges and units: cardgen.profiles.limits)
 NUMBERS = {
-    "vehicle_mass_kg": "vehicle_mass", "rider_mass_kg": "rider_mass", "cda_m2": "cda", "crr": "crr",
-    "efficiency": "efficiency", "wheel_inertia_kg": "wheel_inertia_mass", "gross_efficiency": "gross_efficiency",
-    "typical_power_w": "typical_power", "climb_speed_kmh": "climb_speed",
-    "max_descent_speed_kmh": "max_descent_speed", "curve_accel_g": "curve_accel",
+    "vehicle_mass_kg": "vehicle_mass",
+    "rider_mass_kg": "rider_mass",
+    "cda_m2": "cda",
+    "crr": "crr",
+    "efficiency": "efficiency",
+    "wheel_inertia_kg": "wheel_inertia_mass",
+    "gross_efficiency": "gross_efficiency",
+    "typical_power_w": "typical_power",
+    "climb_speed_kmh": "climb_speed",
+    "max_descent_speed_kmh": "max_descent_speed",
+    "curve_accel_g": "curve_accel",
 }
 _TEXT = {"label", "propulsion", "base", "motor"}
 _KNOWN = set(NUMBERS) | _TEXT | {"wheels", "sources"}
@@ -92,8 +99,13 @@ class Vehicle:
     @property
     def resistance(self) -> Resistance:
         """The vehicle's resistances for the physics functions."""
-        return Resistance(mass=self.mass, crr=self.crr, cda=self.cda, efficiency=self.efficiency,
-                          wheel_inertia_mass=self.wheel_inertia_mass)
+        return Resistance(
+            mass=self.mass,
+            crr=self.crr,
+            cda=self.cda,
+            efficiency=self.efficiency,
+            wheel_inertia_mass=self.wheel_inertia_mass,
+        )
 
     @classmethod
     def from_table(cls, name: str, table: Mapping[str, Any], where: str) -> Vehicle:
@@ -110,23 +122,30 @@ class Vehicle:
             problems.append(f"'wheels' must be 2 or 3, not {wheels!r}")
         propulsion = table.get("propulsion", "legs")
         if propulsion not in ("legs", "arms"):
-            problems.append(f"'propulsion' must be \"legs\" or \"arms\", not {propulsion!r}")
+            problems.append(f'\'propulsion\' must be "legs" or "arms", not {propulsion!r}')
         motor = table.get("motor")
         if motor is not None:
             if not isinstance(motor, str) or motor not in builtin_motors():
-                problems.append(f"'motor' = {motor!r} is not a known envelope "
-                                f"(allowed: {', '.join(builtin_motors())})")
+                problems.append(
+                    f"'motor' = {motor!r} is not a known envelope "
+                    f"(allowed: {', '.join(builtin_motors())})"
+                )
         if values.get("vehicle_mass", 1.0) + values.get("rider_mass", 1.0) < 20.0:
             problems.append("vehicle_mass_kg + rider_mass_kg must be at least 20 kg")
-        if problems:
+        if problems or not isinstance(wheels, int):
             lines = "\n  ".join(problems)
             raise VehicleError(f"{where}: vehicle '{name}':\n  {lines}")
         sources = table.get("sources", {})
         if not isinstance(sources, dict):
             raise VehicleError(f"{where}: vehicle '{name}': 'sources' must be a table of key = \"source\"")
         return cls(
-            name=name, label=str(table.get("label", name)), wheels=int(wheels),
-            propulsion=str(propulsion), motor=motor, sources=dict(sources), **values,
+            name=name,
+            label=str(table.get("label", name)),
+            wheels=int(wheels),
+            propulsion=str(propulsion),
+            motor=motor,
+            sources=dict(sources),
+            **values,
         )
 
 
@@ -181,7 +200,9 @@ def load_vehicles(path: str | Path) -> dict[str, Vehicle]:
 def _as_table(vehicle: Vehicle) -> dict[str, Any]:
     """The file form of a vehicle (inverse of :meth:`Vehicle.from_table`)."""
     table: dict[str, Any] = {
-        "label": vehicle.label, "wheels": vehicle.wheels, "propulsion": vehicle.propulsion,
+        "label": vehicle.label,
+        "wheels": vehicle.wheels,
+        "propulsion": vehicle.propulsion,
         "sources": dict(vehicle.sources),
     }
     if vehicle.motor is not None:
@@ -209,5 +230,3 @@ def find_vehicle(name_or_path: str) -> Vehicle:
         f"unknown vehicle '{name_or_path}'; use one of: {', '.join(library)}, "
         "or the path of a .toml profile file"
     )
-
-

@@ -28,55 +28,122 @@ def plan_dict(plan) -> dict:
     """One rider's plan, JSON-ready, SI units named in the keys."""
     rider = plan.rider
     return {
-        "rider": {"name": rider.name, "vehicle": rider.vehicle.name, "cp_w": rider.cp,
-                  "w_prime_j": rider.w_prime, "flat_power_w": rider.flat_power,
-                  "climb_power_w": rider.climb_power_used, "target_speed_m_s": rider.target_speed},
-        "totals": {"time_s": _num(plan.totals.time, 1), "energy_j": _num(plan.totals.energy, 0),
-                   "food_energy_j": _num(plan.totals.food_energy, 0), "battery_j": _num(plan.totals.battery, 0),
-                   "battery_fits": plan.totals.battery_fits, "walk_m": _num(plan.totals.walk_length, 0)},
-        "climbs": [{
-            "number": c.number, "start_m": _num(c.climb.start_distance, 1), "end_m": _num(c.climb.end_distance, 1),
-            "gain_m": _num(c.climb.height, 1), "avg_grade": _num(c.climb.avg_grade, 4),
-            "steepest_grade": _num(c.climb.steepest_grade, 4), "fiets": _num(c.climb.score, 2),
-            "power_for_target_w": _num(c.power_for_target, 1), "speed_m_s": _num(c.speed_at_effort, 3),
-            "time_s": _num(c.time, 1), "assist": c.assist_name,
-            "warnings": _notices(c.warnings),
-        } for c in plan.climbs],
-        "descents": [{
-            "number": d.number, "start_m": _num(d.descent.start_distance, 1), "end_m": _num(d.descent.end_distance, 1),
-            "drop_m": _num(d.descent.height, 1), "avg_grade": _num(d.descent.avg_grade, 4),
-            "coast_speed_m_s": _num(d.coast_speed, 3), "max_speed_m_s": _num(d.max_speed, 3),
-            "gravity_power_w": _num(d.gravity_power, 0),
-            "warnings": _notices(d.warnings),
-        } for d in plan.descents],
-        "cues": [{"distance_m": _num(t.cue.distance, 1), "kind": t.cue.kind, "text": t.cue.text,
-                  "elapsed_s": _num(t.elapsed, 0)} for t in plan.cues],
+        "rider": {
+            "name": rider.name,
+            "vehicle": rider.vehicle.name,
+            "cp_w": rider.cp,
+            "w_prime_j": rider.w_prime,
+            "flat_power_w": rider.flat_power,
+            "climb_power_w": rider.climb_power_used,
+            "target_speed_m_s": rider.target_speed,
+        },
+        "totals": {
+            "time_s": _num(plan.totals.time, 1),
+            "energy_j": _num(plan.totals.energy, 0),
+            "food_energy_j": _num(plan.totals.food_energy, 0),
+            "battery_j": _num(plan.totals.battery, 0),
+            "battery_fits": plan.totals.battery_fits,
+            "walk_m": _num(plan.totals.walk_length, 0),
+        },
+        "climbs": [
+            {
+                "number": c.number,
+                "start_m": _num(c.climb.start_distance, 1),
+                "end_m": _num(c.climb.end_distance, 1),
+                "gain_m": _num(c.climb.height, 1),
+                "avg_grade": _num(c.climb.avg_grade, 4),
+                "steepest_grade": _num(c.climb.steepest_grade, 4),
+                "fiets": _num(c.climb.score, 2),
+                "power_for_target_w": _num(c.power_for_target, 1),
+                "speed_m_s": _num(c.speed_at_effort, 3),
+                "time_s": _num(c.time, 1),
+                "assist": c.assist_name,
+                "warnings": _notices(c.warnings),
+            }
+            for c in plan.climbs
+        ],
+        "descents": [
+            {
+                "number": d.number,
+                "start_m": _num(d.descent.start_distance, 1),
+                "end_m": _num(d.descent.end_distance, 1),
+                "drop_m": _num(d.descent.height, 1),
+                "avg_grade": _num(d.descent.avg_grade, 4),
+                "coast_speed_m_s": _num(d.coast_speed, 3),
+                "max_speed_m_s": _num(d.max_speed, 3),
+                "gravity_power_w": _num(d.gravity_power, 0),
+                "warnings": _notices(d.warnings),
+            }
+            for d in plan.descents
+        ],
+        "cues": [
+            {
+                "distance_m": _num(t.cue.distance, 1),
+                "kind": t.cue.kind,
+                "text": t.cue.text,
+                "elapsed_s": _num(t.elapsed, 0),
+            }
+            for t in plan.cues
+        ],
         "warnings": _notices(plan.warnings),
     }
 
 
 def route_json_text(route_name: str, plans) -> str:
     """All riders' plans of one route as JSON text (stable key order)."""
-    return json.dumps({"route": route_name, "plans": [plan_dict(p) for p in plans]}, indent=1,
-                      ensure_ascii=False, sort_keys=True) + "\n"
+    return (
+        json.dumps(
+            {"route": route_name, "plans": [plan_dict(p) for p in plans]},
+            indent=1,
+            ensure_ascii=False,
+            sort_keys=True,
+        )
+        + "\n"
+    )
 
 
 def climbs_csv_text(plans) -> str:
     """One row per rider and climb."""
     out = io.StringIO()
     writer = csv.writer(out, lineterminator="\n")
-    writer.writerow(["rider", "vehicle", "climb", "start_km", "end_km", "gain_m", "avg_grade_pct",
-                     "steepest_grade_pct", "fiets", "power_for_target_w", "speed_kmh", "time_min", "assist",
-                     "warnings"])
+    writer.writerow(
+        [
+            "rider",
+            "vehicle",
+            "climb",
+            "start_km",
+            "end_km",
+            "gain_m",
+            "avg_grade_pct",
+            "steepest_grade_pct",
+            "fiets",
+            "power_for_target_w",
+            "speed_kmh",
+            "time_min",
+            "assist",
+            "warnings",
+        ]
+    )
     for p in plans:
         for c in p.climbs:
-            writer.writerow([
-                p.rider.name, p.rider.vehicle.name, c.number, f"{c.climb.start_distance / 1000:.2f}",
-                f"{c.climb.end_distance / 1000:.2f}", f"{c.climb.height:.0f}", f"{c.climb.avg_grade * 100:.1f}",
-                f"{c.climb.steepest_grade * 100:.1f}", f"{c.climb.score:.2f}", f"{c.power_for_target:.0f}",
-                f"{c.speed_at_effort * 3.6:.1f}", f"{c.time / 60:.1f}", c.assist_name or "",
-                " | ".join(notice_text(w) for w in c.warnings),
-            ])
+            writer.writerow(
+                [
+                    p.rider.name,
+                    p.rider.vehicle.name,
+                    c.number,
+                    f"{c.climb.start_distance / 1000:.2f}",
+                    f"{c.climb.end_distance / 1000:.2f}",
+                    f"{c.climb.height:.0f}",
+                    f"{c.climb.avg_grade * 100:.1f}",
+                    f"{c.climb.steepest_grade * 100:.1f}",
+                    f"{c.climb.score:.2f}",
+                    f"{c.power_for_target:.0f}",
+                    f"{c.speed_at_effort * 3.6:.1f}",
+                    f"{c.time / 60:.1f}",
+                    c.assist_name or "",
+                    " | ".join(notice_text(w) for w in c.warnings),
+                ]
+            )
     return out.getvalue()
 
 
@@ -90,23 +157,35 @@ def route_gpx_text(track, terrain, climbs, checkpoints) -> str:
     gpx.creator = "cardgen"
     segment = gpxpy.gpx.GPXTrackSegment()
     for la, lo, el in zip(terrain.lat, terrain.lon, terrain.elevation, strict=True):
-        segment.points.append(gpxpy.gpx.GPXTrackPoint(round(float(la), 7), round(float(lo), 7),
-                                                      elevation=round(float(el), 1)))
+        segment.points.append(
+            gpxpy.gpx.GPXTrackPoint(round(float(la), 7), round(float(lo), 7), elevation=round(float(el), 1))
+        )
     trk = gpxpy.gpx.GPXTrack(name=track.name)
     trk.segments.append(segment)
     gpx.tracks.append(trk)
     for number, climb in enumerate(climbs, 1):
         i = climb.start
-        gpx.waypoints.append(gpxpy.gpx.GPXWaypoint(
-            round(float(terrain.lat[i]), 7), round(float(terrain.lon[i]), 7),
-            elevation=round(float(terrain.elevation[i]), 1), name=f"Climb {number}",
-            description=f"{climb.length:.0f} m at {climb.avg_grade * 100:.1f} %, +{climb.height:.0f} m",
-            type="climb"))
+        gpx.waypoints.append(
+            gpxpy.gpx.GPXWaypoint(
+                round(float(terrain.lat[i]), 7),
+                round(float(terrain.lon[i]), 7),
+                elevation=round(float(terrain.elevation[i]), 1),
+                name=f"Climb {number}",
+                description=f"{climb.length:.0f} m at {climb.avg_grade * 100:.1f} %, +{climb.height:.0f} m",
+                type="climb",
+            )
+        )
     for cp in checkpoints:
         i = int(round(cp.distance / terrain.step))
-        gpx.waypoints.append(gpxpy.gpx.GPXWaypoint(
-            round(float(terrain.lat[i]), 7), round(float(terrain.lon[i]), 7),
-            elevation=round(float(terrain.elevation[i]), 1), name=cp.name, type="checkpoint"))
+        gpx.waypoints.append(
+            gpxpy.gpx.GPXWaypoint(
+                round(float(terrain.lat[i]), 7),
+                round(float(terrain.lon[i]), 7),
+                elevation=round(float(terrain.elevation[i]), 1),
+                name=cp.name,
+                type="checkpoint",
+            )
+        )
     return gpx.to_xml(version="1.1")
 
 
@@ -115,33 +194,59 @@ def route_json(plan) -> dict:
     in the units its key names carry."""
     kmh = 3.6
     totals = plan.totals
-    return _rounded({
-        "route": {
-            "name": plan.track.name, "distance_km": plan.terrain.length / 1000,
-            "gain_m": plan.terrain.gain, "loss_m": plan.terrain.loss, "points": plan.track.points,
-        },
-        "vehicle": {"name": plan.rider.vehicle.name, "mass_kg": plan.rider.vehicle.mass,
-                    "cda_m2": plan.rider.vehicle.cda, "crr": plan.rider.vehicle.crr},
-        "climbs": [{
-            "start_km": c.climb.start_distance / 1000, "end_km": c.climb.end_distance / 1000,
-            "length_m": c.climb.length, "gain_m": c.climb.height,
-            "avg_grade_pct": c.climb.avg_grade * 100, "max_grade_pct": c.climb.steepest_grade * 100,
-            "score": c.climb.score, "band": c.climb.band, "power_for_target_w": c.power_for_target,
-            "speed_at_effort_kmh": c.speed_at_effort * kmh, "time_s": c.time,
-            "assist_level": c.assist_name, "warnings": [notice_text(w) for w in c.warnings],
-        } for c in plan.climbs],
-        "descents": [{
-            "start_km": d.descent.start_distance / 1000, "end_km": d.descent.end_distance / 1000,
-            "drop_m": d.descent.height, "avg_grade_pct": d.descent.avg_grade * 100,
-            "coast_speed_kmh": d.coast_speed * kmh, "gravity_power_w": d.gravity_power,
-            "warnings": [notice_text(w) for w in d.warnings],
-        } for d in plan.descents],
-        "totals": {
-            "time_s": totals.time, "energy_kj": totals.energy / 1000,
-            "food_kcal": totals.food_energy / J_PER_KCAL,
-            "battery_wh": None if totals.battery is None else totals.battery / 3600,
-        },
-    })
+    return _rounded(
+        {
+            "route": {
+                "name": plan.track.name,
+                "distance_km": plan.terrain.length / 1000,
+                "gain_m": plan.terrain.gain,
+                "loss_m": plan.terrain.loss,
+                "points": plan.track.points,
+            },
+            "vehicle": {
+                "name": plan.rider.vehicle.name,
+                "mass_kg": plan.rider.vehicle.mass,
+                "cda_m2": plan.rider.vehicle.cda,
+                "crr": plan.rider.vehicle.crr,
+            },
+            "climbs": [
+                {
+                    "start_km": c.climb.start_distance / 1000,
+                    "end_km": c.climb.end_distance / 1000,
+                    "length_m": c.climb.length,
+                    "gain_m": c.climb.height,
+                    "avg_grade_pct": c.climb.avg_grade * 100,
+                    "max_grade_pct": c.climb.steepest_grade * 100,
+                    "score": c.climb.score,
+                    "band": c.climb.band,
+                    "power_for_target_w": c.power_for_target,
+                    "speed_at_effort_kmh": c.speed_at_effort * kmh,
+                    "time_s": c.time,
+                    "assist_level": c.assist_name,
+                    "warnings": [notice_text(w) for w in c.warnings],
+                }
+                for c in plan.climbs
+            ],
+            "descents": [
+                {
+                    "start_km": d.descent.start_distance / 1000,
+                    "end_km": d.descent.end_distance / 1000,
+                    "drop_m": d.descent.height,
+                    "avg_grade_pct": d.descent.avg_grade * 100,
+                    "coast_speed_kmh": d.coast_speed * kmh,
+                    "gravity_power_w": d.gravity_power,
+                    "warnings": [notice_text(w) for w in d.warnings],
+                }
+                for d in plan.descents
+            ],
+            "totals": {
+                "time_s": totals.time,
+                "energy_kj": totals.energy / 1000,
+                "food_kcal": totals.food_energy / J_PER_KCAL,
+                "battery_wh": None if totals.battery is None else totals.battery / 3600,
+            },
+        }
+    )
 
 
 def _rounded(tree):

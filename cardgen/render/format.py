@@ -28,21 +28,23 @@ def _missing(value) -> bool:
 
 def _dash_if_missing(function):
     """A value that is absent or not finite prints as a dash, never as "nan"."""
+
     @functools.wraps(function)
     def wrapper(value, *args, **kwargs):
         return "–" if _missing(value) else function(value, *args, **kwargs)
+
     return wrapper
 
 
 @_dash_if_missing
 def power(watts) -> str:
-    """"185 W"."""
+    """ "185 W"."""
     return f"{_nearest(watts, 5):.0f} W"
 
 
 @_dash_if_missing
 def speed(ms, units: str = "metric") -> str:
-    """"12.5 km/h" or "7.5 mph"."""
+    """ "12.5 km/h" or "7.5 mph"."""
     if units == "imperial":
         return f"{_nearest(ms * MPH_PER_MS, 0.5):.1f} mph"
     return f"{_nearest(ms * KMH_PER_MS, 0.5):.1f} km/h"
@@ -50,7 +52,7 @@ def speed(ms, units: str = "metric") -> str:
 
 @_dash_if_missing
 def distance(metres, units: str = "metric") -> str:
-    """"12.3 km" or "7.6 mi"."""
+    """ "12.3 km" or "7.6 mi"."""
     if units == "imperial":
         return f"{_nearest(metres / M_PER_MI, 0.1):.1f} mi"
     return f"{_nearest(metres / 1000, 0.1):.1f} km"
@@ -68,7 +70,7 @@ def length(metres, units: str = "metric") -> str:
 
 @_dash_if_missing
 def height(metres, units: str = "metric") -> str:
-    """"240 m" or "785 ft"."""
+    """ "240 m" or "785 ft"."""
     if units == "imperial":
         return f"{_nearest(metres / M_PER_FT, 5):.0f} ft"
     return f"{_nearest(metres, 1):.0f} m"
@@ -76,13 +78,13 @@ def height(metres, units: str = "metric") -> str:
 
 @_dash_if_missing
 def grade(fraction) -> str:
-    """"7.5 %"."""
+    """ "7.5 %"."""
     return f"{_nearest(fraction * 100, 0.5):.1f} %"
 
 
 @_dash_if_missing
 def duration(seconds) -> str:
-    """"1:07" (hours:minutes), to the minute."""
+    """ "1:07" (hours:minutes), to the minute."""
     minutes = int(_nearest(seconds / 60, 1))
     return f"{minutes // 60}:{minutes % 60:02d}"
 
@@ -99,13 +101,13 @@ def clock(start: datetime | None, seconds) -> str:
 
 @_dash_if_missing
 def food(joules) -> str:
-    """"1,240 kcal"."""
+    """ "1,240 kcal"."""
     return f"{_nearest(joules / J_PER_KCAL, 10):,.0f} kcal"
 
 
 @_dash_if_missing
 def battery(joules) -> str:
-    """"215 Wh"."""
+    """ "215 Wh"."""
     return f"{_nearest(joules / 3600, 5):.0f} Wh"
 
 
@@ -116,6 +118,14 @@ def score(value) -> str:
 
 
 FILTERS = {
-    "power": power, "speed": speed, "distance": distance, "length": length, "height": height,
-    "grade": grade, "duration": duration, "food": food, "battery": battery, "score": score,
+    "power": power,
+    "speed": speed,
+    "distance": distance,
+    "length": length,
+    "height": height,
+    "grade": grade,
+    "duration": duration,
+    "food": food,
+    "battery": battery,
+    "score": score,
 }

@@ -13,6 +13,7 @@ import jinja2
 import jinja2.sandbox
 
 from cardgen.paths import default_templates
+from cardgen.plan import Plan
 from cardgen.render import format as fmt
 from cardgen.render.notices import notice_text
 
@@ -61,8 +62,12 @@ def environment(override: Path | None = None, units: str = "metric") -> jinja2.E
     values it is given but cannot reach Python's internals or run commands."""
     paths = ([str(override)] if override else []) + [str(default_templates())]
     env = jinja2.sandbox.SandboxedEnvironment(
-        loader=jinja2.FileSystemLoader(paths), autoescape=True, undefined=jinja2.StrictUndefined,
-        trim_blocks=True, lstrip_blocks=True, keep_trailing_newline=True,
+        loader=jinja2.FileSystemLoader(paths),
+        autoescape=True,
+        undefined=jinja2.StrictUndefined,
+        trim_blocks=True,
+        lstrip_blocks=True,
+        keep_trailing_newline=True,
     )
     for name, function in fmt.FILTERS.items():
         env.filters[name] = function
@@ -77,7 +82,7 @@ class RiderView:
 
     name: str
     slug: str
-    plan: object  # cardgen.plan.Plan
+    plan: Plan
     card: str  # file name of the PDF card
     start: datetime | None
 

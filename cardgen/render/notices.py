@@ -9,26 +9,37 @@ from cardgen.render import format as fmt
 
 
 def _w_prime(n: Notice, units: str) -> str:
-    advice = (f"hold about {fmt.power(n.value('safe'))} instead" if n.value("safe") is not None
-              else "ease off before the climb to recover")
+    advice = (
+        f"hold about {fmt.power(n.value('safe'))} instead"
+        if n.value("safe") is not None
+        else "ease off before the climb to recover"
+    )
     return f"at {fmt.power(n.value('power'))} the rider runs out of anaerobic reserve (W′) on this climb; {advice}"
 
 
 _WORDS: dict[str, Callable[[Notice, str], str]] = {
     "track": lambda n, units: str(n.value("text")),
     "w-prime": _w_prime,
-    "walk": lambda n, units: (f"below {fmt.speed(n.value('speed'), units)} for about "
-                              f"{fmt.length(n.value('length'), units)}: hard to balance on two wheels; "
-                              "walking may be needed"),
+    "walk": lambda n, units: (
+        f"below {fmt.speed(n.value('speed'), units)} for about "
+        f"{fmt.length(n.value('length'), units)}: hard to balance on two wheels; "
+        "walking may be needed"
+    ),
     "steep": lambda n, units: f"steepest 100 m at {fmt.grade(n.value('grade'))}",
-    "fast": lambda n, units: (f"coasting would reach {fmt.speed(n.value('coast'), units)}, above the "
-                              f"{fmt.speed(n.value('cap'), units)} set for this vehicle: control the speed"),
-    "curve": lambda n, units: (f"curve of about {fmt.length(n.value('radius'), units)} radius at "
-                               f"{fmt.distance(n.value('where'), units)}: slow to "
-                               f"{fmt.speed(n.value('speed'), units)} or less"),
-    "battery": lambda n, units: (f"the assist would use about {fmt.battery(n.value('used'))} of the "
-                                 f"{fmt.battery(n.value('usable'))} usable: more than leaves a "
-                                 f"{n.value('reserve'):.0%} reserve; use lower levels or carry a spare"),
+    "fast": lambda n, units: (
+        f"coasting would reach {fmt.speed(n.value('coast'), units)}, above the "
+        f"{fmt.speed(n.value('cap'), units)} set for this vehicle: control the speed"
+    ),
+    "curve": lambda n, units: (
+        f"curve of about {fmt.length(n.value('radius'), units)} radius at "
+        f"{fmt.distance(n.value('where'), units)}: slow to "
+        f"{fmt.speed(n.value('speed'), units)} or less"
+    ),
+    "battery": lambda n, units: (
+        f"the assist would use about {fmt.battery(n.value('used'))} of the "
+        f"{fmt.battery(n.value('usable'))} usable: more than leaves a "
+        f"{n.value('reserve'):.0%} reserve; use lower levels or carry a spare"
+    ),
 }
 
 

@@ -17,8 +17,21 @@ from cardgen.render.html import RiderView, environment, slugify, symbols_for
 
 #: File names of a route folder that a card may not take (a rider called "Coach"
 #: gets coach-2.pdf).
-RESERVED_CARD_NAMES = frozenset({"coach", "all-cards", "all-cards-2up", "index", "plan", "climbs", "route",
-                                 "profile", "profile-large", "power", "qr"})
+RESERVED_CARD_NAMES = frozenset(
+    {
+        "coach",
+        "all-cards",
+        "all-cards-2up",
+        "index",
+        "plan",
+        "climbs",
+        "route",
+        "profile",
+        "profile-large",
+        "power",
+        "qr",
+    }
+)
 
 
 @dataclass(frozen=True)
@@ -43,7 +56,7 @@ class CardSource:
 
 
 def built_stamp(source_date_epoch: str | None) -> str:
-    """"built YYYY-MM-DD" from SOURCE_DATE_EPOCH, or "" when unset or unusable."""
+    """ "built YYYY-MM-DD" from SOURCE_DATE_EPOCH, or "" when unset or unusable."""
     if not source_date_epoch:
         return ""
     try:
@@ -59,14 +72,23 @@ def site_context(config, built: str = "") -> dict:
         event_line = f"Start {config.start.strftime('%A %d %B %Y, %H:%M')}"
         if config.start_interval:
             event_line += f", riders {config.start_interval / 60:.0f} min apart"
-    return {"title": config.title, "units": config.units, "large_print": config.large_print, "built": built,
-            "event_line": event_line, "card_size": config.card_size}
+    return {
+        "title": config.title,
+        "units": config.units,
+        "large_print": config.large_print,
+        "built": built,
+        "event_line": event_line,
+        "card_size": config.card_size,
+    }
 
 
 def page_geometry(card_size: str, large_print: bool) -> dict:
     """Card page size, margins and type sizes for the configured size and print."""
-    sizes = {"A5": ("A5 portrait", "9mm", "9pt"), "A4": ("A4 portrait", "12mm", "10pt"),
-             "pocket": ("99mm 210mm", "5mm", "8pt")}
+    sizes = {
+        "A5": ("A5 portrait", "9mm", "9pt"),
+        "A4": ("A4 portrait", "12mm", "10pt"),
+        "pocket": ("99mm 210mm", "5mm", "8pt"),
+    }
     size, margin, font = sizes[card_size]
     if large_print:
         font = "14pt"
@@ -74,8 +96,15 @@ def page_geometry(card_size: str, large_print: bool) -> dict:
     # would not fit a footer); the footer of every page points to them.
     caution = "12pt" if large_print else "6.5pt"
     footer = "16mm" if large_print else ("34mm" if card_size == "pocket" else "26mm")
-    return {"size": size, "margin": margin, "font": font, "caution_font": caution, "footer": footer,
-            "large": large_print, "narrow": large_print or card_size == "pocket"}
+    return {
+        "size": size,
+        "margin": margin,
+        "font": font,
+        "caution_font": caution,
+        "footer": footer,
+        "large": large_print,
+        "narrow": large_print or card_size == "pocket",
+    }
 
 
 @functools.cache
@@ -96,19 +125,32 @@ def _write_plots(config, job: RouteJob, folder: Path) -> dict:
     (folder / "profile.svg").write_text(svg, encoding="utf-8")
     card_profile = "profile.svg"
     if config.large_print:  # the card's own profile, with labels at large-print size
-        big_svg, _ = plots.elevation_profile(analysis.terrain, analysis.climbs, marks, units, name=job.name,
-                                             width_in=5.2, height_in=3.0, text_scale=1.9)
+        big_svg, _ = plots.elevation_profile(
+            analysis.terrain,
+            analysis.climbs,
+            marks,
+            units,
+            name=job.name,
+            width_in=5.2,
+            height_in=3.0,
+            text_scale=1.9,
+        )
         (folder / "profile-large.svg").write_text(big_svg, encoding="utf-8")
         card_profile = "profile-large.svg"
     power_svg = power_alt = ""
     hardest = _hardest(analysis.climbs)
     if hardest is not None and job.riders:
         index = analysis.climbs.index(hardest)
-        power_svg, power_alt = plots.power_curves([(name, plan.climbs[index]) for name, _, plan in job.riders],
-                                                  units)
+        power_svg, power_alt = plots.power_curves(
+            [(name, plan.climbs[index]) for name, _, plan in job.riders], units
+        )
         (folder / "power.svg").write_text(power_svg, encoding="utf-8")
-    return {"profile_alt": alt, "card_profile": card_profile, "power_svg": bool(power_svg),
-            "power_alt": power_alt}
+    return {
+        "profile_alt": alt,
+        "card_profile": card_profile,
+        "power_svg": bool(power_svg),
+        "power_alt": power_alt,
+    }
 
 
 def _write_exports(config, job: RouteJob, plans: list[Plan], folder: Path) -> str:
@@ -116,8 +158,10 @@ def _write_exports(config, job: RouteJob, plans: list[Plan], folder: Path) -> st
     analysis = job.analysis
     (folder / "plan.json").write_text(exports.route_json_text(job.name, plans), encoding="utf-8")
     (folder / "climbs.csv").write_text(exports.climbs_csv_text(plans), encoding="utf-8")
-    (folder / "route.gpx").write_text(exports.route_gpx_text(analysis.track, analysis.terrain, analysis.climbs,
-                                                             job.checkpoints), encoding="utf-8")
+    (folder / "route.gpx").write_text(
+        exports.route_gpx_text(analysis.track, analysis.terrain, analysis.climbs, job.checkpoints),
+        encoding="utf-8",
+    )
     if not config.base_url:
         return ""
     import segno
@@ -134,31 +178,56 @@ def render_route(config, site: dict, job: RouteJob, folder: Path) -> tuple[dict,
     analysis, terrain, units = job.analysis, job.analysis.terrain, config.units
     figures = _write_plots(config, job, folder)
     taken = set(RESERVED_CARD_NAMES)
-    views = []
+    views: list[RiderView] = []
     for name, start, plan in job.riders:
         slug = slugify(name, taken)  # unique within the route: it names the card file
         views.append(RiderView(name, slug, plan, f"{slug}.pdf", start))
-    plans = [v.plan for v in views]
-    windows, margin_text = [], ""
+    plans: list[Plan] = [v.plan for v in views]
+    windows: list = []
+    margin_text = ""
     if plans and config.start is not None:
         windows, _ = checkpoint_windows(plans, job.checkpoints, config.start, config.checkpoint_margin)
         margin_text = f"{config.checkpoint_margin / 60:.0f} min"
     route = {
-        "name": job.name, "notes": job.notes, "distance": terrain.length, "gain": terrain.gain,
-        "loss": terrain.loss, "climbs": analysis.climbs, "descents": analysis.descents, "cues": analysis.cues,
-        "start": config.start, "start_text": config.start.strftime("%H:%M") if config.start else "",
+        "name": job.name,
+        "notes": job.notes,
+        "distance": terrain.length,
+        "gain": terrain.gain,
+        "loss": terrain.loss,
+        "climbs": analysis.climbs,
+        "descents": analysis.descents,
+        "cues": analysis.cues,
+        "start": config.start,
+        "start_text": config.start.strftime("%H:%M") if config.start else "",
     }
     common = dict(site=site, route=route, units=units, version=__version__, symbols_for=symbols_for)
-    (folder / "index.html").write_text(env.get_template("route.html").render(
-        **common, riders=views, profile_alt=figures["profile_alt"], power_svg=figures["power_svg"],
-        power_alt=figures["power_alt"], windows=windows, margin_text=margin_text, root="../"), encoding="utf-8")
+    (folder / "index.html").write_text(
+        env.get_template("route.html").render(
+            **common,
+            riders=views,
+            profile_alt=figures["profile_alt"],
+            power_svg=figures["power_svg"],
+            power_alt=figures["power_alt"],
+            windows=windows,
+            margin_text=margin_text,
+            root="../",
+        ),
+        encoding="utf-8",
+    )
     qr = _write_exports(config, job, plans, folder)
     page = page_geometry(config.card_size, config.large_print)
     cards = []
     for view in views:
-        html = env.get_template("card.html").render(**common, rider=view, plan=view.plan, start=view.start,
-                                                    profile_alt=figures["profile_alt"],
-                                                    profile=figures["card_profile"], page=page, qr=qr)
+        html = env.get_template("card.html").render(
+            **common,
+            rider=view,
+            plan=view.plan,
+            start=view.start,
+            profile_alt=figures["profile_alt"],
+            profile=figures["card_profile"],
+            page=page,
+            qr=qr,
+        )
         cards.append(CardSource(html, str(folder), str(folder / view.card)))
     if views:
         html = env.get_template("coach.html").render(**common, riders=views)
@@ -171,9 +240,15 @@ def route_summary(job: RouteJob, views, units: str) -> dict:
     terrain = job.analysis.terrain
     hardest = _hardest(job.analysis.climbs)
     return {
-        "name": job.name, "slug": job.slug, "distance": terrain.length, "gain": terrain.gain,
-        "hardest": (f"{fmt.length(hardest.length, units)} at {fmt.grade(hardest.avg_grade)} ({hardest.band})"
-                    if hardest else "none"),
+        "name": job.name,
+        "slug": job.slug,
+        "distance": terrain.length,
+        "gain": terrain.gain,
+        "hardest": (
+            f"{fmt.length(hardest.length, units)} at {fmt.grade(hardest.avg_grade)} ({hardest.band})"
+            if hardest
+            else "none"
+        ),
         "times": {v.name: v.plan.totals.time for v in views},
         "cards": [v.card for v in views] + (["coach.pdf"] if views else []),
     }
@@ -183,8 +258,12 @@ def render_index(config, site: dict, summaries: list[dict], folder: Path) -> Non
     """The site's index page and its style sheet."""
     env = _environment(config.templates, config.units)
     rider_names = [r.rider.name for r in config.riders]
-    (folder / "index.html").write_text(env.get_template("index.html").render(
-        site=site, routes=summaries, rider_names=rider_names, root="", version=__version__), encoding="utf-8")
+    (folder / "index.html").write_text(
+        env.get_template("index.html").render(
+            site=site, routes=summaries, rider_names=rider_names, root="", version=__version__
+        ),
+        encoding="utf-8",
+    )
     own = config.templates / "style.css" if config.templates else None
     css = own if own is not None and own.is_file() else Path(env.loader.searchpath[-1]) / "style.css"
     (folder / "style.css").write_bytes(css.read_bytes())

@@ -54,5 +54,6 @@ def write_pdf(html: str, base: Path, target: Path) -> list[str]:
     logging.getLogger("weasyprint").setLevel(logging.ERROR)
     fetcher = build_only_fetcher(base)
     HTML(string=html, base_url=base.resolve().as_uri() + "/", url_fetcher=fetcher).write_pdf(
-        target, pdf_identifier=b"cardgen", uncompressed_pdf=False)
+        target, pdf_identifier=b"cardgen", uncompressed_pdf=False
+    )
     return fetcher.refused

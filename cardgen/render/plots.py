@@ -33,13 +33,19 @@ def _svg(fig) -> str:
     import matplotlib
 
     buffer = io.StringIO()
-    with matplotlib.rc_context({"svg.hashsalt": "cardgen", "svg.fonttype": "none",
-                                "font.family": "DejaVu Sans"}):
-        fig.savefig(buffer, format="svg", metadata={"Date": None, "Creator": "cardgen"},
-                    bbox_inches="tight", pad_inches=0.03)
+    with matplotlib.rc_context(
+        {"svg.hashsalt": "cardgen", "svg.fonttype": "none", "font.family": "DejaVu Sans"}
+    ):
+        fig.savefig(
+            buffer,
+            format="svg",
+            metadata={"Date": None, "Creator": "cardgen"},
+            bbox_inches="tight",
+            pad_inches=0.03,
+        )
     text = buffer.getvalue()
     # the XML prolog and DOCTYPE are not wanted when the SVG is inlined in HTML
-    return text[text.index("<svg"):]
+    return text[text.index("<svg") :]
 
 
 def thin(distance, elevation, max_points: int = MAX_POINTS):
@@ -50,8 +56,17 @@ def thin(distance, elevation, max_points: int = MAX_POINTS):
     return np.asarray(distance)[idx], np.asarray(elevation)[idx]
 
 
-def elevation_profile(terrain, climbs, checkpoints=(), units: str = "metric", *, name: str = "",
-                      width_in: float = 6.6, height_in: float = 2.4, text_scale: float = 1.0):
+def elevation_profile(
+    terrain,
+    climbs,
+    checkpoints=(),
+    units: str = "metric",
+    *,
+    name: str = "",
+    width_in: float = 6.6,
+    height_in: float = 2.4,
+    text_scale: float = 1.0,
+):
     """Elevation against distance, filled by grade, climbs numbered, checkpoints marked.
 
     ``climbs`` are Climb objects (numbered in order), ``checkpoints`` (name, distance)
@@ -79,9 +94,12 @@ def elevation_profile(terrain, climbs, checkpoints=(), units: str = "metric", *,
     start = 0
     for i in range(1, len(bins) + 1):  # one polygon for each run of the same colour band
         if i == len(bins) or bins[i] != bins[start]:
-            xs, ys = x[start:i + 1], y[start:i + 1]
-            polys.append(np.column_stack((np.concatenate((xs, xs[::-1])),
-                                          np.concatenate((ys, np.full(xs.size, base))))))
+            xs, ys = x[start : i + 1], y[start : i + 1]
+            polys.append(
+                np.column_stack(
+                    (np.concatenate((xs, xs[::-1])), np.concatenate((ys, np.full(xs.size, base))))
+                )
+            )
             colours.append(cmap(norm(float(np.mean(grade[start:i])))))
             start = i
 
@@ -100,29 +118,55 @@ def elevation_profile(terrain, climbs, checkpoints=(), units: str = "metric", *,
     for number, climb in enumerate(climbs, 1):
         cx = 0.5 * (climb.start_distance + climb.end_distance) * x_scale
         cy = climb.top * y_scale
-        ax.annotate(str(number), (cx, cy), xytext=(0, 7), textcoords="offset points", ha="center",
-                    va="bottom", fontsize=8 * k, fontweight="bold", color="white",
-                    bbox={"boxstyle": "circle,pad=0.25", "facecolor": INK, "edgecolor": "none"})
+        ax.annotate(
+            str(number),
+            (cx, cy),
+            xytext=(0, 7),
+            textcoords="offset points",
+            ha="center",
+            va="bottom",
+            fontsize=8 * k,
+            fontweight="bold",
+            color="white",
+            bbox={"boxstyle": "circle,pad=0.25", "facecolor": INK, "edgecolor": "none"},
+        )
     for label, where in checkpoints:
         ax.axvline(where * x_scale, color=INK, linewidth=0.7, linestyle=(0, (3, 2)))
-        ax.text(where * x_scale, top, label, rotation=90, fontsize=6 * k, ha="right", va="top", color=INK,
-                parse_math=False)
-    bar = fig.colorbar(ScalarMappable(norm=norm, cmap=cmap), ax=ax, pad=0.01, fraction=0.04,
-                       ticks=bounds[::2])
+        ax.text(
+            where * x_scale,
+            top,
+            label,
+            rotation=90,
+            fontsize=6 * k,
+            ha="right",
+            va="top",
+            color=INK,
+            parse_math=False,
+        )
+    bar = fig.colorbar(
+        ScalarMappable(norm=norm, cmap=cmap), ax=ax, pad=0.01, fraction=0.04, ticks=bounds[::2]
+    )
     bar.set_label("grade (%)", fontsize=7 * k, color=INK)
     bar.ax.tick_params(labelsize=6 * k, colors=INK)
     svg = _svg(fig)
 
-    parts = [f"Elevation profile{' of ' + name if name else ''}: {fmt.distance(terrain.length, units)}, "
-             f"from {fmt.height(float(terrain.elevation.min()), units)} to "
-             f"{fmt.height(float(terrain.elevation.max()), units)}."]
+    parts = [
+        f"Elevation profile{' of ' + name if name else ''}: {fmt.distance(terrain.length, units)}, "
+        f"from {fmt.height(float(terrain.elevation.min()), units)} to "
+        f"{fmt.height(float(terrain.elevation.max()), units)}."
+    ]
     for number, climb in enumerate(climbs, 1):
-        parts.append(f"Climb {number}: {fmt.distance(climb.start_distance, units)} to "
-                     f"{fmt.distance(climb.end_distance, units)}, {fmt.height(climb.height, units)} at "
-                     f"{fmt.grade(climb.avg_grade)} average.")
+        parts.append(
+            f"Climb {number}: {fmt.distance(climb.start_distance, units)} to "
+            f"{fmt.distance(climb.end_distance, units)}, {fmt.height(climb.height, units)} at "
+            f"{fmt.grade(climb.avg_grade)} average."
+        )
     if checkpoints:
-        parts.append("Checkpoints: " + ", ".join(f"{label} at {fmt.distance(where, units)}"
-                                                  for label, where in checkpoints) + ".")
+        parts.append(
+            "Checkpoints: "
+            + ", ".join(f"{label} at {fmt.distance(where, units)}" for label, where in checkpoints)
+            + "."
+        )
     parts.append("Colour shows the grade; the tables give the same numbers.")
     return svg, " ".join(parts)
 
@@ -146,13 +190,31 @@ def power_curves(rows, units: str = "metric", *, width_in: float = 6.6, height_i
     climb = rows[0][1].climb
     for i, (label, row) in enumerate(rows):
         speeds, watts = row.power_curve
-        ax.plot(speeds * to_shown, watts, color=shades[i], linestyle=styles[i % len(styles)], linewidth=1.3,
-                label=_literal(label), marker=markers[i % len(markers)], markevery=(i * 2, 12), markersize=3.5)
+        ax.plot(
+            speeds * to_shown,
+            watts,
+            color=shades[i],
+            linestyle=styles[i % len(styles)],
+            linewidth=1.3,
+            label=_literal(label),
+            marker=markers[i % len(markers)],
+            markevery=(i * 2, 12),
+            markersize=3.5,
+        )
         at, need = row.speed_at_effort, row.power_at_effort
-        ax.plot([at * to_shown], [need], color=shades[i], marker=markers[i % len(markers)], markersize=7,
-                markeredgecolor=INK, linestyle="none")
+        ax.plot(
+            [at * to_shown],
+            [need],
+            color=shades[i],
+            marker=markers[i % len(markers)],
+            markersize=7,
+            markeredgecolor=INK,
+            linestyle="none",
+        )
         assist = f" with assist {row.assist_name}" if row.assist_name and row.assist_level else ""
-        alt.append(f"{label} rides it at about {fmt.speed(at, units)}{assist}, which takes {fmt.power(need)} in all")
+        alt.append(
+            f"{label} rides it at about {fmt.speed(at, units)}{assist}, which takes {fmt.power(need)} in all"
+        )
     ax.set_xlabel("speed (mph)" if imperial else "speed (km/h)", fontsize=8, color=INK)
     ax.set_ylabel("power needed (W)", fontsize=8, color=INK)
     ax.set_ylim(0, None)
@@ -162,8 +224,10 @@ def power_curves(rows, units: str = "metric", *, width_in: float = 6.6, height_i
         ax.spines[spine].set_visible(False)
     for text in ax.legend(fontsize=7, frameon=False).get_texts():
         text.set_parse_math(False)
-    text = (f"Power needed against speed on a steady {fmt.grade(climb.avg_grade)} grade (the hardest climb's "
-            f"average), for each rider; markers show where each rider rides it: " + "; ".join(alt) + ".")
+    text = (
+        f"Power needed against speed on a steady {fmt.grade(climb.avg_grade)} grade (the hardest climb's "
+        f"average), for each rider; markers show where each rider rides it: " + "; ".join(alt) + "."
+    )
     return _svg(fig), text
 
 

@@ -20,14 +20,18 @@ class Checkpoint:
 
 def checkpoints_from_waypoints(track: Track, terrain: Terrain) -> list[Checkpoint]:
     """Waypoints of type "checkpoint" (or named "Checkpoint …") on the route."""
-    chosen = [w for w in track.waypoints
-              if w.kind.strip().lower() == "checkpoint" or w.name.strip().lower().startswith("checkpoint")]
+    chosen = [
+        w
+        for w in track.waypoints
+        if w.kind.strip().lower() == "checkpoint" or w.name.strip().lower().startswith("checkpoint")
+    ]
     cues, _ = place_points(terrain, chosen, "waypoint")
     return [Checkpoint(c.text, c.distance) for c in cues]
 
 
-def resolve_checkpoints(items: Sequence[str | float], track: Track, terrain: Terrain,
-                        where: str) -> list[Checkpoint]:
+def resolve_checkpoints(
+    items: Sequence[str | float], track: Track, terrain: Terrain, where: str
+) -> list[Checkpoint]:
     """The checkpoints a configuration names: waypoint names (str) or distances [m];
     none given: the waypoints typed "checkpoint". Sorted by distance.
 
@@ -47,11 +51,15 @@ def resolve_checkpoints(items: Sequence[str | float], track: Track, terrain: Ter
                 cues, _ = place_points(terrain, [w for w in track.waypoints if w.name == item], "waypoint")
                 out.extend(Checkpoint(c.text, c.distance) for c in cues)
             else:
-                raise ConfigError(f"checkpoint {item!r} is not a waypoint of {where}; "
-                                  "use a waypoint name or a distance in km")
+                raise ConfigError(
+                    f"checkpoint {item!r} is not a waypoint of {where}; "
+                    "use a waypoint name or a distance in km"
+                )
         else:
             if not 0 <= item <= terrain.length:
-                raise ConfigError(f"checkpoint at {item / 1000:g} km is beyond the route's "
-                                  f"{terrain.length / 1000:.1f} km")
+                raise ConfigError(
+                    f"checkpoint at {item / 1000:g} km is beyond the route's "
+                    f"{terrain.length / 1000:.1f} km"
+                )
             out.append(Checkpoint(f"Checkpoint at {item / 1000:g} km", float(item)))
     return sorted(out, key=lambda c: c.distance)

@@ -98,8 +98,14 @@ class Climb(Descent):
     band: str = ""
 
 
-def _find(terrain: Terrain, direction: int, min_gain: float, min_avg_grade: float,
-          dip_tolerance: float, max_gap: float) -> list[dict]:
+def _find(
+    terrain: Terrain,
+    direction: int,
+    min_gain: float,
+    min_avg_grade: float,
+    dip_tolerance: float,
+    max_gap: float,
+) -> list[dict]:
     e = terrain.elevation * direction  # descents are climbs of the negated profile
     step = terrain.step
     n = e.size
@@ -107,15 +113,17 @@ def _find(terrain: Terrain, direction: int, min_gain: float, min_avg_grade: floa
     # 1. Stretches where every 100 m window rises at min_avg_grade or more.
     steep = (e[k:] - e[:-k]) >= min_avg_grade * k * step
     edges = np.diff(np.concatenate(([0], steep.astype(np.int8), [0])))
-    runs = [[int(a), int(b) - 1 + k] for a, b in zip(np.flatnonzero(edges == 1),
-                                                      np.flatnonzero(edges == -1), strict=True)]
+    runs = [
+        [int(a), int(b) - 1 + k]
+        for a, b in zip(np.flatnonzero(edges == 1), np.flatnonzero(edges == -1), strict=True)
+    ]
     # 2. Merge stretches across short, shallow dips (or flats) while the whole stays steep.
     merged: list[list[int]] = []
     for a, b in runs:
         if merged:
             pa, pb = merged[-1]
             gap_ok = (a - pb) * step <= max_gap
-            dip = e[pb] - e[pb:max(a, pb) + 1].min()
+            dip = e[pb] - e[pb : max(a, pb) + 1].min()
             whole = (e[b] - e[pa]) / ((b - pa) * step)
             if gap_ok and dip <= dip_tolerance and whole >= min_avg_grade:
                 merged[-1][1] = max(pb, b)
@@ -125,8 +133,8 @@ def _find(terrain: Terrain, direction: int, min_gain: float, min_avg_grade: floa
     hills = []
     for start, end in merged:
         # 3. Trim each end to the first (last) segment that is itself as steep.
-        first = np.flatnonzero(grade[start:start + k] >= min_avg_grade)
-        last = np.flatnonzero(grade[end - k:end] >= min_avg_grade)
+        first = np.flatnonzero(grade[start : start + k] >= min_avg_grade)
+        last = np.flatnonzero(grade[end - k : end] >= min_avg_grade)
         if first.size and last.size:
             start, end = start + int(first[0]), end - k + int(last[-1]) + 1
         if end <= start:
@@ -136,21 +144,34 @@ def _find(terrain: Terrain, direction: int, min_gain: float, min_avg_grade: floa
         if height < min_gain or height / length < min_avg_grade:
             continue
         kk = min(k, end - start)
-        window = e[start + kk:end + 1] - e[start:end + 1 - kk]
+        window = e[start + kk : end + 1] - e[start : end + 1 - kk]
         steepest = float(window.max() / (kk * step))
-        top = float(terrain.elevation[start:end + 1].max())
-        hills.append(dict(
-            start=start, end=end,
-            start_distance=float(terrain.distance[start]), end_distance=float(terrain.distance[end]),
-            length=float(length), height=float(height), avg_grade=float(direction * height / length),
-            steepest_grade=direction * steepest, top=top,
-            tightest_radius=float(terrain.curve_radius[start:end + 1].min()),
-        ))
+        top = float(terrain.elevation[start : end + 1].max())
+        hills.append(
+            dict(
+                start=start,
+                end=end,
+                start_distance=float(terrain.distance[start]),
+                end_distance=float(terrain.distance[end]),
+                length=float(length),
+                height=float(height),
+                avg_grade=float(direction * height / length),
+                steepest_grade=direction * steepest,
+                top=top,
+                tightest_radius=float(terrain.curve_radius[start : end + 1].min()),
+            )
+        )
     return hills
 
 
-def find_climbs(terrain: Terrain, *, min_gain: float = MIN_GAIN, min_avg_grade: float = MIN_AVG_GRADE,
-                dip_tolerance: float = DIP_TOLERANCE, max_gap: float = MAX_GAP) -> list[Climb]:
+def find_climbs(
+    terrain: Terrain,
+    *,
+    min_gain: float = MIN_GAIN,
+    min_avg_grade: float = MIN_AVG_GRADE,
+    dip_tolerance: float = DIP_TOLERANCE,
+    max_gap: float = MAX_GAP,
+) -> list[Climb]:
     """Sustained rises: at least ``min_gain`` metres at ``min_avg_grade`` or steeper.
 
     Stretches where every 100 m rises at ``min_avg_grade`` are joined across gaps of
@@ -165,7 +186,15 @@ def find_climbs(terrain: Terrain, *, min_gain: float = MIN_GAIN, min_avg_grade: 
     return climbs
 
 
-def find_descents(terrain: Terrain, *, min_drop: float = MIN_GAIN, min_avg_grade: float = MIN_AVG_GRADE,
-                  rise_tolerance: float = DIP_TOLERANCE, max_gap: float = MAX_GAP) -> list[Descent]:
+def find_descents(
+    terrain: Terrain,
+    *,
+    min_drop: float = MIN_GAIN,
+    min_avg_grade: float = MIN_AVG_GRADE,
+    rise_tolerance: float = DIP_TOLERANCE,
+    max_gap: float = MAX_GAP,
+) -> list[Descent]:
     """Sustained falls, the mirror of :func:`find_climbs`."""
-    return [Descent(**found) for found in _find(terrain, -1, min_drop, min_avg_grade, rise_tolerance, max_gap)]
+    return [
+        Descent(**found) for found in _find(terrain, -1, min_drop, min_avg_grade, rise_tolerance, max_gap)
+    ]

@@ -49,19 +49,24 @@ def _turn_angles(terrain: Terrain, window: float) -> np.ndarray:
     if heading.size < 2 * k:
         return angles
     c = np.concatenate(([0.0], np.cumsum(heading)))
-    mean_before = (c[k:-k] - c[:-2 * k]) / k  # segments i-k … i-1, node i = k … n-1-k
-    mean_after = (c[2 * k:] - c[k:-k]) / k  # segments i … i+k-1
-    angles[k:n - k] = mean_after - mean_before
+    mean_before = (c[k:-k] - c[: -2 * k]) / k  # segments i-k … i-1, node i = k … n-1-k
+    mean_after = (c[2 * k :] - c[k:-k]) / k  # segments i … i+k-1
+    angles[k : n - k] = mean_after - mean_before
     return angles
 
 
-def find_turns(terrain: Terrain, *, threshold: float = TURN_THRESHOLD,
-               sharp: float = SHARP_THRESHOLD, window: float = TURN_WINDOW) -> list[Cue]:
+def find_turns(
+    terrain: Terrain,
+    *,
+    threshold: float = TURN_THRESHOLD,
+    sharp: float = SHARP_THRESHOLD,
+    window: float = TURN_WINDOW,
+) -> list[Cue]:
     """Turns where the heading changes by ``threshold`` degrees or more within
     ``window`` metres either side; one cue per turn, at its sharpest node."""
     angles = _turn_angles(terrain, window)
     over = np.abs(angles) >= threshold
-    cues = []
+    cues: list[Cue] = []
     if not over.any():
         return cues
     edges = np.diff(np.concatenate(([0], over.astype(np.int8), [0])))
@@ -89,16 +94,17 @@ def place_points(terrain: Terrain, points, kind: str, reach: float = WAYPOINT_RE
     nodes = np.empty(len(points), dtype=int)
     chunk = max(1, 4_000_000 // nodes_xy.shape[0])  # bounds the distance matrix to ~32 MB
     for a in range(0, len(points), chunk):
-        d2 = ((points_xy[a:a + chunk, None, :] - nodes_xy[None, :, :]) ** 2).sum(axis=2)
-        nodes[a:a + chunk] = np.argmin(d2, axis=1)
-        gaps[a:a + chunk] = np.sqrt(d2[np.arange(d2.shape[0]), nodes[a:a + chunk]])
+        d2 = ((points_xy[a : a + chunk, None, :] - nodes_xy[None, :, :]) ** 2).sum(axis=2)
+        nodes[a : a + chunk] = np.argmin(d2, axis=1)
+        gaps[a : a + chunk] = np.sqrt(d2[np.arange(d2.shape[0]), nodes[a : a + chunk]])
     cues, off = [], []
     for p, gap, i in zip(points, gaps, nodes, strict=True):
         if gap > reach:
             off.append(p.name or "(unnamed)")
             continue
-        cues.append(Cue(float(terrain.distance[i]), kind, p.name, 0.0, p.description, p.link,
-                        p.kind, float(gap)))
+        cues.append(
+            Cue(float(terrain.distance[i]), kind, p.name, 0.0, p.description, p.link, p.kind, float(gap))
+        )
     return cues, off
 
 
@@ -107,7 +113,11 @@ def cue_sheet(terrain: Terrain, track) -> tuple[list[Cue], list[str]]:
     turns = find_turns(terrain)
     wpts, off_w = place_points(terrain, [w for w in track.waypoints if w.name], "waypoint")
     rpts, off_r = place_points(terrain, list(track.route_points), "route point")
-    warnings = [f"{len(off)} named points are more than {WAYPOINT_REACH:.0f} m from the route and were "
-                f"left off the cue sheet: {', '.join(off[:5])}" for off in (off_w + off_r,) if off]
+    warnings = [
+        f"{len(off)} named points are more than {WAYPOINT_REACH:.0f} m from the route and were "
+        f"left off the cue sheet: {', '.join(off[:5])}"
+        for off in (off_w + off_r,)
+        if off
+    ]
     cues = sorted(turns + wpts + rpts, key=lambda c: c.distance)
     return cues, warnings

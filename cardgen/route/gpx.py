@@ -34,10 +34,28 @@ MAX_POINTS = 2_000_000
 ELEVATION_RANGE = (-500.0, 9000.0)
 
 _NAMESPACES = ("", "{http://www.topografix.com/GPX/1/0}", "{http://www.topografix.com/GPX/1/1}")
-_LOCAL = {ns + name: name for ns in _NAMESPACES for name in (
-    "gpx", "metadata", "trk", "trkseg", "trkpt", "rte", "rtept", "wpt", "ele", "time", "name",
-    "desc", "type", "link", "url", "cmt",
-)}
+_LOCAL = {
+    ns + name: name
+    for ns in _NAMESPACES
+    for name in (
+        "gpx",
+        "metadata",
+        "trk",
+        "trkseg",
+        "trkpt",
+        "rte",
+        "rtept",
+        "wpt",
+        "ele",
+        "time",
+        "name",
+        "desc",
+        "type",
+        "link",
+        "url",
+        "cmt",
+    )
+}
 
 
 @dataclass(frozen=True)
@@ -171,8 +189,15 @@ def _waypoint(elem, where: str) -> Waypoint:
     ele, _ = _children_text(elem)
     elevation = _number_or_nan(ele)
     link = _text(elem, "link") or _text(elem, "url")
-    return Waypoint(lat, lon, elevation, _text(elem, "name"), _text(elem, "desc") or _text(elem, "cmt"),
-                    _text(elem, "type"), link)
+    return Waypoint(
+        lat,
+        lon,
+        elevation,
+        _text(elem, "name"),
+        _text(elem, "desc") or _text(elem, "cmt"),
+        _text(elem, "type"),
+        link,
+    )
 
 
 def _number_or_nan(text) -> float:
@@ -195,7 +220,8 @@ def _coordinate(text, axis: str, where: str) -> float:
     return value
 
 
-def read_gpx(path: str | os.PathLike) -> Track:
+# one streaming pass over the XML: its branches are the GPX elements, kept together for speed
+def read_gpx(path: str | os.PathLike) -> Track:  # noqa: C901
     """Read a GPX file into a :class:`Track`.
 
     Raises
@@ -308,14 +334,25 @@ def read_gpx(path: str | os.PathLike) -> Track:
         warnings.append(f"{tracks} tracks were joined in file order")
     elevation, repaired = _elevation(use.ele, lat, lon, label, where)
     if repaired:
-        warnings.append(f"{repaired} of {lat.size} {label}s had no usable elevation; "
-                        "interpolated along the distance")
+        warnings.append(
+            f"{repaired} of {lat.size} {label}s had no usable elevation; " "interpolated along the distance"
+        )
     times = _times(use.time)
     if np.sum(np.diff(times[np.isfinite(times)]) < 0) > 0:
         warnings.append("timestamps go backwards in places; times in the file are ignored")
     name = names["metadata"] or names["trk"] or names["rte"] or path.stem
-    return Track(where, name, lat, lon, elevation, times, tuple(waypoints), tuple(route_points),
-                 source, tuple(warnings))
+    return Track(
+        where,
+        name,
+        lat,
+        lon,
+        elevation,
+        times,
+        tuple(waypoints),
+        tuple(route_points),
+        source,
+        tuple(warnings),
+    )
 
 
 def _reason(exc: ParseError) -> str:
@@ -332,6 +369,7 @@ def _column(values: list, axis: str, label: str, where: str) -> np.ndarray:
     if array is None or not (np.abs(array) <= limit).all():  # also catches NaN and inf
         for i, text in enumerate(values):
             _coordinate(text, axis, f"{where}: {label} {i + 1}")
+    assert array is not None  # _coordinate raised otherwise
     return array
 
 

@@ -127,9 +127,9 @@ def savitzky_golay(values, points: int, order: int):
     design = offsets[:, None] ** np.arange(order + 1)  # (points, order + 1)
     fit = np.linalg.pinv(design)  # polynomial coefficients from a window
     out = np.empty_like(v)
-    out[half:v.size - half] = np.convolve(v, fit[0][::-1], mode="valid")
+    out[half : v.size - half] = np.convolve(v, fit[0][::-1], mode="valid")
     out[:half] = design[:half] @ (fit @ v[:points])
-    out[v.size - half:] = design[half + 1:] @ (fit @ v[-points:])
+    out[v.size - half :] = design[half + 1 :] @ (fit @ v[-points:])
     return out
 
 
@@ -148,7 +148,7 @@ def elevation_gain(elevation, deadband: float = GAIN_DEADBAND) -> tuple[float, f
     return float(steps[steps > 0].sum()), float(-steps[steps < 0].sum())
 
 
-def turning_points(elevation, deadband: float) -> np.ndarray:
+def turning_points(elevation, deadband: float) -> np.ndarray:  # noqa: C901 (a small state machine)
     """Indices of the alternating lows and highs of a profile, with hysteresis.
 
     The first index is always included. A high (low) is confirmed once the profile
@@ -248,7 +248,15 @@ def build_terrain(track, step: float = GRID_STEP) -> Terrain:
     heading = bearing(lat[:-1], lon[:-1], lat[1:], lon[1:])
     gain, loss = elevation_gain(smooth)
     return Terrain(
-        distance=grid, lat=lat, lon=lon, elevation=smooth, elevation_raw=raw, grade=grade,
-        heading=heading, curve_radius=curve_radius(lat, lon, grid_step), step=grid_step,
-        gain=gain, loss=loss,
+        distance=grid,
+        lat=lat,
+        lon=lon,
+        elevation=smooth,
+        elevation_raw=raw,
+        grade=grade,
+        heading=heading,
+        curve_radius=curve_radius(lat, lon, grid_step),
+        step=grid_step,
+        gain=gain,
+        loss=loss,
     )

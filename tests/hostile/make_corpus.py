@@ -34,19 +34,23 @@ def _track(points, name="Hostile", head=HEAD, extra=""):
 
 
 def _bomb():
-    entities = '<!ENTITY a0 "lol">' + "".join(f'<!ENTITY a{i} "{("&a" + str(i - 1) + ";") * 10}">'
-                                             for i in range(1, 10))
-    return _track(_points().replace("<ele>10.0</ele>", "<ele>&a9;</ele>"),
-                  head=HEAD + f"<!DOCTYPE gpx [{entities}]>\n")
+    entities = '<!ENTITY a0 "lol">' + "".join(
+        f'<!ENTITY a{i} "{("&a" + str(i - 1) + ";") * 10}">' for i in range(1, 10)
+    )
+    return _track(
+        _points().replace("<ele>10.0</ele>", "<ele>&a9;</ele>"), head=HEAD + f"<!DOCTYPE gpx [{entities}]>\n"
+    )
 
 
 def _script_everywhere():
-    evil = '<script>alert(1)</script><img src=x onerror=alert(2)>'
+    evil = "<script>alert(1)</script><img src=x onerror=alert(2)>"
     from xml.sax.saxutils import escape
 
     e = escape(evil)
-    wpt = (f'<wpt lat="-40.5" lon="-140.3"><name>{e}</name><desc>{e}</desc><type>{e}</type>'
-           f'<link href="javascript:alert(3)"><text>{e}</text></link></wpt>')
+    wpt = (
+        f'<wpt lat="-40.5" lon="-140.3"><name>{e}</name><desc>{e}</desc><type>{e}</type>'
+        f'<link href="javascript:alert(3)"><text>{e}</text></link></wpt>'
+    )
     return _track(_points(), name=e, extra=f"<metadata><name>{e}</name><desc>{e}</desc></metadata>{wpt}")
 
 
@@ -60,64 +64,161 @@ CASES = {
     "not-gpx-root": (HEAD + "<kml><Document/></kml>", ("error", "not a GPX file"), "another XML format"),
     "one-point": (_track(_points(1)), ("error", "at least two"), "a single trackpoint"),
     "identical-points": (_track(_points(50, step=0.0)), ("error", "long"), "all points the same"),
-    "no-elevation": (_track(_points(ele=lambda i: None)), ("error", "no trackpoint has an elevation"),
-                     "no <ele> anywhere"),
-    "partial-elevation": (_track(_points(ele=lambda i: None if 10 <= i < 20 else 10 + 0.5 * i)),
-                          ("ok", "10 of 60 trackpoints had no usable elevation"), "a gap in the elevations"),
-    "nan-coordinate": (_track(_points().replace('lat="-40.4980000"', 'lat="NaN"', 1)),
-                       ("error", "not a finite number"), "lat=\"NaN\""),
-    "inf-coordinate": (_track(_points().replace('lon="-140.3000000"', 'lon="inf"', 1)),
-                       ("error", "not a finite number"), "lon=\"inf\""),
-    "lat-out-of-range": (_track(_points().replace('lat="-40.4990000"', 'lat="-91.5"', 1)),
-                         ("error", "outside ±90°"), "latitude −91.5"),
-    "lon-out-of-range": (_track(_points().replace('lon="-140.3000000"', 'lon="540"', 1)),
-                         ("error", "outside ±180°"), "longitude 540"),
-    "missing-lon": (_track(_points().replace(' lon="-140.3000000"', "", 1)), ("error", "lon is None"),
-                    "a trackpoint without lon"),
-    "elevation-100km": (_track(_points(ele=lambda i: 100000.0 if i == 7 else -100000.0 if i == 30 else 5.0)),
-                        ("ok", "2 of 60 trackpoints had no usable elevation"), "elevations of ±100 km"),
-    "time-backwards": (_track(_points(extra=lambda i: f"<time>2026-05-01T08:{59 - i % 60:02d}:00Z</time>")),
-                       ("ok", "timestamps go backwards"), "time running backwards"),
-    "duplicated-points": (_track("".join(p + "</trkpt>" + p + "</trkpt>"
-                                         for p in _points(40).split("</trkpt>") if p)),
-                          ("ok", ""), "every point twice"),
-    "grade-200pct": (_track(_points(30) + '<trkpt lat="-40.4941910" lon="-140.3000000"><ele>26.5</ele></trkpt>'
-                            + _points(30, lat0=-40.4941)),
-                     ("ok", ""), "a 2 m rise between points 1 m apart (200 % grade)"),
+    "no-elevation": (
+        _track(_points(ele=lambda i: None)),
+        ("error", "no trackpoint has an elevation"),
+        "no <ele> anywhere",
+    ),
+    "partial-elevation": (
+        _track(_points(ele=lambda i: None if 10 <= i < 20 else 10 + 0.5 * i)),
+        ("ok", "10 of 60 trackpoints had no usable elevation"),
+        "a gap in the elevations",
+    ),
+    "nan-coordinate": (
+        _track(_points().replace('lat="-40.4980000"', 'lat="NaN"', 1)),
+        ("error", "not a finite number"),
+        'lat="NaN"',
+    ),
+    "inf-coordinate": (
+        _track(_points().replace('lon="-140.3000000"', 'lon="inf"', 1)),
+        ("error", "not a finite number"),
+        'lon="inf"',
+    ),
+    "lat-out-of-range": (
+        _track(_points().replace('lat="-40.4990000"', 'lat="-91.5"', 1)),
+        ("error", "outside ±90°"),
+        "latitude −91.5",
+    ),
+    "lon-out-of-range": (
+        _track(_points().replace('lon="-140.3000000"', 'lon="540"', 1)),
+        ("error", "outside ±180°"),
+        "longitude 540",
+    ),
+    "missing-lon": (
+        _track(_points().replace(' lon="-140.3000000"', "", 1)),
+        ("error", "lon is None"),
+        "a trackpoint without lon",
+    ),
+    "elevation-100km": (
+        _track(_points(ele=lambda i: 100000.0 if i == 7 else -100000.0 if i == 30 else 5.0)),
+        ("ok", "2 of 60 trackpoints had no usable elevation"),
+        "elevations of ±100 km",
+    ),
+    "time-backwards": (
+        _track(_points(extra=lambda i: f"<time>2026-05-01T08:{59 - i % 60:02d}:00Z</time>")),
+        ("ok", "timestamps go backwards"),
+        "time running backwards",
+    ),
+    "duplicated-points": (
+        _track("".join(p + "</trkpt>" + p + "</trkpt>" for p in _points(40).split("</trkpt>") if p)),
+        ("ok", ""),
+        "every point twice",
+    ),
+    "grade-200pct": (
+        _track(
+            _points(30)
+            + '<trkpt lat="-40.4941910" lon="-140.3000000"><ele>26.5</ele></trkpt>'
+            + _points(30, lat0=-40.4941)
+        ),
+        ("ok", ""),
+        "a 2 m rise between points 1 m apart (200 % grade)",
+    ),
     "entity-bomb": (_bomb(), ("error", "document type"), "billion laughs entity expansion"),
-    "external-entity": (_track(_points().replace("<ele>10.0</ele>", "<ele>&x;</ele>"),
-                               head=HEAD + '<!DOCTYPE gpx [<!ENTITY x SYSTEM "file:///etc/passwd">]>\n'),
-                        ("error", "document type"), "an external entity pointing at /etc/passwd"),
-    "dtd-only": (_track(_points(), head=HEAD + "<!DOCTYPE gpx SYSTEM \"http://127.0.0.1:9/gpx.dtd\">\n"),
-                 ("error", "document type"), "a DTD fetched from a URL"),
-    "undefined-entity": (_track(_points().replace("<ele>10.0</ele>", "<ele>&nope;</ele>")),
-                         ("error", "undefined entity"), "an entity that is not declared"),
-    "script-in-every-field": (_script_everywhere(), ("ok", ""), "HTML and script in names, descriptions, "
-                              "types and links (escaped on pages; see test_safe_render)"),
-    "rtl-and-emoji": (_track(_points(), name="\u202eרכיבה 🚲🏔️ طريق\u202c"), ("ok", "🚲"),
-                      "right-to-left text, a direction override and emoji in the name"),
-    "huge-300mb": (lambda path: _sparse(path), ("error", "larger than the 100 MiB"),
-                   "a 300 MB file (sparse): refused by its size before reading"),
-    "latin-1": (('<?xml version="1.0" encoding="ISO-8859-1"?>\n' + GPX
-                 + "<trk><name>Caf\xe9 Col</name><trkseg>" + _points() + "</trkseg></trk></gpx>").encode("latin-1"),
-                ("ok", "Café Col"), "an ISO-8859-1 file with accented names"),
-    "utf8-declared-latin1-bytes": ((HEAD + GPX + "<trk><name>Caf\xe9</name><trkseg>" + _points()
-                                    + "</trkseg></trk></gpx>").encode("latin-1"),
-                                   ("error", "not well-formed"), "bytes that are not the declared UTF-8"),
-    "utf16": ((_track(_points()).replace('encoding="UTF-8"', 'encoding="UTF-16"')).encode("utf-16"),
-              ("ok", ""), "a UTF-16 file with a byte-order mark"),
-    "gpx-1.0": (_track(_points()).replace("GPX/1/1", "GPX/1/0").replace('version="1.1"', 'version="1.0"'),
-                ("ok", ""), "GPX 1.0"),
-    "route-points-only": (HEAD + GPX + "<rte><name>R</name>" + _points().replace("trkpt", "rtept")
-                          + "</rte></gpx>", ("ok", ""), "only <rte>/<rtept>"),
-    "several-tracks": (HEAD + GPX + "".join(f"<trk><name>T{k}</name><trkseg>{_points(20, lat0=-40.5 + k * 0.004)}"
-                                            "</trkseg></trk>" for k in range(3)) + "</gpx>",
-                       ("ok", "3 tracks were joined"), "three tracks in one file"),
-    "deep-nesting": (HEAD + GPX + "<extensions>" + "<x>" * 5000 + "</x>" * 5000 + "</extensions>"
-                     + "<trk><trkseg>" + _points() + "</trkseg></trk></gpx>", ("ok", ""),
-                     "5,000 nested unknown elements"),
-    "negative-zero-and-exponents": (_track(_points().replace('lat="-40.4990000"', 'lat="-4.04990000e1"', 1)),
-                                    ("ok", ""), "numbers written with exponents"),
+    "external-entity": (
+        _track(
+            _points().replace("<ele>10.0</ele>", "<ele>&x;</ele>"),
+            head=HEAD + '<!DOCTYPE gpx [<!ENTITY x SYSTEM "file:///etc/passwd">]>\n',
+        ),
+        ("error", "document type"),
+        "an external entity pointing at /etc/passwd",
+    ),
+    "dtd-only": (
+        _track(_points(), head=HEAD + '<!DOCTYPE gpx SYSTEM "http://127.0.0.1:9/gpx.dtd">\n'),
+        ("error", "document type"),
+        "a DTD fetched from a URL",
+    ),
+    "undefined-entity": (
+        _track(_points().replace("<ele>10.0</ele>", "<ele>&nope;</ele>")),
+        ("error", "undefined entity"),
+        "an entity that is not declared",
+    ),
+    "script-in-every-field": (
+        _script_everywhere(),
+        ("ok", ""),
+        "HTML and script in names, descriptions, " "types and links (escaped on pages; see test_safe_render)",
+    ),
+    "rtl-and-emoji": (
+        _track(_points(), name="\u202eרכיבה 🚲🏔️ طريق\u202c"),
+        ("ok", "🚲"),
+        "right-to-left text, a direction override and emoji in the name",
+    ),
+    "huge-300mb": (
+        lambda path: _sparse(path),
+        ("error", "larger than the 100 MiB"),
+        "a 300 MB file (sparse): refused by its size before reading",
+    ),
+    "latin-1": (
+        (
+            '<?xml version="1.0" encoding="ISO-8859-1"?>\n'
+            + GPX
+            + "<trk><name>Caf\xe9 Col</name><trkseg>"
+            + _points()
+            + "</trkseg></trk></gpx>"
+        ).encode("latin-1"),
+        ("ok", "Café Col"),
+        "an ISO-8859-1 file with accented names",
+    ),
+    "utf8-declared-latin1-bytes": (
+        (HEAD + GPX + "<trk><name>Caf\xe9</name><trkseg>" + _points() + "</trkseg></trk></gpx>").encode(
+            "latin-1"
+        ),
+        ("error", "not well-formed"),
+        "bytes that are not the declared UTF-8",
+    ),
+    "utf16": (
+        (_track(_points()).replace('encoding="UTF-8"', 'encoding="UTF-16"')).encode("utf-16"),
+        ("ok", ""),
+        "a UTF-16 file with a byte-order mark",
+    ),
+    "gpx-1.0": (
+        _track(_points()).replace("GPX/1/1", "GPX/1/0").replace('version="1.1"', 'version="1.0"'),
+        ("ok", ""),
+        "GPX 1.0",
+    ),
+    "route-points-only": (
+        HEAD + GPX + "<rte><name>R</name>" + _points().replace("trkpt", "rtept") + "</rte></gpx>",
+        ("ok", ""),
+        "only <rte>/<rtept>",
+    ),
+    "several-tracks": (
+        HEAD
+        + GPX
+        + "".join(
+            f"<trk><name>T{k}</name><trkseg>{_points(20, lat0=-40.5 + k * 0.004)}" "</trkseg></trk>"
+            for k in range(3)
+        )
+        + "</gpx>",
+        ("ok", "3 tracks were joined"),
+        "three tracks in one file",
+    ),
+    "deep-nesting": (
+        HEAD
+        + GPX
+        + "<extensions>"
+        + "<x>" * 5000
+        + "</x>" * 5000
+        + "</extensions>"
+        + "<trk><trkseg>"
+        + _points()
+        + "</trkseg></trk></gpx>",
+        ("ok", ""),
+        "5,000 nested unknown elements",
+    ),
+    "negative-zero-and-exponents": (
+        _track(_points().replace('lat="-40.4990000"', 'lat="-4.04990000e1"', 1)),
+        ("ok", ""),
+        "numbers written with exponents",
+    ),
 }
 
 
@@ -142,8 +243,11 @@ def write_case(name: str, folder: Path) -> Path:
 def readme_table() -> str:
     rows = ["| case | what it is | expected outcome |", "|---|---|---|"]
     for name, (_, (kind, text), what) in CASES.items():
-        outcome = f"exit 1, message contains “{text}”" if kind == "error" else (
-            f"analysed; output contains “{text}”" if text else "analysed, finite numbers")
+        outcome = (
+            f"exit 1, message contains “{text}”"
+            if kind == "error"
+            else (f"analysed; output contains “{text}”" if text else "analysed, finite numbers")
+        )
         rows.append(f"| `{name}` | {what} | {outcome} |")
     return "\n".join(rows)
 
