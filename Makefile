@@ -15,6 +15,7 @@ system:
 $(VENV)/installed: $(SOURCES)
 	test -x $(BIN)/python || $(PYTHON) -m venv $(VENV)
 	$(BIN)/python -m pip install --quiet --upgrade pip
+	rm -rf build
 	$(BIN)/python -m pip install --quiet ".[test]"
 	touch $@
 

@@ -44,7 +44,7 @@ def test_isa_outside_the_troposphere_is_nan():
 
 
 # Dry air, ideal gas with R = 287.05 J/(kg K) at 1013.25 hPa; values computed
-# independently in shared/REFERENCES.md section 2 [C].
+# independently in docs/sources.md section 2 [C].
 @pytest.mark.parametrize(
     "celsius, hpa, density",
     [
@@ -61,7 +61,7 @@ def test_dry_air_ideal_gas(celsius, hpa, density):
 
 
 def test_humid_air_is_lighter():
-    # 30 °C, 80 % RH, 1013.25 hPa → 1.1497 kg/m³ (shared/REFERENCES.md section 2 [C],
+    # 30 °C, 80 % RH, 1013.25 hPa → 1.1497 kg/m³ (docs/sources.md section 2 [C],
     # p_d/(R_d T) + p_v/(R_v T) with R_v = 461.5).
     assert air_density(303.15, 101325.0, 0.8) == pytest.approx(1.1497, abs=2e-4)
 

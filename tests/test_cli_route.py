@@ -46,7 +46,7 @@ def test_route_json_has_the_contract(run_cli, name):
         assert climb["time_s"] > 0 and climb["power_for_target_w"] > 0
     for descent in out["descents"]:
         assert set(descent) == DESCENT_KEYS
-        assert descent["gravity_power_w"] < 0  # gravity drives on a descent (DESIGN.md sign)
+        assert descent["gravity_power_w"] < 0  # gravity drives on a descent (docs/contracts.md sign)
     assert out["totals"]["time_s"] > 0
 
 

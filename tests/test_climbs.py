@@ -10,7 +10,7 @@ from cardgen.route.terrain import build_terrain
 
 
 # FIETS index as published by the Dutch magazine Fiets (formula via secondary sources);
-# values computed in shared/REFERENCES.md §5 [C].
+# values computed in docs/sources.md §5 [C].
 @pytest.mark.parametrize(
     "gain, length, top, score",
     [

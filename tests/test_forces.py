@@ -49,13 +49,13 @@ def test_martin_1998_terms_by_hand(v, aero, rolling, bearings, total):
 
 @pytest.mark.parametrize("v, expected", [(8.0, 107.95), (10.0, 195.62), (12.0, 323.70)])
 def test_martin_1998_check_values(v, expected):
-    # shared/REFERENCES.md section 1, values computed from the Martin equation [C].
+    # docs/sources.md section 1, values computed from the Martin equation [C].
     assert steady_breakdown(v, **MARTIN).total == pytest.approx(expected, abs=0.01)
 
 
 def test_martin_kinetic_term_with_wheel_inertia():
     # Martin et al. (1998): I = 0.14 kg·m² on r = 0.311 m [S]; 8 → 9 m/s in 10 s with
-    # 80 kg: ½·(80 + 1.4475)·(81 − 64)/10 = 69.23 W (shared/REFERENCES.md [C]).
+    # 80 kg: ½·(80 + 1.4475)·(81 − 64)/10 = 69.23 W (docs/sources.md [C]).
     assert kinetic_power(8.0, 9.0, 10.0, 80.0, 0.14 / 0.311**2) == pytest.approx(69.23, abs=0.01)
     assert np.isnan(kinetic_power(8.0, 9.0, 0.0, 80.0))
 

@@ -20,7 +20,7 @@ WGS84 = Geodesic.WGS84
 
 
 # Karney (2013), "Algorithms for geodesics", J. Geodesy 87:43–55, via geographiclib:
-# haversine on the mean radius must agree within 0.6 % (shared/REFERENCES.md §9 [C]).
+# haversine on the mean radius must agree within 0.6 % (docs/sources.md §9 [C]).
 @pytest.mark.parametrize(
     "lat1, lon1, lat2, lon2",
     [
@@ -40,7 +40,7 @@ def test_distance_against_geographiclib(lat1, lat2, lon1, lon2):
 
 
 def test_distance_check_values_references():
-    # geographiclib 2.0 Inverse, shared/REFERENCES.md §9 [C]: (0,0)→(0,1) 111319.4908 m;
+    # geographiclib 2.0 Inverse, docs/sources.md §9 [C]: (0,0)→(0,1) 111319.4908 m;
     # haversine on R₁ gives 111195.080 m.
     assert cumulative_distance([0, 0], [0, 1])[-1] == pytest.approx(111195.080, abs=0.01)
 
