@@ -1,0 +1,245 @@
+"""The pipeline: plan every route × rider first, then render into a temporary folder
+beside the output and publish it in one step.
+
+A failed build publishes nothing and leaves the previous site as it was. A lock file
+beside the output stops two builds writing into one folder. A manifest of content
+hashes (inputs, configuration, templates, cardgen version) lets a rebuild reuse every
+route whose inputs did not change, and skip the whole build when nothing did.
+"""
+
+from __future__ import annotations
+
+import contextlib
+import os
+import shutil
+import time
+from collections.abc import Callable, Iterable, Iterator
+from concurrent.futures import ProcessPoolExecutor
+from concurrent.futures.process import BrokenProcessPool
+from dataclasses import dataclass, field
+from pathlib import Path
+
+from cardgen import __version__
+from cardgen.build.cache import digest, read_manifest, templates_digest, write_manifest
+from cardgen.build.publish import TMP, BuildError, Lock, check_output, publish, recover, side_name
+from cardgen.config import SiteConfig, rider_start
+from cardgen.errors import CardgenError
+from cardgen.paths import default_templates
+
+
+class Interrupted(KeyboardInterrupt):
+    """Ctrl-C during a build, with a true sentence about what was published."""
+
+    def __init__(self, message: str):
+        super().__init__(message)
+        self.message = message
+
+
+@dataclass
+class BuildReport:
+    routes: int = 0
+    routes_reused: int = 0
+    cards_rendered: int = 0
+    cards_reused: int = 0
+    up_to_date: bool = False
+    failed: list[str] = field(default_factory=list)
+    seconds: dict[str, float] = field(default_factory=dict)
+
+
+@dataclass
+class _Route:
+    """A route of the configuration on its way through the build."""
+
+    config: object  # RouteConfig
+    slug: str
+    key: str
+    job: object = None  # RouteJob once planned
+
+
+def build_site(config: SiteConfig, out: Path, *, jobs: int = 1, pdf: bool = True, keep_going: bool = False,
+               say: Callable[[str], None] = lambda text: None, progress=None) -> BuildReport:
+    """Build the site of ``config`` into ``out``. ``say`` receives one line per step;
+    ``progress(done, total, label)`` is called as cards are rendered."""
+    out = check_output(out, list(config.inputs))
+    report = BuildReport()
+    with Lock(out):
+        for line in recover(out):
+            say(line)
+        return _build_locked(config, out, jobs, pdf, keep_going, say, progress, report)
+
+
+def _pool(jobs: int, tasks: int):
+    """A process pool when it pays (jobs > 1 and more than one task), else a stand-in
+    that runs in this process."""
+    if jobs > 1 and tasks > 1:
+        return ProcessPoolExecutor(max_workers=min(jobs, tasks))
+    return contextlib.nullcontext(None)
+
+
+def _map(pool, function, items: Iterable, what: str = "a worker process") -> Iterator:
+    """``pool.map``, or plain ``map`` without a pool, yielding results in order; a dead
+    worker is a clear error."""
+    if pool is None:
+        yield from map(function, items)
+        return
+    try:
+        yield from pool.map(function, items)
+    except BrokenProcessPool:
+        raise BuildError(f"{what} died (out of memory, or killed); nothing was published; "
+                         "try again with --jobs 1") from None
+
+
+def _plan_route(task):
+    """Worker: read, analyse and plan one route for its riders.
+
+    Returns (RouteJob, None) or (None, error message naming the file)."""
+    from cardgen.plan import analyse, make_plan
+    from cardgen.render.pages import RouteJob
+    from cardgen.route.checkpoints import resolve_checkpoints
+    from cardgen.route.gpx import read_gpx
+    from cardgen.route.terrain import build_terrain
+
+    route, config = task
+    rc = route.config
+    try:
+        track = read_gpx(rc.gpx)
+        analysis = analyse(track, build_terrain(track))
+        checkpoints = resolve_checkpoints(rc.checkpoints, track, analysis.terrain, str(rc.gpx))
+        riders = tuple((r.rider.name, rider_start(config, i), make_plan(analysis, rider=r.rider,
+                                                                        conditions=config.conditions))
+                       for i, r in enumerate(config.riders) if r.rides(rc, rc.name or rc.gpx.stem))
+        job = RouteJob(route.slug, rc.name or track.name, rc.notes, analysis, tuple(checkpoints), riders)
+        return job, None
+    except CardgenError as exc:
+        return None, (f"{rc.gpx}: {exc}" if str(rc.gpx) not in str(exc) else str(exc))
+
+
+def _render_route(task):
+    """Worker: pages, plots and exports of one route; returns (summary, cards)."""
+    from cardgen.render.pages import render_route
+
+    config, site, job, folder = task
+    return render_route(config, site, job, Path(folder))
+
+
+def _render_pdf(card):
+    """Worker: one card's HTML → PDF file."""
+    from cardgen.render.pdf import write_pdf
+
+    write_pdf(card.html, Path(card.base), Path(card.target))
+    return card.target
+
+
+def _routes(config: SiteConfig, shared: str) -> list[_Route]:
+    from cardgen.render.html import slugify
+
+    taken: set[str] = set()
+    routes = []
+    for rc in config.routes:
+        slug = slugify(rc.name or rc.gpx.stem, taken)
+        riders = [(i, r) for i, r in enumerate(config.riders) if r.rides(rc, rc.name or rc.gpx.stem)]
+        key = digest(shared, rc.gpx.read_bytes(), rc.name, rc.notes, rc.checkpoints,
+                     *[(i, r.rider) for i, r in riders])
+        routes.append(_Route(rc, slug, key))
+    return routes
+
+
+def _build_locked(config, out, jobs, pdf, keep_going, say, progress, report):
+    t0 = time.perf_counter()
+    template_folders = ([config.templates] if config.templates else []) + [default_templates()]
+    epoch = os.environ.get("SOURCE_DATE_EPOCH", "")
+    shared = digest(__version__, templates_digest(template_folders), config.title, config.units,
+                    config.card_size, config.large_print, config.base_url, config.start, config.start_interval,
+                    config.checkpoint_margin, config.conditions, pdf, epoch)
+    old = read_manifest(out)
+    routes = _routes(config, shared)
+    site_key = digest(shared, *[r.key for r in routes], *[r.slug for r in routes])
+    report.routes = len(routes)
+    if old.get("site_key") == site_key and all((out / r.slug).is_dir() for r in routes):
+        report.up_to_date = True
+        report.routes_reused = len(routes)
+        report.cards_reused = sum(len(v.get("cards", [])) for v in old.get("routes", {}).values())
+        say(f"{out}: up to date ({len(routes)} routes, {report.cards_reused} cards unchanged)")
+        return report
+
+    # Phase 1: plan every route that changed (in the process pool when jobs > 1).
+    def reusable(route: _Route) -> bool:
+        return old.get("routes", {}).get(route.slug, {}).get("key") == route.key and (out / route.slug).is_dir()
+
+    todo = [r for r in routes if not reusable(r)]
+    failures = []
+    with _pool(jobs, len(todo)) as pool:
+        for route, (job, error) in zip(todo, _map(pool, _plan_route, [(r, config) for r in todo]), strict=True):
+            if error:
+                failures.append(error)
+            else:
+                route.job = job
+                say(f"planned {job.name}: {len(job.riders)} riders")
+    report.seconds["plan"] = time.perf_counter() - t0
+    if failures and (not keep_going or len(failures) == len(routes)):
+        why = "every route failed" if keep_going else "the build stopped"
+        raise BuildError(f"{why}; nothing was published (the previous site is unchanged):\n  "
+                         + "\n  ".join(failures))
+    report.failed = failures
+    for failure in failures:
+        say(f"left out (--keep-going): {failure}")
+
+    # Phase 2: render into a temporary folder beside the output, then publish it.
+    tmp = side_name(out, TMP)
+    shutil.rmtree(tmp, ignore_errors=True)
+    tmp.mkdir(parents=True)
+    published = False
+    try:
+        with _pool(jobs, len(routes) + 1) as pool:
+            manifest = _render(config, routes, old, out, tmp, pool, pdf, progress, report, reusable)
+        manifest["site_key"] = site_key if not failures else ""
+        write_manifest(tmp, manifest)
+        publish(tmp, out)
+        published = True
+    except KeyboardInterrupt:
+        shutil.rmtree(tmp, ignore_errors=True)
+        if published:
+            raise Interrupted(f"interrupted after the new site was published in {out}") from None
+        raise Interrupted("interrupted; nothing was published, the previous output is unchanged") from None
+    except BaseException:
+        shutil.rmtree(tmp, ignore_errors=True)
+        raise
+    report.seconds["total"] = time.perf_counter() - t0
+    return report
+
+
+def _render(config, routes, old, out, tmp, pool, pdf, progress, report, reusable) -> dict:
+    from cardgen.render.pages import built_stamp, render_index, site_context
+
+    site = site_context(config, built_stamp(os.environ.get("SOURCE_DATE_EPOCH")))
+    manifest: dict = {"version": __version__, "routes": {}}
+    fresh = []
+    for route in routes:
+        if route.job is None:
+            if reusable(route):
+                shutil.copytree(out / route.slug, tmp / route.slug, copy_function=os.link, symlinks=True)
+                manifest["routes"][route.slug] = old["routes"][route.slug]
+                report.routes_reused += 1
+                report.cards_reused += len(old["routes"][route.slug].get("cards", []))
+            continue  # a failed route (with --keep-going) is left out
+        (tmp / route.slug).mkdir()
+        fresh.append(route)
+    t_render = time.perf_counter()
+    cards: list = []
+    tasks = [(config, site, r.job, str(tmp / r.slug)) for r in fresh]
+    for route, (summary, route_cards) in zip(fresh, _map(pool, _render_route, tasks), strict=True):
+        card_names = summary.pop("cards")
+        manifest["routes"][route.slug] = {"key": route.key, "summary": summary, "cards": card_names}
+        cards.extend(route_cards if pdf else [])
+    report.seconds["html"] = time.perf_counter() - t_render
+
+    t_pdf = time.perf_counter()
+    for done, target in enumerate(_map(pool, _render_pdf, cards, "a card-rendering process"), 1):
+        if progress:
+            progress(done, len(cards), Path(target).relative_to(tmp).as_posix())
+    report.cards_rendered = len(cards)
+    report.seconds["pdf"] = time.perf_counter() - t_pdf
+
+    summaries = [manifest["routes"][r.slug]["summary"] for r in routes if r.slug in manifest["routes"]]
+    render_index(config, site, summaries, tmp)
+    return manifest
