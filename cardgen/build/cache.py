@@ -26,8 +26,11 @@ def templates_digest(folders: list[Path]) -> str:
     h = hashlib.sha256()
     for folder in folders:
         # the templates themselves, not the byte code Python leaves beside the package's __init__
-        for path in sorted(p for p in Path(folder).rglob("*")
-                           if p.is_file() and "__pycache__" not in p.parts and p.suffix != ".pyc"):
+        for path in sorted(
+            p
+            for p in Path(folder).rglob("*")
+            if p.is_file() and "__pycache__" not in p.parts and p.suffix != ".pyc"
+        ):
             h.update(str(path.relative_to(folder)).encode() + b"\0" + path.read_bytes() + b"\0")
     return h.hexdigest()
 

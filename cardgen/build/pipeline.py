@@ -56,8 +56,16 @@ class _Route:
     job: object = None  # RouteJob once planned
 
 
-def build_site(config: SiteConfig, out: Path, *, jobs: int = 1, pdf: bool = True, keep_going: bool = False,
-               say: Callable[[str], None] = lambda text: None, progress=None) -> BuildReport:
+def build_site(
+    config: SiteConfig,
+    out: Path,
+    *,
+    jobs: int = 1,
+    pdf: bool = True,
+    keep_going: bool = False,
+    say: Callable[[str], None] = lambda text: None,
+    progress=None,
+) -> BuildReport:
     """Build the site of ``config`` into ``out``. ``say`` receives one line per step;
     ``progress(done, total, label)`` is called as cards are rendered."""
     out = check_output(out, list(config.inputs))
@@ -85,8 +93,9 @@ def _map(pool, function, items: Iterable, what: str = "a worker process") -> Ite
     try:
         yield from pool.map(function, items)
     except BrokenProcessPool:
-        raise BuildError(f"{what} died (out of memory, or killed); nothing was published; "
-                         "try again with --jobs 1") from None
+        raise BuildError(
+            f"{what} died (out of memory, or killed); nothing was published; " "try again with --jobs 1"
+        ) from None
 
 
 def _plan_route(task):
@@ -105,9 +114,15 @@ def _plan_route(task):
         track = read_gpx(rc.gpx)
         analysis = analyse(track, build_terrain(track))
         checkpoints = resolve_checkpoints(rc.checkpoints, track, analysis.terrain, str(rc.gpx))
-        riders = tuple((r.rider.name, rider_start(config, i), make_plan(analysis, rider=r.rider,
-                                                                        conditions=config.conditions))
-                       for i, r in enumerate(config.riders) if r.rides(rc, rc.name or rc.gpx.stem))
+        riders = tuple(
+            (
+                r.rider.name,
+                rider_start(config, i),
+                make_plan(analysis, rider=r.rider, conditions=config.conditions),
+            )
+            for i, r in enumerate(config.riders)
+            if r.rides(rc, rc.name or rc.gpx.stem)
+        )
         job = RouteJob(route.slug, rc.name or track.name, rc.notes, analysis, tuple(checkpoints), riders)
         return job, None
     except CardgenError as exc:
@@ -138,8 +153,9 @@ def _routes(config: SiteConfig, shared: str) -> list[_Route]:
     for rc in config.routes:
         slug = slugify(rc.name or rc.gpx.stem, taken)
         riders = [(i, r) for i, r in enumerate(config.riders) if r.rides(rc, rc.name or rc.gpx.stem)]
-        key = digest(shared, rc.gpx.read_bytes(), rc.name, rc.notes, rc.checkpoints,
-                     *[(i, r.rider) for i, r in riders])
+        key = digest(
+            shared, rc.gpx.read_bytes(), rc.name, rc.notes, rc.checkpoints, *[(i, r.rider) for i, r in riders]
+        )
         routes.append(_Route(rc, slug, key))
     return routes
 
@@ -148,9 +164,21 @@ def _build_locked(config, out, jobs, pdf, keep_going, say, progress, report):
     t0 = time.perf_counter()
     template_folders = ([config.templates] if config.templates else []) + [default_templates()]
     epoch = os.environ.get("SOURCE_DATE_EPOCH", "")
-    shared = digest(__version__, templates_digest(template_folders), config.title, config.units,
-                    config.card_size, config.large_print, config.base_url, config.start, config.start_interval,
-                    config.checkpoint_margin, config.conditions, pdf, epoch)
+    shared = digest(
+        __version__,
+        templates_digest(template_folders),
+        config.title,
+        config.units,
+        config.card_size,
+        config.large_print,
+        config.base_url,
+        config.start,
+        config.start_interval,
+        config.checkpoint_margin,
+        config.conditions,
+        pdf,
+        epoch,
+    )
     old = read_manifest(out)
     routes = _routes(config, shared)
     site_key = digest(shared, *[r.key for r in routes], *[r.slug for r in routes])
@@ -164,12 +192,16 @@ def _build_locked(config, out, jobs, pdf, keep_going, say, progress, report):
 
     # Phase 1: plan every route that changed (in the process pool when jobs > 1).
     def reusable(route: _Route) -> bool:
-        return old.get("routes", {}).get(route.slug, {}).get("key") == route.key and (out / route.slug).is_dir()
+        return (
+            old.get("routes", {}).get(route.slug, {}).get("key") == route.key and (out / route.slug).is_dir()
+        )
 
     todo = [r for r in routes if not reusable(r)]
     failures = []
     with _pool(jobs, len(todo)) as pool:
-        for route, (job, error) in zip(todo, _map(pool, _plan_route, [(r, config) for r in todo]), strict=True):
+        for route, (job, error) in zip(
+            todo, _map(pool, _plan_route, [(r, config) for r in todo]), strict=True
+        ):
             if error:
                 failures.append(error)
             else:
@@ -178,8 +210,9 @@ def _build_locked(config, out, jobs, pdf, keep_going, say, progress, report):
     report.seconds["plan"] = time.perf_counter() - t0
     if failures and (not keep_going or len(failures) == len(routes)):
         why = "every route failed" if keep_going else "the build stopped"
-        raise BuildError(f"{why}; nothing was published (the previous site is unchanged):\n  "
-                         + "\n  ".join(failures))
+        raise BuildError(
+            f"{why}; nothing was published (the previous site is unchanged):\n  " + "\n  ".join(failures)
+        )
     report.failed = failures
     for failure in failures:
         say(f"left out (--keep-going): {failure}")

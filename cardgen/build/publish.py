@@ -41,22 +41,29 @@ def check_output(out: Path, sources: list[Path]) -> Path:
     out = given.resolve()
     home = Path.home().resolve()
     if out == Path(out.anchor) or out == home:
-        raise BuildError(f"output folder {out} is / or your home folder; choose a folder of its own, e.g. -o site")
+        raise BuildError(
+            f"output folder {out} is / or your home folder; choose a folder of its own, e.g. -o site"
+        )
     for src in sources:
         src = src.resolve()
         if out == src or out in src.parents:
             hint = src if src.is_dir() else src.parent
-            raise BuildError(f"output folder {out} holds the sources ({src}); choose another, "
-                             f"e.g. -o {hint / 'site'}")
+            raise BuildError(
+                f"output folder {out} holds the sources ({src}); choose another, " f"e.g. -o {hint / 'site'}"
+            )
     if given.is_symlink():
         raise BuildError(f"output {given} is a symbolic link; give the folder itself, or a new folder")
     if out.exists() and not out.is_dir():
-        raise BuildError(f"output {out} is a file, not a folder; choose a folder, e.g. -o {out.parent / 'site'}")
+        raise BuildError(
+            f"output {out} is a file, not a folder; choose a folder, e.g. -o {out.parent / 'site'}"
+        )
     if out.is_dir():
         if any(out.iterdir()) and not is_cardgen_site(out):
-            raise BuildError(f"output folder {out} holds files that are not a cardgen site (no cardgen "
-                             f"manifest.json); cardgen replaces its output folder whole, so choose an empty or "
-                             f"new folder, e.g. -o {out / 'site'}")
+            raise BuildError(
+                f"output folder {out} holds files that are not a cardgen site (no cardgen "
+                f"manifest.json); cardgen replaces its output folder whole, so choose an empty or "
+                f"new folder, e.g. -o {out / 'site'}"
+            )
         if not os.access(out, os.W_OK | os.X_OK):
             raise BuildError(f"output folder {out} is read-only; make it writable or choose another folder")
     return out
@@ -82,8 +89,10 @@ class Lock:
             fcntl.flock(self.handle, fcntl.LOCK_EX | fcntl.LOCK_NB)
         except BlockingIOError:
             self.handle.close()
-            raise BuildError(f"another cardgen build is writing to {self.out} "
-                             f"(lock {self.path}); wait for it to finish") from None
+            raise BuildError(
+                f"another cardgen build is writing to {self.out} "
+                f"(lock {self.path}); wait for it to finish"
+            ) from None
         return self
 
     def __exit__(self, *exc: object) -> None:
@@ -111,8 +120,8 @@ def _side_folders(out: Path, kind: str) -> list[tuple[int, Path]]:
     if not out.parent.is_dir():
         return found
     for path in out.parent.iterdir():
-        if path.name.startswith(prefix) and path.name[len(prefix):].isdigit():
-            found.append((int(path.name[len(prefix):]), path))
+        if path.name.startswith(prefix) and path.name[len(prefix) :].isdigit():
+            found.append((int(path.name[len(prefix) :]), path))
     return found
 
 
