@@ -252,10 +252,11 @@ class _Checker:
         raise AssertionError(kind)
 
     def table(self, section: str, table: Any, index: int | None, folder: Path) -> dict:
-        if not isinstance(table, dict):
-            self.problems.append(f"{self.path}: [{section}] must be a table")
-            return {}
         schema = SCHEMA[section]
+        if not isinstance(table, dict):
+            shape = f"[[{section}]] tables" if section in TABLE_ARRAYS else f"a [{section}] table"
+            self.problems.append(f"{self.path}: {section} must be {shape}, not {type(table).__name__}")
+            return {key: None for key in schema}
         for key in table:
             if key not in schema:
                 self.warnings.append(

@@ -39,3 +39,7 @@ def celsius_to_kelvin(temperature_c):
 def hp_to_w(power_hp):
     """Convert mechanical horsepower to watts."""
     return np.asarray(power_hp, dtype=float) * W_PER_HP
+
+
+#: A float or an array of floats: what the physics and route functions take and give.
+Floats = float | np.ndarray

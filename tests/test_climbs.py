@@ -29,9 +29,12 @@ def test_fiets_index_arrays_and_invalid():
     assert np.isnan(fiets_index(10, 0, 100))
 
 
-def test_bands_are_ordered_words():
-    words = [difficulty_band(s) for s in (0.1, 1.0, 2.0, 5.0, 9.0)]
-    assert len(set(words)) == 5
+def test_bands_rise_with_the_score():
+    order = ["easy", "moderate", "hard", "very hard", "extreme"]
+    assert [difficulty_band(s) for s in (0.1, 1.0, 2.0, 5.0, 9.0)] == order
+    scores = np.sort(np.random.default_rng(1).uniform(0, 12, 500))
+    ranks = [order.index(difficulty_band(s)) for s in scores]
+    assert ranks == sorted(ranks)
 
 
 def _terrain(tmp_path, knots_d, knots_e, name="p.gpx", noise=0.0, seed=0):

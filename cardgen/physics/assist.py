@@ -14,13 +14,15 @@ California Vehicle Code § 312.5 (classes 1, 2 and 3).
 
 from __future__ import annotations
 
-from collections.abc import Mapping
+from collections.abc import Mapping, Sequence
 from dataclasses import dataclass, field
+from typing import Any
 
 import numpy as np
 
 from cardgen.physics.forces import Resistance
 from cardgen.physics.steady import power_for_speed, speed_for_power
+from cardgen.units import Floats
 
 
 @dataclass(frozen=True)
@@ -53,7 +55,7 @@ class Motor:
         return f"level {level} ({self.levels[level - 1] * 100:.0f} %)"
 
 
-def taper_factor(speed, cutoff_speed: float, taper: float):
+def taper_factor(speed: Floats, cutoff_speed: float, taper: float) -> Any:
     """Share of assistance left at a speed: 1 below ``cutoff − taper``, falling
     linearly to 0 at the cut-off and above (the "progressively reduced and finally
     cut off" of Regulation (EU) No 168/2013, Art. 2(2)(h))."""
@@ -63,7 +65,7 @@ def taper_factor(speed, cutoff_speed: float, taper: float):
     return np.clip((cutoff_speed - v) / taper, 0.0, 1.0)[()]
 
 
-def motor_power(motor: Motor, ratio, speed, rider_power):
+def motor_power(motor: Motor, ratio: Floats, speed: Floats, rider_power: Floats) -> Any:
     """Motor power at the wheel [W].
 
     Parameters
@@ -83,12 +85,21 @@ def motor_power(motor: Motor, ratio, speed, rider_power):
     return (assist * taper_factor(speed, motor.cutoff_speed, motor.taper))[()]
 
 
-def battery_energy(motor: Motor, power, time) -> float:
+def battery_energy(motor: Motor, power: Floats, time: Floats) -> float:
     """Energy drawn from the battery [J] for motor powers [W] held for times [s]."""
     return float(np.sum(np.asarray(power) * np.asarray(time)) / motor.drive_efficiency)
 
 
-def assisted_speed(motor: Motor, ratio, rider_power, *, resistance: Resistance, grade, headwind, air_density):
+def assisted_speed(
+    motor: Motor,
+    ratio: Floats,
+    rider_power: Floats,
+    *,
+    resistance: Resistance,
+    grade: Floats,
+    headwind: Floats,
+    air_density: Floats,
+) -> Any:
     """Steady speed [m/s] with the rider's power and assist at ``ratio``.
 
     The motor's share falls with speed near the cut-off, so the speed is solved, then
@@ -114,8 +125,15 @@ def assisted_speed(motor: Motor, ratio, rider_power, *, resistance: Resistance, 
 
 
 def rider_power_for_speed(
-    motor: Motor | None, ratio, speed, *, resistance: Resistance, grade, headwind, air_density
-):
+    motor: Motor | None,
+    ratio: Floats,
+    speed: Floats,
+    *,
+    resistance: Resistance,
+    grade: Floats,
+    headwind: Floats,
+    air_density: Floats,
+) -> Any:
     """Rider's pedal power [W] to hold ``speed`` with assist at ``ratio`` (0 = none).
 
     Notes
@@ -142,16 +160,16 @@ def rider_power_for_speed(
 
 def suggest_levels(
     motor: Motor,
-    climbs,
+    climbs: Sequence[tuple[int, int]],
     *,
     climb_power: float,
     target_speed: float,
     min_speed: float,
     resistance: Resistance,
-    grade,
-    headwind,
-    air_density,
-):
+    grade: Floats,
+    headwind: Floats,
+    air_density: Floats,
+) -> Any:
     """For each climb, the lowest assist level (0 = off) at which the rider, at no more
     than ``climb_power``, stays at or above ``min_speed`` on every segment. The rider
     eases off once ``target_speed`` is reached.
@@ -166,11 +184,12 @@ def suggest_levels(
     segments = [np.arange(start, end) for start, end in climbs]
     idx = np.concatenate(segments)
     starts = np.cumsum([0] + [len(x) for x in segments[:-1]])
-    phys = dict(resistance=resistance, grade=grade[idx], headwind=headwind[idx], air_density=air_density[idx])
+    grade, headwind, air_density = (np.asarray(x, dtype=float)[idx] for x in (grade, headwind, air_density))
     ratios = np.array([0.0, *motor.levels])[:, None]  # (levels, 1) against (segments,)
-    wanted = rider_power_for_speed(motor, ratios, target_speed, **phys)
+    phys = dict(grade=grade, headwind=headwind, air_density=air_density)
+    wanted = rider_power_for_speed(motor, ratios, target_speed, resistance=resistance, **phys)
     power = np.minimum(wanted, climb_power)
-    speed = np.minimum(assisted_speed(motor, ratios, power, **phys), target_speed)
+    speed = np.minimum(assisted_speed(motor, ratios, power, resistance=resistance, **phys), target_speed)
     slowest = np.minimum.reduceat(speed, starts, axis=1)  # (levels, climbs)
     enough = slowest >= min_speed
     out = []

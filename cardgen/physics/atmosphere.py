@@ -12,8 +12,11 @@ doi:10.1175/1520-0450(1981)020<1527:NEFCVP>2.0.CO;2
 from __future__ import annotations
 
 from dataclasses import dataclass
+from typing import Any
 
 import numpy as np
+
+from cardgen.units import Floats
 
 #: Specific gas constant of dry air [J/(kg·K)], ISO 2533.
 R_DRY_AIR = 287.05287
@@ -30,7 +33,7 @@ ISA_EXPONENT = 5.25588
 ALTITUDE_RANGE = (-1000.0, 11000.0)
 
 
-def isa_temperature(altitude):
+def isa_temperature(altitude: Floats) -> Any:
     """ISA temperature at a height in the troposphere.
 
     Parameters
@@ -56,7 +59,7 @@ def isa_temperature(altitude):
     return np.where((h >= ALTITUDE_RANGE[0]) & (h <= ALTITUDE_RANGE[1]), t, np.nan)[()]
 
 
-def isa_pressure(altitude):
+def isa_pressure(altitude: Floats) -> Any:
     """ISA static pressure at a height in the troposphere.
 
     Parameters
@@ -78,7 +81,7 @@ def isa_pressure(altitude):
     return (ISA_P0 * (isa_temperature(altitude) / ISA_T0) ** ISA_EXPONENT)[()]
 
 
-def saturation_vapour_pressure_buck(temperature):
+def saturation_vapour_pressure_buck(temperature: Floats) -> Any:
     """Saturation vapour pressure over water.
 
     Parameters
@@ -104,7 +107,7 @@ def saturation_vapour_pressure_buck(temperature):
     return np.where((t >= -50.0) & (t <= 50.0), e, np.nan)[()]
 
 
-def air_density(temperature, pressure, relative_humidity=0.0):
+def air_density(temperature: Floats, pressure: Floats, relative_humidity: Floats = 0.0) -> Any:
     """Density of (optionally humid) air from the ideal-gas law.
 
     Parameters
@@ -138,7 +141,9 @@ def air_density(temperature, pressure, relative_humidity=0.0):
     return np.where(valid, rho, np.nan)[()]
 
 
-def air_density_isa(altitude, temperature=None, relative_humidity=0.0):
+def air_density_isa(
+    altitude: Floats, temperature: Floats | None = None, relative_humidity: Floats = 0.0
+) -> Any:
     """Air density at a height, with the ISA pressure and an optional temperature.
 
     Parameters

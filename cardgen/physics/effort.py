@@ -16,19 +16,29 @@ Sports Exerc.* 44(8):1526–1532. doi:10.1249/MSS.0b013e3182517a80
 
 from __future__ import annotations
 
+from typing import Any
+
 import numpy as np
 
 from cardgen.physics.forces import Resistance
 from cardgen.physics.ride import UNBOUNDED, clamp_affine_scan
 from cardgen.physics.steady import power_for_speed, speed_for_power
+from cardgen.units import Floats
 
 #: Air density [kg/m³] at which the flat speed that sets coasting is worked out.
 FLAT_AIR_DENSITY = 1.2
 
 
 def effort_power(
-    *, flat_power: float, climb_power: float, on_climb, grade, headwind, air_density, resistance: Resistance
-):
+    *,
+    flat_power: float,
+    climb_power: float,
+    on_climb: Floats,
+    grade: Floats,
+    headwind: Floats,
+    air_density: Floats,
+    resistance: Resistance,
+) -> Any:
     """Rider power [W] on every segment: the effort model of the module notes.
 
     Parameters
@@ -70,9 +80,9 @@ def safe_climb_power(
     climb_power: float,
     w_prime_left: float,
     step: float,
-    grade,
-    headwind,
-    air_density,
+    grade: Floats,
+    headwind: Floats,
+    air_density: Floats,
     resistance: Resistance,
 ) -> float | None:
     """Highest steady power [W] whose work above CP over a climb, (P − CP)·T(P), fits
@@ -108,7 +118,7 @@ def safe_climb_power(
     return float(candidates[fits].max())
 
 
-def w_prime_balance_skiba(power, time, cp: float, w_prime: float):
+def w_prime_balance_skiba(power: Floats, time: Floats, cp: float, w_prime: float) -> Any:
     """Balance of work capacity above critical power along a ride.
 
     Parameters
@@ -149,7 +159,7 @@ def w_prime_balance_skiba(power, time, cp: float, w_prime: float):
     return w_prime - spent
 
 
-def skiba_time_constant(d_cp):
+def skiba_time_constant(d_cp: Floats) -> Any:
     """Recovery time constant τ [s] of W′ for a recovery D_CP watts below CP.
 
     Notes

@@ -16,24 +16,25 @@ wheel bearings. *Cycling Science* 3:28–32 (the bearing term as used by Martin 
 from __future__ import annotations
 
 from dataclasses import dataclass
+from typing import Any
 
 import numpy as np
 
-from cardgen.units import G0
+from cardgen.units import G0, Floats
 
 #: Wheel-bearing friction, P = v·(91 + 8.7·v)·1e-3 [W] (Dahn et al. 1991 via Martin 1998).
 BEARING_A = 0.091  # [N]
 BEARING_B = 0.0087  # [N·s/m]
 
 
-def _slope(grade):
+def _slope(grade: Floats) -> Any:
     """cos and sin of the road angle for a grade (rise/run), exact trigonometry."""
     g = np.asarray(grade, dtype=float)
     inv = 1.0 / np.sqrt(1.0 + g * g)
     return inv, g * inv
 
 
-def rolling_power(speed, mass, crr, grade=0.0):
+def rolling_power(speed: Floats, mass: Floats, crr: Floats, grade: Floats = 0.0) -> Any:
     """Power lost to tyre rolling resistance.
 
     Parameters
@@ -59,7 +60,7 @@ def rolling_power(speed, mass, crr, grade=0.0):
     return (np.asarray(speed, dtype=float) * crr * mass * G0 * cos_a)[()]
 
 
-def gravity_power(speed, mass, grade):
+def gravity_power(speed: Floats, mass: Floats, grade: Floats) -> Any:
     """Power against gravity; negative on a descent (gravity pushes).
 
     Parameters
@@ -84,7 +85,7 @@ def gravity_power(speed, mass, grade):
     return (np.asarray(speed, dtype=float) * mass * G0 * sin_a)[()]
 
 
-def aero_power(speed, cda, air_density, headwind=0.0):
+def aero_power(speed: Floats, cda: Floats, air_density: Floats, headwind: Floats = 0.0) -> Any:
     """Power against air drag, with wind along the direction of travel.
 
     Parameters
@@ -114,7 +115,7 @@ def aero_power(speed, cda, air_density, headwind=0.0):
     return (0.5 * air_density * cda * air_speed * np.abs(air_speed) * v)[()]
 
 
-def bearing_power(speed):
+def bearing_power(speed: Floats) -> Any:
     """Power lost in the wheel bearings.
 
     Parameters
@@ -137,7 +138,9 @@ def bearing_power(speed):
     return (v * (BEARING_A + BEARING_B * v))[()]
 
 
-def kinetic_power(speed_start, speed_end, duration, mass, wheel_inertia_mass=0.0):
+def kinetic_power(
+    speed_start: Floats, speed_end: Floats, duration: Floats, mass: Floats, wheel_inertia_mass: Floats = 0.0
+) -> Any:
     """Power that changes the kinetic energy of rider, vehicle and wheels.
 
     Parameters
@@ -169,7 +172,7 @@ def kinetic_power(speed_start, speed_end, duration, mass, wheel_inertia_mass=0.0
     return np.where(dt > 0.0, p, np.nan)[()]
 
 
-def pedal_power(wheel_power, efficiency):
+def pedal_power(wheel_power: Floats, efficiency: Floats) -> Any:
     """Power the rider must put in for a power needed at the wheel.
 
     Parameters
@@ -194,7 +197,7 @@ def pedal_power(wheel_power, efficiency):
     return np.where(w > 0.0, w / efficiency, w)[()]
 
 
-def wheel_power(power, efficiency):
+def wheel_power(power: Floats, efficiency: Floats) -> Any:
     """Power that reaches the wheel for a rider's power (inverse of :func:`pedal_power`).
 
     Parameters
@@ -230,17 +233,17 @@ class Breakdown:
 
 
 def steady_breakdown(
-    speed,
+    speed: Floats,
     *,
-    mass,
-    crr,
-    cda,
-    efficiency=1.0,
-    grade=0.0,
-    headwind=0.0,
-    air_density=1.225,
-    bearings=True,
-):
+    mass: Floats,
+    crr: Floats,
+    cda: Floats,
+    efficiency: Floats = 1.0,
+    grade: Floats = 0.0,
+    headwind: Floats = 0.0,
+    air_density: Floats = 1.225,
+    bearings: Floats = True,
+) -> Any:
     """Every term of the steady (no acceleration) power balance at a speed.
 
     Parameters
@@ -278,7 +281,7 @@ def steady_breakdown(
     return Breakdown(roll, bear, aero, grav, (total - at_wheel)[()], total)
 
 
-def headwind(heading, wind_speed, wind_from):
+def headwind(heading: Floats, wind_speed: Floats, wind_from: Floats) -> Any:
     """Wind component against the direction of travel.
 
     Parameters
@@ -318,7 +321,7 @@ class Resistance:
     wheel_inertia_mass: float = 0.0
     bearings: bool = True
 
-    def steady(self) -> dict:
+    def steady(self) -> dict[str, Any]:
         """Keyword arguments of :func:`cardgen.physics.steady.power_for_speed`."""
         return dict(
             mass=self.mass, crr=self.crr, cda=self.cda, efficiency=self.efficiency, bearings=self.bearings
@@ -345,7 +348,17 @@ class ForceLaw:
     b: float
 
     @classmethod
-    def build(cls, *, mass, crr, cda, grade, headwind, air_density, bearings: bool = True) -> ForceLaw:
+    def build(
+        cls,
+        *,
+        mass: Floats,
+        crr: Floats,
+        cda: Floats,
+        grade: Floats,
+        headwind: Floats,
+        air_density: Floats,
+        bearings: bool = True,
+    ) -> ForceLaw:
         """Precompute the law for every element (arguments broadcast together)."""
         g, m, c_rr, c_da, w, rho = np.broadcast_arrays(
             *(np.asarray(x, dtype=float) for x in (grade, mass, crr, cda, headwind, air_density))
@@ -354,7 +367,7 @@ class ForceLaw:
         const = m * G0 * (c_rr * cos_a + sin_a) + (BEARING_A if bearings else 0.0)
         return cls(0.5 * rho * c_da, const, w, BEARING_B if bearings else 0.0)
 
-    def __call__(self, speed, idx=None):
+    def __call__(self, speed: Floats, idx: Any = None) -> Any:
         """(F [N], dF/dv [N·s/m]) at ``speed`` for the elements ``idx`` (all when None)."""
         if idx is None:
             idx = slice(None)

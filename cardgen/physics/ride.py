@@ -19,7 +19,9 @@ Blelloch, G. E. (1990). Prefix sums and their applications. CMU-CS-90-190 (the s
 from __future__ import annotations
 
 import math
+from collections.abc import Callable
 from dataclasses import dataclass
+from typing import Any
 
 import numpy as np
 
@@ -32,12 +34,13 @@ from cardgen.physics.forces import (
     rolling_power,
 )
 from cardgen.physics.steady import speed_for_power
+from cardgen.units import Floats
 
 #: Stand-in for ±infinity in clamp bounds: keeps 0 × bound finite in the scan.
 UNBOUNDED = 1e300
 
 
-def clamp_affine_scan(a, b, lo, hi, x0: float):
+def clamp_affine_scan(a: Floats, b: Floats, lo: Floats, hi: Floats, x0: float) -> Any:
     """Iterate x[i+1] = clip(a[i]·x[i] + b[i], lo[i], hi[i]) for all i at once.
 
     Parameters
@@ -67,7 +70,9 @@ def clamp_affine_scan(a, b, lo, hi, x0: float):
     blocks = -(-n // size)
     pad = blocks * size - n
 
-    def shaped(values, fill):  # (size, blocks): step j of every block is one contiguous row
+    def shaped(
+        values: Any, fill: float
+    ) -> Any:  # (size, blocks): step j of every block is one contiguous row
         values = np.clip(np.asarray(values, dtype=float), -UNBOUNDED, UNBOUNDED)
         return np.ascontiguousarray(np.concatenate((values, np.full(pad, fill))).reshape(blocks, size).T)
 
@@ -89,7 +94,7 @@ def clamp_affine_scan(a, b, lo, hi, x0: float):
     return np.concatenate(([x0], values))
 
 
-def speed_limit_profile(distance, cap, deceleration: float):
+def speed_limit_profile(distance: Floats, cap: Floats, deceleration: float) -> Any:
     """Highest speed at each node from which the rider can still brake down to every
     cap ahead.
 
@@ -144,15 +149,15 @@ class Ride:
 def simulate(
     *,
     step: float,
-    grade,
-    headwind,
-    air_density,
+    grade: Floats,
+    headwind: Floats,
+    air_density: Floats,
     resistance: Resistance,
-    rider_power,
-    speed_cap,
-    distance,
+    rider_power: Floats,
+    speed_cap: Floats,
+    distance: Floats,
     deceleration: float,
-    motor=None,
+    motor: Callable[[np.ndarray, np.ndarray], np.ndarray] | None = None,
     start_speed: float | None = None,
     passes: int = 4,
 ) -> Ride:
@@ -207,7 +212,7 @@ def simulate(
     limit = speed_limit_profile(distance, speed_cap, deceleration)
     hi = limit[1:] ** 2
 
-    def steady(p_wheel):
+    def steady(p_wheel: Floats) -> Any:
         v = speed_for_power(
             p_wheel,
             mass=res.mass,

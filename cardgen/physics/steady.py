@@ -15,9 +15,13 @@ Press, W. H., Teukolsky, S. A., Vetterling, W. T. & Flannery, B. P. (2007).
 
 from __future__ import annotations
 
+from collections.abc import Callable
+from typing import Any
+
 import numpy as np
 
 from cardgen.physics.forces import ForceLaw, steady_breakdown, wheel_power
+from cardgen.units import Floats
 
 #: First guess for the upper end of the speed bracket [m/s]; doubled until it holds.
 _FIRST_UPPER = 1.0
@@ -27,17 +31,17 @@ _MAX_ITER = 100
 
 
 def power_for_speed(
-    speed,
+    speed: Floats,
     *,
-    mass,
-    crr,
-    cda,
-    efficiency=1.0,
-    grade=0.0,
-    headwind=0.0,
-    air_density=1.225,
-    bearings=True,
-):
+    mass: Floats,
+    crr: Floats,
+    cda: Floats,
+    efficiency: Floats = 1.0,
+    grade: Floats = 0.0,
+    headwind: Floats = 0.0,
+    air_density: Floats = 1.225,
+    bearings: bool = True,
+) -> Any:
     """Power at the pedals to hold a steady ground speed.
 
     Parameters
@@ -81,7 +85,9 @@ def power_for_speed(
     return np.where(ok, total, np.nan)[()]
 
 
-def _valid(mass, crr, cda, efficiency, air_density, grade):
+def _valid(
+    mass: Floats, crr: Floats, cda: Floats, efficiency: Floats, air_density: Floats, grade: Floats
+) -> Any:
     with np.errstate(invalid="ignore"):
         return (
             (np.asarray(mass) > 0)
@@ -94,7 +100,9 @@ def _valid(mass, crr, cda, efficiency, air_density, grade):
         )
 
 
-def _solve_increasing(fun, lo, hi, x, tol=_TOL):
+def _solve_increasing(
+    fun: Callable[..., Any], lo: np.ndarray, hi: np.ndarray, x: np.ndarray, tol: Floats = _TOL
+) -> np.ndarray:
     """Root of ``fun`` in [lo, hi] where fun(lo) ≤ 0 ≤ fun(hi), vectorised.
 
     ``fun(x, sel)`` returns (f, df/dx) for the elements ``sel`` of the problem. Newton
@@ -123,18 +131,18 @@ def _solve_increasing(fun, lo, hi, x, tol=_TOL):
 
 
 def speed_for_power(
-    power,
+    power: Floats,
     *,
-    mass,
-    crr,
-    cda,
-    efficiency=1.0,
-    grade=0.0,
-    headwind=0.0,
-    air_density=1.225,
-    bearings=True,
-    rtol=_TOL,
-):
+    mass: Floats,
+    crr: Floats,
+    cda: Floats,
+    efficiency: Floats = 1.0,
+    grade: Floats = 0.0,
+    headwind: Floats = 0.0,
+    air_density: Floats = 1.225,
+    bearings: bool = True,
+    rtol: Floats = _TOL,
+) -> Any:
     """Steady ground speed reached at a constant power.
 
     Parameters
@@ -190,10 +198,10 @@ def speed_for_power(
     )
     k = force.k
 
-    def excess_over(elements):
+    def excess_over(elements: Any) -> Any:
         """v·F(v) − P_wheel and its derivative, for the given elements of the problem."""
 
-        def excess(v, sel):
+        def excess(v: Floats, sel: Any) -> Any:
             idx = elements[sel]
             f, df = force(v, idx)
             return v * f - pw[idx], f + v * df
@@ -226,7 +234,7 @@ def speed_for_power(
     pulled = np.flatnonzero(ok & (pw <= 0) & (f0 < 0))
     if pulled.size:
 
-        def net_force(v, sel):
+        def net_force(v: Floats, sel: Any) -> Any:
             return force(v, pulled[sel])
 
         v0 = _solve_increasing(net_force, np.zeros(pulled.size), hi[pulled], hi[pulled], rtol)
@@ -236,7 +244,7 @@ def speed_for_power(
             brake = pulled[brake_local]
             top = v0[brake_local]
 
-            def slope(v, sel):  # d(v·F)/dv and its derivative
+            def slope(v: Floats, sel: Any) -> Any:  # d(v·F)/dv and its derivative
                 idx = brake[sel]
                 f, df = force(v, idx)
                 return f + v * df, 2.0 * df + v * 2.0 * k[idx] * np.sign(v + force.wind[idx])

@@ -18,7 +18,7 @@ from cardgen.physics.assist import (
 )
 from cardgen.physics.atmosphere import Conditions, air_density_isa
 from cardgen.physics.effort import effort_power, safe_climb_power, w_prime_balance_skiba
-from cardgen.physics.forces import G0, gravity_power, headwind
+from cardgen.physics.forces import gravity_power, headwind
 from cardgen.physics.ride import Ride, simulate
 from cardgen.physics.steady import power_for_speed, speed_for_power
 from cardgen.plan.model import Analysis, ClimbRow, DescentRow, Notice, Plan, TimedCue, Totals
@@ -28,6 +28,7 @@ from cardgen.route.climbs import Climb, Descent, find_climbs, find_descents
 from cardgen.route.cues import cue_sheet
 from cardgen.route.gpx import Track
 from cardgen.route.terrain import Terrain
+from cardgen.units import G0, Floats
 
 #: Steepest 100 m grade that earns a "steep" note [-]: common practice, no published
 #: source (AASHTO's bicycle guide calls grades over 5 % undesirable on shared paths).
@@ -224,11 +225,21 @@ def _climb_row(
     if climb.steepest_grade >= STEEP_GRADE:
         warnings.append(Notice("steep", "caution", (("grade", climb.steepest_grade),)))
     # power needed against speed on the climb's average grade, in its mean wind and air
-    curve_air = dict(
-        grade=climb.avg_grade, headwind=float(np.mean(wind[segs])), air_density=float(np.mean(rho[segs]))
-    )
-    steady = vehicle.resistance.steady()
-    curve = power_for_speed(CURVE_SPEEDS, **steady, **curve_air)
+    res = vehicle.resistance
+
+    def needed(speed: Floats) -> Floats:
+        return power_for_speed(
+            speed,
+            mass=res.mass,
+            crr=res.crr,
+            cda=res.cda,
+            efficiency=res.efficiency,
+            grade=climb.avg_grade,
+            headwind=float(np.mean(wind[segs])),
+            air_density=float(np.mean(rho[segs])),
+        )
+
+    curve = needed(CURVE_SPEEDS)
     speed_at_effort = climb.length / time
     return ClimbRow(
         number=number,
@@ -245,7 +256,7 @@ def _climb_row(
         assist_name=None if motor is None else motor.level_name(level or 0),
         warnings=tuple(warnings),
         power_curve=(CURVE_SPEEDS, np.asarray(curve)),
-        power_at_effort=float(power_for_speed(speed_at_effort, **steady, **curve_air)),
+        power_at_effort=float(needed(speed_at_effort)),
     )
 
 

@@ -9,10 +9,12 @@ as restated by several independent secondary sources (no primary citation found)
 from __future__ import annotations
 
 from dataclasses import dataclass
+from typing import Any
 
 import numpy as np
 
 from cardgen.route.terrain import Terrain
+from cardgen.units import Floats
 
 #: A climb gains at least this much [m] …
 MIN_GAIN = 20.0
@@ -30,7 +32,7 @@ GRADE_WINDOW = 100.0
 BANDS = ((0.5, "easy"), (1.5, "moderate"), (3.5, "hard"), (6.5, "very hard"), (np.inf, "extreme"))
 
 
-def fiets_index(gain, length, top):
+def fiets_index(gain: Floats, length: Floats, top: Floats) -> Any:
     """Difficulty of a climb by the FIETS index.
 
     Parameters
@@ -105,7 +107,7 @@ def _find(
     min_avg_grade: float,
     dip_tolerance: float,
     max_gap: float,
-) -> list[dict]:
+) -> list[dict[str, Any]]:
     e = terrain.elevation * direction  # descents are climbs of the negated profile
     step = terrain.step
     n = e.size

@@ -2,11 +2,14 @@
 
 from __future__ import annotations
 
+from collections.abc import Sequence
 from dataclasses import dataclass
+from typing import Any
 
 import numpy as np
 
 from cardgen.route.geodesy import local_plane
+from cardgen.route.gpx import Track
 from cardgen.route.terrain import Terrain
 
 #: Heading change [deg] over :data:`TURN_WINDOW` that makes a turn …
@@ -79,7 +82,7 @@ def find_turns(
     return cues
 
 
-def place_points(terrain: Terrain, points, kind: str, reach: float = WAYPOINT_REACH):
+def place_points(terrain: Terrain, points: Sequence[Any], kind: str, reach: float = WAYPOINT_REACH) -> Any:
     """Cues for named points (waypoints or route points) within ``reach`` of the route.
 
     Each point goes to the nearest grid node (on a loop that passes a point twice,
@@ -108,7 +111,7 @@ def place_points(terrain: Terrain, points, kind: str, reach: float = WAYPOINT_RE
     return cues, off
 
 
-def cue_sheet(terrain: Terrain, track) -> tuple[list[Cue], list[str]]:
+def cue_sheet(terrain: Terrain, track: Track) -> tuple[list[Cue], list[str]]:
     """Every cue of a route, in order of distance, and warnings about points left off."""
     turns = find_turns(terrain)
     wpts, off_w = place_points(terrain, [w for w in track.waypoints if w.name], "waypoint")

@@ -11,13 +11,18 @@ Snyder, J. P. (1987). *Map Projections — A Working Manual*. USGS Professional 
 
 from __future__ import annotations
 
+from typing import Any
+
 import numpy as np
+from numpy.typing import ArrayLike
+
+from cardgen.units import Floats
 
 #: Mean radius R₁ = (2a + b)/3 of the WGS84 ellipsoid [m].
 EARTH_RADIUS = 6371008.8
 
 
-def cumulative_distance(lat, lon):
+def cumulative_distance(lat: Floats, lon: Floats) -> Any:
     """Distance along a polyline of WGS84 points, from the first point.
 
     Parameters
@@ -45,7 +50,7 @@ def cumulative_distance(lat, lon):
     return np.concatenate(([0.0], np.cumsum(step)))
 
 
-def bearing(lat1, lon1, lat2, lon2):
+def bearing(lat1: Floats, lon1: Floats, lat2: Floats, lon2: Floats) -> Any:
     """Initial great-circle bearing from point 1 to point 2.
 
     Returns
@@ -63,7 +68,7 @@ def bearing(lat1, lon1, lat2, lon2):
     return np.mod(np.arctan2(y, x), 2 * np.pi)
 
 
-def local_plane(lat, lon, lat0: float):
+def local_plane(lat: ArrayLike, lon: ArrayLike, lat0: float) -> np.ndarray:
     """Points on a plane [m] around latitude ``lat0`` [rad]: x east, y north.
 
     Notes
@@ -71,5 +76,5 @@ def local_plane(lat, lon, lat0: float):
     Equirectangular: x = R·λ·cos φ₀, y = R·φ (Snyder 1987, §12); distances within
     about 0.1 % over a few kilometres of φ₀.
     """
-    lat, lon = np.radians(np.asarray(lat, dtype=float)), np.radians(np.asarray(lon, dtype=float))
-    return np.column_stack((lon * np.cos(lat0) * EARTH_RADIUS, lat * EARTH_RADIUS))
+    phi, lam = np.radians(np.asarray(lat, dtype=float)), np.radians(np.asarray(lon, dtype=float))
+    return np.column_stack((lam * np.cos(lat0) * EARTH_RADIUS, phi * EARTH_RADIUS))

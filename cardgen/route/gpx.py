@@ -16,6 +16,7 @@ import warnings
 from dataclasses import dataclass
 from datetime import UTC, datetime
 from pathlib import Path
+from typing import Any
 from xml.etree.ElementTree import ParseError, iterparse
 from xml.parsers import expat
 
@@ -23,6 +24,7 @@ import numpy as np
 
 from cardgen.errors import GpxError
 from cardgen.route.geodesy import cumulative_distance
+from cardgen.units import Floats
 
 #: Largest GPX file read [bytes]: 100 MiB holds about 800,000 plain trackpoints,
 #: over 8,000 km at one point every 10 m.
@@ -109,10 +111,10 @@ class _Points:
     """String columns of one kind of point, converted to arrays at the end."""
 
     def __init__(self) -> None:
-        self.lat: list = []
-        self.lon: list = []
-        self.ele: list = []
-        self.time: list = []
+        self.lat: list[str | None] = []
+        self.lon: list[str | None] = []
+        self.ele: list[str | None] = []
+        self.time: list[str | None] = []
 
 
 class _Prolog(Exception):
@@ -128,14 +130,14 @@ def _check_prolog(path: Path, where: str) -> str:
     parser = expat.ParserCreate(namespace_separator="}")
     found = {}
 
-    def doctype(*_args):
+    def doctype(*_args: Any) -> Any:
         raise GpxError(
             f"{where}, line {parser.CurrentLineNumber}: the file declares a document type "
             "(<!DOCTYPE …>), where entities and external references live; GPX never needs "
             "one and cardgen refuses it for safety: remove the <!DOCTYPE …> part"
         )
 
-    def start(name, _attrs):
+    def start(name: str, _attrs: Any) -> Any:
         found["root"] = name
         raise _Prolog
 
@@ -163,7 +165,7 @@ def _check_prolog(path: Path, where: str) -> str:
     raise GpxError(f"{where}: no XML element in the file; is it a GPX file?")
 
 
-def _children_text(elem):
+def _children_text(elem: Any) -> Any:
     """ele and time text of a point element (None where absent)."""
     ele = when = None
     for child in elem:
@@ -175,7 +177,7 @@ def _children_text(elem):
     return ele, when
 
 
-def _text(elem, name: str) -> str:
+def _text(elem: Any, name: str) -> str:
     for child in elem:
         if _LOCAL.get(child.tag) == name:
             if name in ("link", "url"):
@@ -184,7 +186,7 @@ def _text(elem, name: str) -> str:
     return ""
 
 
-def _waypoint(elem, where: str) -> Waypoint:
+def _waypoint(elem: Any, where: str) -> Waypoint:
     lat, lon = _coordinate(elem.get("lat"), "lat", where), _coordinate(elem.get("lon"), "lon", where)
     ele, _ = _children_text(elem)
     elevation = _number_or_nan(ele)
@@ -200,14 +202,14 @@ def _waypoint(elem, where: str) -> Waypoint:
     )
 
 
-def _number_or_nan(text) -> float:
+def _number_or_nan(text: Any) -> float:
     try:
         return float(text)
     except (TypeError, ValueError):
         return float("nan")
 
 
-def _coordinate(text, axis: str, where: str) -> float:
+def _coordinate(text: Any, axis: str, where: str) -> float:
     try:
         value = float(text)
     except (TypeError, ValueError):
@@ -221,7 +223,7 @@ def _coordinate(text, axis: str, where: str) -> float:
 
 
 # one streaming pass over the XML: its branches are the GPX elements, kept together for speed
-def read_gpx(path: str | os.PathLike) -> Track:  # noqa: C901
+def read_gpx(path: str | os.PathLike[str]) -> Track:  # noqa: C901
     """Read a GPX file into a :class:`Track`.
 
     Raises
@@ -360,7 +362,7 @@ def _reason(exc: ParseError) -> str:
     return text.split(":")[0] if ":" in text else text
 
 
-def _column(values: list, axis: str, label: str, where: str) -> np.ndarray:
+def _column(values: list[str | None], axis: str, label: str, where: str) -> np.ndarray:
     try:
         array = np.array(values, dtype=float)
     except (TypeError, ValueError):
@@ -373,7 +375,7 @@ def _column(values: list, axis: str, label: str, where: str) -> np.ndarray:
     return array
 
 
-def _elevation(values: list, lat, lon, label: str, where: str):
+def _elevation(values: list[str | None], lat: Floats, lon: Floats, label: str, where: str) -> Any:
     text = ["nan" if v is None or not v.strip() else v for v in values]
     try:
         ele = np.array(text, dtype=float)
@@ -392,7 +394,7 @@ def _elevation(values: list, lat, lon, label: str, where: str):
     return ele, missing
 
 
-def _times(values: list) -> np.ndarray:
+def _times(values: list[str | None]) -> np.ndarray:
     """POSIX seconds; NaN where missing or unreadable."""
     if all(v is None for v in values):
         return np.full(len(values), np.nan)
@@ -408,11 +410,13 @@ def _times(values: list) -> np.ndarray:
     except (ValueError, Warning):
         out = np.full(len(values), np.nan)
         for i, v in enumerate(values):
+            if v is None:
+                continue
             try:
                 when = datetime.fromisoformat(v.strip())
                 if when.tzinfo is None:
                     when = when.replace(tzinfo=UTC)
                 out[i] = when.timestamp()
-            except (AttributeError, ValueError, OverflowError):
+            except (ValueError, OverflowError):
                 pass
         return out

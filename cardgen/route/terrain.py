@@ -12,12 +12,15 @@ Tukey, J. W. (1977). *Exploratory Data Analysis*. Addison-Wesley (running median
 from __future__ import annotations
 
 from dataclasses import dataclass
+from typing import Any
 
 import numpy as np
 from numpy.lib.stride_tricks import sliding_window_view
 
 from cardgen.errors import GpxError
 from cardgen.route.geodesy import bearing, cumulative_distance
+from cardgen.route.gpx import Track
+from cardgen.units import Floats
 
 #: Default grid step [m].
 GRID_STEP = 10.0
@@ -68,7 +71,7 @@ class Terrain:
         return float(self.distance[-1])
 
 
-def remove_spikes(elevation, points: int = SPIKE_POINTS):
+def remove_spikes(elevation: Floats, points: int = SPIKE_POINTS) -> Any:
     """Running median over ``points`` samples: removes isolated spikes and dips,
     leaves monotone stretches and steps unchanged.
 
@@ -84,7 +87,9 @@ def remove_spikes(elevation, points: int = SPIKE_POINTS):
     return np.median(sliding_window_view(padded, points), axis=1)
 
 
-def smooth_elevation(elevation, step: float, window: float = SMOOTH_WINDOW, order: int = SMOOTH_ORDER):
+def smooth_elevation(
+    elevation: Floats, step: float, window: float = SMOOTH_WINDOW, order: int = SMOOTH_ORDER
+) -> Any:
     """Savitzky–Golay smoothing of an elevation profile on a uniform grid.
 
     Parameters
@@ -107,7 +112,7 @@ def smooth_elevation(elevation, step: float, window: float = SMOOTH_WINDOW, orde
     return savitzky_golay(e, points, order)
 
 
-def savitzky_golay(values, points: int, order: int):
+def savitzky_golay(values: Any, points: int, order: int) -> Any:
     """Least-squares polynomial smoothing over a sliding window of ``points`` samples.
 
     Inside, each value is replaced by the value at the centre of the polynomial of
@@ -133,7 +138,7 @@ def savitzky_golay(values, points: int, order: int):
     return out
 
 
-def elevation_gain(elevation, deadband: float = GAIN_DEADBAND) -> tuple[float, float]:
+def elevation_gain(elevation: Floats, deadband: float = GAIN_DEADBAND) -> tuple[float, float]:
     """Total gain and loss with hysteresis.
 
     A rise (fall) is counted once the profile has moved ``deadband`` metres away from
@@ -148,7 +153,7 @@ def elevation_gain(elevation, deadband: float = GAIN_DEADBAND) -> tuple[float, f
     return float(steps[steps > 0].sum()), float(-steps[steps < 0].sum())
 
 
-def turning_points(elevation, deadband: float) -> np.ndarray:  # noqa: C901 (a small state machine)
+def turning_points(elevation: Floats, deadband: float) -> np.ndarray:  # noqa: C901 (a small state machine)
     """Indices of the alternating lows and highs of a profile, with hysteresis.
 
     The first index is always included. A high (low) is confirmed once the profile
@@ -194,7 +199,7 @@ def turning_points(elevation, deadband: float) -> np.ndarray:  # noqa: C901 (a s
     return np.asarray(turns)
 
 
-def curve_radius(lat, lon, step: float, window: float = CURVE_WINDOW):
+def curve_radius(lat: np.ndarray, lon: np.ndarray, step: float, window: float = CURVE_WINDOW) -> Any:
     """Radius of the path's curve at each grid node.
 
     Notes
@@ -219,7 +224,7 @@ def curve_radius(lat, lon, step: float, window: float = CURVE_WINDOW):
     return radius
 
 
-def build_terrain(track, step: float = GRID_STEP) -> Terrain:
+def build_terrain(track: Track, step: float = GRID_STEP) -> Terrain:
     """Resample a :class:`~cardgen.route.gpx.Track` onto a uniform grid and derive
     the terrain.
 

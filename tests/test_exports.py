@@ -1,0 +1,98 @@
+"""The contents of every export: plan.json, climbs.csv, route.gpx and route --json,
+read back and compared with the plans they come from."""
+
+import csv
+import io
+import json
+import math
+from pathlib import Path
+
+import gpxpy
+import pytest
+
+from cardgen.plan import analyse, make_plan
+from cardgen.profiles.riders import Rider
+from cardgen.profiles.vehicles import builtin_vehicles
+from cardgen.render import exports
+from cardgen.route.checkpoints import checkpoints_from_waypoints
+from cardgen.route.gpx import read_gpx
+from cardgen.route.terrain import build_terrain
+
+SAMPLES = Path(__file__).resolve().parents[1] / "sample_routes"
+
+
+@pytest.fixture(scope="module")
+def day_ride():
+    track = read_gpx(SAMPLES / "day-ride.gpx")
+    analysis = analyse(track, build_terrain(track))
+    lib = builtin_vehicles()
+    plans = [make_plan(analysis, rider=Rider.for_vehicle(lib[n])) for n in ("road-hoods", "e-assist-cargo")]
+    return analysis, plans
+
+
+def test_plan_json_holds_each_plans_numbers(day_ride):
+    _, plans = day_ride
+    data = json.loads(exports.route_json_text("Day ride", plans))
+    assert data["route"] == "Day ride" and len(data["plans"]) == 2
+    for plan, entry in zip(plans, data["plans"], strict=True):
+        assert entry["rider"]["vehicle"] == plan.rider.vehicle.name
+        assert entry["totals"]["time_s"] == pytest.approx(plan.totals.time, abs=0.05)
+        assert entry["totals"]["energy_j"] == pytest.approx(plan.totals.energy, abs=0.5)
+        assert len(entry["climbs"]) == len(plan.climbs) and len(entry["cues"]) == len(plan.cues)
+        for row, climb in zip(plan.climbs, entry["climbs"], strict=True):
+            assert climb["start_m"] == pytest.approx(row.climb.start_distance, abs=0.05)
+            assert climb["power_for_target_w"] == pytest.approx(row.power_for_target, abs=0.05)
+            assert [w["code"] for w in climb["warnings"]] == [w.code for w in row.warnings]
+            assert all(w["text"] for w in climb["warnings"])
+    battery = data["plans"][1]["totals"]["battery_j"]
+    assert (
+        battery == pytest.approx(plans[1].totals.battery, abs=0.5)
+        and data["plans"][0]["totals"]["battery_j"] is None
+    )
+
+
+def test_climbs_csv_has_a_row_per_rider_and_climb(day_ride):
+    _, plans = day_ride
+    rows = list(csv.DictReader(io.StringIO(exports.climbs_csv_text(plans))))
+    assert len(rows) == sum(len(p.climbs) for p in plans)
+    first = rows[0]
+    row = plans[0].climbs[0]
+    assert first["rider"] == plans[0].rider.name and first["climb"] == "1"
+    assert float(first["start_km"]) == pytest.approx(row.climb.start_distance / 1000, abs=0.005)
+    assert float(first["gain_m"]) == pytest.approx(row.climb.height, abs=0.5)
+    assert float(first["time_min"]) == pytest.approx(row.time / 60, abs=0.05)
+
+
+def test_route_gpx_reads_back_with_a_waypoint_at_every_climb_foot_and_checkpoint(day_ride):
+    analysis, _ = day_ride
+    checkpoints = checkpoints_from_waypoints(analysis.track, analysis.terrain)
+    text = exports.route_gpx_text(analysis.track, analysis.terrain, analysis.climbs, checkpoints)
+    gpx = gpxpy.parse(text)
+    points = gpx.tracks[0].segments[0].points
+    assert len(points) == analysis.terrain.distance.size
+    climbs = [w for w in gpx.waypoints if w.type == "climb"]
+    assert len(climbs) == len(analysis.climbs)
+    for waypoint, climb in zip(climbs, analysis.climbs, strict=True):
+        assert waypoint.latitude == pytest.approx(analysis.terrain.lat[climb.start], abs=1e-7)
+        assert waypoint.longitude == pytest.approx(analysis.terrain.lon[climb.start], abs=1e-7)
+    assert [w.name for w in gpx.waypoints if w.type == "checkpoint"] == [c.name for c in checkpoints]
+
+
+def test_route_json_is_rounded_and_always_valid(day_ride):
+    _, plans = day_ride
+    data = exports.route_json(plans[0])
+    text = json.dumps(data, allow_nan=False)  # raises on NaN or infinity
+
+    def floats(tree):
+        if isinstance(tree, dict):
+            for v in tree.values():
+                yield from floats(v)
+        elif isinstance(tree, list):
+            for v in tree:
+                yield from floats(v)
+        elif isinstance(tree, float):
+            yield tree
+
+    assert all(round(x, 4) == x for x in floats(data))
+    assert exports._rounded({"a": math.inf, "b": [math.nan, 1.234567]}) == {"a": None, "b": [None, 1.2346]}
+    assert json.loads(text)["route"]["distance_km"] == pytest.approx(plans[0].terrain.length / 1000, abs=1e-4)

@@ -1,0 +1,68 @@
+"""Every printed number: rounding and units (render/format.py), worked by hand.
+
+Conversions: 1 mile = 1609.344 m and 1 foot = 0.3048 m exactly (the international
+yard and pound agreement, 1959); 1 kcal = 4184 J (thermochemical calorie, ISO
+80000-5); 1 Wh = 3600 J.
+"""
+
+import math
+from datetime import datetime
+
+import pytest
+
+from cardgen.render import format as fmt
+
+
+@pytest.mark.parametrize(
+    ("function", "value", "units", "text"),
+    [
+        (fmt.power, 187.4, None, "185 W"),  # to 5 W
+        (fmt.power, 187.6, None, "190 W"),
+        (fmt.speed, 5.0, "metric", "18.0 km/h"),  # 5 m/s × 3.6
+        (fmt.speed, 5.0, "imperial", "11.0 mph"),  # 5 / 0.44704 = 11.18 → to 0.5
+        (fmt.distance, 12345.0, "metric", "12.3 km"),
+        (fmt.distance, 12345.0, "imperial", "7.7 mi"),  # 12345 / 1609.344 = 7.67
+        (fmt.length, 849.0, "metric", "850 m"),  # to 10 m
+        (fmt.length, 12000.0, "metric", "12.0 km"),  # from 10 km as a distance
+        (fmt.length, 850.0, "imperial", "0.53 mi"),  # 850 / 1609.344 = 0.528
+        (fmt.height, 240.4, "metric", "240 m"),
+        (fmt.height, 240.0, "imperial", "785 ft"),  # 240 / 0.3048 = 787.4 → to 5 ft
+        (fmt.grade, 0.0749, None, "7.5 %"),  # to 0.5 %
+        (fmt.grade, -0.062, None, "-6.0 %"),
+        (fmt.duration, 4020.0, None, "1:07"),  # 67 min
+        (fmt.duration, 29.0, None, "0:00"),
+        (fmt.food, 1237 * 4184.0, None, "1,240 kcal"),  # to 10 kcal
+        (fmt.battery, 217 * 3600.0, None, "215 Wh"),  # to 5 Wh
+        (fmt.score, 1.2345, None, "1.2"),
+    ],
+)
+def test_rounding_and_units(function, value, units, text):
+    assert (function(value) if units is None else function(value, units)) == text
+
+
+@pytest.mark.parametrize(
+    "function",
+    [
+        fmt.power,
+        fmt.speed,
+        fmt.distance,
+        fmt.length,
+        fmt.height,
+        fmt.grade,
+        fmt.duration,
+        fmt.food,
+        fmt.battery,
+        fmt.score,
+    ],
+)
+@pytest.mark.parametrize("missing", [None, math.nan, math.inf, -math.inf])
+def test_missing_or_infinite_prints_a_dash(function, missing):
+    assert function(missing) == "–"
+
+
+def test_clock_times():
+    start = datetime(2027, 4, 18, 8, 0)
+    assert fmt.clock(start, 3600 + 29) == "09:00"  # to the minute
+    assert fmt.clock(start, 3600 + 31) == "09:01"
+    assert fmt.clock(None, 4020) == "+1:07"  # no start: time after the start
+    assert fmt.clock(start, math.inf) == "–"
