@@ -8,16 +8,47 @@ from __future__ import annotations
 import argparse
 import json
 import math
+import os
+import re
 import sys
 
 from cardgen import __version__
 from cardgen.errors import CardgenError
 
-#: Limits of the command-line inputs: beyond them the model is not trustworthy.
-GRADE_LIMIT_PCT = 50.0
-SPEED_LIMIT_KMH = 150.0
-POWER_LIMIT_W = 3000.0
-WIND_LIMIT_KMH = 150.0
+#: Characters that would steer a terminal (escape sequences, bidirectional overrides)
+#: when names from GPX files or configs are printed: shown as U+FFFD instead.
+_STEERING = re.compile("[\x00-\x09\x0b-\x1f\x7f-\x9f\u200e\u200f\u202a-\u202e\u2066-\u2069]")
+
+
+def _print(*parts: object, **kwargs) -> None:
+    """print(), with text that cannot steer the terminal."""
+    print(*(_STEERING.sub("\ufffd", str(part)) for part in parts), **kwargs)
+
+
+#: Above this speed a result says it is outside what the model (and any rider) covers:
+#: the descent speed caps of the vehicle library stop near 60 km/h (common practice,
+#: no published source).
+PLAUSIBLE_SPEED_KMH = 100.0
+
+
+def _n(value: float | None, spec: str, sign: float = 1.0) -> str:
+    """A number of the JSON for the terminal: a dash for null, never "-0"."""
+    if value is None:
+        width = re.match(r"[<>]?(\d*)", spec)
+        return "–".rjust(int(width.group(1) or 0) if width else 0)
+    return format(sign * value + 0.0, spec)
+
+
+def _within(option: str, value: float | None, key: str) -> None:
+    """Refuse ``value`` of ``option`` outside its range in the one table of limits
+    (:data:`cardgen.profiles.limits.LIMITS`); None (not given) passes."""
+    from cardgen.profiles.limits import LIMITS
+
+    if value is None:
+        return
+    problem = LIMITS[key].problem(value)
+    if problem:
+        raise CardgenError(f"{option} {problem.removeprefix('= ')}")
 
 
 def _ensure(condition: bool, message: str) -> None:
@@ -33,9 +64,9 @@ def _air_density(args) -> float:
     from cardgen.physics.atmosphere import air_density_isa
 
     if args.air_density is not None:
-        _ensure(0.3 <= args.air_density <= 1.6, f"--air-density {args.air_density} is outside 0.3…1.6 kg/m³")
+        _within("--air-density", args.air_density, "air_density_kg_m3")
         return args.air_density
-    _ensure(-1000 <= args.altitude <= 9000, f"--altitude {args.altitude} is outside -1000…9000 m")
+    _within("--altitude", args.altitude, "altitude_m")
     return float(air_density_isa(args.altitude))
 
 
@@ -53,9 +84,9 @@ def _resistance(args):
         all(v is not None for v in explicit),
         "give --vehicle NAME, or all three of --mass KG --crr X --cda M2 (see 'cardgen vehicles')",
     )
-    _ensure(20 <= args.mass <= 600, f"--mass {args.mass} kg is outside 20…600 kg (rider + vehicle)")
-    _ensure(0 <= args.crr <= 0.1, f"--crr {args.crr} is outside 0…0.1")
-    _ensure(0.05 <= args.cda <= 3, f"--cda {args.cda} m² is outside 0.05…3 m²")
+    _within("--mass", args.mass, "mass_kg")
+    _within("--crr", args.crr, "crr")
+    _within("--cda", args.cda, "cda_m2")
     eff = 1.0 if args.efficiency is None else args.efficiency
     return args.mass, args.crr, args.cda, eff, False, "custom vehicle"
 
@@ -78,13 +109,9 @@ def cmd_solve(args) -> int:
         "air_density",
     ):
         _finite(getattr(args, name), "--" + name.replace("_", "-"))
-    _ensure(abs(args.grade) <= GRADE_LIMIT_PCT, f"--grade {args.grade} % is outside ±{GRADE_LIMIT_PCT:g} %")
-    _ensure(
-        abs(args.headwind) <= WIND_LIMIT_KMH,
-        f"--headwind {args.headwind} km/h is outside ±{WIND_LIMIT_KMH:g} km/h",
-    )
-    if args.efficiency is not None:
-        _ensure(0.5 <= args.efficiency <= 1, f"--efficiency {args.efficiency} is outside 0.5…1")
+    _within("--grade", args.grade, "grade_pct")
+    _within("--headwind", args.headwind, "headwind_kmh")
+    _within("--efficiency", args.efficiency, "efficiency")
     mass, crr, cda, eff, bearings, label = _resistance(args)
     rho = _air_density(args)
     grade = float(pct_to_grade(args.grade))
@@ -100,14 +127,11 @@ def cmd_solve(args) -> int:
         bearings=bearings,
     )
     if args.power is not None:
-        _ensure(abs(args.power) <= POWER_LIMIT_W, f"--power {args.power} W is outside ±{POWER_LIMIT_W:g} W")
+        _within("--power", args.power, "power_w")
         speed = float(speed_for_power(args.power, **common))
         _ensure(math.isfinite(speed), "no steady speed exists for these values; check the inputs")
     else:
-        _ensure(
-            0 <= args.speed <= SPEED_LIMIT_KMH,
-            f"--speed {args.speed} km/h is outside 0…{SPEED_LIMIT_KMH:g} km/h",
-        )
+        _within("--speed", args.speed, "speed_kmh")
         speed = float(kmh_to_ms(args.speed))
     parts = steady_breakdown(speed, **common)
     power = float(parts.total) if args.power is None else float(args.power)
@@ -128,24 +152,29 @@ def cmd_solve(args) -> int:
     if args.json:
         print(json.dumps(result, indent=2))
         return 0
-    print(f"{label}: {mass:g} kg, CdA {cda:.3f} m², Crr {crr:.4f}, drivetrain {eff * 100:.1f} %")
+    _print(f"{label}: {mass:g} kg, CdA {cda:.3f} m², Crr {crr:.4f}, drivetrain {eff * 100:.1f} %")
     wind = "headwind" if args.headwind >= 0 else "tailwind"
-    print(f"grade {args.grade:+.1f} %, {wind} {abs(args.headwind):.1f} km/h, air density {rho:.3f} kg/m³")
-    print()
+    _print(f"grade {args.grade:+.1f} %, {wind} {abs(args.headwind):.1f} km/h, air density {rho:.3f} kg/m³")
+    _print()
     if speed == 0 and args.power is not None:
-        print("  speed        0 km/h: this power cannot keep the vehicle moving here")
+        _print("  speed        0 km/h: this power cannot keep the vehicle moving here")
     else:
-        print(f"  speed   {result['speed_kmh']:8.1f} km/h")
-    print(f"  power   {power:8.0f} W at the pedals")
-    print()
+        _print(f"  speed   {result['speed_kmh']:8.1f} km/h")
+        if result["speed_kmh"] > PLAUSIBLE_SPEED_KMH:
+            _print(
+                f"  note: bicycles are not ridden above {PLAUSIBLE_SPEED_KMH:.0f} km/h, and air and tyres "
+                "stop behaving as the model assumes there; check the inputs"
+            )
+    _print(f"  power   {power:8.0f} W at the pedals")
+    _print()
     spent = sum(v for v in breakdown.values() if v > 0)
-    print("  term         power   share of power spent")
+    _print("  term         power   share of power spent")
     for term, value in breakdown.items():
         share = f"{100 * value / spent:5.0f} %" if value > 0 and spent > 0 else "    —"
         note = "  (gives power)" if value < 0 else ""
-        print(f"  {term:<10} {value:7.0f} W   {share}{note}")
+        _print(f"  {term:<10} {value:7.0f} W   {share}{note}")
     if bearings:
-        print("\n  rolling includes wheel-bearing friction (Dahn et al. 1991).")
+        _print("\n  rolling includes wheel-bearing friction (Dahn et al. 1991).")
     return 0
 
 
@@ -163,14 +192,14 @@ def _route_plan(args):
         _finite(getattr(args, name), "--" + name.replace("_", "-"))
     vehicle = find_vehicle(args.vehicle)
     power = vehicle.typical_power if args.power is None else args.power
-    _ensure(1 <= power <= 2000, f"--power {power} W is outside 1…2000 W")
+    _within("--power", power, "route_power_w")
+    _within("--target-speed", args.target_speed, "target_kmh")
     target = vehicle.climb_speed if args.target_speed is None else float(kmh_to_ms(args.target_speed))
-    _ensure(1 / 3.6 <= target <= 60 / 3.6, f"--target-speed {args.target_speed} km/h is outside 1…60 km/h")
-    _ensure(0 <= args.wind <= WIND_LIMIT_KMH, f"--wind {args.wind} km/h is outside 0…{WIND_LIMIT_KMH:g} km/h")
-    _ensure(0 <= args.wind_from <= 360, f"--wind-from {args.wind_from}° is outside 0…360°")
+    _within("--wind", args.wind, "wind_kmh")
+    _within("--wind-from", args.wind_from, "wind_from_deg")
     temperature = None
     if args.temperature is not None:
-        _ensure(-30 <= args.temperature <= 50, f"--temperature {args.temperature} °C is outside -30…50 °C")
+        _within("--temperature", args.temperature, "temperature_c")
         temperature = float(celsius_to_kelvin(args.temperature))
     conditions = Conditions(float(kmh_to_ms(args.wind)), math.radians(args.wind_from), temperature)
     rider = Rider.for_vehicle(vehicle, flat_power=power, climb_power=power, target_speed=target)
@@ -190,50 +219,52 @@ def cmd_route(args) -> int:
         print(json.dumps(data, indent=2, ensure_ascii=False))
         return 0
     r, v, t = data["route"], plan.rider.vehicle, data["totals"]
-    print(f"{r['name']}: {r['distance_km']:.1f} km, +{r['gain_m']:.0f} m / -{r['loss_m']:.0f} m")
-    print(
+    _print(
+        f"{r['name']}: {_n(r['distance_km'], '.1f')} km, +{_n(r['gain_m'], '.0f')} m / -{_n(r['loss_m'], '.0f')} m"
+    )
+    _print(
         f"{v.label} ({v.name}), {v.mass:.0f} kg, at {plan.rider.flat_power:.0f} W; "
         f"climb target {plan.rider.target_speed * 3.6:.1f} km/h"
     )
-    print()
+    _print()
     if data["climbs"]:
-        print(" #   km        length  gain  avg   max   FIETS band       W@target  km/h  time")
+        _print(" #   km        length  gain  avg   max   FIETS band       W@target  km/h  time")
         for i, c in enumerate(data["climbs"], 1):
-            print(
-                f"{i:2}  {c['start_km']:5.1f}-{c['end_km']:<5.1f} {c['length_m']:6.0f} m {c['gain_m']:4.0f}m "
-                f"{c['avg_grade_pct']:4.1f}% {c['max_grade_pct']:4.1f}% {c['score']:5.2f} "
-                f"{c['band']:<10} {c['power_for_target_w']:6.0f} W {c['speed_at_effort_kmh']:5.1f} "
+            _print(
+                f"{i:2}  {_n(c['start_km'], '5.1f')}-{_n(c['end_km'], '<5.1f')} {_n(c['length_m'], '6.0f')} m {_n(c['gain_m'], '4.0f')}m "
+                f"{_n(c['avg_grade_pct'], '4.1f')}% {_n(c['max_grade_pct'], '4.1f')}% {_n(c['score'], '5.2f')} "
+                f"{c['band']:<10} {_n(c['power_for_target_w'], '6.0f')} W {_n(c['speed_at_effort_kmh'], '5.1f')} "
                 f"{duration(c['time_s']):>5}"
             )
             if c["assist_level"] is not None:
-                print(f"      assist: {c['assist_level']}")
+                _print(f"      assist: {c['assist_level']}")
             for w in c["warnings"]:
-                print(f"      ! {w}")
+                _print(f"      ! {w}")
     else:
-        print("No climbs.")
-    print()
+        _print("No climbs.")
+    _print()
     if data["descents"]:
-        print(" #   km          drop  avg     coasting   gravity")
+        _print(" #   km          drop  avg     coasting   gravity")
         for i, d in enumerate(data["descents"], 1):
-            print(
-                f"{i:2}  {d['start_km']:5.1f}-{d['end_km']:<5.1f} {d['drop_m']:5.0f} m {d['avg_grade_pct']:5.1f}% "
-                f"{d['coast_speed_kmh']:6.0f} km/h {-d['gravity_power_w']:6.0f} W from gravity"
+            _print(
+                f"{i:2}  {_n(d['start_km'], '5.1f')}-{_n(d['end_km'], '<5.1f')} {_n(d['drop_m'], '5.0f')} m {_n(d['avg_grade_pct'], '5.1f')}% "
+                f"{_n(d['coast_speed_kmh'], '6.0f')} km/h {_n(d['gravity_power_w'], '6.0f', -1)} W from gravity"
             )
             for w in d["warnings"]:
-                print(f"      ! {w}")
+                _print(f"      ! {w}")
     else:
-        print("No descents.")
-    print()
-    battery = "" if t["battery_wh"] is None else f", battery about {t['battery_wh']:.0f} Wh"
-    print(
-        f"Moving time {duration(t['time_s'])}, work {t['energy_kj']:.0f} kJ, "
-        f"food about {t['food_kcal']:.0f} kcal{battery}"
+        _print("No descents.")
+    _print()
+    battery = "" if t["battery_wh"] is None else f", battery about {_n(t['battery_wh'], '.0f')} Wh"
+    _print(
+        f"Moving time {duration(t['time_s'])}, work {_n(t['energy_kj'], '.0f')} kJ, "
+        f"food about {_n(t['food_kcal'], '.0f')} kcal{battery}"
     )
     turns = sum(1 for c in plan.cues if c.cue.kind == "turn")
-    print(f"{len(plan.cues)} cues ({turns} turns)")
+    _print(f"{len(plan.cues)} cues ({turns} turns)")
     for w in plan.warnings:
-        print(f"note: {notice_text(w)}")
-    print("\nModel estimates, not guarantees. Ride descents to the conditions; local road rules apply.")
+        _print(f"note: {notice_text(w)}")
+    _print("\nModel estimates, not guarantees. Ride descents to the conditions; local road rules apply.")
     return 0
 
 
@@ -282,7 +313,7 @@ def _progress_printer():
         return update, bar.stop
 
     def plain(done, total, label):
-        print(f"card {done}/{total}: {label}", file=sys.stderr)
+        _print(f"card {done}/{total}: {label}", file=sys.stderr)
 
     return plain, lambda: None
 
@@ -295,7 +326,7 @@ def cmd_build(args) -> int:
 
     config, demo = _site_config(args.site)
     for warning in config.warnings:
-        print(f"cardgen: warning: {warning}", file=sys.stderr)
+        _print(f"cardgen: warning: {warning}", file=sys.stderr)
     out = Path(args.output) if args.output else (Path.cwd() / "site" if demo else config.output)
     jobs = args.jobs or min(os.cpu_count() or 1, 64)
     progress, close = _progress_printer()
@@ -306,21 +337,21 @@ def cmd_build(args) -> int:
             jobs=jobs,
             pdf=not args.no_pdf,
             keep_going=args.keep_going,
-            say=lambda text: print(text, file=sys.stderr),
+            say=lambda text: _print(text, file=sys.stderr),
             progress=progress,
         )
     finally:
         close()
     if not report.up_to_date:
-        print(
+        _print(
             f"built {out}: {report.routes - len(report.failed)} of {report.routes} routes "
             f"({report.routes_reused} unchanged), {report.cards_rendered} cards rendered, {report.cards_reused} reused"
         )
     if report.failed:
-        print(f"cardgen: {len(report.failed)} route(s) failed and were left out:", file=sys.stderr)
+        _print(f"cardgen: {len(report.failed)} route(s) failed and were left out:", file=sys.stderr)
         for failure in report.failed:
-            print(f"  {failure}", file=sys.stderr)
-    print(f"open {out / 'index.html'}")
+            _print(f"  {failure}", file=sys.stderr)
+    _print(f"open {out / 'index.html'}")
     return 1 if report.failed else 0
 
 
@@ -330,86 +361,86 @@ def cmd_check(args) -> int:
 
     config, _ = _site_config(args.site)
     for warning in config.warnings:
-        print(f"cardgen: warning: {warning}", file=sys.stderr)
+        _print(f"cardgen: warning: {warning}", file=sys.stderr)
     problems = []
     for route in config.routes:
         try:
             track = read_gpx(route.gpx)
             terrain = build_terrain(track)
-            print(f"ok  {route.gpx.name}: {terrain.length / 1000:.1f} km, {track.points} points")
+            _print(f"ok  {route.gpx.name}: {terrain.length / 1000:.1f} km, {track.points} points")
         except CardgenError as exc:
             problems.append(str(exc))
-    print(f"{len(config.riders)} riders: " + ", ".join(r.rider.name for r in config.riders))
+    _print(f"{len(config.riders)} riders: " + ", ".join(r.rider.name for r in config.riders))
     if problems:
         raise CardgenError("\n  ".join(["route problems:"] + problems))
-    print("configuration and routes are fine; nothing was written")
+    _print("configuration and routes are fine; nothing was written")
     return 0
 
 
-def _watched_files(config) -> tuple:
-    """What a watched site is made of: the config, its routes, its own templates."""
+def _watch_paths(config) -> list:
+    """What a watched site is made of: every file its configuration reads, and its
+    templates."""
     from pathlib import Path
 
-    paths = [r.gpx for r in config.routes]
-    if config.source is not None:
-        paths.append(config.source)
+    paths = [Path(p) for p in config.inputs if Path(p).is_file()]
     if config.templates:
         paths.extend(p for p in Path(config.templates).rglob("*") if p.is_file())
-    state = []
-    for path in sorted(paths):
-        try:
-            st = path.stat()
-            state.append((str(path), st.st_mtime_ns, st.st_size))
-        except OSError:
-            state.append((str(path), None, None))
-    return tuple(state)
-
-
-def _watch(args, out, stop, seen) -> None:
-    """Rebuild the site whenever its files change from ``seen`` (taken before the first
-    build), until ``stop`` is set. A failed rebuild is reported and the last good site
-    stays served (builds are atomic)."""
-    from cardgen.build import build_site
-
-    while not stop.wait(1.0):
-        try:
-            config, _ = _site_config(args.watch)
-            now = _watched_files(config)
-            if now == seen:
-                continue
-            seen = now
-            print("change seen: rebuilding", file=sys.stderr, flush=True)
-            build_site(config, out, jobs=1, pdf=not args.no_pdf)
-            print(f"rebuilt {out}", file=sys.stderr, flush=True)
-        except (CardgenError, OSError) as exc:
-            print(f"cardgen: error: {exc}; still serving the last good site", file=sys.stderr, flush=True)
+    return paths
 
 
 def cmd_serve(args) -> int:
-    import functools
+    import ipaddress
     import threading
-    from http.server import SimpleHTTPRequestHandler, ThreadingHTTPServer
     from pathlib import Path
+
+    from cardgen.serve import PreviewServer, watch
 
     if args.watch is not None:
         from cardgen.build import build_site
 
         config, demo = _site_config(args.watch)
-        seen = _watched_files(config)  # before building: a change from now on is caught
+        paths = _watch_paths(config)  # before building: a change from now on is caught
         folder = Path(args.folder).resolve() if args.folder else config.output
         build_site(config, folder, jobs=1, pdf=not args.no_pdf)
     else:
         folder = Path(args.folder or "site").resolve()
     _ensure(folder.is_dir(), f"{folder}: no such folder; build the site first (cardgen build)")
-    handler = functools.partial(SimpleHTTPRequestHandler, directory=str(folder))
     try:
-        server = ThreadingHTTPServer(("127.0.0.1", args.port), handler)
-    except OSError as exc:
-        raise CardgenError(f"cannot listen on 127.0.0.1:{args.port} ({exc.strerror}); try --port") from None
+        server = PreviewServer((args.host, args.port), folder)
+    except (OSError, OverflowError) as exc:
+        raise CardgenError(
+            f"cannot listen on {args.host}:{args.port} ({getattr(exc, 'strerror', exc)}); "
+            "try another --port or --host"
+        ) from None
+    try:
+        local = ipaddress.ip_address(args.host).is_loopback
+    except ValueError:
+        local = args.host == "localhost"
+    if not local:
+        _print(
+            f"cardgen: warning: serving on {args.host}: anyone on that network can see the site",
+            file=sys.stderr,
+        )
     stop = threading.Event()
     if args.watch is not None:
-        threading.Thread(target=_watch, args=(args, folder, stop, seen), daemon=True).start()
-    print(f"serving {folder} at http://127.0.0.1:{server.server_address[1]}/ (Ctrl-C stops)", flush=True)
+
+        def say(text: str) -> None:
+            _print(text, file=sys.stderr, flush=True)
+
+        threading.Thread(
+            target=watch,
+            args=(
+                lambda: _site_config(args.watch)[0],
+                _watch_paths,
+                lambda c: build_site(c, folder, jobs=1, pdf=not args.no_pdf),
+                say,
+                stop,
+                paths,
+            ),
+            daemon=True,
+        ).start()
+    host, port = str(server.server_address[0]), server.server_address[1]
+    _print(f"serving {folder} at http://{host}:{port}/ (Ctrl-C stops)", flush=True)
     try:
         server.serve_forever()
     except KeyboardInterrupt:
@@ -451,13 +482,13 @@ def cmd_vehicles(args) -> int:
             )
         print(json.dumps(rows, indent=2))
         return 0
-    print(f"{'name':<16} {'wheels':>6} {'mass kg':>8} {'CdA m²':>7} {'Crr':>7} {'drive':>6}  description")
+    _print(f"{'name':<16} {'wheels':>6} {'mass kg':>8} {'CdA m²':>7} {'Crr':>7} {'drive':>6}  description")
     for v in library.values():
-        print(
+        _print(
             f"{v.name:<16} {v.wheels:>6} {v.mass:>8.0f} {v.cda:>7.2f} {v.crr:>7.4f} "
             f"{v.efficiency * 100:>5.1f}%  {v.label}"
         )
-    print("\nmass is vehicle + rider(s). Sources of every value: cardgen vehicles --json")
+    _print("\nmass is vehicle + rider(s). Sources of every value: cardgen vehicles --json")
     return 0
 
 
@@ -577,8 +608,8 @@ def build_parser() -> argparse.ArgumentParser:
 
     serve = sub.add_parser(
         "serve",
-        help="preview a built site on http://127.0.0.1",
-        description="Serve a built site on 127.0.0.1 for preview.",
+        help="preview a built site over HTTP (127.0.0.1 unless --host)",
+        description="Serve a built site for preview, on 127.0.0.1 unless --host says otherwise.",
     )
     serve.add_argument("folder", nargs="?", metavar="OUT", help="the built site (default: site)")
     serve.add_argument(
@@ -586,7 +617,13 @@ def build_parser() -> argparse.ArgumentParser:
         type=_ranged(0, 65535, "0: any free port"),
         default=8000,
         metavar="N",
-        help="port on 127.0.0.1 (0: any free)",
+        help="port to listen on (0: any free)",
+    )
+    serve.add_argument(
+        "--host",
+        default="127.0.0.1",
+        metavar="ADDRESS",
+        help="address to listen on (default 127.0.0.1; 0.0.0.0 shows the site to your network)",
     )
     serve.add_argument(
         "--watch",
@@ -619,16 +656,32 @@ def _ranged(low: int, high: int, what: str):
     return parse
 
 
+def _check_source_date_epoch() -> None:
+    """SOURCE_DATE_EPOCH (reproducible builds) must be whole seconds from 1970 to 9999;
+    anything else is ignored, with a warning, rather than crashing the plot writer."""
+    value = os.environ.get("SOURCE_DATE_EPOCH")
+    if value is None:
+        return
+    if not (value.strip().isdigit() and int(value) <= 253402300799):
+        _print(
+            f"cardgen: warning: SOURCE_DATE_EPOCH={value[:30]!r} is not whole seconds since 1970 "
+            "(up to the year 9999); ignored",
+            file=sys.stderr,
+        )
+        del os.environ["SOURCE_DATE_EPOCH"]
+
+
 def main(argv: list[str] | None = None) -> int:
     args = build_parser().parse_args(argv)
+    _check_source_date_epoch()
     try:
         return args.run(args)
     except CardgenError as exc:
-        print(f"cardgen: error: {exc}", file=sys.stderr)
+        _print(f"cardgen: error: {exc}", file=sys.stderr)
         return 1
     except OSError as exc:  # the machine's side: disk full, permissions, a vanished folder
         where = f"{exc.filename}: " if exc.filename else ""
-        print(
+        _print(
             f"cardgen: error: {where}{exc.strerror or exc}; nothing was published, the previous output is "
             "unchanged",
             file=sys.stderr,
@@ -638,5 +691,5 @@ def main(argv: list[str] | None = None) -> int:
         message = getattr(
             exc, "message", "interrupted; nothing was published, the previous output is unchanged"
         )
-        print(f"cardgen: {message}", file=sys.stderr)
+        _print(f"cardgen: {message}", file=sys.stderr)
         return 130

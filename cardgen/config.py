@@ -22,6 +22,10 @@ from cardgen.profiles.tables import read_toml
 from cardgen.profiles.vehicles import Vehicle, builtin_vehicles, find_vehicle
 
 CARD_SIZES = ("A5", "A4", "pocket")
+#: Years an event may be in: keeps every start, arrival and window a real date.
+EVENT_YEARS = (1900, 2200)
+#: Longest base_url: its QR code must stay readable on a card.
+MAX_URL_LENGTH = 200
 UNITS = ("metric", "imperial")
 #: Riders of a zero-config build (a folder of GPX files without site.toml).
 DEFAULT_RIDERS = (
@@ -37,7 +41,7 @@ class Spec:
     """One key of the schema: its kind, whether it must be given, its default, and for
     numbers the allowed range."""
 
-    kind: str  # "str", "bool", "number", "int", "choice", "list", "date", "time", "path", "vehicle"
+    kind: str  # "str", "bool", "number", "int", "choice", "list", "date", "time", "path", "vehicle", "url"
     required: bool = False
     default: Any = None
     limit: str = ""  # for numbers: the key of cardgen.profiles.limits.LIMITS with the range
@@ -57,7 +61,7 @@ SCHEMA = {
         "card_size": Spec("choice", default="A5", choices=CARD_SIZES),
         "large_print": Spec("bool", default=False),
         "output": Spec("str", default="site", help="output folder, relative to this file"),
-        "base_url": Spec("str", default="", help="the site's address, for QR codes on cards"),
+        "base_url": Spec("url", default="", help="the site's address, for QR codes on cards"),
         "templates": Spec("str", default="", help="a folder of templates that override cardgen's"),
     },
     "event": {
@@ -136,42 +140,45 @@ class SiteConfig:
     inputs: tuple[Path, ...] = field(default=())  # every file and folder the configuration reads
 
 
-def _line_of(text: str, key: str, section: str, index: int | None) -> int | None:
-    """Best-effort line number of ``key`` inside ``[section]`` (or the index-th
-    ``[[section]]``) of the TOML text."""
-    lines = text.splitlines()
-    header = re.compile(
-        r"^\s*\[\[\s*" + re.escape(section) + r"\s*\]\]"
-        if index is not None
-        else r"^\s*\[\s*" + re.escape(section) + r"\s*\]"
-    )
-    seen = -1
-    inside = False
-    for number, line in enumerate(lines, 1):
-        if re.match(r"^\s*\[", line):
-            inside = bool(header.match(line))
-            if inside and index is not None:
-                seen += 1
-                inside = seen == index
-            if inside and not key:
-                return number
+_HEADER = re.compile(r"^\s*(\[\[?)\s*([^\]]+?)\s*\]\]?")
+_KEY = re.compile(r"^\s*([A-Za-z0-9_\-]+)\s*=")
+
+
+def line_index(text: str) -> dict[tuple[str, int | None, str], int]:
+    """Line numbers of the TOML text's keys, by (section, index of a ``[[section]]``
+    or None, key); "" is the header's own line. One pass over the text."""
+    index: dict[tuple[str, int | None, str], int] = {}
+    counts: dict[str, int] = {}
+    section, number = "", None
+    for line_no, line in enumerate(text.splitlines(), 1):
+        header = _HEADER.match(line)
+        if header:
+            section = header.group(2)
+            if header.group(1) == "[[":
+                number = counts.get(section, -1) + 1
+                counts[section] = number
+            else:
+                number = None
+            index.setdefault((section, number, ""), line_no)
             continue
-        if inside and re.match(r"^\s*" + re.escape(key) + r"\s*=", line):
-            return number
-    return None
+        key = _KEY.match(line)
+        if key:
+            index.setdefault((section, number, key.group(1)), line_no)
+    return index
 
 
 class _Checker:
     def __init__(self, path: Path | None, text: str):
         self.path = path
         self.text = text
+        self.lines = line_index(text)
         self.problems: list[str] = []
         self.warnings: list[str] = []
         self.inputs: list[Path] = []
 
     def where(self, section: str, index: int | None, key: str) -> str:
         name = f"{section}[{index}].{key}" if index is not None else f"{section}.{key}"
-        line = _line_of(self.text, key, section, index) if self.text else None
+        line = self.lines.get((section, index, key))
         place = f"{self.path}" + (f", line {line}" if line else "") if self.path else "settings"
         return f"{place}: {name}"
 
@@ -234,13 +241,37 @@ class _Checker:
                 return None
             return tuple(raw)
         if kind == "date":
-            if isinstance(raw, date) and not isinstance(raw, datetime):
-                return raw
             try:
-                return date.fromisoformat(str(raw))
+                day = (
+                    raw
+                    if isinstance(raw, date) and not isinstance(raw, datetime)
+                    else date.fromisoformat(str(raw))
+                )
             except ValueError:
                 self.problems.append(f'{where} = {raw!r} is not a date like "2027-04-18"')
                 return None
+            if not EVENT_YEARS[0] <= day.year <= EVENT_YEARS[1]:
+                self.problems.append(
+                    f"{where} = {day.isoformat()} is outside the years "
+                    f"{EVENT_YEARS[0]}…{EVENT_YEARS[1]}; check the year"
+                )
+                return None
+            return day
+        if kind == "url":
+            if not isinstance(raw, str):
+                self.problems.append(f"{where} must be text in quotes, not {raw!r}")
+                return spec.default
+            if raw and (
+                not raw.lower().startswith(("http://", "https://"))
+                or len(raw) > MAX_URL_LENGTH
+                or any(c.isspace() or ord(c) < 32 for c in raw)
+            ):
+                self.problems.append(
+                    f"{where} must be an http:// or https:// address of at most "
+                    f'{MAX_URL_LENGTH} characters without spaces, like "https://example.org/rides"'
+                )
+                return spec.default
+            return raw
         if kind == "time":
             if isinstance(raw, time):
                 return raw

@@ -10,6 +10,19 @@ import time
 from pathlib import Path
 
 
+def cardgen_command() -> list[str]:
+    """The command that runs the cardgen these tests import: the installed ``cardgen``
+    script, or ``python -m cardgen`` when the suite runs against a checkout
+    (make check, with PYTHONPATH pointing at it)."""
+    import cardgen
+
+    here = Path(cardgen.__file__).resolve()
+    exe = Path(sys.executable).with_name("cardgen")
+    if "site-packages" in here.parts and exe.is_file():
+        return [str(exe)]
+    return [sys.executable, "-m", "cardgen"]
+
+
 def snapshot(folder: Path) -> dict:
     """Every file under ``folder`` by its SHA-256: equal snapshots are equal bytes."""
     return {
@@ -36,9 +49,8 @@ def wait_until_rendering(out: Path, timeout: float = 60.0) -> None:
 @contextlib.contextmanager
 def serving(*args: str):
     """Run ``cardgen serve ARGS --port 0``; yield its base URL; stop it afterwards."""
-    exe = Path(sys.executable).with_name("cardgen")
     proc = subprocess.Popen(
-        [str(exe), "serve", *args, "--port", "0"],
+        [*cardgen_command(), "serve", *args, "--port", "0"],
         stdout=subprocess.PIPE,
         stderr=subprocess.DEVNULL,
         text=True,

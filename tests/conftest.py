@@ -3,22 +3,15 @@
 from __future__ import annotations
 
 import json
-import os
-import shutil
 import subprocess
-import sys
 
 import pytest
+from buildkit import cardgen_command
 from hypothesis import settings
 
 # Reproducible property tests: the same examples on every machine and every run.
 settings.register_profile("cardgen", derandomize=True, deadline=None, max_examples=300)
 settings.load_profile("cardgen")
-
-
-def _cardgen_command() -> list[str]:
-    exe = shutil.which("cardgen", path=os.path.dirname(sys.executable))
-    return [exe] if exe else [sys.executable, "-m", "cardgen"]
 
 
 @pytest.fixture
@@ -27,7 +20,7 @@ def run_cli():
 
     def run(*args: str, cwd=None, parse_json: bool = False, timeout: float = 300):
         proc = subprocess.run(
-            [*_cardgen_command(), *args],
+            [*cardgen_command(), *args],
             capture_output=True,
             text=True,
             cwd=cwd,

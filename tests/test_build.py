@@ -5,12 +5,11 @@ import re
 import shutil
 import signal
 import subprocess
-import sys
 import time
 from pathlib import Path
 
 import pytest
-from buildkit import leftovers, serving, snapshot, wait_until_rendering
+from buildkit import cardgen_command, leftovers, serving, snapshot, wait_until_rendering
 
 from cardgen.build import BuildError, build_site
 from cardgen.build import pipeline as build_module
@@ -176,9 +175,8 @@ def test_sigkill_midway_keeps_the_previous_site_and_the_next_build_works(tmp_pat
     build_site(load_config(src / "site.toml"), out, jobs=1)
     before = snapshot(out)
     (src / "site.toml").write_text((src / "site.toml").read_text().replace("Small", "Changed"))
-    exe = Path(sys.executable).with_name("cardgen")
     proc = subprocess.Popen(
-        [str(exe), "build", str(src / "site.toml"), "-o", str(out), "--jobs", "1"],
+        [*cardgen_command(), "build", str(src / "site.toml"), "-o", str(out), "--jobs", "1"],
         stdout=subprocess.DEVNULL,
         stderr=subprocess.DEVNULL,
         start_new_session=True,

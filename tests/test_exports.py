@@ -32,7 +32,7 @@ def day_ride():
 
 def test_plan_json_holds_each_plans_numbers(day_ride):
     _, plans = day_ride
-    data = json.loads(exports.route_json_text("Day ride", plans))
+    data = json.loads(exports.plan_json_text("Day ride", plans))
     assert data["route"] == "Day ride" and len(data["plans"]) == 2
     for plan, entry in zip(plans, data["plans"], strict=True):
         assert entry["rider"]["vehicle"] == plan.rider.vehicle.name

@@ -8,11 +8,10 @@ import pathlib
 import shutil
 import signal
 import subprocess
-import sys
 from pathlib import Path
 
 import pytest
-from buildkit import leftovers, snapshot, wait_until_rendering
+from buildkit import cardgen_command, leftovers, snapshot, wait_until_rendering
 
 from cardgen.build import pipeline as build_module
 from cardgen.cli import main
@@ -98,9 +97,8 @@ def test_a_worker_process_dies(tmp_path, monkeypatch, capsys):
 def test_ctrl_c_during_rendering(tmp_path):
     src, out = _site(tmp_path)
     before = snapshot(out)
-    exe = Path(sys.executable).with_name("cardgen")
     proc = subprocess.Popen(
-        [str(exe), "build", str(src / "site.toml"), "-o", str(out), "--jobs", "1"],
+        [*cardgen_command(), "build", str(src / "site.toml"), "-o", str(out), "--jobs", "1"],
         stdout=subprocess.PIPE,
         stderr=subprocess.PIPE,
         text=True,

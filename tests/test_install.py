@@ -4,6 +4,7 @@ These tests read the installed distribution's own file list, so they check the
 install whether the suite runs against it or against a checkout (make check).
 """
 
+import sysconfig
 from importlib import metadata
 
 import pytest
@@ -12,11 +13,13 @@ pytestmark = pytest.mark.slow  # builds whole sites, fuzzes or checks the instal
 
 
 def _shipped() -> set[str]:
-    try:
-        files = metadata.files("cardgen")
-    except metadata.PackageNotFoundError:
+    """The files of the cardgen installed in this environment's site-packages (not a
+    checkout's egg-info, which a PYTHONPATH run would find first)."""
+    purelib = sysconfig.get_paths()["purelib"]
+    found = [d for d in metadata.distributions(path=[purelib]) if d.metadata["Name"] == "cardgen"]
+    if not found:
         pytest.fail("cardgen is not installed in this environment; run 'make test' (it installs it)")
-    return {f.as_posix() for f in files or ()}
+    return {f.as_posix() for f in found[0].files or ()}
 
 
 @pytest.mark.parametrize(

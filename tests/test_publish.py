@@ -10,7 +10,7 @@ import sys
 from pathlib import Path
 
 import pytest
-from buildkit import leftovers, snapshot
+from buildkit import cardgen_command, leftovers, snapshot
 
 from cardgen.build import publish as publish_module
 from cardgen.build.publish import OLD, recover, side_name
@@ -218,7 +218,6 @@ def test_killed_at_the_publishing_syscall_a_whole_site_stays(tmp_path, syscall, 
     assert _build(src, out) == 0
     old = snapshot(out)
     (src / "site.toml").write_text((src / "site.toml").read_text().replace('"T"', '"New"'))
-    exe = Path(sys.executable).with_name("cardgen")
     env = dict(os.environ)
     if syscall == "rename":  # the two-rename fallback: make the swap unavailable
         env["CARDGEN_NO_EXCHANGE"] = "1"
@@ -233,7 +232,7 @@ def test_killed_at_the_publishing_syscall_a_whole_site_stays(tmp_path, syscall, 
             f"trace={syscall}",
             "-e",
             f"inject={syscall}:signal=SIGKILL:when={when}",
-            str(exe),
+            *cardgen_command(),
             "build",
             str(src / "site.toml"),
             "-o",

@@ -5,6 +5,8 @@ from __future__ import annotations
 
 import hashlib
 import json
+import os
+import stat
 from pathlib import Path
 
 #: The manifest's name in a built site; its ``generator`` marks the folder as cardgen's.
@@ -21,6 +23,20 @@ def digest(*parts) -> str:
     return h.hexdigest()
 
 
+def file_digest(path: Path, limit: int) -> str:
+    """SHA-256 of a regular file read in chunks; a file over ``limit`` bytes, or one
+    that is not a regular file, is keyed by its size and time only (the reader refuses
+    it later with a clear message; nothing here reads it whole or waits on it)."""
+    st = os.stat(path)
+    if not stat.S_ISREG(st.st_mode) or st.st_size > limit:
+        return digest("not read", path, st.st_mode, st.st_size, st.st_mtime_ns)
+    h = hashlib.sha256()
+    with open(path, "rb") as handle:
+        while chunk := handle.read(1 << 20):
+            h.update(chunk)
+    return h.hexdigest()
+
+
 def templates_digest(folders: list[Path]) -> str:
     """SHA-256 of every template file (names and bytes) in ``folders``, in order."""
     h = hashlib.sha256()
@@ -31,7 +47,9 @@ def templates_digest(folders: list[Path]) -> str:
             for p in Path(folder).rglob("*")
             if p.is_file() and "__pycache__" not in p.parts and p.suffix != ".pyc"
         ):
-            h.update(str(path.relative_to(folder)).encode() + b"\0" + path.read_bytes() + b"\0")
+            h.update(
+                str(path.relative_to(folder)).encode() + b"\0" + file_digest(path, 1 << 24).encode() + b"\0"
+            )
     return h.hexdigest()
 
 

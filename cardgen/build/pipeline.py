@@ -20,11 +20,12 @@ from dataclasses import dataclass, field
 from pathlib import Path
 
 from cardgen import __version__
-from cardgen.build.cache import digest, read_manifest, templates_digest, write_manifest
+from cardgen.build.cache import digest, file_digest, read_manifest, templates_digest, write_manifest
 from cardgen.build.publish import TMP, BuildError, Lock, check_output, publish, recover, side_name
 from cardgen.config import SiteConfig, rider_start
 from cardgen.errors import CardgenError
 from cardgen.paths import default_templates
+from cardgen.route.gpx import MAX_FILE_BYTES
 
 
 class Interrupted(KeyboardInterrupt):
@@ -154,7 +155,12 @@ def _routes(config: SiteConfig, shared: str) -> list[_Route]:
         slug = slugify(rc.name or rc.gpx.stem, taken)
         riders = [(i, r) for i, r in enumerate(config.riders) if r.rides(rc, rc.name or rc.gpx.stem)]
         key = digest(
-            shared, rc.gpx.read_bytes(), rc.name, rc.notes, rc.checkpoints, *[(i, r.rider) for i, r in riders]
+            shared,
+            file_digest(rc.gpx, MAX_FILE_BYTES),
+            rc.name,
+            rc.notes,
+            rc.checkpoints,
+            *[(i, r.rider) for i, r in riders],
         )
         routes.append(_Route(rc, slug, key))
     return routes

@@ -144,7 +144,8 @@ def w_prime_balance_skiba(power: Floats, time: Floats, cp: float, w_prime: float
     Skiba et al. (2012), Med. Sci. Sports Exerc. 44:1526–1532.
     """
     p = np.asarray(power, dtype=float)
-    dt = np.asarray(time, dtype=float)
+    # an interval never completed (the rider stalled: infinite time) adds nothing
+    dt = np.nan_to_num(np.asarray(time, dtype=float), nan=0.0, posinf=0.0)
     below = p < cp
     if below.any() and dt[below].sum() > 0:
         d_cp = cp - np.sum(p[below] * dt[below]) / dt[below].sum()

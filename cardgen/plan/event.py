@@ -17,7 +17,7 @@ class CheckpointWindow:
     checkpoint: Checkpoint
     opens: datetime
     closes: datetime
-    arrivals: tuple[datetime, ...]  # one per plan, in the order given
+    arrivals: tuple[datetime | None, ...]  # one per plan, in the order given; None: never arrives
 
 
 def checkpoint_windows(
@@ -30,15 +30,17 @@ def checkpoint_windows(
     (windows, finish window).
     """
 
-    def at(plan: Plan, distance: float) -> datetime:
-        return start + timedelta(seconds=float(np.interp(distance, plan.terrain.distance, plan.ride.elapsed)))
+    def at(plan: Plan, distance: float) -> datetime | None:
+        seconds = float(np.interp(distance, plan.terrain.distance, plan.ride.elapsed))
+        return start + timedelta(seconds=seconds) if np.isfinite(seconds) else None
 
     def window(checkpoint: Checkpoint) -> CheckpointWindow:
         arrivals = tuple(at(p, checkpoint.distance) for p in plans)
+        reached = [a for a in arrivals if a is not None] or [start]  # none arrives: a window at the start
         return CheckpointWindow(
             checkpoint,
-            min(arrivals) - timedelta(seconds=margin),
-            max(arrivals) + timedelta(seconds=margin),
+            min(reached) - timedelta(seconds=margin),
+            max(reached) + timedelta(seconds=margin),
             arrivals,
         )
 

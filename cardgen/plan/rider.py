@@ -161,6 +161,9 @@ def make_plan(
     slow = (ride.mean_speed < vehicle.min_stable_speed) & (ride.rider_power > 0)
     battery = fits = None
     warnings = [Notice("track", "info", (("text", w),)) for w in route.warnings]
+    stalled = np.flatnonzero(~np.isfinite(ride.time))
+    if stalled.size:  # the speed reached zero: the rider cannot get past this point
+        warnings.append(Notice("stall", "warning", (("where", float(terrain.distance[stalled[0]])),)))
     if motor is not None:
         battery = battery_energy(motor, ride.motor_power, ride.time)
         fits = battery <= motor.usable_battery * (1.0 - BATTERY_RESERVE)
@@ -205,7 +208,11 @@ def _climb_row(
     time = float(np.sum(ride.time[segs]))
     speeds = ride.mean_speed[segs]
     slow = float(np.sum(speeds < vehicle.min_stable_speed) * terrain.step)
-    rider_power = float(np.sum(ride.rider_power[segs] * ride.time[segs]) / time)
+    finite = np.isfinite(ride.time[segs])  # a stalled rider never completes some segments
+    ridden = float(np.sum(ride.time[segs][finite]))
+    rider_power = (
+        float(np.sum(ride.rider_power[segs][finite] * ride.time[segs][finite]) / ridden) if ridden else 0.0
+    )
     w_low = float(np.min(wbal[segs]))
     before = float(wbal[climb.start - 1]) if climb.start > 0 else rider.w_prime
     warnings = []

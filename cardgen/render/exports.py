@@ -89,7 +89,7 @@ def plan_dict(plan) -> dict:
     }
 
 
-def route_json_text(route_name: str, plans) -> str:
+def plan_json_text(route_name: str, plans) -> str:
     """All riders' plans of one route as JSON text (stable key order)."""
     return (
         json.dumps(
@@ -102,10 +102,32 @@ def route_json_text(route_name: str, plans) -> str:
     )
 
 
+def csv_cell(value: object) -> object:
+    """Text that a spreadsheet would run as a formula (starting with = + - @, a tab or
+    a carriage return) gets a leading apostrophe, as the OWASP guidance on CSV
+    injection recommends; numbers (such as "-6.0") pass unchanged."""
+    if isinstance(value, str) and value.startswith(("=", "+", "-", "@", "\t", "\r")):
+        try:
+            float(value)
+        except ValueError:
+            return "'" + value
+    return value
+
+
+class _SafeWriter:
+    """csv.writer whose text cells cannot start a formula."""
+
+    def __init__(self, out: io.StringIO):
+        self._writer = csv.writer(out, lineterminator="\n")
+
+    def writerow(self, row: list) -> None:
+        self._writer.writerow([csv_cell(cell) for cell in row])
+
+
 def climbs_csv_text(plans) -> str:
     """One row per rider and climb."""
     out = io.StringIO()
-    writer = csv.writer(out, lineterminator="\n")
+    writer = _SafeWriter(out)
     writer.writerow(
         [
             "rider",

@@ -12,6 +12,7 @@ from pathlib import Path
 import jinja2
 import jinja2.sandbox
 
+from cardgen.errors import CardgenError
 from cardgen.paths import default_templates
 from cardgen.plan import Plan
 from cardgen.render import format as fmt
@@ -54,6 +55,32 @@ def slugify(text: str, taken: set[str] | None = None) -> str:
     return slug
 
 
+class ThemeLoader(jinja2.FileSystemLoader):
+    """Templates from the search path, never through a link that leads out of the
+    folder it was found in (a theme could otherwise publish any file it can read)."""
+
+    def get_source(self, environment: jinja2.Environment, template: str) -> tuple:
+        source, filename, uptodate = super().get_source(environment, template)
+        real = Path(filename).resolve()
+        if not any(Path(root).resolve() in real.parents for root in self.searchpath):
+            raise jinja2.TemplateNotFound(f"{template} (a link out of the theme folder, not followed)")
+        return source, filename, uptodate
+
+
+def theme_file(override: Path | None, name: str) -> Path:
+    """A theme's own file (e.g. style.css) if it has one inside its folder, else
+    cardgen's; a link out of the theme folder is refused with a clear error."""
+    if override is not None and (override / name).exists():
+        real = (override / name).resolve()
+        if Path(override).resolve() not in real.parents or not real.is_file():
+            raise CardgenError(
+                f"{override / name}: a link out of the theme folder; cardgen does not follow it. "
+                "Put the file itself in the theme folder"
+            )
+        return real
+    return default_templates() / name
+
+
 def environment(override: Path | None = None, units: str = "metric") -> jinja2.Environment:
     """Jinja2 with autoescape, StrictUndefined, the unit filters, and the search path
     ``override`` (a site's own templates) first, then cardgen's.
@@ -62,7 +89,7 @@ def environment(override: Path | None = None, units: str = "metric") -> jinja2.E
     values it is given but cannot reach Python's internals or run commands."""
     paths = ([str(override)] if override else []) + [str(default_templates())]
     env = jinja2.sandbox.SandboxedEnvironment(
-        loader=jinja2.FileSystemLoader(paths),
+        loader=ThemeLoader(paths),
         autoescape=True,
         undefined=jinja2.StrictUndefined,
         trim_blocks=True,

@@ -35,6 +35,10 @@ _WORDS: dict[str, Callable[[Notice, str], str]] = {
         f"{fmt.distance(n.value('where'), units)}: slow to "
         f"{fmt.speed(n.value('speed'), units)} or less"
     ),
+    "stall": lambda n, units: (
+        f"the rider cannot complete the route at this effort: the speed falls to zero near "
+        f"{fmt.distance(n.value('where'), units)}; plan more power, more assist, walking there, or a shorter route"
+    ),
     "battery": lambda n, units: (
         f"the assist would use about {fmt.battery(n.value('used'))} of the "
         f"{fmt.battery(n.value('usable'))} usable: more than leaves a "

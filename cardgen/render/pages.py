@@ -4,16 +4,22 @@ where the files go)."""
 
 from __future__ import annotations
 
+import contextlib
 import functools
+import traceback
+from collections.abc import Iterator
 from dataclasses import dataclass
 from datetime import UTC, datetime
 from pathlib import Path
 
+import jinja2
+
 from cardgen import __version__
+from cardgen.errors import CardgenError
 from cardgen.plan import Analysis, Plan, checkpoint_windows
 from cardgen.render import exports, plots
 from cardgen.render import format as fmt
-from cardgen.render.html import RiderView, environment, slugify, symbols_for
+from cardgen.render.html import RiderView, environment, slugify, symbols_for, theme_file
 
 #: File names of a route folder that a card may not take (a rider called "Coach"
 #: gets coach-2.pdf).
@@ -156,7 +162,7 @@ def _write_plots(config, job: RouteJob, folder: Path) -> dict:
 def _write_exports(config, job: RouteJob, plans: list[Plan], folder: Path) -> str:
     """plan.json, climbs.csv, route.gpx and the QR code; returns the QR's target URL."""
     analysis = job.analysis
-    (folder / "plan.json").write_text(exports.route_json_text(job.name, plans), encoding="utf-8")
+    (folder / "plan.json").write_text(exports.plan_json_text(job.name, plans), encoding="utf-8")
     (folder / "climbs.csv").write_text(exports.climbs_csv_text(plans), encoding="utf-8")
     (folder / "route.gpx").write_text(
         exports.route_gpx_text(analysis.track, analysis.terrain, analysis.climbs, job.checkpoints),
@@ -171,7 +177,29 @@ def _write_exports(config, job: RouteJob, plans: list[Plan], folder: Path) -> st
     return qr
 
 
+@contextlib.contextmanager
+def theme_errors(templates: Path | None) -> Iterator[None]:
+    """A mistake in a template becomes one CardgenError naming the file and line."""
+    try:
+        yield
+    except jinja2.TemplateSyntaxError as exc:
+        raise CardgenError(
+            f"{exc.filename or exc.name}, line {exc.lineno}: {exc.message}; fix the template"
+        ) from None
+    except jinja2.TemplateError as exc:
+        frames = [f for f in traceback.extract_tb(exc.__traceback__) if not f.filename.endswith(".py")]
+        where = f"{frames[-1].filename}, line {frames[-1].lineno}" if frames else f"templates in {templates}"
+        raise CardgenError(f"{where}: {exc.message or type(exc).__name__}; fix the template") from None
+
+
 def render_route(config, site: dict, job: RouteJob, folder: Path) -> tuple[dict, list[CardSource]]:
+    """Write a route's page, plots and exports into ``folder``; return its summary for
+    the index and the cards to print."""
+    with theme_errors(config.templates):
+        return _render_route(config, site, job, folder)
+
+
+def _render_route(config, site: dict, job: RouteJob, folder: Path) -> tuple[dict, list[CardSource]]:
     """Write a route's page, plots and exports into ``folder``; return its summary for
     the index and the cards to print."""
     env = _environment(config.templates, config.units)
@@ -256,6 +284,11 @@ def route_summary(job: RouteJob, views, units: str) -> dict:
 
 def render_index(config, site: dict, summaries: list[dict], folder: Path) -> None:
     """The site's index page and its style sheet."""
+    with theme_errors(config.templates):
+        _render_index(config, site, summaries, folder)
+
+
+def _render_index(config, site: dict, summaries: list[dict], folder: Path) -> None:
     env = _environment(config.templates, config.units)
     rider_names = [r.rider.name for r in config.riders]
     (folder / "index.html").write_text(
@@ -264,6 +297,4 @@ def render_index(config, site: dict, summaries: list[dict], folder: Path) -> Non
         ),
         encoding="utf-8",
     )
-    own = config.templates / "style.css" if config.templates else None
-    css = own if own is not None and own.is_file() else Path(env.loader.searchpath[-1]) / "style.css"
-    (folder / "style.css").write_bytes(css.read_bytes())
+    (folder / "style.css").write_bytes(theme_file(config.templates, "style.css").read_bytes())

@@ -10,6 +10,8 @@ PLoS ONE 13(7):e0199239) for grade.
 from __future__ import annotations
 
 import io
+import logging
+import warnings
 
 import numpy as np
 
@@ -33,6 +35,15 @@ def _svg(fig) -> str:
     import matplotlib
 
     buffer = io.StringIO()
+    # A name with a character the font lacks draws a box; that is no reason to write
+    # to the terminal (and the alt text and tables carry the name anyway).
+    logging.getLogger("matplotlib").setLevel(logging.ERROR)
+    with warnings.catch_warnings():
+        warnings.filterwarnings("ignore", message="Glyph .* missing from", category=UserWarning)
+        return _savefig(fig, buffer, matplotlib)
+
+
+def _savefig(fig, buffer: io.StringIO, matplotlib) -> str:
     with matplotlib.rc_context(
         {"svg.hashsalt": "cardgen", "svg.fonttype": "none", "font.family": "DejaVu Sans"}
     ):

@@ -145,9 +145,9 @@ def _find(
         length = (end - start) * step
         if height < min_gain or height / length < min_avg_grade:
             continue
-        kk = min(k, end - start)
-        window = e[start + kk : end + 1] - e[start : end + 1 - kk]
-        steepest = float(window.max() / (kk * step))
+        pitch_steps = min(k, end - start)
+        window = e[start + pitch_steps : end + 1] - e[start : end + 1 - pitch_steps]
+        steepest = float(window.max() / (pitch_steps * step))
         top = float(terrain.elevation[start : end + 1].max())
         hills.append(
             dict(

@@ -31,6 +31,14 @@ from cardgen.units import Floats
 MAX_FILE_BYTES = 100 * 1024 * 1024
 #: Most points read from one file (track + route + waypoints).
 MAX_POINTS = 2_000_000
+#: Most waypoints and named route points: a cue sheet of more is no use on a card, and
+#: placing each on the route costs time.
+MAX_NAMED_POINTS = 2_000
+#: Longest run of bytes inside one tag or between two tags: expat's time grows with
+#: the square of a single token's length, and no GPX field needs more.
+MAX_TOKEN_BYTES = 1 << 20
+#: Character encodings read (those expat decodes itself); anything else is refused.
+ENCODINGS = ("utf-8", "utf8", "utf-16", "utf16", "us-ascii", "ascii", "iso-8859-1", "latin-1", "latin1")
 #: Elevations outside this range [m] are treated as missing (the Dead Sea shore is
 #: at −430 m, the highest paved roads near 5,800 m).
 ELEVATION_RANGE = (-500.0, 9000.0)
@@ -141,6 +149,14 @@ def _check_prolog(path: Path, where: str) -> str:
         found["root"] = name
         raise _Prolog
 
+    def declaration(_version: Any, encoding: str | None, _standalone: Any) -> None:
+        if encoding is not None and encoding.strip().lower() not in ENCODINGS:
+            raise GpxError(
+                f"{where}: the file declares the encoding {encoding[:40]!r}; cardgen reads GPX in "
+                "UTF-8, UTF-16, ASCII or ISO-8859-1: save it as UTF-8"
+            )
+
+    parser.XmlDeclHandler = declaration
     parser.StartDoctypeDeclHandler = doctype
     parser.EntityDeclHandler = doctype
     parser.StartElementHandler = start
@@ -163,6 +179,30 @@ def _check_prolog(path: Path, where: str) -> str:
             "well-formed (is the file truncated, or not GPX?)"
         ) from None
     raise GpxError(f"{where}: no XML element in the file; is it a GPX file?")
+
+
+def _check_tokens(path: Path, where: str) -> None:
+    """Refuse a file with a run of more than :data:`MAX_TOKEN_BYTES` bytes without a
+    "<" or ">" (one huge attribute, name or text), before the XML parser meets it."""
+    gap = 0  # bytes since the last delimiter, carried across chunks
+    with open(path, "rb") as handle:
+        while chunk := handle.read(1 << 22):
+            marks = np.flatnonzero((np.frombuffer(chunk, dtype=np.uint8) | 2) == ord(">"))  # '<' or '>'
+            if marks.size == 0:
+                gap += len(chunk)
+            else:
+                inner = np.diff(marks).max(initial=0)
+                gap = max(gap + int(marks[0]), int(inner))
+                if gap > MAX_TOKEN_BYTES:
+                    break
+                gap = len(chunk) - 1 - int(marks[-1])
+            if gap > MAX_TOKEN_BYTES:
+                break
+    if gap > MAX_TOKEN_BYTES:
+        raise GpxError(
+            f"{where}: one tag or text runs over {MAX_TOKEN_BYTES >> 20} MiB without a break; no GPX "
+            "field is that long: the file is damaged or not a route"
+        )
 
 
 def _children_text(elem: Any) -> Any:
@@ -251,6 +291,8 @@ def read_gpx(path: str | os.PathLike[str]) -> Track:  # noqa: C901
         )
 
     ns = _check_prolog(path, where)
+    if size > MAX_TOKEN_BYTES:
+        _check_tokens(path, where)
     track, route = _Points(), _Points()
     waypoints: list[Waypoint] = []
     route_points: list[Waypoint] = []
@@ -311,7 +353,7 @@ def read_gpx(path: str | os.PathLike[str]) -> Track:  # noqa: C901
                     tracks += name == "trk"
                     names[name] = names[name] or _text(elem, "name")
                     elem.clear()
-                if len(route.lat) + len(waypoints) > MAX_POINTS:
+                if len(route.lat) + len(waypoints) > MAX_POINTS or len(waypoints) > MAX_NAMED_POINTS:
                     break
     except ParseError as exc:
         line, column = getattr(exc, "position", (0, 0))
@@ -323,6 +365,11 @@ def read_gpx(path: str | os.PathLike[str]) -> Track:  # noqa: C901
         raise GpxError(f"{where}: cannot read the file ({exc.strerror})") from None
     if max(len(track.lat), len(route.lat) + len(waypoints)) > MAX_POINTS:
         raise GpxError(f"{where}: more than {MAX_POINTS:,} points; split the route or thin its points")
+    if len(waypoints) + len(route_points) > MAX_NAMED_POINTS:
+        raise GpxError(
+            f"{where}: more than {MAX_NAMED_POINTS:,} waypoints and named route points; a card's cue sheet "
+            "cannot hold them: keep the ones riders need"
+        )
 
     use, source = (track, "track") if track.lat else (route, "route")
     label = "trackpoint" if source == "track" else "route point"

@@ -219,7 +219,65 @@ CASES = {
         ("ok", ""),
         "numbers written with exponents",
     ),
+    "encoding-shift_jis": (
+        _track(_points()).replace('encoding="UTF-8"', 'encoding="Shift_JIS"'),
+        ("error", "declares the encoding"),
+        "an XML declaration naming the Shift_JIS encoding (only UTF-8/16, ASCII and Latin-1 are read)",
+    ),
+    "encoding-utf-7": (
+        _track(_points()).replace('encoding="UTF-8"', 'encoding="UTF-7"'),
+        ("error", "declares the encoding"),
+        "an XML declaration naming the UTF-7 encoding (only UTF-8/16, ASCII and Latin-1 are read)",
+    ),
+    "encoding-big5": (
+        _track(_points()).replace('encoding="UTF-8"', 'encoding="big5"'),
+        ("error", "declares the encoding"),
+        "an XML declaration naming the big5 encoding (only UTF-8/16, ASCII and Latin-1 are read)",
+    ),
+    "encoding-rot13": (
+        _track(_points()).replace('encoding="UTF-8"', 'encoding="rot13"'),
+        ("error", "declares the encoding"),
+        "an XML declaration naming the rot13 encoding (only UTF-8/16, ASCII and Latin-1 are read)",
+    ),
+    "encoding-base64": (
+        _track(_points()).replace('encoding="UTF-8"', 'encoding="base64"'),
+        ("error", "declares the encoding"),
+        "an XML declaration naming the base64 encoding (only UTF-8/16, ASCII and Latin-1 are read)",
+    ),
+    "encoding-zlib": (
+        _track(_points()).replace('encoding="UTF-8"', 'encoding="zlib"'),
+        ("error", "declares the encoding"),
+        "an XML declaration naming the zlib encoding (only UTF-8/16, ASCII and Latin-1 are read)",
+    ),
+    "encoding-hex": (
+        _track(_points()).replace('encoding="UTF-8"', 'encoding="hex"'),
+        ("error", "declares the encoding"),
+        "an XML declaration naming the hex encoding (only UTF-8/16, ASCII and Latin-1 are read)",
+    ),
+    "encoding-punycode": (
+        _track(_points()).replace('encoding="UTF-8"', 'encoding="punycode"'),
+        ("error", "declares the encoding"),
+        "an XML declaration naming the punycode encoding (only UTF-8/16, ASCII and Latin-1 are read)",
+    ),
+    "huge-attribute": (
+        lambda path: _huge_token(path),
+        ("error", "runs over 1 MiB without a break"),
+        "a 3 MiB waypoint name (the XML parser is quadratic in one token's length)",
+    ),
+    "too-many-waypoints": (
+        _track(
+            _points(),
+            extra="".join(f'<wpt lat="-40.5" lon="-140.3"><name>w{i}</name></wpt>' for i in range(2100)),
+        ),
+        ("error", "more than 2,000 waypoints"),
+        "2,100 waypoints (a cue sheet cannot hold them)",
+    ),
 }
+
+
+def _huge_token(path: Path) -> None:
+    name = "x" * (3 << 20)
+    path.write_text(_track(_points(), extra=f'<wpt lat="-40.5" lon="-140.3"><name>{name}</name></wpt>'))
 
 
 def _sparse(path: Path) -> None:

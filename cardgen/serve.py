@@ -1,0 +1,116 @@
+"""Previewing a built site over HTTP, and rebuilding it when its files change.
+
+Only the site's own files are served: a path with a NUL byte is a bad request, and a
+link that leads out of the site is not found. Idle connections time out, the number
+served at once is bounded, and a client that goes away is not an error.
+"""
+
+from __future__ import annotations
+
+import threading
+import urllib.parse
+from collections.abc import Callable
+from http.server import SimpleHTTPRequestHandler, ThreadingHTTPServer
+from pathlib import Path
+from typing import Any
+
+#: Seconds a connection may stay idle (a half-sent request is dropped after this).
+IDLE_SECONDS = 20
+#: Connections served at once; more are closed at once.
+MAX_CONNECTIONS = 32
+
+
+class SiteHandler(SimpleHTTPRequestHandler):
+    """Serves the files under ``directory`` and nothing else."""
+
+    timeout = IDLE_SECONDS
+
+    def send_head(self) -> Any:
+        raw = urllib.parse.unquote(self.path.split("?", 1)[0].split("#", 1)[0])
+        if "\x00" in raw:
+            self.send_error(400, "bad path")
+            return None
+        root = Path(self.directory).resolve()
+        real = Path(self.translate_path(self.path)).resolve()
+        if real != root and root not in real.parents:
+            self.send_error(404, "not found")
+            return None
+        return super().send_head()
+
+    def log_message(self, format: str, *args: Any) -> None:  # noqa: A002 (the base class's name)
+        """Quiet: a preview server has no log to keep."""
+
+    def handle(self) -> None:
+        try:
+            super().handle()
+        except (ConnectionError, TimeoutError):
+            pass  # the browser went away or stalled: nothing to report
+
+
+class PreviewServer(ThreadingHTTPServer):
+    """A threading server with a bound on connections served at once."""
+
+    daemon_threads = True
+
+    def __init__(self, address: tuple[str, int], folder: Path):
+        self._slots = threading.BoundedSemaphore(MAX_CONNECTIONS)
+        super().__init__(address, lambda *a: SiteHandler(*a, directory=str(folder)))
+
+    def process_request(self, request: Any, client_address: Any) -> None:
+        if not self._slots.acquire(blocking=False):
+            self.shutdown_request(request)
+            return
+        super().process_request(request, client_address)
+
+    def process_request_thread(self, request: Any, client_address: Any) -> None:
+        try:
+            super().process_request_thread(request, client_address)
+        finally:
+            self._slots.release()
+
+    def handle_error(self, request: Any, client_address: Any) -> None:
+        """Errors are the handler's to report; nothing is printed per request."""
+
+
+def file_state(paths: list[Path]) -> tuple:
+    """(path, modification time, size) of each path; None where it cannot be read."""
+    state: list[tuple[str, int | None, int | None]] = []
+    for path in sorted(paths):
+        try:
+            st = path.stat()
+            state.append((str(path), st.st_mtime_ns, st.st_size))
+        except OSError:
+            state.append((str(path), None, None))
+    return tuple(state)
+
+
+def watch(
+    load: Callable[[], Any],
+    inputs: Callable[[Any], list[Path]],
+    rebuild: Callable[[Any], None],
+    say: Callable[[str], None],
+    stop: threading.Event,
+    paths: list[Path],
+    interval: float = 1.0,
+) -> None:
+    """Until ``stop`` is set: when a file of ``paths`` changes, ``load`` the
+    configuration again and ``rebuild``; the paths then follow the configuration.
+
+    Only file times are polled; the configuration is read again only on a change.
+    Each failure is reported once per change, whatever its kind, and the watch goes on
+    (the last good site stays served: builds are atomic)."""
+    seen = file_state(paths)
+    while not stop.wait(interval):
+        now = file_state(paths)
+        if now == seen:
+            continue
+        seen = now
+        try:
+            config = load()
+            paths = inputs(config)
+            seen = file_state(paths)
+            say("change seen: rebuilding")
+            rebuild(config)
+            say("rebuilt")
+        except Exception as exc:  # noqa: BLE001 - any failure: report once, keep watching
+            say(f"cardgen: error: {exc}; still serving the last good site")

@@ -1,0 +1,338 @@
+"""Hostile and careless input beyond GPX files: site configurations, themes, names,
+the environment, and the preview server. Each case is a row of the second table in
+tests/hostile/README.md (a test below checks the table names every case here)."""
+
+from __future__ import annotations
+
+import csv
+import io
+import json
+import os
+import shutil
+import socket
+import threading
+import time
+import urllib.error
+import urllib.request
+from pathlib import Path
+
+import pytest
+from buildkit import serving
+
+from cardgen.cli import main
+from cardgen.serve import file_state, watch
+
+pytestmark = pytest.mark.slow  # builds small sites
+
+SAMPLES = Path(__file__).resolve().parents[1] / "sample_routes"
+RIDER = '[[riders]]\nname = "A"\nvehicle = "road-hoods"\n'
+
+
+def _src(tmp_path: Path, riders: str = RIDER, site: str = "", event: str = "") -> Path:
+    src = tmp_path / "src"
+    src.mkdir(exist_ok=True)
+    shutil.copy(SAMPLES / "riverside-loop.gpx", src)
+    text = f'[site]\ntitle = "T"\n{site}' + (f"[event]\n{event}" if event else "")
+    (src / "site.toml").write_text(
+        text + '[[routes]]\ngpx = "riverside-loop.gpx"\n' + riders, encoding="utf-8"
+    )
+    return src
+
+
+def _run(*args: str) -> int:
+    return main([*args])
+
+
+def _one_line_error(capsys, code: int, *words: str) -> str:
+    err = capsys.readouterr().err
+    assert code == 1, err
+    assert "Traceback" not in err
+    for word in words:
+        assert word in err, err
+    return err
+
+
+# --- the table of cases (kept in step with tests/hostile/README.md) ----------------
+CASES = {
+    "csv-formula-names": "riders named =HYPERLINK(…), +cmd|…, @SUM(…), -2+3: neutralised in climbs.csv",
+    "base-url-javascript": "base_url = javascript:…: refused in check",
+    "base-url-3000-chars": "a 3,000-character base_url: refused in check",
+    "event-year-9999": "an event on 9999-12-31 at 23:00: refused (years 1900…2200)",
+    "event-year-1": "an event on 0001-01-01: refused",
+    "huge-integer": "cp_w with 400 digits: one message, no overflow",
+    "site-as-array": "[[site]] instead of [site]: one message",
+    "riders-not-tables": "riders = [0]: one message",
+    "vehicle-sources-number": "a vehicle profile with sources = 5: one message",
+    "vehicle-motor-list": 'a vehicle profile with motor = ["x"]: one message',
+    "vehicle-base-list": 'a vehicle profile with base = ["x"]: one message',
+    "config-is-fifo": "site.toml is a FIFO: refused before reading, no hang",
+    "vehicle-is-dev-zero": "a vehicle profile that is /dev/zero: refused before reading",
+    "theme-css-symlink": "a theme's style.css linking to a file outside the theme: refused",
+    "theme-include-symlink": "{% include %} of a template linking outside the theme: refused",
+    "theme-python-escape": "a theme reaching Python internals (__class__.__mro__): stopped by the sandbox",
+    "theme-syntax-error": "a theme template with a syntax error: one line with file and line",
+    "theme-undefined-name": "a theme template using an undefined name: one line with the file",
+    "source-date-epoch-text": "SOURCE_DATE_EPOCH=abc or huge: ignored with a warning",
+    "math-in-names": "names with $…$ and \\sqrt{ in plots: drawn literally, no traceback",
+    "underscore-name-in-legend": "a rider named _hidden stays in the power chart's legend",
+    "control-characters": "escape sequences in names are not written raw to the terminal",
+    "too-weak-rider": "a rider too weak to finish: a warning where, valid JSON, no overflow with a start",
+    "serve-nul-byte": "serve: %00 in the path answers 400",
+    "serve-symlink-out": "serve: a link out of the site answers 404",
+    "serve-disconnect": "serve: clients that hang up print nothing",
+    "watch-unexpected-error": "serve --watch: any error is reported once and the watch goes on",
+    "watch-polls-times-only": "serve --watch: the configuration is read again only when a file changes",
+    "check-10000-riders": "check of 10,000 riders: linear (line numbers indexed once)",
+}
+
+
+def test_the_readme_table_lists_every_case():
+    readme = (Path(__file__).parent / "hostile" / "README.md").read_text(encoding="utf-8")
+    for name, what in CASES.items():
+        assert f"| `{name}` | {what} |" in readme, name
+
+
+# --- the cases --------------------------------------------------------------------
+
+
+def _riders(names: list[str]) -> str:
+    """[[riders]] tables for these names (JSON strings are valid TOML strings)."""
+    return "".join(f'[[riders]]\nname = {json.dumps(n)}\nvehicle = "road-hoods"\n' for n in names)
+
+
+def test_csv_formula_names(tmp_path):
+    names = ['=HYPERLINK("http://x")', "+cmd|' /C calc'!A0", "@SUM(1+1)", "-2+3"]
+    src = _src(tmp_path, riders=_riders(names))
+    shutil.copy(SAMPLES / "hill-loop.gpx", src / "riverside-loop.gpx")  # a route with a climb
+    out = tmp_path / "site"
+    assert _run("build", str(src / "site.toml"), "-o", str(out), "--no-pdf", "--jobs", "1") == 0
+    rows = list(csv.reader(io.StringIO((out / "riverside-loop" / "climbs.csv").read_text())))[1:]
+    cells = {row[0] for row in rows}
+    assert cells == {"'" + n for n in names}, cells
+    assert all(not row[3].startswith("'") for row in rows)  # numbers stay numbers
+
+
+@pytest.mark.parametrize("url", ["javascript:alert(1)", "https://example.org/" + "x" * 3000])
+def test_base_url(tmp_path, capsys, url):
+    src = _src(tmp_path, site=f'base_url = "{url}"\n')
+    _one_line_error(capsys, _run("check", str(src / "site.toml")), "base_url", "http")
+
+
+@pytest.mark.parametrize(("day", "clock"), [("9999-12-31", "23:00"), ("0001-01-01", "00:05")])
+def test_event_years(tmp_path, capsys, day, clock):
+    src = _src(tmp_path, event=f'date = "{day}"\nstart = "{clock}"\ncheckpoint_margin_min = 30\n')
+    _one_line_error(capsys, _run("check", str(src / "site.toml")), "event.date", "1900")
+
+
+@pytest.mark.parametrize(
+    ("text", "words"),
+    [
+        ('[[riders]]\nname = "A"\nvehicle = "road-hoods"\ncp_w = ' + "9" * 400 + "\n", ("cp_w", "finite")),
+        ("[[site]]\ntitle = 'x'\n" + RIDER, ("site must be a [site] table",)),
+        ("riders = [0]\n", ("riders",)),
+    ],
+)
+def test_config_shapes(tmp_path, capsys, text, words):
+    src = _src(tmp_path, riders="")
+    base = (src / "site.toml").read_text().replace('[site]\ntitle = "T"\n', "")
+    (src / "site.toml").write_text(text + base if text.startswith(("[[site]]", "riders")) else base + text)
+    _one_line_error(capsys, _run("check", str(src / "site.toml")), *words)
+
+
+@pytest.mark.parametrize(
+    ("profile", "word"),
+    [
+        ('[mine]\nbase = "road-hoods"\nsources = 5\n', "sources"),
+        ('[mine]\nbase = "road-hoods"\nmotor = ["x"]\n', "motor"),
+        ('[mine]\nbase = ["x"]\n', "base"),
+    ],
+)
+def test_vehicle_profile_shapes(tmp_path, capsys, profile, word):
+    (tmp_path / "mine.toml").write_text(profile)
+    code = _run("solve", "--vehicle", str(tmp_path / "mine.toml"), "--power", "100")
+    _one_line_error(capsys, code, "mine.toml", word)
+
+
+def test_config_is_a_fifo(tmp_path, capsys):
+    fifo = tmp_path / "site.toml"
+    os.mkfifo(fifo)
+    _one_line_error(capsys, _run("check", str(fifo)), "not a regular file")
+
+
+def test_vehicle_is_dev_zero(tmp_path, capsys):
+    src = _src(tmp_path, riders='[[riders]]\nname = "A"\nvehicle = "zero.toml"\n')
+    (src / "zero.toml").symlink_to("/dev/zero")
+    _one_line_error(capsys, _run("check", str(src / "site.toml")), "not a regular file")
+
+
+def _theme(src: Path) -> Path:
+    theme = src / "theme"
+    theme.mkdir()
+    (src / "site.toml").write_text(
+        (src / "site.toml").read_text().replace('title = "T"\n', 'title = "T"\ntemplates = "theme"\n')
+    )
+    return theme
+
+
+def test_theme_css_symlink(tmp_path, capsys):
+    src = _src(tmp_path)
+    (_theme(src) / "style.css").symlink_to("/etc/passwd")
+    out = tmp_path / "site"
+    _one_line_error(
+        capsys, _run("build", str(src / "site.toml"), "-o", str(out), "--no-pdf"), "link out of the theme"
+    )
+    assert not out.exists()
+
+
+def test_theme_include_symlink(tmp_path, capsys):
+    src = _src(tmp_path)
+    theme = _theme(src)
+    (theme / "leak.txt").symlink_to("/etc/passwd")
+    index = (Path(__file__).resolve().parents[1] / "templates" / "index.html").read_text()
+    (theme / "index.html").write_text(index.replace("<h1>", "{% include 'leak.txt' %}<h1>", 1))
+    out = tmp_path / "site"
+    code = _run("build", str(src / "site.toml"), "-o", str(out), "--no-pdf")
+    _one_line_error(capsys, code, "leak.txt")
+    assert not out.exists()
+
+
+def test_theme_python_escape(tmp_path, capsys):
+    src = _src(tmp_path)
+    theme = _theme(src)
+    index = (Path(__file__).resolve().parents[1] / "templates" / "index.html").read_text()
+    (theme / "index.html").write_text(
+        index.replace("<h1>", "{{ ''.__class__.__mro__[1].__subclasses__() }}<h1>", 1)
+    )
+    code = _run("build", str(src / "site.toml"), "-o", str(tmp_path / "site"), "--no-pdf")
+    err = _one_line_error(capsys, code, "index.html")
+    assert "unsafe" in err or "__class__" in err
+
+
+@pytest.mark.parametrize(
+    ("body", "words"),
+    [("{% if %}", ("index.html", "line")), ("{{ no_such_name }}", ("index.html", "no_such_name"))],
+)
+def test_theme_template_mistakes(tmp_path, capsys, body, words):
+    src = _src(tmp_path)
+    theme = _theme(src)
+    (theme / "index.html").write_text("<!DOCTYPE html>\n<p>\n" + body + "\n")
+    code = _run("build", str(src / "site.toml"), "-o", str(tmp_path / "site"), "--no-pdf")
+    _one_line_error(capsys, code, *words)
+
+
+@pytest.mark.parametrize("value", ["abc", "9" * 40])
+def test_source_date_epoch(tmp_path, capsys, monkeypatch, value):
+    monkeypatch.setenv("SOURCE_DATE_EPOCH", value)
+    src = _src(tmp_path)
+    assert _run("build", str(src / "site.toml"), "-o", str(tmp_path / "site"), "--no-pdf", "--jobs", "1") == 0
+    assert "SOURCE_DATE_EPOCH" in capsys.readouterr().err
+
+
+def test_math_and_underscore_names_in_plots(tmp_path, capsys):
+    names = [r"$\sqrt{\sqrt{x}}$", "a $5 and $6 ride", "_hidden"]
+    src = _src(tmp_path, riders=_riders(names))
+    shutil.copy(SAMPLES / "hill-loop.gpx", src / "riverside-loop.gpx")
+    out = tmp_path / "site"
+    assert _run("build", str(src / "site.toml"), "-o", str(out), "--no-pdf", "--jobs", "1") == 0
+    svg = (out / "riverside-loop" / "power.svg").read_text()
+    assert "a $5 and $6 ride" in svg and "_hidden" in svg and r"\sqrt" in svg
+    assert "Traceback" not in capsys.readouterr().err
+
+
+def test_control_characters_are_not_written_raw(tmp_path, capsys):
+    src = _src(tmp_path, riders=_riders(["Rider \x1b[31mRED\x1b[0m \u202eevil"]))
+    assert _run("check", str(src / "site.toml")) == 0
+    out = capsys.readouterr().out
+    assert "\x1b" not in out and "\u202e" not in out and "RED" in out
+
+
+def test_too_weak_rider(tmp_path, capsys):
+    assert _run("route", str(SAMPLES / "hill-loop.gpx"), "--power", "1", "--json") == 0
+    data = json.loads(capsys.readouterr().out)  # valid JSON: no Infinity
+    assert data["totals"]["time_s"] is None
+    assert _run("route", str(SAMPLES / "hill-loop.gpx"), "--power", "1") == 0
+    assert "cannot complete the route" in capsys.readouterr().out
+    riders = '[[riders]]\nname = "Weak"\nvehicle = "road-hoods"\ncp_w = 10\nflat_w = 1\n'
+    src = _src(tmp_path, riders=riders, event='date = "2027-04-18"\nstart = "08:00"\n')
+    shutil.copy(SAMPLES / "hill-loop.gpx", src / "riverside-loop.gpx")
+    out = tmp_path / "site"
+    assert _run("build", str(src / "site.toml"), "-o", str(out), "--no-pdf", "--jobs", "1") == 0
+    assert "cannot complete the route" in (out / "riverside-loop" / "plan.json").read_text()
+
+
+@pytest.fixture(scope="module")
+def served(tmp_path_factory):
+    folder = tmp_path_factory.mktemp("served")
+    src = _src(folder)
+    out = folder / "site"
+    assert main(["build", str(src / "site.toml"), "-o", str(out), "--no-pdf", "--jobs", "1"]) == 0
+    (out / "outside").symlink_to("/etc")
+    (out / "passwd").symlink_to("/etc/passwd")
+    with serving(str(out)) as url:
+        yield url
+
+
+def _status(url: str) -> int:
+    try:
+        with urllib.request.urlopen(url, timeout=10) as response:
+            return response.status
+    except urllib.error.HTTPError as exc:
+        return exc.code
+
+
+def test_serve_nul_byte(served):
+    assert _status(served + "index.html%00") == 400
+
+
+def test_serve_symlink_out(served):
+    assert _status(served + "passwd") == 404
+    assert _status(served + "outside/passwd") == 404
+    assert _status(served + "index.html") == 200
+
+
+def test_serve_disconnect(served):
+    host, port = served.split("//")[1].rstrip("/").split(":")
+    for _ in range(20):  # hang up mid-request, and mid-response
+        with socket.create_connection((host, int(port)), timeout=5) as s:
+            s.sendall(b"GET /index.html HTTP/1.1\r\nHost: x\r\n\r\n")
+    assert _status(served + "index.html") == 200
+
+
+def test_watch_unexpected_error_and_polls_times_only(tmp_path):
+    path = tmp_path / "site.toml"
+    path.write_text("a")
+    loads, said = [], []
+    stop = threading.Event()
+
+    def load():
+        loads.append(1)
+        if len(loads) == 1:
+            raise RuntimeError("something no one expected")
+        return "config"
+
+    thread = threading.Thread(
+        target=watch,
+        args=(load, lambda c: [path], lambda c: None, said.append, stop, [path], 0.05),
+        daemon=True,
+    )
+    thread.start()
+    time.sleep(0.3)
+    assert loads == []  # nothing changed: the configuration was not read again
+    path.write_text("bb")
+    time.sleep(0.3)
+    path.write_text("ccc")
+    time.sleep(0.3)
+    stop.set()
+    thread.join(5)
+    assert len(loads) == 2  # once per change
+    assert sum("something no one expected" in s for s in said) == 1
+    assert "rebuilt" in said
+    assert file_state([tmp_path / "missing"]) == ((str(tmp_path / "missing"), None, None),)
+
+
+def test_check_10000_riders(tmp_path, capsys):
+    riders = "".join(
+        f'[[riders]]\nname = "R{i}"\nvehicle = "road-hoods"\ncp_w = {200 + i % 50}\n' for i in range(10000)
+    )
+    src = _src(tmp_path, riders=riders + "[[riders]]\nname = 'bad'\nvehicle = 'road-hoods'\ncp_w = 5000\n")
+    _one_line_error(capsys, _run("check", str(src / "site.toml")), "line 40008")
