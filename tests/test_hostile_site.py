@@ -17,7 +17,7 @@ import urllib.request
 from pathlib import Path
 
 import pytest
-from buildkit import serving
+from buildkit import serving, snapshot
 
 from cardgen.cli import main
 from cardgen.serve import file_state, watch
@@ -80,6 +80,8 @@ CASES = {
     "serve-nul-byte": "serve: %00 in the path answers 400",
     "serve-symlink-out": "serve: a link out of the site answers 404",
     "serve-disconnect": "serve: clients that hang up print nothing",
+    "serve-idle-connection": "serve: a half-sent request is dropped after the idle timeout",
+    "rebuild-reuse-symlink": "a rebuild reusing a route keeps a link inside it as a link (no hard links to its target)",
     "watch-unexpected-error": "serve --watch: any error is reported once and the watch goes on",
     "watch-polls-times-only": "serve --watch: the configuration is read again only when a file changes",
     "check-10000-riders": "check of 10,000 riders: linear (line numbers indexed once)",
@@ -336,3 +338,41 @@ def test_check_10000_riders(tmp_path, capsys):
     )
     src = _src(tmp_path, riders=riders + "[[riders]]\nname = 'bad'\nvehicle = 'road-hoods'\ncp_w = 5000\n")
     _one_line_error(capsys, _run("check", str(src / "site.toml")), "line 40008")
+
+
+def test_serve_idle_connection(tmp_path, monkeypatch):
+    from cardgen import serve
+
+    monkeypatch.setattr(serve.SiteHandler, "timeout", 0.5)
+    (tmp_path / "index.html").write_text("hi")
+    server = serve.PreviewServer(("127.0.0.1", 0), tmp_path)
+    thread = threading.Thread(target=server.serve_forever, daemon=True)
+    thread.start()
+    try:
+        with socket.create_connection(server.server_address[:2], timeout=5) as s:
+            s.sendall(b"GET /index.html HTTP/1.1\r\nHost: x\r\n")  # never finished
+            started = time.monotonic()
+            assert s.recv(1024) == b""  # the server hung up
+            assert time.monotonic() - started < 4
+    finally:
+        server.shutdown()
+        server.server_close()
+
+
+def test_rebuild_reuse_symlink(tmp_path):
+    src = _src(tmp_path)
+    shutil.copy(SAMPLES / "accessible-path.gpx", src)
+    (src / "site.toml").write_text(
+        (src / "site.toml").read_text() + '[[routes]]\ngpx = "accessible-path.gpx"\n'
+    )
+    out = tmp_path / "site"
+    args = ("build", str(src / "site.toml"), "-o", str(out), "--no-pdf", "--jobs", "1")
+    assert _run(*args) == 0
+    (out / "riverside-loop" / "etc").symlink_to("/etc")
+    before = snapshot(out / "accessible-path")
+    shutil.copy(SAMPLES / "hill-loop.gpx", src / "accessible-path.gpx")  # change the other route only
+    assert _run(*args) == 0
+    link = out / "riverside-loop" / "etc"
+    assert link.is_symlink()  # the unchanged route was reused, its link copied as a link
+    assert not (out / "riverside-loop" / "passwd").exists()
+    assert snapshot(out / "accessible-path") != before

@@ -8,7 +8,7 @@ from typing import Any
 
 import numpy as np
 
-from cardgen.route.geodesy import local_plane
+from cardgen.route.geodesy import course, local_plane
 from cardgen.route.gpx import Track
 from cardgen.route.terrain import Terrain
 
@@ -44,8 +44,9 @@ class Cue:
 
 def _turn_angles(terrain: Terrain, window: float) -> np.ndarray:
     """Signed heading change [deg] at each node: mean heading over ``window`` after
-    the node minus the mean over ``window`` before it (unwrapped)."""
-    heading = np.degrees(np.unwrap(terrain.heading))
+    the node minus the mean over ``window`` before it (the unwrapped course of
+    :func:`~cardgen.route.geodesy.course`)."""
+    heading = np.degrees(course(terrain.lat, terrain.lon))
     k = max(1, int(round(window / terrain.step)))
     n = terrain.distance.size
     angles = np.zeros(n)
@@ -68,6 +69,8 @@ def find_turns(
     """Turns where the heading changes by ``threshold`` degrees or more within
     ``window`` metres either side; one cue per turn, at its sharpest node."""
     angles = _turn_angles(terrain, window)
+    for where in terrain.gaps:  # a joined gap between track segments is no turn
+        angles[np.abs(terrain.distance - where) <= 2 * window] = 0.0
     over = np.abs(angles) >= threshold
     cues: list[Cue] = []
     if not over.any():

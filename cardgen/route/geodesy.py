@@ -78,3 +78,29 @@ def local_plane(lat: ArrayLike, lon: ArrayLike, lat0: float) -> np.ndarray:
     """
     phi, lam = np.radians(np.asarray(lat, dtype=float)), np.radians(np.asarray(lon, dtype=float))
     return np.column_stack((lam * np.cos(lat0) * EARTH_RADIUS, phi * EARTH_RADIUS))
+
+
+def course(lat: ArrayLike, lon: ArrayLike) -> np.ndarray:
+    """The direction of travel of each leg [rad], unwrapped: the first leg's bearing,
+    then the sum of the signed turns (right positive) at every point.
+
+    Notes
+    -----
+    The turn at point p between legs a = p − p₋ and b = p₊ − p (unit vectors on the
+    sphere, legs projected onto the tangent plane at p) is
+    −atan2(p·(a × b), a·b): it needs neither bearings nor their wrap-around, so a path
+    across the 180° meridian or over a pole turns only where it really turns.
+    """
+    la, lo = np.asarray(lat, dtype=float), np.asarray(lon, dtype=float)
+    phi, lam = np.radians(la), np.radians(lo)
+    p = np.column_stack((np.cos(phi) * np.cos(lam), np.cos(phi) * np.sin(lam), np.sin(phi)))
+    first = bearing(la[0], lo[0], la[1], lo[1]) if p.shape[0] > 1 else 0.0
+    if p.shape[0] < 3:
+        return np.full(max(p.shape[0] - 1, 0), float(first))
+    mid = p[1:-1]
+    a = mid - p[:-2]
+    b = p[2:] - mid
+    a -= mid * np.sum(a * mid, axis=1, keepdims=True)  # onto the tangent plane at the point
+    b -= mid * np.sum(b * mid, axis=1, keepdims=True)
+    turn = -np.arctan2(np.sum(mid * np.cross(a, b), axis=1), np.sum(a * b, axis=1))
+    return float(first) + np.concatenate(([0.0], np.cumsum(turn)))

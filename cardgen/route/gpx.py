@@ -82,6 +82,41 @@ class Waypoint:
 
 
 @dataclass(frozen=True)
+class Gap:
+    """A jump between two track segments: ``index`` of the first point after it,
+    ``length`` [m] of the straight line across it, ``rise`` [m] of the elevation jump."""
+
+    index: int
+    length: float
+    rise: float
+
+
+#: A jump between segments longer than this [m] (and than a few point spacings) is a gap …
+GAP_LENGTH = 25.0
+#: … and so is one whose elevation jump is steeper than this grade over its length and
+#: more than GAP_RISE metres: no road climbs a third of its length in one step.
+GAP_GRADE = 0.35
+GAP_RISE = 5.0
+
+
+def _gaps(lat: np.ndarray, lon: np.ndarray, elevation: np.ndarray, starts: list[int]) -> tuple[Gap, ...]:
+    """The segment boundaries that are gaps (see :data:`GAP_LENGTH`, :data:`GAP_GRADE`)."""
+    inside = sorted({i for i in starts if 0 < i < lat.size})
+    if not inside:
+        return ()
+    steps = np.diff(cumulative_distance(lat, lon))
+    spacing = float(np.median(steps)) if steps.size else 0.0
+    found = []
+    for i in inside:
+        length, rise = float(steps[i - 1]), float(elevation[i] - elevation[i - 1])
+        far = length > max(GAP_LENGTH, 5 * spacing)
+        jump = abs(rise) > GAP_RISE and abs(rise) > GAP_GRADE * max(length, 1.0)
+        if far or jump:
+            found.append(Gap(i, length, rise))
+    return tuple(found)
+
+
+@dataclass(frozen=True)
 class Track:
     """The points of a route, as read from a GPX file.
 
@@ -96,6 +131,7 @@ class Track:
     route_points : tuple of Waypoint  named ``<rtept>`` elements
     source : str  "track" or "route": which elements the geometry came from
     warnings : tuple of str  what was repaired or looks odd
+    gaps : tuple of Gap  jumps between track segments that are not ridden
     """
 
     path: str
@@ -108,6 +144,7 @@ class Track:
     route_points: tuple[Waypoint, ...]
     source: str
     warnings: tuple[str, ...]
+    gaps: tuple[Gap, ...] = ()
 
     @property
     def points(self) -> int:
@@ -298,6 +335,7 @@ def read_gpx(path: str | os.PathLike[str]) -> Track:  # noqa: C901
     route_points: list[Waypoint] = []
     names = {"metadata": "", "trk": "", "rte": ""}
     tracks = 0
+    segment_starts: list[int] = []
     local = _LOCAL.get
     trkpt_tag, ele_tag, time_tag = ns + "trkpt", ns + "ele", ns + "time"
     t_lat, t_lon, t_ele, t_time = track.lat.append, track.lon.append, track.ele.append, track.time.append
@@ -334,6 +372,7 @@ def read_gpx(path: str | os.PathLike[str]) -> Track:  # noqa: C901
                     t_time(when)
                     elem.clear()
                 elif name == "trkseg":
+                    segment_starts.append(len(track.lat))  # where the next segment would begin
                     elem.clear()
                     if len(track.lat) > MAX_POINTS:
                         break
@@ -386,6 +425,16 @@ def read_gpx(path: str | os.PathLike[str]) -> Track:  # noqa: C901
         warnings.append(
             f"{repaired} of {lat.size} {label}s had no usable elevation; " "interpolated along the distance"
         )
+    gaps = _gaps(lat, lon, elevation, segment_starts if source == "track" else [])
+    if gaps:
+        listed = ", ".join(
+            f"{g.length / 1000:.1f} km" if g.length >= 1000 else f"{g.length:.0f} m" for g in gaps[:5]
+        )
+        warnings.append(
+            f"{len(gaps)} gap(s) between track segments ({listed}{', …' if len(gaps) > 5 else ''}) were joined: "
+            "their straight line and elevation jump are not counted as ridden; check that the route is what you "
+            "meant to plan"
+        )
     times = _times(use.time)
     if np.sum(np.diff(times[np.isfinite(times)]) < 0) > 0:
         warnings.append("timestamps go backwards in places; times in the file are ignored")
@@ -401,6 +450,7 @@ def read_gpx(path: str | os.PathLike[str]) -> Track:  # noqa: C901
         tuple(route_points),
         source,
         tuple(warnings),
+        gaps,
     )
 
 
@@ -415,9 +465,17 @@ def _column(values: list[str | None], axis: str, label: str, where: str) -> np.n
     except (TypeError, ValueError):
         array = None
     limit = 90.0 if axis == "lat" else 180.0
+    if array is not None:
+        for zero in np.flatnonzero(array == 0.0).tolist():  # "1e-400" reads as 0: refuse what underflowed
+            text = str(values[zero]).lower()
+            if "e" in text and any(c in "123456789" for c in text.split("e")[0]):
+                raise GpxError(
+                    f"{where}: {label} {zero + 1}: {axis} {values[zero]!r} is too small to be a "
+                    "coordinate (it reads as 0); fix or delete that point"
+                )
     if array is None or not (np.abs(array) <= limit).all():  # also catches NaN and inf
-        for i, text in enumerate(values):
-            _coordinate(text, axis, f"{where}: {label} {i + 1}")
+        for i, raw in enumerate(values):
+            _coordinate(raw, axis, f"{where}: {label} {i + 1}")
     assert array is not None  # _coordinate raised otherwise
     return array
 

@@ -18,7 +18,7 @@ import numpy as np
 from numpy.lib.stride_tricks import sliding_window_view
 
 from cardgen.errors import GpxError
-from cardgen.route.geodesy import bearing, cumulative_distance
+from cardgen.route.geodesy import bearing, course, cumulative_distance
 from cardgen.route.gpx import Track
 from cardgen.units import Floats
 
@@ -64,6 +64,7 @@ class Terrain:
     step: float
     gain: float
     loss: float
+    gaps: tuple[float, ...] = ()  # [m] where gaps between track segments were joined
 
     @property
     def length(self) -> float:
@@ -205,11 +206,12 @@ def curve_radius(lat: np.ndarray, lon: np.ndarray, step: float, window: float = 
     Notes
     -----
     R = L / |Δψ|: the path length L of a window centred on the node over the change
-    of heading ψ across it (unwrapped, so hairpins keep their full angle). Straight
-    stretches give inf.
+    of heading ψ across it (the course of :func:`~cardgen.route.geodesy.course`, so
+    hairpins keep their full angle and the 180° meridian and the poles are no turns).
+    Straight stretches give inf.
     """
     n = len(lat)
-    heading = np.unwrap(bearing(lat[:-1], lon[:-1], lat[1:], lon[1:]))
+    heading = course(lat, lon)
     half = max(1, int(round(window / (2 * step))))
     radius = np.full(n, np.inf)
     if heading.size < 2 * half:
@@ -224,6 +226,18 @@ def curve_radius(lat: np.ndarray, lon: np.ndarray, step: float, window: float = 
     return radius
 
 
+#: Distance [m] a gap between track segments keeps in the joined route (none ridden).
+GAP_SPAN = 0.5
+
+
+def _gap_distances(track: Track, d: np.ndarray, keep: np.ndarray) -> list[float]:
+    """Where each gap lies along the joined route [m]."""
+    if not track.gaps:
+        return []
+    position = np.cumsum(keep) - 1  # index into d of each original point
+    return [float(d[position[gap.index]]) for gap in track.gaps]
+
+
 def build_terrain(track: Track, step: float = GRID_STEP) -> Terrain:
     """Resample a :class:`~cardgen.route.gpx.Track` onto a uniform grid and derive
     the terrain.
@@ -234,6 +248,13 @@ def build_terrain(track: Track, step: float = GRID_STEP) -> Terrain:
         When the route has no length.
     """
     d = cumulative_distance(track.lat, track.lon)
+    ele_in = track.elevation.copy()
+    if track.gaps:  # a gap is not ridden: no distance across it, no elevation jump
+        legs = np.diff(d)
+        for gap in track.gaps:
+            legs[gap.index - 1] = GAP_SPAN
+            ele_in[gap.index :] -= ele_in[gap.index] - ele_in[gap.index - 1]
+        d = np.concatenate(([0.0], np.cumsum(legs)))
     keep = np.concatenate(([True], np.diff(d) > 0))  # drop repeated points
     d = d[keep]
     if d[-1] < 2 * step:
@@ -241,16 +262,24 @@ def build_terrain(track: Track, step: float = GRID_STEP) -> Terrain:
             f"{track.path}: the route is {d[-1]:.0f} m long; cardgen needs at least {2 * step:.0f} m "
             "(are all points the same?)"
         )
-    ele = remove_spikes(track.elevation[keep])
+    ele = remove_spikes(ele_in[keep])
     n = int(np.ceil(d[-1] / step))
     grid = np.linspace(0.0, d[-1], n + 1)
     grid_step = float(grid[1] - grid[0])
     lat = np.interp(grid, d, track.lat[keep])
-    lon = np.interp(grid, d, track.lon[keep])
+    # longitudes unwrapped before interpolating, so a route across the 180° meridian
+    # stays on it, then wrapped back into [−180°, 180°)
+    unwrapped = np.degrees(np.unwrap(np.radians(track.lon[keep])))
+    lon = (np.interp(grid, d, unwrapped) + 180.0) % 360.0 - 180.0
     raw = np.interp(grid, d, ele)
     smooth = smooth_elevation(raw, grid_step)
     grade = np.diff(smooth) / grid_step
     heading = bearing(lat[:-1], lon[:-1], lat[1:], lon[1:])
+    radius = curve_radius(lat, lon, grid_step)
+    gap_at = tuple(_gap_distances(track, d, keep))
+    for where in gap_at:  # the join is no curve and no turn
+        near = np.abs(grid - where) <= CURVE_WINDOW
+        radius[near] = np.inf
     gain, loss = elevation_gain(smooth)
     return Terrain(
         distance=grid,
@@ -260,8 +289,9 @@ def build_terrain(track: Track, step: float = GRID_STEP) -> Terrain:
         elevation_raw=raw,
         grade=grade,
         heading=heading,
-        curve_radius=curve_radius(lat, lon, grid_step),
+        curve_radius=radius,
         step=grid_step,
         gain=gain,
         loss=loss,
+        gaps=gap_at,
     )

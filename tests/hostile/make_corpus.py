@@ -259,6 +259,35 @@ CASES = {
         ("error", "declares the encoding"),
         "an XML declaration naming the punycode encoding (only UTF-8/16, ASCII and Latin-1 are read)",
     ),
+    "segments-500km-apart": (
+        _track("</trkseg><trkseg>".join((_points(40), _points(40, lat0=-36.0)))),
+        ("ok", "gap(s) between track segments"),
+        "two track segments 500 km apart (joined without the gap's straight line)",
+    ),
+    "gap-with-elevation-jump": (
+        _track(
+            "</trkseg><trkseg>".join(
+                (_points(40), _points(40, lat0=-40.5 + 40 * 0.0002 + 0.00017, ele=lambda i: 60 + 0.5 * i))
+            )
+        ),
+        ("ok", "gap(s) between track segments"),
+        "a 19 m gap with a 32 m elevation jump (no false climb)",
+    ),
+    "across-180-meridian": (
+        _track(
+            "".join(
+                f'<trkpt lat="-16.5" lon="{(179.99 + i * 0.0003 + 180) % 360 - 180:.7f}"><ele>5</ele></trkpt>'
+                for i in range(60)
+            )
+        ),
+        ("ok", ""),
+        "a route that crosses the 180° meridian (no point across the globe, no false turn)",
+    ),
+    "lat-underflow": (
+        _track(_points().replace('lat="-40.4990000"', 'lat="1e-400"', 1)),
+        ("error", "too small to be a coordinate"),
+        'lat="1e-400" (reads as 0)',
+    ),
     "huge-attribute": (
         lambda path: _huge_token(path),
         ("error", "runs over 1 MiB without a break"),
