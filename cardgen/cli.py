@@ -273,7 +273,7 @@ def _site_config(target: str | None):
     folder (with or without site.toml)."""
     from pathlib import Path
 
-    from cardgen.config import folder_config, load_config
+    from cardgen.config import folder_config, gpx_config, load_config
 
     if target is None:
         from cardgen.paths import demo_site
@@ -286,6 +286,8 @@ def _site_config(target: str | None):
         ), False
     if not path.exists():
         raise CardgenError(f"{path}: no such file or folder; give a site.toml or a folder of .gpx files")
+    if path.suffix.lower() == ".gpx":
+        return gpx_config(path), False
     return load_config(path), False
 
 
@@ -325,8 +327,7 @@ def cmd_build(args) -> int:
     from cardgen.build import build_site
 
     config, demo = _site_config(args.site)
-    for warning in config.warnings:
-        _print(f"cardgen: warning: {warning}", file=sys.stderr)
+    _say_config(config)
     out = Path(args.output) if args.output else (Path.cwd() / "site" if demo else config.output)
     jobs = args.jobs or min(os.cpu_count() or 1, 64)
     progress, close = _progress_printer()
@@ -355,24 +356,43 @@ def cmd_build(args) -> int:
     return 1 if report.failed else 0
 
 
+def _say_config(config) -> None:
+    """The configuration's warnings and what the model changed, once each."""
+    for warning in config.warnings:
+        _print(f"cardgen: warning: {warning}", file=sys.stderr)
+    for note in config.notes:
+        _print(f"cardgen: note: {note}", file=sys.stderr)
+
+
 def cmd_check(args) -> int:
+    """Everything a build can find without rendering, all at once."""
+    from cardgen.config import plural
+    from cardgen.plan import analyse
+    from cardgen.route.checkpoints import resolve_checkpoints
     from cardgen.route.gpx import read_gpx
     from cardgen.route.terrain import build_terrain
 
     config, _ = _site_config(args.site)
-    for warning in config.warnings:
-        _print(f"cardgen: warning: {warning}", file=sys.stderr)
+    _say_config(config)
     problems = []
     for route in config.routes:
         try:
             track = read_gpx(route.gpx)
             terrain = build_terrain(track)
-            _print(f"ok  {route.gpx.name}: {terrain.length / 1000:.1f} km, {track.points} points")
+            analysis = analyse(track, terrain)
+            checkpoints = resolve_checkpoints(route.checkpoints, track, terrain, str(route.gpx))
         except CardgenError as exc:
             problems.append(str(exc))
-    _print(f"{len(config.riders)} riders: " + ", ".join(r.rider.name for r in config.riders))
+            continue
+        _print(
+            f"ok  {route.gpx.name}: {terrain.length / 1000:.1f} km, {plural(track.points, 'point')}, "
+            f"{plural(len(analysis.climbs), 'climb')}, {plural(len(checkpoints), 'checkpoint')}"
+        )
+        for warning in analysis.warnings:
+            _print(f"cardgen: warning: {route.gpx.name}: {warning}", file=sys.stderr)
+    _print(f"{plural(len(config.riders), 'rider')}: " + ", ".join(r.rider.name for r in config.riders))
     if problems:
-        raise CardgenError("\n  ".join(["route problems:"] + problems))
+        raise CardgenError("\n  ".join([f"{plural(len(problems), 'route problem')}:"] + problems))
     _print("configuration and routes are fine; nothing was written")
     return 0
 

@@ -1,12 +1,13 @@
 """Site configuration: a TOML file checked against a declared schema in one pass.
 
 Every problem is collected with its file, key and (where it can be found) line, and
-reported together; unknown keys are warnings. Paths resolve against the config
-file's folder.
+reported together; an unknown key or section is a problem that names the closest
+known ones. Paths resolve against the config file's folder.
 """
 
 from __future__ import annotations
 
+import dataclasses
 import math
 import re
 from dataclasses import dataclass, field
@@ -14,12 +15,14 @@ from datetime import date, datetime, time, timedelta
 from pathlib import Path
 from typing import Any
 
-from cardgen.errors import CardgenError, ConfigError
+from cardgen.errors import CardgenError, ConfigError, close_matches
 from cardgen.physics.atmosphere import Conditions
+from cardgen.physics.effort import FLAT_AIR_DENSITY
+from cardgen.physics.steady import power_for_speed
 from cardgen.profiles.limits import LIMITS
-from cardgen.profiles.riders import Rider
+from cardgen.profiles.riders import ALL_DAY_SHARE_OF_CP, Rider
 from cardgen.profiles.tables import read_toml
-from cardgen.profiles.vehicles import Vehicle, builtin_vehicles, find_vehicle
+from cardgen.profiles.vehicles import Vehicle, builtin_vehicles, find_vehicle, vehicles_from_tables
 
 CARD_SIZES = ("A5", "A4", "pocket")
 #: Years an event may be in: keeps every start, arrival and window a real date.
@@ -57,9 +60,9 @@ class Spec:
 SCHEMA = {
     "site": {
         "title": Spec("str", default="Route cards", help="the site's title"),
-        "units": Spec("choice", default="metric", choices=UNITS),
-        "card_size": Spec("choice", default="A5", choices=CARD_SIZES),
-        "large_print": Spec("bool", default=False),
+        "units": Spec("choice", default="metric", choices=UNITS, help="units on pages and cards"),
+        "card_size": Spec("choice", default="A5", choices=CARD_SIZES, help="paper of the rider cards"),
+        "large_print": Spec("bool", default=False, help="cards in 14 pt type"),
         "output": Spec("str", default="site", help="output folder, relative to this file"),
         "base_url": Spec("url", default="", help="the site's address, for QR codes on cards"),
         "templates": Spec("str", default="", help="a folder of templates that override cardgen's"),
@@ -76,7 +79,11 @@ SCHEMA = {
         "temperature_c": Spec("number", limit="temperature_c"),
     },
     "routes": {
-        "gpx": Spec("path", required=True, help="a GPX file, relative to this file"),
+        "gpx": Spec(
+            "path",
+            required=True,
+            help='a GPX file, relative to this file, or a pattern like "routes/*.gpx" (routes = "..." alone also works)',
+        ),
         "name": Spec("str"),
         "notes": Spec("str", default=""),
         "checkpoints": Spec("list", help="waypoint names or distances in km"),
@@ -90,11 +97,19 @@ SCHEMA = {
         "climb_w": Spec("number", limit="climb_w"),
         "climb_share": Spec("number", limit="climb_share"),
         "target_kmh": Spec("number", limit="target_kmh"),
-        "cruise_level": Spec("int", limit="cruise_level"),
+        "flat_kmh": Spec("number", limit="flat_kmh"),
+        "body_mass_kg": Spec("number", limit="body_mass_kg"),
+        "load_kg": Spec("number", limit="load_kg"),
+        "battery_wh": Spec("number", limit="battery_wh", help="battery fitted (e-assist vehicles)"),
+        "assist_between_climbs": Spec("int", limit="assist_between_climbs"),
         "routes": Spec("list", help="only these routes (GPX file names or route names)"),
     },
 }
-TABLE_ARRAYS = {"routes", "riders"}
+TABLE_ARRAYS = {"routes", "riders", "vehicles"}
+#: Keys that were renamed: the old name is refused with a pointer to the new.
+RENAMED = {"cruise_level": "assist_between_climbs"}
+#: Sections of site.toml, [[vehicles]] included (its keys are those of a vehicle profile).
+SECTIONS = (*SCHEMA, "vehicles")
 
 
 @dataclass(frozen=True)
@@ -138,6 +153,7 @@ class SiteConfig:
     riders: tuple[RiderConfig, ...]
     warnings: tuple[str, ...] = field(default=())
     inputs: tuple[Path, ...] = field(default=())  # every file and folder the configuration reads
+    notes: tuple[str, ...] = field(default=())  # where the model used another value than the one given
 
 
 _HEADER = re.compile(r"^\s*(\[\[?)\s*([^\]]+?)\s*\]\]?")
@@ -175,6 +191,7 @@ class _Checker:
         self.problems: list[str] = []
         self.warnings: list[str] = []
         self.inputs: list[Path] = []
+        self.notes: list[str] = []
 
     def where(self, section: str, index: int | None, key: str) -> str:
         name = f"{section}[{index}].{key}" if index is not None else f"{section}.{key}"
@@ -223,6 +240,8 @@ class _Checker:
                     return None
                 return resolved
             if kind == "vehicle":
+                if raw in self.vehicles:
+                    return self.vehicles[raw]
                 candidate = folder / raw
                 name = str(candidate) if raw.lower().endswith(".toml") else raw
                 if raw.lower().endswith(".toml"):
@@ -282,18 +301,25 @@ class _Checker:
                 return None
         raise AssertionError(kind)
 
-    def table(self, section: str, table: Any, index: int | None, folder: Path) -> dict:
+    def table(
+        self, section: str, table: Any, index: int | None, folder: Path, vehicles: dict | None = None
+    ) -> dict:
         schema = SCHEMA[section]
         if not isinstance(table, dict):
             shape = f"[[{section}]] tables" if section in TABLE_ARRAYS else f"a [{section}] table"
             self.problems.append(f"{self.path}: {section} must be {shape}, not {type(table).__name__}")
             return {key: None for key in schema}
         for key in table:
-            if key not in schema:
-                self.warnings.append(
-                    f"{self.where(section, index, key)}: unknown key, ignored "
-                    f"(known: {', '.join(schema)})"
+            if key in RENAMED and RENAMED[key] in schema:
+                self.problems.append(
+                    f"{self.where(section, index, key)}: this key is now '{RENAMED[key]}'; rename it"
                 )
+            elif key not in schema:
+                self.problems.append(
+                    f"{self.where(section, index, key)}: unknown key{close_matches(key, schema)}; "
+                    f"the keys of [{section}] are {', '.join(schema)}"
+                )
+        self.vehicles = vehicles or {}
         return {key: self.value(section, table, index, key, spec, folder) for key, spec in schema.items()}
 
 
@@ -304,56 +330,42 @@ def load_config(path: Path) -> SiteConfig:
     return _from_data(data, path, text, path.resolve().parent)
 
 
-def _from_data(data: dict, path: Path | None, text: str, folder: Path) -> SiteConfig:  # noqa: C901 (one pass, in order)
+def _from_data(data: dict, path: Path | None, text: str, folder: Path) -> SiteConfig:
     check = _Checker(path, text)
     for key in data:
-        if key not in SCHEMA:
-            check.warnings.append(f"{path}: [{key}]: unknown section, ignored (known: {', '.join(SCHEMA)})")
-    tables = {}
-    for section in ("site", "event", "conditions"):
-        tables[section] = check.table(section, data.get(section, {}), None, folder)
-    routes_raw = data.get("routes", [])
+        if key not in SECTIONS:
+            check.problems.append(
+                f"{check.where(key, None, '')[:-1]}: unknown section [{key}]{close_matches(key, SECTIONS)}; "
+                f"the sections are {', '.join(SECTIONS)}"
+            )
+    tables = {
+        section: check.table(section, data.get(section, {}), None, folder)
+        for section in ("site", "event", "conditions")
+    }
+    vehicles = _site_vehicles(check, data.get("vehicles", []))
+    routes = _route_tables(check, data.get("routes", []), folder)
     riders_raw = data.get("riders", [])
-    for section, raw in (("routes", routes_raw), ("riders", riders_raw)):
-        if not isinstance(raw, list) or not raw:
-            check.problems.append(f"{path}: no [[{section}]] entries; add at least one")
-    routes = [
-        check.table("routes", t, i, folder)
-        for i, t in enumerate(routes_raw if isinstance(routes_raw, list) else [])
-    ]
+    if not isinstance(riders_raw, list) or not riders_raw:
+        check.problems.append(f"{path}: no [[riders]] entries; add at least one")
     riders = [
-        check.table("riders", t, i, folder)
+        check.table("riders", t, i, folder, vehicles)
         for i, t in enumerate(riders_raw if isinstance(riders_raw, list) else [])
     ]
-
-    rider_objects = []
-    for i, r in enumerate(riders):
-        vehicle: Vehicle | None = r["vehicle"]
-        if vehicle is None or r["name"] is None:
-            continue
-        given = {}
-        for key, attr, factor in (
-            ("cp_w", "cp", 1.0),
-            ("w_prime_kj", "w_prime", 1000.0),
-            ("flat_w", "flat_power", 1.0),
-            ("climb_w", "climb_power", 1.0),
-            ("climb_share", "climb_share", 1.0),
-            ("target_kmh", "target_speed", 1 / 3.6),
-            ("cruise_level", "cruise_level", 1),
-        ):
-            if r[key] is not None:
-                given[attr] = r[key] * factor if factor != 1 else r[key]
-        try:
-            rider_objects.append(
-                RiderConfig(
-                    Rider.for_vehicle(vehicle, name=r["name"], **given),
-                    tuple(str(x) for x in (r["routes"] or ())),
-                )
-            )
-        except CardgenError as exc:
-            check.problems.append(f"{check.where('riders', i, 'name')}: {exc}")
+    route_objects = tuple(
+        RouteConfig(
+            r["gpx"],
+            r["name"],
+            r["notes"] or "",
+            tuple(x * 1000.0 if isinstance(x, int | float) else x for x in (r["checkpoints"] or ())),
+        )
+        for r in routes
+        if r["gpx"] is not None
+    )
+    rider_objects = [
+        rc for i, r in enumerate(riders) if (rc := _rider(check, i, r, route_objects)) is not None
+    ]
     names = [rc.rider.name for rc in rider_objects]
-    for name in {n for n in names if names.count(n) > 1}:
+    for name in sorted({n for n in names if names.count(n) > 1}):
         check.problems.append(f"{path}: two riders are named {name!r}; give each a different name")
 
     site, event, cond = tables["site"], tables["event"], tables["conditions"]
@@ -367,21 +379,13 @@ def _from_data(data: dict, path: Path | None, text: str, folder: Path) -> SiteCo
             check.problems.append(f"{check.where('site', None, 'templates')}: no folder {templates}")
     if check.problems:
         raise ConfigError(
-            f"{len(check.problems)} problem(s) in the configuration:\n  " + "\n  ".join(check.problems)
+            f"{plural(len(check.problems), 'problem')} in the configuration:\n  "
+            + "\n  ".join(check.problems)
         )
     conditions = Conditions(
         cond["wind_kmh"] / 3.6,
         math.radians(cond["wind_from_deg"]),
         None if cond["temperature_c"] is None else cond["temperature_c"] + 273.15,
-    )
-    route_objects = tuple(
-        RouteConfig(
-            r["gpx"],
-            r["name"],
-            r["notes"] or "",
-            tuple(x * 1000.0 if isinstance(x, int | float) else x for x in (r["checkpoints"] or ())),
-        )
-        for r in routes
     )
     return SiteConfig(
         source=path,
@@ -411,25 +415,228 @@ def _from_data(data: dict, path: Path | None, text: str, folder: Path) -> SiteCo
                 ]
             )
         ),
+        notes=tuple(check.notes),
     )
+
+
+def plural(count: int, word: str) -> str:
+    """ "1 rider", "2 riders"."""
+    return f"{count} {word}" if count == 1 else f"{count} {word}s"
+
+
+def _site_vehicles(check: _Checker, raw: Any) -> dict[str, Vehicle]:
+    """The site's own [[vehicles]]: each a table with a name and the keys of a vehicle
+    profile file (``base = "..."`` starts from a built-in)."""
+    if not isinstance(raw, list):
+        check.problems.append(f"{check.path}: vehicles must be [[vehicles]] tables, not {type(raw).__name__}")
+        return {}
+    found: dict[str, Vehicle] = {}
+    for i, table in enumerate(raw):
+        where = check.where("vehicles", i, "")[:-1]
+        if not isinstance(table, dict) or not isinstance(table.get("name"), str) or not table["name"]:
+            check.problems.append(f'{where}: each [[vehicles]] table needs a name = "..."')
+            continue
+        name = table["name"]
+        try:
+            found.update(
+                vehicles_from_tables(
+                    {name: {k: v for k, v in table.items() if k != "name"}},
+                    where,
+                    f"site file {check.path.name if check.path else 'settings'}",
+                )
+            )
+        except CardgenError as exc:
+            check.problems.append(str(exc))
+    return found
+
+
+def _route_tables(check: _Checker, raw: Any, folder: Path) -> list[dict]:
+    """[[routes]] tables, or one pattern string: every GPX file it matches. A table's
+    ``gpx`` may be a pattern too; a file named by a table of its own takes that
+    table's settings wherever a pattern also matched it."""
+    if isinstance(raw, str):
+        raw = [{"gpx": raw}]
+    if not isinstance(raw, list) or not raw:
+        check.problems.append(f'{check.path}: no routes; add [[routes]] tables, or routes = "routes/*.gpx"')
+        return []
+    explicit: dict[Path, dict] = {}
+    expanded: list[tuple[Path | None, int, Any]] = []
+    for i, table in enumerate(raw):
+        pattern = table.get("gpx") if isinstance(table, dict) else None
+        if isinstance(pattern, str) and any(c in pattern for c in "*?["):
+            matches = sorted(p for p in folder.glob(pattern) if p.is_file() and p.suffix.lower() == ".gpx")
+            if not matches:
+                check.problems.append(
+                    f"{check.where('routes', i, 'gpx')}: {pattern!r} matches no .gpx file in {folder}"
+                )
+            expanded.extend((m.resolve(), i, {**table, "gpx": str(m.relative_to(folder))}) for m in matches)
+        else:
+            resolved = (folder / pattern).resolve() if isinstance(pattern, str) else None
+            if resolved is not None:
+                explicit[resolved] = table
+            expanded.append((resolved, i, table))
+    tables, seen = [], set()
+    for resolved, i, table in expanded:
+        if resolved is not None:
+            if resolved in seen:
+                continue
+            seen.add(resolved)
+            table = explicit.get(resolved, table)
+        tables.append(check.table("routes", table, i, folder))
+    return tables
+
+
+def _rider(check: _Checker, i: int, r: dict, routes: tuple[RouteConfig, ...]) -> RiderConfig | None:
+    """One [[riders]] table as a rider on their vehicle; problems and the model's
+    adjustments are recorded on ``check``."""
+    vehicle: Vehicle | None = r["vehicle"]
+    if vehicle is None or r["name"] is None:
+        return None
+    name = r["name"]
+    vehicle = _fitted_vehicle(check, i, r, vehicle)
+    given: dict[str, Any] = {}
+    for key, attr in (
+        ("cp_w", "cp"),
+        ("w_prime_kj", "w_prime"),
+        ("flat_w", "flat_power"),
+        ("climb_w", "climb_power"),
+        ("climb_share", "climb_share"),
+        ("target_kmh", "target_speed"),
+    ):
+        if r[key] is not None:
+            given[attr] = r[key] * LIMITS[key].to_si
+    if r["assist_between_climbs"] is not None and vehicle.motor is not None:
+        given["assist_between_climbs"] = r["assist_between_climbs"]
+    if r["flat_kmh"] is not None:
+        if r["flat_w"] is not None:
+            check.problems.append(
+                f"{check.where('riders', i, 'flat_kmh')}: give flat_kmh or flat_w, not both"
+            )
+            return None
+        res = vehicle.resistance
+        watts = float(
+            power_for_speed(
+                r["flat_kmh"] / 3.6,
+                mass=res.mass,
+                crr=res.crr,
+                cda=res.cda,
+                efficiency=res.efficiency,
+                air_density=FLAT_AIR_DENSITY,
+            )
+        )
+        given["flat_power"] = max(1.0, round(watts))
+        if r["cp_w"] is None:  # the CP follows from the flat power, as for the defaults
+            given["cp"] = given["flat_power"] / ALL_DAY_SHARE_OF_CP
+        check.notes.append(
+            f"rider {name!r}: {r['flat_kmh']:g} km/h on the flat takes about {watts:.0f} W on "
+            f"a {vehicle.name} in still air; the plans use that as the flat power"
+        )
+    unknown = [x for x in (r["routes"] or ()) if not any(_names_route(str(x), rc) for rc in routes)]
+    for x in unknown:
+        known = sorted({n for rc in routes for n in (rc.gpx.name, rc.gpx.stem, rc.name) if n})
+        check.problems.append(
+            f"{check.where('riders', i, 'routes')}: no route {x!r}{close_matches(str(x), known)}; "
+            f"the routes are {', '.join(known)}"
+        )
+    try:
+        rider = Rider.for_vehicle(vehicle, name=name, **given)
+    except CardgenError as exc:
+        check.problems.append(f"{check.where('riders', i, 'name')}: {exc}")
+        return None
+    if rider.climb_power_used < rider.climb_power - 0.5 and r["climb_w"] is not None:
+        check.notes.append(
+            f"rider {name!r}: climb_w {rider.climb_power:.0f} W is above CP × "
+            f"{1 + rider.climb_share:.2f} = {rider.climb_power_used:.0f} W; the plans use "
+            f"{rider.climb_power_used:.0f} W (raise climb_share to allow more)"
+        )
+    return RiderConfig(rider, tuple(str(x) for x in (r["routes"] or ())))
+
+
+def _fitted_vehicle(check: _Checker, i: int, r: dict, vehicle: Vehicle) -> Vehicle:
+    """The rider's vehicle with their own body mass, load and battery."""
+    changes: dict[str, Any] = {}
+    if r["body_mass_kg"] is not None:
+        changes["rider_mass"] = float(r["body_mass_kg"])
+    if r["load_kg"] is not None:
+        changes["vehicle_mass"] = vehicle.vehicle_mass + float(r["load_kg"])
+    if r["battery_wh"] is not None:
+        if vehicle.motor is None:
+            check.problems.append(
+                f"{check.where('riders', i, 'battery_wh')}: the vehicle {vehicle.name!r} has no motor"
+            )
+        else:
+            changes["battery"] = float(r["battery_wh"]) * 3600.0
+    if r["assist_between_climbs"] is not None and vehicle.motor is None:
+        check.warnings.append(
+            f"{check.where('riders', i, 'assist_between_climbs')}: the vehicle {vehicle.name!r} "
+            "has no motor; the assist level is ignored"
+        )
+    return dataclasses.replace(vehicle, **changes) if changes else vehicle
+
+
+def _names_route(name: str, route: RouteConfig) -> bool:
+    return name in (route.gpx.name, route.gpx.stem, route.name)
+
+
+#: Route files cardgen does not read, by suffix: named when a folder holds only these.
+OTHER_ROUTE_FILES = {
+    ".kml": "KML",
+    ".kmz": "KMZ",
+    ".fit": "FIT",
+    ".tcx": "TCX",
+    ".crs": "CRS",
+    ".geojson": "GeoJSON",
+}
 
 
 def folder_config(folder: Path) -> SiteConfig:
     """A site for a folder of GPX files without site.toml: every route, default riders."""
     folder = Path(folder).resolve()
-    gpx = sorted(p for p in folder.iterdir() if p.suffix.lower() == ".gpx" and p.is_file())
+    files = sorted(p for p in folder.iterdir() if p.is_file())
+    gpx = [p for p in files if p.suffix.lower() == ".gpx"]
+    other = [p for p in files if p.suffix.lower() in OTHER_ROUTE_FILES]
     if not gpx:
+        if other:
+            listed = ", ".join(f"{p.name} ({OTHER_ROUTE_FILES[p.suffix.lower()]})" for p in other[:5])
+            raise ConfigError(
+                f"{folder}: no .gpx files; cardgen reads GPX only and found {listed}: "
+                "export them as GPX from the program that made them"
+            )
         raise ConfigError(f"{folder}: no site.toml and no .gpx files; add routes or a site.toml")
+    return _default_site(folder, gpx, f"{folder}: no site.toml", other)
+
+
+def gpx_config(path: Path) -> SiteConfig:
+    """A one-route site for a GPX file given where a site.toml was expected."""
+    path = Path(path).resolve()
+    return _default_site(
+        path.parent,
+        [path],
+        f"{path} is a GPX file, not a site.toml",
+        [],
+        output=path.with_suffix("").parent / f"{path.stem}-site",
+    )
+
+
+def _default_site(
+    folder: Path, gpx: list[Path], why: str, other: list[Path], output: Path | None = None
+) -> SiteConfig:
     lib = builtin_vehicles()
     riders = tuple(RiderConfig(Rider.for_vehicle(lib[v], name=n)) for n, v in DEFAULT_RIDERS)
+    warnings = [
+        f"{why}; building {plural(len(gpx), 'route')} with the default riders: "
+        + ", ".join(f"{n} ({v})" for n, v in DEFAULT_RIDERS)
+    ]
+    if other:
+        warnings.append(f"{folder}: left out {', '.join(p.name for p in other[:5])}: cardgen reads GPX only")
     return SiteConfig(
         source=None,
         folder=folder,
-        title=f"Routes in {folder.name}",
+        title=f"Routes in {folder.name}" if len(gpx) > 1 or output is None else gpx[0].stem,
         units="metric",
         card_size="A5",
         large_print=False,
-        output=(folder / "site").resolve(),
+        output=output or (folder / "site").resolve(),
         base_url="",
         templates=None,
         start=None,
@@ -439,10 +646,7 @@ def folder_config(folder: Path) -> SiteConfig:
         routes=tuple(RouteConfig(p) for p in gpx),
         riders=riders,
         inputs=(folder, *gpx),
-        warnings=(
-            f"{folder}: no site.toml; building {len(gpx)} route(s) with the default riders: "
-            + ", ".join(f"{n} ({v})" for n, v in DEFAULT_RIDERS),
-        ),
+        warnings=tuple(warnings),
     )
 
 
@@ -451,3 +655,28 @@ def rider_start(config: SiteConfig, index: int) -> datetime | None:
     if config.start is None:
         return None
     return config.start + timedelta(seconds=index * config.start_interval)
+
+
+def reference_table() -> str:
+    """Every key of site.toml as a Markdown table (the README's reference), made from
+    the schema and the table of limits so that it cannot drift from what is checked."""
+    rows = ["| section | key | kind | range or choices | default | what it is |", "|---|---|---|---|---|---|"]
+    for section, keys in SCHEMA.items():
+        shown = f"[[{section}]]" if section in TABLE_ARRAYS else f"[{section}]"
+        for key, spec in keys.items():
+            if spec.limit:
+                limit = LIMITS[spec.limit]
+                span = f"{limit.low:g}…{limit.high:g}" + (f" {limit.unit}" if limit.unit else "")
+            elif spec.choices:
+                span = ", ".join(spec.choices)
+            else:
+                span = ""
+            default = (
+                "required" if spec.required else ("" if spec.default in (None, "") else f"{spec.default}")
+            )
+            rows.append(f"| {shown} | `{key}` | {spec.kind} | {span} | {default} | {spec.about} |")
+    rows.append(
+        "| [[vehicles]] | `name`, `base` and any key of a vehicle profile | table | | | "
+        "a vehicle of this site, started from a built-in one (`cardgen vehicles --json` lists the keys) |"
+    )
+    return "\n".join(rows)

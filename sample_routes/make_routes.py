@@ -122,23 +122,23 @@ def riverside_loop():
 
 def hill_loop():
     p = Path2D(10, 60.0).mark("Tarnwhistle Green")
-    p.straight(3000, 0.004).bend(60, 40).straight(1500, 0.02).mark("Foot of Gorse Bank")
+    p.straight(3000, 0.004).bend(60, 40).straight(1500, 0.02).mark("Foot of Pellowind Bank")
     p.straight(600, 0.07).bend(-30, 60, 0.09).straight(500, 0.11).bend(40, 30, 0.13)
-    p.straight(300, 0.14).bend(-30, 50, 0.10).straight(400, 0.08).mark("Gorse Bank top")
-    p.straight(2500, 0.005).bend(90, 30).straight(2000, -0.01).mark("Raven Gap")
+    p.straight(300, 0.14).bend(-30, 50, 0.10).straight(400, 0.08).mark("Pellowind Bank top")
+    p.straight(2500, 0.005).bend(90, 30).straight(2000, -0.01).mark("Corvenna Gap")
     p.straight(800, -0.07).bend(170, 12, -0.06).straight(700, -0.08).bend(-165, 14, -0.07)
     p.straight(1200, -0.075).bend(30, 80, -0.04).straight(1500, -0.03).mark("Millpond Lane")
     p.straight(2500, -0.002).home()
     write(
         p,
         "hill-loop.gpx",
-        "Gorse Bank Hill Loop",
-        "One steep climb up Gorse Bank and a fast descent through the Raven Gap hairpins.",
+        "Pellowind Bank Hill Loop",
+        "One steep climb up Pellowind Bank and a fast descent through the Corvenna Gap hairpins.",
         [
             ("Tarnwhistle Green", "start", "Start and finish by the bandstand"),
-            ("Foot of Gorse Bank", "climb", "Change down before the first bend"),
-            ("Gorse Bank top", "landmark", "Viewpoint; regroup here"),
-            ("Raven Gap", "danger", "Two hairpins below: brake before them, not in them"),
+            ("Foot of Pellowind Bank", "climb", "Change down before the first bend"),
+            ("Pellowind Bank top", "landmark", "Viewpoint; regroup here"),
+            ("Corvenna Gap", "danger", "Two hairpins below: brake before them, not in them"),
             ("Millpond Lane", "landmark", "Narrow lane, oncoming farm traffic"),
         ],
         seed=12,
@@ -148,11 +148,11 @@ def hill_loop():
 def day_ride():
     p = Path2D(120, 42.0).mark("Tarnwhistle Green")
     p.straight(6000, 0.001).bend(-45, 60).straight(4000, 0.012).straight(1800, 0.045)
-    p.mark("Checkpoint 1: Hollin Cross").straight(5000, 0.002).bend(70, 30)
+    p.mark("Checkpoint 1: Brenquist Cross").straight(5000, 0.002).bend(70, 30)
     p.straight(2200, 0.055).straight(1800, 0.035).bend(-20, 100).straight(4000, -0.01)
-    p.straight(2500, -0.04).mark("Checkpoint 2: Saltmarsh Hall").bend(90, 20).straight(8000, 0.0)
-    p.bend(-30, 150).straight(6000, 0.0015).straight(3000, 0.06).mark("Checkpoint 3: Brindle Top")
-    p.straight(3500, -0.05).bend(60, 40).straight(9000, -0.001).mark("Checkpoint 4: Eelby Lock")
+    p.straight(2500, -0.04).mark("Checkpoint 2: Ossivel Hall").bend(90, 20).straight(8000, 0.0)
+    p.bend(-30, 150).straight(6000, 0.0015).straight(3000, 0.06).mark("Checkpoint 3: Yarrowvane Top")
+    p.straight(3500, -0.05).bend(60, 40).straight(9000, -0.001).mark("Checkpoint 4: Quillmarrow Lock")
     p.bend(40, 80).straight(7000, 0.0005).home()
     write(
         p,
@@ -161,10 +161,10 @@ def day_ride():
         "A long day out over the northern moors with four staffed checkpoints.",
         [
             ("Tarnwhistle Green", "start", "Start and finish by the bandstand"),
-            ("Checkpoint 1: Hollin Cross", "checkpoint", "Stamp your card; water"),
-            ("Checkpoint 2: Saltmarsh Hall", "checkpoint", "Lunch stop"),
-            ("Checkpoint 3: Brindle Top", "checkpoint", "Windy top: bring a layer"),
-            ("Checkpoint 4: Eelby Lock", "checkpoint", "Last checkpoint; mechanic on hand"),
+            ("Checkpoint 1: Brenquist Cross", "checkpoint", "Stamp your card; water"),
+            ("Checkpoint 2: Ossivel Hall", "checkpoint", "Lunch stop"),
+            ("Checkpoint 3: Yarrowvane Top", "checkpoint", "Windy top: bring a layer"),
+            ("Checkpoint 4: Quillmarrow Lock", "checkpoint", "Last checkpoint; mechanic on hand"),
         ],
         seed=13,
     )

@@ -55,7 +55,7 @@ def test_no_assist_at_or_above_cutoff_and_never_above_peak():
 
 def test_unknown_motor():
     with pytest.raises(VehicleError, match="eu-pedelec"):
-        find_motor("turbo")
+        find_motor("no-such-motor")
 
 
 def test_suggested_level_is_the_lowest_that_works_brute_force(tmp_path):
@@ -113,7 +113,7 @@ def test_battery_use_is_bounded_and_warned_exactly_when_it_does_not_fit(tmp_path
     track = read_gpx(profile_gpx(tmp_path / "b.gpx", d, e))
     terrain = build_terrain(track)
     vehicle = builtin_vehicles()["e-assist-city"]
-    plan = make_plan(track, terrain, Rider.for_vehicle(vehicle, cruise_level=2))
+    plan = make_plan(track, terrain, Rider.for_vehicle(vehicle, assist_between_climbs=2))
     motor = plan.motor
     ratio = max([motor.levels[1], *(motor.levels[c.assist_level - 1] for c in plan.climbs if c.assist_level)])
     assert 0 < plan.totals.battery <= ratio * plan.totals.energy / motor.drive_efficiency

@@ -99,7 +99,7 @@ def test_checkpoint_windows_on_the_day_ride():
     lib = builtin_vehicles()
     plans = [make_plan(track, terrain, Rider.for_vehicle(lib[n])) for n in ("road-drops", "handcycle")]
     checkpoints = checkpoints_from_waypoints(track, terrain)
-    assert [c.name for c in checkpoints][:1] == ["Checkpoint 1: Hollin Cross"]
+    assert [c.name for c in checkpoints][:1] == ["Checkpoint 1: Brenquist Cross"]
     start = datetime(2026, 6, 6, 8, 0)
     rows, finish = checkpoint_windows(plans, checkpoints, start, margin=900)
     assert len(rows) == 4

@@ -163,7 +163,7 @@ def test_route_page_in_a_real_browser(demo_site, tmp_path):
     dom = subprocess.run(
         [_chromium(), *flags, "--dump-dom", page], capture_output=True, text=True, timeout=120, check=True
     ).stdout
-    assert "<title>Gorse Bank Hill Loop" in dom
+    assert "<title>Pellowind Bank Hill Loop" in dom
 
 
 def _contrast(a: str, b: str) -> float:

@@ -129,7 +129,7 @@ def test_rider_defaults_follow_the_vehicle():
         ({"cp": 5000.0}, "critical power"),
         ({"w_prime": -1.0}, "W′"),
         ({"target_speed": 0.0}, "target climbing speed"),
-        ({"cruise_level": 9}, "cruise assist level"),
+        ({"assist_between_climbs": 9}, "assist level between climbs"),
     ],
 )
 def test_impossible_riders_are_refused(given, fragment):

@@ -22,7 +22,7 @@ from pathlib import Path
 from cardgen import __version__
 from cardgen.build.cache import digest, file_digest, read_manifest, templates_digest, write_manifest
 from cardgen.build.publish import TMP, BuildError, Lock, check_output, publish, recover, side_name
-from cardgen.config import SiteConfig, rider_start
+from cardgen.config import SiteConfig, plural, rider_start
 from cardgen.errors import CardgenError
 from cardgen.paths import default_templates
 from cardgen.route.gpx import MAX_FILE_BYTES
@@ -212,7 +212,7 @@ def _build_locked(config, out, jobs, pdf, keep_going, say, progress, report):
                 failures.append(error)
             else:
                 route.job = job
-                say(f"planned {job.name}: {len(job.riders)} riders")
+                say(f"planned {job.name}: {plural(len(job.riders), 'rider')}")
     report.seconds["plan"] = time.perf_counter() - t0
     if failures and (not keep_going or len(failures) == len(routes)):
         why = "every route failed" if keep_going else "the build stopped"

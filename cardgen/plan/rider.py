@@ -7,6 +7,8 @@ vehicle's descent and curve speed limits, braking at :data:`BRAKING` before them
 
 from __future__ import annotations
 
+import dataclasses
+
 import numpy as np
 
 from cardgen.physics.assist import (
@@ -27,7 +29,7 @@ from cardgen.profiles.riders import Rider
 from cardgen.route.climbs import Climb, Descent, find_climbs, find_descents
 from cardgen.route.cues import cue_sheet
 from cardgen.route.gpx import Track
-from cardgen.route.terrain import Terrain
+from cardgen.route.terrain import Terrain, doubtful
 from cardgen.units import G0, Floats
 
 #: Steepest 100 m grade that earns a "steep" note [-]: common practice, no published
@@ -47,6 +49,7 @@ CURVE_SPEEDS = np.linspace(2.0, 30.0, 57) / 3.6
 def analyse(track: Track, terrain: Terrain) -> Analysis:
     """Climbs, descents and the cue sheet of a route (done once, shared by riders)."""
     cues, warnings = cue_sheet(terrain, track)
+    warnings = [*doubtful(track, terrain), *warnings]
     return Analysis(
         track,
         terrain,
@@ -78,7 +81,7 @@ def _assist_ratios(rider: Rider, motor: Motor | None, climbs, terrain, wind, rho
     levels: dict[int, int] = {}
     if motor is None:
         return ratio, levels
-    ratio[:] = 0.0 if rider.cruise_level == 0 else motor.levels[rider.cruise_level - 1]
+    ratio[:] = 0.0 if rider.assist_between_climbs == 0 else motor.levels[rider.assist_between_climbs - 1]
     chosen = suggest_levels(
         motor,
         [(c.start, c.end) for c in climbs],
@@ -119,6 +122,8 @@ def make_plan(
     vehicle = rider.vehicle
     wind, rho = segment_air(terrain, conditions)
     motor = find_motor(vehicle.motor) if vehicle.motor else None
+    if motor is not None and vehicle.battery is not None:
+        motor = dataclasses.replace(motor, battery=vehicle.battery)
     ratio, levels = _assist_ratios(rider, motor, route.climbs, terrain, wind, rho)
 
     on_climb = np.zeros(terrain.grade.size, dtype=bool)

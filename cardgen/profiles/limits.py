@@ -52,7 +52,10 @@ LIMITS: dict[str, Limit] = {
     "climb_w": Limit(1, 2000, "W", help="power on climbs"),
     "climb_share": Limit(0, 0.5, help="largest share above CP on climbs"),
     "target_kmh": Limit(1, 60, "km/h", 1 / 3.6, "climbing speed for the watts column"),
-    "cruise_level": Limit(0, 10, help="assist level away from climbs"),
+    "assist_between_climbs": Limit(0, 10, help="assist level away from climbs (0 = off)"),
+    "flat_kmh": Limit(3, 60, "km/h", 1 / 3.6, "average speed on the flat, instead of flat_w"),
+    "body_mass_kg": Limit(20, 250, "kg", help="the rider's own mass (replaces the vehicle's rider mass)"),
+    "load_kg": Limit(0, 300, "kg", help="luggage or cargo carried, added to the vehicle"),
     # the vehicle
     "vehicle_mass_kg": Limit(0, 400, "kg", help="vehicle and its load"),
     "rider_mass_kg": Limit(0, 400, "kg", help="rider(s)"),

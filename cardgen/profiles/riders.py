@@ -33,7 +33,7 @@ class Rider:
     climb_power : float [W] wanted on climbs; used up to ``cp·(1 + climb_share)``
     climb_share : float [-] largest share above CP allowed on climbs
     target_speed : float [m/s] climbing speed for the "watts to hold it" column
-    cruise_level : int  assist level away from climbs (vehicles with a motor)
+    assist_between_climbs : int  assist level away from climbs (vehicles with a motor)
 
     Notes
     -----
@@ -52,7 +52,7 @@ class Rider:
     climb_power: float
     climb_share: float
     target_speed: float
-    cruise_level: int = 1
+    assist_between_climbs: int = 1
 
     def __post_init__(self):
         problems = []
@@ -73,8 +73,10 @@ class Rider:
             )
         if self.vehicle.motor is not None:
             levels = len(find_motor(self.vehicle.motor).levels)
-            if not 0 <= self.cruise_level <= levels:
-                problems.append(f"cruise assist level {self.cruise_level} is outside 0…{levels}")
+            if not 0 <= self.assist_between_climbs <= levels:
+                problems.append(
+                    f"assist level between climbs {self.assist_between_climbs} is outside 0…{levels}"
+                )
         if problems:
             raise VehicleError(f"rider '{self.name}': " + "; ".join(problems))
 

@@ -2,7 +2,6 @@
 
 from __future__ import annotations
 
-import difflib
 import os
 import stat
 import tomllib
@@ -10,7 +9,7 @@ from collections.abc import Iterable, Mapping
 from pathlib import Path
 from typing import Any
 
-from cardgen.errors import CardgenError
+from cardgen.errors import CardgenError, close_matches
 from cardgen.profiles.limits import LIMITS
 
 #: Largest TOML file read [bytes]: a site of 10,000 riders is about 1.5 MB.
@@ -56,14 +55,6 @@ def read_toml(path: Path, what: str, error: type[CardgenError]) -> tuple[dict, s
         return tomllib.loads(text), text
     except tomllib.TOMLDecodeError as exc:
         raise error(f"{path}: not valid TOML: {exc}; fix the syntax there") from None
-
-
-def close_matches(word: str, known: Iterable[str]) -> str:
-    """ ", did you mean 'x' or 'y'?" for the closest known words, or ""."""
-    matches = difflib.get_close_matches(word, list(known), n=3, cutoff=0.6)
-    if not matches:
-        return ""
-    return "; did you mean " + " or ".join(f"'{m}'" for m in matches) + "?"
 
 
 def check_numbers(

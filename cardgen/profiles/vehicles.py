@@ -15,7 +15,7 @@ from importlib import resources
 from pathlib import Path
 from typing import Any
 
-from cardgen.errors import VehicleError
+from cardgen.errors import VehicleError, close_matches
 from cardgen.physics.forces import Resistance
 from cardgen.profiles.limits import LIMITS
 from cardgen.profiles.motors import builtin_motors
@@ -40,7 +40,9 @@ NUMBERS = {
     "curve_accel_g": "curve_accel",
 }
 _TEXT = {"label", "propulsion", "base", "motor"}
-_KNOWN = set(NUMBERS) | _TEXT | {"wheels", "sources"}
+#: Optional numbers: key → attribute (None when not given).
+OPTIONAL = {"battery_wh": "battery"}
+_KNOWN = set(NUMBERS) | set(OPTIONAL) | _TEXT | {"wheels", "sources"}
 
 
 @dataclass(frozen=True)
@@ -85,6 +87,7 @@ class Vehicle:
     curve_accel: float
     motor: str | None = None
     sources: Mapping[str, str] = field(default_factory=dict, compare=False)
+    battery: float | None = None  # [J] the battery fitted, when it differs from the motor catalogue's
 
     @property
     def mass(self) -> float:
@@ -116,7 +119,9 @@ class Vehicle:
         """
         problems = unknown_keys(table, _KNOWN)
         values, number_problems = check_numbers(table, NUMBERS)
-        problems += number_problems
+        optional, optional_problems = check_numbers(table, OPTIONAL, required=False)
+        problems += number_problems + optional_problems
+        values.update(optional)
         wheels = table.get("wheels")
         if wheels not in (2, 3) or isinstance(wheels, bool):
             problems.append(f"'wheels' must be 2 or 3, not {wheels!r}")
@@ -132,6 +137,8 @@ class Vehicle:
                 )
         if values.get("vehicle_mass", 1.0) + values.get("rider_mass", 1.0) < 20.0:
             problems.append("vehicle_mass_kg + rider_mass_kg must be at least 20 kg")
+        if "battery" in values and motor is None:
+            problems.append("'battery_wh' is given but the vehicle has no 'motor'")
         if problems or not isinstance(wheels, int):
             lines = "\n  ".join(problems)
             raise VehicleError(f"{where}: vehicle '{name}':\n  {lines}")
@@ -171,29 +178,35 @@ def load_vehicles(path: str | Path) -> dict[str, Vehicle]:
     data, _ = read_toml(path, "vehicle profile", VehicleError)
     if not data:
         raise VehicleError(f"{path}: no vehicle tables; add one like [my-bike] with its keys")
+    return vehicles_from_tables(data, str(path), f"user file {path.name}")
+
+
+def vehicles_from_tables(data: Mapping[str, Any], where: str, origin: str) -> dict[str, Vehicle]:
+    """Vehicles from tables by name, each starting from a built-in one with ``base``
+    (its own keys replace the base's; their sources become ``origin``)."""
     library = builtin_vehicles()
     found = {}
     for name, table in data.items():
         if not isinstance(table, dict):
-            raise VehicleError(f"{path}: '{name}' must be a table like [{name}], not a value")
+            raise VehicleError(f"{where}: '{name}' must be a table like [{name}], not a value")
         merged: dict[str, Any] = {}
         base = table.get("base")
         if base is not None:
             if not isinstance(base, str) or base not in library:
                 raise VehicleError(
-                    f"{path}: vehicle '{name}': base '{base}' is not a built-in vehicle "
-                    f"(allowed: {', '.join(library)})"
+                    f"{where}: vehicle '{name}': base {base!r} is not a built-in vehicle"
+                    f"{close_matches(str(base), library)} (allowed: {', '.join(library)})"
                 )
             merged = _as_table(library[base])
         sources = dict(merged.get("sources", {}))
-        sources.update({k: f"user file {path.name}" for k in table if k in NUMBERS})
+        sources.update({k: origin for k in table if k in NUMBERS or k in OPTIONAL})
         own = table.get("sources", {})
         if not isinstance(own, dict):
-            raise VehicleError(f"{path}: vehicle '{name}': 'sources' must be a table of key = \"source\"")
+            raise VehicleError(f"{where}: vehicle '{name}': 'sources' must be a table of key = \"source\"")
         sources.update(own)
         merged.update({k: v for k, v in table.items() if k != "base"})
         merged["sources"] = sources
-        found[name] = Vehicle.from_table(name, merged, str(path))
+        found[name] = Vehicle.from_table(name, merged, where)
     return found
 
 
@@ -209,6 +222,8 @@ def _as_table(vehicle: Vehicle) -> dict[str, Any]:
         table["motor"] = vehicle.motor
     for key, attr in NUMBERS.items():
         table[key] = getattr(vehicle, attr) / LIMITS[key].to_si
+    if vehicle.battery is not None:
+        table["battery_wh"] = vehicle.battery / LIMITS["battery_wh"].to_si
     return table
 
 
@@ -227,6 +242,6 @@ def find_vehicle(name_or_path: str) -> Vehicle:
             )
         return next(iter(found.values()))
     raise VehicleError(
-        f"unknown vehicle '{name_or_path}'; use one of: {', '.join(library)}, "
+        f"unknown vehicle '{name_or_path}'{close_matches(name_or_path, library)}; use one of: {', '.join(library)}, "
         "or the path of a .toml profile file"
     )

@@ -34,7 +34,7 @@ CAUTIONS = (
 SYMBOLS = {
     "walk": ("W", "below balance speed on two wheels: walking may be needed"),
     "steep": ("S", "steepest 100 m at 10 % or more"),
-    "w-prime": ("R", "the rider's anaerobic reserve (W′) runs out at this effort"),
+    "w-prime": ("R", "W′ (the work the rider can do above CP) runs out at this effort"),
     "fast": ("F", "coasting would pass the vehicle's speed limit: control the speed"),
     "curve": ("C", "tight curve: slow down before it"),
     "battery": ("B", "the battery may not last with a reserve"),

@@ -14,7 +14,7 @@ def _w_prime(n: Notice, units: str) -> str:
         if n.value("safe") is not None
         else "ease off before the climb to recover"
     )
-    return f"at {fmt.power(n.value('power'))} the rider runs out of anaerobic reserve (W′) on this climb; {advice}"
+    return f"at {fmt.power(n.value('power'))} W′ (the work the rider can do above CP) runs out on this climb; {advice}"
 
 
 _WORDS: dict[str, Callable[[Notice, str], str]] = {

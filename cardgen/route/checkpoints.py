@@ -6,7 +6,7 @@ from __future__ import annotations
 from collections.abc import Sequence
 from dataclasses import dataclass
 
-from cardgen.errors import ConfigError
+from cardgen.errors import ConfigError, close_matches
 from cardgen.route.cues import place_points
 from cardgen.route.gpx import Track
 from cardgen.route.terrain import Terrain
@@ -42,7 +42,7 @@ def resolve_checkpoints(
         return checkpoints_from_waypoints(track, terrain)
     by_name = {c.name: c for c in checkpoints_from_waypoints(track, terrain)}
     names = {w.name for w in track.waypoints}
-    out = []
+    out, problems = [], []
     for item in items:
         if isinstance(item, str):
             if item in by_name:
@@ -51,15 +51,20 @@ def resolve_checkpoints(
                 cues, _ = place_points(terrain, [w for w in track.waypoints if w.name == item], "waypoint")
                 out.extend(Checkpoint(c.text, c.distance) for c in cues)
             else:
-                raise ConfigError(
-                    f"checkpoint {item!r} is not a waypoint of {where}; "
+                problems.append(
+                    f"checkpoint {item!r} is not a waypoint of the route{close_matches(item, names)}; "
                     "use a waypoint name or a distance in km"
                 )
+        elif item < 0:
+            problems.append(
+                f"checkpoint at {item / 1000:g} km is before the start; distances count from 0 km"
+            )
+        elif item > terrain.length:
+            problems.append(
+                f"checkpoint at {item / 1000:g} km is beyond the route's {terrain.length / 1000:.1f} km"
+            )
         else:
-            if not 0 <= item <= terrain.length:
-                raise ConfigError(
-                    f"checkpoint at {item / 1000:g} km is beyond the route's "
-                    f"{terrain.length / 1000:.1f} km"
-                )
             out.append(Checkpoint(f"Checkpoint at {item / 1000:g} km", float(item)))
+    if problems:
+        raise ConfigError(f"{where}: " + "; ".join(problems))
     return sorted(out, key=lambda c: c.distance)

@@ -295,3 +295,36 @@ def build_terrain(track: Track, step: float = GRID_STEP) -> Terrain:
         loss=loss,
         gaps=gap_at,
     )
+
+
+#: A route shorter than this [m] is probably not what was meant.
+SHORT_ROUTE = 500.0
+#: No ridden road is steeper than this over 100 m; steeper profiles usually have
+#: elevations in feet or a broken elevation model (common practice, no published source).
+STEEPEST_PLAUSIBLE = 0.35
+#: A jump between neighbouring points larger than this [m] is damaged elevation data.
+ELEVATION_JUMP = 50.0
+
+
+def doubtful(track: Track, terrain: Terrain) -> list[str]:
+    """Reasons to doubt the route: too short, implausibly steep, elevation jumps."""
+    reasons = []
+    if terrain.length < SHORT_ROUTE:
+        reasons.append(f"the route is only {terrain.length:.0f} m long; is this the whole route?")
+    k = max(1, int(round(100.0 / terrain.step)))
+    if terrain.elevation.size > k:
+        rise = np.abs(terrain.elevation[k:] - terrain.elevation[:-k]) / (k * terrain.step)
+        steep = int(np.argmax(rise))
+        if rise[steep] > STEEPEST_PLAUSIBLE:
+            reasons.append(
+                f"the grade reaches {rise[steep] * 100:.0f} % over 100 m near km "
+                f"{terrain.distance[steep] / 1000:.1f}, steeper than any road: are the elevations in feet, "
+                "or is the elevation data damaged?"
+            )
+    jumps = int(np.sum(np.abs(np.diff(track.elevation)) > ELEVATION_JUMP))
+    if jumps:
+        reasons.append(
+            f"the elevation jumps by more than {ELEVATION_JUMP:.0f} m between neighbouring points "
+            f"{jumps} time(s); the elevation data look damaged"
+        )
+    return reasons
