@@ -45,6 +45,7 @@ bench: $(VENV)/installed
 	$(BIN)/python bench/bench_solver.py
 	$(BIN)/python bench/bench_route.py
 	$(BIN)/python bench/bench_plan.py
+	$(BIN)/python bench/bench_ride.py
 	$(BIN)/python bench/bench_build.py
 
 clean:

@@ -19,12 +19,12 @@ Blelloch, G. E. (1990). Prefix sums and their applications. CMU-CS-90-190 (the s
 from __future__ import annotations
 
 import math
-from collections.abc import Callable
 from dataclasses import dataclass
 from typing import Any
 
 import numpy as np
 
+from cardgen.physics.assist import Motor, motor_power_and_slope
 from cardgen.physics.forces import (
     ForceLaw,
     Resistance,
@@ -36,6 +36,18 @@ from cardgen.physics.forces import (
 from cardgen.physics.steady import speed_for_power
 from cardgen.units import Floats
 
+#: Passes end when no segment's reference speed moves by more than this share …
+TOLERANCE = 1e-6
+#: … or after this many passes (Ride.converged then says False).
+MAX_PASSES = 80
+#: The first solve, which only finds the segments to cut, stops at this change.
+ROUGH = 1e-3
+#: Passes after this one move the reference half way only (damping).
+DAMP_AFTER = 12
+#: A segment whose u = v² changes by more than this share of itself is cut into parts …
+SUBSTEP_CHANGE = 0.05
+#: … at most this many.
+MAX_SUBSTEPS = 32
 #: Stand-in for ±infinity in clamp bounds: keeps 0 × bound finite in the scan.
 UNBOUNDED = 1e300
 
@@ -144,6 +156,8 @@ class Ride:
     braking: np.ndarray
     limited: np.ndarray
     residual: np.ndarray
+    passes: int = 0  # re-linearisations used
+    converged: bool = True  # the passes met the tolerance
 
 
 def simulate(
@@ -157,9 +171,11 @@ def simulate(
     speed_cap: Floats,
     distance: Floats,
     deceleration: float,
-    motor: Callable[[np.ndarray, np.ndarray], np.ndarray] | None = None,
+    motor: Motor | None = None,
+    assist_ratio: Floats = 0.0,
     start_speed: float | None = None,
-    passes: int = 4,
+    tolerance: float = TOLERANCE,
+    max_passes: int = MAX_PASSES,
 ) -> Ride:
     """Ride a profile of equal segments with the kinetic-energy balance.
 
@@ -173,11 +189,13 @@ def simulate(
     speed_cap : array (n + 1,) [m/s] limit at each node (descent cap, curves)
     distance : array (n + 1,) [m] node positions
     deceleration : float [m/s²] braking used to meet the caps
-    motor : callable or None
-        ``motor(speed, rider_power) -> power at the wheel [W]`` per segment.
+    motor : Motor or None  the e-assist envelope, with ``assist_ratio`` (n,) per segment
     start_speed : float [m/s] or None
         None (the default) is a rolling start at the first segment's steady speed.
-    passes : int  re-linearisations of the whole profile (4: see tests/test_ride.py)
+    tolerance : float  passes end when no node's speed moves by more than
+        this share between passes (1e-6), at every node
+    max_passes : int  at most this many passes; ``Ride.converged`` says whether the
+        tolerance was met
 
     Returns
     -------
@@ -186,17 +204,85 @@ def simulate(
     Notes
     -----
     Per segment, in u = v²: du/ds = (2/m_e)·(P_w/v − F(v)), m_e = m + I/r², P_w the
-    power at the wheel, F the resisting force of Martin et al. (1998). Linearised at a
-    reference speed v_r with J = −(P_w/v_r³ + F′(v_r)/v_r)/m_e, one exponential-Euler
-    step is u₊ = u_r + (u − u_r)·e^{J·Δs} + r(u_r)·Δs·φ(J·Δs), φ(z) = (e^z − 1)/z,
-    clamped to [0, v_lim²] (Hochbruck & Ostermann 2010).
+    power at the wheel (rider and motor, the motor's taper near its cut-off included),
+    F the resisting force of Martin et al. (1998). Linearised at a reference speed v_r
+    with J = (P_m′/v_r² − P_w/v_r³ − F′(v_r)/v_r)/m_e, one exponential-Euler step is
+    u₊ = u_r + (u − u_r)·e^{J·Δs} + r(u_r)·Δs·φ(J·Δs), φ(z) = (e^z − 1)/z, clamped to
+    [0, v_lim²] (Hochbruck & Ostermann 2010). The references are moved to the result
+    until they settle (``tolerance``). Where the speed still changes by more than
+    :data:`SUBSTEP_CHANGE` of itself within a segment (into a steep ramp, say), that
+    segment is cut into up to :data:`MAX_SUBSTEPS` parts and the whole ride solved
+    again on the finer grid; the results are summed back onto the segments.
     """
-    res = resistance
     grade = np.asarray(grade, dtype=float)
     n = grade.size
-    wind = np.broadcast_to(np.asarray(headwind, dtype=float), (n,))
-    rho = np.broadcast_to(np.asarray(air_density, dtype=float), (n,))
-    rider = np.broadcast_to(np.asarray(rider_power, dtype=float), (n,))
+    rows = dict(
+        grade=grade,
+        wind=np.broadcast_to(np.asarray(headwind, dtype=float), (n,)).copy(),
+        rho=np.broadcast_to(np.asarray(air_density, dtype=float), (n,)).copy(),
+        rider=np.broadcast_to(np.asarray(rider_power, dtype=float), (n,)).copy(),
+        ratio=np.broadcast_to(np.asarray(assist_ratio, dtype=float), (n,)).copy(),
+        step=np.full(n, float(step)),
+    )
+    limit = speed_limit_profile(distance, speed_cap, deceleration)
+    # a first, looser solve finds the segments to cut; the final one meets the tolerance
+    coarse = _scan(rows, resistance, motor, limit, start_speed, max(tolerance, ROUGH), max_passes)
+    u = coarse["u"]
+    with np.errstate(invalid="ignore", divide="ignore"):
+        change = np.abs(np.diff(u)) / np.maximum(np.maximum(u[1:], u[:-1]), 1e-6)
+    pieces = np.clip(np.ceil(change / SUBSTEP_CHANGE), 1, MAX_SUBSTEPS).astype(int) if n else np.ones(0, int)
+    if n == 0:
+        return _ride(coarse, rows, resistance)
+    if pieces.max() == 1:
+        if tolerance >= ROUGH:
+            return _ride(coarse, rows, resistance)
+        speeds = np.sqrt(coarse["u"])
+        final = _scan(
+            rows,
+            resistance,
+            motor,
+            limit,
+            float(speeds[0]),
+            tolerance,
+            max_passes,
+            0.5 * (speeds[:-1] + speeds[1:]),
+        )
+        final["passes"] += coarse["passes"]
+        return _ride(final, rows, resistance)
+    fine_rows = {key: np.repeat(value, pieces) for key, value in rows.items()}
+    fine_rows["step"] = np.repeat(rows["step"] / pieces, pieces)
+    fine_distance = np.concatenate(
+        ([float(np.asarray(distance)[0])], np.cumsum(fine_rows["step"]) + np.asarray(distance)[0])
+    )
+    fine_cap = np.full(fine_distance.size, np.inf)
+    boundaries = np.concatenate(([0], np.cumsum(pieces)))
+    fine_cap[boundaries] = np.asarray(speed_cap, dtype=float)
+    fine_limit = speed_limit_profile(fine_distance, fine_cap, deceleration)
+    coarse_speed = np.sqrt(coarse["u"])
+    middles = fine_distance[:-1] + 0.5 * fine_rows["step"]
+    guess = np.interp(middles, np.asarray(distance, dtype=float), coarse_speed)
+    fine = _scan(
+        fine_rows, resistance, motor, fine_limit, float(coarse_speed[0]), tolerance, max_passes, guess
+    )
+    fine["passes"] += coarse["passes"]
+    return _ride(_coarsen(fine, boundaries, resistance), rows, resistance)
+
+
+def _scan(
+    rows: dict[str, np.ndarray],
+    res: Resistance,
+    motor: Motor | None,
+    limit: np.ndarray,
+    start_speed: float | None,
+    tolerance: float,
+    max_passes: int,
+    first_guess: np.ndarray | None = None,
+) -> dict[str, Any]:
+    """The converged passes of :func:`simulate` on one grid: node u = v², and per
+    segment time [s], motor power [W], whether a limit held the speed, passes used.
+    ``first_guess`` [m/s] per segment replaces the steady speeds as the first reference."""
+    grade, wind, rho, rider, ratio = rows["grade"], rows["wind"], rows["rho"], rows["rider"], rows["ratio"]
+    n = grade.size
     cos_a = 1.0 / np.sqrt(1.0 + grade * grade)
     force = ForceLaw.build(
         mass=res.mass,
@@ -208,9 +294,15 @@ def simulate(
         bearings=res.bearings,
     )
     m_e = res.mass + res.wheel_inertia_mass
-    length = step / cos_a  # along the slope
-    limit = speed_limit_profile(distance, speed_cap, deceleration)
+    length = rows["step"] / cos_a  # along the slope
     hi = limit[1:] ** 2
+    wheel_rider = np.where(rider > 0, rider * res.efficiency, rider)
+    no_motor = np.zeros(n)
+
+    def drive(v: np.ndarray) -> tuple[Any, Any]:
+        if motor is None:
+            return no_motor, no_motor
+        return motor_power_and_slope(motor, ratio, v, rider)
 
     def steady(p_wheel: Floats) -> Any:
         v = speed_for_power(
@@ -228,20 +320,25 @@ def simulate(
         return np.minimum(np.nan_to_num(v, nan=1.0, posinf=1.0), limit[1:])
 
     # First reference: the steady speed of each segment (with the motor at that speed).
-    wheel_rider = np.where(rider > 0, rider * res.efficiency, rider)
-    v_ref = steady(wheel_rider)
-    if motor is not None:
-        v_ref = steady(wheel_rider + motor(np.maximum(v_ref, 0.05), rider))
-    v_ref = np.maximum(v_ref, 0.05)
+    if first_guess is not None:
+        v_ref = np.maximum(first_guess, 0.05)
+    else:
+        v_ref = steady(wheel_rider)
+        for _ in range(3 if motor is not None else 0):  # the motor's share depends on the speed
+            v_ref = steady(wheel_rider + drive(np.maximum(v_ref, 0.05))[0])
+        v_ref = np.maximum(v_ref, 0.05)
     if start_speed is None:
-        start_speed = float(v_ref[0])
+        start_speed = float(v_ref[0]) if n else 0.0
     u = np.full(n + 1, start_speed**2)
-    for _ in range(passes):
-        motor_w = motor(v_ref, rider) if motor is not None else np.zeros(n)
+    v_last = np.sqrt(u)
+    used, change = 0, 0.0
+    for used in range(1, max_passes + 1):
+        motor_w, motor_slope = drive(v_ref)
         p_wheel = wheel_rider + motor_w
         f, df = force(v_ref)
         r = 2.0 / m_e * (p_wheel / v_ref - f)
-        jac = -(p_wheel / v_ref**3 + df / v_ref) / m_e
+        # the Jacobian carries every speed-dependent term, the motor's taper included
+        jac = (motor_slope / v_ref**2 - p_wheel / v_ref**3 - df / v_ref) / m_e
         z = jac * length
         a = np.exp(z)
         with np.errstate(invalid="ignore", divide="ignore"):
@@ -250,13 +347,56 @@ def simulate(
         b = u_r * (1.0 - a) + r * length * phi
         u = clamp_affine_scan(a, b, np.zeros(n), hi, start_speed**2)
         v_nodes = np.sqrt(u)
-        v_ref = np.maximum(0.5 * (v_nodes[:-1] + v_nodes[1:]), 0.05)
-
+        v_new = np.maximum(0.5 * (v_nodes[:-1] + v_nodes[1:]), 0.05)
+        # settled when no node's speed moved by more than the tolerance since the last pass
+        change = float(np.max(np.abs(v_nodes - v_last) / np.maximum(v_last, 0.5))) if n else 0.0
+        v_last = v_nodes
+        # late passes are damped: a reference that overshoots a taper or a stall settles
+        v_ref = v_new if used <= DAMP_AFTER else 0.5 * (v_ref + v_new)
+        if change <= tolerance:
+            break
     speed = np.sqrt(u)
     mean_speed = 0.5 * (speed[:-1] + speed[1:])
     with np.errstate(divide="ignore"):
         time = np.where(mean_speed > 0, length / mean_speed, np.inf)
-    motor_w = motor(np.maximum(mean_speed, 0.05), rider) if motor is not None else np.zeros(n)
+    return dict(
+        u=u,
+        time=time,
+        motor=drive(np.maximum(mean_speed, 0.05))[0],
+        limited=u[1:] >= hi * (1 - 1e-9),
+        passes=used,
+        converged=change <= tolerance,
+    )
+
+
+def _coarsen(fine: dict[str, Any], boundaries: np.ndarray, res: Resistance) -> dict[str, Any]:
+    """Fine-grid results summed back onto the segments they were cut from."""
+    starts = boundaries[:-1]
+    time = np.add.reduceat(fine["time"], starts)
+    with np.errstate(invalid="ignore"):
+        motor = np.add.reduceat(np.nan_to_num(fine["motor"] * fine["time"], posinf=0.0), starts) / time
+    return dict(
+        u=fine["u"][boundaries],
+        time=time,
+        motor=np.nan_to_num(motor),
+        limited=np.maximum.reduceat(fine["limited"], starts),
+        passes=fine["passes"],
+        converged=fine["converged"],
+    )
+
+
+def _ride(result: dict[str, Any], rows: dict[str, np.ndarray], res: Resistance) -> Ride:
+    """The Ride of a solved grid: speeds, times, and the power split of each segment."""
+    grade, wind, rho, rider = rows["grade"], rows["wind"], rows["rho"], rows["rider"]
+    u, time = result["u"], result["time"]
+    n = grade.size
+    length = rows["step"] * np.sqrt(1.0 + grade * grade)
+    speed = np.sqrt(u)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        mean_speed = np.where(np.isfinite(time) & (time > 0), length / time, 0.0)
+    motor_w = result["motor"]
+    m_e = res.mass + res.wheel_inertia_mass
+    wheel_rider = np.where(rider > 0, rider * res.efficiency, rider)
     rolling = rolling_power(mean_speed, res.mass, res.crr, grade)
     bear = bearing_power(mean_speed) if res.bearings else np.zeros(n)
     aero = aero_power(mean_speed, res.cda, rho, wind)
@@ -265,7 +405,7 @@ def simulate(
         kinetic = np.where(np.isfinite(time), 0.5 * m_e * (u[1:] - u[:-1]) / time, 0.0)
     drivetrain = rider - wheel_rider
     residual = wheel_rider + motor_w - (rolling + bear + aero + gravity + kinetic)
-    limited = u[1:] >= hi * (1 - 1e-9)
+    limited = np.asarray(result["limited"], dtype=bool)
     braking = np.where(limited, np.maximum(residual, 0.0), 0.0)
     return Ride(
         speed,
@@ -283,4 +423,6 @@ def simulate(
         braking,
         limited,
         np.where(limited, residual - braking, residual),
+        int(result["passes"]),
+        bool(result["converged"]),
     )

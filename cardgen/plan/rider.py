@@ -14,7 +14,6 @@ import numpy as np
 from cardgen.physics.assist import (
     Motor,
     battery_energy,
-    motor_power,
     rider_power_for_speed,
     suggest_levels,
 )
@@ -138,7 +137,6 @@ def make_plan(
         air_density=rho,
         resistance=vehicle.resistance,
     )
-    drive = None if motor is None else (lambda v, p: motor_power(motor, ratio, v, p))
     ride = simulate(
         step=terrain.step,
         grade=terrain.grade,
@@ -149,7 +147,8 @@ def make_plan(
         speed_cap=speed_caps(terrain, rider),
         distance=terrain.distance,
         deceleration=BRAKING,
-        motor=drive,
+        motor=motor,
+        assist_ratio=ratio,
     )
     wbal = w_prime_balance_skiba(ride.rider_power, ride.time, rider.cp, rider.w_prime)
 
@@ -166,6 +165,8 @@ def make_plan(
     slow = (ride.mean_speed < vehicle.min_stable_speed) & (ride.rider_power > 0)
     battery = fits = None
     warnings = [Notice("track", "info", (("text", w),)) for w in route.warnings]
+    if not ride.converged:
+        warnings.append(Notice("unsettled", "info", (("passes", float(ride.passes)),)))
     stalled = np.flatnonzero(~np.isfinite(ride.time))
     if stalled.size:  # the speed reached zero: the rider cannot get past this point
         warnings.append(Notice("stall", "warning", (("where", float(terrain.distance[stalled[0]])),)))

@@ -44,6 +44,8 @@ def plan_dict(plan) -> dict:
             "battery_j": _num(plan.totals.battery, 0),
             "battery_fits": plan.totals.battery_fits,
             "walk_m": _num(plan.totals.walk_length, 0),
+            "ride_passes": plan.ride.passes,
+            "ride_converged": plan.ride.converged,
         },
         "climbs": [
             {

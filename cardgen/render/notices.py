@@ -35,6 +35,10 @@ _WORDS: dict[str, Callable[[Notice, str], str]] = {
         f"{fmt.distance(n.value('where'), units)}: slow to "
         f"{fmt.speed(n.value('speed'), units)} or less"
     ),
+    "unsettled": lambda n, units: (
+        f"the ride model had not settled after {n.value('passes'):.0f} passes; times and battery may be "
+        "a little off"
+    ),
     "stall": lambda n, units: (
         f"the rider cannot complete the route at this effort: the speed falls to zero near "
         f"{fmt.distance(n.value('where'), units)}; plan more power, more assist, walking there, or a shorter route"
