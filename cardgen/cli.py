@@ -91,6 +91,75 @@ def _resistance(args):
     return args.mass, args.crr, args.cda, eff, False, "custom vehicle"
 
 
+def _solve_motor(args):
+    """The vehicle's motor and the assist ratio asked for (None, 0 without a motor)."""
+    from cardgen.profiles.motors import find_motor
+    from cardgen.profiles.vehicles import find_vehicle
+
+    vehicle = find_vehicle(args.vehicle) if args.vehicle is not None else None
+    if vehicle is None or vehicle.motor is None:
+        _ensure(
+            args.assist_level is None,
+            "--assist-level needs a --vehicle with a motor (see 'cardgen vehicles')",
+        )
+        return None, 0.0
+    motor = find_motor(vehicle.motor)
+    if vehicle.battery is not None:
+        import dataclasses
+
+        motor = dataclasses.replace(motor, battery=vehicle.battery)
+    level = args.assist_level or 0
+    _ensure(
+        0 <= level <= len(motor.levels),
+        f"--assist-level {level} is outside 0…{len(motor.levels)} for this motor",
+    )
+    return motor, (0.0 if level == 0 else motor.levels[level - 1])
+
+
+def _assist_speed(motor, ratio, power, common):
+    from cardgen.physics.assist import assisted_speed
+    from cardgen.physics.forces import Resistance
+
+    res = Resistance(
+        mass=common["mass"],
+        crr=common["crr"],
+        cda=common["cda"],
+        efficiency=common["efficiency"],
+        bearings=common["bearings"],
+    )
+    return assisted_speed(
+        motor,
+        ratio,
+        power,
+        resistance=res,
+        grade=common["grade"],
+        headwind=common["headwind"],
+        air_density=common["air_density"],
+    )
+
+
+def _assist_rider_power(motor, ratio, speed, common):
+    from cardgen.physics.assist import rider_power_for_speed
+    from cardgen.physics.forces import Resistance
+
+    res = Resistance(
+        mass=common["mass"],
+        crr=common["crr"],
+        cda=common["cda"],
+        efficiency=common["efficiency"],
+        bearings=common["bearings"],
+    )
+    return rider_power_for_speed(
+        motor,
+        ratio,
+        speed,
+        resistance=res,
+        grade=common["grade"],
+        headwind=common["headwind"],
+        air_density=common["air_density"],
+    )
+
+
 def cmd_solve(args) -> int:
     from cardgen.physics.forces import steady_breakdown
     from cardgen.physics.steady import speed_for_power
@@ -126,20 +195,33 @@ def cmd_solve(args) -> int:
         air_density=rho,
         bearings=bearings,
     )
+    motor, ratio = _solve_motor(args)
     if args.power is not None:
         _within("--power", args.power, "power_w")
         speed = float(speed_for_power(args.power, **common))
+        if motor is not None and ratio > 0:
+            speed = float(_assist_speed(motor, ratio, args.power, common))
         _ensure(math.isfinite(speed), "no steady speed exists for these values; check the inputs")
     else:
         _within("--speed", args.speed, "speed_kmh")
         speed = float(kmh_to_ms(args.speed))
     parts = steady_breakdown(speed, **common)
-    power = float(parts.total) if args.power is None else float(args.power)
+    if args.power is not None:
+        power = float(args.power)
+    elif motor is not None and ratio > 0:
+        power = float(_assist_rider_power(motor, ratio, speed, common))
+    else:
+        power = float(parts.total)
+    motor_w = 0.0
+    if motor is not None and ratio > 0:
+        from cardgen.physics.assist import motor_power
+
+        motor_w = float(motor_power(motor, ratio, speed, power))
     breakdown = {
         "rolling": float(parts.rolling + parts.bearings),
         "aero": float(parts.aero),
         "gravity": float(parts.gravity),
-        "drivetrain": float(parts.drivetrain),
+        "drivetrain": float(power * (1 - eff)) if motor_w > 0 and power > 0 else float(parts.drivetrain),
     }
     result = {
         "speed_kmh": float(ms_to_kmh(speed)),
@@ -149,9 +231,20 @@ def cmd_solve(args) -> int:
         "air_density_kg_m3": rho,
         "breakdown_w": breakdown,
     }
+    if motor is not None:
+        result["assist_level"] = args.assist_level or 0
+        result["motor_w"] = motor_w
     if args.json:
         print(json.dumps(result, indent=2))
         return 0
+    _print_solve(args, result, label, (mass, cda, crr, eff), rho, speed, power, motor, motor_w, bearings)
+    return 0
+
+
+def _print_solve(args, result, label, vehicle, rho, speed, power, motor, motor_w, bearings) -> None:
+    """The solve command's words for a person."""
+    mass, cda, crr, eff = vehicle
+    breakdown = result["breakdown_w"]
     _print(f"{label}: {mass:g} kg, CdA {cda:.3f} m², Crr {crr:.4f}, drivetrain {eff * 100:.1f} %")
     wind = "headwind" if args.headwind >= 0 else "tailwind"
     _print(f"grade {args.grade:+.1f} %, {wind} {abs(args.headwind):.1f} km/h, air density {rho:.3f} kg/m³")
@@ -166,6 +259,11 @@ def cmd_solve(args) -> int:
                 "stop behaving as the model assumes there; check the inputs"
             )
     _print(f"  power   {power:8.0f} W at the pedals")
+    if motor is not None:
+        if motor_w > 0 or (args.assist_level or 0) > 0:
+            _print(f"  motor   {motor_w:8.0f} W at the wheel ({motor.level_name(args.assist_level)})")
+        else:
+            _print(f"  motor is off: give --assist-level 1…{len(motor.levels)} to ride with assistance")
     _print()
     spent = sum(v for v in breakdown.values() if v > 0)
     _print("  term         power   share of power spent")
@@ -175,7 +273,6 @@ def cmd_solve(args) -> int:
         _print(f"  {term:<10} {value:7.0f} W   {share}{note}")
     if bearings:
         _print("\n  rolling includes wheel-bearing friction (Dahn et al. 1991).")
-    return 0
 
 
 def _route_plan(args):
@@ -582,6 +679,12 @@ def build_parser() -> argparse.ArgumentParser:
         help="altitude for the ISA air density (default 0)",
     )
     air.add_argument("--air-density", type=float, metavar="KGM3", help="air density")
+    solve.add_argument(
+        "--assist-level",
+        type=_ranged(0, 10, "0: motor off"),
+        metavar="N",
+        help="e-assist vehicles: the assist level (default 0, the motor off)",
+    )
     solve.add_argument("--json", action="store_true", help="print one JSON object")
     solve.set_defaults(run=cmd_solve)
 

@@ -159,3 +159,35 @@ def test_guard_rails_refusals(run_cli, args, fragment):
 def test_guard_rails_mass(run_cli, mass):
     code, _, err = run_cli("solve", "--power", "100", "--mass", mass, "--crr", "0.005", "--cda", "0.4")
     assert code == 1 and "--mass" in err
+
+
+def test_assist_level_in_solve(run_cli):
+    code, out, err = run_cli(
+        "solve",
+        "--vehicle",
+        "e-assist-city",
+        "--speed",
+        "20",
+        "--grade",
+        "5",
+        "--assist-level",
+        "2",
+        "--json",
+        parse_json=True,
+    )
+    assert code == 0, err
+    # level 2 of the EU pedelec envelope is a 100 % assist ratio, below the 25 km/h
+    # cut-off (Regulation (EU) No 168/2013): the wheel gets P·E + 1.0·P
+    need = out["breakdown_w"]["rolling"] + out["breakdown_w"]["aero"] + out["breakdown_w"]["gravity"]
+    assert out["power_w"] * (0.95 + 1.0) == pytest.approx(need, rel=1e-9)
+    assert out["motor_w"] == pytest.approx(out["power_w"]) and out["assist_level"] == 2
+
+
+def test_solve_says_the_motor_is_off_without_a_level(run_cli):
+    code, out, err = run_cli("solve", "--vehicle", "e-assist-city", "--power", "100")
+    assert code == 0 and "motor is off" in out
+
+
+def test_assist_level_without_a_motor_is_refused(run_cli):
+    code, _, err = run_cli("solve", "--vehicle", "road-hoods", "--power", "100", "--assist-level", "1")
+    assert code == 1 and "needs a --vehicle with a motor" in err

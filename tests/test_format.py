@@ -66,3 +66,10 @@ def test_clock_times():
     assert fmt.clock(start, 3600 + 31) == "09:01"
     assert fmt.clock(None, 4020) == "+1:07"  # no start: time after the start
     assert fmt.clock(start, math.inf) == "–"
+
+
+def test_limits_round_the_safe_way():
+    assert fmt.power(223.5, "down") == "220 W"  # a safe climbing power is never printed higher
+    assert fmt.power(225.0, "down") == "225 W"
+    assert fmt.speed(15.9 / 3.6, "metric", "down") == "15.5 km/h"  # nor a safe curve speed
+    assert fmt.speed(16.0 / 3.6, "metric", "down") == "16.0 km/h"

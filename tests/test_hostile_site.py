@@ -318,12 +318,19 @@ def test_watch_unexpected_error_and_polls_times_only(tmp_path):
         daemon=True,
     )
     thread.start()
+
+    def wait_for(condition) -> None:
+        deadline = time.monotonic() + 20
+        while not condition() and time.monotonic() < deadline:
+            time.sleep(0.02)
+
     time.sleep(0.3)
     assert loads == []  # nothing changed: the configuration was not read again
     path.write_text("bb")
-    time.sleep(0.3)
+    wait_for(lambda: len(loads) == 1 and said)
     path.write_text("ccc")
-    time.sleep(0.3)
+    wait_for(lambda: "rebuilt" in said)
+    time.sleep(0.2)
     stop.set()
     thread.join(5)
     assert len(loads) == 2  # once per change

@@ -5,7 +5,7 @@ import math
 import numpy as np
 import pytest
 
-from cardgen.physics.effort import skiba_time_constant, w_prime_balance_skiba
+from cardgen.physics.effort import w_prime_balance
 from cardgen.physics.forces import G0, Resistance
 from cardgen.physics.ride import clamp_affine_scan, simulate, speed_limit_profile
 from cardgen.physics.steady import speed_for_power
@@ -156,36 +156,28 @@ def test_speed_limit_profile_envelope():
     np.testing.assert_allclose(limit, np.sqrt(2 * 2.0 * (100 - d)))
 
 
-# Skiba, Chidnok, Vanhatalo & Jones (2012), Med. Sci. Sports Exerc. 44:1526–1532.
+# The differential W′ balance: Skiba, Fulford, Clarke, Vanhatalo & Jones (2015), Eur. J.
+# Appl. Physiol. 115:703 (from memory); the critical-power model of Monod & Scherrer
+# (1965), Ergonomics 8:329: at P > CP, W′ lasts t = W′/(P − CP).
 def test_w_prime_never_depletes_below_cp():
-    bal = w_prime_balance_skiba(np.full(500, 240.0), np.full(500, 10.0), cp=250.0, w_prime=20000.0)
+    bal = w_prime_balance(np.full(500, 240.0), np.full(500, 10.0), cp=250.0, w_prime=20000.0)
     np.testing.assert_allclose(bal, 20000.0)
 
 
-def test_w_prime_depletes_at_cp_plus_50_for_w_prime_over_50_seconds():
+def test_w_prime_runs_out_after_w_prime_over_the_power_above_cp():
     cp, w_prime = 250.0, 20000.0
-    seconds = w_prime / 50.0
-    dt = np.full(400, seconds / 400)
-    bal = w_prime_balance_skiba(np.full(400, cp + 50.0), dt, cp=cp, w_prime=w_prime)
-    # no recovery intervals: D_CP = 0, τ = 862 s; continuous depletion with decay of the
-    # earliest work gives a little back within the bout
-    assert bal[-1] < 0.25 * w_prime
-    # with τ → ∞ it would be exactly zero; the model's own recovery within 400 s is
-    # W′exp·(1 − τ/T·(1 − e^(−T/τ))) ≈ 20 % for T = 400 s, τ = 862 s
-    tau = skiba_time_constant(0.0)
-    expected = w_prime - 50.0 * tau * (1 - math.exp(-seconds / tau))
-    assert bal[-1] == pytest.approx(expected, rel=0.01)
+    seconds = w_prime / 50.0  # Monod & Scherrer: 400 s at CP + 50 W
+    bal = w_prime_balance(np.full(400, cp + 50.0), np.full(400, seconds / 400), cp=cp, w_prime=w_prime)
+    assert bal[-1] == pytest.approx(0.0, abs=1e-6)
+    assert bal[199] == pytest.approx(w_prime / 2)  # linear: half gone at half time
 
 
-def test_w_prime_recovery_follows_the_published_time_constant():
+def test_w_prime_recovers_only_below_cp_exponentially():
     cp, w_prime = 250.0, 20000.0
-    work = np.concatenate((np.full(60, cp + 100.0), np.full(600, 150.0)))
-    dt = np.ones(work.size)
-    bal = w_prime_balance_skiba(work, dt, cp=cp, w_prime=w_prime)
-    tau = 546 * math.exp(-0.01 * (cp - 150.0)) + 316  # D_CP = 100 W
-    assert skiba_time_constant(100.0) == pytest.approx(tau)
-    # each second's 100 J above CP decays with e^(−t/τ) for the t seconds since then
-    expected = sum(100.0 * math.exp(-(659 - j) / tau) for j in range(60))
-    assert w_prime - bal[-1] == pytest.approx(expected, rel=1e-9)
-    # about e^(−600/τ) of what was spent is still missing 10 minutes later
-    assert (w_prime - bal[-1]) / 6000.0 == pytest.approx(math.exp(-630 / tau), rel=0.01)
+    work = np.concatenate((np.full(60, cp + 100.0), np.full(600, 150.0), np.full(100, cp)))
+    bal = w_prime_balance(work, np.ones(work.size), cp=cp, w_prime=w_prime)
+    spent = 60 * 100.0
+    assert bal[59] == pytest.approx(w_prime - spent)  # depletion is linear, nothing back above CP
+    # dW/dt = (W′ − W)(CP − P)/W′ solved over 600 s at D_CP = 100 W
+    assert bal[659] == pytest.approx(w_prime - spent * math.exp(-100.0 * 600 / w_prime), rel=1e-9)
+    assert bal[-1] == pytest.approx(bal[659])  # at exactly CP: neither spent nor recovered

@@ -2,16 +2,16 @@
 
 The effort model: the flat power everywhere, the climbing power on climbs, and no
 pedalling where gravity alone keeps the rider at least as fast as their flat speed on
-level ground. The W′ balance follows Skiba et al. (2012); the safe climbing power is
-the highest steady power whose work above CP fits the W′ left.
+level ground. The W′ balance is the differential form of Skiba et al. (2015); the safe
+climbing power is the highest steady power whose work above CP fits the W′ left.
 
 References
 ----------
 Monod, H. & Scherrer, J. (1965). The work capacity of a synergic muscular group.
 *Ergonomics* 8(3):329–338. doi:10.1080/00140136508930810 (critical power).
-Skiba, P. F., Chidnok, W., Vanhatalo, A. & Jones, A. M. (2012). Modeling the
-expenditure and reconstitution of work capacity above critical power. *Med. Sci.
-Sports Exerc.* 44(8):1526–1532. doi:10.1249/MSS.0b013e3182517a80
+Skiba, P. F., Fulford, J., Clarke, D. C., Vanhatalo, A. & Jones, A. M. (2015).
+Intramuscular determinants of the ability to recover work capacity above critical
+power. *Eur. J. Appl. Physiol.* 115(4):703–713 (the differential W′ balance).
 """
 
 from __future__ import annotations
@@ -95,80 +95,68 @@ def safe_climb_power(
 
     Notes
     -----
-    Recovery during the climb is ignored, which errs on the safe side. Candidates run
-    from CP to the climbing power in 40 steps.
+    At a constant P ≥ CP nothing is recovered (Skiba et al. 2015), so W′ lasts the
+    climb exactly when (P − CP)·T(P) ≤ W′left, with T(P) the climb's time at the steady
+    speed for P: the critical-power model t = W′/(P − CP) (Monod & Scherrer 1965). The
+    left side rises with P, so the answer is found by bisection to 0.01 W; it never
+    exceeds ``climb_power``.
     """
     if w_prime_left <= 0:
         return None
-    candidates = np.linspace(cp, max(cp, climb_power), 41)
     grade = np.asarray(grade, dtype=float)
     length = step * np.sqrt(1.0 + grade**2)  # along the slope
-    t = np.sum(
-        length
-        / speed_for_power(
-            candidates[:, None],
-            **resistance.steady(),
-            grade=grade,
-            headwind=headwind,
-            air_density=air_density,
-        ),
-        axis=1,
-    )
-    fits = (candidates - cp) * t <= w_prime_left
-    return float(candidates[fits].max())
+
+    def spent(power: float) -> float:
+        speed = speed_for_power(
+            power, **resistance.steady(), grade=grade, headwind=headwind, air_density=air_density
+        )
+        return float((power - cp) * np.sum(length / speed))
+
+    low, high = cp, max(cp, climb_power)
+    if spent(high) <= w_prime_left:
+        return high
+    while high - low > 0.01:
+        middle = 0.5 * (low + high)
+        low, high = (middle, high) if spent(middle) <= w_prime_left else (low, middle)
+    return low
 
 
-def w_prime_balance_skiba(power: Floats, time: Floats, cp: float, w_prime: float) -> Any:
-    """Balance of work capacity above critical power along a ride.
+def w_prime_balance(power: Floats, time: Floats, cp: float, w_prime: float) -> Any:
+    """Balance of work capacity above critical power along a ride, in the differential
+    form: W′ is spent only above CP and recovered only below it.
 
     Parameters
     ----------
     power : array [W] mean power of each interval
-    time : array [s] duration of each interval
+    time : array [s] duration of each interval (an infinite one, where the rider
+        stalled, counts as zero)
     cp : float [W] critical power
     w_prime : float [J] work capacity above CP
 
     Returns
     -------
-    array [J] W′bal at the end of each interval (n,), may go below 0 (exhausted).
+    array [J] W′bal at the end of each interval (n,), below 0 where exhausted.
 
     Notes
     -----
-    W′bal(t) = W′ − Σ_u W′exp(u)·e^{−(t−u)/τ}, with W′exp the work done above CP in
-    each interval and τ = 546·e^{−0.01·D_CP} + 316 s, D_CP = CP minus the mean power
-    of the intervals below CP (Skiba et al. 2012). Computed as the recurrence
-    S₊ = S·e^{−Δt/τ} + W′exp with :func:`clamp_affine_scan`.
+    dW′bal/dt = −(P − CP) for P ≥ CP, and (W′ − W′bal)·(CP − P)/W′ for P < CP
+    (Skiba et al. 2015). For a constant P over Δt both are affine in W′bal:
+    W₊ = W − (P − CP)·Δt, and W₊ = W′ − (W′ − W)·e^{−(CP − P)·Δt/W′}; the chain is
+    evaluated with :func:`clamp_affine_scan`. For a constant effort above CP the
+    balance reaches zero after t = W′/(P − CP), the critical-power model of Monod &
+    Scherrer (1965).
 
     References
     ----------
-    Skiba et al. (2012), Med. Sci. Sports Exerc. 44:1526–1532.
+    Skiba, P. F., Fulford, J., Clarke, D. C., Vanhatalo, A. & Jones, A. M. (2015).
+    Intramuscular determinants of the ability to recover work capacity above critical
+    power. *Eur. J. Appl. Physiol.* 115(4):703–713 (the differential form; authors and
+    pages from memory). Monod & Scherrer (1965), Ergonomics 8:329–338.
     """
     p = np.asarray(power, dtype=float)
-    # an interval never completed (the rider stalled: infinite time) adds nothing
     dt = np.nan_to_num(np.asarray(time, dtype=float), nan=0.0, posinf=0.0)
-    below = p < cp
-    if below.any() and dt[below].sum() > 0:
-        d_cp = cp - np.sum(p[below] * dt[below]) / dt[below].sum()
-    else:
-        d_cp = 0.0
-    tau = skiba_time_constant(d_cp)
-    expended = np.maximum(p - cp, 0.0) * dt
-    decay = np.exp(-dt / tau)
-    spent = clamp_affine_scan(decay, expended, np.full(p.size, -UNBOUNDED), np.full(p.size, UNBOUNDED), 0.0)[
-        1:
-    ]
-    return w_prime - spent
-
-
-def skiba_time_constant(d_cp: Floats) -> Any:
-    """Recovery time constant τ [s] of W′ for a recovery D_CP watts below CP.
-
-    Notes
-    -----
-    τ = 546·e^{−0.01·D_CP} + 316
-
-    References
-    ----------
-    Skiba et al. (2012), Med. Sci. Sports Exerc. 44:1526–1532.
-    """
-    return (546.0 * np.exp(-0.01 * np.asarray(d_cp, dtype=float)) + 316.0)[()]
+    above = p >= cp
+    decay = np.where(above, 1.0, np.exp(-np.maximum(cp - p, 0.0) * dt / w_prime))
+    shift = np.where(above, -(p - cp) * dt, w_prime * (1.0 - decay))
+    unbounded = np.full(p.size, UNBOUNDED)
+    return clamp_affine_scan(decay, shift, -unbounded, unbounded, w_prime)[1:]

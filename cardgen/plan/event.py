@@ -37,12 +37,22 @@ def checkpoint_windows(
     def window(checkpoint: Checkpoint) -> CheckpointWindow:
         arrivals = tuple(at(p, checkpoint.distance) for p in plans)
         reached = [a for a in arrivals if a is not None] or [start]  # none arrives: a window at the start
+        # to the minute, outward: a planned arrival is never outside the printed window
         return CheckpointWindow(
             checkpoint,
-            min(reached) - timedelta(seconds=margin),
-            max(reached) + timedelta(seconds=margin),
+            _minute_down(min(reached) - timedelta(seconds=margin)),
+            _minute_up(max(reached) + timedelta(seconds=margin)),
             arrivals,
         )
 
     rows = [window(cp) for cp in sorted(checkpoints, key=lambda c: c.distance)]
     return rows, window(Checkpoint("Finish", plans[0].terrain.length))
+
+
+def _minute_down(when: datetime) -> datetime:
+    return when.replace(second=0, microsecond=0)
+
+
+def _minute_up(when: datetime) -> datetime:
+    down = _minute_down(when)
+    return down if down == when else down + timedelta(minutes=1)

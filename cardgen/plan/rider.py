@@ -18,7 +18,7 @@ from cardgen.physics.assist import (
     suggest_levels,
 )
 from cardgen.physics.atmosphere import Conditions, air_density_isa
-from cardgen.physics.effort import effort_power, safe_climb_power, w_prime_balance_skiba
+from cardgen.physics.effort import effort_power, safe_climb_power, w_prime_balance
 from cardgen.physics.forces import gravity_power, headwind
 from cardgen.physics.ride import Ride, simulate
 from cardgen.physics.steady import power_for_speed, speed_for_power
@@ -150,7 +150,7 @@ def make_plan(
         motor=motor,
         assist_ratio=ratio,
     )
-    wbal = w_prime_balance_skiba(ride.rider_power, ride.time, rider.cp, rider.w_prime)
+    wbal = w_prime_balance(ride.rider_power, ride.time, rider.cp, rider.w_prime)
 
     climbs = tuple(
         _climb_row(i + 1, c, terrain, rider, motor, levels.get(c.start), ride, wbal, wind, rho)

@@ -22,6 +22,12 @@ def _nearest(value: float, step: float) -> float:
     return math.floor(value / step + 0.5) * step
 
 
+def _down(value: float, step: float) -> float:
+    """To the step below: a limit (a safe power, a safe speed) is never printed higher
+    than it is. The small allowance keeps 225.0 at 225 despite float noise."""
+    return math.floor(value / step + 1e-9) * step
+
+
 def _missing(value) -> bool:
     return value is None or (isinstance(value, float) and not math.isfinite(value))
 
@@ -37,17 +43,18 @@ def _dash_if_missing(function):
 
 
 @_dash_if_missing
-def power(watts) -> str:
-    """ "185 W"."""
-    return f"{_nearest(watts, 5):.0f} W"
+def power(watts, rounding: str = "nearest") -> str:
+    """ "185 W"; ``rounding="down"`` for a limit (223.5 W prints as 220 W)."""
+    return f"{(_down if rounding == 'down' else _nearest)(watts, 5):.0f} W"
 
 
 @_dash_if_missing
-def speed(ms, units: str = "metric") -> str:
-    """ "12.5 km/h" or "7.5 mph"."""
+def speed(ms, units: str = "metric", rounding: str = "nearest") -> str:
+    """ "12.5 km/h" or "7.5 mph"; ``rounding="down"`` for a limit (a safe speed)."""
+    step = _down if rounding == "down" else _nearest
     if units == "imperial":
-        return f"{_nearest(ms * MPH_PER_MS, 0.5):.1f} mph"
-    return f"{_nearest(ms * KMH_PER_MS, 0.5):.1f} km/h"
+        return f"{step(ms * MPH_PER_MS, 0.5):.1f} mph"
+    return f"{step(ms * KMH_PER_MS, 0.5):.1f} km/h"
 
 
 @_dash_if_missing

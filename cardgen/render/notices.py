@@ -10,7 +10,7 @@ from cardgen.render import format as fmt
 
 def _w_prime(n: Notice, units: str) -> str:
     advice = (
-        f"hold about {fmt.power(n.value('safe'))} instead"
+        f"hold about {fmt.power(n.value('safe'), 'down')} instead"
         if n.value("safe") is not None
         else "ease off before the climb to recover"
     )
@@ -33,7 +33,7 @@ _WORDS: dict[str, Callable[[Notice, str], str]] = {
     "curve": lambda n, units: (
         f"curve of about {fmt.length(n.value('radius'), units)} radius at "
         f"{fmt.distance(n.value('where'), units)}: slow to "
-        f"{fmt.speed(n.value('speed'), units)} or less"
+        f"{fmt.speed(n.value('speed'), units, 'down')} or less"
     ),
     "unsettled": lambda n, units: (
         f"the ride model had not settled after {n.value('passes'):.0f} passes; times and battery may be "
