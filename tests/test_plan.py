@@ -180,3 +180,54 @@ def test_the_safe_climbing_power_is_the_critical_power_model(tmp_path):
     )
     t = np.sum(terrain.step * np.sqrt(1 + terrain.grade[seg] ** 2) / speed)
     assert (safe - cp) * t == pytest.approx(w_prime, rel=0.01)  # ρ 1.2 here against ISA on the route
+
+
+@pytest.mark.parametrize(("grade", "metres"), [(0.0, 14.17), (-0.10, 23.62)])
+def test_braking_distance_follows_the_aashto_formula(grade, metres):
+    """AASHTO Guide for the Development of Bicycle Facilities (1999): braking distance
+    V²/(254·(f + G)) with f = 0.25 [S]; 30 km/h gives 14.2 m on the flat and 23.6 m at
+    −10 % (docs/sources.md §7 [C], without the 2.5 s reaction distance)."""
+    from cardgen.physics.ride import speed_limit_profile
+    from cardgen.plan.rider import braking
+
+    d = np.arange(0, 101, 0.01)
+    cap = np.full(d.size, np.inf)
+    cap[-1] = 0.0
+    limit = speed_limit_profile(d, cap, braking(np.full(d.size - 1, grade)))
+    at = np.interp(30 / 3.6, limit[::-1], d[::-1])
+    assert d[-1] - at == pytest.approx(metres, abs=0.05)
+
+
+def _bends(tmp_path, name, turns):
+    """A descent with bends: (distance [m], angle [deg], radius [m]) on a −7 % road."""
+    from gpxmaker import to_latlon, write_gpx
+
+    step, x, y, heading = 2.0, [0.0], [0.0], 0.0
+    events = sorted(turns)
+    s = 0.0
+    while s < 3000:
+        for at, angle, radius in events:
+            arc = np.radians(abs(angle)) * radius
+            if at <= s < at + arc:
+                heading += np.sign(angle) * step / radius
+        x.append(x[-1] + step * np.sin(heading))
+        y.append(y[-1] + step * np.cos(heading))
+        s += step
+    x, y = np.array(x), np.array(y)
+    dist = np.arange(x.size) * step
+    ele = 300 - 0.07 * np.minimum(dist, 2500)
+    lat, lon = to_latlon(x, y)
+    return write_gpx(tmp_path / f"{name}.gpx", lat, lon, ele)
+
+
+def test_two_hairpins_on_one_descent_give_two_warnings_and_a_corner_after_it_one_more(tmp_path):
+    path = _bends(tmp_path, "hairpins", [(1000, 180, 8), (1800, -180, 8), (2540, 90, 12)])
+    track = read_gpx(path)
+    plan = make_plan(track, build_terrain(track), Rider.for_vehicle(builtin_vehicles()["road-hoods"]))
+    on_descent = [w for d in plan.descents for w in d.warnings if w.code == "curve"]
+    after = [w for w in plan.warnings if w.code == "curve"]
+    places = sorted(w.value("where") for w in on_descent + after)
+    assert (
+        len([p for p in places if 950 < p < 1100]) == 1 and len([p for p in places if 1750 < p < 1900]) == 1
+    )
+    assert any(2500 < p < 2600 for p in places)  # 40 m after the descent ends

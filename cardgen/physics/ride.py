@@ -106,7 +106,7 @@ def clamp_affine_scan(a: Floats, b: Floats, lo: Floats, hi: Floats, x0: float) -
     return np.concatenate(([x0], values))
 
 
-def speed_limit_profile(distance: Floats, cap: Floats, deceleration: float) -> Any:
+def speed_limit_profile(distance: Floats, cap: Floats, deceleration: Floats) -> Any:
     """Highest speed at each node from which the rider can still brake down to every
     cap ahead.
 
@@ -114,21 +114,28 @@ def speed_limit_profile(distance: Floats, cap: Floats, deceleration: float) -> A
     ----------
     distance : array [m] node positions
     cap : array [m/s] speed limit at each node (inf where none)
-    deceleration : float [m/s²] braking deceleration
+    deceleration : float, or array per segment [m/s²] braking deceleration (on a
+        descent less than on the flat: see the Notes)
 
     Returns
     -------
-    array [m/s]: v_lim,i = min over j ≥ i of √(cap_j² + 2·b·(s_j − s_i)).
+    array [m/s]: v_lim,i = min over j ≥ i of √(cap_j² + 2·(B_j − B_i)), B the braking
+    work per unit mass Σ b_k·Δs_k from the start.
 
     Notes
     -----
-    Constant deceleration b: v² = v_j² + 2·b·Δs. The minimum over j ≥ i is a reverse
-    cumulative minimum of cap_j² + 2·b·s_j.
+    v² = v_j² + 2·Σ b_k·Δs_k between node i and a cap at node j. The minimum over
+    j ≥ i is a reverse cumulative minimum of cap_j² + 2·B_j. With b = g·(f + G) on a
+    grade G this is the braking term of the stopping-sight-distance formula
+    S = V²/(254·(f ± G)) of the AASHTO Guide for the Development of Bicycle
+    Facilities (1999).
     """
     s = np.asarray(distance, dtype=float)
-    key = np.minimum(np.asarray(cap, dtype=float) ** 2, UNBOUNDED) + 2.0 * deceleration * s
+    b = np.broadcast_to(np.asarray(deceleration, dtype=float), (max(s.size - 1, 0),))
+    work = np.concatenate(([0.0], np.cumsum(b * np.diff(s))))
+    key = np.minimum(np.asarray(cap, dtype=float) ** 2, UNBOUNDED) + 2.0 * work
     envelope = np.minimum.accumulate(key[::-1])[::-1]
-    return np.sqrt(np.maximum(envelope - 2.0 * deceleration * s, 0.0))
+    return np.sqrt(np.maximum(envelope - 2.0 * work, 0.0))
 
 
 @dataclass(frozen=True)
@@ -170,7 +177,7 @@ def simulate(
     rider_power: Floats,
     speed_cap: Floats,
     distance: Floats,
-    deceleration: float,
+    deceleration: Floats,
     motor: Motor | None = None,
     assist_ratio: Floats = 0.0,
     start_speed: float | None = None,
@@ -188,7 +195,7 @@ def simulate(
     rider_power : array (n,) [W] the rider's power on each segment
     speed_cap : array (n + 1,) [m/s] limit at each node (descent cap, curves)
     distance : array (n + 1,) [m] node positions
-    deceleration : float [m/s²] braking used to meet the caps
+    deceleration : float or array (n,) [m/s²] braking used to meet the caps
     motor : Motor or None  the e-assist envelope, with ``assist_ratio`` (n,) per segment
     start_speed : float [m/s] or None
         None (the default) is a rolling start at the first segment's steady speed.
@@ -257,7 +264,8 @@ def simulate(
     fine_cap = np.full(fine_distance.size, np.inf)
     boundaries = np.concatenate(([0], np.cumsum(pieces)))
     fine_cap[boundaries] = np.asarray(speed_cap, dtype=float)
-    fine_limit = speed_limit_profile(fine_distance, fine_cap, deceleration)
+    fine_braking = np.repeat(np.broadcast_to(np.asarray(deceleration, dtype=float), (n,)), pieces)
+    fine_limit = speed_limit_profile(fine_distance, fine_cap, fine_braking)
     coarse_speed = np.sqrt(coarse["u"])
     middles = fine_distance[:-1] + 0.5 * fine_rows["step"]
     guess = np.interp(middles, np.asarray(distance, dtype=float), coarse_speed)

@@ -34,10 +34,24 @@ from cardgen.units import G0, Floats
 #: Steepest 100 m grade that earns a "steep" note [-]: common practice, no published
 #: source (AASHTO's bicycle guide calls grades over 5 % undesirable on shared paths).
 STEEP_GRADE = 0.10
-#: Braking deceleration before a speed limit [m/s²]: f = 0.25 of the AASHTO Guide
-#: for the Development of Bicycle Facilities (1999) stopping-sight-distance formula
-#: (wet pavement, ordinary brakes) [S].
-BRAKING = 0.25 * G0
+#: Braking friction before a speed limit: f = 0.25 of the AASHTO Guide for the
+#: Development of Bicycle Facilities (1999) stopping-sight-distance formula
+#: S = V²/(254·(f ± G)) (wet pavement, ordinary brakes) [S]; the deceleration on a
+#: grade G is g·(f + G), less on a descent.
+BRAKING_FRICTION = 0.25
+BRAKING = BRAKING_FRICTION * G0  # on the flat [m/s²]
+#: Least braking deceleration used, on the steepest descents [m/s²] (common practice,
+#: no published source: a rider on a descent steeper than f still slows, by braking
+#: harder or walking).
+LEAST_BRAKING = 0.05 * G0
+
+
+def braking(grade: np.ndarray) -> np.ndarray:
+    """Braking deceleration [m/s²] on each segment: g·(f + G) (AASHTO 1999), at least
+    :data:`LEAST_BRAKING`."""
+    return np.maximum(G0 * (BRAKING_FRICTION + np.asarray(grade, dtype=float)), LEAST_BRAKING)
+
+
 #: Battery share kept in reserve when judging whether a route fits: common practice,
 #: no published source.
 BATTERY_RESERVE = 0.20
@@ -146,7 +160,7 @@ def make_plan(
         rider_power=power,
         speed_cap=speed_caps(terrain, rider),
         distance=terrain.distance,
-        deceleration=BRAKING,
+        deceleration=braking(terrain.grade),
         motor=motor,
         assist_ratio=ratio,
     )
@@ -156,7 +170,8 @@ def make_plan(
         _climb_row(i + 1, c, terrain, rider, motor, levels.get(c.start), ride, wbal, wind, rho)
         for i, c in enumerate(route.climbs)
     )
-    descents = _descent_rows(route.descents, terrain, rider, ride, wind, rho)
+    curves = curve_notices(terrain, rider, ride, wind, rho)
+    descents = _descent_rows(route.descents, terrain, rider, ride, wind, rho, curves)
     timed = tuple(
         TimedCue(c, float(np.interp(c.distance, terrain.distance, ride.elapsed))) for c in route.cues
     )
@@ -165,6 +180,8 @@ def make_plan(
     slow = (ride.mean_speed < vehicle.min_stable_speed) & (ride.rider_power > 0)
     battery = fits = None
     warnings = [Notice("track", "info", (("text", w),)) for w in route.warnings]
+    on_descents = {id(w) for row in descents for w in row.warnings}
+    warnings.extend(c for c in curves if id(c) not in on_descents)  # curves away from any descent
     if not ride.converged:
         warnings.append(Notice("unsettled", "info", (("passes", float(ride.passes)),)))
     stalled = np.flatnonzero(~np.isfinite(ride.time))
@@ -236,7 +253,9 @@ def _climb_row(
     if slow > 0:
         warnings.append(Notice("walk", "warning", (("speed", vehicle.min_stable_speed), ("length", slow))))
     if climb.steepest_grade >= STEEP_GRADE:
-        warnings.append(Notice("steep", "caution", (("grade", climb.steepest_grade),)))
+        warnings.append(
+            Notice("steep", "caution", (("grade", climb.steepest_grade), ("length", climb.pitch_length)))
+        )
     # power needed against speed on the climb's average grade, in its mean wind and air
     res = vehicle.resistance
 
@@ -273,7 +292,57 @@ def _climb_row(
     )
 
 
-def _descent_rows(descents, terrain: Terrain, rider: Rider, ride: Ride, wind, rho) -> tuple[DescentRow, ...]:
+#: Curves closer than this [m] are one warning (a run of bends), at the tightest.
+CURVE_GAP = 150.0
+#: A curve is warned where its safe speed is below this share of the speed the rider
+#: would hold there without it (common practice, no published source: a bend that
+#: asks for less than a 10 % slow-down is ridden without thinking).
+CURVE_SLOWDOWN = 0.9
+#: A descent's curves include those this far [m] beyond its foot.
+CURVE_REACH = 100.0
+
+
+def curve_notices(terrain: Terrain, rider: Rider, ride: Ride, wind, rho) -> list[Notice]:
+    """One "curve" notice for every curve the rider would reach faster than its safe
+    speed v = √(a·R) (FHWA-HRT-04-103, 2004), on or off a descent: where the simulated
+    speed (which brakes for the curve) meets that speed and the steady speed the rider
+    would hold there without the curve is clearly higher (:data:`CURVE_SLOWDOWN`)."""
+    vehicle = rider.vehicle
+    cap = np.sqrt(vehicle.curve_accel * terrain.curve_radius)
+    free = speed_for_power(
+        np.maximum(ride.rider_power, 0.0),
+        **vehicle.resistance.steady(),
+        grade=terrain.grade,
+        headwind=wind,
+        air_density=rho,
+    )
+    free = np.minimum(np.nan_to_num(free, nan=0.0), vehicle.max_descent_speed)
+    free_at_node = np.concatenate((free, free[-1:])) if free.size else np.zeros(cap.size)
+    binding = (cap < CURVE_SLOWDOWN * free_at_node) & (ride.speed >= 0.98 * cap) & (ride.speed > 0)
+    nodes = np.flatnonzero(binding)
+    notices: list[Notice] = []
+    if not nodes.size:
+        return notices
+    groups = np.split(nodes, np.flatnonzero(np.diff(terrain.distance[nodes]) > CURVE_GAP) + 1)
+    for group in groups:
+        i = int(group[np.argmin(cap[group])])
+        notices.append(
+            Notice(
+                "curve",
+                "warning",
+                (
+                    ("radius", float(terrain.curve_radius[i])),
+                    ("where", float(terrain.distance[i])),
+                    ("speed", float(cap[i])),
+                ),
+            )
+        )
+    return notices
+
+
+def _descent_rows(
+    descents, terrain: Terrain, rider: Rider, ride: Ride, wind, rho, curves: list[Notice]
+) -> tuple[DescentRow, ...]:
     if not descents:
         return ()
     vehicle = rider.vehicle
@@ -285,12 +354,23 @@ def _descent_rows(descents, terrain: Terrain, rider: Rider, ride: Ride, wind, rh
     )  # all descents at once
     rows = []
     for number, (descent, coast) in enumerate(zip(descents, coasts, strict=True), 1):
-        rows.append(_descent_row(number, descent, float(coast), terrain, rider, ride))
+        near = [
+            c
+            for c in curves
+            if descent.start_distance <= c.value("where") <= descent.end_distance + CURVE_REACH
+        ]
+        rows.append(_descent_row(number, descent, float(coast), terrain, rider, ride, near))
     return tuple(rows)
 
 
 def _descent_row(
-    number: int, descent: Descent, coast: float, terrain: Terrain, rider: Rider, ride: Ride
+    number: int,
+    descent: Descent,
+    coast: float,
+    terrain: Terrain,
+    rider: Rider,
+    ride: Ride,
+    curves: list[Notice],
 ) -> DescentRow:
     vehicle = rider.vehicle
     segs = slice(descent.start, descent.end)
@@ -301,18 +381,7 @@ def _descent_row(
     warnings = []
     if coast > vehicle.max_descent_speed:
         warnings.append(Notice("fast", "warning", (("coast", coast), ("cap", vehicle.max_descent_speed))))
-    if curve_speed < min(coast, vehicle.max_descent_speed):
-        warnings.append(
-            Notice(
-                "curve",
-                "warning",
-                (
-                    ("radius", float(terrain.curve_radius[tight])),
-                    ("where", float(terrain.distance[tight])),
-                    ("speed", curve_speed),
-                ),
-            )
-        )
+    warnings.extend(curves)
     return DescentRow(
         number=number,
         descent=descent,

@@ -33,7 +33,7 @@ CAUTIONS = (
 #: Short symbols for warnings on cards, with their meaning (our own letters).
 SYMBOLS = {
     "walk": ("W", "below balance speed on two wheels: walking may be needed"),
-    "steep": ("S", "steepest 100 m at 10 % or more"),
+    "steep": ("S", "a stretch of 10 % or more"),
     "w-prime": ("R", "W′ (the work the rider can do above CP) runs out at this effort"),
     "fast": ("F", "coasting would pass the vehicle's speed limit: control the speed"),
     "curve": ("C", "tight curve: slow down before it"),

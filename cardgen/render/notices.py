@@ -25,7 +25,9 @@ _WORDS: dict[str, Callable[[Notice, str], str]] = {
         f"{fmt.length(n.value('length'), units)}: hard to balance on two wheels; "
         "walking may be needed"
     ),
-    "steep": lambda n, units: f"steepest 100 m at {fmt.grade(n.value('grade'))}",
+    "steep": lambda n, units: (
+        f"steepest {fmt.length(n.value('length', 100.0), units)} at {fmt.grade(n.value('grade'))}"
+    ),
     "fast": lambda n, units: (
         f"coasting would reach {fmt.speed(n.value('coast'), units)}, above the "
         f"{fmt.speed(n.value('cap'), units)} set for this vehicle: control the speed"

@@ -25,8 +25,33 @@ MIN_AVG_GRADE = 0.03
 DIP_TOLERANCE = 10.0
 #: Longest gentler stretch [m] inside one climb.
 MAX_GAP = 500.0
-#: Window for the maximum (steepest) grade [m].
+#: Window over which climbs are found, and the shortest pitch reported [m].
 GRADE_WINDOW = 100.0
+#: The steepest pitch is reported over the shortest window (a multiple of 50 m, up to
+#: MAX_PITCH) whose least-squares slope the elevation noise moves by at most this
+#: much (1 sigma) [-]: so noisy GPS elevations do not print walls that are not there.
+PITCH_NOISE = 0.003
+MAX_PITCH = 500.0
+
+
+def pitch_window(terrain: Terrain) -> float:
+    """The length [m] over which to report the steepest pitch of this terrain.
+
+    Notes
+    -----
+    The elevation noise σ is the robust spread (1.4826 × median absolute deviation)
+    of the resampled elevation about the smoothed one. A least-squares slope over N
+    points Δ apart has the standard error σ·√(12/(N(N² − 1)))/Δ (ordinary least
+    squares); the window is the shortest with that error at most :data:`PITCH_NOISE`.
+    """
+    residual = terrain.elevation_raw - terrain.elevation
+    sigma = 1.4826 * float(np.median(np.abs(residual - np.median(residual))))
+    for length in np.arange(GRADE_WINDOW, MAX_PITCH + 1, 50.0):
+        n = int(round(length / terrain.step)) + 1
+        if sigma * np.sqrt(12.0 / (n * (n * n - 1))) / terrain.step <= PITCH_NOISE:
+            return float(length)
+    return MAX_PITCH
+
 
 #: Our own plain-language bands on the FIETS index: (upper bound, words).
 BANDS = ((0.5, "easy"), (1.5, "moderate"), (3.5, "hard"), (6.5, "very hard"), (np.inf, "extreme"))
@@ -88,6 +113,7 @@ class Descent:
     steepest_grade: float
     top: float
     tightest_radius: float
+    pitch_length: float = GRADE_WINDOW  # [m] the stretch ``steepest_grade`` is measured over
 
 
 @dataclass(frozen=True)
@@ -100,6 +126,26 @@ class Climb(Descent):
     band: str = ""
 
 
+def steepest_pitch(elevation: np.ndarray, step: float, points: int) -> float:
+    """The steepest grade [-] of any stretch of ``points`` steps, each stretch's grade
+    the least-squares slope of all its points.
+
+    Notes
+    -----
+    A least-squares slope over n + 1 equally spaced points, Σ(x − x̄)(h − h̄)/Σ(x − x̄)²,
+    weighs every point, so noise and a smoothing filter's overshoot at one end move it
+    far less than the difference of the two end points does. A stretch shorter than
+    the window is fitted whole.
+    """
+    n = min(points, elevation.size - 1)
+    if n < 1:
+        return 0.0
+    x = (np.arange(n + 1) - n / 2.0) * step
+    weights = x / np.sum(x * x)
+    windows = np.lib.stride_tricks.sliding_window_view(elevation, n + 1)
+    return float(np.max(windows @ weights))
+
+
 def _find(
     terrain: Terrain,
     direction: int,
@@ -109,6 +155,8 @@ def _find(
     max_gap: float,
 ) -> list[dict[str, Any]]:
     e = terrain.elevation * direction  # descents are climbs of the negated profile
+    pitch = pitch_window(terrain)
+    pitch_steps = max(1, int(round(pitch / terrain.step)))
     step = terrain.step
     n = e.size
     k = max(1, min(int(round(GRADE_WINDOW / step)), n - 1))
@@ -145,9 +193,7 @@ def _find(
         length = (end - start) * step
         if height < min_gain or height / length < min_avg_grade:
             continue
-        pitch_steps = min(k, end - start)
-        window = e[start + pitch_steps : end + 1] - e[start : end + 1 - pitch_steps]
-        steepest = float(window.max() / (pitch_steps * step))
+        steepest = steepest_pitch(e[start : end + 1], step, pitch_steps)
         top = float(terrain.elevation[start : end + 1].max())
         hills.append(
             dict(
@@ -161,6 +207,7 @@ def _find(
                 steepest_grade=direction * steepest,
                 top=top,
                 tightest_radius=float(terrain.curve_radius[start : end + 1].min()),
+                pitch_length=pitch,
             )
         )
     return hills
