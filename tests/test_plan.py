@@ -231,3 +231,25 @@ def test_two_hairpins_on_one_descent_give_two_warnings_and_a_corner_after_it_one
         len([p for p in places if 950 < p < 1100]) == 1 and len([p for p in places if 1750 < p < 1900]) == 1
     )
     assert any(2500 < p < 2600 for p in places)  # 40 m after the descent ends
+
+
+def test_a_handcyclist_crawling_up_a_steep_ramp_is_warned(tmp_path):
+    """A handcyclist (CP 65 W) on a long 12 % ramp: the crawl, the target watts above
+    CP and the traction of the driven front wheel are all said."""
+    d = np.arange(0, 3001, 10.0)
+    e = np.interp(d, [0, 500, 2500, 3000], [0, 0, 240, 240])
+    track = read_gpx(profile_gpx(tmp_path / "ramp.gpx", d, e))
+    rider = Rider.for_vehicle(builtin_vehicles()["handcycle"], cp=65.0, flat_power=45.0)
+    (climb,) = make_plan(track, build_terrain(track), rider).climbs
+    codes = {w.code for w in climb.warnings}
+    assert {"crawl", "over-cp", "traction"} <= codes
+    over = next(w for w in climb.warnings if w.code == "over-cp")
+    assert over.value("power") > 65 and over.value("speed") < rider.target_speed
+    assert climb.time_above_cp >= 0 and climb.w_prime_used >= 0
+
+
+def test_a_strong_road_rider_gets_no_rider_cautions(hill_loop):
+    track, terrain = hill_loop
+    rider = Rider.for_vehicle(builtin_vehicles()["road-drops"], cp=320.0, flat_power=200.0)
+    for climb in make_plan(track, terrain, rider).climbs:
+        assert not {"crawl", "over-cp", "traction"} & {w.code for w in climb.warnings}

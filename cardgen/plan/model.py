@@ -52,6 +52,8 @@ class ClimbRow:
     warnings: tuple[Notice, ...]
     power_curve: tuple[np.ndarray, np.ndarray]  # ([m/s], [W]) power needed against speed on the average grade
     power_at_effort: float  # [W] on that curve at ``speed_at_effort``
+    time_above_cp: float = 0.0  # [s] on the climb above the rider's CP: how hard it is for them
+    w_prime_used: float = 0.0  # [J] of W′ spent on the climb (from its level at the foot)
 
 
 @dataclass(frozen=True)

@@ -13,6 +13,7 @@ import numpy as np
 
 from cardgen.physics.assist import (
     Motor,
+    assisted_speed,
     battery_energy,
     rider_power_for_speed,
     suggest_levels,
@@ -55,6 +56,15 @@ def braking(grade: np.ndarray) -> np.ndarray:
 #: Battery share kept in reserve when judging whether a route fits: common practice,
 #: no published source.
 BATTERY_RESERVE = 0.20
+#: A three-wheeler slower than this [m/s] for CRAWL_LENGTH [m], or on one climb for
+#: CRAWL_TIME [s], gets a "crawl" caution: common practice, no published source (on
+#: trails hand cyclists' 15th-percentile speed was 8 km/h, FHWA-HRT-04-103, 2004 [V]).
+CRAWL_SPEED = 4.0 / 3.6
+CRAWL_LENGTH = 200.0
+CRAWL_TIME = 30 * 60.0
+#: A driven front wheel (arm-powered handcycles) may slip from this grade [-]: from
+#: memory, no published source checked.
+TRACTION_GRADE = 0.10
 #: Speeds [m/s] at which a climb's power curve is drawn: 2 to 30 km/h.
 CURVE_SPEEDS = np.linspace(2.0, 30.0, 57) / 3.6
 
@@ -256,6 +266,7 @@ def _climb_row(
         warnings.append(
             Notice("steep", "caution", (("grade", climb.steepest_grade), ("length", climb.pitch_length)))
         )
+    warnings.extend(_rider_cautions(climb, terrain, rider, motor, ratio, ride, float(np.mean(need)), air))
     # power needed against speed on the climb's average grade, in its mean wind and air
     res = vehicle.resistance
 
@@ -289,6 +300,8 @@ def _climb_row(
         warnings=tuple(warnings),
         power_curve=(CURVE_SPEEDS, np.asarray(curve)),
         power_at_effort=float(needed(speed_at_effort)),
+        time_above_cp=float(np.sum(ride.time[segs][finite & (ride.rider_power[segs] > rider.cp)])),
+        w_prime_used=max(0.0, before - w_low),
     )
 
 
@@ -300,6 +313,45 @@ CURVE_GAP = 150.0
 CURVE_SLOWDOWN = 0.9
 #: A descent's curves include those this far [m] beyond its foot.
 CURVE_REACH = 100.0
+
+
+def _rider_cautions(
+    climb: Climb,
+    terrain: Terrain,
+    rider: Rider,
+    motor: Motor | None,
+    ratio: float,
+    ride: Ride,
+    need: float,
+    air: dict,
+) -> list[Notice]:
+    """What this rider on this vehicle should know of a climb beyond the road itself:
+    a long crawl on three wheels, a target speed above their CP, traction on a driven
+    front wheel."""
+    vehicle = rider.vehicle
+    segs = slice(climb.start, climb.end)
+    notices = []
+    if vehicle.wheels == 3:
+        crawl = float(np.sum(ride.mean_speed[segs] < CRAWL_SPEED) * terrain.step)
+        time = float(np.sum(ride.time[segs]))
+        if crawl >= CRAWL_LENGTH or time >= CRAWL_TIME:
+            notices.append(
+                Notice("crawl", "caution", (("speed", CRAWL_SPEED), ("length", crawl), ("time", time)))
+            )
+    if need > rider.cp * (1 + 1e-9):
+        at_cp = (
+            assisted_speed(motor, ratio, rider.cp, resistance=vehicle.resistance, **air)
+            if motor
+            else (speed_for_power(rider.cp, **vehicle.resistance.steady(), **air))
+        )
+        notices.append(
+            Notice(
+                "over-cp", "caution", (("power", need), ("cp", rider.cp), ("speed", float(np.mean(at_cp))))
+            )
+        )
+    if vehicle.propulsion == "arms" and climb.steepest_grade >= TRACTION_GRADE:
+        notices.append(Notice("traction", "caution", (("grade", climb.steepest_grade),)))
+    return notices
 
 
 def curve_notices(terrain: Terrain, rider: Rider, ride: Ride, wind, rho) -> list[Notice]:

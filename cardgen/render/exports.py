@@ -59,6 +59,9 @@ def plan_dict(plan) -> dict:
                 "power_for_target_w": _num(c.power_for_target, 1),
                 "speed_m_s": _num(c.speed_at_effort, 3),
                 "time_s": _num(c.time, 1),
+                "time_above_cp_s": _num(c.time_above_cp, 0),
+                "w_prime_used_j": _num(c.w_prime_used, 0),
+                "w_prime_min_j": _num(c.w_prime_low, 0),
                 "assist": c.assist_name,
                 "warnings": _notices(c.warnings),
             }

@@ -38,6 +38,9 @@ SYMBOLS = {
     "fast": ("F", "coasting would pass the vehicle's speed limit: control the speed"),
     "curve": ("C", "tight curve: slow down before it"),
     "battery": ("B", "the battery may not last with a reserve"),
+    "crawl": ("K", "slow for a long way: plan rests"),
+    "over-cp": ("P", "the target speed takes more than this rider's CP"),
+    "traction": ("T", "steep for a driven front wheel"),
 }
 
 

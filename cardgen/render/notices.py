@@ -45,6 +45,17 @@ _WORDS: dict[str, Callable[[Notice, str], str]] = {
         f"the rider cannot complete the route at this effort: the speed falls to zero near "
         f"{fmt.distance(n.value('where'), units)}; plan more power, more assist, walking there, or a shorter route"
     ),
+    "crawl": lambda n, units: (
+        f"slow going: below {fmt.speed(n.value('speed'), units)} for about {fmt.length(n.value('length'), units)}, "
+        f"{fmt.duration(n.value('time'))} on this climb; plan rests and drink"
+    ),
+    "over-cp": lambda n, units: (
+        f"the target speed takes {fmt.power(n.value('power'))}, above this rider's CP of {fmt.power(n.value('cp'))}; "
+        f"at CP expect about {fmt.speed(n.value('speed'), units, 'down')}"
+    ),
+    "traction": lambda n, units: (
+        f"{fmt.grade(n.value('grade'))} at the steepest: a driven front wheel may slip; keep weight forward"
+    ),
     "battery": lambda n, units: (
         f"the assist would use about {fmt.battery(n.value('used'))} of the "
         f"{fmt.battery(n.value('usable'))} usable: more than leaves a "
