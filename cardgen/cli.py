@@ -336,7 +336,7 @@ def cmd_route(args) -> int:
             if c["assist_level"] is not None:
                 _print(f"      assist: {c['assist_level']}")
             for w in c["warnings"]:
-                _print(f"      ! {w}")
+                _print(f"      ! {w['text']}")
     else:
         _print("No climbs.")
     _print()
@@ -348,7 +348,7 @@ def cmd_route(args) -> int:
                 f"{_n(d['coast_speed_kmh'], '6.0f')} km/h {_n(d['gravity_power_w'], '6.0f', -1)} W from gravity"
             )
             for w in d["warnings"]:
-                _print(f"      ! {w}")
+                _print(f"      ! {w['text']}")
     else:
         _print("No descents.")
     _print()

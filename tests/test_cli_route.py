@@ -64,9 +64,9 @@ def test_hill_loop_numbers_are_plausible(run_cli):
     assert code == 0, err
     (climb,) = out["climbs"]
     assert 7 <= climb["avg_grade_pct"] <= 11 and climb["max_grade_pct"] >= 12
-    assert any("walk" in w for w in climb["warnings"])  # 150 W on 14 % is below 5.5 km/h
+    assert any(w["code"] == "walk" for w in climb["warnings"])  # 150 W on 14 % is below 5.5 km/h
     (descent,) = out["descents"]
-    assert any("curve" in w for w in descent["warnings"])  # the hairpins
+    assert any(w["code"] == "curve" for w in descent["warnings"])  # the hairpins
     # 26 km with one climb at 150 W: between 50 and 90 minutes
     assert 50 * 60 < out["totals"]["time_s"] < 90 * 60
     # On a loop the rider's work at the wheel pays for every loss, and rolling alone
@@ -85,7 +85,7 @@ def test_handcycle_gets_no_walk_warning(run_cli):
         "route", str(SAMPLES / "hill-loop.gpx"), "--vehicle", "handcycle", "--json", parse_json=True
     )
     assert code == 0, err
-    assert not any("walk" in w for c in out["climbs"] for w in c["warnings"])
+    assert not any(w["code"] == "walk" for c in out["climbs"] for w in c["warnings"])
 
 
 def _east_west(tmp_path):
@@ -137,3 +137,18 @@ def test_route_wrong_options(run_cli, args, fragment):
 def test_route_missing_file(run_cli, tmp_path):
     code, _, err = run_cli("route", str(tmp_path / "nope.gpx"))
     assert code == 1 and "no such file" in err
+
+
+def test_route_json_warnings_are_objects_with_their_place(run_cli):
+    code, out, err = run_cli(
+        "route", str(SAMPLES / "hill-loop.gpx"), "--vehicle", "road-hoods", "--json", parse_json=True
+    )
+    assert code == 0, err
+    (descent,) = out["descents"]
+    curves = [w for w in descent["warnings"] if w["code"] == "curve"]
+    assert curves and all(
+        set(w) >= {"code", "severity", "text", "at_km", "radius_m", "safe_speed_kmh"} for w in curves
+    )
+    for w in curves:  # v = √(a·R) at the vehicle's 0.2 g (FHWA-HRT-04-103, 2004)
+        assert w["safe_speed_kmh"] == pytest.approx((0.2 * 9.80665 * w["radius_m"]) ** 0.5 * 3.6, rel=0.01)
+        assert descent["start_km"] <= w["at_km"] <= descent["end_km"] + 0.1

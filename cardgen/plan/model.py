@@ -24,11 +24,13 @@ from cardgen.route.terrain import Terrain
 class Notice:
     """Something a rider should know: ``code`` (stable, e.g. "walk", "curve"),
     ``severity`` ("info", "caution", "warning") and ``values``, (name, value) pairs
-    in SI units (or text from the route for code "track")."""
+    in SI units (or text from the route for code "track"), and ``at`` [m], where it
+    applies."""
 
     code: str
     severity: str
     values: tuple[tuple[str, float | str | None], ...] = ()
+    at: float | None = None  # [m] from the start, where it applies (None: the whole route)
 
     def value(self, name: str, default=None):
         """The value called ``name``, or ``default``."""

@@ -196,7 +196,8 @@ def make_plan(
         warnings.append(Notice("unsettled", "info", (("passes", float(ride.passes)),)))
     stalled = np.flatnonzero(~np.isfinite(ride.time))
     if stalled.size:  # the speed reached zero: the rider cannot get past this point
-        warnings.append(Notice("stall", "warning", (("where", float(terrain.distance[stalled[0]])),)))
+        where = float(terrain.distance[stalled[0]])
+        warnings.append(Notice("stall", "warning", (("where", where),), at=where))
     if motor is not None:
         battery = battery_energy(motor, ride.motor_power, ride.time)
         fits = battery <= motor.usable_battery * (1.0 - BATTERY_RESERVE)
@@ -267,6 +268,7 @@ def _climb_row(
             Notice("steep", "caution", (("grade", climb.steepest_grade), ("length", climb.pitch_length)))
         )
     warnings.extend(_rider_cautions(climb, terrain, rider, motor, ratio, ride, float(np.mean(need)), air))
+    warnings = [w if w.at is not None else dataclasses.replace(w, at=climb.start_distance) for w in warnings]
     # power needed against speed on the climb's average grade, in its mean wind and air
     res = vehicle.resistance
 
@@ -387,6 +389,7 @@ def curve_notices(terrain: Terrain, rider: Rider, ride: Ride, wind, rho) -> list
                     ("where", float(terrain.distance[i])),
                     ("speed", float(cap[i])),
                 ),
+                at=float(terrain.distance[i]),
             )
         )
     return notices
@@ -433,6 +436,7 @@ def _descent_row(
     warnings = []
     if coast > vehicle.max_descent_speed:
         warnings.append(Notice("fast", "warning", (("coast", coast), ("cap", vehicle.max_descent_speed))))
+    warnings = [dataclasses.replace(w, at=descent.start_distance) for w in warnings]
     warnings.extend(curves)
     return DescentRow(
         number=number,

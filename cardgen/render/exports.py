@@ -21,7 +21,25 @@ def _num(x, digits=3):
 
 
 def _notices(notices, units: str = "metric") -> list[dict]:
-    return [{"code": n.code, "severity": n.severity, "text": notice_text(n, units)} for n in notices]
+    """Notices of plan.json: code, severity, text, where (at_m) and, for curves, the
+    radius and safe speed in SI units."""
+    return [_notice(n, units, km=False) for n in notices]
+
+
+def _notice(n, units: str = "metric", *, km: bool) -> dict:
+    out = {"code": n.code, "severity": n.severity, "text": notice_text(n, units)}
+    if km:
+        out["at_km"] = None if n.at is None else n.at / 1000
+    else:
+        out["at_m"] = _num(n.at, 1)
+    if n.code == "curve":
+        out["radius_m"] = _num(n.value("radius"), 1)
+        speed = n.value("speed")
+        if km:
+            out["safe_speed_kmh"] = speed * 3.6
+        else:
+            out["safe_speed_m_s"] = _num(speed, 3)
+    return out
 
 
 def plan_dict(plan) -> dict:
@@ -250,7 +268,7 @@ def route_json(plan) -> dict:
                     "speed_at_effort_kmh": c.speed_at_effort * kmh,
                     "time_s": c.time,
                     "assist_level": c.assist_name,
-                    "warnings": [notice_text(w) for w in c.warnings],
+                    "warnings": [_notice(w, km=True) for w in c.warnings],
                 }
                 for c in plan.climbs
             ],
@@ -262,7 +280,7 @@ def route_json(plan) -> dict:
                     "avg_grade_pct": d.descent.avg_grade * 100,
                     "coast_speed_kmh": d.coast_speed * kmh,
                     "gravity_power_w": d.gravity_power,
-                    "warnings": [notice_text(w) for w in d.warnings],
+                    "warnings": [_notice(w, km=True) for w in d.warnings],
                 }
                 for d in plan.descents
             ],
