@@ -114,3 +114,27 @@ def test_momentum_into_steep_ramps_matches_a_fine_integration(name, route):
     for end in ends:  # each section's time within 1 %
         assert ride.time[start:end].sum() == pytest.approx(times[start:end].sum(), rel=0.01), (start, end)
         start = end
+
+
+@pytest.mark.parametrize("name", ASSISTED)
+def test_the_motor_never_runs_above_its_continuous_rating_for_long(name):
+    """A long climb at the highest level: the motor's output, averaged with a first-order
+    filter of 10 minutes (common practice, no published source), stays at or below its
+    continuous rated power (EU 168/2013: 250 W rated; 15 U.S.C. 2085: < 750 W)."""
+    import dataclasses
+
+    vehicle = VEHICLES[name]
+    motor = find_motor(vehicle.motor)
+    grade = np.full(1500, 0.07)  # 15 km at 7 %: far longer than the filter's time
+    power = np.full(grade.size, vehicle.typical_power * 1.5)
+    ride = _ours(grade, power, vehicle, motor, motor.levels[-1])
+    average, worst = 0.0, 0.0
+    for p, dt in zip(ride.motor_power, ride.time, strict=True):  # the filter, step by step
+        decay = np.exp(-dt / 600.0)
+        average = average * decay + p * (1 - decay)
+        worst = max(worst, average)
+    assert worst <= motor.rated_power * 1.001
+    unlimited = _ours(
+        grade, power, vehicle, dataclasses.replace(motor, rated_power=motor.peak_power), motor.levels[-1]
+    )
+    assert unlimited.elapsed[-1] < ride.elapsed[-1]  # the limit binds here: without it the ride is faster

@@ -85,12 +85,16 @@ def motor_power(motor: Motor, ratio: Floats, speed: Floats, rider_power: Floats)
     return (assist * taper_factor(speed, motor.cutoff_speed, motor.taper))[()]
 
 
-def motor_power_and_slope(motor: Motor, ratio: Floats, speed: Floats, rider_power: Floats) -> tuple[Any, Any]:
-    """Motor power at the wheel [W] (as :func:`motor_power`) and its derivative with
-    speed [W·s/m]: −(assist)/taper inside the taper, 0 elsewhere."""
+def motor_power_and_slope(
+    motor: Motor, ratio: Floats, speed: Floats, rider_power: Floats, peak: Floats | None = None
+) -> tuple[Any, Any]:
+    """Motor power at the wheel [W] (as :func:`motor_power`, ``peak`` in place of the
+    motor's where given: the thermal limit) and its derivative with speed [W·s/m]:
+    −(assist)/taper inside the taper, 0 elsewhere."""
     p = np.asarray(rider_power, dtype=float)
     v = np.asarray(speed, dtype=float)
-    assist = np.minimum(np.asarray(ratio, dtype=float) * np.maximum(p, 0.0), motor.peak_power)
+    top = motor.peak_power if peak is None else np.asarray(peak, dtype=float)
+    assist = np.minimum(np.asarray(ratio, dtype=float) * np.maximum(p, 0.0), top)
     power = assist * taper_factor(v, motor.cutoff_speed, motor.taper)
     inside = (v > motor.cutoff_speed - motor.taper) & (v < motor.cutoff_speed) & (motor.taper > 0)
     slope = np.where(inside, -assist / max(motor.taper, 1e-9), 0.0)

@@ -18,6 +18,7 @@ Blelloch, G. E. (1990). Prefix sums and their applications. CMU-CS-90-190 (the s
 
 from __future__ import annotations
 
+import functools
 import math
 from dataclasses import dataclass
 from typing import Any
@@ -44,6 +45,11 @@ MAX_PASSES = 80
 ROUGH = 1e-3
 #: Passes after this one move the reference half way only (damping).
 DAMP_AFTER = 12
+#: Time constant [s] of the motor's thermal filter: of the order of the period over
+#: which a continuous rating holds; common practice, no published source.
+THERMAL_TIME = 600.0
+#: Rounds of re-solving with the thermal limit (each round only lowers the allowed peak).
+THERMAL_ROUNDS = 6
 #: A segment whose u = v² changes by more than this share of itself is cut into parts …
 SUBSTEP_CHANGE = 0.05
 #: … at most this many.
@@ -230,7 +236,47 @@ def simulate(
         rider=np.broadcast_to(np.asarray(rider_power, dtype=float), (n,)).copy(),
         ratio=np.broadcast_to(np.asarray(assist_ratio, dtype=float), (n,)).copy(),
         step=np.full(n, float(step)),
+        peak=np.full(n, motor.peak_power if motor is not None else 0.0),
     )
+    solve = functools.partial(
+        _solve,
+        resistance=resistance,
+        motor=motor,
+        speed_cap=speed_cap,
+        distance=distance,
+        deceleration=deceleration,
+        start_speed=start_speed,
+        tolerance=tolerance,
+        max_passes=max_passes,
+    )
+    ride = solve(rows)
+    if motor is None or motor.rated_power >= motor.peak_power:
+        return ride
+    # The continuous rating as a thermal limit: the motor's output, filtered with a
+    # time constant of THERMAL_TIME, never exceeds its rated power.
+    for _ in range(THERMAL_ROUNDS):
+        peak = thermal_peak(motor, ride.motor_power, ride.time, rows["peak"])
+        if np.allclose(peak, rows["peak"]):
+            break
+        rows["peak"] = peak
+        ride = solve(rows)
+    return ride
+
+
+def _solve(
+    rows: dict[str, np.ndarray],
+    *,
+    resistance: Resistance,
+    motor: Motor | None,
+    speed_cap: Floats,
+    distance: Floats,
+    deceleration: Floats,
+    start_speed: float | None,
+    tolerance: float,
+    max_passes: int,
+) -> Ride:
+    """One solve of :func:`simulate` on the rows given: coarse, then cut where needed."""
+    n = rows["grade"].size
     limit = speed_limit_profile(distance, speed_cap, deceleration)
     # a first, looser solve finds the segments to cut; the final one meets the tolerance
     coarse = _scan(rows, resistance, motor, limit, start_speed, max(tolerance, ROUGH), max_passes)
@@ -310,7 +356,7 @@ def _scan(
     def drive(v: np.ndarray) -> tuple[Any, Any]:
         if motor is None:
             return no_motor, no_motor
-        return motor_power_and_slope(motor, ratio, v, rider)
+        return motor_power_and_slope(motor, ratio, v, rider, rows["peak"])
 
     def steady(p_wheel: Floats) -> Any:
         v = speed_for_power(
@@ -434,3 +480,22 @@ def _ride(result: dict[str, Any], rows: dict[str, np.ndarray], res: Resistance) 
         int(result["passes"]),
         bool(result["converged"]),
     )
+
+
+def thermal_peak(motor: Motor, motor_power: np.ndarray, time: np.ndarray, peak: np.ndarray) -> np.ndarray:
+    """The most the motor may give on each segment [W] so that its output, filtered
+    with time constant :data:`THERMAL_TIME`, stays at or below its rated power.
+
+    Notes
+    -----
+    The filter f₊ = f·e + P·(1 − e), e = exp(−Δt/τ), starts cold (f = 0); on a
+    segment it may give P ≤ (rated − f·e)/(1 − e), never less than the rated power
+    (which holds f at or below it) nor more than ``peak`` already allowed.
+    """
+    dt = np.nan_to_num(np.asarray(time, dtype=float), nan=0.0, posinf=0.0)
+    decay = np.exp(-dt / THERMAL_TIME)
+    unbounded = np.full(dt.size, UNBOUNDED)
+    level = clamp_affine_scan(decay, (1.0 - decay) * motor_power, -unbounded, unbounded, 0.0)[:-1]
+    with np.errstate(divide="ignore", invalid="ignore"):
+        room = np.where(decay < 1.0, (motor.rated_power - level * decay) / (1.0 - decay), np.inf)
+    return np.asarray(np.minimum(peak, np.maximum(motor.rated_power, room)), dtype=float)
