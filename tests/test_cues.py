@@ -36,14 +36,15 @@ def test_straight_road_with_jitter_has_no_turns(tmp_path):
     assert find_turns(build_terrain(track)) == []
 
 
-def test_hairpin_is_a_sharp_turn(tmp_path):
+def test_hairpin_is_a_u_turn_with_its_whole_angle(tmp_path):
     th = np.linspace(0, np.pi, 32)
     x = np.concatenate([np.arange(0, 300, 10.0), 300 + 10 * np.sin(th), np.arange(300, 0, -10.0)])
     y = np.concatenate([np.zeros(30), 10 - 10 * np.cos(th), np.full(30, 20.0)])
     lat, lon = to_latlon(x, y)
     track = read_gpx(write_gpx(tmp_path / "h.gpx", lat, lon, np.full(x.size, 50.0)))
     (cue,) = find_turns(build_terrain(track))
-    assert cue.text == "sharp left"
+    assert cue.text == "U-turn left"
+    assert abs(cue.turn) == np.clip(abs(cue.turn), 165, 195)  # the whole 180° corner
 
 
 def test_waypoints_become_cues_in_order(tmp_path):

@@ -14,8 +14,10 @@ from cardgen.route.terrain import Terrain
 
 #: Heading change [deg] over :data:`TURN_WINDOW` that makes a turn …
 TURN_THRESHOLD = 45.0
-#: … and a sharp turn.
+#: … a sharp turn …
 SHARP_THRESHOLD = 120.0
+#: … and a U-turn (a hairpin, or turning back on an out-and-back route).
+U_TURN = 150.0
 #: Path length [m] on each side of a node over which headings are averaged.
 TURN_WINDOW = 30.0
 #: Waypoints farther than this [m] from the route are left off the cue sheet.
@@ -43,19 +45,18 @@ class Cue:
 
 
 def _turn_angles(terrain: Terrain, window: float) -> np.ndarray:
-    """Signed heading change [deg] at each node: mean heading over ``window`` after
-    the node minus the mean over ``window`` before it (the unwrapped course of
-    :func:`~cardgen.route.geodesy.course`)."""
+    """Signed turn [deg] across the corner at each node: the course ``window`` metres
+    after the node minus the course ``window`` metres before it (the unwrapped course
+    of :func:`~cardgen.route.geodesy.course`), so a corner's whole angle is measured,
+    a hairpin's 180° included."""
     heading = np.degrees(course(terrain.lat, terrain.lon))
     k = max(1, int(round(window / terrain.step)))
     n = terrain.distance.size
     angles = np.zeros(n)
     if heading.size < 2 * k:
         return angles
-    c = np.concatenate(([0.0], np.cumsum(heading)))
-    mean_before = (c[k:-k] - c[: -2 * k]) / k  # segments i-k … i-1, node i = k … n-1-k
-    mean_after = (c[2 * k :] - c[k:-k]) / k  # segments i … i+k-1
-    angles[k : n - k] = mean_after - mean_before
+    # node i sits between segments i − 1 and i: compare segment i + k − 1 with i − k
+    angles[k : n - k] = heading[2 * k - 1 :] - heading[: n - 2 * k]
     return angles
 
 
@@ -77,10 +78,15 @@ def find_turns(
         return cues
     edges = np.diff(np.concatenate(([0], over.astype(np.int8), [0])))
     for a, b in zip(np.flatnonzero(edges == 1), np.flatnonzero(edges == -1), strict=True):
-        i = a + int(np.argmax(np.abs(angles[a:b])))
+        run = np.abs(angles[a:b])
+        top = np.flatnonzero(run >= run.max() - 0.5)  # the corner's whole angle holds over a stretch:
+        i = a + int(top[len(top) // 2])  # the cue goes to its middle
         angle = float(angles[i])
         side = "right" if angle > 0 else "left"
-        text = f"sharp {side}" if abs(angle) >= sharp else f"turn {side}"
+        if abs(angle) >= U_TURN:
+            text = f"U-turn {side}"
+        else:
+            text = f"sharp {side}" if abs(angle) >= sharp else f"turn {side}"
         cues.append(Cue(float(terrain.distance[i]), "turn", text, angle))
     return cues
 
