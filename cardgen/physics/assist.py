@@ -213,3 +213,90 @@ def suggest_levels(
         level = int(np.argmax(enough[:, k])) if enough[:, k].any() else len(motor.levels)
         out.append((level, slowest[:, k].tolist()))
     return out
+
+
+def climb_options(
+    motor: Motor,
+    climbs: Sequence[tuple[int, int]],
+    *,
+    climb_power: float,
+    cp: float,
+    target_speed: float,
+    resistance: Resistance,
+    grade: Floats,
+    headwind: Floats,
+    air_density: Floats,
+    step: float,
+) -> dict[str, np.ndarray]:
+    """What each assist level does on each climb, all solved at once (steady speeds).
+
+    Returns arrays of shape (levels 0…N, climbs): ``slowest`` [m/s] the slowest
+    segment, ``time`` [s], ``battery`` [J] drawn, and ``within_cp`` (bool): the rider
+    holds the target speed at no more than CP. The rider rides at the power the target
+    speed needs, at most ``climb_power``, and eases off at the target.
+    """
+    segments = [np.arange(start, end) for start, end in climbs]
+    idx = np.concatenate(segments)
+    starts = np.cumsum([0] + [len(x) for x in segments[:-1]])
+    grade, headwind, air_density = (np.asarray(x, dtype=float)[idx] for x in (grade, headwind, air_density))
+    ratios = np.array([0.0, *motor.levels])[:, None]
+    phys = dict(grade=grade, headwind=headwind, air_density=air_density)
+    wanted = rider_power_for_speed(motor, ratios, target_speed, resistance=resistance, **phys)
+    power = np.minimum(wanted, climb_power)
+    speed = np.minimum(assisted_speed(motor, ratios, power, resistance=resistance, **phys), target_speed)
+    length = step * np.sqrt(1.0 + grade**2)
+    with np.errstate(divide="ignore"):
+        seconds = np.where(speed > 0, length / speed, np.inf)
+    drawn = motor_power(motor, ratios, speed, power) * seconds / motor.drive_efficiency
+    return dict(
+        slowest=np.minimum.reduceat(speed, starts, axis=1),
+        time=np.add.reduceat(seconds, starts, axis=1),
+        battery=np.add.reduceat(np.nan_to_num(drawn, posinf=0.0), starts, axis=1),
+        within_cp=np.maximum.reduceat(wanted, starts, axis=1) <= cp * (1 + 1e-9),
+    )
+
+
+def plan_levels(options: dict[str, np.ndarray], *, min_speed: float, budget: float) -> list[int]:
+    """The level for each climb: the lowest at which the rider holds the target speed
+    within CP (else the highest), so long as the climbs' battery fits ``budget`` [J];
+    when it does not, the levels that keep a two-wheeler above ``min_speed`` come first,
+    then the upgrades that save the most time per watt-hour, while the battery lasts.
+
+    Notes
+    -----
+    A greedy knapsack over (climb, level) steps by time saved per joule (Dantzig 1957);
+    each climb's options are first made convex by dropping levels that save no time.
+    """
+    levels, climbs = options["time"].shape
+    top = levels - 1
+    wanted = [
+        int(np.argmax(options["within_cp"][:, k])) if options["within_cp"][:, k].any() else top
+        for k in range(climbs)
+    ]
+    if sum(options["battery"][wanted[k], k] for k in range(climbs)) <= budget:
+        return wanted
+    must = [
+        int(np.argmax(options["slowest"][:, k] >= min_speed))
+        if (options["slowest"][:, k] >= min_speed).any()
+        else top
+        for k in range(climbs)
+    ]
+    chosen = list(must)
+    spent = sum(options["battery"][chosen[k], k] for k in range(climbs))
+    while True:
+        best, best_rate = None, 0.0
+        for k in range(climbs):
+            level = chosen[k]
+            if level >= wanted[k]:
+                continue
+            extra = options["battery"][level + 1, k] - options["battery"][level, k]
+            saved = options["time"][level, k] - options["time"][level + 1, k]
+            if spent + extra > budget or saved <= 0:
+                continue
+            rate = saved / max(extra, 1e-9)
+            if rate > best_rate:
+                best, best_rate = k, rate
+        if best is None:
+            return chosen
+        spent += options["battery"][chosen[best] + 1, best] - options["battery"][chosen[best], best]
+        chosen[best] += 1

@@ -15,8 +15,10 @@ from cardgen.physics.assist import (
     Motor,
     assisted_speed,
     battery_energy,
+    climb_options,
+    motor_power,
+    plan_levels,
     rider_power_for_speed,
-    suggest_levels,
 )
 from cardgen.physics.atmosphere import Conditions, air_density_isa
 from cardgen.physics.effort import effort_power, safe_climb_power, w_prime_balance
@@ -99,27 +101,51 @@ def speed_caps(terrain: Terrain, rider: Rider):
 
 
 def _assist_ratios(rider: Rider, motor: Motor | None, climbs, terrain, wind, rho):
-    """Assist ratio on every segment and the level chosen for each climb (by start)."""
+    """Assist ratio on every segment and the level chosen for each climb (by start):
+    the battery-aware plan of :func:`~cardgen.physics.assist.plan_levels`."""
     ratio = np.zeros(terrain.grade.size)
     levels: dict[int, int] = {}
     if motor is None:
         return ratio, levels
     ratio[:] = 0.0 if rider.assist_between_climbs == 0 else motor.levels[rider.assist_between_climbs - 1]
-    chosen = suggest_levels(
+    if not climbs:
+        return ratio, levels
+    options = climb_options(
         motor,
         [(c.start, c.end) for c in climbs],
         climb_power=rider.climb_power_used,
+        cp=rider.cp,
         target_speed=rider.target_speed,
-        min_speed=rider.vehicle.min_stable_speed,
         resistance=rider.vehicle.resistance,
         grade=terrain.grade,
         headwind=wind,
         air_density=rho,
+        step=terrain.step,
     )
-    for climb, (level, _) in zip(climbs, chosen, strict=True):
+    budget = motor.usable_battery * (1.0 - BATTERY_RESERVE) - _between_climbs_battery(
+        rider, motor, ratio, climbs, terrain, wind, rho
+    )
+    chosen = plan_levels(options, min_speed=rider.vehicle.min_stable_speed, budget=budget)
+    for climb, level in zip(climbs, chosen, strict=True):
         levels[climb.start] = level
         ratio[climb.start : climb.end] = 0.0 if level == 0 else motor.levels[level - 1]
     return ratio, levels
+
+
+def _between_climbs_battery(rider: Rider, motor: Motor, ratio, climbs, terrain, wind, rho) -> float:
+    """Battery [J] the level between climbs draws, at steady speeds off the climbs."""
+    off = np.ones(terrain.grade.size, dtype=bool)
+    for c in climbs:
+        off[c.start : c.end] = False
+    if not off.any() or not ratio[off].any():
+        return 0.0
+    res = rider.vehicle.resistance
+    air = dict(grade=terrain.grade[off], headwind=wind[off], air_density=rho[off])
+    speed = assisted_speed(motor, ratio[off], rider.flat_power, resistance=res, **air)
+    seconds = terrain.step / np.maximum(speed, 0.1)
+    return float(
+        np.sum(motor_power(motor, ratio[off], speed, rider.flat_power) * seconds) / motor.drive_efficiency
+    )
 
 
 def make_plan(
@@ -201,12 +227,21 @@ def make_plan(
     if motor is not None:
         battery = battery_energy(motor, ride.motor_power, ride.time)
         fits = battery <= motor.usable_battery * (1.0 - BATTERY_RESERVE)
+        drawn = np.cumsum(np.nan_to_num(ride.motor_power * ride.time, posinf=0.0)) / motor.drive_efficiency
+        over = np.flatnonzero(drawn > motor.usable_battery * (1.0 - BATTERY_RESERVE))
+        reserve_at = float(terrain.distance[over[0] + 1]) if over.size else float(terrain.length)
         if not fits:
             warnings.append(
                 Notice(
                     "battery",
                     "warning",
-                    (("used", battery), ("usable", motor.usable_battery), ("reserve", BATTERY_RESERVE)),
+                    (
+                        ("used", battery),
+                        ("usable", motor.usable_battery),
+                        ("reserve", BATTERY_RESERVE),
+                        ("where", reserve_at),
+                    ),
+                    at=reserve_at,
                 )
             )
     totals = Totals(

@@ -8,6 +8,19 @@ from cardgen.plan.model import Notice
 from cardgen.render import format as fmt
 
 
+def _battery(n: Notice, units: str) -> str:
+    where = n.value("where")
+    place = (
+        f"the battery reaches its {n.value('reserve'):.0%} reserve near {fmt.distance(where, units)}: "
+        if where
+        else ""
+    )
+    return (
+        f"{place}the plan needs about {fmt.battery(n.value('used'))} of the {fmt.battery(n.value('usable'))} usable; "
+        "ride lower levels before that, or carry a spare"
+    )
+
+
 def _w_prime(n: Notice, units: str) -> str:
     advice = (
         f"hold about {fmt.power(n.value('safe'), 'down')} instead"
@@ -56,11 +69,7 @@ _WORDS: dict[str, Callable[[Notice, str], str]] = {
     "traction": lambda n, units: (
         f"{fmt.grade(n.value('grade'))} at the steepest: a driven front wheel may slip; keep weight forward"
     ),
-    "battery": lambda n, units: (
-        f"the assist would use about {fmt.battery(n.value('used'))} of the "
-        f"{fmt.battery(n.value('usable'))} usable: more than leaves a "
-        f"{n.value('reserve'):.0%} reserve; use lower levels or carry a spare"
-    ),
+    "battery": lambda n, units: _battery(n, units),
 }
 
 
