@@ -156,3 +156,13 @@ def test_with_battery_to_spare_each_climb_gets_the_level_that_holds_the_target_w
     unassisted = dataclasses.replace(rider, vehicle=dataclasses.replace(vehicle, motor=None))
     off = make_plan(track, terrain, unassisted)
     assert plan.totals.time < off.totals.time
+
+
+def test_each_climb_says_the_battery_left_at_its_top(tmp_path):
+    track, terrain = _hilly(tmp_path, 20, "left.gpx")
+    plan = make_plan(track, terrain, Rider.for_vehicle(builtin_vehicles()["e-assist-city"]))
+    lefts = [c.battery_left for c in plan.climbs]
+    assert lefts == sorted(lefts, reverse=True)  # it only goes down
+    last = plan.climbs[-1].climb.end
+    drawn = np.sum(plan.ride.motor_power[:last] * plan.ride.time[:last]) / plan.motor.drive_efficiency
+    assert lefts[-1] == pytest.approx(plan.motor.usable_battery - drawn)

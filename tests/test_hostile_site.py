@@ -85,6 +85,8 @@ CASES = {
     "watch-unexpected-error": "serve --watch: any error is reported once and the watch goes on",
     "watch-polls-times-only": "serve --watch: the configuration is read again only when a file changes",
     "check-10000-riders": "check of 10,000 riders: linear (line numbers indexed once)",
+    "negative-zero": "a flat route prints its climbing as 0 m, never as --0 m",
+    "solve-implausible-speed": "solve at 146 km/h says the model does not hold there",
 }
 
 
@@ -383,3 +385,19 @@ def test_rebuild_reuse_symlink(tmp_path):
     assert link.is_symlink()  # the unchanged route was reused, its link copied as a link
     assert not (out / "riverside-loop" / "passwd").exists()
     assert snapshot(out / "accessible-path") != before
+
+
+def test_negative_zero(tmp_path, capsys):
+    from gpxmaker import straight, to_latlon, write_gpx
+
+    x, y, _ = straight(2000)
+    lat, lon = to_latlon(x, y)
+    path = write_gpx(tmp_path / "flat.gpx", lat, lon, [5.0] * len(lat))
+    assert _run("route", str(path)) == 0
+    out = capsys.readouterr().out
+    assert "--" not in out.splitlines()[0] and "+0 m / -0 m" in out
+
+
+def test_solve_implausible_speed(capsys):
+    assert _run("solve", "--vehicle", "road-drops", "--power", "1000", "--grade", "-40") == 0
+    assert "bicycles are not ridden above 100 km/h" in capsys.readouterr().out

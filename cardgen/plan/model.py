@@ -56,6 +56,7 @@ class ClimbRow:
     power_at_effort: float  # [W] on that curve at ``speed_at_effort``
     time_above_cp: float = 0.0  # [s] on the climb above the rider's CP: how hard it is for them
     w_prime_used: float = 0.0  # [J] of W′ spent on the climb (from its level at the foot)
+    battery_left: float | None = None  # [J] usable battery left at the climb's top; None without a motor
 
 
 @dataclass(frozen=True)

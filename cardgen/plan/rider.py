@@ -339,6 +339,13 @@ def _climb_row(
         power_at_effort=float(needed(speed_at_effort)),
         time_above_cp=float(np.sum(ride.time[segs][finite & (ride.rider_power[segs] > rider.cp)])),
         w_prime_used=max(0.0, before - w_low),
+        battery_left=None
+        if motor is None
+        else float(
+            motor.usable_battery
+            - np.sum(np.nan_to_num(ride.motor_power[: climb.end] * ride.time[: climb.end], posinf=0.0))
+            / motor.drive_efficiency
+        ),
     )
 
 

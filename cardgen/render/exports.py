@@ -80,6 +80,7 @@ def plan_dict(plan) -> dict:
                 "time_above_cp_s": _num(c.time_above_cp, 0),
                 "w_prime_used_j": _num(c.w_prime_used, 0),
                 "w_prime_min_j": _num(c.w_prime_low, 0),
+                "battery_left_j": _num(c.battery_left, 0),
                 "assist": c.assist_name,
                 "warnings": _notices(c.warnings),
             }
