@@ -116,8 +116,9 @@ def _solve_motor(args):
     return motor, (0.0 if level == 0 else motor.levels[level - 1])
 
 
-def _assist_speed(motor, ratio, power, common):
-    from cardgen.physics.assist import assisted_speed
+def _with_assist(function, motor, ratio, value, common):
+    """``function`` of :mod:`cardgen.physics.assist` (assisted_speed for a power,
+    rider_power_for_speed for a speed) on the solve command's vehicle and road."""
     from cardgen.physics.forces import Resistance
 
     res = Resistance(
@@ -127,32 +128,10 @@ def _assist_speed(motor, ratio, power, common):
         efficiency=common["efficiency"],
         bearings=common["bearings"],
     )
-    return assisted_speed(
+    return function(
         motor,
         ratio,
-        power,
-        resistance=res,
-        grade=common["grade"],
-        headwind=common["headwind"],
-        air_density=common["air_density"],
-    )
-
-
-def _assist_rider_power(motor, ratio, speed, common):
-    from cardgen.physics.assist import rider_power_for_speed
-    from cardgen.physics.forces import Resistance
-
-    res = Resistance(
-        mass=common["mass"],
-        crr=common["crr"],
-        cda=common["cda"],
-        efficiency=common["efficiency"],
-        bearings=common["bearings"],
-    )
-    return rider_power_for_speed(
-        motor,
-        ratio,
-        speed,
+        value,
         resistance=res,
         grade=common["grade"],
         headwind=common["headwind"],
@@ -161,6 +140,7 @@ def _assist_rider_power(motor, ratio, speed, common):
 
 
 def cmd_solve(args) -> int:
+    from cardgen.physics.assist import assisted_speed, rider_power_for_speed
     from cardgen.physics.forces import steady_breakdown
     from cardgen.physics.steady import speed_for_power
     from cardgen.units import kmh_to_ms, ms_to_kmh, pct_to_grade
@@ -200,7 +180,7 @@ def cmd_solve(args) -> int:
         _within("--power", args.power, "power_w")
         speed = float(speed_for_power(args.power, **common))
         if motor is not None and ratio > 0:
-            speed = float(_assist_speed(motor, ratio, args.power, common))
+            speed = float(_with_assist(assisted_speed, motor, ratio, args.power, common))
         _ensure(math.isfinite(speed), "no steady speed exists for these values; check the inputs")
     else:
         _within("--speed", args.speed, "speed_kmh")
@@ -209,7 +189,7 @@ def cmd_solve(args) -> int:
     if args.power is not None:
         power = float(args.power)
     elif motor is not None and ratio > 0:
-        power = float(_assist_rider_power(motor, ratio, speed, common))
+        power = float(_with_assist(rider_power_for_speed, motor, ratio, speed, common))
     else:
         power = float(parts.total)
     motor_w = 0.0
