@@ -192,8 +192,12 @@ class _Checker:
         self.warnings: list[str] = []
         self.inputs: list[Path] = []
         self.notes: list[str] = []
+        self.csv_rows: dict[tuple[str, int | None], tuple[Path, int]] = {}
 
     def where(self, section: str, index: int | None, key: str) -> str:
+        if (section, index) in self.csv_rows:
+            csv_path, row = self.csv_rows[(section, index)]
+            return f"{csv_path}:row {row}" + (f", column {key}:" if key else "")
         name = f"{section}[{index}].{key}" if index is not None else f"{section}.{key}"
         line = self.lines.get((section, index, key))
         place = f"{self.path}" + (f", line {line}" if line else "") if self.path else "settings"
@@ -344,9 +348,11 @@ def _from_data(data: dict, path: Path | None, text: str, folder: Path) -> SiteCo
     }
     vehicles = _site_vehicles(check, data.get("vehicles", []))
     routes = _route_tables(check, data.get("routes", []), folder)
-    riders_raw = data.get("riders", [])
-    if not isinstance(riders_raw, list) or not riders_raw:
-        check.problems.append(f"{path}: no [[riders]] entries; add at least one")
+    riders_raw = _rider_tables(check, data.get("riders", []), folder)
+    if not riders_raw:
+        check.problems.append(
+            f'{path}: no [[riders]] entries; add [[riders]] tables, or riders = "entrants.csv"'
+        )
     riders = [
         check.table("riders", t, i, folder, vehicles)
         for i, t in enumerate(riders_raw if isinstance(riders_raw, list) else [])
@@ -378,9 +384,11 @@ def _from_data(data: dict, path: Path | None, text: str, folder: Path) -> SiteCo
         if not templates.is_dir():
             check.problems.append(f"{check.where('site', None, 'templates')}: no folder {templates}")
     if check.problems:
+        problems = [
+            p.replace(":: ", ": ").replace(": =", " =") for p in check.problems
+        ]  # CSV places end in ":"
         raise ConfigError(
-            f"{plural(len(check.problems), 'problem')} in the configuration:\n  "
-            + "\n  ".join(check.problems)
+            f"{plural(len(problems), 'problem')} in the configuration:\n  " + "\n  ".join(problems)
         )
     conditions = Conditions(
         cond["wind_kmh"] / 3.6,
@@ -417,6 +425,81 @@ def _from_data(data: dict, path: Path | None, text: str, folder: Path) -> SiteCo
         ),
         notes=tuple(check.notes),
     )
+
+
+#: Most rows read from one entrants file.
+MAX_CSV_ROWS = 20_000
+
+
+def _rider_tables(check: _Checker, raw: Any, folder: Path) -> list[Any]:
+    """[[riders]] tables, with riders from spreadsheets: ``riders = "entrants.csv"``, or
+    a ``[[riders]]`` table holding only ``csv = "..."``, which may be mixed with others.
+    A CSV file has a header row of the same keys as [[riders]] (UTF-8, a byte-order mark
+    allowed); ``routes`` lists route names separated by ";"."""
+    if isinstance(raw, str):
+        raw = [{"csv": raw}]
+    if not isinstance(raw, list):
+        check.problems.append(f"{check.path}: riders must be [[riders]] tables or a CSV file name")
+        return []
+    tables: list[Any] = []
+    for table in raw:
+        if isinstance(table, dict) and set(table) == {"csv"} and isinstance(table["csv"], str):
+            csv_path = (folder / table["csv"]).resolve()
+            check.inputs.append(csv_path)
+            for row_number, row in _csv_rows(check, csv_path):
+                check.csv_rows[("riders", len(tables))] = (csv_path, row_number)
+                tables.append(row)
+        else:
+            tables.append(table)
+    return tables
+
+
+def _csv_rows(check: _Checker, path: Path) -> list[tuple[int, dict[str, Any]]]:
+    """The rows of an entrants file as [[riders]] tables, numbers as numbers."""
+    import csv
+    import io
+
+    from cardgen.profiles.tables import read_text_bounded
+
+    try:
+        text = read_text_bounded(path, "entrants (CSV)", ConfigError)
+    except ConfigError as exc:
+        check.problems.append(str(exc))
+        return []
+    rows: list[tuple[int, dict[str, Any]]] = []
+    reader = csv.DictReader(io.StringIO(text.removeprefix("\ufeff")))
+    known = SCHEMA["riders"]
+    for column in reader.fieldnames or []:
+        if column not in known:
+            check.problems.append(
+                f"{path}:row 1, column {column}: unknown column{close_matches(column, known)}; "
+                f"the columns are the keys of [[riders]]: {', '.join(known)}"
+            )
+    for number, row in enumerate(reader, 2):
+        if number > MAX_CSV_ROWS + 1:
+            check.problems.append(f"{path}: more than {MAX_CSV_ROWS:,} rows; split the file")
+            break
+        table: dict[str, Any] = {}
+        for key, cell in row.items():
+            if key not in known or cell is None or not cell.strip():
+                continue
+            table[key] = _csv_value(cell.strip(), known[key].kind)
+        rows.append((number, table))
+    return rows
+
+
+def _csv_value(cell: str, kind: str) -> Any:
+    """A spreadsheet cell as the kind of value its key takes (left as text when it is
+    not one: the check then names the row and column)."""
+    if kind in ("number", "int"):
+        try:
+            number = float(cell.replace(",", ".")) if kind == "number" else int(cell)
+        except ValueError:
+            return cell
+        return number
+    if kind == "list":
+        return [part.strip() for part in cell.split(";") if part.strip()]
+    return cell
 
 
 def plural(count: int, word: str) -> str:
@@ -675,6 +758,10 @@ def reference_table() -> str:
                 "required" if spec.required else ("" if spec.default in (None, "") else f"{spec.default}")
             )
             rows.append(f"| {shown} | `{key}` | {spec.kind} | {span} | {default} | {spec.about} |")
+    rows.append(
+        '| (top level) | `riders = "entrants.csv"` | CSV file | | | riders from a spreadsheet: a header row of '
+        'the [[riders]] keys (`routes` separated by `;`); or `csv = "..."` alone in a [[riders]] table, to mix |'
+    )
     rows.append(
         "| [[vehicles]] | `name`, `base` and any key of a vehicle profile | table | | | "
         "a vehicle of this site, started from a built-in one (`cardgen vehicles --json` lists the keys) |"

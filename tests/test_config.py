@@ -270,3 +270,37 @@ def test_any_one_character_typo_in_the_demo_is_caught_and_the_key_suggested(tmp_
     with pytest.raises(ConfigError) as raised:
         load_config(folder / "site.toml")
     assert f"'{word}'" in str(raised.value), (wrong, str(raised.value))
+
+
+def _entrants(tmp_path: Path, rows: int, bad_row: int | None = None) -> Path:
+    lines = ["name,vehicle,cp_w,flat_kmh,routes"]
+    for i in range(rows):
+        cp = "lots" if bad_row is not None and i + 2 == bad_row else str(180 + i % 60)
+        lines.append(f"Rider {i},road-hoods,{cp},,riverside-loop")
+    path = tmp_path / "entrants.csv"
+    path.write_text("\n".join(lines) + "\n", encoding="utf-8")
+    return path
+
+
+def test_three_hundred_riders_from_a_spreadsheet(tmp_path):
+    _entrants(tmp_path, 300)
+    text = BASE.split("[[riders]]")[0] + 'riders = "entrants.csv"\n'
+    text = text.replace('[site]\ntitle = "T"\n', 'riders = "entrants.csv"\n[site]\ntitle = "T"\n').rsplit(
+        "riders =", 1
+    )[0]
+    config = load_config(_site(tmp_path, text))
+    assert len(config.riders) == 300 and config.riders[17].rider.cp == 180 + 17
+
+
+def test_a_bad_cell_names_its_row_and_column(tmp_path, capsys):
+    _entrants(tmp_path, 30, bad_row=17)
+    text = 'riders = "entrants.csv"\n' + BASE.split("[[riders]]")[0]
+    code, _, err = _check(capsys, _site(tmp_path, text))
+    assert code == 1 and "entrants.csv:row 17, column cp_w: must be a number" in err
+
+
+def test_toml_and_csv_riders_mix(tmp_path):
+    _entrants(tmp_path, 3)
+    text = BASE + '\n[[riders]]\ncsv = "entrants.csv"\n'
+    config = load_config(_site(tmp_path, text))
+    assert [r.rider.name for r in config.riders] == ["A", "Rider 0", "Rider 1", "Rider 2"]
