@@ -441,6 +441,27 @@ def _say_config(config) -> None:
         _print(f"cardgen: note: {note}", file=sys.stderr)
 
 
+def _print_waves(config) -> None:
+    """Each start wave's first and last start, over every route its riders ride."""
+    from cardgen.config import plural, rider_start
+
+    for wave in config.waves:
+        starts = sorted(
+            start
+            for i, rc in enumerate(config.riders)
+            for route in config.routes
+            if rc.rides(route, route.name or route.gpx.stem)
+            for start, name in [rider_start(config, i, route)]
+            if name == wave.name and start is not None
+        )
+        if starts:
+            _print(
+                f"wave {wave.name}: {plural(len(starts), 'start')}, first {starts[0]:%H:%M}, last {starts[-1]:%H:%M}"
+            )
+        else:
+            _print(f"wave {wave.name}: no riders start in it")
+
+
 def cmd_check(args) -> int:
     """Everything a build can find without rendering, all at once."""
     from cardgen.config import plural
@@ -468,6 +489,7 @@ def cmd_check(args) -> int:
         for warning in analysis.warnings:
             _print(f"cardgen: warning: {route.gpx.name}: {warning}", file=sys.stderr)
     _print(f"{plural(len(config.riders), 'rider')}: " + ", ".join(r.rider.name for r in config.riders))
+    _print_waves(config)
     if problems:
         raise CardgenError("\n  ".join([f"{plural(len(problems), 'route problem')}:"] + problems))
     _print("configuration and routes are fine; nothing was written")

@@ -87,6 +87,16 @@ SCHEMA = {
         "name": Spec("str"),
         "notes": Spec("str", default=""),
         "checkpoints": Spec("list", help="waypoint names or distances in km"),
+        "start": Spec("time", help='this route\'s own first start, like "09:00"'),
+    },
+    "waves": {
+        "name": Spec("str", required=True, help="the wave's name"),
+        "start": Spec("time", required=True, help='its first start, like "08:00"'),
+        "interval_min": Spec(
+            "number", default=0.0, limit="start_interval_min", help="time between its riders"
+        ),
+        "routes": Spec("list", help="riders on these routes start in this wave"),
+        "riders": Spec("list", help="these riders (by name) start in this wave"),
     },
     "riders": {
         "name": Spec("str", required=True),
@@ -102,10 +112,12 @@ SCHEMA = {
         "load_kg": Spec("number", limit="load_kg"),
         "battery_wh": Spec("number", limit="battery_wh", help="battery fitted (e-assist vehicles)"),
         "assist_between_climbs": Spec("int", limit="assist_between_climbs"),
+        "start": Spec("time", help='this rider\'s own start, like "08:42"'),
+        "bib": Spec("int", limit="bib"),
         "routes": Spec("list", help="only these routes (GPX file names or route names)"),
     },
 }
-TABLE_ARRAYS = {"routes", "riders", "vehicles"}
+TABLE_ARRAYS = {"routes", "riders", "vehicles", "waves"}
 #: Keys that were renamed: the old name is refused with a pointer to the new.
 RENAMED = {"cruise_level": "assist_between_climbs"}
 #: Sections of site.toml, [[vehicles]] included (its keys are those of a vehicle profile).
@@ -118,12 +130,24 @@ class RouteConfig:
     name: str | None = None
     notes: str = ""
     checkpoints: tuple = ()  # names (str) or distances [m] (float); empty: waypoints typed "checkpoint"
+    start: time | None = None  # this route's own first start
+
+
+@dataclass(frozen=True)
+class Wave:
+    name: str
+    start: time
+    interval: float  # [s] between its riders
+    routes: tuple[str, ...] = ()  # riders on these routes (empty and no riders: everyone)
+    riders: tuple[str, ...] = ()  # these riders, by name
 
 
 @dataclass(frozen=True)
 class RiderConfig:
     rider: Rider
     routes: tuple[str, ...] = ()  # empty: every route
+    start: time | None = None  # the rider's own start
+    bib: int | None = None
 
     def rides(self, route: RouteConfig, name: str) -> bool:
         return (
@@ -154,6 +178,8 @@ class SiteConfig:
     warnings: tuple[str, ...] = field(default=())
     inputs: tuple[Path, ...] = field(default=())  # every file and folder the configuration reads
     notes: tuple[str, ...] = field(default=())  # where the model used another value than the one given
+    waves: tuple[Wave, ...] = field(default=())
+    day: date | None = None  # the event's date
 
 
 _HEADER = re.compile(r"^\s*(\[\[?)\s*([^\]]+?)\s*\]\]?")
@@ -363,6 +389,7 @@ def _from_data(data: dict, path: Path | None, text: str, folder: Path) -> SiteCo
             r["name"],
             r["notes"] or "",
             tuple(x * 1000.0 if isinstance(x, int | float) else x for x in (r["checkpoints"] or ())),
+            r["start"],
         )
         for r in routes
         if r["gpx"] is not None
@@ -373,6 +400,10 @@ def _from_data(data: dict, path: Path | None, text: str, folder: Path) -> SiteCo
     names = [rc.rider.name for rc in rider_objects]
     for name in sorted({n for n in names if names.count(n) > 1}):
         check.problems.append(f"{path}: two riders are named {name!r}; give each a different name")
+    bibs = [rc.bib for rc in rider_objects if rc.bib is not None]
+    for bib in sorted({b for b in bibs if bibs.count(b) > 1}):
+        check.problems.append(f"{path}: bib {bib} is given to two riders; give each a different bib")
+    waves = _waves(check, data.get("waves", []), folder, set(names), route_objects)
 
     site, event, cond = tables["site"], tables["event"], tables["conditions"]
     start = None
@@ -424,6 +455,8 @@ def _from_data(data: dict, path: Path | None, text: str, folder: Path) -> SiteCo
             )
         ),
         notes=tuple(check.notes),
+        waves=tuple(waves),
+        day=event["date"],
     )
 
 
@@ -500,6 +533,40 @@ def _csv_value(cell: str, kind: str) -> Any:
     if kind == "list":
         return [part.strip() for part in cell.split(";") if part.strip()]
     return cell
+
+
+def _waves(
+    check: _Checker, raw: Any, folder: Path, riders: set[str], routes: tuple[RouteConfig, ...]
+) -> list[Wave]:
+    """The [[waves]] tables; every rider and route they name must exist."""
+    if not isinstance(raw, list):
+        check.problems.append(f"{check.path}: waves must be [[waves]] tables")
+        return []
+    route_names = {n for rc in routes for n in (rc.gpx.name, rc.gpx.stem, rc.name) if n}
+    waves = []
+    for i, table in enumerate(raw):
+        w = check.table("waves", table, i, folder)
+        for kind, names, known in (
+            ("rider", w["riders"] or (), riders),
+            ("route", w["routes"] or (), route_names),
+        ):
+            for name in names:
+                if str(name) not in known:
+                    check.problems.append(
+                        f"{check.where('waves', i, kind + 's')} no {kind} {name!r}"
+                        f"{close_matches(str(name), known)}"
+                    )
+        if w["name"] is not None and w["start"] is not None:
+            waves.append(
+                Wave(
+                    w["name"],
+                    w["start"],
+                    w["interval_min"] * 60.0,
+                    tuple(str(x) for x in (w["routes"] or ())),
+                    tuple(str(x) for x in (w["riders"] or ())),
+                )
+            )
+    return waves
 
 
 def plural(count: int, word: str) -> str:
@@ -632,7 +699,7 @@ def _rider(check: _Checker, i: int, r: dict, routes: tuple[RouteConfig, ...]) ->
             f"{1 + rider.climb_share:.2f} = {rider.climb_power_used:.0f} W; the plans use "
             f"{rider.climb_power_used:.0f} W (raise climb_share to allow more)"
         )
-    return RiderConfig(rider, tuple(str(x) for x in (r["routes"] or ())))
+    return RiderConfig(rider, tuple(str(x) for x in (r["routes"] or ())), r["start"], r["bib"])
 
 
 def _fitted_vehicle(check: _Checker, i: int, r: dict, vehicle: Vehicle) -> Vehicle:
@@ -733,11 +800,47 @@ def _default_site(
     )
 
 
-def rider_start(config: SiteConfig, index: int) -> datetime | None:
-    """Start time of the index-th rider (starts spaced by the event's interval)."""
+def rider_start(
+    config: SiteConfig, index: int, route: RouteConfig | None = None
+) -> tuple[datetime | None, str | None]:
+    """The index-th rider's start on ``route``, and the name of their wave (or None).
+
+    First the rider's own ``start``; then the first wave that names them, or their
+    route, or that names neither riders nor routes (its riders spaced by its interval,
+    in the order of the configuration); then the route's own ``start``; then the
+    event's start. Riders of one start group are spaced by its interval."""
+    rc = config.riders[index]
+    day = config.day or (config.start.date() if config.start else date(2000, 1, 1))
+    if rc.start is not None:
+        return datetime.combine(day, rc.start), None
+    route_name = (route.name or route.gpx.stem) if route is not None else None
+
+    def on_route(other: RiderConfig) -> bool:
+        return route is None or other.rides(route, route_name or "")
+
+    def matches(other: RiderConfig, wave: Wave) -> bool:
+        if other.start is not None or not on_route(other):
+            return False
+        named = other.rider.name in wave.riders
+        routed = route is not None and any(
+            n in wave.routes for n in (route.gpx.name, route.gpx.stem, route.name)
+        )
+        return named or routed or (not wave.riders and not wave.routes)
+
+    def wave_of(other: RiderConfig) -> Wave | None:  # a rider starts in the first wave that takes them
+        return next((w for w in config.waves if matches(other, w)), None)
+
+    wave = wave_of(rc)
+    if wave is not None:
+        k = [other for other in config.riders if wave_of(other) is wave].index(rc)
+        return datetime.combine(day, wave.start) + timedelta(seconds=k * wave.interval), wave.name
+    if route is not None and route.start is not None:
+        group = [other for other in config.riders if other.start is None and on_route(other)]
+        k = group.index(rc) if rc in group else 0
+        return datetime.combine(day, route.start) + timedelta(seconds=k * config.start_interval), None
     if config.start is None:
-        return None
-    return config.start + timedelta(seconds=index * config.start_interval)
+        return None, None
+    return config.start + timedelta(seconds=index * config.start_interval), None
 
 
 def reference_table() -> str:

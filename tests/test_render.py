@@ -50,7 +50,7 @@ def test_every_number_on_the_cards_is_the_plans(demo_site):
             if not rc.rides(route, route.gpx.stem):
                 continue
             plan = make_plan(analysis, rider=rc.rider, conditions=config.conditions)
-            start = rider_start(config, index)
+            start, _ = rider_start(config, index, route)
             text = _pdftotext(out / slug / f"{slugify(rc.rider.name)}.pdf")
             lines = text.splitlines()
             for c in plan.climbs:

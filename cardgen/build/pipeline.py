@@ -104,7 +104,7 @@ def _plan_route(task):
 
     Returns (RouteJob, None) or (None, error message naming the file)."""
     from cardgen.plan import analyse, make_plan
-    from cardgen.render.pages import RouteJob
+    from cardgen.render.pages import Entry, RouteJob
     from cardgen.route.checkpoints import resolve_checkpoints
     from cardgen.route.gpx import read_gpx
     from cardgen.route.terrain import build_terrain
@@ -116,10 +116,11 @@ def _plan_route(task):
         analysis = analyse(track, build_terrain(track))
         checkpoints = resolve_checkpoints(rc.checkpoints, track, analysis.terrain, str(rc.gpx))
         riders = tuple(
-            (
+            Entry(
                 r.rider.name,
-                rider_start(config, i),
+                *rider_start(config, i, rc),
                 make_plan(analysis, rider=r.rider, conditions=config.conditions),
+                r.bib,
             )
             for i, r in enumerate(config.riders)
             if r.rides(rc, rc.name or rc.gpx.stem)

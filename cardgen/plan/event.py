@@ -21,22 +21,27 @@ class CheckpointWindow:
 
 
 def checkpoint_windows(
-    plans: Sequence[Plan], checkpoints: Sequence[Checkpoint], start: datetime, margin: float
+    plans: Sequence[Plan],
+    checkpoints: Sequence[Checkpoint],
+    start: datetime | Sequence[datetime],
+    margin: float,
 ) -> tuple[list[CheckpointWindow], CheckpointWindow]:
-    """Opening and closing times of checkpoints for riders who all start at ``start``.
+    """Opening and closing times of checkpoints from the riders' own arrivals.
 
-    A checkpoint opens ``margin`` seconds before the fastest plan arrives and closes
-    ``margin`` seconds after the slowest; the finish closes likewise. Returns
-    (windows, finish window).
+    ``start`` is every rider's start (one per plan), or one start for all. A checkpoint
+    opens ``margin`` seconds before the earliest planned arrival and closes ``margin``
+    seconds after the latest, both to the whole minute outward; the finish closes
+    likewise. Returns (windows, finish window).
     """
+    starts = list(start) if not isinstance(start, datetime) else [start] * len(plans)
 
-    def at(plan: Plan, distance: float) -> datetime | None:
+    def at(plan: Plan, begin: datetime, distance: float) -> datetime | None:
         seconds = float(np.interp(distance, plan.terrain.distance, plan.ride.elapsed))
-        return start + timedelta(seconds=seconds) if np.isfinite(seconds) else None
+        return begin + timedelta(seconds=seconds) if np.isfinite(seconds) else None
 
     def window(checkpoint: Checkpoint) -> CheckpointWindow:
-        arrivals = tuple(at(p, checkpoint.distance) for p in plans)
-        reached = [a for a in arrivals if a is not None] or [start]  # none arrives: a window at the start
+        arrivals = tuple(at(p, s, checkpoint.distance) for p, s in zip(plans, starts, strict=True))
+        reached = [a for a in arrivals if a is not None] or [min(starts)]  # none arrives: at the first start
         # to the minute, outward: a planned arrival is never outside the printed window
         return CheckpointWindow(
             checkpoint,

@@ -79,6 +79,7 @@ LIMITS: dict[str, Limit] = {
     "usable_share": Limit(0.1, 1, help="share of the battery that can be drawn"),
     # the event and the weather
     "start_interval_min": Limit(0, 120, "min", 60.0, "time between riders' starts"),
+    "bib": Limit(1, 99999, help="the rider's number"),
     "checkpoint_margin_min": Limit(0, 240, "min", 60.0, "margin around planned arrivals"),
     "wind_kmh": Limit(0, 150, "km/h", 1 / 3.6, "wind speed"),
     "wind_from_deg": Limit(0, 360, "°", help="where the wind comes from, clockwise from north"),

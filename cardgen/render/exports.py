@@ -8,6 +8,9 @@ import csv
 import io
 import json
 import math
+from datetime import timedelta
+
+import numpy as np
 
 from cardgen.render.notices import notice_text
 from cardgen.units import J_PER_KCAL
@@ -113,17 +116,51 @@ def plan_dict(plan) -> dict:
     }
 
 
-def plan_json_text(route_name: str, plans) -> str:
-    """All riders' plans of one route as JSON text (stable key order)."""
-    return (
-        json.dumps(
-            {"route": route_name, "plans": [plan_dict(p) for p in plans]},
-            indent=1,
-            ensure_ascii=False,
-            sort_keys=True,
+def plan_json_text(route_name: str, plans, entries=(), windows=(), dated: bool = False) -> str:
+    """All riders' plans of one route as JSON text (stable key order), with each
+    rider's start, bib and wave, their arrival at each checkpoint and the finish, and
+    the checkpoints' windows (docs/contracts.md). Times are local "HH:MM", or ISO 8601
+    date-times when the event has a date."""
+
+    def when(moment):
+        if moment is None:
+            return None
+        return moment.isoformat(timespec="minutes") if dated else moment.strftime("%H:%M")
+
+    def arrival(plan, start, distance):
+        if start is None:
+            return None
+        seconds = float(np.interp(distance, plan.terrain.distance, plan.ride.elapsed))
+        return when(start + timedelta(seconds=seconds)) if np.isfinite(seconds) else None
+
+    dicts = []
+    for i, plan in enumerate(plans):
+        entry = entries[i] if i < len(entries) else None
+        start = entry.start if entry is not None else None
+        data = plan_dict(plan)
+        data["rider"].update(
+            start=when(start), bib=entry.bib if entry else None, wave=entry.wave if entry else None
         )
-        + "\n"
-    )
+        data["checkpoints"] = [
+            {"name": w.checkpoint.name, "arrival": arrival(plan, start, w.checkpoint.distance), "stop_s": 0}
+            for w in windows
+        ]
+        data["finish"] = arrival(plan, start, plan.terrain.length)
+        dicts.append(data)
+    top = {
+        "route": route_name,
+        "checkpoints": [
+            {
+                "name": w.checkpoint.name,
+                "distance_m": _num(w.checkpoint.distance, 1),
+                "opens": when(w.opens),
+                "closes": when(w.closes),
+            }
+            for w in windows
+        ],
+        "plans": dicts,
+    }
+    return json.dumps(top, indent=1, ensure_ascii=False, sort_keys=True) + "\n"
 
 
 def csv_cell(value: object) -> object:

@@ -49,7 +49,19 @@ class RouteJob:
     notes: str
     analysis: Analysis
     checkpoints: tuple  # Checkpoint, by distance
-    riders: tuple  # (rider name, start datetime or None, Plan)
+    riders: tuple  # Entry, in the configuration's order
+
+
+@dataclass(frozen=True)
+class Entry:
+    """One rider on one route: name, start (None without an event time), the start
+    wave's name, their plan and bib."""
+
+    name: str
+    start: datetime | None
+    wave: str | None
+    plan: Plan
+    bib: int | None = None
 
 
 @dataclass(frozen=True)
@@ -147,9 +159,7 @@ def _write_plots(config, job: RouteJob, folder: Path) -> dict:
     hardest = _hardest(analysis.climbs)
     if hardest is not None and job.riders:
         index = analysis.climbs.index(hardest)
-        power_svg, power_alt = plots.power_curves(
-            [(name, plan.climbs[index]) for name, _, plan in job.riders], units
-        )
+        power_svg, power_alt = plots.power_curves([(e.name, e.plan.climbs[index]) for e in job.riders], units)
         (folder / "power.svg").write_text(power_svg, encoding="utf-8")
     return {
         "profile_alt": alt,
@@ -159,10 +169,11 @@ def _write_plots(config, job: RouteJob, folder: Path) -> dict:
     }
 
 
-def _write_exports(config, job: RouteJob, plans: list[Plan], folder: Path) -> str:
+def _write_exports(config, job: RouteJob, plans: list[Plan], folder: Path, windows: list) -> str:
     """plan.json, climbs.csv, route.gpx and the QR code; returns the QR's target URL."""
     analysis = job.analysis
-    (folder / "plan.json").write_text(exports.plan_json_text(job.name, plans), encoding="utf-8")
+    text = exports.plan_json_text(job.name, plans, job.riders, windows, dated=config.day is not None)
+    (folder / "plan.json").write_text(text, encoding="utf-8")
     (folder / "climbs.csv").write_text(exports.climbs_csv_text(plans), encoding="utf-8")
     (folder / "route.gpx").write_text(
         exports.route_gpx_text(analysis.track, analysis.terrain, analysis.climbs, job.checkpoints),
@@ -207,14 +218,15 @@ def _render_route(config, site: dict, job: RouteJob, folder: Path) -> tuple[dict
     figures = _write_plots(config, job, folder)
     taken = set(RESERVED_CARD_NAMES)
     views: list[RiderView] = []
-    for name, start, plan in job.riders:
-        slug = slugify(name, taken)  # unique within the route: it names the card file
-        views.append(RiderView(name, slug, plan, f"{slug}.pdf", start))
+    for e in job.riders:
+        slug = slugify(e.name, taken)  # unique within the route: it names the card file
+        views.append(RiderView(e.name, slug, e.plan, f"{slug}.pdf", e.start))
     plans: list[Plan] = [v.plan for v in views]
     windows: list = []
     margin_text = ""
-    if plans and config.start is not None:
-        windows, _ = checkpoint_windows(plans, job.checkpoints, config.start, config.checkpoint_margin)
+    starts = [e.start for e in job.riders]
+    if plans and all(s is not None for s in starts):  # windows from each rider's own start
+        windows, _ = checkpoint_windows(plans, job.checkpoints, starts, config.checkpoint_margin)
         margin_text = f"{config.checkpoint_margin / 60:.0f} min"
     route = {
         "name": job.name,
@@ -242,7 +254,7 @@ def _render_route(config, site: dict, job: RouteJob, folder: Path) -> tuple[dict
         ),
         encoding="utf-8",
     )
-    qr = _write_exports(config, job, plans, folder)
+    qr = _write_exports(config, job, plans, folder, windows)
     page = page_geometry(config.card_size, config.large_print)
     cards = []
     for view in views:
