@@ -75,6 +75,7 @@ def main() -> None:
                 rider=power,
                 ratio=ratio,
                 step=np.full(power.size, terrain.step),
+                peak=np.full(power.size, motor.peak_power if motor else 0.0),
             )
             _scan(
                 rows, v.resistance, motor, speed_limit_profile(terrain.distance, caps, BRAKING), None, 0.0, 4
