@@ -106,7 +106,7 @@ def test_cautions_on_every_card_page(demo_site):
     for pdf in sorted(out.rglob("*.pdf")):
         for page in _pdftotext(pdf).split("\f"):
             if page.strip():
-                assert "model estimate" in page and "local rules apply" in page, pdf
+                assert "model estimate" in page and "road rules apply" in page, pdf
 
 
 @needs_poppler
@@ -206,3 +206,22 @@ def test_contrast_formula_reference_values():
     # WCAG 2.2 definition: black on white is 21:1; #767676 on white is the familiar 4.54:1
     assert _contrast("#000000", "#ffffff") == pytest.approx(21.0)
     assert _contrast("#767676", "#ffffff") == pytest.approx(4.54, abs=0.01)
+
+
+@needs_poppler
+def test_legend_and_cautions_fit_the_card(demo_site):
+    """The legend explains exactly the symbols on the card; the e-assist caution is on
+    e-assist cards only (issue: cards fit to hand out)."""
+    from cardgen.render.html import SYMBOLS
+
+    _, out, _ = demo_site
+    for pdf in sorted((out / "hill-loop").glob("*.pdf")):
+        if pdf.name == "coach.pdf":
+            continue
+        text = _pdftotext(pdf)
+        shown = {letter for letter, meaning in SYMBOLS.values() if meaning in " ".join(text.split())}
+        explained_w = "below balance speed" in text
+        assert ("cargo" in pdf.name) == ("E-assist: legal limits" in " ".join(text.split())), pdf
+        assert shown, pdf  # the hill loop gives every card some symbol
+        if "handcycle" in pdf.name:
+            assert not explained_w  # three wheels: never the walking symbol

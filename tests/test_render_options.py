@@ -82,7 +82,7 @@ def test_large_print_body_is_at_least_14_pt(tmp_path):
     text = subprocess.run(
         ["pdftotext", str(large_pdf), "-"], capture_output=True, text=True, check=True
     ).stdout
-    assert "medical condition" in text and "legal limits" in text
+    assert "medical condition" in text and "road rules apply" in text  # (no motor: no e-assist caution)
 
 
 def test_base_url_puts_a_qr_code_on_each_card(tmp_path):

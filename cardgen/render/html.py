@@ -102,7 +102,14 @@ def environment(override: Path | None = None, units: str = "metric") -> jinja2.E
     for name, function in fmt.FILTERS.items():
         env.filters[name] = function
     env.filters["notice"] = notice_text
-    env.globals.update(units=units, cautions=CAUTIONS, symbols=SYMBOLS, clock=fmt.clock)
+    env.globals.update(
+        units=units,
+        cautions=CAUTIONS,
+        symbols=SYMBOLS,
+        clock=fmt.clock,
+        cautions_for=cautions_for,
+        legend_for=legend_for,
+    )
     return env
 
 
@@ -115,6 +122,20 @@ class RiderView:
     plan: Plan
     card: str  # file name of the PDF card
     start: datetime | None
+
+
+def cautions_for(plan: Plan) -> tuple[str, ...]:
+    """The cautions that apply to this rider's vehicle: the e-assist one only where
+    there is a motor."""
+    return tuple(c for c in CAUTIONS if plan.motor is not None or not c.startswith("E-assist"))
+
+
+def legend_for(plan: Plan) -> list[tuple[str, str]]:
+    """(letter, meaning) of exactly the symbols this plan's card shows."""
+    used = {w.code for row in plan.climbs for w in row.warnings}
+    used |= {w.code for row in plan.descents for w in row.warnings}
+    used |= {w.code for w in plan.warnings}
+    return [symbol for code, symbol in SYMBOLS.items() if code in used]
 
 
 def symbols_for(warnings) -> list[str]:
