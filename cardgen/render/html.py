@@ -18,7 +18,11 @@ from cardgen.plan import Plan
 from cardgen.render import format as fmt
 from cardgen.render.notices import notice_text
 
-#: Cautions printed on every card and page, plain and short.
+#: The caution for vehicles with a motor (cards of other vehicles leave it out).
+ASSIST_CAUTION = (
+    "E-assist: legal limits on motor power and assisted speed differ by place; the local rules apply."
+)
+#: Cautions printed on every page, plain and short (cards: :func:`cautions_for`).
 CAUTIONS = (
     "Every figure is a model estimate from average values, not a guarantee: wind, road surface, "
     "tyres and the rider's day change them.",
@@ -27,7 +31,7 @@ CAUTIONS = (
     "Exertion: anyone with a medical condition needs clearance from a qualified professional "
     "before hard efforts; adaptive athletes follow their clinician's advice.",
     "Roads are open to traffic: local road rules apply.",
-    "E-assist: legal limits on motor power and assisted speed differ by place; the local rules apply.",
+    ASSIST_CAUTION,
 )
 
 #: Short symbols for warnings on cards, with their meaning (our own letters).
@@ -127,7 +131,7 @@ class RiderView:
 def cautions_for(plan: Plan) -> tuple[str, ...]:
     """The cautions that apply to this rider's vehicle: the e-assist one only where
     there is a motor."""
-    return tuple(c for c in CAUTIONS if plan.motor is not None or not c.startswith("E-assist"))
+    return tuple(c for c in CAUTIONS if plan.motor is not None or c != ASSIST_CAUTION)
 
 
 def legend_for(plan: Plan) -> list[tuple[str, str]]:
