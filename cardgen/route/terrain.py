@@ -18,6 +18,7 @@ import numpy as np
 from numpy.lib.stride_tricks import sliding_window_view
 
 from cardgen.errors import GpxError
+from cardgen.route.corners import find_corners
 from cardgen.route.geodesy import bearing, course, cumulative_distance
 from cardgen.route.gpx import Track
 from cardgen.units import Floats
@@ -276,6 +277,11 @@ def build_terrain(track: Track, step: float = GRID_STEP) -> Terrain:
     grade = np.diff(smooth) / grid_step
     heading = bearing(lat[:-1], lon[:-1], lat[1:], lon[1:])
     radius = curve_radius(lat, lon, grid_step)
+    # corners shorter than the window: the radius of the whole corner, from the
+    # track's own points (the grid's interpolated points add nothing)
+    for corner in find_corners(track.lat[keep], unwrapped, d):
+        on = (grid >= corner.start) & (grid <= corner.end)
+        radius[on] = np.minimum(radius[on], corner.radius)
     gap_at = tuple(_gap_distances(track, d, keep))
     for where in gap_at:  # the join is no curve and no turn
         near = np.abs(grid - where) <= CURVE_WINDOW
