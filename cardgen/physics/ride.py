@@ -42,8 +42,9 @@ TOLERANCE = 1e-6
 #: … or after this many passes (Ride.converged then says False).
 MAX_PASSES = 80
 #: The first solve, which only finds the segments to cut, stops at this change.
-ROUGH = 1e-3
-#: Passes after this one move the reference half way only (damping).
+ROUGH = 1e-2
+#: Passes after this one move the reference half way only (damping); earlier
+#: passes too once a pass closes in by less than half.
 DAMP_AFTER = 12
 #: Time constant [s] of the motor's thermal filter: of the order of the period over
 #: which a continuous rating holds; common practice, no published source.
@@ -51,7 +52,7 @@ THERMAL_TIME = 600.0
 #: Rounds of re-solving with the thermal limit (each round only lowers the allowed peak).
 THERMAL_ROUNDS = 6
 #: A segment whose u = v² changes by more than this share of itself is cut into parts …
-SUBSTEP_CHANGE = 0.05
+SUBSTEP_CHANGE = 0.1
 #: … at most this many.
 MAX_SUBSTEPS = 32
 #: Stand-in for ±infinity in clamp bounds: keeps 0 × bound finite in the scan.
@@ -298,7 +299,7 @@ def _solve(
             float(speeds[0]),
             tolerance,
             max_passes,
-            0.5 * (speeds[:-1] + speeds[1:]),
+            speeds,
         )
         final["passes"] += coarse["passes"]
         return _ride(final, rows, resistance)
@@ -313,8 +314,7 @@ def _solve(
     fine_braking = np.repeat(np.broadcast_to(np.asarray(deceleration, dtype=float), (n,)), pieces)
     fine_limit = speed_limit_profile(fine_distance, fine_cap, fine_braking)
     coarse_speed = np.sqrt(coarse["u"])
-    middles = fine_distance[:-1] + 0.5 * fine_rows["step"]
-    guess = np.interp(middles, np.asarray(distance, dtype=float), coarse_speed)
+    guess = np.interp(fine_distance, np.asarray(distance, dtype=float), coarse_speed)
     fine = _scan(
         fine_rows, resistance, motor, fine_limit, float(coarse_speed[0]), tolerance, max_passes, guess
     )
@@ -334,7 +334,8 @@ def _scan(
 ) -> dict[str, Any]:
     """The converged passes of :func:`simulate` on one grid: node u = v², and per
     segment time [s], motor power [W], whether a limit held the speed, passes used.
-    ``first_guess`` [m/s] per segment replaces the steady speeds as the first reference."""
+    ``first_guess`` [m/s] at each node replaces the steady speeds as the first
+    reference."""
     grade, wind, rho, rider, ratio = rows["grade"], rows["wind"], rows["rho"], rows["rider"], rows["ratio"]
     n = grade.size
     cos_a = 1.0 / np.sqrt(1.0 + grade * grade)
@@ -375,7 +376,7 @@ def _scan(
 
     # First reference: the steady speed of each segment (with the motor at that speed).
     if first_guess is not None:
-        v_ref = np.maximum(first_guess, 0.05)
+        v_ref = np.maximum(0.5 * (first_guess[:-1] + first_guess[1:]), 0.05)
     else:
         v_ref = steady(wheel_rider)
         for _ in range(3 if motor is not None else 0):  # the motor's share depends on the speed
@@ -384,8 +385,9 @@ def _scan(
     if start_speed is None:
         start_speed = float(v_ref[0]) if n else 0.0
     u = np.full(n + 1, start_speed**2)
-    v_last = np.sqrt(u)
-    used, change = 0, 0.0
+    # node speeds of the first reference: a good guess can be judged settled at once
+    v_last = np.asarray(first_guess, dtype=float) if first_guess is not None else np.sqrt(u)
+    used, change, damped = 0, 0.0, False
     for used in range(1, max_passes + 1):
         motor_w, motor_slope = drive(v_ref)
         p_wheel = wheel_rider + motor_w
@@ -403,10 +405,13 @@ def _scan(
         v_nodes = np.sqrt(u)
         v_new = np.maximum(0.5 * (v_nodes[:-1] + v_nodes[1:]), 0.05)
         # settled when no node's speed moved by more than the tolerance since the last pass
+        last_change = change
         change = float(np.max(np.abs(v_nodes - v_last) / np.maximum(v_last, 0.5))) if n else 0.0
         v_last = v_nodes
-        # late passes are damped: a reference that overshoots a taper or a stall settles
-        v_ref = v_new if used <= DAMP_AFTER else 0.5 * (v_ref + v_new)
+        # once the passes stop closing in (a reference that flips across a motor's
+        # taper or a stall), or after DAMP_AFTER passes, each moves half way only
+        damped = damped or used > DAMP_AFTER or (used > 2 and change > 0.5 * last_change)
+        v_ref = 0.5 * (v_ref + v_new) if damped else v_new
         if change <= tolerance:
             break
     speed = np.sqrt(u)
