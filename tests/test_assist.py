@@ -166,3 +166,53 @@ def test_each_climb_says_the_battery_left_at_its_top(tmp_path):
     last = plan.climbs[-1].climb.end
     drawn = np.sum(plan.ride.motor_power[:last] * plan.ride.time[:last]) / plan.motor.drive_efficiency
     assert lefts[-1] == pytest.approx(plan.motor.usable_battery - drawn)
+
+
+@pytest.mark.parametrize("motor_name", sorted(builtin_motors()))
+@pytest.mark.parametrize("vehicle_name", ["e-assist-city", "e-assist-cargo"])
+def test_steady_assisted_speed_near_the_cutoff_matches_a_root_finder(vehicle_name, motor_name):
+    """The steady speed with assist is the root of P_r·E + boost·taper(v) = P_need(v);
+    checked against scipy's brentq (an independent root finder) on grades where the
+    speed lands below, inside and above the taper, for every level of every built-in
+    motor envelope."""
+    from scipy.optimize import brentq
+
+    from cardgen.physics.assist import assisted_speed
+    from cardgen.physics.steady import power_for_speed
+
+    motor, res = find_motor(motor_name), builtin_vehicles()[vehicle_name].resistance
+    phys = dict(**{**res.steady(), "efficiency": 1.0}, headwind=0.0, air_density=1.2)
+    for ratio in motor.levels:
+        for grade in (-0.02, 0.0, 0.01, 0.03, 0.08):
+            for rider_w in (60.0, 120.0, 250.0):
+                got = float(
+                    assisted_speed(
+                        motor, ratio, rider_w, resistance=res, grade=grade, headwind=0.0, air_density=1.2
+                    )
+                )
+
+                def surplus(v, grade=grade, rider_w=rider_w, ratio=ratio):
+                    wheel = rider_w * res.efficiency + motor_power(motor, ratio, v, rider_w)
+                    return wheel - float(power_for_speed(v, grade=grade, **phys))
+
+                want = brentq(surplus, 0.01, 40.0, xtol=1e-9)
+                assert got == pytest.approx(want, rel=1e-4), (ratio, grade, rider_w)
+
+
+def test_the_level_between_climbs_gives_way_when_the_battery_is_short(tmp_path):
+    """On 160 km that needs more than the battery, a rider who asks for the top level
+    between climbs is planned lower there (and told so); with battery to spare the
+    level asked for stands. More assist between climbs never makes it slower."""
+    track, terrain = _hilly(tmp_path, 160)
+    vehicle = builtin_vehicles()["e-assist-city"]
+    top = len(find_motor(vehicle.motor).levels)
+    long_plan = make_plan(track, terrain, Rider.for_vehicle(vehicle, assist_between_climbs=top))
+    assert long_plan.assist_between < top
+    assert "assist-lowered" in {w.code for w in long_plan.warnings}
+    short_track, short_terrain = _hilly(tmp_path, 15, "short.gpx")
+    times = []
+    for level in range(top + 1):
+        plan = make_plan(short_track, short_terrain, Rider.for_vehicle(vehicle, assist_between_climbs=level))
+        assert plan.assist_between == level and plan.totals.battery_fits
+        times.append(plan.totals.time)
+    assert times == sorted(times, reverse=True)

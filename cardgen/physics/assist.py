@@ -118,8 +118,13 @@ def assisted_speed(
 ) -> Any:
     """Steady speed [m/s] with the rider's power and assist at ``ratio``.
 
-    The motor's share falls with speed near the cut-off, so the speed is solved, then
-    the taper at that speed applied and solved again (two fixed-point rounds).
+    Notes
+    -----
+    The wheel power available, P_r·E + boost·taper(v), falls with speed inside the
+    taper while the power needed rises, so there is one steady speed. Full assist
+    stands when it stays below the taper; the rider alone stands when that already
+    reaches the cut-off; otherwise the speed lies inside the taper and is found by
+    bisection there (40 halvings: far below any printed digit).
     """
     rider_power = np.asarray(rider_power, dtype=float)
     wheel = np.where(rider_power > 0, rider_power * resistance.efficiency, rider_power)
@@ -129,15 +134,27 @@ def assisted_speed(
         grade=grade,
         headwind=headwind,
         air_density=air_density,
-        rtol=1e-6,
     )
-    speed = speed_for_power(wheel + boost, **phys)
-    for _ in range(2):
-        slower = taper_factor(speed, motor.cutoff_speed, motor.taper) < 1
-        if not np.any(slower):  # all below the taper: the first answer stands
-            break
-        speed = speed_for_power(wheel + boost * taper_factor(speed, motor.cutoff_speed, motor.taper), **phys)
-    return speed
+    full = np.asarray(speed_for_power(wheel + boost, **phys, rtol=1e-6), dtype=float)
+    start = motor.cutoff_speed - motor.taper
+    if motor.taper <= 0 or not np.any(full > start):
+        return np.where(full < motor.cutoff_speed, full, speed_for_power(wheel, **phys, rtol=1e-6))[()]
+    alone = np.asarray(speed_for_power(wheel + 0.0 * boost, **phys, rtol=1e-6), dtype=float)
+    lo = np.broadcast_to(np.maximum(alone, start), full.shape).copy()
+    hi = np.broadcast_to(np.minimum(full, motor.cutoff_speed), full.shape).copy()
+    shape = np.broadcast(wheel, boost, *(np.asarray(x) for x in (grade, headwind, air_density))).shape
+    wheel_b, boost_b = np.broadcast_to(wheel, shape), np.broadcast_to(boost, shape)
+    for _ in range(40):
+        mid = 0.5 * (lo + hi)
+        surplus = (
+            wheel_b
+            + boost_b * taper_factor(mid, motor.cutoff_speed, motor.taper)
+            - power_for_speed(mid, **phys)
+        )
+        lo = np.where(surplus > 0, mid, lo)
+        hi = np.where(surplus > 0, hi, mid)
+    inside = (full > start) & (alone < motor.cutoff_speed)
+    return np.where(inside, 0.5 * (lo + hi), np.where(full > start, alone, full))[()]
 
 
 def rider_power_for_speed(

@@ -114,3 +114,4 @@ class Plan:
     cues: tuple[TimedCue, ...]
     totals: Totals
     warnings: tuple[Notice, ...]
+    assist_between: int | None = None  # level between climbs (0 = off); None without a motor

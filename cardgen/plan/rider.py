@@ -101,50 +101,66 @@ def speed_caps(terrain: Terrain, rider: Rider):
 
 
 def _assist_ratios(rider: Rider, motor: Motor | None, climbs, terrain, wind, rho):
-    """Assist ratio on every segment and the level chosen for each climb (by start):
-    the battery-aware plan of :func:`~cardgen.physics.assist.plan_levels`."""
+    """Assist ratio on every segment, the level chosen for each climb (by start) and
+    the level between climbs: the battery-aware plan of
+    :func:`~cardgen.physics.assist.plan_levels`, with the stretches between climbs as
+    one more item whose wanted level is the rider's ``assist_between_climbs``."""
     ratio = np.zeros(terrain.grade.size)
     levels: dict[int, int] = {}
     if motor is None:
-        return ratio, levels
-    ratio[:] = 0.0 if rider.assist_between_climbs == 0 else motor.levels[rider.assist_between_climbs - 1]
-    if not climbs:
-        return ratio, levels
-    options = climb_options(
-        motor,
-        [(c.start, c.end) for c in climbs],
-        climb_power=rider.climb_power_used,
-        cp=rider.cp,
-        target_speed=rider.target_speed,
-        resistance=rider.vehicle.resistance,
-        grade=terrain.grade,
-        headwind=wind,
-        air_density=rho,
-        step=terrain.step,
-    )
-    budget = motor.usable_battery * (1.0 - BATTERY_RESERVE) - _between_climbs_battery(
-        rider, motor, ratio, climbs, terrain, wind, rho
-    )
-    chosen = plan_levels(options, min_speed=rider.vehicle.min_stable_speed, budget=budget)
-    for climb, level in zip(climbs, chosen, strict=True):
-        levels[climb.start] = level
-        ratio[climb.start : climb.end] = 0.0 if level == 0 else motor.levels[level - 1]
-    return ratio, levels
-
-
-def _between_climbs_battery(rider: Rider, motor: Motor, ratio, climbs, terrain, wind, rho) -> float:
-    """Battery [J] the level between climbs draws, at steady speeds off the climbs."""
+        return ratio, levels, None
+    options = {}
+    if climbs:
+        options = climb_options(
+            motor,
+            [(c.start, c.end) for c in climbs],
+            climb_power=rider.climb_power_used,
+            cp=rider.cp,
+            target_speed=rider.target_speed,
+            resistance=rider.vehicle.resistance,
+            grade=terrain.grade,
+            headwind=wind,
+            air_density=rho,
+            step=terrain.step,
+        )
     off = np.ones(terrain.grade.size, dtype=bool)
     for c in climbs:
         off[c.start : c.end] = False
-    if not off.any() or not ratio[off].any():
-        return 0.0
+    if off.any():
+        between = _between_options(rider, motor, off, terrain, wind, rho)
+        options = {
+            k: np.column_stack((options[k], between[k])) if options else between[k][:, None] for k in between
+        }
+    budget = motor.usable_battery * (1.0 - BATTERY_RESERVE)
+    chosen = plan_levels(options, min_speed=rider.vehicle.min_stable_speed, budget=budget)
+    between_level = chosen.pop() if off.any() else None
+    if between_level:
+        ratio[off] = motor.levels[between_level - 1]
+    for climb, level in zip(climbs, chosen, strict=True):
+        levels[climb.start] = level
+        ratio[climb.start : climb.end] = 0.0 if level == 0 else motor.levels[level - 1]
+    return ratio, levels, between_level
+
+
+def _between_options(
+    rider: Rider, motor: Motor, off: np.ndarray, terrain, wind, rho
+) -> dict[str, np.ndarray]:
+    """What each assist level does on the stretches between climbs (``off``), at the
+    rider's flat power and steady speeds: arrays over levels 0…N like
+    :func:`~cardgen.physics.assist.climb_options`; "within CP" is read as the level the
+    rider asked for (or more), "slowest" as the 5th percentile of the speeds."""
     res = rider.vehicle.resistance
     air = dict(grade=terrain.grade[off], headwind=wind[off], air_density=rho[off])
-    speed = assisted_speed(motor, ratio[off], rider.flat_power, resistance=res, **air)
-    seconds = terrain.step / np.maximum(speed, 0.1)
-    return float(
-        np.sum(motor_power(motor, ratio[off], speed, rider.flat_power) * seconds) / motor.drive_efficiency
+    ratios = np.array([0.0, *motor.levels])[:, None]
+    speed = assisted_speed(motor, ratios, rider.flat_power, resistance=res, **air)
+    seconds = terrain.step * np.sqrt(1.0 + air["grade"] ** 2) / np.maximum(speed, 0.1)
+    drawn = motor_power(motor, ratios, speed, rider.flat_power) * seconds / motor.drive_efficiency
+    return dict(
+        # short ramps off the climbs do not decide the level: the slowest 5 % of them
+        slowest=np.percentile(speed, 5, axis=1),
+        time=seconds.sum(axis=1),
+        battery=np.nan_to_num(drawn, posinf=0.0).sum(axis=1),
+        within_cp=np.arange(len(motor.levels) + 1) >= rider.assist_between_climbs,
     )
 
 
@@ -173,7 +189,7 @@ def make_plan(
     motor = find_motor(vehicle.motor) if vehicle.motor else None
     if motor is not None and vehicle.battery is not None:
         motor = dataclasses.replace(motor, battery=vehicle.battery)
-    ratio, levels = _assist_ratios(rider, motor, route.climbs, terrain, wind, rho)
+    ratio, levels, between_level = _assist_ratios(rider, motor, route.climbs, terrain, wind, rho)
 
     on_climb = np.zeros(terrain.grade.size, dtype=bool)
     for climb in route.climbs:
@@ -252,8 +268,28 @@ def make_plan(
         battery_fits=fits,
         walk_length=float(np.sum(slow) * terrain.step),
     )
+    if between_level is not None and between_level < rider.assist_between_climbs:
+        warnings.append(
+            Notice(
+                "assist-lowered",
+                "info",
+                (("asked", float(rider.assist_between_climbs)), ("level", float(between_level))),
+            )
+        )
     return Plan(
-        track, terrain, rider, conditions, motor, ride, wbal, climbs, descents, timed, totals, tuple(warnings)
+        track,
+        terrain,
+        rider,
+        conditions,
+        motor,
+        ride,
+        wbal,
+        climbs,
+        descents,
+        timed,
+        totals,
+        tuple(warnings),
+        between_level,
     )
 
 

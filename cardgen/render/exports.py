@@ -65,6 +65,7 @@ def plan_dict(plan) -> dict:
             "battery_j": _num(plan.totals.battery, 0),
             "battery_fits": plan.totals.battery_fits,
             "walk_m": _num(plan.totals.walk_length, 0),
+            "assist_between_level": plan.assist_between,
             "ride_passes": plan.ride.passes,
             "ride_converged": plan.ride.converged,
         },

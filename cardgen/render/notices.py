@@ -50,6 +50,10 @@ _WORDS: dict[str, Callable[[Notice, str], str]] = {
         f"{fmt.distance(n.value('where'), units)}: slow to "
         f"{fmt.speed(n.value('speed'), units, 'down')} or less"
     ),
+    "assist-lowered": lambda n, units: (
+        f"assist between climbs planned at level {n.value('level'):.0f}, not the {n.value('asked'):.0f} asked for, "
+        "so that the battery keeps its reserve for the climbs"
+    ),
     "unsettled": lambda n, units: (
         f"the ride model had not settled after {n.value('passes'):.0f} passes; times and battery may be "
         "a little off"
