@@ -16,6 +16,7 @@ from cardgen.route.terrain import Terrain
 class Checkpoint:
     name: str
     distance: float  # [m] from the start
+    stop: float = 0.0  # [s] planned stop there
 
 
 def checkpoints_from_waypoints(track: Track, terrain: Terrain) -> list[Checkpoint]:
@@ -30,26 +31,32 @@ def checkpoints_from_waypoints(track: Track, terrain: Terrain) -> list[Checkpoin
 
 
 def resolve_checkpoints(
-    items: Sequence[str | float], track: Track, terrain: Terrain, where: str
+    items: Sequence[str | float],
+    track: Track,
+    terrain: Terrain,
+    where: str,
+    stops: Sequence[float] = (),
+    stop: float = 0.0,
 ) -> list[Checkpoint]:
     """The checkpoints a configuration names: waypoint names (str) or distances [m];
-    none given: the waypoints typed "checkpoint". Sorted by distance.
+    none given: the waypoints typed "checkpoint". Sorted by distance. Each gets its
+    planned stop [s]: ``stops`` one per item (a waypoint passed twice stops at each
+    pass), else ``stop``.
 
     Raises ConfigError naming ``where`` (the GPX file) for a name that is not a
     waypoint or a distance off the route.
     """
     if not items:
-        return checkpoints_from_waypoints(track, terrain)
-    by_name = {c.name: c for c in checkpoints_from_waypoints(track, terrain)}
+        return [Checkpoint(c.name, c.distance, stop) for c in checkpoints_from_waypoints(track, terrain)]
     names = {w.name for w in track.waypoints}
-    out, problems = [], []
-    for item in items:
+    out: list[Checkpoint] = []
+    problems: list[str] = []
+    for i, item in enumerate(items):
+        pause = float(stops[i]) if i < len(stops) else stop
         if isinstance(item, str):
-            if item in by_name:
-                out.append(by_name[item])
-            elif item in names:
+            if item in names:  # every pass of it (out and back)
                 cues, _ = place_points(terrain, [w for w in track.waypoints if w.name == item], "waypoint")
-                out.extend(Checkpoint(c.text, c.distance) for c in cues)
+                out.extend(Checkpoint(c.text, c.distance, pause) for c in cues)
             else:
                 problems.append(
                     f"checkpoint {item!r} is not a waypoint of the route{close_matches(item, names)}; "
@@ -64,7 +71,7 @@ def resolve_checkpoints(
                 f"checkpoint at {item / 1000:g} km is beyond the route's {terrain.length / 1000:.1f} km"
             )
         else:
-            out.append(Checkpoint(f"Checkpoint at {item / 1000:g} km", float(item)))
+            out.append(Checkpoint(f"Checkpoint at {item / 1000:g} km", float(item), pause))
     if problems:
         raise ConfigError(f"{where}: " + "; ".join(problems))
     return sorted(out, key=lambda c: c.distance)

@@ -22,6 +22,9 @@ U_TURN = 150.0
 TURN_WINDOW = 30.0
 #: Waypoints farther than this [m] from the route are left off the cue sheet.
 WAYPOINT_REACH = 100.0
+#: A further pass of a point counts when it comes within this [m] (or twice the
+#: nearest pass's distance).
+PASS_REACH = 25.0
 
 
 @dataclass(frozen=True)
@@ -94,30 +97,46 @@ def find_turns(
 def place_points(terrain: Terrain, points: Sequence[Any], kind: str, reach: float = WAYPOINT_REACH) -> Any:
     """Cues for named points (waypoints or route points) within ``reach`` of the route.
 
-    Each point goes to the nearest grid node (on a loop that passes a point twice,
-    the nearer pass). Returns (cues, names of the points left off).
+    A point gets one cue for each pass of the route within ``reach`` of it (an
+    out-and-back passes a feed twice), each at the pass's nearest grid node. Returns
+    (cues sorted by distance, names of the points left off).
     """
     if not points:
         return [], []
     lat0 = float(np.radians(np.mean(terrain.lat)))
     nodes_xy = local_plane(terrain.lat, terrain.lon, lat0)
     points_xy = local_plane([p.lat for p in points], [p.lon for p in points], lat0)
-    gaps = np.empty(len(points))
-    nodes = np.empty(len(points), dtype=int)
     chunk = max(1, 4_000_000 // nodes_xy.shape[0])  # bounds the distance matrix to ~32 MB
+    cues, off = [], []
     for a in range(0, len(points), chunk):
         d2 = ((points_xy[a : a + chunk, None, :] - nodes_xy[None, :, :]) ** 2).sum(axis=2)
-        nodes[a : a + chunk] = np.argmin(d2, axis=1)
-        gaps[a : a + chunk] = np.sqrt(d2[np.arange(d2.shape[0]), nodes[a : a + chunk]])
-    cues, off = [], []
-    for p, gap, i in zip(points, gaps, nodes, strict=True):
-        if gap > reach:
-            off.append(p.name or "(unnamed)")
-            continue
-        cues.append(
-            Cue(float(terrain.distance[i]), kind, p.name, 0.0, p.description, p.link, p.kind, float(gap))
-        )
-    return cues, off
+        for p, row in zip(points[a : a + chunk], d2, strict=True):
+            near = np.flatnonzero(row <= reach * reach)
+            if near.size == 0:
+                off.append(p.name or "(unnamed)")
+                continue
+            # a pass is a run of nodes within reach; a new pass after a break. Passes
+            # other than the nearest count only when about as near (PASS_REACH), not a
+            # road that merely runs within reach
+            best = float(row[near].min())
+            again = max(PASS_REACH**2, 4.0 * best)
+            for run in np.split(near, np.flatnonzero(np.diff(near) > 1) + 1):
+                i = int(run[np.argmin(row[run])])
+                if row[i] > again:
+                    continue
+                cues.append(
+                    Cue(
+                        float(terrain.distance[i]),
+                        kind,
+                        p.name,
+                        0.0,
+                        p.description,
+                        p.link,
+                        p.kind,
+                        float(np.sqrt(row[i])),
+                    )
+                )
+    return sorted(cues, key=lambda c: c.distance), off
 
 
 def cue_sheet(terrain: Terrain, track: Track) -> tuple[list[Cue], list[str]]:
