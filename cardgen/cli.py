@@ -488,7 +488,7 @@ def cmd_check(args) -> int:
         )
         for warning in analysis.warnings:
             _print(f"cardgen: warning: {route.gpx.name}: {warning}", file=sys.stderr)
-    _print(f"{plural(len(config.riders), 'rider')}: " + ", ".join(r.rider.name for r in config.riders))
+    _print(f"{plural(len(config.riders), 'rider')}: " + "; ".join(r.rider.name for r in config.riders))
     _print_waves(config)
     if problems:
         raise CardgenError("\n  ".join([f"{plural(len(problems), 'route problem')}:"] + problems))

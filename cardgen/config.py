@@ -72,6 +72,12 @@ SCHEMA = {
         "start": Spec("time", help='like "08:30"'),
         "start_interval_min": Spec("number", default=0.0, limit="start_interval_min"),
         "checkpoint_margin_min": Spec("number", default=15.0, limit="checkpoint_margin_min"),
+        "min_kmh": Spec(
+            "number", limit="min_kmh", help="checkpoints close at the last start + distance / this speed"
+        ),
+        "max_kmh": Spec(
+            "number", limit="max_kmh", help="checkpoints open at the first start + distance / this speed"
+        ),
     },
     "conditions": {
         "wind_kmh": Spec("number", default=0.0, limit="wind_kmh"),
@@ -88,6 +94,8 @@ SCHEMA = {
         "notes": Spec("str", default=""),
         "checkpoints": Spec("list", help="waypoint names or distances in km"),
         "start": Spec("time", help='this route\'s own first start, like "09:00"'),
+        "stop_min": Spec("number", default=0.0, limit="stop_min", help="planned stop at each checkpoint"),
+        "stops_min": Spec("list", help="planned stop at each of the checkpoints listed, in minutes"),
     },
     "waves": {
         "name": Spec("str", required=True, help="the wave's name"),
@@ -131,6 +139,8 @@ class RouteConfig:
     notes: str = ""
     checkpoints: tuple = ()  # names (str) or distances [m] (float); empty: waypoints typed "checkpoint"
     start: time | None = None  # this route's own first start
+    stop: float = 0.0  # [s] planned stop at each checkpoint
+    stops: tuple[float, ...] = ()  # [s] planned stop at each checkpoint listed, in order
 
 
 @dataclass(frozen=True)
@@ -180,6 +190,7 @@ class SiteConfig:
     notes: tuple[str, ...] = field(default=())  # where the model used another value than the one given
     waves: tuple[Wave, ...] = field(default=())
     day: date | None = None  # the event's date
+    speed_rule: tuple[float, float] | None = None  # (slowest, fastest) [m/s] for checkpoint windows
 
 
 _HEADER = re.compile(r"^\s*(\[\[?)\s*([^\]]+?)\s*\]\]?")
@@ -345,8 +356,9 @@ class _Checker:
                     f"{self.where(section, index, key)}: this key is now '{RENAMED[key]}'; rename it"
                 )
             elif key not in schema:
+                known = [*schema, "csv"] if section == "riders" else list(schema)  # [[riders]] csv = "…"
                 self.problems.append(
-                    f"{self.where(section, index, key)}: unknown key{close_matches(key, schema)}; "
+                    f"{self.where(section, index, key)}: unknown key{close_matches(key, known)}; "
                     f"the keys of [{section}] are {', '.join(schema)}"
                 )
         self.vehicles = vehicles or {}
@@ -390,8 +402,10 @@ def _from_data(data: dict, path: Path | None, text: str, folder: Path) -> SiteCo
             r["notes"] or "",
             tuple(x * 1000.0 if isinstance(x, int | float) else x for x in (r["checkpoints"] or ())),
             r["start"],
+            r["stop_min"] * 60.0,
+            _stops(check, i, r),
         )
-        for r in routes
+        for i, r in enumerate(routes)
         if r["gpx"] is not None
     )
     rider_objects = [
@@ -404,6 +418,7 @@ def _from_data(data: dict, path: Path | None, text: str, folder: Path) -> SiteCo
     for bib in sorted({b for b in bibs if bibs.count(b) > 1}):
         check.problems.append(f"{path}: bib {bib} is given to two riders; give each a different bib")
     waves = _waves(check, data.get("waves", []), folder, set(names), route_objects)
+    speed_rule = _speed_rule(check, tables["event"])
 
     site, event, cond = tables["site"], tables["event"], tables["conditions"]
     start = None
@@ -457,6 +472,7 @@ def _from_data(data: dict, path: Path | None, text: str, folder: Path) -> SiteCo
         notes=tuple(check.notes),
         waves=tuple(waves),
         day=event["date"],
+        speed_rule=speed_rule,
     )
 
 
@@ -533,6 +549,40 @@ def _csv_value(cell: str, kind: str) -> Any:
     if kind == "list":
         return [part.strip() for part in cell.split(";") if part.strip()]
     return cell
+
+
+def _stops(check: _Checker, index: int, route: dict) -> tuple[float, ...]:
+    """``stops_min`` of one route, in seconds: numbers in range, one per checkpoint."""
+    raw = route.get("stops_min")
+    if not raw:
+        return ()
+    where = check.where("routes", index, "stops_min")
+    low, high = LIMITS["stop_min"].low, LIMITS["stop_min"].high
+    if not all(isinstance(x, int | float) and low <= x <= high for x in raw):
+        check.problems.append(f"{where} must list minutes between {low:g} and {high:g}, like [10, 0, 5]")
+        return ()
+    listed = route.get("checkpoints") or ()
+    if len(raw) != len(listed):
+        check.problems.append(
+            f"{where} has {len(raw)} entries for {len(listed)} checkpoints listed; give one stop per checkpoint "
+            "in the same order (or stop_min for the same stop at all)"
+        )
+        return ()
+    return tuple(float(x) * 60.0 for x in raw)
+
+
+def _speed_rule(check: _Checker, event: dict) -> tuple[float, float] | None:
+    """[event] min_kmh and max_kmh: both or neither, slowest below fastest."""
+    slowest, fastest = event.get("min_kmh"), event.get("max_kmh")
+    if slowest is None and fastest is None:
+        return None
+    if slowest is None or fastest is None or slowest >= fastest:
+        check.problems.append(
+            f"{check.path}: [event] min_kmh and max_kmh go together, the slowest below the fastest "
+            "(like min_kmh = 15, max_kmh = 30)"
+        )
+        return None
+    return slowest / 3.6, fastest / 3.6
 
 
 def _waves(

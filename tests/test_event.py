@@ -120,3 +120,98 @@ def test_plan_json_carries_starts_bibs_waves_and_windows(event, tmp_path):
     assert road["rider"]["start"] == "2027-04-18T08:15"
     assert [c["name"] for c in road["checkpoints"]] == [c["name"] for c in data["checkpoints"]]
     assert road["finish"] > road["rider"]["start"]
+
+
+STOPS = """
+[[routes]]
+gpx = "day-ride.gpx"
+checkpoints = ["Checkpoint 1: Brenquist Cross", "Checkpoint 2: Ossivel Hall", 62.5]
+stops_min = [5, 30, 0]
+"""
+
+
+def _with(tmp_path, route_text, event_extra=""):
+    text = SITE.replace('[[routes]]\ngpx = "day-ride.gpx"\n', route_text).replace(
+        "checkpoint_margin_min = 20\n", "checkpoint_margin_min = 20\n" + event_extra
+    )
+    shutil.copy(SAMPLES / "day-ride.gpx", tmp_path)
+    (tmp_path / "site.toml").write_text(text, encoding="utf-8")
+    return load_config(tmp_path / "site.toml")
+
+
+def _plans(config):
+    route = config.routes[0]
+    track = read_gpx(route.gpx)
+    analysis = analyse(track, build_terrain(track))
+    checkpoints = resolve_checkpoints(
+        route.checkpoints, track, analysis.terrain, str(route.gpx), stops=route.stops, stop=route.stop
+    )
+    stops = tuple((c.distance, c.stop) for c in checkpoints)
+    plans = [make_plan(analysis, rider=rc.rider, stops=stops) for rc in config.riders]
+    starts = [rider_start(config, i, route)[0] for i in range(len(config.riders))]
+    return checkpoints, plans, starts
+
+
+def test_stops_delay_every_later_arrival_and_the_finish_and_the_windows_hold_them(tmp_path):
+    """Three waves, an own start and stops of 5, 30 and 0 min: each arrival is the
+    riding time plus the stops before it (by hand), the finish carries all 35 min, and
+    every arrival lies in its window with the margin."""
+    config = _with(tmp_path, STOPS)
+    checkpoints, plans, starts = _plans(config)
+    assert [c.stop for c in checkpoints] == [300.0, 1800.0, 0.0]
+    for plan in plans:
+        riding = [float(np.interp(c.distance, plan.terrain.distance, plan.ride.elapsed)) for c in checkpoints]
+        assert [plan.elapsed_at(c.distance) for c in checkpoints] == pytest.approx(
+            [riding[0], riding[1] + 300, riding[2] + 2100]
+        )
+        assert plan.finish_elapsed == pytest.approx(plan.ride.elapsed[-1] + 2100)
+        later = [t for t in plan.cues if t.cue.distance > checkpoints[1].distance + 1]
+        moving = float(np.interp(later[0].cue.distance, plan.terrain.distance, plan.ride.elapsed))
+        assert later[0].elapsed == pytest.approx(moving + 2100)
+    windows, finish = checkpoint_windows(plans, checkpoints, starts, config.checkpoint_margin)
+    margin = timedelta(seconds=config.checkpoint_margin)
+    for window in [*windows, finish]:
+        for plan, start in zip(plans, starts, strict=True):
+            arrival = start + timedelta(seconds=plan.elapsed_at(window.checkpoint.distance))
+            assert window.opens + margin <= arrival <= window.closes - margin
+
+
+def test_windows_by_the_speed_rule_are_distance_over_speed_from_the_starts(tmp_path):
+    """min_kmh 12 and max_kmh 30 (common practice for timed events): a checkpoint at
+    62.5 km opens at the first start (07:30) + 62.5 / 30 h = 09:35 and closes at the
+    last start (10:05) + 62.5 / 12 h = 15:17:30, to the minute outward 15:18."""
+    config = _with(tmp_path, STOPS.replace("stops_min = [5, 30, 0]\n", ""), "min_kmh = 12\nmax_kmh = 30\n")
+    assert config.speed_rule == pytest.approx((12 / 3.6, 30 / 3.6))
+    checkpoints, plans, starts = _plans(config)
+    windows, _ = checkpoint_windows(plans, checkpoints, starts, config.checkpoint_margin, config.speed_rule)
+    at = next(w for w in windows if w.checkpoint.distance == 62500.0)
+    assert (at.opens.strftime("%H:%M"), at.closes.strftime("%H:%M")) == ("09:35", "15:18")
+
+
+@pytest.mark.parametrize(
+    "route_text, event_extra, message",
+    [
+        (STOPS.replace("[5, 30, 0]", "[5, 30]"), "", "2 entries for 3 checkpoints"),
+        (STOPS.replace("[5, 30, 0]", "[5, 300, 0]"), "", "minutes between 0 and 240"),
+        (STOPS, "min_kmh = 12\n", "min_kmh and max_kmh go together"),
+        (STOPS, "min_kmh = 30\nmax_kmh = 12\n", "the slowest below the fastest"),
+    ],
+)
+def test_stop_and_speed_rule_mistakes_are_named(tmp_path, route_text, event_extra, message):
+    from cardgen.errors import ConfigError
+
+    with pytest.raises(ConfigError, match=message):
+        _with(tmp_path, route_text, event_extra)
+
+
+def test_cards_show_the_riders_arrival_beside_the_window_and_the_stop(tmp_path):
+    config = _with(tmp_path, STOPS)
+    out = tmp_path / "site"
+    assert main(["build", str(config.source), "-o", str(out), "--no-pdf", "--jobs", "1"]) == 0
+    data = json.loads((out / "day-ride" / "plan.json").read_text())
+    road = next(p for p in data["plans"] if p["rider"]["name"] == "Road 1")
+    assert [c["stop_s"] for c in road["checkpoints"]] == [300, 1800, 0]
+    windows = {c["name"]: (c["opens"], c["closes"]) for c in data["checkpoints"]}
+    for c in road["checkpoints"]:
+        opens, closes = windows[c["name"]]
+        assert opens <= c["arrival"] <= closes

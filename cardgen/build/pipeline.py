@@ -114,12 +114,15 @@ def _plan_route(task):
     try:
         track = read_gpx(rc.gpx)
         analysis = analyse(track, build_terrain(track))
-        checkpoints = resolve_checkpoints(rc.checkpoints, track, analysis.terrain, str(rc.gpx))
+        checkpoints = resolve_checkpoints(
+            rc.checkpoints, track, analysis.terrain, str(rc.gpx), stops=rc.stops, stop=rc.stop
+        )
+        stops = tuple((c.distance, c.stop) for c in checkpoints)
         riders = tuple(
             Entry(
                 r.rider.name,
                 *rider_start(config, i, rc),
-                make_plan(analysis, rider=r.rider, conditions=config.conditions),
+                make_plan(analysis, rider=r.rider, conditions=config.conditions, stops=stops),
                 r.bib,
             )
             for i, r in enumerate(config.riders)
@@ -158,10 +161,8 @@ def _routes(config: SiteConfig, shared: str) -> list[_Route]:
         key = digest(
             shared,
             file_digest(rc.gpx, MAX_FILE_BYTES),
-            rc.name,
-            rc.notes,
-            rc.checkpoints,
-            *[(i, r.rider) for i, r in riders],
+            rc,  # name, notes, checkpoints, its start and stops
+            *[(i, r, rider_start(config, i, rc)) for i, r in riders],  # riders with their starts
         )
         routes.append(_Route(rc, slug, key))
     return routes
@@ -182,6 +183,8 @@ def _build_locked(config, out, jobs, pdf, keep_going, say, progress, report):
         config.start,
         config.start_interval,
         config.checkpoint_margin,
+        config.speed_rule,
+        config.day,
         config.conditions,
         pdf,
         epoch,
@@ -249,7 +252,7 @@ def _build_locked(config, out, jobs, pdf, keep_going, say, progress, report):
 
 
 def _render(config, routes, old, out, tmp, pool, pdf, progress, report, reusable) -> dict:
-    from cardgen.render.pages import built_stamp, render_index, site_context
+    from cardgen.render.pages import built_stamp, render_index, render_packs, site_context
 
     site = site_context(config, built_stamp(os.environ.get("SOURCE_DATE_EPOCH")))
     manifest: dict = {"version": __version__, "routes": {}}
@@ -280,6 +283,15 @@ def _render(config, routes, old, out, tmp, pool, pdf, progress, report, reusable
     report.cards_rendered = len(cards)
     report.seconds["pdf"] = time.perf_counter() - t_pdf
 
+    if pdf:
+        t_pack = time.perf_counter()
+        render_packs(
+            config,
+            [(r.slug, manifest["routes"][r.slug]["summary"]) for r in routes if r.slug in manifest["routes"]],
+            tmp,
+            {r.slug for r in fresh},
+        )
+        report.seconds["packs"] = time.perf_counter() - t_pack
     summaries = [manifest["routes"][r.slug]["summary"] for r in routes if r.slug in manifest["routes"]]
     render_index(config, site, summaries, tmp)
     return manifest

@@ -25,30 +25,37 @@ def checkpoint_windows(
     checkpoints: Sequence[Checkpoint],
     start: datetime | Sequence[datetime],
     margin: float,
+    speeds: tuple[float, float] | None = None,
 ) -> tuple[list[CheckpointWindow], CheckpointWindow]:
-    """Opening and closing times of checkpoints from the riders' own arrivals.
+    """Opening and closing times of checkpoints.
 
-    ``start`` is every rider's start (one per plan), or one start for all. A checkpoint
-    opens ``margin`` seconds before the earliest planned arrival and closes ``margin``
-    seconds after the latest, both to the whole minute outward; the finish closes
-    likewise. Returns (windows, finish window).
+    ``start`` is every rider's start (one per plan), or one start for all. From the
+    riders' own arrivals (their planned stops included), a checkpoint opens ``margin``
+    seconds before the earliest and closes ``margin`` seconds after the latest. With
+    ``speeds`` = (slowest, fastest) average speeds [m/s] since the start (the usual
+    rule of timed events; common practice, no published source), it opens at the
+    first start + distance / fastest and closes at the last start + distance /
+    slowest. Both to the whole minute outward; the finish likewise. Returns
+    (windows, finish window).
     """
     starts = list(start) if not isinstance(start, datetime) else [start] * len(plans)
 
     def at(plan: Plan, begin: datetime, distance: float) -> datetime | None:
-        seconds = float(np.interp(distance, plan.terrain.distance, plan.ride.elapsed))
+        seconds = plan.elapsed_at(distance)
         return begin + timedelta(seconds=seconds) if np.isfinite(seconds) else None
 
     def window(checkpoint: Checkpoint) -> CheckpointWindow:
         arrivals = tuple(at(p, s, checkpoint.distance) for p, s in zip(plans, starts, strict=True))
-        reached = [a for a in arrivals if a is not None] or [min(starts)]  # none arrives: at the first start
+        if speeds is not None:
+            slowest, fastest = speeds
+            opens = min(starts) + timedelta(seconds=checkpoint.distance / fastest)
+            closes = max(starts) + timedelta(seconds=checkpoint.distance / slowest)
+        else:
+            reached = [a for a in arrivals if a is not None] or [min(starts)]  # none arrives: the first start
+            opens = min(reached) - timedelta(seconds=margin)
+            closes = max(reached) + timedelta(seconds=margin)
         # to the minute, outward: a planned arrival is never outside the printed window
-        return CheckpointWindow(
-            checkpoint,
-            _minute_down(min(reached) - timedelta(seconds=margin)),
-            _minute_up(max(reached) + timedelta(seconds=margin)),
-            arrivals,
-        )
+        return CheckpointWindow(checkpoint, _minute_down(opens), _minute_up(closes), arrivals)
 
     rows = [window(cp) for cp in sorted(checkpoints, key=lambda c: c.distance)]
     return rows, window(Checkpoint("Finish", plans[0].terrain.length))

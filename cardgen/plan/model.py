@@ -115,3 +115,20 @@ class Plan:
     totals: Totals
     warnings: tuple[Notice, ...]
     assist_between: int | None = None  # level between climbs (0 = off); None without a motor
+    stops: tuple[tuple[float, float], ...] = ()  # (where [m], how long [s]) planned stops
+
+    def elapsed_at(self, distance: float) -> float:
+        """Time [s] from the start to arriving at ``distance`` [m]: riding, and every
+        planned stop before it (a stop at that very place begins on arrival)."""
+        moving = float(np.interp(distance, self.terrain.distance, self.ride.elapsed))
+        return moving + sum(s for d, s in self.stops if d < distance - 1e-6)
+
+    @property
+    def finish_elapsed(self) -> float:
+        """Time [s] from the start to the finish, stops included."""
+        return self.elapsed_at(self.terrain.length)
+
+    @property
+    def stopped(self) -> float:
+        """All planned stops before the finish [s]."""
+        return sum(s for d, s in self.stops if d < self.terrain.length - 1e-6)

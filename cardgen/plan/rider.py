@@ -169,12 +169,14 @@ def make_plan(
     terrain: Terrain | None = None,
     rider: Rider | None = None,
     conditions: Conditions | None = None,
+    stops: tuple[tuple[float, float], ...] = (),
 ) -> Plan:
     """Work out the plan of one rider on one route (still air and the standard
     atmosphere when ``conditions`` is None).
 
     ``route`` is an :class:`Analysis` (from :func:`analyse`, shared by several riders),
-    or a Track followed by its Terrain.
+    or a Track followed by its Terrain. ``stops`` are (where [m], how long [s]) of
+    the planned stops (checkpoints, feeds): in every later arrival and the finish.
     """
     if not isinstance(route, Analysis):
         if terrain is None:
@@ -224,9 +226,13 @@ def make_plan(
     )
     curves = curve_notices(terrain, rider, ride, wind, rho)
     descents = _descent_rows(route.descents, terrain, rider, ride, wind, rho, curves)
-    timed = tuple(
-        TimedCue(c, float(np.interp(c.distance, terrain.distance, ride.elapsed))) for c in route.cues
-    )
+    stops = tuple(sorted((float(d), float(s)) for d, s in stops if s > 0))
+
+    def arrival(distance: float) -> float:
+        moving = float(np.interp(distance, terrain.distance, ride.elapsed))
+        return moving + sum(s for d, s in stops if d < distance - 1e-6)
+
+    timed = tuple(TimedCue(c, arrival(c.distance)) for c in route.cues)
 
     energy = float(np.sum(np.maximum(ride.rider_power, 0.0) * ride.time))
     slow = (ride.mean_speed < vehicle.min_stable_speed) & (ride.rider_power > 0)
@@ -290,6 +296,7 @@ def make_plan(
         totals,
         tuple(warnings),
         between_level,
+        stops,
     )
 
 

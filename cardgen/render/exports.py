@@ -131,7 +131,7 @@ def plan_json_text(route_name: str, plans, entries=(), windows=(), dated: bool =
     def arrival(plan, start, distance):
         if start is None:
             return None
-        seconds = float(np.interp(distance, plan.terrain.distance, plan.ride.elapsed))
+        seconds = plan.elapsed_at(distance)
         return when(start + timedelta(seconds=seconds)) if np.isfinite(seconds) else None
 
     dicts = []
@@ -143,7 +143,11 @@ def plan_json_text(route_name: str, plans, entries=(), windows=(), dated: bool =
             start=when(start), bib=entry.bib if entry else None, wave=entry.wave if entry else None
         )
         data["checkpoints"] = [
-            {"name": w.checkpoint.name, "arrival": arrival(plan, start, w.checkpoint.distance), "stop_s": 0}
+            {
+                "name": w.checkpoint.name,
+                "arrival": arrival(plan, start, w.checkpoint.distance),
+                "stop_s": _num(sum(s for d, s in plan.stops if abs(d - w.checkpoint.distance) < 1e-6), 0),
+            }
             for w in windows
         ]
         data["finish"] = arrival(plan, start, plan.terrain.length)

@@ -96,6 +96,11 @@ def duration(seconds) -> str:
     return f"{minutes // 60}:{minutes % 60:02d}"
 
 
+def minutes(seconds) -> str:
+    """ "10 min", to the minute (planned stops)."""
+    return f"{int(_nearest(seconds / 60, 1))} min"
+
+
 def clock(start: datetime | None, seconds) -> str:
     """Time of day "09:42" after ``seconds`` from ``start``; "+1:07" without a start."""
     if _missing(seconds):
@@ -132,6 +137,7 @@ FILTERS = {
     "height": height,
     "grade": grade,
     "duration": duration,
+    "minutes": minutes,
     "food": food,
     "battery": battery,
     "score": score,

@@ -226,8 +226,20 @@ def _render_route(config, site: dict, job: RouteJob, folder: Path) -> tuple[dict
     margin_text = ""
     starts = [e.start for e in job.riders]
     if plans and all(s is not None for s in starts):  # windows from each rider's own start
-        windows, _ = checkpoint_windows(plans, job.checkpoints, starts, config.checkpoint_margin)
-        margin_text = f"{config.checkpoint_margin / 60:.0f} min"
+        windows, _ = checkpoint_windows(
+            plans, job.checkpoints, starts, config.checkpoint_margin, config.speed_rule
+        )
+        if config.speed_rule:
+            slowest, fastest = config.speed_rule
+            margin_text = (
+                f"open at the first start plus the distance at {fmt.speed(fastest, units)} average, close at "
+                f"the last start plus the distance at {fmt.speed(slowest, units, 'down')} average"
+            )
+        else:
+            margin_text = (
+                f"{config.checkpoint_margin / 60:.0f} min before the fastest and after the slowest rider "
+                "planned here, stops included"
+            )
     route = {
         "name": job.name,
         "notes": job.notes,
@@ -267,12 +279,74 @@ def _render_route(config, site: dict, job: RouteJob, folder: Path) -> tuple[dict
             profile=figures["card_profile"],
             page=page,
             qr=qr,
+            windows=windows,
         )
         cards.append(CardSource(html, str(folder), str(folder / view.card)))
     if views:
         html = env.get_template("coach.html").render(**common, riders=views)
         cards.append(CardSource(html, str(folder), str(folder / "coach.pdf")))
     return route_summary(job, views, units), cards
+
+
+def _pack_order(job: RouteJob, views) -> list[dict]:
+    """The route's cards in start order (then bib, then name): who, bib, start, file."""
+    rows = [
+        {
+            "name": v.name,
+            "bib": e.bib,
+            "start": e.start.strftime("%H:%M") if e.start else "",
+            "sort": e.start.isoformat() if e.start else "~",
+            "card": v.card,
+        }
+        for e, v in zip(job.riders, views, strict=True)
+    ]
+    rows.sort(key=lambda r: (r["sort"], r["bib"] if r["bib"] is not None else 10**9, r["name"]))
+    return rows
+
+
+def render_packs(config, routes: list[tuple[str, dict]], folder: Path, fresh: set[str]) -> list[str]:
+    """Print packs (docs/contracts.md): ``all-cards.pdf`` in each route folder that
+    was rendered now (``fresh`` slugs; a reused route keeps its pack) and at the
+    root for the whole event, with ``all-cards-2up.pdf`` beside each for A5 cards.
+    ``routes`` are (slug, summary) in site order. Returns the files written."""
+    from cardgen.render.packs import PackEntry, impose_two_up, make_pack
+
+    env = _environment(config.templates, config.units)
+    page = page_geometry(config.card_size, config.large_print)
+    size = {"A5": (419.53, 595.28), "A4": (595.28, 841.89), "pocket": (280.63, 595.28)}[config.card_size]
+    cover = env.get_template("cover.html")
+    written = []
+
+    def pack(entries, where: Path, subtitle: str, show_route: bool) -> None:
+        if not entries:
+            return
+        target = where / "all-cards.pdf"
+        firsts = make_pack(
+            entries,
+            lambda rows: cover.render(
+                title=config.title, subtitle=subtitle, rows=rows, page=page, show_route=show_route
+            ),
+            where,
+            target,
+            size,
+        )
+        written.append(str(target))
+        if config.card_size == "A5":
+            impose_two_up(target, where / "all-cards-2up.pdf", firsts)
+            written.append(str(where / "all-cards-2up.pdf"))
+
+    everyone = []
+    for slug, summary in routes:
+        entries = [
+            PackEntry(r["name"], r["bib"], r["start"], summary["name"], folder / slug / r["card"])
+            for r in summary.get("pack", [])
+            if (folder / slug / r["card"]).is_file()
+        ]
+        if slug in fresh:
+            pack(entries, folder / slug, summary["name"], show_route=False)
+        everyone.extend(entries)
+    pack(everyone, folder, "every route", show_route=True)
+    return written
 
 
 def route_summary(job: RouteJob, views, units: str) -> dict:
@@ -290,6 +364,7 @@ def route_summary(job: RouteJob, views, units: str) -> dict:
             else "none"
         ),
         "times": {v.name: v.plan.totals.time for v in views},
+        "pack": _pack_order(job, views),
         "cards": [v.card for v in views] + (["coach.pdf"] if views else []),
     }
 
