@@ -1,0 +1,105 @@
+"""Print packs: every card in one file, in start order, duplex-safe, and two-up."""
+
+from __future__ import annotations
+
+import shutil
+from pathlib import Path
+
+import pytest
+from pypdf import PdfReader
+
+from cardgen.build import build_site
+from cardgen.config import load_config
+
+SAMPLES = Path(__file__).resolve().parents[1] / "sample_routes"
+SITE = """
+[event]
+start = "09:00"
+start_interval_min = 2
+
+[[routes]]
+gpx = "riverside-loop.gpx"
+[[routes]]
+gpx = "hill-loop.gpx"
+
+[[riders]]
+name = "Late Rider"
+vehicle = "road-hoods"
+start = "09:30"
+bib = 7
+[[riders]]
+name = "Early Rider"
+vehicle = "handcycle"
+start = "08:10"
+bib = 9
+[[riders]]
+name = "Middle Rider"
+vehicle = "e-assist-city"
+bib = 3
+routes = ["riverside-loop"]
+"""
+
+
+@pytest.fixture(scope="module")
+def site(tmp_path_factory):
+    src = tmp_path_factory.mktemp("packs")
+    for name in ("riverside-loop.gpx", "hill-loop.gpx"):
+        shutil.copy(SAMPLES / name, src)
+    (src / "site.toml").write_text(SITE, encoding="utf-8")
+    out = src / "site"
+    build_site(load_config(src / "site.toml"), out=out, jobs=1)
+    return out
+
+
+def _pages(path: Path) -> int:
+    return len(PdfReader(path).pages)
+
+
+def _first_line(page) -> str:
+    return page.extract_text().strip()
+
+
+@pytest.mark.parametrize("folder", ["riverside-loop", "."])
+def test_pack_is_cover_plus_every_card_padded_to_even_pages(site, folder):
+    where = site / folder
+    routes = ["riverside-loop", "hill-loop"] if folder == "." else [folder]
+    cards = [
+        p
+        for r in routes
+        for p in sorted((site / r).glob("*.pdf"))
+        if p.stem not in ("coach", "all-cards", "all-cards-2up")
+    ]
+    pack = PdfReader(where / "all-cards.pdf")
+    cover = len(pack.pages) - sum(_pages(c) + _pages(c) % 2 for c in cards)
+    assert cover >= 2 and cover % 2 == 0  # the cover too is a whole sheet
+    # every card begins on an odd (front) page: its first page carries its rider's name
+    text = [p.extract_text() for p in pack.pages]
+    firsts = [i + 1 for i, t in enumerate(text) if "page 1 of" in t]
+    assert len(firsts) == len(cards) and all(f % 2 == 1 for f in firsts)
+
+
+def test_cards_come_in_start_order_and_the_cover_gives_their_pages(site):
+    pack = PdfReader(site / "riverside-loop" / "all-cards.pdf")
+    text = [p.extract_text() for p in pack.pages]
+    order = [
+        next(n for n in ("Early Rider", "Middle Rider", "Late Rider") if n in t)
+        for t in text
+        if "page 1 of" in t
+    ]
+    # Early 08:10 (own start), Middle 09:04 (third in the config, 2 min apart), Late 09:30
+    assert order == ["Early Rider", "Middle Rider", "Late Rider"]
+    cover = text[0]
+    for name in order:
+        first = next(i + 1 for i, t in enumerate(text) if "page 1 of" in t and name in t)
+        line = next(x for x in cover.splitlines() if name in x)
+        assert line.rstrip().endswith(str(first))
+
+
+def test_two_up_has_half_the_sheets_on_a4_landscape(site):
+    pack = _pages(site / "riverside-loop" / "all-cards.pdf")
+    two_up = PdfReader(site / "riverside-loop" / "all-cards-2up.pdf")
+    box = two_up.pages[0].mediabox
+    assert (round(float(box.width)), round(float(box.height))) == (842, 595)  # A4 landscape
+    # cards (and the cover) pair up: an odd number of them leaves one half-empty sheet set
+    assert pack / 2 <= len(two_up.pages) <= pack / 2 + 2
+    assert _pages(site / "all-cards-2up.pdf") * 2 >= _pages(site / "all-cards.pdf")
