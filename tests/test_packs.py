@@ -103,3 +103,15 @@ def test_two_up_has_half_the_sheets_on_a4_landscape(site):
     # cards (and the cover) pair up: an odd number of them leaves one half-empty sheet set
     assert pack / 2 <= len(two_up.pages) <= pack / 2 + 2
     assert _pages(site / "all-cards-2up.pdf") * 2 >= _pages(site / "all-cards.pdf")
+
+
+def test_index_has_one_row_per_route_and_no_column_per_rider(site):
+    """The index summarises each route (riders, fastest / median / slowest planned
+    moving time) and links the event's pack; it has no column per rider."""
+    html = (site / "index.html").read_text(encoding="utf-8")
+    header = html.split("<thead>")[1].split("</thead>")[0]
+    assert "Early Rider" not in header and header.count("<th") == 8
+    assert "Fastest" in header and "Median" in header and "Slowest" in header
+    assert 'href="all-cards.pdf"' in html and 'href="all-cards-2up.pdf"' in html
+    body = html.split("<tbody>")[1].split("</tbody>")[0]
+    assert body.count("<tr>") == 2

@@ -377,10 +377,21 @@ def render_index(config, site: dict, summaries: list[dict], folder: Path) -> Non
 
 def _render_index(config, site: dict, summaries: list[dict], folder: Path) -> None:
     env = _environment(config.templates, config.units)
-    rider_names = [r.rider.name for r in config.riders]
+    rows = []
+    for summary in summaries:  # one row per route, whatever the number of riders
+        times = sorted(t for t in summary["times"].values() if t == t and t != float("inf"))
+        rows.append(
+            {
+                **summary,
+                "riders": len(summary["times"]),
+                "fastest": times[0] if times else None,
+                "median": times[(len(times) - 1) // 2] if times else None,
+                "slowest": times[-1] if times else None,
+            }
+        )
     (folder / "index.html").write_text(
         env.get_template("index.html").render(
-            site=site, routes=summaries, rider_names=rider_names, root="", version=__version__
+            site=site, routes=rows, packs=(folder / "all-cards.pdf").is_file(), root="", version=__version__
         ),
         encoding="utf-8",
     )
