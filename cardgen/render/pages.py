@@ -23,6 +23,8 @@ from cardgen.render.html import RiderView, environment, slugify, symbols_for, th
 
 #: File names of a route folder that a card may not take (a rider called "Coach"
 #: gets coach-2.pdf).
+#: Riders on one group of the coach sheet: a group's tables fit a page or two.
+COACH_GROUP = 8
 RESERVED_CARD_NAMES = frozenset(
     {
         "coach",
@@ -283,7 +285,11 @@ def _render_route(config, site: dict, job: RouteJob, folder: Path) -> tuple[dict
         )
         cards.append(CardSource(html, str(folder), str(folder / view.card)))
     if views:
-        html = env.get_template("coach.html").render(**common, riders=views)
+        ordered = sorted(views, key=lambda v: (v.start.isoformat() if v.start else "~", v.name))
+        groups = [ordered[i : i + COACH_GROUP] for i in range(0, len(ordered), COACH_GROUP)]
+        html = env.get_template("coach.html").render(
+            **common, groups=groups, group_size=COACH_GROUP, rider_count=len(views)
+        )
         cards.append(CardSource(html, str(folder), str(folder / "coach.pdf")))
     return route_summary(job, views, units), cards
 
