@@ -40,7 +40,8 @@ def _small_site(tmp_path: Path, routes=("riverside-loop", "accessible-path")) ->
 
 def test_demo_builds_end_to_end(demo_site):
     config, out, report = demo_site
-    assert report.routes == 4 and report.cards_rendered == 22
+    riders = sum(1 for rc in config.routes for r in config.riders if r.rides(rc, rc.name or rc.gpx.stem))
+    assert report.routes == 4 and report.cards_rendered == riders + 4  # and a coach sheet per route
     assert (out / "index.html").is_file()
     for route in ("riverside-loop", "hill-loop", "day-ride", "accessible-path"):
         for name in ("index.html", "profile.svg", "route.gpx", "plan.json", "climbs.csv", "coach.pdf"):
@@ -142,7 +143,8 @@ def test_render_failing_midway_leaves_the_previous_site(tmp_path, monkeypatch):
     out = tmp_path / "out"
     build_site(load_config(src / "site.toml"), out, jobs=1)
     before = snapshot(out)
-    (src / "site.toml").write_text((src / "site.toml").read_text().replace("Small", "Smaller"))
+    # rider A changes: A's card and the coach sheet of each route are rendered again
+    (src / "site.toml").write_text((src / "site.toml").read_text().replace('"road-hoods"', '"road-drops"'))
     calls = []
 
     def flaky(job):
@@ -174,7 +176,8 @@ def test_sigkill_midway_keeps_the_previous_site_and_the_next_build_works(tmp_pat
     out = tmp_path / "out"
     build_site(load_config(src / "site.toml"), out, jobs=1)
     before = snapshot(out)
-    (src / "site.toml").write_text((src / "site.toml").read_text().replace("Small", "Changed"))
+    text = (src / "site.toml").read_text().replace("Small", "Changed").replace('"road-hoods"', '"road-drops"')
+    (src / "site.toml").write_text(text)  # rider A changes: A's cards and the coach sheets render again
     proc = subprocess.Popen(
         [*cardgen_command(), "build", str(src / "site.toml"), "-o", str(out), "--jobs", "1"],
         stdout=subprocess.DEVNULL,
@@ -186,7 +189,7 @@ def test_sigkill_midway_keeps_the_previous_site_and_the_next_build_works(tmp_pat
     proc.wait()
     assert snapshot(out) == before
     report = build_site(load_config(src / "site.toml"), out, jobs=1)
-    assert report.cards_rendered == 6
+    assert (report.cards_rendered, report.cards_reused) == (4, 2)
     assert "Changed" in (out / "index.html").read_text()
     assert leftovers(out) == []
 
@@ -298,6 +301,36 @@ def test_riders_whose_names_slug_alike_get_their_own_cards(tmp_path):
     (src / "site.toml").write_text(text)
     out = tmp_path / "out"
     report = build_site(load_config(src / "site.toml"), out, jobs=1)
-    cards = sorted(p.name for p in (out / "riverside-loop").glob("*.pdf"))
+    cards = sorted(
+        p.name for p in (out / "riverside-loop").glob("*.pdf") if not p.name.startswith("all-cards")
+    )
     assert cards == ["ann-b-2.pdf", "ann-b.pdf", "coach.pdf"]
     assert report.cards_rendered == 3
+
+
+def test_changing_one_mid_field_rider_re_renders_only_their_card(tmp_path):
+    """Four riders; the second-fastest changes power. Their card and the coach sheet
+    are rendered again; the other three cards keep their PDF files (same inode)."""
+    src = tmp_path / "src"
+    src.mkdir()
+    shutil.copy(SAMPLES / "riverside-loop.gpx", src)
+    riders = [("A", 260), ("B", 200), ("C", 150), ("D", 120)]
+
+    def write(power_b: int) -> None:
+        text = '[event]\nstart = "09:00"\n[[routes]]\ngpx = "riverside-loop.gpx"\n'
+        for name, power in riders:
+            watts = power_b if name == "B" else power
+            text += f'[[riders]]\nname = "{name}"\nvehicle = "road-hoods"\nflat_w = {watts}\ncp_w = {watts + 40}\n'
+        (src / "site.toml").write_text(text, encoding="utf-8")
+
+    out = tmp_path / "site"
+    write(200)
+    first = build_site(load_config(src / "site.toml"), out, jobs=1)
+    assert first.cards_rendered == 5
+    inodes = {p.name: p.stat().st_ino for p in (out / "riverside-loop").glob("*.pdf")}
+    write(205)
+    second = build_site(load_config(src / "site.toml"), out, jobs=1)
+    assert second.cards_rendered == 2  # B's card and the coach sheet
+    after = {p.name: p.stat().st_ino for p in (out / "riverside-loop").glob("*.pdf")}
+    assert [n for n in ("a.pdf", "c.pdf", "d.pdf") if after[n] == inodes[n]] == ["a.pdf", "c.pdf", "d.pdf"]
+    assert after["b.pdf"] != inodes["b.pdf"]

@@ -35,7 +35,9 @@ def _site(tmp_path: Path) -> tuple[Path, Path]:
     )
     out = tmp_path / "out"
     assert main(["build", str(src / "site.toml"), "-o", str(out), "--jobs", "1"]) == 0
-    (src / "site.toml").write_text((src / "site.toml").read_text().replace('"One"', '"Two"'))
+    # a new title and a change to rider A: A's cards and the coach sheets render again
+    text = (src / "site.toml").read_text().replace('"One"', '"Two"').replace('"road-hoods"', '"road-drops"')
+    (src / "site.toml").write_text(text)
     return src, out
 
 

@@ -11,6 +11,7 @@ from __future__ import annotations
 
 import contextlib
 import os
+import re
 import shutil
 import time
 from collections.abc import Callable, Iterable, Iterator
@@ -140,6 +141,19 @@ def _render_route(task):
 
     config, site, job, folder = task
     return render_route(config, site, job, Path(folder))
+
+
+_REFERENCE = re.compile(r'\bsrc="([^":/?#]+)"')
+
+
+def card_key(card) -> str:
+    """What a card's PDF depends on: its HTML and the build's own files it shows
+    (the profile drawing, the QR code), by content."""
+    base = Path(card.base)
+    used = sorted(set(_REFERENCE.findall(card.html)))
+    return digest(
+        card.html, *[(n, file_digest(base / n, MAX_FILE_BYTES)) for n in used if (base / n).is_file()]
+    )
 
 
 def _render_pdf(card):
@@ -272,8 +286,25 @@ def _render(config, routes, old, out, tmp, pool, pdf, progress, report, reusable
     tasks = [(config, site, r.job, str(tmp / r.slug)) for r in fresh]
     for route, (summary, route_cards) in zip(fresh, _map(pool, _render_route, tasks), strict=True):
         card_names = summary.pop("cards")
-        manifest["routes"][route.slug] = {"key": route.key, "summary": summary, "cards": card_names}
-        cards.extend(route_cards if pdf else [])
+        keys = {Path(c.target).name: card_key(c) for c in route_cards}
+        manifest["routes"][route.slug] = {
+            "key": route.key,
+            "summary": summary,
+            "cards": card_names,
+            "card_keys": keys,
+        }
+        if not pdf:
+            continue
+        # a card whose own content is unchanged keeps its PDF from the previous site
+        was = old.get("routes", {}).get(route.slug, {}).get("card_keys", {})
+        for card in route_cards:
+            name = Path(card.target).name
+            before = out / route.slug / name
+            if was.get(name) == keys[name] and before.is_file() and not before.is_symlink():
+                os.link(before, card.target)
+                report.cards_reused += 1
+            else:
+                cards.append(card)
     report.seconds["html"] = time.perf_counter() - t_render
 
     t_pdf = time.perf_counter()
