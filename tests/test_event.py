@@ -215,3 +215,41 @@ def test_cards_show_the_riders_arrival_beside_the_window_and_the_stop(tmp_path):
     for c in road["checkpoints"]:
         opens, closes = windows[c["name"]]
         assert opens <= c["arrival"] <= closes
+
+
+def test_group_spread_and_regroup_wait_by_hand():
+    """Three riders starting together on the day ride with its checkpoints: at each
+    climb top and checkpoint the spread is last − first arrival, and the regroup wait
+    is the largest minus the smallest time since the point before (checked by hand
+    from the plans)."""
+    from datetime import datetime
+    from types import SimpleNamespace
+
+    from cardgen.profiles.riders import Rider
+    from cardgen.profiles.vehicles import builtin_vehicles
+    from cardgen.render.pages import Entry, RouteJob, group_spread
+
+    track = read_gpx(SAMPLES / "day-ride.gpx")
+    analysis = analyse(track, build_terrain(track))
+    checkpoints = resolve_checkpoints((), track, analysis.terrain, "day-ride.gpx")
+    lib = builtin_vehicles()
+    start = datetime(2027, 4, 18, 8, 0)
+    plans = [
+        make_plan(analysis, rider=Rider.for_vehicle(lib[v], flat_power=w, cp=w + 60))
+        for v, w in (("road-hoods", 200.0), ("city-upright", 110.0), ("tandem", 260.0))
+    ]
+    entries = tuple(Entry(f"R{i}", start, None, p) for i, p in enumerate(plans))
+    job = RouteJob("day-ride", "Day", "", analysis, tuple(checkpoints), entries)
+    views = [SimpleNamespace(name=e.name, plan=e.plan) for e in entries]
+    (group,) = group_spread(job, views)
+    assert group["riders"] == ["R0", "R1", "R2"]
+    names = [r["name"] for r in group["rows"]]
+    assert names[-1] == "Finish" and len(names) == len(analysis.climbs) + len(checkpoints) + 1
+    before = [0.0, 0.0, 0.0]
+    for row in group["rows"]:
+        at = [p.elapsed_at(row["distance"]) for p in plans]
+        assert row["spread"] == pytest.approx(max(at) - min(at))
+        legs = [a - b for a, b in zip(at, before, strict=True)]
+        assert row["wait"] == pytest.approx(max(legs) - min(legs))
+        assert row["first"] == start + timedelta(seconds=min(at))
+        before = at

@@ -9,7 +9,7 @@ import functools
 import traceback
 from collections.abc import Iterator
 from dataclasses import dataclass
-from datetime import UTC, datetime
+from datetime import UTC, datetime, timedelta
 from pathlib import Path
 
 import jinja2
@@ -17,6 +17,7 @@ import jinja2
 from cardgen import __version__
 from cardgen.errors import CardgenError
 from cardgen.plan import Analysis, Plan, checkpoint_windows
+from cardgen.plan.fuel import carb_rate, fluid_rate, legs
 from cardgen.render import exports, plots
 from cardgen.render import format as fmt
 from cardgen.render.html import RiderView, environment, slugify, symbols_for, theme_file
@@ -259,6 +260,7 @@ def _render_route(config, site: dict, job: RouteJob, folder: Path) -> tuple[dict
         env.get_template("route.html").render(
             **common,
             riders=views,
+            overview=route_overview(job, views),
             profile_alt=figures["profile_alt"],
             power_svg=figures["power_svg"],
             power_alt=figures["power_alt"],
@@ -270,6 +272,9 @@ def _render_route(config, site: dict, job: RouteJob, folder: Path) -> tuple[dict
     )
     qr = _write_exports(config, job, plans, folder, windows)
     page = page_geometry(config.card_size, config.large_print)
+    feeds = [(c.distance, c.name) for c in job.checkpoints]
+    temperature = config.conditions.temperature
+    celsius = None if temperature is None else temperature - 273.15
     cards = []
     for view in views:
         html = env.get_template("card.html").render(
@@ -282,16 +287,143 @@ def _render_route(config, site: dict, job: RouteJob, folder: Path) -> tuple[dict
             page=page,
             qr=qr,
             windows=windows,
+            legs=legs(view.plan, feeds, celsius),
+            fuel_rates=(carb_rate(min(view.plan.finish_elapsed / 3600.0, 1e6)), fluid_rate(celsius)),
         )
         cards.append(CardSource(html, str(folder), str(folder / view.card)))
     if views:
         ordered = sorted(views, key=lambda v: (v.start.isoformat() if v.start else "~", v.name))
         groups = [ordered[i : i + COACH_GROUP] for i in range(0, len(ordered), COACH_GROUP)]
         html = env.get_template("coach.html").render(
-            **common, groups=groups, group_size=COACH_GROUP, rider_count=len(views)
+            **common,
+            groups=groups,
+            group_size=COACH_GROUP,
+            rider_count=len(views),
+            together=group_spread(job, views),
         )
         cards.append(CardSource(html, str(folder), str(folder / "coach.pdf")))
     return route_summary(job, views, units), cards
+
+
+def _spread(values: list[float]) -> tuple:
+    """(fastest, median, slowest) of finite values, or Nones."""
+    finite = sorted(v for v in values if v == v and v != float("inf"))
+    if not finite:
+        return None, None, None
+    return finite[0], finite[(len(finite) - 1) // 2], finite[-1]
+
+
+def _when(start: datetime | None, seconds: float):
+    """A moment (start + seconds), or the seconds themselves without a start."""
+    if seconds != seconds or seconds == float("inf"):
+        return None
+    return seconds if start is None else start + timedelta(seconds=seconds)
+
+
+def _clock_text(moment) -> str:
+    if moment is None:
+        return "–"
+    if isinstance(moment, datetime):
+        return fmt.clock(moment, 0.0)
+    return fmt.clock(None, moment)
+
+
+def route_overview(job: RouteJob, views) -> dict:
+    """The route page's tables for any number of riders: per climb, descent, cue and
+    checkpoint a summary over riders (fastest, median, slowest), and one row per
+    rider."""
+    plans = [v.plan for v in views]
+    climbs = []
+    for i, climb in enumerate(job.analysis.climbs):
+        rows = [p.climbs[i] for p in plans]
+        watts = sorted(r.power_for_target for r in rows)
+        climbs.append(
+            {
+                "climb": climb,
+                "times": _spread([r.time for r in rows]),
+                "watts": (watts[0], watts[-1]) if watts else (None, None),
+                "warned": sum(1 for r in rows if r.warnings),
+            }
+        )
+    descents = []
+    for i, descent in enumerate(job.analysis.descents):
+        rows = [p.descents[i] for p in plans]
+        descents.append(
+            {
+                "descent": descent,
+                "fastest": max((r.max_speed for r in rows), default=None),
+                "coast": max((r.coast_speed for r in rows), default=None),
+                "warned": sum(1 for r in rows if r.warnings),
+            }
+        )
+
+    def arrivals(distance_of) -> list:
+        return [_when(v.start, distance_of(v.plan)) for v in views]
+
+    def first_last(moments: list) -> tuple[str, str]:
+        known = sorted(m for m in moments if m is not None)
+        return (_clock_text(known[0]), _clock_text(known[-1])) if known else ("–", "–")
+
+    cues = [
+        {"cue": cue, "span": first_last(arrivals(lambda p, i=i: p.cues[i].elapsed))}
+        for i, cue in enumerate(job.analysis.cues)
+    ]
+    finish = first_last(arrivals(lambda p: p.finish_elapsed))
+    riders = [
+        {
+            "name": v.name,
+            "bib": e.bib,
+            "vehicle": v.plan.rider.vehicle.label,
+            "start": e.start.strftime("%H:%M") if e.start else "–",
+            "finish": _clock_text(_when(e.start, v.plan.finish_elapsed)),
+            "moving": v.plan.totals.time,
+            "warnings": sum(len(r.warnings) for r in v.plan.climbs)
+            + sum(len(r.warnings) for r in v.plan.descents)
+            + sum(1 for w in v.plan.warnings if w.severity == "warning"),
+            "card": v.card,
+        }
+        for e, v in zip(job.riders, views, strict=True)
+    ]
+    return {"climbs": climbs, "descents": descents, "cues": cues, "finish": finish, "riders": riders}
+
+
+def group_spread(job: RouteJob, views) -> list[dict]:
+    """For each set of two or more riders who start together: at every climb top and
+    checkpoint, the first and last planned arrival, the spread between them, and the
+    wait that regroups them there if they regrouped at the point before (the gap that
+    opened since). Times in seconds from their start."""
+    points = sorted(
+        [(c.end_distance, f"top of climb {i + 1}") for i, c in enumerate(job.analysis.climbs)]
+        + [(c.distance, c.name) for c in job.checkpoints]
+        + [(job.analysis.terrain.length, "Finish")]
+    )
+    together: dict = {}
+    for e, v in zip(job.riders, views, strict=True):
+        if e.start is not None:
+            together.setdefault(e.start, []).append(v)
+    groups = []
+    for start, members in sorted(together.items()):
+        if len(members) < 2:
+            continue
+        rows, before = [], [0.0] * len(members)
+        for distance, name in points:
+            at = [m.plan.elapsed_at(distance) for m in members]
+            if not all(t == t and t != float("inf") for t in at):
+                break  # someone cannot get there: the spread means nothing beyond
+            legs = [a - b for a, b in zip(at, before, strict=True)]
+            rows.append(
+                {
+                    "name": name,
+                    "distance": distance,
+                    "first": start + timedelta(seconds=min(at)),
+                    "last": start + timedelta(seconds=max(at)),
+                    "spread": max(at) - min(at),
+                    "wait": max(legs) - min(legs),
+                }
+            )
+            before = at
+        groups.append({"start": start, "riders": [m.name for m in members], "rows": rows})
+    return groups
 
 
 def _pack_order(job: RouteJob, views) -> list[dict]:
@@ -401,4 +533,5 @@ def _render_index(config, site: dict, summaries: list[dict], folder: Path) -> No
         ),
         encoding="utf-8",
     )
-    (folder / "style.css").write_bytes(theme_file(config.templates, "style.css").read_bytes())
+    for name in ("style.css", "find.js"):
+        (folder / name).write_bytes(theme_file(config.templates, name).read_bytes())

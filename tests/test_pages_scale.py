@@ -1,0 +1,100 @@
+"""Pages for hundreds of riders: 300 riders on one route, read in a real browser at
+phone (360 px) and desktop (1,200 px) width."""
+
+from __future__ import annotations
+
+import shutil
+import subprocess
+from pathlib import Path
+
+import pytest
+
+from cardgen.build import build_site
+from cardgen.config import load_config
+
+pytestmark = pytest.mark.slow
+SAMPLES = Path(__file__).resolve().parents[1] / "sample_routes"
+VEHICLES = ("road-hoods", "city-upright", "handcycle", "tandem", "e-assist-city", "trike-recumbent")
+RIDERS = 300
+
+
+@pytest.fixture(scope="module")
+def big_site(tmp_path_factory):
+    src = tmp_path_factory.mktemp("big")
+    shutil.copy(SAMPLES / "hill-loop.gpx", src)
+    rows = ["name,vehicle,cp_w,flat_w,climb_w,bib"]
+    for i in range(RIDERS):
+        cp = 120 + (i * 7) % 160
+        rows.append(f"Entrant {i:03d},{VEHICLES[i % len(VEHICLES)]},{cp},{int(cp * 0.7)},{cp},{1000 + i}")
+    (src / "entrants.csv").write_text("\n".join(rows) + "\n", encoding="utf-8")
+    (src / "site.toml").write_text(
+        'riders = "entrants.csv"\n[event]\nstart = "07:00"\nstart_interval_min = 0.5\n'
+        '[[routes]]\ngpx = "hill-loop.gpx"\n',
+        encoding="utf-8",
+    )
+    out = src / "site"
+    build_site(load_config(src / "site.toml"), out=out, jobs=2, pdf=False)
+    return out
+
+
+def test_route_page_lists_riders_as_rows_and_summarises_the_rest(big_site):
+    html = (big_site / "hill-loop" / "index.html").read_text(encoding="utf-8")
+    riders = html.split('id="rider-table"')[1].split("</table>")[0]
+    assert riders.count("<tr>") == RIDERS + 1  # the header row and one per rider
+    # no other table grows with the riders: every header row has a fixed few columns
+    for head in html.split("<thead>")[1:]:
+        assert head.split("</thead>")[0].count("<th") <= 8
+    assert 'id="find"' in html and 'src="../find.js"' in html
+    assert (big_site / "find.js").is_file()
+
+
+def _chromium():
+    return shutil.which("chromium") or shutil.which("chromium-browser")
+
+
+def _widths(page: Path, width: int, profile: Path) -> tuple[int, int]:
+    """scrollWidth and clientWidth of ``page`` shown in a frame ``width`` px wide
+    (a frame, because headless Chromium will not make its window narrower than 500 px)."""
+    harness = page.parent / ".harness.html"
+    harness.write_text(
+        f'<!DOCTYPE html><body style="margin:0"><iframe id="f" src="{page.name}" '
+        f'style="width:{width}px;height:800px;border:0"></iframe><script>'
+        'document.getElementById("f").addEventListener("load",function(){'
+        "var e=this.contentDocument.documentElement;"
+        'document.body.setAttribute("data-sw",e.scrollWidth+"/"+e.clientWidth)});</script>',
+        encoding="utf-8",
+    )
+    try:
+        dom = subprocess.run(
+            [
+                _chromium(),
+                "--headless",
+                "--no-sandbox",
+                "--disable-gpu",
+                "--allow-file-access-from-files",
+                "--no-first-run",
+                "--disable-background-networking",
+                f"--user-data-dir={profile}",
+                "--window-size=1300,900",
+                "--virtual-time-budget=5000",
+                "--dump-dom",
+                harness.as_uri(),
+            ],
+            capture_output=True,
+            text=True,
+            timeout=120,
+            check=True,
+        ).stdout
+    finally:
+        harness.unlink()
+    scroll, client = dom.split('data-sw="')[1].split('"')[0].split("/")
+    return int(scroll), int(client)
+
+
+@pytest.mark.skipif(_chromium() is None, reason="Chromium is not installed (Debian package 'chromium')")
+@pytest.mark.parametrize("width", [360, 1200])
+@pytest.mark.parametrize("page", ["index.html", "hill-loop/index.html"])
+def test_no_page_scrolls_sideways(big_site, page, width, tmp_path):
+    scroll, client = _widths(big_site / page, width, tmp_path / "profile")
+    assert client > 0.8 * width
+    assert scroll <= client
