@@ -65,8 +65,10 @@ print(resource.getrusage(resource.RUSAGE_SELF).ru_maxrss)
 """
 
 
-def make_route(path: Path) -> None:
-    """A winding 1,200 km route with rolling hills, timestamps and a few waypoints."""
+def make_route(path: Path, points: int = POINTS) -> None:
+    """A winding route of ``points`` × 10 m (1,200 km by default) with rolling hills,
+    timestamps and a few waypoints."""
+    POINTS = points  # noqa: N806 (the module's constant, for this call)
     rng = np.random.default_rng(42)
     heading = np.cumsum(rng.normal(0.0, 0.03, POINTS))
     x = np.cumsum(10.0 * np.sin(heading))

@@ -123,7 +123,7 @@ def _plan_route(task):
             Entry(
                 r.rider.name,
                 *rider_start(config, i, rc),
-                make_plan(analysis, rider=r.rider, conditions=config.conditions, stops=stops),
+                make_plan(analysis, rider=r.rider, conditions=config.conditions, stops=stops).lightened(),
                 r.bib,
             )
             for i, r in enumerate(config.riders)

@@ -6,13 +6,14 @@ Notices carry a stable ``code``, a ``severity`` and the numbers they are about;
 
 from __future__ import annotations
 
+import dataclasses
 from dataclasses import dataclass
 
 import numpy as np
 
 from cardgen.physics.assist import Motor
 from cardgen.physics.atmosphere import Conditions
-from cardgen.physics.ride import Ride
+from cardgen.physics.ride import Ride, RideTimes
 from cardgen.profiles.riders import Rider
 from cardgen.route.climbs import Climb, Descent
 from cardgen.route.cues import Cue
@@ -107,7 +108,7 @@ class Plan:
     rider: Rider
     conditions: Conditions
     motor: Motor | None
-    ride: Ride
+    ride: Ride | RideTimes  # RideTimes once lightened for the pages
     w_prime_balance: np.ndarray  # [J] per segment
     climbs: tuple[ClimbRow, ...]
     descents: tuple[DescentRow, ...]
@@ -116,6 +117,14 @@ class Plan:
     warnings: tuple[Notice, ...]
     assist_between: int | None = None  # level between climbs (0 = off); None without a motor
     stops: tuple[tuple[float, float], ...] = ()  # (where [m], how long [s]) planned stops
+
+    def lightened(self) -> Plan:
+        """This plan with only the ride's times and rider power kept (what the pages,
+        cards and exports use): for builds of hundreds of riders."""
+        r = self.ride
+        return dataclasses.replace(
+            self, ride=RideTimes(r.elapsed, r.time, r.rider_power, r.passes, r.converged)
+        )
 
     def elapsed_at(self, distance: float) -> float:
         """Time [s] from the start to arriving at ``distance`` [m]: riding, and every
