@@ -25,6 +25,9 @@ from cardgen.render import format as fmt
         (fmt.length, 849.0, "metric", "850 m"),  # to 10 m
         (fmt.length, 12000.0, "metric", "12.0 km"),  # from 10 km as a distance
         (fmt.length, 850.0, "imperial", "0.53 mi"),  # 850 / 1609.344 = 0.528
+        (fmt.length, 13.2, "imperial", "45 ft"),  # a curve's radius: 13.2 / 0.3048 = 43.3, to 5 ft
+        (fmt.length, 400.0, "imperial", "1310 ft"),  # below a quarter mile (402.3 m): 1312.3 ft, to 5 ft
+        (fmt.length, 410.0, "imperial", "0.25 mi"),  # from a quarter mile in miles
         (fmt.height, 240.4, "metric", "240 m"),
         (fmt.height, 240.0, "imperial", "785 ft"),  # 240 / 0.3048 = 787.4 → to 5 ft
         (fmt.grade, 0.0749, None, "7.5 %"),  # to 0.5 %

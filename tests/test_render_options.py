@@ -61,6 +61,16 @@ def test_imperial_units_on_page_and_card(tmp_path):
         ["pdftotext", str(out / "hill-loop" / "rider.pdf"), "-"], capture_output=True, text=True, check=True
     ).stdout
     assert "mph" in text and re.search(r"\d+\.\d mi", text)
+    # no metric unit anywhere: every page and every PDF (card, coach sheet, packs)
+    metric = re.compile(r"\d\s?(km|m|kph)\b|km/h|\(km\)|\(m\)")
+    for html in out.rglob("*.html"):
+        shown = re.sub(r"<[^>]+>", " ", html.read_text(encoding="utf-8"))
+        assert not metric.search(shown), (html, metric.search(shown))
+    for pdf in out.rglob("*.pdf"):
+        words = subprocess.run(
+            ["pdftotext", str(pdf), "-"], capture_output=True, text=True, check=True
+        ).stdout
+        assert not metric.search(words), (pdf, metric.search(words))
 
 
 @pytest.mark.parametrize("size, mm", [("A4", (210, 297)), ("pocket", (99, 210)), ("A5", (148, 210))])

@@ -67,10 +67,13 @@ def distance(metres, units: str = "metric") -> str:
 
 @_dash_if_missing
 def length(metres, units: str = "metric") -> str:
-    """Short lengths: "850 m" or "0.53 mi"; from 10 km as :func:`distance`."""
+    """Short lengths: "850 m" or "0.53 mi", and below a quarter mile in feet ("45 ft",
+    a curve's radius); from 10 km as :func:`distance`."""
     if metres >= 10000:
         return distance(metres, units)
     if units == "imperial":
+        if metres < M_PER_MI / 4:
+            return f"{_nearest(metres / M_PER_FT, 5):.0f} ft"
         return f"{_nearest(metres / M_PER_MI, 0.01):.2f} mi"
     return f"{_nearest(metres, 10):.0f} m"
 

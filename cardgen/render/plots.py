@@ -4,7 +4,9 @@ print resolution first: a card is about 130 mm wide, so ~1,000 points is finer t
 the eye or the printer can tell, and keeps the SVG small for WeasyPrint.
 
 Colours: the colour-blind-safe "cividis" colormap (Nuñez, Anderton & Renslow 2018,
-PLoS ONE 13(7):e0199239) for grade.
+PLoS ONE 13(7):e0199239), whose lightness rises steadily along it. The profile is
+filled by steepness (the grade up or down), reversed so that steeper is darker: it
+reads the same printed in black and white.
 """
 
 from __future__ import annotations
@@ -18,7 +20,7 @@ import numpy as np
 from cardgen.render import format as fmt
 
 MAX_POINTS = 1000
-GRADE_RANGE = 12.0  # [%] the colour scale runs from −12 % to +12 %
+GRADE_RANGE = 12.0  # [%] the colour scale runs from flat to 12 % up or down
 INK = "#1a1a1a"
 
 
@@ -95,10 +97,11 @@ def elevation_profile(
     d, e = thin(terrain.distance, terrain.elevation)
     x, y = d * x_scale, e * y_scale
     grade = np.diff(e) / np.maximum(np.diff(d), 1e-9) * 100
-    bounds = np.arange(-GRADE_RANGE, GRADE_RANGE + 0.1, 2.0)
-    cmap = colormaps["cividis"]
-    norm = BoundaryNorm(bounds, cmap.N, extend="both")
-    bins = np.digitize(grade, bounds)
+    bounds = np.arange(0.0, GRADE_RANGE + 0.1, 2.0)
+    cmap = colormaps["cividis_r"]  # steeper = darker
+    norm = BoundaryNorm(bounds, cmap.N, extend="max")
+    steep = np.abs(grade)
+    bins = np.digitize(steep, bounds)
     base = min(y.min(), 0.0) if y.min() < 0 else y.min() - 0.08 * max(np.ptp(y), 10)
     top = y.max() + 0.25 * max(np.ptp(y), 10)
     polys, colours = [], []
@@ -111,7 +114,7 @@ def elevation_profile(
                     (np.concatenate((xs, xs[::-1])), np.concatenate((ys, np.full(xs.size, base))))
                 )
             )
-            colours.append(cmap(norm(float(np.mean(grade[start:i])))))
+            colours.append(cmap(norm(float(np.mean(steep[start:i])))))
             start = i
 
     fig = _figure(width_in, height_in)
@@ -157,7 +160,7 @@ def elevation_profile(
     bar = fig.colorbar(
         ScalarMappable(norm=norm, cmap=cmap), ax=ax, pad=0.01, fraction=0.04, ticks=bounds[::2]
     )
-    bar.set_label("grade (%)", fontsize=7 * k, color=INK)
+    bar.set_label("grade up or down (%)", fontsize=7 * k, color=INK)
     bar.ax.tick_params(labelsize=6 * k, colors=INK)
     svg = _svg(fig)
 
