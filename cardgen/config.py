@@ -72,6 +72,8 @@ SCHEMA = {
         "start": Spec("time", help='like "08:30"'),
         "start_interval_min": Spec("number", default=0.0, limit="start_interval_min"),
         "checkpoint_margin_min": Spec("number", default=15.0, limit="checkpoint_margin_min"),
+        "contact": Spec("str", default="", help="the organiser's contact, printed on every card"),
+        "emergency": Spec("str", default="", help="emergency numbers, printed on every card"),
         "min_kmh": Spec(
             "number", limit="min_kmh", help="checkpoints close at the last start + distance / this speed"
         ),
@@ -191,6 +193,8 @@ class SiteConfig:
     waves: tuple[Wave, ...] = field(default=())
     day: date | None = None  # the event's date
     speed_rule: tuple[float, float] | None = None  # (slowest, fastest) [m/s] for checkpoint windows
+    contact: str = ""  # the organiser's contact, on every card
+    emergency: str = ""  # emergency numbers, on every card
 
 
 _HEADER = re.compile(r"^\s*(\[\[?)\s*([^\]]+?)\s*\]\]?")
@@ -473,6 +477,8 @@ def _from_data(data: dict, path: Path | None, text: str, folder: Path) -> SiteCo
         waves=tuple(waves),
         day=event["date"],
         speed_rule=speed_rule,
+        contact=event["contact"] or "",
+        emergency=event["emergency"] or "",
     )
 
 

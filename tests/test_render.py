@@ -230,3 +230,45 @@ def test_legend_and_cautions_fit_the_card(demo_site):
         assert shown, pdf  # the hill loop gives every card some symbol
         if "handcycle" in pdf.name:
             assert not explained_w  # three wheels: never the walking symbol
+
+
+def test_profile_shading_orders_by_lightness_so_it_reads_in_greyscale():
+    """Steeper is darker, up or down: on a profile of 0, 3, 7 and 11 % stretches (and
+    an 11 % descent) the fills' luminance (ITU-R BT.709 weights) falls as the
+    steepness rises, and the 11 % climb and the 11 % descent get the same shade."""
+    from types import SimpleNamespace
+
+    from cardgen.render import plots
+
+    d = np.arange(0.0, 6001.0, 10.0)
+    grade = np.select([d < 1000, d < 2000, d < 3000, d < 4000, d < 5000], [0.0, 0.03, 0.07, 0.11, -0.11], 0.0)
+    e = 100 + np.concatenate(([0.0], np.cumsum(grade[:-1] * 10.0)))
+    terrain = SimpleNamespace(distance=d, elevation=e, length=float(d[-1]), gain=0.0, loss=0.0)
+    svg, _ = plots.elevation_profile(terrain, [])
+
+    def luminance(hex_colour):
+        r, g, b = (int(hex_colour[i : i + 2], 16) / 255 for i in (0, 2, 4))
+        return 0.2126 * r + 0.7152 * g + 0.0722 * b
+
+    # the filled stretches, left to right: one polygon per run of a band
+    fills = [f for f in re.findall(r"<path d=\"M [^\"]*\"[^>]*?fill: ?#([0-9a-f]{6})", svg)]
+    shades = []
+    for f in fills:
+        if not shades or shades[-1] != f:
+            shades.append(f)
+    flat, three, seven, eleven = shades[:4]
+    assert luminance(flat) > luminance(three) > luminance(seven) > luminance(eleven)
+    # the descent, after the summit's short mixed stretch, takes the climb's shade again
+    assert eleven in shades[5:]
+
+
+@needs_poppler
+def test_every_card_carries_the_event_the_route_notes_and_the_numbers_to_call(demo_site):
+    config, out, _ = demo_site
+    for route in config.routes:
+        for pdf in sorted((out / slugify(route.gpx.stem)).glob("*.pdf")):
+            if pdf.name == "coach.pdf" or pdf.name.startswith("all-cards"):
+                continue
+            first = " ".join(_pdftotext(pdf).split("\f")[0].split())
+            for text in (config.title, "Sunday 18 April 2027", route.notes, config.emergency, config.contact):
+                assert " ".join(text.split()) in first, (pdf.name, text)

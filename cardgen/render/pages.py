@@ -89,11 +89,17 @@ def built_stamp(source_date_epoch: str | None) -> str:
 def site_context(config, built: str = "") -> dict:
     """What every page knows of the site."""
     event_line = ""
+    day = config.day.strftime("%A %d %B %Y") if config.day else ""
     if config.start is not None:
-        event_line = f"Start {config.start.strftime('%A %d %B %Y, %H:%M')}"
+        event_line = f"Start {day + ', ' if day else ''}{config.start.strftime('%H:%M')}"
         if config.start_interval:
             event_line += f", riders {config.start_interval / 60:.0f} min apart"
+    elif day:
+        event_line = day
     return {
+        "day": day,
+        "contact": config.contact,
+        "emergency": config.emergency,
         "title": config.title,
         "units": config.units,
         "large_print": config.large_print,
