@@ -6,6 +6,7 @@ in open ocean, then turned into WGS84 degrees on a sphere of the mean Earth radi
 
 from __future__ import annotations
 
+import math
 from pathlib import Path
 from xml.sax.saxutils import escape, quoteattr
 
@@ -64,3 +65,43 @@ def profile_gpx(path: Path, distance, elevation, heading_deg: float = 90.0, **kw
     h = np.radians(heading_deg)
     lat, lon = to_latlon(np.asarray(distance) * np.sin(h), np.asarray(distance) * np.cos(h))
     return write_gpx(path, lat, lon, elevation, **kw)
+
+
+def long_route(
+    path: Path, km: float = 200.0, turns: int = 40, climbs: int = 12, spacing: float = 20.0
+) -> Path:
+    """A long invented route for print tests: ``turns`` + 1 straight legs joined by
+    right and left turns, every seventh a hairpin that turns back along the same road
+    (out and back), ``climbs`` climbs of 150 m at 5 %, and feed points, one of them
+    on an out-and-back leg (passed twice)."""
+    leg = km * 1000.0 / (turns + 1)
+    heading, x, y = 90.0, [0.0], [0.0]
+    corners = []
+    for i in range(turns + 1):
+        n = int(leg // spacing)
+        h = math.radians(heading)
+        for _ in range(n):
+            x.append(x[-1] + spacing * math.sin(h))
+            y.append(y[-1] + spacing * math.cos(h))
+        corners.append((x[-1], y[-1]))
+        if i % 7 == 6:
+            # a hairpin: 16 m across, then straight back along the same line
+            side = math.radians(heading + 90)
+            x.append(x[-1] + 16 * math.sin(side))
+            y.append(y[-1] + 16 * math.cos(side))
+            heading += 180.0
+        else:
+            heading += 90.0 if i % 2 else -90.0
+    x, y = np.array(x), np.array(y)
+    s = np.concatenate(([0.0], np.cumsum(np.hypot(np.diff(x), np.diff(y)))))
+    e = np.full(s.size, 100.0)
+    period = s[-1] / climbs
+    for k in range(climbs):
+        foot = k * period + 0.2 * period
+        e += np.clip((s - foot) * 0.05, 0, 150) - np.clip((s - foot - 3000 - 500) * 0.05, 0, 150)
+    lat, lon = to_latlon(x, y)
+    feeds = [(int(len(x) * f), f"Feed {j + 1}") for j, f in enumerate((0.25, 0.5, 0.75))]
+    out_back = int(np.searchsorted(s, 6.5 * leg))  # on the leg before the first hairpin
+    feeds.append((out_back, "Feed on the out-and-back"))
+    waypoints = [{"lat": float(lat[i]), "lon": float(lon[i]), "name": name} for i, name in feeds]
+    return write_gpx(path, lat, lon, e, waypoints=waypoints, name="Invented long route")

@@ -59,7 +59,7 @@ def test_every_number_on_the_cards_is_the_plans(demo_site):
             text = _pdftotext(out / slug / f"{slugify(rc.rider.name)}.pdf")
             lines = text.splitlines()
             for c in plan.climbs:
-                row = next(line for line in lines if re.match(rf"\s*{c.number}\s+\d", line))
+                row = next(line for line in lines if re.match(rf"\s*{c.number}\s+\d+\.\d (km|mi)", line))
                 minutes = int(_half_up(c.time / 60, 1))
                 expected = [
                     f"{_half_up(c.climb.start_distance / 1000, 0.1):.1f} km",
@@ -110,8 +110,11 @@ def test_cautions_on_every_card_page(demo_site):
     _, out, _ = demo_site
     for pdf in sorted(p for p in out.rglob("*.pdf") if not p.name.startswith("all-cards")):  # not the packs
         for page in _pdftotext(pdf).split("\f"):
-            if page.strip():
-                assert "model estimate" in page and "road rules apply" in page, pdf
+            if page.strip():  # the short form at the foot of every page
+                assert "model estimate" in page.lower() and "road rules apply" in page, pdf
+        if pdf.name != "coach.pdf":  # and every caution in full on a card's last page
+            last = " ".join(_pdftotext(pdf).strip("\f").split("\f")[-1].split())
+            assert "Before you ride" in last and "qualified professional" in last, pdf
 
 
 @needs_poppler
@@ -272,3 +275,19 @@ def test_every_card_carries_the_event_the_route_notes_and_the_numbers_to_call(de
             first = " ".join(_pdftotext(pdf).split("\f")[0].split())
             for text in (config.title, "Sunday 18 April 2027", route.notes, config.emergency, config.contact):
                 assert " ".join(text.split()) in first, (pdf.name, text)
+
+
+@needs_poppler
+def test_cards_and_coach_sheets_are_tagged_pdfs_with_language_and_title(demo_site):
+    """Tagged (PDF/UA-style structure, WeasyPrint's pdf_tags) so screen readers can
+    read them; the language and title come from the HTML."""
+    from pypdf import PdfReader
+
+    _, out, _ = demo_site
+    pdfs = [p for p in sorted(out.rglob("*.pdf")) if not p.name.startswith("all-cards")]
+    assert pdfs
+    for pdf in pdfs:
+        info = subprocess.run(["pdfinfo", str(pdf)], capture_output=True, text=True, check=True).stdout
+        assert re.search(r"^Tagged:\s+yes$", info, re.M), pdf
+        assert re.search(r"^Title:\s+\S", info, re.M), pdf
+        assert PdfReader(pdf).trailer["/Root"]["/Lang"] == "en", pdf

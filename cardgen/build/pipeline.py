@@ -152,15 +152,21 @@ def card_key(card) -> str:
     base = Path(card.base)
     used = sorted(set(_REFERENCE.findall(card.html)))
     return digest(
-        card.html, *[(n, file_digest(base / n, MAX_FILE_BYTES)) for n in used if (base / n).is_file()]
+        card.budget,
+        *(card.variants or (card.html,)),
+        *[(n, file_digest(base / n, MAX_FILE_BYTES)) for n in used if (base / n).is_file()],
     )
 
 
 def _render_pdf(card):
-    """Worker: one card's HTML → PDF file."""
-    from cardgen.render.pdf import write_pdf
+    """Worker: one card's HTML → PDF file: the first of its condensed variants that
+    fits its page budget (the last one otherwise)."""
+    from cardgen.render.pdf import write_fitting_pdf, write_pdf
 
-    write_pdf(card.html, Path(card.base), Path(card.target))
+    if card.variants:
+        write_fitting_pdf(card.variants, Path(card.base), Path(card.target), card.budget)
+    else:
+        write_pdf(card.html, Path(card.base), Path(card.target))
     return card.target
 
 

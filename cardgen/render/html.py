@@ -142,6 +142,11 @@ def legend_for(plan: Plan) -> list[tuple[str, str]]:
     return [symbol for code, symbol in SYMBOLS.items() if code in used]
 
 
+def symbol_of(code: str) -> str:
+    """The symbol letter of a warning code ("" for a code without one)."""
+    return SYMBOLS[code][0] if code in SYMBOLS else ""
+
+
 def symbols_for(warnings) -> list[str]:
     """Distinct symbol letters for a row's warnings, in the order of :data:`SYMBOLS`."""
     codes = {w.code for w in warnings}

@@ -6,6 +6,7 @@ from __future__ import annotations
 
 import contextlib
 import functools
+import re
 import traceback
 from collections.abc import Iterator
 from dataclasses import dataclass
@@ -13,6 +14,7 @@ from datetime import UTC, datetime, timedelta
 from pathlib import Path
 
 import jinja2
+import numpy as np
 
 from cardgen import __version__
 from cardgen.errors import CardgenError
@@ -20,7 +22,7 @@ from cardgen.plan import Analysis, Plan, checkpoint_windows
 from cardgen.plan.fuel import carb_rate, fluid_rate, legs
 from cardgen.render import exports, plots
 from cardgen.render import format as fmt
-from cardgen.render.html import RiderView, environment, slugify, symbols_for, theme_file
+from cardgen.render.html import RiderView, environment, slugify, symbol_of, symbols_for, theme_file
 
 #: File names of a route folder that a card may not take (a rider called "Coach"
 #: gets coach-2.pdf).
@@ -69,11 +71,24 @@ class Entry:
 
 @dataclass(frozen=True)
 class CardSource:
-    """A card to print: its HTML, the folder its links point into, the PDF to write."""
+    """A card to print: its HTML, the folder its links point into, the PDF to write.
+    ``variants`` are the same card condensed step by step (:data:`CONDENSE_STEPS`) and
+    ``budget`` its pages: the first variant that fits is printed. A coach sheet has
+    no variants and no budget."""
 
     html: str
     base: str
     target: str
+    variants: tuple[str, ...] = ()
+    budget: int = 0
+
+
+#: The order in which a card is condensed until it fits its page budget, never
+#: dropping a cue: 1 a descent's notes become its symbols and one line; 2 the cue
+#: sheet runs in two columns without the GPX's descriptions; 3 the profile and the map
+#: are drawn smaller; 4 the cue sheet moves to a second sheet (two more pages) with its
+#: own header.
+CONDENSE_STEPS = 4
 
 
 def built_stamp(source_date_epoch: str | None) -> str:
@@ -109,28 +124,34 @@ def site_context(config, built: str = "") -> dict:
     }
 
 
+#: Paper [mm] (width, height), margins [mm] (top, sides, bottom), body type size and
+#: the page budget of each card size. Every margin is at least 5 mm plus the header
+#: or footer line, so nothing prints where most printers cannot (the unprintable
+#: edge is commonly 3–5 mm: common practice, no published source).
+CARD_SIZES = {
+    "A5": ((148, 210), (12, 8, 14), "9pt", 2),
+    "A4": ((210, 297), (14, 10, 16), "10pt", 2),
+    "pocket": ((99, 210), (12, 6, 14), "9pt", 4),
+}
+
+
 def page_geometry(card_size: str, large_print: bool) -> dict:
-    """Card page size, margins and type sizes for the configured size and print."""
-    sizes = {
-        "A5": ("A5 portrait", "9mm", "9pt"),
-        "A4": ("A4 portrait", "12mm", "10pt"),
-        "pocket": ("99mm 210mm", "5mm", "8pt"),
-    }
-    size, margin, font = sizes[card_size]
+    """Card page size, margins, type sizes and page budget for the configured size and
+    print. Large print (14 pt body) has twice the pages, like the pocket strip."""
+    (width, height), (top, side, bottom), font, budget = CARD_SIZES[card_size]
     if large_print:
-        font = "14pt"
-    # Large print: the full cautions are a block of body text on page 2 (at 14 pt they
-    # would not fit a footer); the footer of every page points to them.
-    caution = "12pt" if large_print else "6.5pt"
-    footer = "16mm" if large_print else ("34mm" if card_size == "pocket" else "26mm")
+        font, budget, bottom = "14pt", 4, bottom + 6
     return {
-        "size": size,
-        "margin": margin,
+        "size": f"{width}mm {height}mm",
+        "margins": f"{top}mm {side}mm {bottom}mm {side}mm",
         "font": font,
-        "caution_font": caution,
-        "footer": footer,
+        "footer_font": "12pt" if large_print else "7.5pt",
         "large": large_print,
         "narrow": large_print or card_size == "pocket",
+        "budget": budget,
+        # the drawings are made at their printed width, so their type prints at size
+        "plot_width_in": (width - 2 * side - 8) / 25.4,
+        "two_column_cues": width >= 200,
     }
 
 
@@ -150,20 +171,36 @@ def _write_plots(config, job: RouteJob, folder: Path) -> dict:
     marks = [(c.name, c.distance) for c in job.checkpoints]
     svg, alt = plots.elevation_profile(analysis.terrain, analysis.climbs, marks, units, name=job.name)
     (folder / "profile.svg").write_text(svg, encoding="utf-8")
-    card_profile = "profile.svg"
-    if config.large_print:  # the card's own profile, with labels at large-print size
-        big_svg, _ = plots.elevation_profile(
+    # the card's own profile and map, drawn at their printed width so that their type
+    # prints at its size (large print: labels scaled to match its 14 pt)
+    page = page_geometry(config.card_size, config.large_print)
+    width = page["plot_width_in"]
+    scale = 1.6 if config.large_print else 1.0
+    # a full and a smaller size of each, for the condensing steps (drawn, not shrunk,
+    # so the type keeps its size)
+    for suffix, share in (("", 1.0), ("-small", 0.45)):
+        card_svg, _ = plots.elevation_profile(
             analysis.terrain,
             analysis.climbs,
             marks,
             units,
             name=job.name,
-            width_in=5.2,
-            height_in=3.0,
-            text_scale=1.9,
+            width_in=width,
+            height_in=min(2.0, 0.38 * width) * scale * share,
+            text_scale=scale,
         )
-        (folder / "profile-large.svg").write_text(big_svg, encoding="utf-8")
-        card_profile = "profile-large.svg"
+        (folder / f"card-profile{suffix}.svg").write_text(card_svg, encoding="utf-8")
+        map_svg, map_alt = plots.route_map(
+            analysis.terrain,
+            analysis.climbs,
+            marks,
+            units,
+            name=job.name,
+            width_in=width,
+            height_in=0.45 * width * share,
+        )
+        (folder / f"map{suffix}.svg").write_text(map_svg, encoding="utf-8")
+    card_profile = "card-profile.svg"
     power_svg = power_alt = ""
     hardest = _hardest(analysis.climbs)
     if hardest is not None and job.riders:
@@ -173,6 +210,10 @@ def _write_plots(config, job: RouteJob, folder: Path) -> dict:
     return {
         "profile_alt": alt,
         "card_profile": card_profile,
+        "map": "map.svg",
+        "map_small": "map-small.svg",
+        "profile_small": "card-profile-small.svg",
+        "map_alt": map_alt,
         "power_svg": bool(power_svg),
         "power_alt": power_alt,
     }
@@ -281,22 +322,39 @@ def _render_route(config, site: dict, job: RouteJob, folder: Path) -> tuple[dict
     feeds = [(c.distance, c.name) for c in job.checkpoints]
     temperature = config.conditions.temperature
     celsius = None if temperature is None else temperature - 273.15
+    card_template = env.get_template("card.html")
     cards = []
     for view in views:
-        html = env.get_template("card.html").render(
+        watch = watch_list(view.plan, units)
+        context = dict(
             **common,
             rider=view,
             plan=view.plan,
             start=view.start,
             profile_alt=figures["profile_alt"],
             profile=figures["card_profile"],
+            map=figures["map"],
+            map_small=figures["map_small"],
+            profile_small=figures["profile_small"],
+            map_alt=figures["map_alt"],
             page=page,
             qr=qr,
             windows=windows,
             legs=legs(view.plan, feeds, celsius),
             fuel_rates=(carb_rate(min(view.plan.finish_elapsed / 3600.0, 1e6)), fluid_rate(celsius)),
+            watch=watch,
+            watch_codes={"battery", "stall"},
+            cue_rows=cue_rows(view.plan),
+            descent_brief=functools.partial(descent_brief, units=units),
+            short_name=short_name,
+            descents_brief=functools.partial(descents_brief, units=units),
+            warnings_brief=functools.partial(warnings_brief, units=units, skip={"battery", "stall"}),
         )
-        cards.append(CardSource(html, str(folder), str(folder / view.card)))
+        variants = tuple(
+            card_template.render(**context, condense=min(level, 3), continuation=level >= 4)
+            for level in range(CONDENSE_STEPS + 1)
+        )
+        cards.append(CardSource(variants[0], str(folder), str(folder / view.card), variants, page["budget"]))
     if views:
         ordered = sorted(views, key=lambda v: (v.start.isoformat() if v.start else "~", v.name))
         groups = [ordered[i : i + COACH_GROUP] for i in range(0, len(ordered), COACH_GROUP)]
@@ -309,6 +367,148 @@ def _render_route(config, site: dict, job: RouteJob, folder: Path) -> tuple[dict
         )
         cards.append(CardSource(html, str(folder), str(folder / "coach.pdf")))
     return route_summary(job, views, units), cards
+
+
+def watch_list(plan: Plan, units: str) -> list[dict]:
+    """The card's "Watch for" box: the rider's own critical points in plain words,
+    each with where it happens: where the battery reaches its reserve, where the speed
+    falls to nothing or below balance, where W′ runs out, the fastest descent and the
+    tightest curve."""
+    items = []
+    for w in plan.warnings:
+        if w.code == "battery":
+            items.append(
+                {
+                    "symbol": symbol_of("battery"),
+                    "text": f"battery reaches its reserve near {fmt.distance(w.at, units)}",
+                }
+            )
+        elif w.code == "stall":
+            items.append(
+                {
+                    "symbol": "",
+                    "text": f"the speed falls to zero near {fmt.distance(w.at, units)}: walk or plan more help",
+                }
+            )
+    said = {
+        "walk": "below balance speed, walking may be needed",
+        "crawl": "a long crawl: plan rests",
+        "w-prime": "W′ runs out at the planned effort",
+    }
+    for code, words in said.items():  # one line per kind, naming every climb it concerns
+        rows = [row for row in plan.climbs if code in {w.code for w in row.warnings}]
+        if rows:
+            where = ", ".join(f"{r.number} ({fmt.distance(r.climb.start_distance, units)})" for r in rows)
+            name = "climb" if len(rows) == 1 else "climbs"
+            items.append({"symbol": symbol_of(code), "text": f"{name} {where}: {words}"})
+    if plan.descents:
+        fastest = max(plan.descents, key=lambda d: d.max_speed)
+        items.append(
+            {
+                "symbol": "",
+                "text": f"fastest descent {fastest.number} ({fmt.distance(fastest.descent.start_distance, units)}): "
+                f"up to {fmt.speed(fastest.max_speed, units)}",
+            }
+        )
+    curves = [w for w in plan.warnings if w.code == "curve"]
+    curves += [w for d in plan.descents for w in d.warnings if w.code == "curve"]
+    if curves:
+        tight = min(curves, key=lambda w: w.value("radius"))
+        items.append(
+            {
+                "symbol": symbol_of("curve"),
+                "text": f"tightest curve near {fmt.distance(tight.value('where'), units)}: about "
+                f"{fmt.length(tight.value('radius'), units)} radius, slow to "
+                f"{fmt.speed(tight.value('speed'), units, 'down')}",
+            }
+        )
+    return items
+
+
+def descents_brief(rows, units: str) -> list[str]:
+    """All descents' notes in a few lines (the second condensing step): every curve
+    on them in one line (where, and the slowest speed), and the descents where coasting
+    would pass the vehicle's limit in another."""
+    curves = [w for row in rows for w in row.warnings if w.code == "curve"]
+    fast = [row for row in rows if any(w.code == "fast" for w in row.warnings)]
+    lines = []
+    if curves:
+        slowest = min(w.value("speed") for w in curves)
+        places = ", ".join(fmt.distance(w.value("where"), units) for w in curves)
+        lines.append(
+            f"Curves on the descents at {places}: slow to {fmt.speed(slowest, units, 'down')} or less."
+        )
+    if fast:
+        cap = min(w.value("cap") for row in fast for w in row.warnings if w.code == "fast")
+        numbers = ", ".join(str(row.number) for row in fast)
+        lines.append(f"Descents {numbers}: coasting would pass {fmt.speed(cap, units)}; control the speed.")
+    return lines
+
+
+def descent_brief(row, units: str) -> str:
+    """A descent's notes in one line (the first condensing step): its curves as the
+    slowest speed and where they are, and the speed limit where coasting would pass it."""
+    curves = [w for w in row.warnings if w.code == "curve"]
+    parts = []
+    if curves:
+        slowest = min(w.value("speed") for w in curves)
+        places = ", ".join(fmt.distance(w.value("where"), units) for w in curves)
+        parts.append(
+            f"{len(curves)} curve{'s' if len(curves) > 1 else ''} at {places}: slow to {fmt.speed(slowest, units, 'down')}"
+        )
+    for w in row.warnings:
+        if w.code == "fast":
+            parts.append(f"hold under {fmt.speed(w.value('cap'), units)}")
+        elif w.code not in ("curve", "fast"):
+            parts.append(str(w.code))
+    return "; ".join(parts)
+
+
+_NUMBERED = re.compile(r"^\s*checkpoint\s*\d+\s*[:.\-–]\s*", re.IGNORECASE)
+
+
+def short_name(name: str) -> str:
+    """A checkpoint's name without a leading "Checkpoint 3:" (the card numbers them
+    CP1, CP2, … itself); the name as it is when nothing would be left."""
+    return _NUMBERED.sub("", name) or name
+
+
+def warnings_brief(warnings, units: str, skip=frozenset()) -> list[str]:
+    """The route-wide notices in few lines (the first condensing step): every curve
+    away from the descents in one line (where, and the slowest speed); the others as
+    they are. Codes in ``skip`` are said elsewhere (the "Watch for" box)."""
+    from cardgen.render.notices import notice_text
+
+    curves = [w for w in warnings if w.code == "curve"]
+    lines = [notice_text(w, units) for w in warnings if w.code != "curve" and w.code not in skip]
+    if curves:
+        slowest = min(w.value("speed") for w in curves)
+        places = ", ".join(fmt.distance(w.value("where"), units) for w in curves)
+        lines.append(
+            f"{len(curves)} curve{'s' if len(curves) > 1 else ''} away from the descents, at {places}: "
+            f"slow to {fmt.speed(slowest, units, 'down')} or less"
+        )
+    return lines
+
+
+def cue_rows(plan: Plan) -> list[dict]:
+    """Each cue with the distance to the next (or the finish), the elevation there
+    and the rider's time to it."""
+    terrain = plan.terrain
+    cues = list(plan.cues)
+    rows = []
+    for i, timed in enumerate(cues):
+        following = cues[i + 1].cue.distance if i + 1 < len(cues) else terrain.length
+        rows.append(
+            {
+                "cue": timed.cue,
+                "text": timed.cue.text,
+                "next": max(following - timed.cue.distance, 0.0),
+                "elevation": float(np.interp(timed.cue.distance, terrain.distance, terrain.elevation)),
+                "elapsed": timed.elapsed,
+            }
+        )
+    return rows
 
 
 def _spread(values: list[float]) -> tuple:

@@ -43,7 +43,8 @@ def build_only_fetcher(root: Path):
 
 
 def write_pdf(html: str, base: Path, target: Path) -> list[str]:
-    """Render ``html`` (whose relative links point into ``base``) to ``target``.
+    """Render ``html`` (whose relative links point into ``base``) to ``target``, as a
+    tagged PDF (structure for screen readers; its language and title from the HTML).
 
     Returns the URLs that were refused (nothing is fetched from outside ``base``).
     """
@@ -54,6 +55,47 @@ def write_pdf(html: str, base: Path, target: Path) -> list[str]:
     logging.getLogger("weasyprint").setLevel(logging.ERROR)
     fetcher = build_only_fetcher(base)
     HTML(string=html, base_url=base.resolve().as_uri() + "/", url_fetcher=fetcher).write_pdf(
-        target, pdf_identifier=b"cardgen", uncompressed_pdf=False
+        target, pdf_identifier=b"cardgen", uncompressed_pdf=False, pdf_tags=True
     )
     return fetcher.refused
+
+
+def write_fitting_pdf(variants, base: Path, target: Path, budget: int) -> tuple[int, int]:
+    """Lay out each variant of a card in turn and write the first whose page count
+    is within ``budget`` (the last, the continuation sheet, may take twice the budget);
+    when none fits, the last. Returns (variant index, pages).
+
+    The chosen layout is written as it was measured: the check and the printed card
+    are the same pages.
+    """
+    from weasyprint import HTML
+
+    logging.getLogger("weasyprint").setLevel(logging.ERROR)
+    fetcher = build_only_fetcher(base)
+    url = base.resolve().as_uri() + "/"
+    last = len(variants) - 1
+    for index, html in enumerate(variants):
+        document = HTML(string=html, base_url=url, url_fetcher=fetcher).render(pdf_tags=True)
+        allowed = budget * 2 if index == last else budget
+        if len(document.pages) <= allowed or index == last:
+            pages = len(document.pages)
+            document.write_pdf(target, pdf_identifier=b"cardgen", uncompressed_pdf=False, pdf_tags=True)
+            if index == last and pages % 2:
+                _add_blank_page(target)
+                pages += 1
+            return index, pages
+    raise AssertionError("unreachable: the last variant is always written")
+
+
+def _add_blank_page(target: Path) -> None:
+    """Append one blank page of the last page's size (a card's continuation sheet
+    ends on a back page of its own)."""
+    from pypdf import PdfReader, PdfWriter
+
+    writer = PdfWriter(clone_from=PdfReader(target))
+    box = writer.pages[-1].mediabox
+    writer.add_blank_page(float(box.width), float(box.height))
+    tmp = target.with_name(target.name + ".part")
+    with open(tmp, "wb") as f:
+        writer.write(f)
+    tmp.replace(target)

@@ -22,6 +22,10 @@ from cardgen.render import format as fmt
 MAX_POINTS = 1000
 GRADE_RANGE = 12.0  # [%] the colour scale runs from flat to 12 % up or down
 INK = "#1a1a1a"
+#: Type sizes [pt] of the plots at their printed size: nothing on a card is smaller
+#: than 7.5 pt (arm's length on A5).
+SMALLEST_PT = 7.5
+LABEL_PT = 8.0
 
 
 def _figure(width_in: float, height_in: float):
@@ -88,8 +92,9 @@ def elevation_profile(
     k = text_scale
     from matplotlib import colormaps
     from matplotlib.cm import ScalarMappable
-    from matplotlib.collections import PolyCollection
     from matplotlib.colors import BoundaryNorm
+    from matplotlib.patches import PathPatch
+    from matplotlib.path import Path as MplPath
 
     imperial = units == "imperial"
     x_scale = 1 / fmt.M_PER_MI if imperial else 1 / 1000
@@ -119,14 +124,22 @@ def elevation_profile(
 
     fig = _figure(width_in, height_in)
     ax = fig.add_subplot()
-    # edges in the face colour hide the hairline seams between neighbouring polygons
-    ax.add_collection(PolyCollection(polys, facecolors=colours, edgecolors=colours, linewidths=0.4))
+    # one compound path per grade band (a handful of SVG elements, not one per run: the
+    # renderer's time goes with their number); edges in the face colour hide the
+    # hairline seams between neighbouring runs
+    by_band: dict = {}
+    for poly, colour in zip(polys, colours, strict=True):
+        by_band.setdefault(colour, []).append(MplPath(poly, closed=True))
+    for colour, paths in by_band.items():
+        ax.add_patch(
+            PathPatch(MplPath.make_compound_path(*paths), facecolor=colour, edgecolor=colour, linewidth=0.4)
+        )
     ax.plot(x, y, color=INK, linewidth=0.8)
     ax.set_xlim(x[0], x[-1])
     ax.set_ylim(base, top)
-    ax.set_xlabel("distance (mi)" if imperial else "distance (km)", fontsize=8 * k, color=INK)
-    ax.set_ylabel("elevation (ft)" if imperial else "elevation (m)", fontsize=8 * k, color=INK)
-    ax.tick_params(labelsize=7 * k, colors=INK)
+    ax.set_xlabel("distance (mi)" if imperial else "distance (km)", fontsize=LABEL_PT * k, color=INK)
+    ax.set_ylabel("elevation (ft)" if imperial else "elevation (m)", fontsize=LABEL_PT * k, color=INK)
+    ax.tick_params(labelsize=SMALLEST_PT * k, colors=INK)
     for spine in ("top", "right"):
         ax.spines[spine].set_visible(False)
     for number, climb in enumerate(climbs, 1):
@@ -144,24 +157,24 @@ def elevation_profile(
             color="white",
             bbox={"boxstyle": "circle,pad=0.25", "facecolor": INK, "edgecolor": "none"},
         )
-    for label, where in checkpoints:
+    for number, (_, where) in enumerate(checkpoints, 1):
+        # short, upright labels above the plot; the alt text and tables give the names
         ax.axvline(where * x_scale, color=INK, linewidth=0.7, linestyle=(0, (3, 2)))
         ax.text(
             where * x_scale,
             top,
-            label,
-            rotation=90,
-            fontsize=6 * k,
-            ha="right",
-            va="top",
+            f"CP{number}",
+            fontsize=SMALLEST_PT * k,
+            ha="center",
+            va="bottom",
             color=INK,
             parse_math=False,
         )
     bar = fig.colorbar(
         ScalarMappable(norm=norm, cmap=cmap), ax=ax, pad=0.01, fraction=0.04, ticks=bounds[::2]
     )
-    bar.set_label("grade up or down (%)", fontsize=7 * k, color=INK)
-    bar.ax.tick_params(labelsize=6 * k, colors=INK)
+    bar.set_label("grade up or down (%)", fontsize=SMALLEST_PT * k, color=INK)
+    bar.ax.tick_params(labelsize=SMALLEST_PT * k, colors=INK)
     svg = _svg(fig)
 
     parts = [
@@ -177,7 +190,7 @@ def elevation_profile(
         )
     if checkpoints:
         parts.append(
-            "Checkpoints: "
+            "Checkpoints (CP1, CP2, …): "
             + ", ".join(f"{label} at {fmt.distance(where, units)}" for label, where in checkpoints)
             + "."
         )
@@ -250,3 +263,133 @@ def _literal(label: str) -> str:
     matplotlib, so it gets a zero-width space in front. (Math parsing is switched off
     on every text that shows a name.)"""
     return "\u200b" + label if label.startswith("_") else label
+
+
+def route_map(
+    terrain,
+    climbs,
+    checkpoints=(),
+    units: str = "metric",
+    *,
+    name: str = "",
+    width_in: float = 5.2,
+    height_in: float = 2.6,
+):
+    """Where the route goes, drawn from the track alone (no tiles, no network): the
+    outline on a local plane (equirectangular about the route's mean latitude, true to
+    scale within about 0.1 % over a few tens of km; Snyder 1987, §12), start (circle)
+    and finish (square), arrows in the direction of travel, checkpoints (CP1, …),
+    climb numbers at their feet, a scale bar and a north arrow. Ink and greys only, so
+    it reads in black and white and for colour-blind readers. Returns (svg, alt text).
+    """
+    import math
+
+    from cardgen.route.geodesy import local_plane
+
+    lat0 = float(np.radians(np.mean(terrain.lat)))
+    lon = np.degrees(np.unwrap(np.radians(terrain.lon)))
+    xy = local_plane(terrain.lat, lon, lat0)
+    xy -= xy.mean(axis=0)
+    step = max(1, xy.shape[0] // (4 * MAX_POINTS))
+    x, y = xy[::step, 0], xy[::step, 1]
+    d = terrain.distance[::step]
+    fig = _figure(width_in, height_in)
+    ax = fig.add_axes((0.0, 0.0, 1.0, 1.0))
+    ax.set_aspect("equal")
+    ax.axis("off")
+    ax.plot(x, y, color="#8c8c8c", linewidth=3.2, solid_capstyle="round")
+    ax.plot(x, y, color=INK, linewidth=1.0)
+
+    def at(distance):
+        return float(np.interp(distance, d, x)), float(np.interp(distance, d, y))
+
+    length = float(terrain.length)
+    for share in (1 / 6, 2 / 6, 3 / 6, 4 / 6, 5 / 6):  # direction of travel
+        a, b = at(share * length), at(share * length + max(length / 200, 20.0))
+        ax.annotate(
+            "",
+            xy=b,
+            xytext=a,
+            arrowprops={"arrowstyle": "-|>", "color": INK, "lw": 1.0, "mutation_scale": 12},
+        )
+    sx, sy = at(0.0)
+    fx, fy = at(length)
+    ax.plot([sx], [sy], marker="o", markersize=11, color=INK, markerfacecolor="white", markeredgewidth=1.6)
+    ax.plot([fx], [fy], marker="s", markersize=5, color=INK)
+    for number, climb in enumerate(climbs, 1):
+        cx, cy = at(climb.start_distance)
+        ax.annotate(
+            str(number),
+            (cx, cy),
+            fontsize=SMALLEST_PT,
+            fontweight="bold",
+            color="white",
+            ha="center",
+            va="center",
+            bbox={"boxstyle": "circle,pad=0.2", "facecolor": INK, "edgecolor": "none"},
+        )
+    for number, (_, where) in enumerate(checkpoints, 1):
+        cx, cy = at(where)
+        ax.plot([cx], [cy], marker="^", markersize=7, color=INK, markerfacecolor="white", markeredgewidth=1.2)
+        ax.annotate(
+            f"CP{number}",
+            (cx, cy),
+            xytext=(5, 4),
+            textcoords="offset points",
+            fontsize=SMALLEST_PT,
+            color=INK,
+            parse_math=False,
+            bbox={"boxstyle": "square,pad=0.1", "facecolor": "white", "edgecolor": "none", "alpha": 0.8},
+        )
+    # room around the route, then a scale bar of a round length and a north arrow
+    span_x, span_y = float(np.ptp(x)) or 100.0, float(np.ptp(y)) or 100.0
+    pad = 0.12 * max(span_x, span_y)
+    ax.set_xlim(x.min() - pad, x.max() + pad)
+    ax.set_ylim(y.min() - pad, y.max() + pad)
+    unit = fmt.M_PER_MI if units == "imperial" else 1000.0
+    target = 0.25 * span_x / unit
+    nice = max(
+        (v for v in (0.1, 0.2, 0.25, 0.5, 1, 2, 5, 10, 20, 25, 50, 100, 200) if v <= max(target, 0.1)),
+        default=0.1,
+    )
+    bar = nice * unit
+    x0, y0 = x.min() - pad * 0.6, y.min() - pad * 0.6
+    ax.plot([x0, x0 + bar], [y0, y0], color=INK, linewidth=2.0, solid_capstyle="butt")
+    label = f"{nice:g} {'mi' if units == 'imperial' else 'km'}"
+    ax.text(x0 + bar / 2, y0, label, fontsize=SMALLEST_PT, ha="center", va="bottom", color=INK)
+    nx, ny = x.max() + pad * 0.6, y.max() + pad * 0.2
+    ax.annotate(
+        "N",
+        xy=(nx, ny),
+        xytext=(nx, ny - 0.35 * pad),
+        ha="center",
+        va="top",
+        fontsize=LABEL_PT,
+        fontweight="bold",
+        color=INK,
+        arrowprops={"arrowstyle": "-|>", "color": INK, "lw": 1.2},
+    )
+    svg = _svg(fig)
+    heading = math.degrees(math.atan2(fx - sx, fy - sy)) % 360
+    closed = math.hypot(fx - sx, fy - sy) < 0.02 * max(span_x, span_y, 1.0)
+    parts = [
+        f"Map{' of ' + name if name else ''}: {fmt.distance(length, units)}, about "
+        f"{fmt.distance(span_x, units)} east to west and {fmt.distance(span_y, units)} north to south; "
+        + (
+            "a loop that finishes where it starts."
+            if closed
+            else f"the finish lies to the {_compass(heading)} of the start."
+        )
+    ]
+    if checkpoints:
+        parts.append(
+            f"{len(checkpoints)} checkpoint{'s' if len(checkpoints) != 1 else ''} marked CP1 onwards."
+        )
+    if climbs:
+        parts.append(f"Climbs numbered at their feet, 1 to {len(climbs)}.")
+    return svg, " ".join(parts)
+
+
+def _compass(degrees: float) -> str:
+    names = ("north", "north-east", "east", "south-east", "south", "south-west", "west", "north-west")
+    return names[int(((degrees % 360) + 22.5) // 45) % 8]
