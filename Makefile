@@ -48,5 +48,9 @@ bench: $(VENV)/installed
 	$(BIN)/python bench/bench_ride.py
 	$(BIN)/python bench/bench_build.py
 
+# The pictures in docs/, drawn from the demo by scripts/make_docs.py.
+docs: system $(VENV)/installed
+	$(BIN)/python scripts/make_docs.py
+
 clean:
 	rm -rf $(VENV) build *.egg-info site
