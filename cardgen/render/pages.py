@@ -309,6 +309,7 @@ def _render_route(config, site: dict, job: RouteJob, folder: Path) -> tuple[dict
             riders=views,
             overview=route_overview(job, views),
             profile_alt=figures["profile_alt"],
+            map_alt=figures["map_alt"],
             power_svg=figures["power_svg"],
             power_alt=figures["power_alt"],
             windows=windows,

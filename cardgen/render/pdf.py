@@ -10,6 +10,7 @@ from __future__ import annotations
 import logging
 import mimetypes
 from pathlib import Path
+from typing import Any
 from urllib.parse import urlsplit
 from urllib.request import url2pathname
 
@@ -61,12 +62,13 @@ def write_pdf(html: str, base: Path, target: Path) -> list[str]:
 
 
 def write_fitting_pdf(variants, base: Path, target: Path, budget: int) -> tuple[int, int]:
-    """Lay out each variant of a card in turn and write the first whose page count
-    is within ``budget`` (the last, the continuation sheet, may take twice the budget);
-    when none fits, the last. Returns (variant index, pages).
+    """Write the least condensed variant of a card whose layout is within ``budget``
+    pages; when none of them fits, the last (the cue sheet on a continuation sheet:
+    up to twice the budget, padded to whole sheets). Returns (variant index, pages).
 
-    The chosen layout is written as it was measured: the check and the printed card
-    are the same pages.
+    Condensing never adds pages, so the variants are searched by halving: at most
+    three layouts for five variants. The layout written is the one measured: the
+    check and the printed card are the same pages.
     """
     from weasyprint import HTML
 
@@ -74,17 +76,32 @@ def write_fitting_pdf(variants, base: Path, target: Path, budget: int) -> tuple[
     fetcher = build_only_fetcher(base)
     url = base.resolve().as_uri() + "/"
     last = len(variants) - 1
-    for index, html in enumerate(variants):
-        document = HTML(string=html, base_url=url, url_fetcher=fetcher).render(pdf_tags=True)
-        allowed = budget * 2 if index == last else budget
-        if len(document.pages) <= allowed or index == last:
-            pages = len(document.pages)
-            document.write_pdf(target, pdf_identifier=b"cardgen", uncompressed_pdf=False, pdf_tags=True)
-            if index == last and pages % 2:
-                _add_blank_page(target)
-                pages += 1
-            return index, pages
-    raise AssertionError("unreachable: the last variant is always written")
+    laid: dict[int, Any] = {}
+
+    def layout(index: int):
+        if index not in laid:
+            laid[index] = HTML(string=variants[index], base_url=url, url_fetcher=fetcher).render(
+                pdf_tags=True
+            )
+        return laid[index]
+
+    def fits(index: int) -> bool:
+        return len(layout(index).pages) <= budget
+
+    lo, hi = 0, last  # the answer lies in lo..hi; the last variant is always taken
+    while lo < hi:
+        mid = (lo + hi) // 2
+        if fits(mid):
+            hi = mid
+        else:
+            lo = mid + 1
+    document = layout(lo)
+    pages = len(document.pages)
+    document.write_pdf(target, pdf_identifier=b"cardgen", uncompressed_pdf=False, pdf_tags=True)
+    if lo == last and pages % 2:  # the continuation is a whole sheet: end on a back page
+        _add_blank_page(target)
+        pages += 1
+    return lo, pages
 
 
 def _add_blank_page(target: Path) -> None:
