@@ -98,6 +98,9 @@ SCHEMA = {
         "start": Spec("time", help='this route\'s own first start, like "09:00"'),
         "stop_min": Spec("number", default=0.0, limit="stop_min", help="planned stop at each checkpoint"),
         "stops_min": Spec("list", help="planned stop at each of the checkpoints listed, in minutes"),
+        "cue_texts": Spec(
+            "list", help='the organiser\'s words for cues, like ["12.1 = Left at the old mill"] (km = text)'
+        ),
     },
     "waves": {
         "name": Spec("str", required=True, help="the wave's name"),
@@ -143,6 +146,7 @@ class RouteConfig:
     start: time | None = None  # this route's own first start
     stop: float = 0.0  # [s] planned stop at each checkpoint
     stops: tuple[float, ...] = ()  # [s] planned stop at each checkpoint listed, in order
+    cue_texts: tuple[tuple[float, str], ...] = ()  # (where [m], the organiser's words)
 
 
 @dataclass(frozen=True)
@@ -408,6 +412,7 @@ def _from_data(data: dict, path: Path | None, text: str, folder: Path) -> SiteCo
             r["start"],
             r["stop_min"] * 60.0,
             _stops(check, i, r),
+            _cue_texts(check, i, r),
         )
         for i, r in enumerate(routes)
         if r["gpx"] is not None
@@ -575,6 +580,25 @@ def _stops(check: _Checker, index: int, route: dict) -> tuple[float, ...]:
         )
         return ()
     return tuple(float(x) * 60.0 for x in raw)
+
+
+def _cue_texts(check: _Checker, index: int, route: dict) -> tuple[tuple[float, str], ...]:
+    """``cue_texts`` of one route: entries "km = text", distance in km."""
+    out = []
+    for entry in route.get("cue_texts") or ():
+        km, sep, text = str(entry).partition("=")
+        try:
+            where = float(km.strip().removesuffix("km").strip()) * 1000.0
+        except ValueError:
+            where = -1.0
+        if not sep or where < 0 or not text.strip():
+            check.problems.append(
+                f'{check.where("routes", index, "cue_texts")}: {str(entry)[:60]!r} is not like "12.1 = Left at the '
+                'old mill" (the cue\'s distance in km, "=", the words)'
+            )
+            continue
+        out.append((where, text.strip()[:200]))
+    return tuple(out)
 
 
 def _speed_rule(check: _Checker, event: dict) -> tuple[float, float] | None:

@@ -253,3 +253,30 @@ def test_group_spread_and_regroup_wait_by_hand():
         assert row["wait"] == pytest.approx(max(legs) - min(legs))
         assert row["first"] == start + timedelta(seconds=min(at))
         before = at
+
+
+def test_the_organisers_cue_texts_replace_the_gpxs(tmp_path):
+    route = STOPS.replace(
+        "stops_min = [5, 30, 0]\n", 'cue_texts = ["6.2 = Left at the chapel, then climb"]\n'
+    )
+    config = _with(tmp_path, route)
+    out = tmp_path / "site"
+    assert main(["build", str(config.source), "-o", str(out), "--no-pdf", "--jobs", "1"]) == 0
+    data = json.loads((out / "day-ride" / "plan.json").read_text())
+    texts = [c["text"] for c in data["plans"][0]["cues"]]
+    assert texts.count("Left at the chapel, then climb") == 1 and "turn right" in texts  # only that one changed
+    assert "Left at the chapel, then climb" in (out / "day-ride" / "index.html").read_text()
+
+
+@pytest.mark.parametrize(
+    "entry, message",
+    [("6.2 Left at the chapel", "is not like"), ("50.0 = Nowhere", "no cue within 150 m of 50 km")],
+)
+def test_cue_text_mistakes_are_named(tmp_path, capsys, entry, message):
+    route = STOPS.replace("stops_min = [5, 30, 0]\n", f'cue_texts = ["{entry}"]\n')
+    shutil.copy(SAMPLES / "day-ride.gpx", tmp_path)
+    (tmp_path / "site.toml").write_text(
+        SITE.replace('[[routes]]\ngpx = "day-ride.gpx"\n', route), encoding="utf-8"
+    )
+    assert main(["build", str(tmp_path / "site.toml"), "-o", str(tmp_path / "out"), "--no-pdf"]) == 1
+    assert message in capsys.readouterr().err

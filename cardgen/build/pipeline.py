@@ -10,6 +10,7 @@ route whose inputs did not change, and skip the whole build when nothing did.
 from __future__ import annotations
 
 import contextlib
+import dataclasses
 import os
 import re
 import shutil
@@ -107,6 +108,7 @@ def _plan_route(task):
     from cardgen.plan import analyse, make_plan
     from cardgen.render.pages import Entry, RouteJob
     from cardgen.route.checkpoints import resolve_checkpoints
+    from cardgen.route.cues import apply_cue_texts
     from cardgen.route.gpx import read_gpx
     from cardgen.route.terrain import build_terrain
 
@@ -115,6 +117,10 @@ def _plan_route(task):
     try:
         track = read_gpx(rc.gpx)
         analysis = analyse(track, build_terrain(track))
+        if rc.cue_texts:  # the organiser's words in place of the GPX's
+            analysis = dataclasses.replace(
+                analysis, cues=apply_cue_texts(analysis.cues, rc.cue_texts, str(rc.gpx))
+            )
         checkpoints = resolve_checkpoints(
             rc.checkpoints, track, analysis.terrain, str(rc.gpx), stops=rc.stops, stop=rc.stop
         )

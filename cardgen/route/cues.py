@@ -2,12 +2,14 @@
 
 from __future__ import annotations
 
+import dataclasses
 from collections.abc import Sequence
 from dataclasses import dataclass
 from typing import Any
 
 import numpy as np
 
+from cardgen.errors import ConfigError
 from cardgen.route.geodesy import course, local_plane
 from cardgen.route.gpx import Track
 from cardgen.route.terrain import Terrain
@@ -152,3 +154,32 @@ def cue_sheet(terrain: Terrain, track: Track) -> tuple[list[Cue], list[str]]:
     ]
     cues = sorted(turns + wpts + rpts, key=lambda c: c.distance)
     return cues, warnings
+
+
+#: An organiser's cue text applies to the cue within this distance [m] of where it
+#: says.
+CUE_TEXT_REACH = 150.0
+
+
+def apply_cue_texts(cues: Sequence[Cue], texts: Sequence[tuple[float, str]], where: str) -> tuple[Cue, ...]:
+    """The cues with the organiser's words in place of the GPX's for each (distance
+    [m], text) given: the nearest cue within :data:`CUE_TEXT_REACH`.
+
+    Raises ConfigError naming ``where`` (the GPX file) for a distance with no cue near.
+    """
+    out = list(cues)
+    problems = []
+    for distance, text in texts:
+        near = [i for i, c in enumerate(out) if abs(c.distance - distance) <= CUE_TEXT_REACH]
+        if not near:
+            around = sorted(out, key=lambda c: abs(c.distance - distance))[:3]
+            problems.append(
+                f"cue_texts: no cue within {CUE_TEXT_REACH:.0f} m of {distance / 1000:g} km; the nearest are at "
+                + ", ".join(f"{c.distance / 1000:.1f} km ({c.text})" for c in around)
+            )
+            continue
+        i = min(near, key=lambda j: abs(out[j].distance - distance))
+        out[i] = dataclasses.replace(out[i], text=text)
+    if problems:
+        raise ConfigError(f"{where}: " + "; ".join(problems))
+    return tuple(out)
