@@ -52,16 +52,17 @@ def _chromium():
     return shutil.which("chromium") or shutil.which("chromium-browser")
 
 
-def _widths(page: Path, width: int, profile: Path) -> tuple[int, int]:
-    """scrollWidth and clientWidth of ``page`` shown in a frame ``width`` px wide
-    (a frame, because headless Chromium will not make its window narrower than 500 px)."""
+def _in_frame(page: Path, width: int, profile: Path, script: str) -> str:
+    """Show ``page`` in a frame ``width`` px wide (a frame, because headless Chromium
+    will not make its window narrower than 500 px), run ``script`` once it has loaded
+    (``d`` is its document) and return what the script put in ``data-out``."""
     harness = page.parent / ".harness.html"
     harness.write_text(
         f'<!DOCTYPE html><body style="margin:0"><iframe id="f" src="{page.name}" '
         f'style="width:{width}px;height:800px;border:0"></iframe><script>'
         'document.getElementById("f").addEventListener("load",function(){'
-        "var e=this.contentDocument.documentElement;"
-        'document.body.setAttribute("data-sw",e.scrollWidth+"/"+e.clientWidth)});</script>',
+        f"var d=this.contentDocument;var out=(function(){{{script}}})();"
+        'document.body.setAttribute("data-out",out)});</script>',
         encoding="utf-8",
     )
     try:
@@ -87,7 +88,13 @@ def _widths(page: Path, width: int, profile: Path) -> tuple[int, int]:
         ).stdout
     finally:
         harness.unlink()
-    scroll, client = dom.split('data-sw="')[1].split('"')[0].split("/")
+    return dom.split('data-out="')[1].split('"')[0]
+
+
+def _widths(page: Path, width: int, profile: Path) -> tuple[int, int]:
+    """scrollWidth and clientWidth of ``page`` at ``width`` px."""
+    out = _in_frame(page, width, profile, 'var e=d.documentElement;return e.scrollWidth+"/"+e.clientWidth;')
+    scroll, client = out.split("/")
     return int(scroll), int(client)
 
 
@@ -98,3 +105,20 @@ def test_no_page_scrolls_sideways(big_site, page, width, tmp_path):
     scroll, client = _widths(big_site / page, width, tmp_path / "profile")
     assert client > 0.8 * width
     assert scroll <= client
+
+
+@pytest.mark.skipif(_chromium() is None, reason="Chromium is not installed (Debian package 'chromium')")
+def test_the_search_box_filters_the_riders(big_site, tmp_path):
+    """The page's own script, run in Chromium: typing a bib leaves that rider's row;
+    typing a vehicle leaves that vehicle's riders; clearing the box shows all."""
+    page = big_site / "hill-loop" / "index.html"
+    script = (
+        'var box=d.getElementById("find");var rows=d.querySelectorAll("#rider-table tbody tr");'
+        "function shown(){var n=0;rows.forEach(function(r){if(!r.hidden)n++;});return n;}"
+        "function type(t){box.value=t;box.dispatchEvent(new Event('input'));return shown();}"
+        'return [box.parentNode.hidden, type("1007"), type("handcycle"), type("")].join("/");'
+    )
+    hidden, one, vehicle, everyone = _in_frame(page, 1200, tmp_path / "profile", script).split("/")
+    assert hidden == "false"  # the script shows the box
+    assert int(one) == 1 and int(everyone) == RIDERS
+    assert int(vehicle) == RIDERS // len(VEHICLES)  # every sixth entrant rides a handcycle
