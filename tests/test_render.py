@@ -291,3 +291,42 @@ def test_cards_and_coach_sheets_are_tagged_pdfs_with_language_and_title(demo_sit
         assert re.search(r"^Tagged:\s+yes$", info, re.M), pdf
         assert re.search(r"^Title:\s+\S", info, re.M), pdf
         assert PdfReader(pdf).trailer["/Root"]["/Lang"] == "en", pdf
+
+
+@needs_poppler
+def test_profile_bands_read_in_greyscale_print(tmp_path):
+    """The profile printed in greyscale (WeasyPrint to PDF, poppler's pdftoppm -gray):
+    along a row just above the base of the fill, the grey of the 0, 3, 7 and 11 %
+    stretches darkens in that order."""
+    from types import SimpleNamespace
+
+    from matplotlib.image import imread
+
+    from cardgen.render import plots
+    from cardgen.render.pdf import write_pdf
+
+    d = np.arange(0.0, 6001.0, 10.0)
+    grade = np.select([d < 1500, d < 3000, d < 4500], [0.0, 0.03, 0.07], 0.11)
+    e = 100 + np.concatenate(([0.0], np.cumsum(grade[:-1] * 10.0)))
+    terrain = SimpleNamespace(distance=d, elevation=e, length=float(d[-1]), gain=0.0, loss=0.0)
+    svg, _ = plots.elevation_profile(terrain, [], width_in=5.0, height_in=2.0)
+    (tmp_path / "p.svg").write_text(svg, encoding="utf-8")
+    write_pdf('<img src="p.svg" style="width: 120mm">', tmp_path, tmp_path / "p.pdf")
+    subprocess.run(
+        ["pdftoppm", "-gray", "-png", "-r", "100", str(tmp_path / "p.pdf"), str(tmp_path / "g")], check=True
+    )
+    image = imread(next(tmp_path.glob("g*.png")))
+    grey = image if image.ndim == 2 else image[..., 0]
+    # the fill's lowest rows: the last rows (from the top) where most of a long run is
+    # neither white nor the black axis
+    filled = (grey < 0.97) & (grey > 0.15)
+    rows = [r for r in range(grey.shape[0]) if filled[r].sum() > 0.5 * filled.sum(axis=1).max()]
+    row = grey[rows[-3]]
+    cols = np.flatnonzero(filled[rows[-3]])
+    values = row[cols[0] : cols[-1] + 1]
+    # the four stretches are equal in length: sample the middle of each quarter
+    quarters = [
+        float(np.median(values[int(len(values) * (q + 0.35) / 4) : int(len(values) * (q + 0.65) / 4)]))
+        for q in range(4)
+    ]
+    assert quarters == sorted(quarters, reverse=True) and quarters[0] - quarters[3] > 0.3, quarters
