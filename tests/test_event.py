@@ -264,7 +264,9 @@ def test_the_organisers_cue_texts_replace_the_gpxs(tmp_path):
     assert main(["build", str(config.source), "-o", str(out), "--no-pdf", "--jobs", "1"]) == 0
     data = json.loads((out / "day-ride" / "plan.json").read_text())
     texts = [c["text"] for c in data["plans"][0]["cues"]]
-    assert texts.count("Left at the chapel, then climb") == 1 and "turn right" in texts  # only that one changed
+    assert (
+        texts.count("Left at the chapel, then climb") == 1 and "turn right" in texts
+    )  # only that one changed
     assert "Left at the chapel, then climb" in (out / "day-ride" / "index.html").read_text()
 
 
