@@ -36,9 +36,10 @@ class PackEntry:
 
 
 def _pages(path: Path) -> int:
-    from pypdf import PdfReader
+    import pikepdf
 
-    return len(PdfReader(path).pages)
+    with pikepdf.open(path) as pdf:
+        return len(pdf.pages)
 
 
 def make_pack(
@@ -48,35 +49,38 @@ def make_pack(
 
     ``cover_html(rows)`` renders the cover for rows of (entry, first page) to HTML;
     the cover is rendered once, and again if its own length moved the page numbers.
-    Returns the first page of each card.
+    Returns the first page of each card. The cards' pages are copied by qpdf
+    (pikepdf), which neither parses their content nor their tagging.
     """
-    from pypdf import PdfReader, PdfWriter
+    import pikepdf
 
     from cardgen.render.pdf import write_pdf
 
-    counts = [_pages(e.pdf) for e in entries]
-    cover_pages, cover = 2, base / ".cover.pdf"
-    for _ in range(3):
-        firsts, page = [], cover_pages + 1
-        for n in counts:
-            firsts.append(page)
-            page += n + n % 2
-        write_pdf(cover_html(list(zip(entries, firsts, strict=True))), base, cover)
-        length = _pages(cover)
-        if length + length % 2 == cover_pages:
-            break
-        cover_pages = length + length % 2
-    writer = PdfWriter()
-    for path in [cover, *(e.pdf for e in entries)]:
-        reader = PdfReader(path)
-        for p in reader.pages:
-            writer.add_page(p)
-        if len(reader.pages) % 2:
-            writer.add_blank_page(*page_size)
-    writer.add_metadata({"/Title": target.stem})
-    with open(target, "wb") as f:
-        writer.write(f)
-    cover.unlink()
+    opened = [pikepdf.open(e.pdf) for e in entries]
+    try:
+        counts = [len(pdf.pages) for pdf in opened]
+        cover_pages, cover = 2, base / ".cover.pdf"
+        for _ in range(3):
+            firsts, page = [], cover_pages + 1
+            for n in counts:
+                firsts.append(page)
+                page += n + n % 2
+            write_pdf(cover_html(list(zip(entries, firsts, strict=True))), base, cover)
+            length = _pages(cover)
+            if length + length % 2 == cover_pages:
+                break
+            cover_pages = length + length % 2
+        with pikepdf.open(cover) as front, pikepdf.new() as pack:
+            for source in [front, *opened]:
+                pack.pages.extend(source.pages)
+                if len(source.pages) % 2:
+                    pack.add_blank_page(page_size=page_size)
+            pack.docinfo["/Title"] = target.stem
+            pack.save(target, deterministic_id=True)
+        cover.unlink()
+    finally:
+        for pdf in opened:
+            pdf.close()
     return firsts
 
 
@@ -85,74 +89,34 @@ def impose_two_up(pack: Path, target: Path, card_firsts: Sequence[int]) -> None:
     the module notes). ``card_firsts`` are the 1-based first pages of the cards; the
     cover (the pages before the first card) is paired like a card.
 
-    Each A5 page becomes a form XObject drawn at its place on the sheet (ISO 32000-1
-    §8.10), so its content is copied, not parsed: a few milliseconds a page."""
-    from pypdf import PdfReader, PdfWriter
+    Each A5 page is drawn on its sheet as a form XObject (ISO 32000-1 §8.10), so its
+    content is copied, not parsed."""
+    import pikepdf
 
-    reader = PdfReader(pack)
-    total = len(reader.pages)
-    starts = [1, *card_firsts]
-    spans = [
-        list(range(a - 1, b - 1)) for a, b in zip(starts, [*starts[1:], total + 1], strict=True) if b > a
-    ]
-    writer = PdfWriter()
-    forms: dict[int, object] = {}
-
-    def form(index: int):
-        if index not in forms:
-            forms[index] = _form(writer, reader.pages[index])
-        return forms[index]
-
-    for left, right in zip(spans[::2], [*spans[1::2], []], strict=False):
-        length = max(len(left), len(right))
-        for i in range(length + length % 2):
-            a = left[i] if i < len(left) else None
-            b = right[i] if i < len(right) else None
-            order = (a, b) if i % 2 == 0 else (b, a)  # a long-edge flip swaps left and right
-            _sheet(writer, [(slot, form(index)) for slot, index in enumerate(order) if index is not None])
-    writer.add_metadata({"/Title": target.stem})
-    with open(target, "wb") as f:
-        writer.write(f)
-
-
-def _form(writer, page):
-    """A page of another PDF as a form XObject in ``writer``."""
-    from pypdf.generic import ArrayObject, DecodedStreamObject, DictionaryObject, FloatObject, NameObject
-
-    contents = page.get_contents()
-    stream = DecodedStreamObject()
-    stream.set_data(contents.get_data() if contents is not None else b"")
-    resources = page.get("/Resources")
-    stream.update(
-        {
-            NameObject("/Type"): NameObject("/XObject"),
-            NameObject("/Subtype"): NameObject("/Form"),
-            NameObject("/BBox"): ArrayObject([FloatObject(float(x)) for x in page.mediabox]),
-            NameObject("/Resources"): resources.get_object().clone(writer)
-            if resources is not None
-            else DictionaryObject(),
-        }
-    )
-    return writer._add_object(stream)
-
-
-def _sheet(writer, placed) -> None:
-    """An A4 landscape sheet drawing each (slot, form) at slot 0 (left) or 1 (right),
-    with the cut marks."""
-    from pypdf import PageObject
-    from pypdf.generic import DecodedStreamObject, DictionaryObject, NameObject
-
-    width, height = A4_LANDSCAPE
-    x = width / 2
-    ops = [f"q 1 0 0 1 {slot * A5[0]:.2f} 0 cm /P{slot} Do Q" for slot, _ in placed]
-    ops.append(
-        f"q 0.5 w 0 G {x:.2f} 0 m {x:.2f} {MARK:.2f} l S {x:.2f} {height - MARK:.2f} m {x:.2f} {height:.2f} l S Q"
-    )
-    content = DecodedStreamObject()
-    content.set_data(" ".join(ops).encode("ascii"))
-    sheet = PageObject.create_blank_page(width=width, height=height)
-    sheet[NameObject("/Resources")] = DictionaryObject(
-        {NameObject("/XObject"): DictionaryObject({NameObject(f"/P{slot}"): ref for slot, ref in placed})}
-    )
-    sheet[NameObject("/Contents")] = writer._add_object(content)
-    writer.add_page(sheet)
+    with pikepdf.open(pack) as source, pikepdf.new() as out:
+        total = len(source.pages)
+        starts = [1, *card_firsts]
+        spans = [
+            list(range(a - 1, b - 1)) for a, b in zip(starts, [*starts[1:], total + 1], strict=True) if b > a
+        ]
+        width, height = A4_LANDSCAPE
+        for left, right in zip(spans[::2], [*spans[1::2], []], strict=False):
+            length = max(len(left), len(right))
+            for i in range(length + length % 2):
+                a = left[i] if i < len(left) else None
+                b = right[i] if i < len(right) else None
+                order = (a, b) if i % 2 == 0 else (b, a)  # a long-edge flip swaps left and right
+                sheet = out.add_blank_page(page_size=(width, height))
+                forms, ops = pikepdf.Dictionary(), []
+                for slot, index in enumerate(order):
+                    if index is not None:  # fixed names, so the same input gives the same bytes
+                        forms[f"/P{slot}"] = out.copy_foreign(source.pages[index].as_form_xobject())
+                        ops.append(f"q 1 0 0 1 {slot * A5[0]:.2f} 0 cm /P{slot} Do Q")
+                ops.append(
+                    f"q 0.5 w 0 G {width / 2:.2f} 0 m {width / 2:.2f} {MARK:.2f} l S "
+                    f"{width / 2:.2f} {height - MARK:.2f} m {width / 2:.2f} {height:.2f} l S Q"
+                )
+                sheet.obj.Resources = pikepdf.Dictionary(XObject=forms)
+                sheet.obj.Contents = out.make_stream(" ".join(ops).encode("ascii"))
+        out.docinfo["/Title"] = target.stem
+        out.save(target, deterministic_id=True)

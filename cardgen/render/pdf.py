@@ -107,12 +107,9 @@ def write_fitting_pdf(variants, base: Path, target: Path, budget: int) -> tuple[
 def _add_blank_page(target: Path) -> None:
     """Append one blank page of the last page's size (a card's continuation sheet
     ends on a back page of its own)."""
-    from pypdf import PdfReader, PdfWriter
+    import pikepdf
 
-    writer = PdfWriter(clone_from=PdfReader(target))
-    box = writer.pages[-1].mediabox
-    writer.add_blank_page(float(box.width), float(box.height))
-    tmp = target.with_name(target.name + ".part")
-    with open(tmp, "wb") as f:
-        writer.write(f)
-    tmp.replace(target)
+    with pikepdf.open(target, allow_overwriting_input=True) as pdf:
+        box = pdf.pages[-1].mediabox
+        pdf.add_blank_page(page_size=(float(box[2]) - float(box[0]), float(box[3]) - float(box[1])))
+        pdf.save(target, deterministic_id=True)
