@@ -135,3 +135,21 @@ def test_coach_sheet_groups_riders_eight_to_a_page_in_start_order(tmp_path):
     assert [h.split(": riders ")[1] for h in heads] == ["1–8 of 20", "9–16 of 20", "17–20 of 20"]
     # Rider 19 starts first (08:00), Rider 00 last
     assert pages[0].index("Rider 19") < pages[0].index("Rider 18") and "Rider 00" in pages[2]
+
+
+@pytest.mark.slow
+def test_many_cards_render_in_fresh_batches_and_all_arrive(tmp_path):
+    """More cards than one worker makes (CARDS_PER_WORKER): every card is rendered,
+    once, and the pack holds them all."""
+    from cardgen.build.pipeline import CARDS_PER_WORKER
+
+    shutil.copy(SAMPLES / "riverside-loop.gpx", tmp_path)
+    count = CARDS_PER_WORKER + 5
+    riders = "".join(f'[[riders]]\nname = "R{i:02d}"\nvehicle = "city-upright"\n' for i in range(count))
+    (tmp_path / "site.toml").write_text('[[routes]]\ngpx = "riverside-loop.gpx"\n' + riders, encoding="utf-8")
+    report = build_site(load_config(tmp_path / "site.toml"), out=tmp_path / "site", jobs=1)
+    assert report.cards_rendered == count + 1  # and the coach sheet
+    cards = [p for p in (tmp_path / "site" / "riverside-loop").glob("r*.pdf")]
+    assert len(cards) == count and all(_pages(p) >= 2 for p in cards)
+    pack = PdfReader(tmp_path / "site" / "riverside-loop" / "all-cards.pdf")
+    assert sum("page 1 of" in p.extract_text() for p in pack.pages) == count

@@ -79,6 +79,10 @@ def build_site(
         return _build_locked(config, out, jobs, pdf, keep_going, say, progress, report)
 
 
+#: Cards one worker process renders before it is replaced (bounds its memory).
+CARDS_PER_WORKER = 40
+
+
 def _pool(jobs: int, tasks: int):
     """A process pool when it pays (jobs > 1 and more than one task), else a stand-in
     that runs in this process."""
@@ -260,7 +264,7 @@ def _build_locked(config, out, jobs, pdf, keep_going, say, progress, report):
     published = False
     try:
         with _pool(jobs, len(routes) + 1) as pool:
-            manifest = _render(config, routes, old, out, tmp, pool, pdf, progress, report, reusable)
+            manifest = _render(config, routes, old, out, tmp, pool, pdf, progress, report, reusable, jobs)
         manifest["site_key"] = site_key if not failures else ""
         write_manifest(tmp, manifest)
         publish(tmp, out)
@@ -277,7 +281,32 @@ def _build_locked(config, out, jobs, pdf, keep_going, say, progress, report):
     return report
 
 
-def _render(config, routes, old, out, tmp, pool, pdf, progress, report, reusable) -> dict:
+def _render_cards(pool, cards: list, jobs: int, tmp: Path, progress) -> None:
+    """Render the cards' PDFs, in the pool (or this process) for a few; for many, in
+    fresh worker processes for every batch: the renderer's memory grows with the cards
+    a process has made (over 1 GB after 150), so no process makes more than
+    :data:`CARDS_PER_WORKER`."""
+    done = 0
+
+    def tick(target: str) -> None:
+        nonlocal done
+        done += 1
+        if progress:
+            progress(done, len(cards), Path(target).relative_to(tmp).as_posix())
+
+    if len(cards) <= CARDS_PER_WORKER:
+        for target in _map(pool, _render_pdf, cards, "a card-rendering process"):
+            tick(target)
+        return
+    workers = max(1, jobs)
+    for start in range(0, len(cards), CARDS_PER_WORKER * workers):
+        batch = cards[start : start + CARDS_PER_WORKER * workers]
+        with ProcessPoolExecutor(max_workers=min(workers, len(batch))) as fresh:
+            for target in _map(fresh, _render_pdf, batch, "a card-rendering process"):
+                tick(target)
+
+
+def _render(config, routes, old, out, tmp, pool, pdf, progress, report, reusable, jobs=1) -> dict:
     from cardgen.render.pages import built_stamp, render_index, render_packs, site_context
 
     site = site_context(config, built_stamp(os.environ.get("SOURCE_DATE_EPOCH")))
@@ -320,9 +349,7 @@ def _render(config, routes, old, out, tmp, pool, pdf, progress, report, reusable
     report.seconds["html"] = time.perf_counter() - t_render
 
     t_pdf = time.perf_counter()
-    for done, target in enumerate(_map(pool, _render_pdf, cards, "a card-rendering process"), 1):
-        if progress:
-            progress(done, len(cards), Path(target).relative_to(tmp).as_posix())
+    _render_cards(pool, cards, jobs, tmp, progress)
     report.cards_rendered = len(cards)
     report.seconds["pdf"] = time.perf_counter() - t_pdf
 
