@@ -129,8 +129,7 @@ class Plan:
     def elapsed_at(self, distance: float) -> float:
         """Time [s] from the start to arriving at ``distance`` [m]: riding, and every
         planned stop before it (a stop at that very place begins on arrival)."""
-        moving = float(np.interp(distance, self.terrain.distance, self.ride.elapsed))
-        return moving + sum(s for d, s in self.stops if d < distance - 1e-6)
+        return arrival_time(self.terrain.distance, self.ride.elapsed, self.stops, distance)
 
     @property
     def finish_elapsed(self) -> float:
@@ -140,4 +139,16 @@ class Plan:
     @property
     def stopped(self) -> float:
         """All planned stops before the finish [s]."""
-        return sum(s for d, s in self.stops if d < self.terrain.length - 1e-6)
+        return stops_before(self.stops, self.terrain.length)
+
+
+def stops_before(stops, distance: float) -> float:
+    """The planned stops [s] strictly before ``distance`` [m] (a stop at that very
+    place begins on arrival there)."""
+    return sum(s for d, s in stops if d < distance - 1e-6)
+
+
+def arrival_time(nodes, elapsed, stops, distance: float) -> float:
+    """Time [s] from the start to arriving at ``distance`` [m]: the ride's ``elapsed``
+    at the grid ``nodes``, and every planned stop before it."""
+    return float(np.interp(distance, nodes, elapsed)) + stops_before(stops, distance)

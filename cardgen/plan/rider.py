@@ -25,7 +25,16 @@ from cardgen.physics.effort import effort_power, safe_climb_power, w_prime_balan
 from cardgen.physics.forces import gravity_power, headwind
 from cardgen.physics.ride import Ride, simulate
 from cardgen.physics.steady import power_for_speed, speed_for_power
-from cardgen.plan.model import Analysis, ClimbRow, DescentRow, Notice, Plan, TimedCue, Totals
+from cardgen.plan.model import (
+    Analysis,
+    ClimbRow,
+    DescentRow,
+    Notice,
+    Plan,
+    TimedCue,
+    Totals,
+    arrival_time,
+)
 from cardgen.profiles.motors import find_motor
 from cardgen.profiles.riders import Rider
 from cardgen.route.climbs import Climb, Descent, find_climbs, find_descents
@@ -227,12 +236,9 @@ def make_plan(
     curves = curve_notices(terrain, rider, ride, wind, rho)
     descents = _descent_rows(route.descents, terrain, rider, ride, wind, rho, curves)
     stops = tuple(sorted((float(d), float(s)) for d, s in stops if s > 0))
-
-    def arrival(distance: float) -> float:
-        moving = float(np.interp(distance, terrain.distance, ride.elapsed))
-        return moving + sum(s for d, s in stops if d < distance - 1e-6)
-
-    timed = tuple(TimedCue(c, arrival(c.distance)) for c in route.cues)
+    timed = tuple(
+        TimedCue(c, arrival_time(terrain.distance, ride.elapsed, stops, c.distance)) for c in route.cues
+    )
 
     energy = float(np.sum(np.maximum(ride.rider_power, 0.0) * ride.time))
     slow = (ride.mean_speed < vehicle.min_stable_speed) & (ride.rider_power > 0)

@@ -146,7 +146,7 @@ def plan_json_text(route_name: str, plans, entries=(), windows=(), dated: bool =
             {
                 "name": w.checkpoint.name,
                 "arrival": arrival(plan, start, w.checkpoint.distance),
-                "stop_s": _num(sum(s for d, s in plan.stops if abs(d - w.checkpoint.distance) < 1e-6), 0),
+                "stop_s": _num(w.checkpoint.stop, 0),
             }
             for w in windows
         ]

@@ -426,6 +426,13 @@ def watch_list(plan: Plan, units: str) -> list[dict]:
     return items
 
 
+def _curve_places(curves, units: str) -> tuple[str, str]:
+    """Where the curve notices are, as a list of distances, and the slowest speed any
+    of them asks for (rounded down, the safe way)."""
+    places = ", ".join(fmt.distance(w.value("where"), units) for w in curves)
+    return places, fmt.speed(min(w.value("speed") for w in curves), units, "down")
+
+
 def descents_brief(rows, units: str) -> list[str]:
     """All descents' notes in a few lines (the second condensing step): every curve
     on them in one line (where, and the slowest speed), and the descents where coasting
@@ -434,11 +441,8 @@ def descents_brief(rows, units: str) -> list[str]:
     fast = [row for row in rows if any(w.code == "fast" for w in row.warnings)]
     lines = []
     if curves:
-        slowest = min(w.value("speed") for w in curves)
-        places = ", ".join(fmt.distance(w.value("where"), units) for w in curves)
-        lines.append(
-            f"Curves on the descents at {places}: slow to {fmt.speed(slowest, units, 'down')} or less."
-        )
+        places, slowest = _curve_places(curves, units)
+        lines.append(f"Curves on the descents at {places}: slow to {slowest} or less.")
     if fast:
         cap = min(w.value("cap") for row in fast for w in row.warnings if w.code == "fast")
         numbers = ", ".join(str(row.number) for row in fast)
@@ -452,11 +456,8 @@ def descent_brief(row, units: str) -> str:
     curves = [w for w in row.warnings if w.code == "curve"]
     parts = []
     if curves:
-        slowest = min(w.value("speed") for w in curves)
-        places = ", ".join(fmt.distance(w.value("where"), units) for w in curves)
-        parts.append(
-            f"{len(curves)} curve{'s' if len(curves) > 1 else ''} at {places}: slow to {fmt.speed(slowest, units, 'down')}"
-        )
+        places, slowest = _curve_places(curves, units)
+        parts.append(f"{len(curves)} curve{'s' if len(curves) > 1 else ''} at {places}: slow to {slowest}")
     for w in row.warnings:
         if w.code == "fast":
             parts.append(f"hold under {fmt.speed(w.value('cap'), units)}")
@@ -483,11 +484,10 @@ def warnings_brief(warnings, units: str, skip=frozenset()) -> list[str]:
     curves = [w for w in warnings if w.code == "curve"]
     lines = [notice_text(w, units) for w in warnings if w.code != "curve" and w.code not in skip]
     if curves:
-        slowest = min(w.value("speed") for w in curves)
-        places = ", ".join(fmt.distance(w.value("where"), units) for w in curves)
+        places, slowest = _curve_places(curves, units)
         lines.append(
             f"{len(curves)} curve{'s' if len(curves) > 1 else ''} away from the descents, at {places}: "
-            f"slow to {fmt.speed(slowest, units, 'down')} or less"
+            f"slow to {slowest} or less"
         )
     return lines
 

@@ -1,23 +1,23 @@
 """The radius of each corner, from the geometry of the whole corner.
 
 A window of fixed length cannot see a corner shorter than itself: the turn of a
-6 m corner spread over a 30 m window reads as a 13 m radius. Here a corner is the
-stretch where the path turns at least :data:`CORNER_TURN` within
-:data:`DETECT_WINDOW`; its two legs (the straight track before and after it) are
+6 m corner spread over a 30 m window reads as a 13 m radius. Here a corner is a
+stretch where the mean heading turns by :data:`DETECT_TURN` across
+:data:`DETECT_WINDOW` and its fitted legs by :data:`CORNER_TURN`; its two legs (the straight track before and after it) are
 fitted as lines, and the corner as the circle tangent to both (the simple curve of
 road design: tangent length T = R·tan(Θ/2), external distance E = R·(sec(Θ/2) − 1),
 for a deflection Θ). The radius comes from
 
 - the separation of the legs on a hairpin (Θ ≥ :data:`HAIRPIN_TURN`): the two legs
   of a U-turn of radius R are 2R apart, whatever the sampling;
-- otherwise from the track points that lie on the arc: each such point p fixes
-  |p − C(R)| = R, with the centre C(R) on the bisector of the legs at R·sec(Θ/2) from
-  their intersection;
+- otherwise from the track points between the legs: for each radius tried, the
+  squared distance of the points to the path leg–arc–leg (the centre on the bisector
+  of the legs at R·sec(Θ/2) from their intersection); of the radii that fit about
+  equally well, the middle one. Points on the arc pin the radius;
 - when no track point lies on the arc (a corner shorter than the point spacing), the
   points only bound the radius: the arc's tangent points must lie between the legs'
-  last points, so R ≤ R_max = (distance from the intersection to the nearest leg
-  point) / tan(Θ/2). Any radius below R_max fits the data equally well; cardgen takes
-  R_max / 2, which errs on the safe (slower) side of the middle of what is possible.
+  last points, so every R up to R_max fits them equally well, and the middle of that
+  range is about R_max / 2, on the safe (slower) side of what is possible.
 """
 
 from __future__ import annotations
@@ -77,8 +77,8 @@ def _turn_regions(
     regions: list[tuple[float, float]] = []
     edges = np.flatnonzero(np.diff(np.concatenate(([0], turning.astype(int), [0]))))
     for a, b in zip(edges[::2], edges[1::2], strict=True):
-        lo = max(d[0], probe[a] - window / 2)
-        hi = min(d[-1], probe[b - 1] + window / 2)
+        lo = max(d[0], probe[a] - half)
+        hi = min(d[-1], probe[b - 1] + half)
         if regions and lo <= regions[-1][1]:
             regions[-1] = (regions[-1][0], hi)
         else:
