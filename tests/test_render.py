@@ -330,3 +330,23 @@ def test_profile_bands_read_in_greyscale_print(tmp_path):
         for q in range(4)
     ]
     assert quarters == sorted(quarters, reverse=True) and quarters[0] - quarters[3] > 0.3, quarters
+
+
+def test_condensed_descent_notes_are_words_not_codes():
+    """The one-line form of a descent's notes says each notice in words (a notice
+    without a short form is said in full, never as its internal code)."""
+    from types import SimpleNamespace
+
+    from cardgen.plan.model import Notice
+    from cardgen.render.pages import descent_brief
+
+    row = SimpleNamespace(
+        warnings=(
+            Notice("curve", "warning", (("radius", 12.0), ("where", 1500.0), ("speed", 5.0))),
+            Notice("fast", "warning", (("coast", 16.0), ("cap", 13.9))),
+            Notice("steep", "info", (("grade", -0.12), ("length", 100.0))),
+        )
+    )
+    line = descent_brief(row, "metric")
+    assert "1 curve at 1.5 km: slow to 18.0 km/h" in line and "hold under 50.0 km/h" in line
+    assert "steepest 100 m at" in line and "steep;" not in line and not line.endswith("steep")

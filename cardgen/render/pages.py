@@ -23,11 +23,12 @@ from cardgen.plan.fuel import carb_rate, fluid_rate, legs
 from cardgen.render import exports, plots
 from cardgen.render import format as fmt
 from cardgen.render.html import RiderView, environment, slugify, symbol_of, symbols_for, theme_file
+from cardgen.render.notices import notice_text
 
-#: File names of a route folder that a card may not take (a rider called "Coach"
-#: gets coach-2.pdf).
 #: Riders on one group of the coach sheet: a group's tables fit a page or two.
 COACH_GROUP = 8
+#: File names of a route folder that a card may not take (a rider called "Coach"
+#: gets coach-2.pdf).
 RESERVED_CARD_NAMES = frozenset(
     {
         "coach",
@@ -461,8 +462,8 @@ def descent_brief(row, units: str) -> str:
     for w in row.warnings:
         if w.code == "fast":
             parts.append(f"hold under {fmt.speed(w.value('cap'), units)}")
-        elif w.code not in ("curve", "fast"):
-            parts.append(str(w.code))
+        elif w.code != "curve":
+            parts.append(notice_text(w, units))
     return "; ".join(parts)
 
 
@@ -479,8 +480,6 @@ def warnings_brief(warnings, units: str, skip=frozenset()) -> list[str]:
     """The route-wide notices in few lines (the first condensing step): every curve
     away from the descents in one line (where, and the slowest speed); the others as
     they are. Codes in ``skip`` are said elsewhere (the "Watch for" box)."""
-    from cardgen.render.notices import notice_text
-
     curves = [w for w in warnings if w.code == "curve"]
     lines = [notice_text(w, units) for w in warnings if w.code != "curve" and w.code not in skip]
     if curves:
