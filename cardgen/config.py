@@ -575,7 +575,8 @@ def _stops(check: _Checker, index: int, route: dict) -> tuple[float, ...]:
     listed = route.get("checkpoints") or ()
     if len(raw) != len(listed):
         check.problems.append(
-            f"{where} has {len(raw)} entries for {len(listed)} checkpoints listed; give one stop per checkpoint "
+            f"{where} has {len(raw)} {'entry' if len(raw) == 1 else 'entries'} for {plural(len(listed), 'checkpoint')} listed; "
+            "give one stop per checkpoint "
             "in the same order (or stop_min for the same stop at all)"
         )
         return ()
