@@ -10,7 +10,6 @@ route whose inputs did not change, and skip the whole build when nothing did.
 from __future__ import annotations
 
 import contextlib
-import dataclasses
 import os
 import re
 import shutil
@@ -110,25 +109,14 @@ def _plan_route(task):
     """Worker: read, analyse and plan one route for its riders.
 
     Returns (RouteJob, None) or (None, error message naming the file)."""
-    from cardgen.io.gpx import read_gpx
-    from cardgen.plan import analyse, make_plan
+    from cardgen.plan import make_plan
+    from cardgen.plan.routes import survey_route
     from cardgen.render.pages import Entry, RouteJob
-    from cardgen.route.checkpoints import resolve_checkpoints
-    from cardgen.route.cues import apply_cue_texts
-    from cardgen.route.terrain import build_terrain
 
     route, config = task
     rc = route.config
     try:
-        track = read_gpx(rc.gpx)
-        analysis = analyse(track, build_terrain(track))
-        if rc.cue_texts:  # the organiser's words in place of the GPX's
-            analysis = dataclasses.replace(
-                analysis, cues=apply_cue_texts(analysis.cues, rc.cue_texts, str(rc.gpx))
-            )
-        checkpoints = resolve_checkpoints(
-            rc.checkpoints, track, analysis.terrain, str(rc.gpx), stops=rc.stops, stop=rc.stop
-        )
+        analysis, checkpoints = survey_route(rc)
         stops = tuple((c.distance, c.stop) for c in checkpoints)
         riders = tuple(
             Entry(
@@ -140,7 +128,7 @@ def _plan_route(task):
             for i, r in enumerate(config.riders)
             if r.rides(rc, rc.name or rc.gpx.stem)
         )
-        job = RouteJob(route.slug, rc.name or track.name, rc.notes, analysis, tuple(checkpoints), riders)
+        job = RouteJob(route.slug, rc.name or analysis.track.name, rc.notes, analysis, checkpoints, riders)
         return job, None
     except CardgenError as exc:
         return None, (f"{rc.gpx}: {exc}" if str(rc.gpx) not in str(exc) else str(exc))

@@ -35,7 +35,6 @@ from cardgen.plan.model import (
     Totals,
     arrival_time,
 )
-from cardgen.profiles.motors import find_motor
 from cardgen.profiles.riders import Rider
 from cardgen.route.climbs import Climb, Descent, find_climbs, find_descents
 from cardgen.route.cues import cue_sheet
@@ -197,9 +196,7 @@ def make_plan(
     conditions = conditions or Conditions()
     vehicle = rider.vehicle
     wind, rho = segment_air(terrain, conditions)
-    motor = find_motor(vehicle.motor) if vehicle.motor else None
-    if motor is not None and vehicle.battery is not None:
-        motor = dataclasses.replace(motor, battery=vehicle.battery)
+    motor = vehicle.fitted_motor()
     ratio, levels, between_level = _assist_ratios(rider, motor, route.climbs, terrain, wind, rho)
 
     on_climb = np.zeros(terrain.grade.size, dtype=bool)

@@ -284,12 +284,7 @@ def route_map(
     """
     import math
 
-    from cardgen.route.geodesy import local_plane
-
-    lat0 = float(np.radians(np.mean(terrain.lat)))
-    lon = np.degrees(np.unwrap(np.radians(terrain.lon)))
-    xy = local_plane(terrain.lat, lon, lat0)
-    xy -= xy.mean(axis=0)
+    xy = terrain.plane()
     step = max(1, xy.shape[0] // (4 * MAX_POINTS))
     x, y = xy[::step, 0], xy[::step, 1]
     d = terrain.distance[::step]

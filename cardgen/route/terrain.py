@@ -19,7 +19,7 @@ from numpy.lib.stride_tricks import sliding_window_view
 
 from cardgen.errors import GpxError
 from cardgen.route.corners import find_corners
-from cardgen.route.geodesy import bearing, course, cumulative_distance
+from cardgen.route.geodesy import bearing, course, cumulative_distance, local_plane
 from cardgen.route.gpx import Track
 from cardgen.units import Floats
 
@@ -71,6 +71,15 @@ class Terrain:
     def length(self) -> float:
         """Route length [m]."""
         return float(self.distance[-1])
+
+    def plane(self) -> np.ndarray:
+        """The nodes on a local plane [m], x east and y north, centred on the route:
+        equirectangular about the mean latitude, longitudes unwrapped across ±180°
+        (:func:`cardgen.route.geodesy.local_plane`)."""
+        lat0 = float(np.radians(np.mean(self.lat)))
+        lon = np.degrees(np.unwrap(np.radians(self.lon)))
+        xy = local_plane(self.lat, lon, lat0)
+        return xy - xy.mean(axis=0)
 
 
 def remove_spikes(elevation: Floats, points: int = SPIKE_POINTS) -> Any:

@@ -1,0 +1,71 @@
+"""``cardgen check``: everything a build can find without rendering; writes nothing."""
+
+from __future__ import annotations
+
+import argparse
+import sys
+
+from cardgen.cli.build import _say_config, _site_config
+from cardgen.cli.common import _print
+from cardgen.errors import CardgenError
+
+
+def _print_waves(config) -> None:
+    """Each start wave's first and last start, over every route its riders ride."""
+    from cardgen.config import plural, rider_start
+
+    for wave in config.waves:
+        starts = sorted(
+            start
+            for i, rc in enumerate(config.riders)
+            for route in config.routes
+            if rc.rides(route, route.name or route.gpx.stem)
+            for start, name in [rider_start(config, i, route)]
+            if name == wave.name and start is not None
+        )
+        if starts:
+            _print(
+                f"wave {wave.name}: {plural(len(starts), 'start')}, first {starts[0]:%H:%M}, last {starts[-1]:%H:%M}"
+            )
+        else:
+            _print(f"wave {wave.name}: no riders start in it")
+
+
+def cmd_check(args) -> int:
+    """Everything a build can find without rendering, all at once."""
+    from cardgen.config import plural
+    from cardgen.plan.routes import survey_route
+
+    config, _ = _site_config(args.site)
+    _say_config(config)
+    problems = []
+    for route in config.routes:
+        try:
+            analysis, checkpoints = survey_route(route)
+        except CardgenError as exc:
+            problems.append(str(exc))
+            continue
+        _print(
+            f"ok  {route.gpx.name}: {analysis.terrain.length / 1000:.1f} km, "
+            f"{plural(analysis.track.points, 'point')}, "
+            f"{plural(len(analysis.climbs), 'climb')}, {plural(len(checkpoints), 'checkpoint')}"
+        )
+        for warning in analysis.warnings:
+            _print(f"cardgen: warning: {route.gpx.name}: {warning}", file=sys.stderr)
+    _print(f"{plural(len(config.riders), 'rider')}: " + "; ".join(r.rider.name for r in config.riders))
+    _print_waves(config)
+    if problems:
+        raise CardgenError("\n  ".join([f"{plural(len(problems), 'route problem')}:"] + problems))
+    _print("configuration and routes are fine; nothing was written")
+    return 0
+
+
+def add_parser(sub: argparse._SubParsersAction) -> None:
+    """The ``check`` command's options."""
+    check = sub.add_parser(
+        "check",
+        help="check a site's configuration and routes; writes nothing",
+        description="Check a site's configuration and routes; writes nothing.",
+    )
+    check.add_argument("site", metavar="SITE.toml|FOLDER")
+    check.set_defaults(run=cmd_check)
