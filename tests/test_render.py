@@ -292,7 +292,7 @@ def test_profile_shading_reads_the_terrains_own_grade():
     # the same thinned stretches, averaged: exactly the mean of the segment grades
     idx = plots.thin_index(d.size)
     assert np.allclose(
-        plots.thinned_grade(grade, idx), [grade[a:b].mean() for a, b in zip(idx[:-1], idx[1:])]
+        plots.thinned_grade(grade, idx), [grade[a:b].mean() for a, b in zip(idx[:-1], idx[1:], strict=True)]
     )
 
 
