@@ -4,6 +4,7 @@ speed, with every term of the power balance and the motor's share (``cardgen sol
 from __future__ import annotations
 
 from dataclasses import dataclass
+from typing import Any
 
 from cardgen.physics.assist import Motor, assisted_speed, motor_power, rider_power_for_speed
 from cardgen.physics.atmosphere import air_density_isa
@@ -59,7 +60,7 @@ def steady_state(
     if (power is None) == (speed is None):
         raise ValueError("steady_state needs a power or a speed, not both")
     rho = float(air_density_isa(altitude)) if air_density is None else float(air_density)
-    road = dict(grade=grade, headwind=headwind, air_density=rho)
+    road: dict[str, Any] = dict(grade=grade, headwind=headwind, air_density=rho)
     assisted = motor is not None and ratio > 0
     if power is not None:
         if assisted:

@@ -79,7 +79,8 @@ class Terrain:
         lat0 = float(np.radians(np.mean(self.lat)))
         lon = np.degrees(np.unwrap(np.radians(self.lon)))
         xy = local_plane(self.lat, lon, lat0)
-        return xy - xy.mean(axis=0)
+        xy -= xy.mean(axis=0)
+        return xy
 
 
 def remove_spikes(elevation: Floats, points: int = SPIKE_POINTS) -> Any:
