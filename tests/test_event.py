@@ -225,9 +225,10 @@ def test_group_spread_and_regroup_wait_by_hand():
     from datetime import datetime
     from types import SimpleNamespace
 
+    from cardgen.plan.model import Entry, RouteJob
     from cardgen.profiles.riders import Rider
     from cardgen.profiles.vehicles import builtin_vehicles
-    from cardgen.render.pages import Entry, RouteJob, group_spread
+    from cardgen.render.pages import group_spread
 
     track = read_gpx(SAMPLES / "day-ride.gpx")
     analysis = analyse(track, build_terrain(track))

@@ -110,8 +110,8 @@ def _plan_route(task):
 
     Returns (RouteJob, None) or (None, error message naming the file)."""
     from cardgen.plan import make_plan
+    from cardgen.plan.model import Entry, RouteJob
     from cardgen.plan.routes import survey_route
-    from cardgen.render.pages import Entry, RouteJob
 
     route, config = task
     rc = route.config

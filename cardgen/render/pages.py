@@ -18,8 +18,9 @@ import numpy as np
 
 from cardgen import __version__
 from cardgen.errors import CardgenError
-from cardgen.plan import Analysis, Plan, checkpoint_windows
+from cardgen.plan import Plan, checkpoint_windows
 from cardgen.plan.fuel import carb_rate, fluid_rate, legs
+from cardgen.plan.model import RouteJob
 from cardgen.render import exports, plots
 from cardgen.render import format as fmt
 from cardgen.render.html import RiderView, environment, slugify, symbol_of, symbols_for, theme_file
@@ -44,30 +45,6 @@ RESERVED_CARD_NAMES = frozenset(
         "qr",
     }
 )
-
-
-@dataclass(frozen=True)
-class RouteJob:
-    """One route's plans, as the renderer needs them."""
-
-    slug: str
-    name: str
-    notes: str
-    analysis: Analysis
-    checkpoints: tuple  # Checkpoint, by distance
-    riders: tuple  # Entry, in the configuration's order
-
-
-@dataclass(frozen=True)
-class Entry:
-    """One rider on one route: name, start (None without an event time), the start
-    wave's name, their plan and bib."""
-
-    name: str
-    start: datetime | None
-    wave: str | None
-    plan: Plan
-    bib: int | None = None
 
 
 @dataclass(frozen=True)
