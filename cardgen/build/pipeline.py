@@ -11,10 +11,9 @@ from __future__ import annotations
 
 import contextlib
 import os
-import re
 import shutil
 import time
-from collections.abc import Callable, Iterable, Iterator
+from collections.abc import Callable, Iterable, Iterator, Mapping
 from concurrent.futures import ProcessPoolExecutor
 from concurrent.futures.process import BrokenProcessPool
 from dataclasses import dataclass, field
@@ -139,17 +138,29 @@ def _render_route(task):
     from cardgen.render.pages import render_route
 
     config, site, job, folder = task
-    return render_route(config, site, job, Path(folder))
+    pages = render_route(config, site, job, Path(folder))
+    write_files(Path(folder), pages.files)
+    return pages.summary, pages.cards
 
 
-_REFERENCE = re.compile(r'\bsrc="([^":/?#]+)"')
+def write_files(folder: Path, files: Mapping[str, str | bytes | Path]) -> None:
+    """Write rendered files into ``folder`` by name: text as UTF-8, bytes as they are,
+    a path (a theme file) copied."""
+    for name, content in files.items():
+        target = folder / name
+        if isinstance(content, Path):
+            shutil.copyfile(content, target)
+        elif isinstance(content, bytes):
+            target.write_bytes(content)
+        else:
+            target.write_text(content, encoding="utf-8")
 
 
 def card_key(card) -> str:
     """What a card's PDF depends on: its HTML and the build's own files it shows
-    (the profile drawing, the QR code), by content."""
+    (the profile drawings, the maps, the QR code: the card's ``assets``), by content."""
     base = Path(card.base)
-    used = sorted(set(_REFERENCE.findall(card.html)))
+    used = sorted(set(card.assets))
     return digest(
         card.budget,
         *(card.variants or (card.html,)),
@@ -160,12 +171,13 @@ def card_key(card) -> str:
 def _render_pdf(card):
     """Worker: one card's HTML → PDF file: the first of its condensed variants that
     fits its page budget (the last one otherwise)."""
-    from cardgen.render.pdf import write_fitting_pdf, write_pdf
+    from cardgen.render.pdf import fitting_pdf, pdf_bytes
 
     if card.variants:
-        write_fitting_pdf(card.variants, Path(card.base), Path(card.target), card.budget)
+        data, _, _ = fitting_pdf(card.variants, Path(card.base), card.budget)
     else:
-        write_pdf(card.html, Path(card.base), Path(card.target))
+        data, _ = pdf_bytes(card.html, Path(card.base))
+    Path(card.target).write_bytes(data)
     return card.target
 
 
@@ -344,13 +356,15 @@ def _render(config, routes, old, out, tmp, pool, pdf, progress, report, reusable
 
     if pdf:
         t_pack = time.perf_counter()
-        render_packs(
+        packs = render_packs(
             config,
             [(r.slug, manifest["routes"][r.slug]["summary"]) for r in routes if r.slug in manifest["routes"]],
             tmp,
             {r.slug for r in fresh},
         )
+        for target, data in packs.items():
+            target.write_bytes(data)
         report.seconds["packs"] = time.perf_counter() - t_pack
     summaries = [manifest["routes"][r.slug]["summary"] for r in routes if r.slug in manifest["routes"]]
-    render_index(config, site, summaries, tmp)
+    write_files(tmp, render_index(config, site, summaries, packs=(tmp / "all-cards.pdf").is_file()))
     return manifest

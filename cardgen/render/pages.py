@@ -49,7 +49,7 @@ RESERVED_CARD_NAMES = frozenset(
 
 @dataclass(frozen=True)
 class CardSource:
-    """A card to print: its HTML, the folder its links point into, the PDF to write.
+    """A card to print: its HTML, the folder its links point into, the PDF to make.
     ``variants`` are the same card condensed step by step (:data:`CONDENSE_STEPS`) and
     ``budget`` its pages: the first variant that fits is printed. A coach sheet has
     no variants and no budget."""
@@ -59,6 +59,7 @@ class CardSource:
     target: str
     variants: tuple[str, ...] = ()
     budget: int = 0
+    assets: tuple[str, ...] = ()  # the build's files (in ``base``) that any variant shows
 
 
 #: The order in which a card is condensed until it fits its page budget, never
@@ -143,12 +144,13 @@ def _hardest(climbs):
     return max(climbs, key=lambda c: c.score) if climbs else None
 
 
-def _write_plots(config, job: RouteJob, folder: Path) -> dict:
-    """The route's SVG plots; returns what the templates need of them."""
+def _plots(config, job: RouteJob, files: dict[str, str | bytes]) -> dict:
+    """The route's SVG plots, added to ``files`` by name; returns what the templates
+    need of them."""
     analysis, units = job.analysis, config.units
     marks = [(c.name, c.distance) for c in job.checkpoints]
     svg, alt = plots.elevation_profile(analysis.terrain, analysis.climbs, marks, units, name=job.name)
-    (folder / "profile.svg").write_text(svg, encoding="utf-8")
+    files["profile.svg"] = svg
     # the card's own profile and map, drawn at their printed width so that their type
     # prints at its size (large print: labels scaled to match its 14 pt)
     page = page_geometry(config.card_size, config.large_print)
@@ -167,7 +169,7 @@ def _write_plots(config, job: RouteJob, folder: Path) -> dict:
             height_in=min(2.0, 0.38 * width) * scale * share,
             text_scale=scale,
         )
-        (folder / f"card-profile{suffix}.svg").write_text(card_svg, encoding="utf-8")
+        files[f"card-profile{suffix}.svg"] = card_svg
         map_svg, map_alt = plots.route_map(
             analysis.terrain,
             analysis.climbs,
@@ -177,14 +179,14 @@ def _write_plots(config, job: RouteJob, folder: Path) -> dict:
             width_in=width,
             height_in=0.45 * width * share,
         )
-        (folder / f"map{suffix}.svg").write_text(map_svg, encoding="utf-8")
+        files[f"map{suffix}.svg"] = map_svg
     card_profile = "card-profile.svg"
     power_svg = power_alt = ""
     hardest = _hardest(analysis.climbs)
     if hardest is not None and job.riders:
         index = analysis.climbs.index(hardest)
         power_svg, power_alt = plots.power_curves([(e.name, e.plan.climbs[index]) for e in job.riders], units)
-        (folder / "power.svg").write_text(power_svg, encoding="utf-8")
+        files["power.svg"] = power_svg
     return {
         "profile_alt": alt,
         "card_profile": card_profile,
@@ -197,22 +199,27 @@ def _write_plots(config, job: RouteJob, folder: Path) -> dict:
     }
 
 
-def _write_exports(config, job: RouteJob, plans: list[Plan], folder: Path, windows: list) -> str:
-    """plan.json, climbs.csv, route.gpx and the QR code; returns the QR's target URL."""
+def _exports(config, job: RouteJob, plans: list[Plan], windows: list, files: dict[str, str | bytes]) -> str:
+    """plan.json, climbs.csv, route.gpx and the QR code, added to ``files``; returns
+    the QR's target URL."""
     analysis = job.analysis
-    text = exports.plan_json_text(job.name, plans, job.riders, windows, dated=config.day is not None)
-    (folder / "plan.json").write_text(text, encoding="utf-8")
-    (folder / "climbs.csv").write_text(exports.climbs_csv_text(plans), encoding="utf-8")
-    (folder / "route.gpx").write_text(
-        exports.route_gpx_text(analysis.track, analysis.terrain, analysis.climbs, job.checkpoints),
-        encoding="utf-8",
+    files["plan.json"] = exports.plan_json_text(
+        job.name, plans, job.riders, windows, dated=config.day is not None
+    )
+    files["climbs.csv"] = exports.climbs_csv_text(plans)
+    files["route.gpx"] = exports.route_gpx_text(
+        analysis.track, analysis.terrain, analysis.climbs, job.checkpoints
     )
     if not config.base_url:
         return ""
+    import io
+
     import segno
 
     qr = config.base_url.rstrip("/") + f"/{job.slug}/index.html"
-    segno.make(qr, error="m").save(str(folder / "qr.svg"), kind="svg", border=1, xmldecl=False)
+    buffer = io.BytesIO()
+    segno.make(qr, error="m").save(buffer, kind="svg", border=1, xmldecl=False)
+    files["qr.svg"] = buffer.getvalue()
     return qr
 
 
@@ -231,19 +238,29 @@ def theme_errors(templates: Path | None) -> Iterator[None]:
         raise CardgenError(f"{where}: {exc.message or type(exc).__name__}; fix the template") from None
 
 
-def render_route(config, site: dict, job: RouteJob, folder: Path) -> tuple[dict, list[CardSource]]:
-    """Write a route's page, plots and exports into ``folder``; return its summary for
-    the index and the cards to print."""
+@dataclass(frozen=True)
+class RoutePages:
+    """What a route's folder holds, made in memory: ``files`` by name (text or bytes),
+    its ``summary`` for the index, and the ``cards`` to print there."""
+
+    files: dict[str, str | bytes]
+    summary: dict
+    cards: list[CardSource]
+
+
+def render_route(config, site: dict, job: RouteJob, folder: Path) -> RoutePages:
+    """A route's page, plots and exports, its summary for the index and the cards to
+    print; ``folder`` is where the build will put them (the cards' links point there).
+    Nothing is written."""
     with theme_errors(config.templates):
         return _render_route(config, site, job, folder)
 
 
-def _render_route(config, site: dict, job: RouteJob, folder: Path) -> tuple[dict, list[CardSource]]:
-    """Write a route's page, plots and exports into ``folder``; return its summary for
-    the index and the cards to print."""
+def _render_route(config, site: dict, job: RouteJob, folder: Path) -> RoutePages:
     env = _environment(config.templates, config.units)
     analysis, terrain, units = job.analysis, job.analysis.terrain, config.units
-    figures = _write_plots(config, job, folder)
+    files: dict[str, str | bytes] = {}
+    figures = _plots(config, job, files)
     taken = set(RESERVED_CARD_NAMES)
     views: list[RiderView] = []
     for e in job.riders:
@@ -281,22 +298,19 @@ def _render_route(config, site: dict, job: RouteJob, folder: Path) -> tuple[dict
         "start_text": config.start.strftime("%H:%M") if config.start else "",
     }
     common = dict(site=site, route=route, units=units, version=__version__, symbols_for=symbols_for)
-    (folder / "index.html").write_text(
-        env.get_template("route.html").render(
-            **common,
-            riders=views,
-            overview=route_overview(job, views),
-            profile_alt=figures["profile_alt"],
-            map_alt=figures["map_alt"],
-            power_svg=figures["power_svg"],
-            power_alt=figures["power_alt"],
-            windows=windows,
-            margin_text=margin_text,
-            root="../",
-        ),
-        encoding="utf-8",
+    files["index.html"] = env.get_template("route.html").render(
+        **common,
+        riders=views,
+        overview=route_overview(job, views),
+        profile_alt=figures["profile_alt"],
+        map_alt=figures["map_alt"],
+        power_svg=figures["power_svg"],
+        power_alt=figures["power_alt"],
+        windows=windows,
+        margin_text=margin_text,
+        root="../",
     )
-    qr = _write_exports(config, job, plans, folder, windows)
+    qr = _exports(config, job, plans, windows, files)
     page = page_geometry(config.card_size, config.large_print)
     feeds = [(c.distance, c.name) for c in job.checkpoints]
     temperature = config.conditions.temperature
@@ -333,7 +347,16 @@ def _render_route(config, site: dict, job: RouteJob, folder: Path) -> tuple[dict
             card_template.render(**context, condense=min(level, 3), continuation=level >= 4)
             for level in range(CONDENSE_STEPS + 1)
         )
-        cards.append(CardSource(variants[0], str(folder), str(folder / view.card), variants, page["budget"]))
+        assets = (
+            *(["qr.svg"] if qr else []),
+            figures["card_profile"],
+            figures["profile_small"],
+            figures["map"],
+            figures["map_small"],
+        )
+        cards.append(
+            CardSource(variants[0], str(folder), str(folder / view.card), variants, page["budget"], assets)
+        )
     if views:
         ordered = sorted(views, key=lambda v: (v.start.isoformat() if v.start else "~", v.name))
         groups = [ordered[i : i + COACH_GROUP] for i in range(0, len(ordered), COACH_GROUP)]
@@ -345,7 +368,7 @@ def _render_route(config, site: dict, job: RouteJob, folder: Path) -> tuple[dict
             together=group_spread(job, views),
         )
         cards.append(CardSource(html, str(folder), str(folder / "coach.pdf")))
-    return route_summary(job, views, units), cards
+    return RoutePages(files, route_summary(job, views, units), cards)
 
 
 def watch_list(plan: Plan, units: str) -> list[dict]:
@@ -625,36 +648,36 @@ def _pack_order(job: RouteJob, views) -> list[dict]:
     return rows
 
 
-def render_packs(config, routes: list[tuple[str, dict]], folder: Path, fresh: set[str]) -> list[str]:
+def render_packs(config, routes: list[tuple[str, dict]], folder: Path, fresh: set[str]) -> dict[Path, bytes]:
     """Print packs (docs/contracts.md): ``all-cards.pdf`` in each route folder that
     was rendered now (``fresh`` slugs; a reused route keeps its pack) and at the
-    root for the whole event, with ``all-cards-2up.pdf`` beside each for A5 cards.
-    ``routes`` are (slug, summary) in site order. Returns the files written."""
+    root for the whole event, with ``all-cards-2up.pdf`` beside each for A5 cards,
+    made from the cards in ``folder``. ``routes`` are (slug, summary) in site order.
+    Returns the packs by the file each goes to."""
     from cardgen.render.packs import PackEntry, impose_two_up, make_pack
 
     env = _environment(config.templates, config.units)
     page = page_geometry(config.card_size, config.large_print)
     size = {"A5": (419.53, 595.28), "A4": (595.28, 841.89), "pocket": (280.63, 595.28)}[config.card_size]
     cover = env.get_template("cover.html")
-    written = []
+    written: dict[Path, bytes] = {}
 
     def pack(entries, where: Path, subtitle: str, show_route: bool) -> None:
         if not entries:
             return
         target = where / "all-cards.pdf"
-        firsts = make_pack(
+        data, firsts = make_pack(
             entries,
             lambda rows: cover.render(
                 title=config.title, subtitle=subtitle, rows=rows, page=page, show_route=show_route
             ),
             where,
-            target,
+            target.stem,
             size,
         )
-        written.append(str(target))
+        written[target] = data
         if config.card_size == "A5":
-            impose_two_up(target, where / "all-cards-2up.pdf", firsts)
-            written.append(str(where / "all-cards-2up.pdf"))
+            written[where / "all-cards-2up.pdf"] = impose_two_up(data, "all-cards-2up", firsts)
 
     everyone = []
     for slug, summary in routes:
@@ -690,13 +713,14 @@ def route_summary(job: RouteJob, views, units: str) -> dict:
     }
 
 
-def render_index(config, site: dict, summaries: list[dict], folder: Path) -> None:
-    """The site's index page and its style sheet."""
+def render_index(config, site: dict, summaries: list[dict], packs: bool) -> dict[str, str | Path]:
+    """The site's index page (``packs``: the event's print pack is there to link), and
+    the theme's files it needs, by name: text, or the theme file to copy."""
     with theme_errors(config.templates):
-        _render_index(config, site, summaries, folder)
+        return _render_index(config, site, summaries, packs)
 
 
-def _render_index(config, site: dict, summaries: list[dict], folder: Path) -> None:
+def _render_index(config, site: dict, summaries: list[dict], packs: bool) -> dict[str, str | Path]:
     env = _environment(config.templates, config.units)
     rows = []
     for summary in summaries:  # one row per route, whatever the number of riders
@@ -710,11 +734,10 @@ def _render_index(config, site: dict, summaries: list[dict], folder: Path) -> No
                 "slowest": times[-1] if times else None,
             }
         )
-    (folder / "index.html").write_text(
-        env.get_template("index.html").render(
-            site=site, routes=rows, packs=(folder / "all-cards.pdf").is_file(), root="", version=__version__
-        ),
-        encoding="utf-8",
+    page = env.get_template("index.html").render(
+        site=site, routes=rows, packs=packs, root="", version=__version__
     )
-    for name in ("style.css", "find.js"):
-        (folder / name).write_bytes(theme_file(config.templates, name).read_bytes())
+    return {
+        "index.html": page,
+        **{name: theme_file(config.templates, name) for name in ("style.css", "find.js")},
+    }

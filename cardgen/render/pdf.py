@@ -7,6 +7,7 @@ everything else (network, data from elsewhere on the disk).
 
 from __future__ import annotations
 
+import io
 import logging
 import mimetypes
 from pathlib import Path
@@ -43,11 +44,12 @@ def build_only_fetcher(root: Path):
     return _fetcher_class()(root)
 
 
-def write_pdf(html: str, base: Path, target: Path) -> list[str]:
-    """Render ``html`` (whose relative links point into ``base``) to ``target``, as a
-    tagged PDF (structure for screen readers; its language and title from the HTML).
+def pdf_bytes(html: str, base: Path) -> tuple[bytes, list[str]]:
+    """Render ``html`` (whose relative links point into ``base``) as a tagged PDF
+    (structure for screen readers; its language and title from the HTML).
 
-    Returns the URLs that were refused (nothing is fetched from outside ``base``).
+    Returns the PDF and the URLs that were refused (nothing is fetched from outside
+    ``base``).
     """
     from weasyprint import HTML
 
@@ -55,16 +57,17 @@ def write_pdf(html: str, base: Path, target: Path) -> list[str]:
     # fetcher already records refusals, so keep its log quiet on the terminal.
     logging.getLogger("weasyprint").setLevel(logging.ERROR)
     fetcher = build_only_fetcher(base)
-    HTML(string=html, base_url=base.resolve().as_uri() + "/", url_fetcher=fetcher).write_pdf(
-        target, pdf_identifier=b"cardgen", uncompressed_pdf=False, pdf_tags=True
+    data = HTML(string=html, base_url=base.resolve().as_uri() + "/", url_fetcher=fetcher).write_pdf(
+        pdf_identifier=b"cardgen", uncompressed_pdf=False, pdf_tags=True
     )
-    return fetcher.refused
+    return data, fetcher.refused
 
 
-def write_fitting_pdf(variants, base: Path, target: Path, budget: int) -> tuple[int, int]:
-    """Write the least condensed variant of a card whose layout is within ``budget``
-    pages; when none of them fits, the last (the cue sheet on a continuation sheet:
-    up to twice the budget, padded to whole sheets). Returns (variant index, pages).
+def fitting_pdf(variants, base: Path, budget: int) -> tuple[bytes, int, int]:
+    """The PDF of the least condensed variant of a card whose layout is within
+    ``budget`` pages; when none of them fits, the last (the cue sheet on a continuation
+    sheet: up to twice the budget, padded to whole sheets). Returns (PDF, variant
+    index, pages).
 
     Condensing never adds pages, so the variants are searched by halving: at most
     three layouts for five variants. The layout written is the one measured: the
@@ -97,19 +100,21 @@ def write_fitting_pdf(variants, base: Path, target: Path, budget: int) -> tuple[
             lo = mid + 1
     document = layout(lo)
     pages = len(document.pages)
-    document.write_pdf(target, pdf_identifier=b"cardgen", uncompressed_pdf=False, pdf_tags=True)
+    data = document.write_pdf(pdf_identifier=b"cardgen", uncompressed_pdf=False, pdf_tags=True)
     if lo == last and pages % 2:  # the continuation is a whole sheet: end on a back page
-        _add_blank_page(target)
+        data = _add_blank_page(data)
         pages += 1
-    return lo, pages
+    return data, lo, pages
 
 
-def _add_blank_page(target: Path) -> None:
+def _add_blank_page(data: bytes) -> bytes:
     """Append one blank page of the last page's size (a card's continuation sheet
     ends on a back page of its own)."""
     import pikepdf
 
-    with pikepdf.open(target, allow_overwriting_input=True) as pdf:
+    out = io.BytesIO()
+    with pikepdf.open(io.BytesIO(data)) as pdf:
         box = pdf.pages[-1].mediabox
         pdf.add_blank_page(page_size=(float(box[2]) - float(box[0]), float(box[3]) - float(box[1])))
-        pdf.save(target, deterministic_id=True)
+        pdf.save(out, deterministic_id=True)
+    return out.getvalue()
