@@ -304,7 +304,8 @@ CASES = {
     "pole-to-pole-zigzag": (
         _track(
             "".join(
-                f'<trkpt lat="{80 if i % 2 else -80}" lon="{i * 0.001:.3f}"><ele>5</ele></trkpt>' for i in range(300)
+                f'<trkpt lat="{80 if i % 2 else -80}" lon="{i * 0.001:.3f}"><ele>5</ele></trkpt>'
+                for i in range(300)
             )
         ),
         ("error", "cardgen plans routes up to 10,000 km"),
