@@ -17,6 +17,9 @@ ALL_DAY_SHARE_OF_CP = 0.70
 W_PRIME_SECONDS_OF_CP = 70.0
 #: Default cap on climbing power, as a share above CP.
 CLIMB_SHARE_ABOVE_CP = 0.10
+#: Pacing styles (:mod:`cardgen.plan.pacing`): "best" spends W′ where it saves the most
+#: time; "steady" never rides above CP.
+PACING_STYLES = ("best", "steady")
 
 
 @dataclass(frozen=True)
@@ -34,6 +37,8 @@ class Rider:
     climb_share : float [-] largest share above CP allowed on climbs
     target_speed : float [m/s] climbing speed for the "watts to hold it" column
     assist_between_climbs : int  assist level away from climbs (vehicles with a motor)
+    pacing : str  a pacing style of :data:`PACING_STYLES`, or "" for the vehicle's
+        default (:attr:`pacing_style`)
 
     Notes
     -----
@@ -53,6 +58,7 @@ class Rider:
     climb_share: float
     target_speed: float
     assist_between_climbs: int = 1
+    pacing: str = ""
 
     def __post_init__(self):
         problems = []
@@ -71,6 +77,8 @@ class Rider:
                 f"flat power {self.flat_power:g} W must be between 1 W and the CP "
                 f"({self.cp:g} W): efforts above CP cannot be held for long"
             )
+        if self.pacing and self.pacing not in PACING_STYLES:
+            problems.append(f"pacing {self.pacing!r} is not one of {', '.join(PACING_STYLES)}")
         if self.vehicle.motor is not None:
             levels = len(find_motor(self.vehicle.motor).levels)
             if not 0 <= self.assist_between_climbs <= levels:
@@ -84,6 +92,20 @@ class Rider:
     def climb_power_used(self) -> float:
         """Power actually used on climbs [W]: the wanted power, capped above CP."""
         return min(self.climb_power, self.cp * (1.0 + self.climb_share))
+
+    @property
+    def pacing_style(self) -> str:
+        """The pacing style planned: the rider's, else "steady" on arm-powered vehicles
+        and "best" on the others.
+
+        Arm-powered riders get the even style by default: many ride with a spinal
+        cord injury, where heart rate and temperature may not tell them how hard
+        they are going, and clinicians often advise them to stay below their
+        threshold (from memory, no figure taken from a source); they can choose
+        "best" themselves."""
+        if self.pacing:
+            return self.pacing
+        return "steady" if self.vehicle.propulsion == "arms" else "best"
 
     @classmethod
     def for_vehicle(cls, vehicle: Vehicle, name: str | None = None, **given) -> Rider:
