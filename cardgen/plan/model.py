@@ -96,8 +96,8 @@ class Effort:
     ``style`` the pacing style ("best", "steady"); ``mean_power`` [W] the ride's
     time-weighted mean rider power; ``asked`` [W] the day's effort it was planned
     for; ``ceiling`` [W] the most the plan asks; ``given``: the effort is the rider's
-    own setting (flat_w, flat_kmh, --power), else the default for the ride's length;
-    ``share_of_cp`` [-] of that default; ``battery_empty_at`` [m] where the motor stops
+    own setting (flat_w, flat_kmh, --power), else the default for the ride's length,
+    ``duration`` [s] (the moving time that default assumed); ``battery_empty_at`` [m] where the motor stops
     for want of battery (None: it lasts or there is none)."""
 
     style: str
@@ -105,7 +105,7 @@ class Effort:
     asked: float
     ceiling: float
     given: bool = True
-    share_of_cp: float | None = None
+    duration: float | None = None
     battery_empty_at: float | None = None
 
 

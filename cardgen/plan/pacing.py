@@ -40,7 +40,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from cardgen.physics.assist import Motor, assisted_speed
-from cardgen.physics.effort import w_prime_balance
+from cardgen.physics.effort import sustainable_power_omni, w_prime_balance
 from cardgen.physics.forces import Resistance
 from cardgen.physics.ride import Ride, simulate, speed_limit_profile
 from cardgen.physics.steady import speed_for_power
@@ -60,6 +60,9 @@ W_LEVELS = 31
 BLOCK_GRADE = 0.006
 BLOCK_WIND = 1.0
 BLOCK_LENGTH = 250.0
+#: The ride's W′ balance may fall this far below zero [share of W′] (the steady
+#: times of the programme against the ride's inertia) before it is planned again.
+W_PRIME_SLACK = 0.01
 #: W′ the programme keeps in hand [share of W′]: the ride's inertia moves the balance
 #: a little from the programme's steady times.
 W_FLOOR = 0.01
@@ -70,6 +73,8 @@ STALL_TIME = 1e5
 #: Multipliers tried in each round of the bisection, and rounds.
 KAPPAS = 8
 ROUNDS = 4
+#: A stretch where W′ matters ends where the balance is back above this share of W′.
+WINDOW_FULL = 0.98
 #: With W′ binding, κ is sought between its value without W′ and this many times it.
 WIDEN = 4.0
 
@@ -191,6 +196,8 @@ def plan_pacing(
     w_prime: float,
     top: float,
     table: tuple[np.ndarray, np.ndarray] | None = None,
+    kappa_hint: float | None = None,
+    floor: float = 0.0,
 ) -> Pacing:
     """Power on every segment that minimises the moving time at ``mean_power`` [W],
     between 0 and ``top`` [W], with the W′ balance (``cp`` [W], ``w_prime`` [J]) ≥ 0.
@@ -203,6 +210,8 @@ def plan_pacing(
     top : float [W] the ceiling (see :func:`ceiling`)
     table : (powers [W], block times [s] (levels, blocks)) made by :func:`block_times`
         for this course, when already at hand
+    kappa_hint : float [W] or None: κ of an earlier plan at a nearby mean power
+    floor : float [-] share of W′ kept in hand beyond :data:`W_FLOOR`
 
     Returns
     -------
@@ -214,8 +223,8 @@ def plan_pacing(
     Σ tᵢ(Pᵢ)·(Pᵢ + κ) for the κ that gives mean P̄ (module notes); the mean rises with
     κ, so κ is bisected on a log scale (:data:`KAPPAS` at once, :data:`ROUNDS` rounds).
     Without W′ the blocks are independent and each takes its cheapest level. Where
-    that would spend more W′ than there is, the blocks are solved together by
-    dynamic programming over (block, W′ balance) on :data:`W_LEVELS` levels, the
+    that would spend more W′ than there is, the blocks of every stretch where W′ is
+    not nearly full (:func:`_windows`) are solved together by dynamic programming over (block, W′ balance) on :data:`W_LEVELS` levels, the
     balance moving by the exact solution of the differential form for a constant
     power over the block's time (Skiba et al. 2015).
     """
@@ -223,17 +232,42 @@ def plan_pacing(
     starts = course.blocks()
     if mean_power >= powers[-1]:
         index = np.full(times.shape[1], powers.size - 1)
-        return _result(powers, times, index, starts, np.inf, False, course)
+        return _result(powers, times, index, starts, np.inf, False)
     # first the blocks alone, for every multiplier
     low, high = 1e-3 * mean_power, 1e3 * mean_power
-    free = _bisect(lambda k: _independent(powers, times, k), powers, times, mean_power, low, high)
-    kappa, index = free
-    if _w_low(powers[index], times[index, np.arange(index.size)], cp, w_prime) >= W_FLOOR * w_prime:
-        return _result(powers, times, index, starts, kappa, False, course)
+    kappa, index = _bisect(lambda k: _independent(powers, times, k), powers, times, mean_power, low, high)
+    chosen = times[index, np.arange(index.size)]
+    balance = w_prime_balance(powers[index], chosen, cp, w_prime)
+    keep = (W_FLOOR + floor) * w_prime
+    if np.min(balance, initial=w_prime) >= keep:
+        return _result(powers, times, index, starts, kappa, False)
     # W′ lowers the power on climbs, so the mean needs a higher price of time
-    programme = _Programme(powers, times, cp, w_prime)
-    kappa, index = _bisect(programme.solve, powers, times, mean_power, kappa, kappa * WIDEN, rounds=2)
-    return _result(powers, times, index, starts, kappa, True, course)
+    programme = _programme(powers, times, cp, w_prime, _windows(balance, w_prime), keep)
+    hint = kappa if kappa_hint is None else kappa_hint
+    narrow = 1.0 + (WIDEN - 1.0) * (kappa_hint is None)
+    kappa, index = _bisect(programme.solve, powers, times, mean_power, hint / narrow**0.1, hint * narrow, 2)
+    return _result(powers, times, index, starts, kappa, True)
+
+
+def _windows(balance: np.ndarray, w_prime: float) -> np.ndarray:
+    """Blocks where W′ matters: every run of blocks whose balance, without the W′
+    limit, is below :data:`WINDOW_FULL` of W′ (each run starts with W′ nearly full).
+    Returns a bool array over blocks."""
+    return np.asarray(balance < WINDOW_FULL * w_prime)
+
+
+_last: dict[str, tuple[tuple, _Programme]] = {}
+
+
+def _programme(powers, times, cp, w_prime, window, keep) -> _Programme:
+    """The programme for these windows, kept for the next call with the same ones
+    (the ride's mean is matched by asking again with a corrected mean)."""
+    key = (id(times), times.shape, float(cp), float(w_prime), float(keep), window.tobytes())
+    if "last" in _last and _last["last"][0] == key:
+        return _last["last"][1]
+    programme = _Programme(powers, times, cp, w_prime, window, keep)
+    _last["last"] = (key, programme)
+    return programme
 
 
 def block_times(course: Course, top: float) -> tuple[np.ndarray, np.ndarray]:
@@ -244,7 +278,7 @@ def block_times(course: Course, top: float) -> tuple[np.ndarray, np.ndarray]:
     return powers, np.add.reduceat(per_segment, course.blocks()[:-1], axis=1)
 
 
-def _result(powers, times, index, starts, kappa, bound, course) -> Pacing:
+def _result(powers, times, index, starts, kappa, bound) -> Pacing:
     chosen = times[index, np.arange(index.size)]
     total = float(np.sum(chosen))
     power = np.repeat(powers[index], np.diff(starts))
@@ -288,20 +322,20 @@ def _bisect(solve, powers, times, target, low, high, rounds=ROUNDS) -> tuple[flo
     return best
 
 
-def _w_low(power: np.ndarray, time: np.ndarray, cp: float, w_prime: float) -> float:
-    """Lowest W′ balance [J] of a plan of blocks (the differential form)."""
-    return float(np.min(w_prime_balance(power, time, cp, w_prime), initial=w_prime))
-
-
 class _Programme:
-    """The dynamic programme over (block, W′ balance) for many multipliers at once.
+    """The dynamic programme over (block, W′ balance) for many multipliers at once,
+    on the blocks of ``window`` (bool over blocks); the others take their cheapest
+    level alone. W′ is taken as full where a run of window blocks starts.
 
     The transitions depend only on the course, the levels and the rider, so they are
     worked out once and every multiplier reuses them."""
 
-    def __init__(self, powers: np.ndarray, times: np.ndarray, cp: float, w_prime: float):
-        self.powers = powers
-        self.times = times.T  # (blocks, levels)
+    def __init__(self, powers, times, cp: float, w_prime: float, window: np.ndarray, keep: float):
+        self.powers, self.all_times = powers, times
+        self.inside = np.flatnonzero(window)
+        self.times = times[:, self.inside].T  # (window blocks, levels)
+        # a run starts where the block before is not in the window
+        self.resets = np.concatenate(([True], np.diff(self.inside) > 1))
         grid = np.linspace(0.0, w_prime, W_LEVELS)
         above = powers >= cp
         spend = (powers - cp)[None, :] * self.times
@@ -311,31 +345,47 @@ class _Programme:
             grid[None, :, None] - spend[:, None, :],
             w_prime - (w_prime - grid[None, :, None]) * decay[:, None, :],
         )  # (blocks, W levels, power levels)
-        self.floor = W_FLOOR * w_prime
+        self.floor = keep
         self.feasible = after >= self.floor
         position = np.clip(after, 0.0, w_prime) / w_prime * (W_LEVELS - 1)
         self.cell = np.minimum(position.astype(np.int64), W_LEVELS - 2)
         self.frac = position - self.cell
         self.spend, self.decay, self.above = spend, decay, above
-        self.cp, self.w_prime = cp, w_prime
+        self.w_prime = w_prime
 
     def solve(self, kappas: np.ndarray) -> np.ndarray:
         """Chosen level in every block for each multiplier: array (kappas, blocks)."""
-        blocks, levels = self.times.shape
-        m = kappas.size
+        chosen = _independent(self.powers, self.all_times, kappas)
         cost = self.times[None, :, :] * (self.powers[None, None, :] + kappas[:, None, None])
-        value = np.zeros((blocks + 1, m, W_LEVELS))
+        value = self._backward(cost)
+        chosen[:, self.inside] = self._forward(cost, value)
+        return chosen
+
+    def _backward(self, cost: np.ndarray) -> np.ndarray:
+        """Least cost from each window block on, by W′ level: (blocks + 1, m, W)."""
+        blocks = self.times.shape[0]
+        value = np.zeros((blocks + 1, cost.shape[0], W_LEVELS))
         for b in range(blocks - 1, -1, -1):
             ahead = value[b + 1]
+            if b + 1 < blocks and self.resets[b + 1]:  # a new run starts with W′ full
+                ahead = np.repeat(ahead[:, -1:], W_LEVELS, axis=1)
             cell, frac = self.cell[b], self.frac[b]
             later = ahead[:, cell] * (1.0 - frac) + ahead[:, cell + 1] * frac  # (m, W, levels)
             total = np.where(self.feasible[b], later, INFEASIBLE) + cost[:, b, None, :]
             value[b] = total.min(axis=2)
-        # forward: the exact balance, the best level against the values ahead
-        w = np.full(m, self.w_prime)
+        return value
+
+    def _forward(self, cost: np.ndarray, value: np.ndarray) -> np.ndarray:
+        """The exact balance along each window run and the best level against the
+        values ahead: (m, window blocks)."""
+        blocks = self.times.shape[0]
+        m = cost.shape[0]
+        rows = np.arange(m)[:, None]
         chosen = np.empty((m, blocks), dtype=np.int64)
-        rows = np.arange(m)
+        w = np.full(m, self.w_prime)
         for b in range(blocks):
+            if self.resets[b]:
+                w = np.full(m, self.w_prime)
             after = np.where(
                 self.above[None, :],
                 w[:, None] - self.spend[b][None, :],
@@ -345,11 +395,13 @@ class _Programme:
             cell = np.minimum(position.astype(np.int64), W_LEVELS - 2)
             frac = position - cell
             ahead = value[b + 1]
-            later = ahead[rows[:, None], cell] * (1.0 - frac) + ahead[rows[:, None], cell + 1] * frac
+            if b + 1 < blocks and self.resets[b + 1]:
+                ahead = np.repeat(ahead[:, -1:], W_LEVELS, axis=1)
+            later = ahead[rows, cell] * (1.0 - frac) + ahead[rows, cell + 1] * frac
             total = np.where(after >= self.floor, later, INFEASIBLE) + cost[:, b, :]
             k = np.argmin(total, axis=1)
             chosen[:, b] = k
-            w = np.maximum(after[rows, k], 0.0)
+            w = np.maximum(after[np.arange(m), k], 0.0)
         return chosen
 
 
@@ -436,11 +488,58 @@ def _fit(course: Course, mean_power: float, cp: float, w_prime: float, top: floa
     """The pacing plan and its ride whose ridden mean power is ``mean_power``."""
     table = shared_block_times(course, top)
     asked = mean_power
+    hint = None
+    floor = 0.0
     for _ in range(FIT_ROUNDS + 1):
-        pacing = plan_pacing(course, mean_power=asked, cp=cp, w_prime=w_prime, top=top, table=table)
+        pacing = plan_pacing(
+            course,
+            mean_power=asked,
+            cp=cp,
+            w_prime=w_prime,
+            top=top,
+            table=table,
+            kappa_hint=hint,
+            floor=floor,
+        )
+        hint = pacing.kappa if np.isfinite(pacing.kappa) else None
         ride = course.ride(pacing.power)
         ridden = ridden_mean(ride)
-        if ridden <= 0 or abs(ridden - mean_power) <= MEAN_TOLERANCE * mean_power:
+        low = float(np.min(w_prime_balance(ride.rider_power, ride.time, cp, w_prime), initial=w_prime))
+        short = low < -W_PRIME_SLACK * w_prime
+        if ridden <= 0 or (abs(ridden - mean_power) <= MEAN_TOLERANCE * mean_power and not short):
             break
+        if short:  # the ride's inertia spent more than the programme planned: keep more
+            floor += -low / w_prime + W_FLOOR
         asked = min(asked * mean_power / ridden, top)
     return pacing, ride
+
+
+#: A day's ride, not a race: the default mean power is this share of the power the
+#: rider could sustain for the ride's length (common practice, no published source).
+RIDE_SHARE = 0.80
+
+
+def day_effort(course: Course, *, cp: float, w_prime: float, top: float) -> tuple[float, float]:
+    """The default day's effort: mean power [W] and the ride's length [s] it assumed.
+
+    Notes
+    -----
+    P̄ = :data:`RIDE_SHARE` × min(CP, P_sustainable(T)), P_sustainable of
+    :func:`~cardgen.physics.effort.sustainable_power_omni` (the omni-domain
+    power–duration model), T the moving time at a constant P̄ on steady speeds: a
+    fixed point, found by iteration (T falls as P̄ rises, so it settles). The time at
+    constant power is a little longer than the paced ride's, so the default errs low.
+    """
+    powers, times = shared_block_times(course, top)
+    total = times.sum(axis=1)
+    mean = RIDE_SHARE * cp
+    duration = float(np.interp(mean, powers[1:], total[1:]))
+    for _ in range(30):
+        sustainable = float(sustainable_power_omni(duration, cp, w_prime))
+        new = min(RIDE_SHARE * min(cp, sustainable), top)
+        duration = float(np.interp(new, powers[1:], total[1:]))
+        if abs(new - mean) < 0.01:
+            mean = new
+            break
+        mean = new
+    return mean, duration

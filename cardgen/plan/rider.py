@@ -36,7 +36,7 @@ from cardgen.plan.model import (
     Totals,
     arrival_time,
 )
-from cardgen.plan.pacing import Course, ceiling, pace, ridden_mean
+from cardgen.plan.pacing import W_PRIME_SLACK, Course, ceiling, day_effort, pace, ridden_mean
 from cardgen.profiles.motors import find_motor
 from cardgen.profiles.riders import Rider
 from cardgen.route.climbs import Climb, Descent, find_climbs, find_descents
@@ -78,10 +78,6 @@ CRAWL_TIME = 30 * 60.0
 #: A driven front wheel (arm-powered handcycles) may slip from this grade [-]: from
 #: memory, no published source checked.
 TRACTION_GRADE = 0.10
-#: A climb is flagged for W′ only when the ride's balance falls below this share of
-#: W′ under zero: the pacing plan spends W′ to its floor on steady speeds, and the
-#: ride's inertia moves the balance by about this much.
-W_PRIME_SLACK = 0.01
 #: Speeds [m/s] at which a climb's power curve is drawn: 2 to 30 km/h.
 CURVE_SPEEDS = np.linspace(2.0, 30.0, 57) / 3.6
 
@@ -305,12 +301,17 @@ def _paced(course: Course, rider: Rider) -> tuple[Effort, Ride]:
     """The rider's pacing plan, ridden, and what it assumed."""
     style = rider.pacing_style
     top = ceiling(style, rider.cp, rider.climb_share)
-    paced = pace(course, mean_power=min(rider.flat_power, top), cp=rider.cp, w_prime=rider.w_prime, top=top)
+    asked, duration = min(rider.flat_power, top), None
+    if not rider.effort_given:
+        asked, duration = day_effort(course, cp=rider.cp, w_prime=rider.w_prime, top=top)
+    paced = pace(course, mean_power=asked, cp=rider.cp, w_prime=rider.w_prime, top=top)
     effort = Effort(
         style=style,
         mean_power=ridden_mean(paced.ride),
-        asked=rider.flat_power,
+        asked=asked,
         ceiling=top,
+        given=rider.effort_given,
+        duration=duration,
         battery_empty_at=paced.empty_at,
     )
     return effort, paced.ride

@@ -44,6 +44,8 @@ class Rider:
     climb_share : float [-] largest share above CP allowed on climbs
     target_speed : float [m/s] climbing speed for the "watts to hold it" column
     assist_between_climbs : int  assist level away from climbs (vehicles with a motor)
+    effort_given : bool  ``flat_power`` is the rider's own setting (flat_w, flat_kmh);
+        else the plan chooses the day's effort from the ride's length
     pacing : str  a pacing style of :data:`PACING_STYLES`, or "" for the vehicle's
         default (:attr:`pacing_style`)
 
@@ -69,6 +71,7 @@ class Rider:
     target_speed: float
     assist_between_climbs: int = DEFAULT_ASSIST_LEVEL
     pacing: str = ""
+    effort_given: bool = True
 
     def __post_init__(self):
         problems = []
@@ -123,7 +126,9 @@ class Rider:
 
         Defaults follow what is given: W′ and the climbing power from the CP, the CP
         from the flat power (:data:`ALL_DAY_SHARE_OF_CP`)."""
-        flat = given.get("flat_power", vehicle.typical_power)
+        # with a CP and no effort given, the effort follows the CP (the one rule)
+        typical = vehicle.typical_power if "cp" not in given else ALL_DAY_SHARE_OF_CP * given["cp"]
+        flat = given.get("flat_power", typical)
         cp = given.get("cp", flat / ALL_DAY_SHARE_OF_CP)
         values = dict(
             cp=cp,
@@ -132,6 +137,7 @@ class Rider:
             climb_power=cp,
             climb_share=CLIMB_SHARE_ABOVE_CP,
             target_speed=vehicle.climb_speed,
+            effort_given="flat_power" in given,
         )
         values.update(given)
         return cls(name=name or vehicle.label, vehicle=vehicle, **values)
