@@ -349,7 +349,16 @@ def _rounded(tree):
 
 
 #: The header of ``cardgen route --trace`` (part of the command-line contract).
-TRACE_HEADER = ("distance_m", "elevation_m", "grade_pct", "rider_w", "motor_w", "speed_kmh", "time_s", "w_prime_j")
+TRACE_HEADER = (
+    "distance_m",
+    "elevation_m",
+    "grade_pct",
+    "rider_w",
+    "motor_w",
+    "speed_kmh",
+    "time_s",
+    "w_prime_j",
+)
 
 
 def trace_csv_text(plan) -> str:
