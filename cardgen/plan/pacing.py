@@ -36,6 +36,7 @@ import functools
 import hashlib
 from collections import OrderedDict
 from dataclasses import dataclass
+from typing import Any
 
 import numpy as np
 
@@ -157,7 +158,7 @@ class Course:
     def times(self, powers: np.ndarray) -> np.ndarray:
         """Time [s] on every segment at each steady power: array (levels, n)."""
         p = np.asarray(powers, dtype=float)[:, None]
-        air = dict(grade=self.grade, headwind=self.headwind, air_density=self.air_density)
+        air: dict[str, Any] = dict(grade=self.grade, headwind=self.headwind, air_density=self.air_density)
         if self.motor is not None and self.assist_ratio is not None:
             speed = assisted_speed(self.motor, self.assist_ratio, p, resistance=self.resistance, **air)
         else:
