@@ -10,6 +10,7 @@ import os
 from cardgen.cli.common import _finite, _n, _print, _within
 from cardgen.errors import CardgenError
 from cardgen.profiles.riders import PACING_STYLES
+from cardgen.units import KMH_PER_MS
 
 
 def _route_plan(args):
@@ -71,7 +72,7 @@ def cmd_route(args) -> int:
     e, rider = plan.effort, plan.rider
     _print(
         f"{v.label} ({v.name}), {v.mass:.0f} kg; CP {rider.cp:.0f} W, W′ {rider.w_prime / 1000:.1f} kJ; "
-        f"climb target {rider.target_speed * 3.6:.1f} km/h"
+        f"climb target {rider.target_speed * KMH_PER_MS:.1f} km/h"
     )
     assumed = "" if e.given else f", the default for a ride of about {duration(e.duration or 0.0)}"
     _print(f"Pacing: {e.style}, mean {e.mean_power:.0f} W ({e.mean_power / rider.cp:.0%} of CP{assumed})")

@@ -26,6 +26,7 @@ from cardgen.profiles.limits import LIMITS
 from cardgen.profiles.riders import DEFAULT_ASSIST_LEVEL, Rider, flat_power_for_speed
 from cardgen.profiles.vehicles import Vehicle, vehicles_from_tables
 from cardgen.settings import RiderConfig, RouteConfig, SiteConfig, Wave
+from cardgen.units import KMH_PER_MS, ZERO_CELSIUS_K
 
 
 def load_config(path: Path) -> SiteConfig:
@@ -101,9 +102,9 @@ def _from_data(data: dict, path: Path | None, text: str, folder: Path) -> SiteCo
             f"{plural(len(problems), 'problem')} in the configuration:\n  " + "\n  ".join(problems)
         )
     conditions = Conditions(
-        cond["wind_kmh"] / 3.6,
+        cond["wind_kmh"] / KMH_PER_MS,
         math.radians(cond["wind_from_deg"]),
-        None if cond["temperature_c"] is None else cond["temperature_c"] + 273.15,
+        None if cond["temperature_c"] is None else cond["temperature_c"] + ZERO_CELSIUS_K,
     )
     return SiteConfig(
         source=path,
@@ -262,7 +263,7 @@ def _speed_rule(check: Checker, event: dict) -> tuple[float, float] | None:
             "(like min_kmh = 15, max_kmh = 30)"
         )
         return None
-    return slowest / 3.6, fastest / 3.6
+    return slowest / KMH_PER_MS, fastest / KMH_PER_MS
 
 
 def _waves(

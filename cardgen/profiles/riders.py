@@ -11,6 +11,7 @@ from cardgen.physics.atmosphere import SEA_LEVEL_AIR_DENSITY
 from cardgen.profiles.limits import LIMITS
 from cardgen.profiles.motors import find_motor
 from cardgen.profiles.vehicles import Vehicle
+from cardgen.units import KMH_PER_MS
 
 #: An all-day effort is held at about this share of critical power: common practice,
 #: no published source. The one link between a rider's flat effort and their CP: the
@@ -80,7 +81,7 @@ class Rider:
             ("W′", "w_prime_kj", self.w_prime / 1000),
             ("climb power", "climb_w", self.climb_power),
             ("climb share above CP", "climb_share", self.climb_share),
-            ("target climbing speed", "target_kmh", self.target_speed * 3.6),
+            ("target climbing speed", "target_kmh", self.target_speed * KMH_PER_MS),
         ):
             problem = LIMITS[key].problem(value)
             if problem:

@@ -21,10 +21,11 @@ from cardgen.physics.forces import Resistance
 from cardgen.profiles.limits import LIMITS
 from cardgen.profiles.motors import builtin_motors, find_motor
 from cardgen.profiles.tables import check_numbers, unknown_keys
+from cardgen.units import KMH_PER_MS
 
 #: Below this speed a two-wheeler is walked, not ridden: common practice (≈5–6 km/h),
 #: no published source; it matches the 6 km/h walk-assist limit of EN 15194.
-TWO_WHEEL_MIN_SPEED = 5.5 / 3.6  # [m/s]
+TWO_WHEEL_MIN_SPEED = 5.5 / KMH_PER_MS  # [m/s]
 
 # key in the file → attribute (ranges and units: cardgen.profiles.limits)
 NUMBERS = {

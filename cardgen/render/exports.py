@@ -13,7 +13,7 @@ from datetime import timedelta
 import numpy as np
 
 from cardgen.render.notices import notice_text
-from cardgen.units import J_PER_KCAL
+from cardgen.units import J_PER_KCAL, KMH_PER_MS
 
 
 def _num(x, digits=3):
@@ -39,7 +39,7 @@ def _notice(n, units: str = "metric", *, km: bool) -> dict:
         out["radius_m"] = _num(n.value("radius"), 1)
         speed = n.value("speed")
         if km:
-            out["safe_speed_kmh"] = speed * 3.6
+            out["safe_speed_kmh"] = speed * KMH_PER_MS
         else:
             out["safe_speed_m_s"] = _num(speed, 3)
     return out
@@ -226,7 +226,7 @@ def climbs_csv_text(plans) -> str:
                     f"{c.climb.steepest_grade * 100:.1f}",
                     f"{c.climb.score:.2f}",
                     f"{c.power_for_target:.0f}",
-                    f"{c.speed_at_effort * 3.6:.1f}",
+                    f"{c.speed_at_effort * KMH_PER_MS:.1f}",
                     f"{c.time / 60:.1f}",
                     c.assist_name or "",
                     " | ".join(notice_text(w) for w in c.warnings),
@@ -280,7 +280,7 @@ def route_gpx_text(track, terrain, climbs, checkpoints) -> str:
 def route_json(plan) -> dict:
     """The ``cardgen route --json`` object (docs/contracts.md): one rider on one route,
     in the units its key names carry."""
-    kmh = 3.6
+    kmh = KMH_PER_MS
     totals = plan.totals
     return _rounded(
         {
@@ -376,7 +376,7 @@ def trace_csv_text(plan) -> str:
         terrain.grade[follows] * 100,
         ride.rider_power[follows],
         np.asarray(motor)[follows],
-        ride.speed * 3.6,
+        ride.speed * KMH_PER_MS,
         ride.elapsed,
         balance,
     )

@@ -25,6 +25,7 @@ from cardgen.render import exports, plots
 from cardgen.render import format as fmt
 from cardgen.render.html import RiderView, environment, slugify, symbol_of, symbols_for, theme_file
 from cardgen.render.notices import notice_text
+from cardgen.units import ZERO_CELSIUS_K
 
 #: Riders on one group of the coach sheet: a group's tables fit a page or two.
 COACH_GROUP = 8
@@ -314,7 +315,7 @@ def _render_route(config, site: dict, job: RouteJob, folder: Path) -> RoutePages
     page = page_geometry(config.card_size, config.large_print)
     feeds = [(c.distance, c.name) for c in job.checkpoints]
     temperature = config.conditions.temperature
-    celsius = None if temperature is None else temperature - 273.15
+    celsius = None if temperature is None else temperature - ZERO_CELSIUS_K
     card_template = env.get_template("card.html")
     cards = []
     for view in views:

@@ -18,6 +18,7 @@ import warnings
 import numpy as np
 
 from cardgen.render import format as fmt
+from cardgen.units import KMH_PER_MS
 
 MAX_POINTS = 1000
 GRADE_RANGE = 12.0  # [%] the colour scale runs from flat to 12 % up or down
@@ -221,7 +222,7 @@ def power_curves(rows, units: str = "metric", *, width_in: float = 6.6, height_i
     from matplotlib import colormaps
 
     imperial = units == "imperial"
-    to_shown = fmt.MPH_PER_MS if imperial else 3.6
+    to_shown = fmt.MPH_PER_MS if imperial else KMH_PER_MS
     fig = _figure(width_in, height_in)
     ax = fig.add_subplot()
     markers = ["o", "s", "^", "D", "v", "P", "X", "*"]
