@@ -70,6 +70,8 @@ CASES = {
     "vehicle-is-dev-zero": "a vehicle profile that is /dev/zero: refused before reading",
     "theme-css-symlink": "a theme's style.css linking to a file outside the theme: refused",
     "theme-include-symlink": "{% include %} of a template linking outside the theme: refused",
+    "theme-hard-link-js": "a theme's find.js hard-linked to a file outside the theme: refused, nothing published",
+    "theme-hard-link-include": "{% include %} of a template hard-linked to a file outside the theme: refused",
     "theme-python-escape": "a theme reaching Python internals (__class__.__mro__): stopped by the sandbox",
     "theme-syntax-error": "a theme template with a syntax error: one line with file and line",
     "theme-undefined-name": "a theme template using an undefined name: one line with the file",
@@ -206,6 +208,26 @@ def test_theme_include_symlink(tmp_path, capsys):
     out = tmp_path / "site"
     code = _run("build", str(src / "site.toml"), "-o", str(out), "--no-pdf")
     _one_line_error(capsys, code, "leak.txt")
+    assert not out.exists()
+
+
+@pytest.mark.parametrize("include", [False, True])
+def test_theme_hard_link(tmp_path, capsys, include):
+    """A hard link has no target to check: it is another name of the same file, which
+    may lie outside the theme. Theme files with more than one name are refused."""
+    src = _src(tmp_path)
+    theme = _theme(src)
+    secret = tmp_path / "secret.txt"
+    secret.write_text("the organiser's private notes")
+    if include:
+        os.link(secret, theme / "notes.txt")
+        index = (Path(__file__).resolve().parents[1] / "templates" / "index.html").read_text()
+        (theme / "index.html").write_text(index.replace("<h1>", "{% include 'notes.txt' %}<h1>", 1))
+    else:
+        os.link(secret, theme / "find.js")
+    out = tmp_path / "site"
+    code = _run("build", str(src / "site.toml"), "-o", str(out), "--no-pdf", "--jobs", "1")
+    _one_line_error(capsys, code, "notes.txt" if include else "find.js", "hard link")
     assert not out.exists()
 
 
