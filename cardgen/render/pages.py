@@ -82,6 +82,7 @@ class CardSource:
     target: str
     variants: tuple[str, ...] = ()
     budget: int = 0
+    group: str = ""  # cards of one group fit alike: the vehicle kind
 
 
 #: The order in which a card is condensed until it fits its page budget, never
@@ -356,7 +357,16 @@ def _render_route(config, site: dict, job: RouteJob, folder: Path) -> tuple[dict
             card_template.render(**context, condense=min(level, 3), continuation=level >= 4)
             for level in range(CONDENSE_STEPS + 1)
         )
-        cards.append(CardSource(variants[0], str(folder), str(folder / view.card), variants, page["budget"]))
+        cards.append(
+            CardSource(
+                variants[0],
+                str(folder),
+                str(folder / view.card),
+                variants,
+                page["budget"],
+                view.plan.rider.vehicle.name,
+            )
+        )
     if views:
         ordered = sorted(views, key=lambda v: (v.start.isoformat() if v.start else "~", v.name))
         groups = [ordered[i : i + COACH_GROUP] for i in range(0, len(ordered), COACH_GROUP)]
