@@ -51,6 +51,7 @@ class Starts:
     by_entry: dict[tuple[int, int], Start]
     waves: tuple[WaveStarts, ...]
     to_second: bool = False  # some start falls between whole minutes
+    open_start: int = 0  # riders who start from the event's own start (rule 4)
     _none: Start = field(default=Start(None), repr=False)
 
     def of(self, rider: int, route: int) -> Start:
@@ -89,6 +90,7 @@ def event_starts(site: Any) -> Starts:
     slots: list[dict[int, int]] = [{} for _ in waves]  # wave → rider index → place in the wave
     on_route_start = [0] * len(routes)
     by_entry: dict[tuple[int, int], Start] = {}
+    opened: set[int] = set()
     for i, entrant in enumerate(site.riders):
         for k, route in enumerate(routes):
             if not entrant.rides(route, names[k]):
@@ -108,6 +110,7 @@ def event_starts(site: Any) -> Starts:
                 by_entry[(i, k)] = Start(at)
             elif site.start is not None:
                 by_entry[(i, k)] = Start(site.start + timedelta(seconds=i * site.start_interval))
+                opened.add(i)
     summary = []
     for w, wave in enumerate(waves):
         count = len(slots[w])
@@ -115,4 +118,4 @@ def event_starts(site: Any) -> Starts:
         last = first + timedelta(seconds=(count - 1) * wave.interval) if first else None
         summary.append(WaveStarts(wave.name, count, first, last))
     to_second = any(s.at is not None and (s.at.second or s.at.microsecond) for s in by_entry.values())
-    return Starts(by_entry, tuple(summary), to_second)
+    return Starts(by_entry, tuple(summary), to_second, len(opened))
