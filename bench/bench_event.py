@@ -28,7 +28,6 @@ import resource
 import shutil
 import subprocess
 import sys
-import time
 from pathlib import Path
 
 sys.path.insert(0, str(Path(__file__).resolve().parent))
@@ -157,7 +156,9 @@ def main() -> None:
         encoding="utf-8",
     )
     site = folder / "site.toml"
-    print(f"{args.riders} riders on 40, 100 and 160 km, {'with' if pdf else 'without'} PDFs, --jobs {args.jobs}")
+    print(
+        f"{args.riders} riders on 40, 100 and 160 km, {'with' if pdf else 'without'} PDFs, --jobs {args.jobs}"
+    )
     before = None
     if not args.no_baseline:
         before = _build(_unpack(args.baseline), site, folder / "site-before", args.jobs, pdf)

@@ -29,14 +29,18 @@ def _event(folder: Path, entrants: int, waves: int, routes: int = 3) -> Path:
     for name in names:
         make_route(folder / f"{name}.gpx", points=2_000)
     rows = ["name,vehicle,cp_w,bib,routes"]
-    rows += [f"Entrant {i:05d},road-hoods,{150 + i % 100},{i + 1},{names[i % routes]}" for i in range(entrants)]
+    rows += [
+        f"Entrant {i:05d},road-hoods,{150 + i % 100},{i + 1},{names[i % routes]}" for i in range(entrants)
+    ]
     (folder / "entrants.csv").write_text("\n".join(rows) + "\n", encoding="utf-8")
     text = 'riders = "entrants.csv"\n[event]\nstart = "07:00"\nstart_interval_min = 0.5\n'
     text += "".join(f'[[routes]]\ngpx = "{n}.gpx"\n' for n in names)
     for w in range(waves):
         if waves == 1:
-            text += f'[[waves]]\nname = "All"\nstart = "06:45"\ninterval_min = 0.5\nroutes = {names!r}\n'.replace(
-                "'", '"'
+            text += (
+                f'[[waves]]\nname = "All"\nstart = "06:45"\ninterval_min = 0.5\nroutes = {names!r}\n'.replace(
+                    "'", '"'
+                )
             )
         else:  # one wave per rider, the last ones left to the open start
             text += (

@@ -79,8 +79,16 @@ def test_the_start_is_on_the_card_cover_coach_sheet_pages_and_plan_json(built):
     plans = json.loads((route / "plan.json").read_text())["plans"]
     for p in plans:
         bib, wave, at = want[p["rider"]["name"]]
-        assert (str(p["rider"]["bib"]), p["rider"]["wave"], p["rider"]["start"]) == (bib, wave, f"2027-04-18T{at}")
-    coach, cover, page = _text(route / "coach.pdf"), _text(route / "all-cards.pdf"), (route / "index.html").read_text()
+        assert (str(p["rider"]["bib"]), p["rider"]["wave"], p["rider"]["start"]) == (
+            bib,
+            wave,
+            f"2027-04-18T{at}",
+        )
+    coach, cover, page = (
+        _text(route / "coach.pdf"),
+        _text(route / "all-cards.pdf"),
+        (route / "index.html").read_text(),
+    )
     for name, (bib, wave, at) in want.items():
         card = " ".join(_text(route / f"{name.lower()}.pdf").split())
         assert f"{name} · bib {bib}" in card and f"start {at}" in card
@@ -88,6 +96,6 @@ def test_the_start_is_on_the_card_cover_coach_sheet_pages_and_plan_json(built):
         line = next(x for x in coach.splitlines() if x.strip().startswith(name + " "))
         assert bib in line.split() and at in line and (wave or "–") in line
         assert any(name in x and at in x and bib in x.split() for x in cover.splitlines())
-        assert f"<td class=\"num\">{at}</td>" in page
+        assert f'<td class="num">{at}</td>' in page
     index = (site / "index.html").read_text()
     assert "wave Early 09:30:00–09:31:00 (3 riders)" in index and "other riders from 09:00:00" in index

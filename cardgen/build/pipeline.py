@@ -24,10 +24,11 @@ from pathlib import Path
 from cardgen import __version__
 from cardgen.build.cache import digest, file_digest, read_manifest, templates_digest, write_manifest
 from cardgen.build.publish import TMP, BuildError, Lock, check_output, publish, recover, side_name
-from cardgen.config import SiteConfig, plural
+from cardgen.config import plural
 from cardgen.errors import CardgenError
+from cardgen.io.gpx import MAX_FILE_BYTES
 from cardgen.paths import default_templates
-from cardgen.route.gpx import MAX_FILE_BYTES
+from cardgen.settings import SiteConfig
 
 
 class Interrupted(KeyboardInterrupt):
@@ -111,11 +112,11 @@ def _plan_route(task):
     """Worker: read, analyse and plan one route for its riders.
 
     Returns (RouteJob, None) or (None, error message naming the file)."""
+    from cardgen.io.gpx import read_gpx
     from cardgen.plan import analyse, make_plan
     from cardgen.render.pages import Entry, RouteJob
     from cardgen.route.checkpoints import resolve_checkpoints
     from cardgen.route.cues import apply_cue_texts
-    from cardgen.route.gpx import read_gpx
     from cardgen.route.terrain import build_terrain
 
     route, config, starts = task  # starts: rider index → Start on this route

@@ -12,17 +12,15 @@ Rules, in order (README, "Starts and waves"):
 4. the event's ``start``, the n-th entrant n intervals after it;
 5. otherwise no start (times are given from the start, "+1:07").
 
-The inputs are the site's settings, read by attribute only (``riders`` with ``rider.
-name``, ``start``, ``rides(route, name)``; ``routes`` with ``name``, ``gpx``, ``start``;
-``waves`` with ``name``, ``start``, ``interval``, ``riders``, ``routes``; ``day``,
-``start``, ``start_interval``), so that this layer imports nothing above it.
+The input is the site's frozen settings (:class:`cardgen.settings.SiteConfig`).
 """
 
 from __future__ import annotations
 
 from dataclasses import dataclass, field
 from datetime import date, datetime, timedelta
-from typing import Any
+
+from cardgen.settings import RouteConfig, SiteConfig
 
 
 @dataclass(frozen=True)
@@ -62,12 +60,12 @@ class Starts:
         return sorted((r, s) for (r, k), s in self.by_entry.items() if k == route)
 
 
-def route_name(route: Any) -> str:
+def route_name(route: RouteConfig) -> str:
     """What a route is called in ``routes`` lists: its name, else its file's stem."""
     return route.name or route.gpx.stem
 
 
-def _route_waves(waves, routes) -> list[int | None]:
+def _route_waves(waves, routes: tuple[RouteConfig, ...]) -> list[int | None]:
     """For each route, the first wave that names it (by file name, stem or name)."""
     first: list[int | None] = []
     for route in routes:
@@ -76,7 +74,7 @@ def _route_waves(waves, routes) -> list[int | None]:
     return first
 
 
-def event_starts(site: Any) -> Starts:
+def event_starts(site: SiteConfig) -> Starts:
     """Every rider's start on every route they ride, and each wave's first and last
     start; time linear in riders × routes + waves (one pass, dictionaries for names)."""
     day: date = site.day or (site.start.date() if site.start else date(2000, 1, 1))
@@ -105,7 +103,9 @@ def event_starts(site: Any) -> Starts:
                 at = datetime.combine(day, waves[w].start) + timedelta(seconds=place * waves[w].interval)
                 by_entry[(i, k)] = Start(at, waves[w].name)
             elif route.start is not None:
-                at = datetime.combine(day, route.start) + timedelta(seconds=on_route_start[k] * site.start_interval)
+                at = datetime.combine(day, route.start) + timedelta(
+                    seconds=on_route_start[k] * site.start_interval
+                )
                 on_route_start[k] += 1
                 by_entry[(i, k)] = Start(at)
             elif site.start is not None:
