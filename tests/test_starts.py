@@ -121,3 +121,10 @@ def test_starts_agree_with_the_rules_read_literally(tmp_path):
     want = _reference(config)
     assert {key: (s.at, s.wave) for key, s in starts.by_entry.items()} == want
     assert any(w == "Hills" for _, w in want.values()) and any(w is None for _, w in want.values())
+
+
+def test_every_rider_of_a_route_has_an_entry_even_without_any_start_time(tmp_path):
+    config = _site(tmp_path, "", _riders(4), event="")
+    starts = event_starts(config)
+    assert sorted(starts.by_entry) == [(0, 0), (1, 1), (2, 2), (3, 0)]
+    assert all(s.at is None and s.wave is None for s in starts.by_entry.values())

@@ -111,6 +111,8 @@ def event_starts(site: SiteConfig) -> Starts:
             elif site.start is not None:
                 by_entry[(i, k)] = Start(site.start + timedelta(seconds=i * site.start_interval))
                 opened.add(i)
+            else:  # no event time: plans count from the start ("+1:07")
+                by_entry[(i, k)] = Start(None)
     summary = []
     for w, wave in enumerate(waves):
         count = len(slots[w])
