@@ -291,6 +291,31 @@ class RoutePages:
     cards: list[CardSource]
 
 
+def _windows(config, job: RouteJob, plans: list[Plan]) -> tuple[list, str]:
+    """The checkpoints' opening and closing times, from each rider's own start, and
+    the sentence that says how they were set ([], "" without start times)."""
+    units = config.units
+    windows: list = []
+    margin_text = ""
+    starts = [e.start for e in job.riders]
+    if plans and all(s is not None for s in starts):  # windows from each rider's own start
+        windows, _ = checkpoint_windows(
+            plans, job.checkpoints, starts, config.checkpoint_margin, config.speed_rule
+        )
+        if config.speed_rule:
+            slowest, fastest = config.speed_rule
+            margin_text = (
+                f"open at the first start plus the distance at {fmt.speed(fastest, units)} average, close at "
+                f"the last start plus the distance at {fmt.speed(slowest, units, 'down')} average"
+            )
+        else:
+            margin_text = (
+                f"{config.checkpoint_margin / 60:.0f} min before the fastest and after the slowest rider "
+                "planned here, stops included"
+            )
+    return windows, margin_text
+
+
 def render_route(config, site: dict, job: RouteJob, folder: Path) -> RoutePages:
     """A route's page, plots and exports, its summary for the index and the cards to
     print; ``folder`` is where the build will put them (the cards' links point there).
@@ -310,24 +335,7 @@ def _render_route(config, site: dict, job: RouteJob, folder: Path) -> RoutePages
         slug = slugify(e.name, taken)  # unique within the route: it names the card file
         views.append(RiderView(e.name, slug, e.plan, f"{slug}.pdf", e.start, e.bib, e.wave))
     plans: list[Plan] = [v.plan for v in views]
-    windows: list = []
-    margin_text = ""
-    starts = [e.start for e in job.riders]
-    if plans and all(s is not None for s in starts):  # windows from each rider's own start
-        windows, _ = checkpoint_windows(
-            plans, job.checkpoints, starts, config.checkpoint_margin, config.speed_rule
-        )
-        if config.speed_rule:
-            slowest, fastest = config.speed_rule
-            margin_text = (
-                f"open at the first start plus the distance at {fmt.speed(fastest, units)} average, close at "
-                f"the last start plus the distance at {fmt.speed(slowest, units, 'down')} average"
-            )
-        else:
-            margin_text = (
-                f"{config.checkpoint_margin / 60:.0f} min before the fastest and after the slowest rider "
-                "planned here, stops included"
-            )
+    windows, margin_text = _windows(config, job, plans)
     route = {
         "name": job.name,
         "notes": job.notes,

@@ -190,8 +190,11 @@ def elevation_profile(
     )
     bar.set_label("grade up or down (%)", fontsize=SMALLEST_PT * k, color=INK)
     bar.ax.tick_params(labelsize=SMALLEST_PT * k, colors=INK)
-    svg = _svg(fig)
+    return _svg(fig), _profile_alt(terrain, climbs, checkpoints, units, name)
 
+
+def _profile_alt(terrain, climbs, checkpoints, units: str, name: str) -> str:
+    """The elevation profile in words, for screen readers and print."""
     parts = [
         f"Elevation profile{' of ' + name if name else ''}: {fmt.distance(terrain.length, units)}, "
         f"from {fmt.height(float(terrain.elevation.min()), units)} to "
@@ -210,7 +213,7 @@ def elevation_profile(
             + "."
         )
     parts.append("Colour shows the grade; the tables give the same numbers.")
-    return svg, " ".join(parts)
+    return " ".join(parts)
 
 
 def power_curves(rows, units: str = "metric", *, width_in: float = 6.6, height_in: float = 2.6):
