@@ -86,8 +86,8 @@ def cmd_route(args) -> int:
                 f"{c['band']:<10} {_n(c['power_for_target_w'], '6.0f')} W {_n(c['speed_at_effort_kmh'], '5.1f')} "
                 f"{duration(c['time_s']):>5}"
             )
-            if c["assist_level"] is not None:
-                _print(f"      assist: {c['assist_level']}")
+            if c["assist"] is not None:
+                _print(f"      assist: {c['assist']}")
             for w in c["warnings"]:
                 _print(f"      ! {w['text']}")
     else:

@@ -57,7 +57,7 @@ def checkpoint_windows(
         # to the minute, outward: a planned arrival is never outside the printed window
         return CheckpointWindow(checkpoint, _minute_down(opens), _minute_up(closes), arrivals)
 
-    rows = [window(cp) for cp in sorted(checkpoints, key=lambda c: c.distance)]
+    rows = [window(checkpoint) for checkpoint in sorted(checkpoints, key=lambda c: c.distance)]
     return rows, window(Checkpoint("Finish", plans[0].terrain.length))
 
 

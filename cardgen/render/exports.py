@@ -268,14 +268,14 @@ def route_gpx_text(track, terrain, climbs, checkpoints) -> str:
                 type="climb",
             )
         )
-    for cp in checkpoints:
-        i = int(round(cp.distance / terrain.step))
+    for checkpoint in checkpoints:
+        i = int(round(checkpoint.distance / terrain.step))
         gpx.waypoints.append(
             gpxpy.gpx.GPXWaypoint(
                 round(float(terrain.lat[i]), 7),
                 round(float(terrain.lon[i]), 7),
                 elevation=round(float(terrain.elevation[i]), 1),
-                name=cp.name,
+                name=checkpoint.name,
                 type="checkpoint",
             )
         )
@@ -315,7 +315,8 @@ def route_json(plan) -> dict:
                     "power_for_target_w": c.power_for_target,
                     "speed_at_effort_kmh": c.speed_at_effort * kmh,
                     "time_s": c.time,
-                    "assist_level": c.assist_name,
+                    "assist_level": c.assist_level,
+                    "assist": c.assist_name,
                     "warnings": [_notice(w, km=True) for w in c.warnings],
                 }
                 for c in plan.climbs
