@@ -241,7 +241,11 @@ def _write_plots(config, job: RouteJob, folder: Path) -> dict:
     hardest = _hardest(analysis.climbs)
     if hardest is not None and job.riders:
         index = analysis.climbs.index(hardest)
-        power_svg, power_alt = plots.power_curves([(e.name, e.plan.climbs[index]) for e in job.riders], units)
+        power_svg, power_alt = plots.power_curves(
+            [(e.name, e.plan.climbs[index]) for e in job.riders],
+            units,
+            kinds=[e.plan.rider.vehicle.label for e in job.riders],
+        )
         (folder / "power.svg").write_text(power_svg, encoding="utf-8")
     return {
         "profile_alt": alt,
