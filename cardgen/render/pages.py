@@ -721,7 +721,12 @@ def render_packs(config, routes: list[tuple[str, dict]], folder: Path, fresh: se
         firsts = make_pack(
             entries,
             lambda rows: cover.render(
-                title=config.title, subtitle=subtitle, rows=rows, page=page, show_route=show_route
+                title=config.title,
+                subtitle=subtitle,
+                rows=rows,
+                page=page,
+                show_route=show_route,
+                two_up=config.card_size == "A5",
             ),
             where,
             target,
