@@ -97,7 +97,10 @@ SCHEMA = {
         "checkpoints": Spec("list", help="waypoint names or distances in km"),
         "start": Spec("time", help='this route\'s own first start, like "09:00"'),
         "stop_min": Spec("number", default=0.0, limit="stop_min", help="planned stop at each checkpoint"),
-        "stops_min": Spec("list", help="planned stop at each of the checkpoints listed, in minutes"),
+        "stops_min": Spec(
+            "list",
+            help="planned stop at each checkpoint listed (none listed: the GPX's, in route order), in minutes",
+        ),
         "cue_texts": Spec(
             "list", help='the organiser\'s words for cues, like ["12.1 = Left at the old mill"] (km = text)'
         ),
@@ -353,12 +356,17 @@ def _from_data(data: dict, path: Path | None, text: str, folder: Path) -> SiteCo
         for i, r in enumerate(routes)
         if r["gpx"] is not None
     )
-    numbered = [(i, rc) for i, r in enumerate(riders) if (rc := _rider(check, i, r, route_objects)) is not None]
+    numbered = [
+        (i, rc) for i, r in enumerate(riders) if (rc := _rider(check, i, r, route_objects)) is not None
+    ]
     rider_objects = [rc for _, rc in numbered]
     names = [rc.rider.name for rc in rider_objects]
     _duplicates(check, [(i, rc.rider.name) for i, rc in numbered], "name", "two riders are named {!r}")
     _duplicates(
-        check, [(i, rc.bib) for i, rc in numbered if rc.bib is not None], "bib", "bib {} is given to two riders"
+        check,
+        [(i, rc.bib) for i, rc in numbered if rc.bib is not None],
+        "bib",
+        "bib {} is given to two riders",
     )
     waves = _waves(check, data.get("waves", []), folder, set(names), route_objects)
     speed_rule = _speed_rule(check, tables["event"])
