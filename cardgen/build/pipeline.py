@@ -119,7 +119,7 @@ def _plan_route(task):
     rc = route.config
     try:
         track = read_gpx(rc.gpx)
-        riding = [(i, r) for i, r in enumerate(config.riders) if r.rides(rc, rc.name or rc.gpx.stem)]
+        riding = [(i, r) for i, r in enumerate(config.riders) if i in starts]
         planned = plan_route(
             track,
             [r.rider for _, r in riding],
@@ -132,20 +132,8 @@ def _plan_route(task):
             light=True,
         )
         riders = tuple(
-<<<<<<< HEAD
-            Entry(r.rider.name, *rider_start(config, i, rc), plan, r.bib)
+            Entry(r.rider.name, starts[i].at, starts[i].wave, plan, r.bib)
             for (i, r), plan in zip(riding, planned.plans, strict=True)
-=======
-            Entry(
-                r.rider.name,
-                starts[i].at,
-                starts[i].wave,
-                make_plan(analysis, rider=r.rider, conditions=config.conditions, stops=stops).lightened(),
-                r.bib,
-            )
-            for i, r in enumerate(config.riders)
-            if i in starts
->>>>>>> main
         )
         analysis, checkpoints = planned.analysis, planned.checkpoints
         job = RouteJob(route.slug, rc.name or track.name, rc.notes, analysis, tuple(checkpoints), riders)
