@@ -159,7 +159,9 @@ def _air(conditions, terrain, segs):
 
 
 def _ratio(motor, assist):
-    """The assist ratio of a level named "level 2 (100 %)" or "off"."""
+    """The assist ratio of a level: a number (0 = off) or its name, "level 2 (100 %)"."""
+    if isinstance(assist, int):
+        return 0.0 if assist == 0 else motor.levels[assist - 1]
     found = re.match(r"level (\d+)", assist or "")
     return 0.0 if found is None else motor.levels[int(found.group(1)) - 1]
 
@@ -201,7 +203,10 @@ def test_watts_for_the_target_speed(demo):
                 if motor is None:
                     own = np.maximum(need, 0.0) / vehicle.efficiency
                 else:
-                    ratio, assist = _ratio(motor, climb["assist"]), taper(v, motor)
+                    ratio, assist = (
+                        _ratio(motor, climb.get("assist_level", climb.get("assist"))),
+                        taper(v, motor),
+                    )
                     own = [rider_share(n, vehicle.efficiency, ratio, motor.peak_power, assist) for n in need]
                 expected = float(np.mean(own))
                 assert climb["power_for_target_w"] == pytest.approx(expected, rel=1e-3, abs=0.06), (
@@ -250,9 +255,13 @@ def test_climb_speeds_and_times(demo):
     for rc, terrain, plan_json, cards in routes:
         names = [p["rider"]["name"] for p in plan_json["plans"]]
         riders = [_rider(config, n) for n in names]
-        stops = rc.stops
         full = plan_route(
-            read_gpx(rc.gpx), riders, config.conditions, checkpoints=rc.checkpoints, stops=stops, stop=rc.stop
+            read_gpx(rc.gpx),
+            riders,
+            config.conditions,
+            checkpoints=rc.checkpoints,
+            stops=rc.stops,
+            stop=rc.stop,
         ).plans
         cond = config.conditions
         for plan, rider, ridden in zip(plan_json["plans"], riders, full, strict=True):
