@@ -102,6 +102,7 @@ CASES = {
     "csv-cell-200k": "an entrants CSV cell of 200,000 characters: refused with its row (cells up to 131,072)",
     "csv-quote-left-open": "an entrants CSV with a quote never closed: refused with its row",
     "csv-extra-cells": "an entrants CSV row with more cells than the header: refused with its row, never dropped",
+    "toml-nested-50000": "a site.toml with 50,000 nested [: not valid TOML, one message (no RecursionError)",
 }
 
 #: The cases that are a site's input files and one command, and their outcome:
@@ -137,6 +138,13 @@ INPUTS = {
         {"entrants.csv": b"name,vehicle\nAda,road-hoods,250\nBea,handcycle,,\n"},
         "check",
         ("error", "entrants.csv:row 2", "more cells than the header has columns (2)"),
+    ),
+    "toml-nested-50000": (
+        "x = " + "[" * 50_000 + "]" * 50_000 + "\n",
+        "",
+        {},
+        "build",
+        ("error", "site.toml: not valid TOML", "nested too deeply"),
     ),
 }
 
