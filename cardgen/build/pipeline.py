@@ -73,7 +73,7 @@ def build_site(
 ) -> BuildReport:
     """Build the site of ``config`` into ``out``. ``say`` receives one line per step;
     ``progress(done, total, label)`` is called as cards are rendered."""
-    out = check_output(out, list(config.inputs))
+    out = check_output(out, list(config.inputs), config.templates)
     report = BuildReport()
     with Lock(out):
         for line in recover(out):
