@@ -72,7 +72,7 @@ def build_site(
 ) -> BuildReport:
     """Build the site of ``config`` into ``out``. ``say`` receives one line per step;
     ``progress(done, total, label)`` is called as cards are rendered."""
-    out = check_output(out, list(config.inputs))
+    out = check_output(out, list(config.inputs), config.templates)
     report = BuildReport()
     with Lock(out):
         for line in recover(out):
@@ -110,27 +110,32 @@ def _plan_route(task):
     """Worker: read, analyse and plan one route for its riders.
 
     Returns (RouteJob, None) or (None, error message naming the file)."""
-    from cardgen.plan import make_plan
+    from cardgen.io.gpx import read_gpx
+    from cardgen.plan import plan_route
     from cardgen.plan.model import Entry, RouteJob
-    from cardgen.plan.routes import survey_route
 
     route, config, starts = task  # starts: rider index → Start on this route
     rc = route.config
     try:
-        analysis, checkpoints = survey_route(rc)
-        stops = tuple((c.distance, c.stop) for c in checkpoints)
-        riders = tuple(
-            Entry(
-                r.rider.name,
-                starts[i].at,
-                starts[i].wave,
-                make_plan(analysis, rider=r.rider, conditions=config.conditions, stops=stops).lightened(),
-                r.bib,
-            )
-            for i, r in enumerate(config.riders)
-            if i in starts
+        track = read_gpx(rc.gpx)
+        riding = [(i, r) for i, r in enumerate(config.riders) if i in starts]
+        planned = plan_route(
+            track,
+            [r.rider for _, r in riding],
+            config.conditions,
+            cue_texts=rc.cue_texts,
+            checkpoints=rc.checkpoints,
+            stops=rc.stops,
+            stop=rc.stop,
+            where=str(rc.gpx),
+            light=True,
         )
-        job = RouteJob(route.slug, rc.name or analysis.track.name, rc.notes, analysis, checkpoints, riders)
+        riders = tuple(
+            Entry(r.rider.name, starts[i].at, starts[i].wave, plan, r.bib)
+            for (i, r), plan in zip(riding, planned.plans, strict=True)
+        )
+        analysis, checkpoints = planned.analysis, planned.checkpoints
+        job = RouteJob(route.slug, rc.name or track.name, rc.notes, analysis, tuple(checkpoints), riders)
         return job, None
     except CardgenError as exc:
         return None, (f"{rc.gpx}: {exc}" if str(rc.gpx) not in str(exc) else str(exc))

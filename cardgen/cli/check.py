@@ -34,14 +34,24 @@ def _print_waves(config) -> None:
 def cmd_check(args) -> int:
     """Everything a build can find without rendering, all at once."""
     from cardgen.config import plural
-    from cardgen.plan.routes import survey_route
+    from cardgen.io.gpx import read_gpx
+    from cardgen.plan import plan_route
 
     config, _ = _site_config(args.site)
     _say_config(config)
     problems = []
     for route in config.routes:
         try:
-            analysis, checkpoints = survey_route(route)
+            surveyed = plan_route(  # the route as a build reads it, without riders
+                read_gpx(route.gpx),
+                [],
+                cue_texts=route.cue_texts,
+                checkpoints=route.checkpoints,
+                stops=route.stops,
+                stop=route.stop,
+                where=str(route.gpx),
+            )
+            analysis, checkpoints = surveyed.analysis, surveyed.checkpoints
         except CardgenError as exc:
             problems.append(str(exc))
             continue

@@ -74,7 +74,10 @@ SCHEMA = {
         "checkpoints": Spec("list", help="waypoint names or distances in km"),
         "start": Spec("time", help='this route\'s own first start, like "09:00"'),
         "stop_min": Spec("number", default=0.0, limit="stop_min", help="planned stop at each checkpoint"),
-        "stops_min": Spec("list", help="planned stop at each of the checkpoints listed, in minutes"),
+        "stops_min": Spec(
+            "list",
+            help="planned stop at each checkpoint listed (none listed: the GPX's, in route order), in minutes",
+        ),
         "cue_texts": Spec(
             "list", help='the organiser\'s words for cues, like ["12.1 = Left at the old mill"] (km = text)'
         ),
