@@ -15,22 +15,22 @@ ZERO_CELSIUS_K = 273.15
 G0 = 9.80665
 
 
-def kmh_to_ms(speed_kmh):
+def kmh_to_ms(speed_kmh: Floats) -> np.ndarray:
     """Convert km/h to m/s."""
     return np.asarray(speed_kmh, dtype=float) / KMH_PER_MS
 
 
-def ms_to_kmh(speed):
+def ms_to_kmh(speed: Floats) -> np.ndarray:
     """Convert m/s to km/h."""
     return np.asarray(speed, dtype=float) * KMH_PER_MS
 
 
-def pct_to_grade(grade_pct):
+def pct_to_grade(grade_pct: Floats) -> np.ndarray:
     """Convert a grade in percent (rise/run × 100) to a fraction."""
     return np.asarray(grade_pct, dtype=float) / 100.0
 
 
-def celsius_to_kelvin(temperature_c):
+def celsius_to_kelvin(temperature_c: Floats) -> np.ndarray:
     """Convert °C to K."""
     return np.asarray(temperature_c, dtype=float) + ZERO_CELSIUS_K
 

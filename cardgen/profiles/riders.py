@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import dataclasses
 from dataclasses import dataclass
+from typing import Any
 
 from cardgen.errors import VehicleError
 from cardgen.physics.assist import rider_power_for_speed
@@ -74,7 +75,7 @@ class Rider:
     pacing: str = ""
     effort_given: bool = True
 
-    def __post_init__(self):
+    def __post_init__(self) -> None:
         problems = []
         for what, key, value in (
             ("critical power", "cp_w", self.cp),
@@ -122,7 +123,7 @@ class Rider:
         return "steady" if self.vehicle.propulsion == "arms" else "best"
 
     @classmethod
-    def for_vehicle(cls, vehicle: Vehicle, name: str | None = None, **given) -> Rider:
+    def for_vehicle(cls, vehicle: Vehicle, name: str | None = None, **given: Any) -> Rider:
         """A rider with the defaults of the Notes, any of them replaced by ``given``.
 
         Defaults follow what is given: W′ and the climbing power from the CP, the CP
