@@ -400,10 +400,16 @@ def _climb_row(
 
 #: Curves closer than this [m] are one warning (a run of bends), at the tightest.
 CURVE_GAP = 150.0
-#: A curve is warned where its safe speed is below this share of the speed the rider
+#: A curve is warned where the speed it allows is below this share of the speed the rider
 #: would hold there without it (common practice, no published source: a bend that
 #: asks for less than a 10 % slow-down is ridden without thinking).
 CURVE_SLOWDOWN = 0.9
+#: A turn at a junction earns a slow-down note only where coasting alone would carry
+#: the rider to it at this multiple of their steady speed on the flat or more, and at
+#: :data:`JUNCTION_FAST_SPEED` [m/s] or more: from a descent (common practice, no
+#: published source: an ordinary junction is taken without a note).
+JUNCTION_FAST = 1.25
+JUNCTION_FAST_SPEED = 25.0 / 3.6
 #: A descent's curves include those this far [m] beyond its foot.
 CURVE_REACH = 100.0
 
@@ -448,10 +454,17 @@ def _rider_cautions(
 
 
 def curve_notices(terrain: Terrain, rider: Rider, ride: Ride, wind, rho) -> list[Notice]:
-    """One "curve" notice for every curve the rider would reach faster than its safe
-    speed v = √(a·R) (FHWA-HRT-04-103, 2004), on or off a descent: where the simulated
-    speed (which brakes for the curve) meets that speed and the steady speed the rider
-    would hold there without the curve is clearly higher (:data:`CURVE_SLOWDOWN`)."""
+    """One "curve" notice for every curve the rider would reach clearly faster than
+    the speed v = √(a·R) it allows (FHWA-HRT-04-103, 2004), on or off a descent: where
+    the simulated speed (which brakes for the curve) meets that speed and the steady
+    speed the rider would hold there without the curve is clearly higher
+    (:data:`CURVE_SLOWDOWN`).
+
+    A turn at a single track point (a junction, :attr:`Terrain.junctions`) is a cue,
+    not a bend: it gets a notice only where the rider arrives fast from a descent,
+    where coasting alone gives :data:`JUNCTION_FAST` times their steady speed on the
+    flat and :data:`JUNCTION_FAST_SPEED` or more.
+    Its notice carries ``junction`` = 1."""
     vehicle = rider.vehicle
     cap = np.sqrt(vehicle.curve_accel * terrain.curve_radius)
     free = speed_for_power(
@@ -464,6 +477,13 @@ def curve_notices(terrain: Terrain, rider: Rider, ride: Ride, wind, rho) -> list
     free = np.minimum(np.nan_to_num(free, nan=0.0), vehicle.max_descent_speed)
     free_at_node = np.concatenate((free, free[-1:])) if free.size else np.zeros(cap.size)
     binding = (cap < CURVE_SLOWDOWN * free_at_node) & (ride.speed >= 0.98 * cap) & (ride.speed > 0)
+    junction = _junction_nodes(terrain)
+    if junction.any():
+        steady = vehicle.resistance.steady()
+        flat = float(speed_for_power(rider.flat_power, **steady, grade=0.0, headwind=0.0, air_density=float(np.mean(rho))))
+        coast = np.nan_to_num(speed_for_power(0.0, **steady, grade=terrain.grade, headwind=wind, air_density=rho))
+        coast_at_node = np.concatenate((coast[:1], coast))  # the segment that leads to each node
+        binding &= ~junction | (coast_at_node >= max(JUNCTION_FAST * flat, JUNCTION_FAST_SPEED))
     nodes = np.flatnonzero(binding)
     notices: list[Notice] = []
     if not nodes.size:
@@ -479,11 +499,20 @@ def curve_notices(terrain: Terrain, rider: Rider, ride: Ride, wind, rho) -> list
                     ("radius", float(terrain.curve_radius[i])),
                     ("where", float(terrain.distance[i])),
                     ("speed", float(cap[i])),
+                    ("junction", float(junction[i])),
                 ),
                 at=float(terrain.distance[i]),
             )
         )
     return notices
+
+
+def _junction_nodes(terrain: Terrain) -> np.ndarray:
+    """Grid nodes inside a turn at a single track point (a junction)."""
+    on = np.zeros(terrain.distance.size, dtype=bool)
+    for lo, hi in terrain.junctions:
+        on |= (terrain.distance >= lo) & (terrain.distance <= hi)
+    return on
 
 
 def _descent_rows(
