@@ -53,13 +53,13 @@ def timed_build(config_path: Path, out: Path, jobs: int):
 
 def card_costs(config_path: Path, work: Path):
     """Time to make one card's HTML and to render its PDF, on the demo's hill loop."""
+    from cardgen.io.gpx import read_gpx
     from cardgen.plan import analyse, make_plan
     from cardgen.render.html import RiderView, environment, symbols_for
     from cardgen.render.pages import page_geometry
     from cardgen.render.pdf import write_pdf
     from cardgen.render.plots import elevation_profile
     from cardgen.route.checkpoints import resolve_checkpoints
-    from cardgen.route.gpx import read_gpx
     from cardgen.route.terrain import build_terrain
 
     config = load_config(config_path)

@@ -15,10 +15,10 @@ from pathlib import Path
 sys.path.insert(0, str(Path(__file__).resolve().parent))
 from bench_route import OUT, make_route  # noqa: E402
 
+from cardgen.io.gpx import read_gpx  # noqa: E402
 from cardgen.plan import analyse, make_plan  # noqa: E402
 from cardgen.profiles.riders import Rider
 from cardgen.profiles.vehicles import builtin_vehicles  # noqa: E402
-from cardgen.route.gpx import read_gpx  # noqa: E402
 from cardgen.route.terrain import build_terrain  # noqa: E402
 
 RIDERS = ("road-hoods", "city-upright", "handcycle", "e-assist-cargo", "tandem")

@@ -159,8 +159,8 @@ def main() -> None:
         card = next(c for c in captured if c.variants)
         folder = Path(card.base)
         folder.mkdir(parents=True, exist_ok=True)
+        from cardgen.io.gpx import read_gpx
         from cardgen.plan import analyse
-        from cardgen.route.gpx import read_gpx
         from cardgen.route.terrain import build_terrain
 
         track = read_gpx(config.routes[0].gpx)

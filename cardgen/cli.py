@@ -257,11 +257,11 @@ def _print_solve(args, result, label, vehicle, rho, speed, power, motor, motor_w
 
 def _route_plan(args):
     """Read, analyse and plan one route from the ``route`` command's options."""
+    from cardgen.io.gpx import read_gpx
     from cardgen.physics.atmosphere import Conditions
     from cardgen.plan import make_plan
     from cardgen.profiles.riders import Rider
     from cardgen.profiles.vehicles import find_vehicle
-    from cardgen.route.gpx import read_gpx
     from cardgen.route.terrain import build_terrain
     from cardgen.units import celsius_to_kelvin, kmh_to_ms
 
@@ -465,9 +465,9 @@ def _print_waves(config) -> None:
 def cmd_check(args) -> int:
     """Everything a build can find without rendering, all at once."""
     from cardgen.config import plural
+    from cardgen.io.gpx import read_gpx
     from cardgen.plan import analyse
     from cardgen.route.checkpoints import resolve_checkpoints
-    from cardgen.route.gpx import read_gpx
     from cardgen.route.terrain import build_terrain
 
     config, _ = _site_config(args.site)

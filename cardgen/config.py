@@ -10,19 +10,21 @@ from __future__ import annotations
 import dataclasses
 import math
 import re
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 from datetime import date, datetime, time, timedelta
 from pathlib import Path
 from typing import Any
 
 from cardgen.errors import CardgenError, ConfigError, close_matches
+from cardgen.io.files import read_toml
+from cardgen.io.tables import read_csv
 from cardgen.physics.atmosphere import Conditions
 from cardgen.physics.effort import FLAT_AIR_DENSITY
 from cardgen.physics.steady import power_for_speed
 from cardgen.profiles.limits import LIMITS
 from cardgen.profiles.riders import ALL_DAY_SHARE_OF_CP, Rider
-from cardgen.profiles.tables import read_toml
 from cardgen.profiles.vehicles import Vehicle, builtin_vehicles, find_vehicle, vehicles_from_tables
+from cardgen.settings import RiderConfig, RouteConfig, SiteConfig, Wave
 
 CARD_SIZES = ("A5", "A4", "pocket")
 #: Years an event may be in: keeps every start, arrival and window a real date.
@@ -135,70 +137,6 @@ TABLE_ARRAYS = {"routes", "riders", "vehicles", "waves"}
 RENAMED = {"cruise_level": "assist_between_climbs"}
 #: Sections of site.toml, [[vehicles]] included (its keys are those of a vehicle profile).
 SECTIONS = (*SCHEMA, "vehicles")
-
-
-@dataclass(frozen=True)
-class RouteConfig:
-    gpx: Path
-    name: str | None = None
-    notes: str = ""
-    checkpoints: tuple = ()  # names (str) or distances [m] (float); empty: waypoints typed "checkpoint"
-    start: time | None = None  # this route's own first start
-    stop: float = 0.0  # [s] planned stop at each checkpoint
-    stops: tuple[float, ...] = ()  # [s] planned stop at each checkpoint listed, in order
-    cue_texts: tuple[tuple[float, str], ...] = ()  # (where [m], the organiser's words)
-
-
-@dataclass(frozen=True)
-class Wave:
-    name: str
-    start: time
-    interval: float  # [s] between its riders
-    routes: tuple[str, ...] = ()  # riders on these routes (empty and no riders: everyone)
-    riders: tuple[str, ...] = ()  # these riders, by name
-
-
-@dataclass(frozen=True)
-class RiderConfig:
-    rider: Rider
-    routes: tuple[str, ...] = ()  # empty: every route
-    start: time | None = None  # the rider's own start
-    bib: int | None = None
-
-    def rides(self, route: RouteConfig, name: str) -> bool:
-        return (
-            not self.routes
-            or route.gpx.name in self.routes
-            or route.gpx.stem in self.routes
-            or name in self.routes
-        )
-
-
-@dataclass(frozen=True)
-class SiteConfig:
-    source: Path | None  # the TOML file, None for a zero-config folder
-    folder: Path  # where relative paths start
-    title: str
-    units: str
-    card_size: str
-    large_print: bool
-    output: Path
-    base_url: str
-    templates: Path | None
-    start: datetime | None
-    start_interval: float  # [s] between riders' starts
-    checkpoint_margin: float  # [s]
-    conditions: Conditions
-    routes: tuple[RouteConfig, ...]
-    riders: tuple[RiderConfig, ...]
-    warnings: tuple[str, ...] = field(default=())
-    inputs: tuple[Path, ...] = field(default=())  # every file and folder the configuration reads
-    notes: tuple[str, ...] = field(default=())  # where the model used another value than the one given
-    waves: tuple[Wave, ...] = field(default=())
-    day: date | None = None  # the event's date
-    speed_rule: tuple[float, float] | None = None  # (slowest, fastest) [m/s] for checkpoint windows
-    contact: str = ""  # the organiser's contact, on every card
-    emergency: str = ""  # emergency numbers, on every card
 
 
 _HEADER = re.compile(r"^\s*(\[\[?)\s*([^\]]+?)\s*\]\]?")
@@ -516,26 +454,20 @@ def _rider_tables(check: _Checker, raw: Any, folder: Path) -> list[Any]:
 
 def _csv_rows(check: _Checker, path: Path) -> list[tuple[int, dict[str, Any]]]:
     """The rows of an entrants file as [[riders]] tables, numbers as numbers."""
-    import csv
-    import io
-
-    from cardgen.profiles.tables import read_text_bounded
-
     try:
-        text = read_text_bounded(path, "entrants (CSV)", ConfigError)
+        header, found = read_csv(path, "entrants (CSV)", ConfigError, MAX_CSV_ROWS)
     except ConfigError as exc:
         check.problems.append(str(exc))
         return []
     rows: list[tuple[int, dict[str, Any]]] = []
-    reader = csv.DictReader(io.StringIO(text.removeprefix("\ufeff")))
     known = SCHEMA["riders"]
-    for column in reader.fieldnames or []:
+    for column in header:
         if column not in known:
             check.problems.append(
                 f"{path}:row 1, column {column}: unknown column{close_matches(column, known)}; "
                 f"the columns are the keys of [[riders]]: {', '.join(known)}"
             )
-    for number, row in enumerate(reader, 2):
+    for number, row in enumerate(found, 2):
         if number > MAX_CSV_ROWS + 1:
             check.problems.append(f"{path}: more than {MAX_CSV_ROWS:,} rows; split the file")
             break

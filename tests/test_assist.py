@@ -5,6 +5,7 @@ import pytest
 from gpxmaker import profile_gpx
 
 from cardgen.errors import VehicleError
+from cardgen.io.gpx import read_gpx
 from cardgen.physics.assist import motor_power, suggest_levels, taper_factor
 from cardgen.physics.atmosphere import Conditions
 from cardgen.physics.steady import speed_for_power
@@ -14,7 +15,6 @@ from cardgen.profiles.motors import builtin_motors, find_motor
 from cardgen.profiles.riders import Rider
 from cardgen.profiles.vehicles import builtin_vehicles
 from cardgen.route.climbs import find_climbs
-from cardgen.route.gpx import read_gpx
 from cardgen.route.terrain import build_terrain
 
 MPH = 1609.344 / 3600

@@ -4,8 +4,8 @@ import numpy as np
 import pytest
 from gpxmaker import profile_gpx
 
+from cardgen.io.gpx import read_gpx
 from cardgen.route.climbs import difficulty_band, fiets_index, find_climbs, find_descents
-from cardgen.route.gpx import read_gpx
 from cardgen.route.terrain import build_terrain
 
 

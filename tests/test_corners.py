@@ -13,9 +13,9 @@ import numpy as np
 import pytest
 from gpxmaker import to_latlon, write_gpx
 
+from cardgen.io.gpx import read_gpx
 from cardgen.route.corners import find_corners
 from cardgen.route.geodesy import cumulative_distance
-from cardgen.route.gpx import read_gpx
 from cardgen.route.terrain import build_terrain
 
 RADII = (5.0, 8.0, 12.0, 25.0, 50.0)

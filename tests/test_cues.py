@@ -3,8 +3,8 @@
 import numpy as np
 from gpxmaker import straight, to_latlon, write_gpx
 
+from cardgen.io.gpx import read_gpx
 from cardgen.route.cues import cue_sheet, find_turns
-from cardgen.route.gpx import read_gpx
 from cardgen.route.terrain import build_terrain
 
 

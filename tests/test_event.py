@@ -12,9 +12,9 @@ import pytest
 
 from cardgen.cli import main
 from cardgen.config import load_config, rider_start
+from cardgen.io.gpx import read_gpx
 from cardgen.plan import analyse, checkpoint_windows, make_plan
 from cardgen.route.checkpoints import resolve_checkpoints
-from cardgen.route.gpx import read_gpx
 from cardgen.route.terrain import build_terrain
 
 SAMPLES = Path(__file__).resolve().parents[1] / "sample_routes"

@@ -10,12 +10,12 @@ from pathlib import Path
 import gpxpy
 import pytest
 
+from cardgen.io.gpx import read_gpx
 from cardgen.plan import analyse, make_plan
 from cardgen.profiles.riders import Rider
 from cardgen.profiles.vehicles import builtin_vehicles
 from cardgen.render import exports
 from cardgen.route.checkpoints import checkpoints_from_waypoints
-from cardgen.route.gpx import read_gpx
 from cardgen.route.terrain import build_terrain
 
 SAMPLES = Path(__file__).resolve().parents[1] / "sample_routes"

@@ -9,11 +9,11 @@ from pathlib import Path
 
 import pytest
 
+from cardgen.io.gpx import read_gpx
 from cardgen.plan import analyse, make_plan
 from cardgen.plan.fuel import carb_rate, fluid_rate, legs
 from cardgen.profiles.riders import Rider
 from cardgen.profiles.vehicles import builtin_vehicles
-from cardgen.route.gpx import read_gpx
 from cardgen.route.terrain import build_terrain
 
 SAMPLES = Path(__file__).resolve().parents[1] / "sample_routes"

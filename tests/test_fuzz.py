@@ -14,12 +14,12 @@ from hypothesis import strategies as st
 
 from cardgen.config import _from_data
 from cardgen.errors import CardgenError, ConfigError, GpxError
+from cardgen.io.gpx import read_gpx
 from cardgen.physics.atmosphere import air_density_isa
 from cardgen.physics.steady import power_for_speed, speed_for_power
 from cardgen.plan import analyse, make_plan
 from cardgen.profiles.riders import Rider
 from cardgen.profiles.vehicles import builtin_vehicles
-from cardgen.route.gpx import read_gpx
 from cardgen.route.terrain import build_terrain
 
 pytestmark = pytest.mark.slow  # builds whole sites, fuzzes or checks the install: not in make check

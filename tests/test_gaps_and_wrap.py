@@ -11,8 +11,8 @@ import pytest
 from geographiclib.geodesic import Geodesic
 
 from cardgen.errors import GpxError
+from cardgen.io.gpx import read_gpx
 from cardgen.plan import analyse
-from cardgen.route.gpx import read_gpx
 from cardgen.route.terrain import build_terrain
 
 HEAD = '<?xml version="1.0" encoding="UTF-8"?>\n<gpx version="1.1" creator="t" xmlns="http://www.topografix.com/GPX/1/1">'

@@ -8,8 +8,9 @@ import pytest
 from gpxmaker import straight, to_latlon, write_gpx
 
 from cardgen.errors import GpxError
+from cardgen.io import gpx as gpx_reader
+from cardgen.io.gpx import read_gpx
 from cardgen.route import gpx as gpx_module
-from cardgen.route.gpx import read_gpx
 
 SAMPLES = sorted((Path(__file__).resolve().parents[1] / "sample_routes").glob("*.gpx"))
 
@@ -191,7 +192,7 @@ def test_size_and_point_limits(tmp_path, monkeypatch):
     monkeypatch.setattr(gpx_module, "MAX_POINTS", 20)
     with pytest.raises(GpxError, match="more than 20 points"):
         read_gpx(path)
-    monkeypatch.setattr(gpx_module, "MAX_FILE_BYTES", 1000)
+    monkeypatch.setattr(gpx_reader, "MAX_FILE_BYTES", 1000)
     with pytest.raises(GpxError, match="larger than"):
         read_gpx(path)
 

@@ -7,6 +7,7 @@ import numpy as np
 import pytest
 from gpxmaker import profile_gpx
 
+from cardgen.io.gpx import read_gpx
 from cardgen.physics.forces import gravity_power
 from cardgen.physics.steady import power_for_speed, speed_for_power
 from cardgen.plan import checkpoint_windows, make_plan
@@ -14,7 +15,6 @@ from cardgen.profiles.riders import Rider
 from cardgen.profiles.vehicles import builtin_vehicles
 from cardgen.render.exports import route_json
 from cardgen.route.checkpoints import checkpoints_from_waypoints
-from cardgen.route.gpx import read_gpx
 from cardgen.route.terrain import build_terrain
 
 SAMPLES = Path(__file__).resolve().parents[1] / "sample_routes"

@@ -13,10 +13,10 @@ import numpy as np
 import pytest
 
 from cardgen.config import rider_start
+from cardgen.io.gpx import read_gpx
 from cardgen.plan import analyse, make_plan
 from cardgen.render.html import slugify
 from cardgen.route.checkpoints import resolve_checkpoints
-from cardgen.route.gpx import read_gpx
 from cardgen.route.terrain import build_terrain
 
 pytestmark = pytest.mark.slow  # builds whole sites, fuzzes or checks the install: not in make check

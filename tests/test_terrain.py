@@ -5,7 +5,7 @@ import pytest
 from geographiclib.geodesic import Geodesic
 from gpxmaker import profile_gpx, straight, to_latlon, write_gpx
 
-from cardgen.route.gpx import read_gpx
+from cardgen.io.gpx import read_gpx
 from cardgen.route.terrain import (
     GAIN_DEADBAND,
     bearing,

@@ -26,8 +26,8 @@ from cardgen.build.cache import digest, file_digest, read_manifest, templates_di
 from cardgen.build.publish import TMP, BuildError, Lock, check_output, publish, recover, side_name
 from cardgen.config import SiteConfig, plural, rider_start
 from cardgen.errors import CardgenError
+from cardgen.io.gpx import MAX_FILE_BYTES
 from cardgen.paths import default_templates
-from cardgen.route.gpx import MAX_FILE_BYTES
 
 
 class Interrupted(KeyboardInterrupt):
@@ -109,11 +109,11 @@ def _plan_route(task):
     """Worker: read, analyse and plan one route for its riders.
 
     Returns (RouteJob, None) or (None, error message naming the file)."""
+    from cardgen.io.gpx import read_gpx
     from cardgen.plan import analyse, make_plan
     from cardgen.render.pages import Entry, RouteJob
     from cardgen.route.checkpoints import resolve_checkpoints
     from cardgen.route.cues import apply_cue_texts
-    from cardgen.route.gpx import read_gpx
     from cardgen.route.terrain import build_terrain
 
     route, config = task

@@ -3,12 +3,11 @@
 from __future__ import annotations
 
 import functools
-import tomllib
 from collections.abc import Mapping
-from importlib import resources
 from typing import Any
 
 from cardgen.errors import VehicleError
+from cardgen.io.files import read_package_toml
 from cardgen.physics.assist import Motor
 from cardgen.profiles.tables import check_numbers
 
@@ -51,8 +50,8 @@ def motor_from_table(name: str, table: Mapping[str, Any], where: str) -> Motor:
 @functools.cache
 def builtin_motors() -> dict[str, Motor]:
     """The built-in envelopes, by name (read once per process)."""
-    text = (resources.files("cardgen.profiles") / "data" / "motors.toml").read_text(encoding="utf-8")
-    return {name: motor_from_table(name, t, "built-in motors") for name, t in tomllib.loads(text).items()}
+    data = read_package_toml("cardgen.profiles", "data", "motors.toml")
+    return {name: motor_from_table(name, t, "built-in motors") for name, t in data.items()}
 
 
 def find_motor(name: str) -> Motor:

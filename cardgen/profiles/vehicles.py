@@ -8,18 +8,17 @@ with ``base = "road-hoods"`` and change only some keys.
 from __future__ import annotations
 
 import functools
-import tomllib
 from collections.abc import Mapping
 from dataclasses import dataclass, field
-from importlib import resources
 from pathlib import Path
 from typing import Any
 
 from cardgen.errors import VehicleError, close_matches
+from cardgen.io.files import read_package_toml, read_toml
 from cardgen.physics.forces import Resistance
 from cardgen.profiles.limits import LIMITS
 from cardgen.profiles.motors import builtin_motors
-from cardgen.profiles.tables import check_numbers, read_toml, unknown_keys
+from cardgen.profiles.tables import check_numbers, unknown_keys
 
 #: Below this speed a two-wheeler is walked, not ridden: common practice (≈5–6 km/h),
 #: no published source; it matches the 6 km/h walk-assist limit of EN 15194.
@@ -158,8 +157,7 @@ class Vehicle:
 
 @functools.cache
 def _library() -> dict[str, Vehicle]:
-    source = resources.files("cardgen.profiles") / "data" / "vehicles.toml"
-    data = tomllib.loads(source.read_text(encoding="utf-8"))
+    data = read_package_toml("cardgen.profiles", "data", "vehicles.toml")
     return {name: Vehicle.from_table(name, table, "built-in library") for name, table in data.items()}
 
 

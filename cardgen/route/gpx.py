@@ -1,21 +1,21 @@
 """GPX 1.0 / 1.1 → numpy arrays, in one streaming pass over untrusted XML.
 
-The only module that touches GPX. GPX is untrusted: a first expat pass reads only the
+The only module that parses GPX (:mod:`cardgen.io.gpx` reads the file). GPX is untrusted: a first expat pass reads only the
 prolog and refuses any document type declaration (the only place where entities,
 and so entity expansion and external references, can be declared) and any root
-element other than <gpx>; then ElementTree's C parser streams the points. Size and
-point count are bounded. Trackpoints are collected as strings in one pass and
+element other than <gpx>; then ElementTree's C parser streams the points. The point
+count is bounded (the file's size by the reader). Trackpoints are collected as strings in one pass and
 converted to arrays at once; no object is built per point.
 """
 
 from __future__ import annotations
 
+import io
 import math
-import os
 import warnings
 from dataclasses import dataclass
 from datetime import UTC, datetime
-from pathlib import Path
+from pathlib import PurePath
 from typing import Any
 from xml.etree.ElementTree import ParseError, iterparse
 from xml.parsers import expat
@@ -26,9 +26,6 @@ from cardgen.errors import GpxError
 from cardgen.route.geodesy import cumulative_distance
 from cardgen.units import Floats
 
-#: Largest GPX file read [bytes]: 100 MiB holds about 800,000 plain trackpoints,
-#: over 8,000 km at one point every 10 m.
-MAX_FILE_BYTES = 100 * 1024 * 1024
 #: Most points read from one file (track + route + waypoints).
 MAX_POINTS = 2_000_000
 #: Most waypoints and named route points: a cue sheet of more is no use on a card, and
@@ -161,15 +158,21 @@ class _Points:
         self.ele: list[str | None] = []
         self.time: list[str | None] = []
 
+    def add(self, lat: str | None, lon: str | None, ele: str | None, when: str | None) -> None:
+        self.lat.append(lat)
+        self.lon.append(lon)
+        self.ele.append(ele)
+        self.time.append(when)
+
 
 class _Prolog(Exception):
     """Raised inside the prolog check once the root element has been seen."""
 
 
-def _check_prolog(path: Path, where: str) -> str:
+def _check_prolog(data: bytes, where: str) -> str:
     """Refuse a document type declaration, and a root element that is not <gpx>.
 
-    Reads the file only up to its first element, with expat. Returns the root's
+    Reads the document only up to its first element, with expat. Returns the root's
     namespace in ElementTree's form ("{uri}" or "").
     """
     parser = expat.ParserCreate(namespace_separator="}")
@@ -198,10 +201,10 @@ def _check_prolog(path: Path, where: str) -> str:
     parser.EntityDeclHandler = doctype
     parser.StartElementHandler = start
     try:
-        with open(path, "rb") as handle:
-            while chunk := handle.read(1 << 16):
-                parser.Parse(chunk, False)
-            parser.Parse(b"", True)
+        view = memoryview(data)
+        for start_at in range(0, len(data), 1 << 16):
+            parser.Parse(bytes(view[start_at : start_at + (1 << 16)]), False)
+        parser.Parse(b"", True)
     except _Prolog:
         root = found["root"]
         if root.rpartition("}")[2] != "gpx":
@@ -218,23 +221,24 @@ def _check_prolog(path: Path, where: str) -> str:
     raise GpxError(f"{where}: no XML element in the file; is it a GPX file?")
 
 
-def _check_tokens(path: Path, where: str) -> None:
+def _check_tokens(data: bytes, where: str) -> None:
     """Refuse a file with a run of more than :data:`MAX_TOKEN_BYTES` bytes without a
     "<" or ">" (one huge attribute, name or text), before the XML parser meets it."""
     gap = 0  # bytes since the last delimiter, carried across chunks
-    with open(path, "rb") as handle:
-        while chunk := handle.read(1 << 22):
-            marks = np.flatnonzero((np.frombuffer(chunk, dtype=np.uint8) | 2) == ord(">"))  # '<' or '>'
-            if marks.size == 0:
-                gap += len(chunk)
-            else:
-                inner = np.diff(marks).max(initial=0)
-                gap = max(gap + int(marks[0]), int(inner))
-                if gap > MAX_TOKEN_BYTES:
-                    break
-                gap = len(chunk) - 1 - int(marks[-1])
+    view = memoryview(data)
+    for start_at in range(0, len(data), 1 << 22):
+        chunk = view[start_at : start_at + (1 << 22)]
+        marks = np.flatnonzero((np.frombuffer(chunk, dtype=np.uint8) | 2) == ord(">"))  # '<' or '>'
+        if marks.size == 0:
+            gap += len(chunk)
+        else:
+            inner = np.diff(marks).max(initial=0)
+            gap = max(gap + int(marks[0]), int(inner))
             if gap > MAX_TOKEN_BYTES:
                 break
+            gap = len(chunk) - 1 - int(marks[-1])
+        if gap > MAX_TOKEN_BYTES:
+            break
     if gap > MAX_TOKEN_BYTES:
         raise GpxError(
             f"{where}: one tag or text runs over {MAX_TOKEN_BYTES >> 20} MiB without a break; no GPX "
@@ -299,158 +303,172 @@ def _coordinate(text: Any, axis: str, where: str) -> float:
     return value
 
 
-# one streaming pass over the XML: its branches are the GPX elements, kept together for speed
-def read_gpx(path: str | os.PathLike[str]) -> Track:  # noqa: C901
-    """Read a GPX file into a :class:`Track`.
+def parse_gpx(data: bytes, path: str = "GPX data") -> Track:
+    """Parse the bytes of a GPX file into a :class:`Track` (no file access: see
+    :func:`cardgen.io.gpx.read_gpx` for reading a file).
+
+    Parameters
+    ----------
+    data : bytes
+        The whole document.
+    path : str
+        Where it came from: named in every message, and its stem is the route's
+        name when the file names none.
 
     Raises
     ------
     GpxError
-        For anything that is not a usable route, with the file name and, where the
-        XML parser knows it, the line.
+        For anything that is not a usable route, with ``path`` and, where the XML
+        parser knows it, the line.
     """
-    path = Path(path)
-    where = str(path)
+    where = path
+    ns = _check_prolog(data, where)
+    if len(data) > MAX_TOKEN_BYTES:
+        _check_tokens(data, where)
+    found = _Elements(ns, where)
     try:
-        size = path.stat().st_size
-    except FileNotFoundError:
-        raise GpxError(f"{where}: no such file; check the path") from None
-    except OSError as exc:
-        raise GpxError(f"{where}: cannot read the file ({exc.strerror})") from None
-    if not path.is_file():
-        raise GpxError(f"{where}: not a regular file")
-    if size == 0:
-        raise GpxError(f"{where}: the file is empty; export the route again")
-    if size > MAX_FILE_BYTES:
-        raise GpxError(
-            f"{where}: {size / 2**20:.0f} MiB is larger than the {MAX_FILE_BYTES / 2**20:.0f} MiB "
-            "cardgen reads; split the route or thin its points"
-        )
-
-    ns = _check_prolog(path, where)
-    if size > MAX_TOKEN_BYTES:
-        _check_tokens(path, where)
-    track, route = _Points(), _Points()
-    waypoints: list[Waypoint] = []
-    route_points: list[Waypoint] = []
-    names = {"metadata": "", "trk": "", "rte": ""}
-    tracks = 0
-    segment_starts: list[int] = []
-    local = _LOCAL.get
-    trkpt_tag, ele_tag, time_tag = ns + "trkpt", ns + "ele", ns + "time"
-    t_lat, t_lon, t_ele, t_time = track.lat.append, track.lon.append, track.ele.append, track.time.append
-    try:
-        with open(path, "rb") as handle:
-            for _, elem in iterparse(handle):
-                tag = elem.tag
-                # The hot path: one trackpoint, its <ele> and <time>, by exact tag.
-                if tag == ele_tag or tag == time_tag:
-                    continue
-                if tag == trkpt_tag:
-                    attrib = elem.attrib
-                    t_lat(attrib.get("lat"))
-                    t_lon(attrib.get("lon"))
-                    ele = when = None
-                    for child in elem:
-                        child_tag = child.tag
-                        if child_tag == ele_tag:
-                            ele = child.text
-                        elif child_tag == time_tag:
-                            when = child.text
-                    t_ele(ele)
-                    t_time(when)
-                    elem.clear()
-                    continue
-                name = local(tag)
-                if name is None or name in ("ele", "time", "name", "desc", "type", "link", "url", "cmt"):
-                    continue
-                elif name == "trkpt":  # a trackpoint in another GPX namespace than its root
-                    ele, when = _children_text(elem)
-                    t_lat(elem.get("lat"))
-                    t_lon(elem.get("lon"))
-                    t_ele(ele)
-                    t_time(when)
-                    elem.clear()
-                elif name == "trkseg":
-                    segment_starts.append(len(track.lat))  # where the next segment would begin
-                    elem.clear()
-                    if len(track.lat) > MAX_POINTS:
-                        break
-                elif name == "rtept":
-                    ele, when = _children_text(elem)
-                    route.lat.append(elem.get("lat"))
-                    route.lon.append(elem.get("lon"))
-                    route.ele.append(ele)
-                    route.time.append(when)
-                    if _text(elem, "name"):
-                        route_points.append(_waypoint(elem, f"{where}: route point {len(route.lat)}"))
-                    elem.clear()
-                elif name == "wpt":
-                    waypoints.append(_waypoint(elem, f"{where}: waypoint {len(waypoints) + 1}"))
-                    elem.clear()
-                elif name in ("trk", "rte", "metadata"):
-                    tracks += name == "trk"
-                    names[name] = names[name] or _text(elem, "name")
-                    elem.clear()
-                if len(route.lat) + len(waypoints) > MAX_POINTS or len(waypoints) > MAX_NAMED_POINTS:
-                    break
+        found.read(data)
     except ParseError as exc:
         line, column = getattr(exc, "position", (0, 0))
         raise GpxError(
             f"{where}, line {line}, column {column}: {_reason(exc)}: the XML is not well-formed "
             "(is the file truncated, or not GPX?)"
         ) from None
-    except OSError as exc:
-        raise GpxError(f"{where}: cannot read the file ({exc.strerror})") from None
-    if max(len(track.lat), len(route.lat) + len(waypoints)) > MAX_POINTS:
-        raise GpxError(f"{where}: more than {MAX_POINTS:,} points; split the route or thin its points")
-    if len(waypoints) + len(route_points) > MAX_NAMED_POINTS:
-        raise GpxError(
-            f"{where}: more than {MAX_NAMED_POINTS:,} waypoints and named route points; a card's cue sheet "
-            "cannot hold them: keep the ones riders need"
+    found.check_counts()
+    return found.track(PurePath(path).stem)
+
+
+class _Elements:
+    """What one streaming pass over the XML collects: track and route points as
+    strings, waypoints, named route points, names, segment starts."""
+
+    def __init__(self, ns: str, where: str) -> None:
+        self.ns, self.where = ns, where
+        self.trk, self.rte = _Points(), _Points()
+        self.waypoints: list[Waypoint] = []
+        self.route_points: list[Waypoint] = []
+        self.names = {"metadata": "", "trk": "", "rte": ""}
+        self.tracks = 0
+        self.segment_starts: list[int] = []
+
+    def read(self, data: bytes) -> None:
+        """One pass; the hot path (a trackpoint, its <ele> and <time>) by exact tag."""
+        local = _LOCAL.get
+        trkpt_tag, ele_tag, time_tag = self.ns + "trkpt", self.ns + "ele", self.ns + "time"
+        track = self.trk
+        t_lat, t_lon, t_ele, t_time = track.lat.append, track.lon.append, track.ele.append, track.time.append
+        for _, elem in iterparse(io.BytesIO(data)):
+            tag = elem.tag
+            if tag == ele_tag or tag == time_tag:
+                continue
+            if tag == trkpt_tag:
+                attrib = elem.attrib
+                t_lat(attrib.get("lat"))
+                t_lon(attrib.get("lon"))
+                ele = when = None
+                for child in elem:
+                    child_tag = child.tag
+                    if child_tag == ele_tag:
+                        ele = child.text
+                    elif child_tag == time_tag:
+                        when = child.text
+                t_ele(ele)
+                t_time(when)
+                elem.clear()
+                continue
+            name = local(tag)
+            if name is None or name in _INSIDE_POINTS:
+                continue
+            if self.element(name, elem):
+                break
+
+    def element(self, name: str, elem: Any) -> bool:
+        """Take one element other than a trackpoint of the root's namespace; True
+        when a limit is reached and reading should stop."""
+        if name == "trkpt":  # a trackpoint in another GPX namespace than its root
+            ele, when = _children_text(elem)
+            self.trk.add(elem.get("lat"), elem.get("lon"), ele, when)
+        elif name == "trkseg":
+            self.segment_starts.append(len(self.trk.lat))  # where the next segment would begin
+            if len(self.trk.lat) > MAX_POINTS:
+                elem.clear()
+                return True
+        elif name == "rtept":
+            ele, when = _children_text(elem)
+            self.rte.add(elem.get("lat"), elem.get("lon"), ele, when)
+            if _text(elem, "name"):
+                self.route_points.append(_waypoint(elem, f"{self.where}: route point {len(self.rte.lat)}"))
+        elif name == "wpt":
+            self.waypoints.append(_waypoint(elem, f"{self.where}: waypoint {len(self.waypoints) + 1}"))
+        elif name in ("trk", "rte", "metadata"):
+            self.tracks += name == "trk"
+            self.names[name] = self.names[name] or _text(elem, "name")
+        elem.clear()
+        return len(self.rte.lat) + len(self.waypoints) > MAX_POINTS or len(self.waypoints) > MAX_NAMED_POINTS
+
+    def check_counts(self) -> None:
+        where = self.where
+        if max(len(self.trk.lat), len(self.rte.lat) + len(self.waypoints)) > MAX_POINTS:
+            raise GpxError(f"{where}: more than {MAX_POINTS:,} points; split the route or thin its points")
+        if len(self.waypoints) + len(self.route_points) > MAX_NAMED_POINTS:
+            raise GpxError(
+                f"{where}: more than {MAX_NAMED_POINTS:,} waypoints and named route points; a card's cue sheet "
+                "cannot hold them: keep the ones riders need"
+            )
+
+    def track(self, stem: str) -> Track:
+        """The collected points as a :class:`Track` (the track's, else the route's)."""
+        where = self.where
+        use, source = (self.trk, "track") if self.trk.lat else (self.rte, "route")
+        label = "trackpoint" if source == "track" else "route point"
+        if len(use.lat) < 2:
+            found = "no track or route points" if not use.lat else f"only one {label}"
+            raise GpxError(f"{where}: {found}; a route needs at least two points in <trk> or <rte>")
+        lat = _column(use.lat, "lat", label, where)
+        lon = _column(use.lon, "lon", label, where)
+        warnings = []
+        if self.tracks > 1:
+            warnings.append(f"{self.tracks} tracks were joined in file order")
+        elevation, repaired = _elevation(use.ele, lat, lon, label, where)
+        if repaired:
+            warnings.append(
+                f"{repaired} of {lat.size} {label}s had no usable elevation; "
+                "interpolated along the distance"
+            )
+        gaps = _gaps(lat, lon, elevation, self.segment_starts if source == "track" else [])
+        if gaps:
+            warnings.append(_gap_warning(gaps))
+        times = _times(use.time)
+        if np.sum(np.diff(times[np.isfinite(times)]) < 0) > 0:
+            warnings.append("timestamps go backwards in places; times in the file are ignored")
+        name = self.names["metadata"] or self.names["trk"] or self.names["rte"] or stem
+        return Track(
+            where,
+            name,
+            lat,
+            lon,
+            elevation,
+            times,
+            tuple(self.waypoints),
+            tuple(self.route_points),
+            source,
+            tuple(warnings),
+            gaps,
         )
 
-    use, source = (track, "track") if track.lat else (route, "route")
-    label = "trackpoint" if source == "track" else "route point"
-    if len(use.lat) < 2:
-        found = "no track or route points" if not use.lat else f"only one {label}"
-        raise GpxError(f"{where}: {found}; a route needs at least two points in <trk> or <rte>")
-    lat = _column(use.lat, "lat", label, where)
-    lon = _column(use.lon, "lon", label, where)
-    warnings = []
-    if tracks > 1:
-        warnings.append(f"{tracks} tracks were joined in file order")
-    elevation, repaired = _elevation(use.ele, lat, lon, label, where)
-    if repaired:
-        warnings.append(
-            f"{repaired} of {lat.size} {label}s had no usable elevation; " "interpolated along the distance"
-        )
-    gaps = _gaps(lat, lon, elevation, segment_starts if source == "track" else [])
-    if gaps:
-        listed = ", ".join(
-            f"{g.length / 1000:.1f} km" if g.length >= 1000 else f"{g.length:.0f} m" for g in gaps[:5]
-        )
-        warnings.append(
-            f"{len(gaps)} gap(s) between track segments ({listed}{', …' if len(gaps) > 5 else ''}) were joined: "
-            "their straight line and elevation jump are not counted as ridden; check that the route is what you "
-            "meant to plan"
-        )
-    times = _times(use.time)
-    if np.sum(np.diff(times[np.isfinite(times)]) < 0) > 0:
-        warnings.append("timestamps go backwards in places; times in the file are ignored")
-    name = names["metadata"] or names["trk"] or names["rte"] or path.stem
-    return Track(
-        where,
-        name,
-        lat,
-        lon,
-        elevation,
-        times,
-        tuple(waypoints),
-        tuple(route_points),
-        source,
-        tuple(warnings),
-        gaps,
+
+#: Child elements of points and of named elements: read with their parent.
+_INSIDE_POINTS = frozenset(("ele", "time", "name", "desc", "type", "link", "url", "cmt"))
+
+
+def _gap_warning(gaps: tuple[Gap, ...]) -> str:
+    listed = ", ".join(
+        f"{g.length / 1000:.1f} km" if g.length >= 1000 else f"{g.length:.0f} m" for g in gaps[:5]
+    )
+    return (
+        f"{len(gaps)} gap(s) between track segments ({listed}{', …' if len(gaps) > 5 else ''}) were joined: "
+        "their straight line and elevation jump are not counted as ridden; check that the route is what you "
+        "meant to plan"
     )
 
 

@@ -1,0 +1,1 @@
+"""Reading input files: the only package that opens them (GPX, TOML, CSV, profiles)."""
