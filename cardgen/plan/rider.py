@@ -35,6 +35,7 @@ from cardgen.plan.model import (
     Totals,
     arrival_time,
 )
+from cardgen.plan.walking import stretches, walking_mask
 from cardgen.profiles.motors import find_motor
 from cardgen.profiles.riders import Rider
 from cardgen.route.climbs import Climb, Descent, find_climbs, find_descents
@@ -228,9 +229,10 @@ def make_plan(
         assist_ratio=ratio,
     )
     wbal = w_prime_balance(ride.rider_power, ride.time, rider.cp, rider.w_prime)
+    walked = walking_mask(terrain.step, ride.time, ride.rider_power, ride.limited, vehicle.min_stable_speed)
 
     climbs = tuple(
-        _climb_row(i + 1, c, terrain, rider, motor, levels.get(c.start), ride, wbal, wind, rho)
+        _climb_row(i + 1, c, terrain, rider, motor, levels.get(c.start), ride, wbal, wind, rho, walked)
         for i, c in enumerate(route.climbs)
     )
     curves = curve_notices(terrain, rider, ride, wind, rho)
@@ -241,9 +243,9 @@ def make_plan(
     )
 
     energy = float(np.sum(np.maximum(ride.rider_power, 0.0) * ride.time))
-    slow = (ride.mean_speed < vehicle.min_stable_speed) & (ride.rider_power > 0)
     battery = fits = None
     warnings = [Notice("track", "info", (("text", w),)) for w in route.warnings]
+    warnings.extend(_walks_off_climbs(walked, on_climb, terrain, vehicle.min_stable_speed))
     on_descents = {id(w) for row in descents for w in row.warnings}
     warnings.extend(c for c in curves if id(c) not in on_descents)  # curves away from any descent
     if not ride.converged:
@@ -278,7 +280,7 @@ def make_plan(
         food_energy=energy / vehicle.gross_efficiency,
         battery=battery,
         battery_fits=fits,
-        walk_length=float(np.sum(slow) * terrain.step),
+        walk_length=float(np.sum(walked) * terrain.step),
     )
     if between_level is not None and between_level < rider.assist_between_climbs:
         warnings.append(
@@ -306,6 +308,20 @@ def make_plan(
     )
 
 
+def _walks_off_climbs(walked: np.ndarray, on_climb: np.ndarray, terrain: Terrain, speed: float) -> list[Notice]:
+    """A "walk" notice for each walked stretch away from the climbs (those on a climb
+    are in the climb's own notices)."""
+    return [
+        Notice(
+            "walk",
+            "warning",
+            (("speed", speed), ("length", (b - a) * terrain.step)),
+            at=float(terrain.distance[a]),
+        )
+        for a, b in stretches(walked & ~on_climb)
+    ]
+
+
 def _climb_row(
     number: int,
     climb: Climb,
@@ -317,6 +333,7 @@ def _climb_row(
     wbal,
     wind,
     rho,
+    walked: np.ndarray,
 ) -> ClimbRow:
     vehicle = rider.vehicle
     segs = slice(climb.start, climb.end)
@@ -325,7 +342,7 @@ def _climb_row(
     need = rider_power_for_speed(motor, ratio, rider.target_speed, resistance=vehicle.resistance, **air)
     time = float(np.sum(ride.time[segs]))
     speeds = ride.mean_speed[segs]
-    slow = float(np.sum(speeds < vehicle.min_stable_speed) * terrain.step)
+    slow = float(np.sum(walked[segs]) * terrain.step)
     finite = np.isfinite(ride.time[segs])  # a stalled rider never completes some segments
     ridden = float(np.sum(ride.time[segs][finite]))
     rider_power = (
@@ -346,7 +363,15 @@ def _climb_row(
         )
         warnings.append(Notice("w-prime", "warning", (("power", rider_power), ("safe", safe))))
     if slow > 0:
-        warnings.append(Notice("walk", "warning", (("speed", vehicle.min_stable_speed), ("length", slow))))
+        first = climb.start + int(np.argmax(walked[segs]))
+        warnings.append(
+            Notice(
+                "walk",
+                "warning",
+                (("speed", vehicle.min_stable_speed), ("length", slow)),
+                at=float(terrain.distance[first]),
+            )
+        )
     if climb.steepest_grade >= STEEP_GRADE:
         warnings.append(
             Notice("steep", "caution", (("grade", climb.steepest_grade), ("length", climb.pitch_length)))

@@ -15,6 +15,7 @@ import jinja2.sandbox
 from cardgen.errors import CardgenError
 from cardgen.paths import default_templates
 from cardgen.plan import Plan
+from cardgen.plan.rider import BATTERY_RESERVE
 from cardgen.render import format as fmt
 from cardgen.render.notices import notice_text
 
@@ -22,12 +23,19 @@ from cardgen.render.notices import notice_text
 ASSIST_CAUTION = (
     "E-assist: legal limits on motor power and assisted speed differ by place; the local rules apply."
 )
+#: Beside every table of descent speeds (card and route page): what the speeds are.
+DESCENT_CAUTION = (
+    "Speeds are model upper bounds, not safe or target speeds: check brakes before the start, brake "
+    "before bends, and ride slower for the conditions, visibility, surface, traffic and posted limits."
+)
 #: Cautions printed on every page, plain and short (cards: :func:`cautions_for`).
 CAUTIONS = (
     "Every figure is a model estimate from average values, not a guarantee: wind, road surface, "
     "tyres and the rider's day change them.",
-    "Descents and curves: check brakes before the start, ride to the conditions, and slow down "
-    "below the speeds shown wherever you cannot see far ahead.",
+    "Descents and curves: the speeds shown are model upper bounds, not safe or target speeds. Check "
+    "brakes before the start, ride to the conditions, and slow down well below them wherever you "
+    "cannot see far ahead. On long rides, rest before the big descents: tired arms and hands brake "
+    "and steer less well.",
     "Exertion: anyone with a medical condition needs clearance from a qualified professional "
     "before hard efforts; adaptive athletes follow their clinician's advice.",
     "Roads are open to traffic: local road rules apply.",
@@ -36,11 +44,11 @@ CAUTIONS = (
 
 #: Short symbols for warnings on cards, with their meaning (our own letters).
 SYMBOLS = {
-    "walk": ("W", "below balance speed on two wheels: walking may be needed"),
+    "walk": ("D", "dismount: below balance speed on two wheels over a stretch, walking may be needed"),
     "steep": ("S", "a stretch of 10 % or more"),
     "w-prime": ("R", "W′ (the work the rider can do above CP) runs out at this effort"),
-    "fast": ("F", "coasting would pass the vehicle's speed limit: control the speed"),
-    "curve": ("C", "tight curve: slow down before it"),
+    "fast": ("F", "coasting would pass the speed set for this vehicle: brake to hold it"),
+    "curve": ("C", "curve, or a turn reached fast: slow down before it"),
     "battery": ("B", "the battery may not last with a reserve"),
     "crawl": ("K", "slow for a long way: plan rests"),
     "over-cp": ("P", "the target speed takes more than this rider's CP"),
@@ -109,6 +117,7 @@ def environment(override: Path | None = None, units: str = "metric") -> jinja2.E
     env.globals.update(
         units=units,
         cautions=CAUTIONS,
+        descent_caution=DESCENT_CAUTION,
         symbols=SYMBOLS,
         clock=fmt.clock,
         cautions_for=cautions_for,
@@ -128,10 +137,46 @@ class RiderView:
     start: datetime | None
 
 
+#: From this air temperature [°C] the cards carry the hot-weather caution: common
+#: practice, no published source (cardgen's fluid guide changes band at 25 °C).
+HOT_C = 25.0
+
+
+def heat_caution(celsius: float) -> str:
+    """The hot-weather caution (Sawka et al. 2007, ACSM position stand, Med Sci Sports
+    Exerc 39(2):377–390: sweat losses of about 0.4–1.8 L/h; drink to keep body-mass
+    loss under about 2 %, and not more than is sweated out)."""
+    return (
+        f"Hot weather (planned at {celsius:.0f} °C): sweat losses can run well above the fluid figures "
+        "shown, up to about 1.8 L an hour (Sawka et al. 2007). Drink to keep body-mass loss under about "
+        "2 %, and not more than you sweat out; rest in shade. Follow medical and clinician advice: "
+        "adaptive riders may have impaired temperature control and need their own plan for heat."
+    )
+
+
 def cautions_for(plan: Plan) -> tuple[str, ...]:
-    """The cautions that apply to this rider's vehicle: the e-assist one only where
-    there is a motor."""
-    return tuple(c for c in CAUTIONS if plan.motor is not None or c != ASSIST_CAUTION)
+    """The cautions that apply to this rider's plan: the hot-weather one from
+    :data:`HOT_C`, the e-assist ones (rules, and the range with the battery the plan
+    assumes) only where there is a motor."""
+    general = tuple(c for c in CAUTIONS if c != ASSIST_CAUTION)
+    temperature = plan.conditions.temperature
+    if temperature is not None and temperature - 273.15 >= HOT_C:
+        general = (*general, heat_caution(temperature - 273.15))
+    if plan.motor is None:
+        return general
+    return (*general, ASSIST_CAUTION, assist_range(plan))
+
+
+def assist_range(plan: Plan) -> str:
+    """The e-assist range line: the battery the plan assumes, its usable share and the
+    reserve kept, and what shortens the range."""
+    motor = plan.motor
+    return (
+        f"E-assist range: the plan assumes a {fmt.battery(motor.battery, 'down')} battery, "
+        f"{fmt.battery(motor.usable_battery, 'down')} of it usable, and keeps {BATTERY_RESERVE:.0%} of that "
+        "in reserve. Cold, an older battery and a heavier load shorten the range: plan to be able to "
+        "finish without assist."
+    )
 
 
 def legend_for(plan: Plan) -> list[tuple[str, str]]:

@@ -16,7 +16,8 @@ def _battery(n: Notice, units: str) -> str:
         else ""
     )
     return (
-        f"{place}the plan needs about {fmt.battery(n.value('used'))} of the {fmt.battery(n.value('usable'))} usable; "
+        f"{place}the plan needs about {fmt.battery(n.value('used'), 'up')} of the "
+        f"{fmt.battery(n.value('usable'), 'down')} usable; "
         "ride lower levels before that, or carry a spare"
     )
 
