@@ -12,7 +12,7 @@ import pytest
 from hypothesis import HealthCheck, find, given, settings
 from hypothesis import strategies as st
 
-from cardgen.config import _from_data
+from cardgen.config.loader import _from_data
 from cardgen.errors import CardgenError, ConfigError, GpxError
 from cardgen.io.gpx import read_gpx
 from cardgen.physics.atmosphere import air_density_isa
@@ -197,7 +197,8 @@ scalar = st.one_of(
     st.lists(st.integers(), max_size=3),
 )
 keys = {
-    section: list(spec) + ["bogus"] for section, spec in __import__("cardgen.config").config.SCHEMA.items()
+    section: list(spec) + ["bogus"]
+    for section, spec in __import__("cardgen.config").config.loader.SCHEMA.items()
 }
 
 

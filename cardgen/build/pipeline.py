@@ -24,10 +24,11 @@ from pathlib import Path
 from cardgen import __version__
 from cardgen.build.cache import digest, file_digest, read_manifest, templates_digest, write_manifest
 from cardgen.build.publish import TMP, BuildError, Lock, check_output, publish, recover, side_name
-from cardgen.config import SiteConfig, plural, rider_start
+from cardgen.config import plural, rider_start
 from cardgen.errors import CardgenError
 from cardgen.io.gpx import MAX_FILE_BYTES
 from cardgen.paths import default_templates
+from cardgen.settings import SiteConfig
 
 
 class Interrupted(KeyboardInterrupt):

@@ -25,6 +25,9 @@ R_WATER_VAPOUR = 461.5
 #: ISA sea-level temperature [K] and pressure [Pa].
 ISA_T0 = 288.15
 ISA_P0 = 101325.0
+#: ISA sea-level air density [kg/m³], ISO 2533 (p0/(R·T0) = 1.22500): the one still-air
+#: density wherever no altitude or temperature is known.
+SEA_LEVEL_AIR_DENSITY = 1.225
 #: ISA tropospheric lapse rate [K/m].
 ISA_LAPSE_RATE = 0.0065
 #: Exponent g0·M/(R*·L) of the ISA barometric formula [-].

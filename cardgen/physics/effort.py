@@ -20,13 +20,11 @@ from typing import Any
 
 import numpy as np
 
+from cardgen.physics.atmosphere import SEA_LEVEL_AIR_DENSITY
 from cardgen.physics.forces import Resistance
 from cardgen.physics.ride import UNBOUNDED, clamp_affine_scan
 from cardgen.physics.steady import power_for_speed, speed_for_power
 from cardgen.units import Floats
-
-#: Air density [kg/m³] at which the flat speed that sets coasting is worked out.
-FLAT_AIR_DENSITY = 1.2
 
 
 def effort_power(
@@ -59,7 +57,9 @@ def effort_power(
     """
     power = np.where(np.asarray(on_climb, dtype=bool), climb_power, flat_power).astype(float)
     steady = resistance.steady()
-    flat_speed = speed_for_power(flat_power, **steady, grade=0.0, headwind=0.0, air_density=FLAT_AIR_DENSITY)
+    flat_speed = speed_for_power(
+        flat_power, **steady, grade=0.0, headwind=0.0, air_density=SEA_LEVEL_AIR_DENSITY
+    )
     coasts = (
         power_for_speed(
             flat_speed,

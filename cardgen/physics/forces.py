@@ -20,6 +20,7 @@ from typing import Any
 
 import numpy as np
 
+from cardgen.physics.atmosphere import SEA_LEVEL_AIR_DENSITY
 from cardgen.units import G0, Floats
 
 #: Wheel-bearing friction, P = v·(91 + 8.7·v)·1e-3 [W] (Dahn et al. 1991 via Martin 1998).
@@ -241,7 +242,7 @@ def steady_breakdown(
     efficiency: Floats = 1.0,
     grade: Floats = 0.0,
     headwind: Floats = 0.0,
-    air_density: Floats = 1.225,
+    air_density: Floats = SEA_LEVEL_AIR_DENSITY,
     bearings: Floats = True,
 ) -> Any:
     """Every term of the steady (no acceleration) power balance at a speed.

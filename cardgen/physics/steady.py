@@ -20,6 +20,7 @@ from typing import Any
 
 import numpy as np
 
+from cardgen.physics.atmosphere import SEA_LEVEL_AIR_DENSITY
 from cardgen.physics.forces import ForceLaw, steady_breakdown, wheel_power
 from cardgen.units import Floats
 
@@ -39,7 +40,7 @@ def power_for_speed(
     efficiency: Floats = 1.0,
     grade: Floats = 0.0,
     headwind: Floats = 0.0,
-    air_density: Floats = 1.225,
+    air_density: Floats = SEA_LEVEL_AIR_DENSITY,
     bearings: bool = True,
 ) -> Any:
     """Power at the pedals to hold a steady ground speed.
@@ -139,7 +140,7 @@ def speed_for_power(
     efficiency: Floats = 1.0,
     grade: Floats = 0.0,
     headwind: Floats = 0.0,
-    air_density: Floats = 1.225,
+    air_density: Floats = SEA_LEVEL_AIR_DENSITY,
     bearings: bool = True,
     rtol: Floats = _TOL,
 ) -> Any:

@@ -2,19 +2,26 @@
 
 from __future__ import annotations
 
+import dataclasses
 from dataclasses import dataclass
 
 from cardgen.errors import VehicleError
+from cardgen.physics.assist import rider_power_for_speed
+from cardgen.physics.atmosphere import SEA_LEVEL_AIR_DENSITY
 from cardgen.profiles.limits import LIMITS
 from cardgen.profiles.motors import find_motor
 from cardgen.profiles.vehicles import Vehicle
 
 #: An all-day effort is held at about this share of critical power: common practice,
-#: no published source. Sets the default CP from the vehicle's typical power.
+#: no published source. The one link between a rider's flat effort and their CP: the
+#: default CP is the flat power (given in watts, derived from a speed, or the
+#: vehicle's typical power) divided by this share.
 ALL_DAY_SHARE_OF_CP = 0.70
 #: Default W′ as seconds of CP: from memory (recreational riders ≈ 10–20 kJ on the
 #: legs, ≈ 5–8 kJ on the arms), no published source checked.
 W_PRIME_SECONDS_OF_CP = 70.0
+#: Assist level away from climbs when the rider names none (vehicles with a motor).
+DEFAULT_ASSIST_LEVEL = 1
 #: Default cap on climbing power, as a share above CP.
 CLIMB_SHARE_ABOVE_CP = 0.10
 
@@ -38,10 +45,13 @@ class Rider:
     Notes
     -----
     Defaults (:meth:`for_vehicle`): flat power = the vehicle's typical power, CP =
-    flat power / 0.70, W′ = 70 s × CP, climb power = CP. For a handcycle (typical
-    60 W) that gives CP ≈ 86 W, inside the maximum race power of 55 ± 25 W (arm
-    impairment) to 129 ± 26 W (none) measured by Janssen, Dallmeijer & van der Woude
-    (2001), J. Rehabil. Res. Dev. 38:33–40.
+    flat power / 0.70 (whether the flat power is the typical one, given in watts or
+    derived from a flat speed by :func:`flat_power_for_speed`), W′ = 70 s × CP, climb
+    power = CP. For a handcycle (typical 60 W) that gives CP ≈ 86 W, inside the maximum
+    race power of 55 ± 25 W (arm impairment) to 129 ± 26 W (none) measured by Janssen,
+    Dallmeijer & van der Woude (2001), J. Rehabil. Res. Dev. 38:33–40; a handcyclist who
+    rides the flat at 44 W gets CP ≈ 63 W, in the arm-impairment group, rather than the
+    typical rider's CP.
     """
 
     name: str
@@ -52,7 +62,7 @@ class Rider:
     climb_power: float
     climb_share: float
     target_speed: float
-    assist_between_climbs: int = 1
+    assist_between_climbs: int = DEFAULT_ASSIST_LEVEL
 
     def __post_init__(self):
         problems = []
@@ -90,9 +100,9 @@ class Rider:
         """A rider with the defaults of the Notes, any of them replaced by ``given``.
 
         Defaults follow what is given: W′ and the climbing power from the CP, the CP
-        from the flat power."""
+        from the flat power (:data:`ALL_DAY_SHARE_OF_CP`)."""
         flat = given.get("flat_power", vehicle.typical_power)
-        cp = given.get("cp", max(flat, vehicle.typical_power) / ALL_DAY_SHARE_OF_CP)
+        cp = given.get("cp", flat / ALL_DAY_SHARE_OF_CP)
         values = dict(
             cp=cp,
             w_prime=W_PRIME_SECONDS_OF_CP * cp,
@@ -103,3 +113,45 @@ class Rider:
         )
         values.update(given)
         return cls(name=name or vehicle.label, vehicle=vehicle, **values)
+
+
+def flat_power_for_speed(vehicle: Vehicle, speed: float, assist_level: int = 1) -> float:
+    """The rider's own power [W] at the pedals to hold ``speed`` on level ground in
+    still air at sea level, with the motor (if any) at ``assist_level``.
+
+    Parameters
+    ----------
+    vehicle : Vehicle (its motor, if it has one, at its continuous rating)
+    speed : float [m/s]
+    assist_level : int, 0 = off; ignored without a motor
+
+    Returns
+    -------
+    float [W], at least 1 W.
+
+    Notes
+    -----
+    At the wheel P_need(v) = P·E + min(r·P, P_rated)·taper(v) (Martin et al. 1998 for
+    P_need; the assist share r of the level, tapered to zero at the cut-off as in
+    Regulation (EU) No 168/2013, Art. 2(2)(h)). An all-day flat speed is held far
+    longer than the motor's thermal time, so its continuous rating, not its peak, caps
+    the assist. Air density :data:`~cardgen.physics.atmosphere.SEA_LEVEL_AIR_DENSITY`
+    (ISO 2533).
+    """
+    motor, ratio = None, 0.0
+    if vehicle.motor is not None:
+        motor = find_motor(vehicle.motor)
+        if not 0 <= assist_level <= len(motor.levels):
+            raise VehicleError(f"assist level {assist_level} is outside 0…{len(motor.levels)}")
+        motor = dataclasses.replace(motor, peak_power=min(motor.peak_power, motor.rated_power))
+        ratio = motor.levels[assist_level - 1] if assist_level > 0 else 0.0
+    watts = rider_power_for_speed(
+        motor,
+        ratio,
+        speed,
+        resistance=vehicle.resistance,
+        grade=0.0,
+        headwind=0.0,
+        air_density=SEA_LEVEL_AIR_DENSITY,
+    )
+    return max(1.0, float(watts))

@@ -19,10 +19,8 @@ from cardgen.errors import CardgenError, ConfigError, close_matches
 from cardgen.io.files import read_toml
 from cardgen.io.tables import read_csv
 from cardgen.physics.atmosphere import Conditions
-from cardgen.physics.effort import FLAT_AIR_DENSITY
-from cardgen.physics.steady import power_for_speed
 from cardgen.profiles.limits import LIMITS
-from cardgen.profiles.riders import ALL_DAY_SHARE_OF_CP, Rider
+from cardgen.profiles.riders import DEFAULT_ASSIST_LEVEL, Rider, flat_power_for_speed
 from cardgen.profiles.vehicles import Vehicle, builtin_vehicles, find_vehicle, vehicles_from_tables
 from cardgen.settings import RiderConfig, RouteConfig, SiteConfig, Wave
 
@@ -676,23 +674,16 @@ def _rider(check: _Checker, i: int, r: dict, routes: tuple[RouteConfig, ...]) ->
                 f"{check.where('riders', i, 'flat_kmh')}: give flat_kmh or flat_w, not both"
             )
             return None
-        res = vehicle.resistance
-        watts = float(
-            power_for_speed(
-                r["flat_kmh"] / 3.6,
-                mass=res.mass,
-                crr=res.crr,
-                cda=res.cda,
-                efficiency=res.efficiency,
-                air_density=FLAT_AIR_DENSITY,
-            )
-        )
-        given["flat_power"] = max(1.0, round(watts))
-        if r["cp_w"] is None:  # the CP follows from the flat power, as for the defaults
-            given["cp"] = given["flat_power"] / ALL_DAY_SHARE_OF_CP
+        level = given.get("assist_between_climbs", DEFAULT_ASSIST_LEVEL) if vehicle.motor is not None else 0
+        try:
+            watts = flat_power_for_speed(vehicle, r["flat_kmh"] * LIMITS["flat_kmh"].to_si, level)
+        except CardgenError as exc:
+            check.problems.append(f"{check.where('riders', i, 'assist_between_climbs')}: {exc}")
+            return None
+        given["flat_power"] = watts
         check.notes.append(
             f"rider {name!r}: {r['flat_kmh']:g} km/h on the flat takes about {watts:.0f} W on "
-            f"a {vehicle.name} in still air; the plans use that as the flat power"
+            f"a {vehicle.name} in still air{_with_assist(vehicle, level)}; the plans use that as the flat power"
         )
     unknown = [x for x in (r["routes"] or ()) if not any(_names_route(str(x), rc) for rc in routes)]
     for x in unknown:
@@ -713,6 +704,13 @@ def _rider(check: _Checker, i: int, r: dict, routes: tuple[RouteConfig, ...]) ->
             f"{rider.climb_power_used:.0f} W (raise climb_share to allow more)"
         )
     return RiderConfig(rider, tuple(str(x) for x in (r["routes"] or ())), r["start"], r["bib"])
+
+
+def _with_assist(vehicle: Vehicle, level: int) -> str:
+    """ ", with assist level N" for a vehicle with a motor, else nothing."""
+    if vehicle.motor is None:
+        return ""
+    return f" with assist level {level}" if level else " with the motor off"
 
 
 def _fitted_vehicle(check: _Checker, i: int, r: dict, vehicle: Vehicle) -> Vehicle:

@@ -1,0 +1,28 @@
+"""Site configuration: ``site.toml`` checked against a declared schema in one pass.
+
+The package's interface: :func:`load_config` (a ``site.toml``), :func:`folder_config`
+and :func:`gpx_config` (zero-config sites), :func:`rider_start`, and the schema with
+its README table.
+"""
+
+from cardgen.config.loader import (
+    SCHEMA,
+    SECTIONS,
+    folder_config,
+    gpx_config,
+    load_config,
+    plural,
+    reference_table,
+    rider_start,
+)
+
+__all__ = [
+    "SCHEMA",
+    "SECTIONS",
+    "folder_config",
+    "gpx_config",
+    "load_config",
+    "plural",
+    "reference_table",
+    "rider_start",
+]
