@@ -1,8 +1,8 @@
 """`cardgen route` on the sample routes, as a user runs it."""
 
+import json
 from pathlib import Path
 
-import json
 import numpy as np
 import pytest
 from gpxmaker import straight, to_latlon, write_gpx

@@ -107,7 +107,9 @@ def outing(tmp_path_factory):
 def text(pdf: Path, layout: bool = True) -> str:
     """The PDF's text, lines joined (pdftotext -layout, or in reading order)."""
     mode = ["-layout"] if layout else []
-    raw = subprocess.run(["pdftotext", *mode, str(pdf), "-"], capture_output=True, text=True, check=True).stdout
+    raw = subprocess.run(
+        ["pdftotext", *mode, str(pdf), "-"], capture_output=True, text=True, check=True
+    ).stdout
     return re.sub(r"\s+", " ", raw)
 
 

@@ -431,7 +431,11 @@ def _scan(
         # taper or a stall), or after DAMP_AFTER passes, each moves half way only
         damped = damped or used > DAMP_AFTER or (used > 2 and change > 0.5 * last_change)
         history.append(change)
-        if damped and len(history) > 2 * CYCLE and max(history[-CYCLE:]) >= 0.9 * max(history[-2 * CYCLE : -CYCLE]):
+        if (
+            damped
+            and len(history) > 2 * CYCLE
+            and max(history[-CYCLE:]) >= 0.9 * max(history[-2 * CYCLE : -CYCLE])
+        ):
             # the passes cycle (a reference that flips across the kink where a motor's
             # taper begins): move a smaller share of the way, which settles any cycle
             # of a map whose slope is below one there

@@ -308,7 +308,9 @@ def make_plan(
     )
 
 
-def _walks_off_climbs(walked: np.ndarray, on_climb: np.ndarray, terrain: Terrain, speed: float) -> list[Notice]:
+def _walks_off_climbs(
+    walked: np.ndarray, on_climb: np.ndarray, terrain: Terrain, speed: float
+) -> list[Notice]:
     """A "walk" notice for each walked stretch away from the climbs (those on a climb
     are in the climb's own notices)."""
     return [
@@ -505,8 +507,14 @@ def curve_notices(terrain: Terrain, rider: Rider, ride: Ride, wind, rho) -> list
     junction = _junction_nodes(terrain)
     if junction.any():
         steady = vehicle.resistance.steady()
-        flat = float(speed_for_power(rider.flat_power, **steady, grade=0.0, headwind=0.0, air_density=float(np.mean(rho))))
-        coast = np.nan_to_num(speed_for_power(0.0, **steady, grade=terrain.grade, headwind=wind, air_density=rho))
+        flat = float(
+            speed_for_power(
+                rider.flat_power, **steady, grade=0.0, headwind=0.0, air_density=float(np.mean(rho))
+            )
+        )
+        coast = np.nan_to_num(
+            speed_for_power(0.0, **steady, grade=terrain.grade, headwind=wind, air_density=rho)
+        )
         coast_at_node = np.concatenate((coast[:1], coast))  # the segment that leads to each node
         binding &= ~junction | (coast_at_node >= max(JUNCTION_FAST * flat, JUNCTION_FAST_SPEED))
     nodes = np.flatnonzero(binding)

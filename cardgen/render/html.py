@@ -171,6 +171,8 @@ def assist_range(plan: Plan) -> str:
     """The e-assist range line: the battery the plan assumes, its usable share and the
     reserve kept, and what shortens the range."""
     motor = plan.motor
+    if motor is None:
+        return ""
     return (
         f"E-assist range: the plan assumes a {fmt.battery(motor.battery, 'down')} battery, "
         f"{fmt.battery(motor.usable_battery, 'down')} of it usable, and keeps {BATTERY_RESERVE:.0%} of that "

@@ -315,7 +315,12 @@ def _render_route(config, site: dict, job: RouteJob, folder: Path) -> tuple[dict
     hot = config.conditions.temperature
     hot_caution = heat_caution(hot - 273.15) if hot is not None and hot - 273.15 >= HOT_C else ""
     common = dict(
-        site=site, route=route, units=units, version=__version__, symbols_for=symbols_for, hot_caution=hot_caution
+        site=site,
+        route=route,
+        units=units,
+        version=__version__,
+        symbols_for=symbols_for,
+        hot_caution=hot_caution,
     )
     (folder / "index.html").write_text(
         env.get_template("route.html").render(
@@ -454,10 +459,10 @@ def watch_list(plan: Plan, units: str) -> list[dict]:
 def _all_warnings(plan: Plan):
     """Every notice of a plan: the route-wide ones, then each climb's and descent's."""
     yield from plan.warnings
-    for row in plan.climbs:
-        yield from row.warnings
-    for row in plan.descents:
-        yield from row.warnings
+    for climb in plan.climbs:
+        yield from climb.warnings
+    for descent in plan.descents:
+        yield from descent.warnings
 
 
 def _curve_places(curves, units: str) -> tuple[str, str]:

@@ -217,7 +217,9 @@ def find_corners(lat: np.ndarray, lon: np.ndarray, d: np.ndarray) -> list[Corner
     return corners
 
 
-def _on_arc(pts: np.ndarray, p1: np.ndarray, u1: np.ndarray, p2: np.ndarray, u2: np.ndarray, off: float) -> bool:
+def _on_arc(
+    pts: np.ndarray, p1: np.ndarray, u1: np.ndarray, p2: np.ndarray, u2: np.ndarray, off: float
+) -> bool:
     """Whether any of ``pts`` lies off both legs' lines by more than ``off`` [m]: a
     point of the corner's arc, not of its legs."""
     if pts.size == 0:
