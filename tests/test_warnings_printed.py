@@ -186,7 +186,7 @@ def test_a_60_wh_battery_rounds_toward_caution(outing):
     need = plan["totals"]["battery_j"] / 3600
     assert f"battery about {-int(-need // 1)} Wh of 54 Wh usable" in card
     reading = text(outing / "hill-loop" / "cargo-rider.pdf", layout=False)
-    assert "E-assist range: the plan assumes a 60 Wh battery, 54 Wh of it usable" in reading
+    assert "Range: planned on 54 Wh usable of 60 Wh, 20 % in reserve" in reading
 
 
 def test_tandem_descent_flags_and_figures_agree(outing):

@@ -28,14 +28,15 @@ DESCENT_CAUTION = (
     "Speeds are model upper bounds, not safe or target speeds: check brakes before the start, brake "
     "before bends, and ride slower for the conditions, visibility, surface, traffic and posted limits."
 )
+#: Beside the descents table of a card whose ride is longer than :data:`LONG_RIDE` [s].
+REST_CAUTION = "On a long ride, rest before the big descents: tired arms and hands brake and steer less well."
+LONG_RIDE = 3 * 3600.0
 #: Cautions printed on every page, plain and short (cards: :func:`cautions_for`).
 CAUTIONS = (
     "Every figure is a model estimate from average values, not a guarantee: wind, road surface, "
     "tyres and the rider's day change them.",
-    "Descents and curves: the speeds shown are model upper bounds, not safe or target speeds. Check "
-    "brakes before the start, ride to the conditions, and slow down well below them wherever you "
-    "cannot see far ahead. On long rides, rest before the big descents: tired arms and hands brake "
-    "and steer less well.",
+    "Descents and curves: speeds shown are model upper bounds, not safe or target speeds; check brakes "
+    "and ride well below them where you cannot see far ahead.",
     "Exertion: anyone with a medical condition needs clearance from a qualified professional "
     "before hard efforts; adaptive athletes follow their clinician's advice.",
     "Roads are open to traffic: local road rules apply.",
@@ -118,6 +119,8 @@ def environment(override: Path | None = None, units: str = "metric") -> jinja2.E
         units=units,
         cautions=CAUTIONS,
         descent_caution=DESCENT_CAUTION,
+        rest_caution=REST_CAUTION,
+        long_ride=LONG_RIDE,
         symbols=SYMBOLS,
         clock=fmt.clock,
         cautions_for=cautions_for,
@@ -164,7 +167,7 @@ def cautions_for(plan: Plan) -> tuple[str, ...]:
         general = (*general, heat_caution(temperature - 273.15))
     if plan.motor is None:
         return general
-    return (*general, ASSIST_CAUTION, assist_range(plan))
+    return (*general, f"E-assist: motor rules differ by place; the local rules apply. {assist_range(plan)}")
 
 
 def assist_range(plan: Plan) -> str:
@@ -174,10 +177,9 @@ def assist_range(plan: Plan) -> str:
     if motor is None:
         return ""
     return (
-        f"E-assist range: the plan assumes a {fmt.battery(motor.battery, 'down')} battery, "
-        f"{fmt.battery(motor.usable_battery, 'down')} of it usable, and keeps {BATTERY_RESERVE:.0%} of that "
-        "in reserve. Cold, an older battery and a heavier load shorten the range: plan to be able to "
-        "finish without assist."
+        f"Range: planned on {fmt.battery(motor.usable_battery, 'down')} usable of "
+        f"{fmt.battery(motor.battery, 'down')}, {BATTERY_RESERVE * 100:.0f} % in reserve; cold, age and "
+        "load shorten it: plan to finish without assist."
     )
 
 
