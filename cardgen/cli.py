@@ -14,6 +14,7 @@ import sys
 
 from cardgen import __version__
 from cardgen.errors import CardgenError
+from cardgen.profiles.riders import PACING_STYLES
 
 #: Characters that would steer a terminal (escape sequences, bidirectional overrides)
 #: when names from GPX files or configs are printed: shown as U+FFFD instead.
@@ -265,11 +266,21 @@ def _route_plan(args):
     from cardgen.route.terrain import build_terrain
     from cardgen.units import celsius_to_kelvin, kmh_to_ms
 
-    for name in ("power", "target_speed", "wind", "wind_from", "temperature"):
+    for name in ("power", "target_speed", "wind", "wind_from", "temperature", "cp", "w_prime"):
         _finite(getattr(args, name), "--" + name.replace("_", "-"))
     vehicle = find_vehicle(args.vehicle)
-    power = vehicle.typical_power if args.power is None else args.power
-    _within("--power", power, "route_power_w")
+    _within("--power", args.power, "route_power_w")
+    _within("--cp", args.cp, "cp_w")
+    _within("--w-prime", None if args.w_prime is None else args.w_prime / 1000, "w_prime_kj")
+    given: dict = {}
+    if args.power is not None:
+        given.update(flat_power=args.power, climb_power=args.power)
+    if args.cp is not None:
+        given["cp"] = args.cp
+    if args.w_prime is not None:
+        given["w_prime"] = args.w_prime
+    if args.pacing is not None:
+        given["pacing"] = args.pacing
     _within("--target-speed", args.target_speed, "target_kmh")
     target = vehicle.climb_speed if args.target_speed is None else float(kmh_to_ms(args.target_speed))
     _within("--wind", args.wind, "wind_kmh")
@@ -279,7 +290,7 @@ def _route_plan(args):
         _within("--temperature", args.temperature, "temperature_c")
         temperature = float(celsius_to_kelvin(args.temperature))
     conditions = Conditions(float(kmh_to_ms(args.wind)), math.radians(args.wind_from), temperature)
-    rider = Rider.for_vehicle(vehicle, flat_power=power, climb_power=power, target_speed=target)
+    rider = Rider.for_vehicle(vehicle, target_speed=target, **given)
     track = read_gpx(args.gpx)
     terrain = build_terrain(track)
     return make_plan(track, terrain, rider, conditions)
@@ -291,6 +302,8 @@ def cmd_route(args) -> int:
     from cardgen.render.notices import notice_text
 
     plan = _route_plan(args)
+    if args.trace is not None:
+        _write_trace(plan, args.trace)
     data = route_json(plan)
     if args.json:
         print(json.dumps(data, indent=2, ensure_ascii=False))
@@ -299,10 +312,13 @@ def cmd_route(args) -> int:
     _print(
         f"{r['name']}: {_n(r['distance_km'], '.1f')} km, +{_n(r['gain_m'], '.0f')} m / -{_n(r['loss_m'], '.0f')} m"
     )
+    e, rider = plan.effort, plan.rider
     _print(
-        f"{v.label} ({v.name}), {v.mass:.0f} kg, at {plan.rider.flat_power:.0f} W; "
-        f"climb target {plan.rider.target_speed * 3.6:.1f} km/h"
+        f"{v.label} ({v.name}), {v.mass:.0f} kg; CP {rider.cp:.0f} W, W′ {rider.w_prime / 1000:.1f} kJ; "
+        f"climb target {rider.target_speed * 3.6:.1f} km/h"
     )
+    assumed = "" if e.given else f", the default for a ride of about {duration(e.duration or 0.0)}"
+    _print(f"Pacing: {e.style}, mean {e.mean_power:.0f} W ({e.mean_power / rider.cp:.0%} of CP{assumed})")
     _print()
     if data["climbs"]:
         _print(" #   km        length  gain  avg   max   FIETS band       W@target  km/h  time")
@@ -343,6 +359,22 @@ def cmd_route(args) -> int:
         _print(f"note: {notice_text(w)}")
     _print("\nModel estimates, not guarantees. Ride descents to the conditions; local road rules apply.")
     return 0
+
+
+def _write_trace(plan, path: str) -> None:
+    """Write the plan's node-by-node trace to ``path``, whole or not at all."""
+    from pathlib import Path
+
+    from cardgen.render.exports import trace_csv_text
+
+    target = Path(path)
+    temporary = target.with_name(f".{target.name}.cardgen-tmp-{os.getpid()}")
+    try:
+        temporary.write_text(trace_csv_text(plan), encoding="utf-8")
+        os.replace(temporary, target)
+    except OSError as exc:
+        temporary.unlink(missing_ok=True)
+        raise CardgenError(f"{path}: cannot write the trace ({exc.strerror or exc})") from None
 
 
 def _site_config(target: str | None):
@@ -706,8 +738,17 @@ def build_parser() -> argparse.ArgumentParser:
         "--power",
         type=float,
         metavar="W",
-        help="rider power held along the route (default: the vehicle's typical power)",
+        help="the rider's mean power over the ride (default: from the ride's length and the CP)",
     )
+    route.add_argument("--cp", type=float, metavar="W", help="the rider's critical power")
+    route.add_argument("--w-prime", type=float, metavar="J", help="the rider's W′ (work above CP)")
+    route.add_argument(
+        "--pacing",
+        choices=PACING_STYLES,
+        help="best: spend W′ where it saves most time; steady: never above CP "
+        "(default: steady on arm-powered vehicles, best on the others)",
+    )
+    route.add_argument("--trace", metavar="OUT.csv", help="write the plan at every simulation node")
     route.add_argument(
         "--target-speed",
         type=float,

@@ -246,7 +246,9 @@ def test_profile_shading_orders_by_lightness_so_it_reads_in_greyscale():
     d = np.arange(0.0, 6001.0, 10.0)
     grade = np.select([d < 1000, d < 2000, d < 3000, d < 4000, d < 5000], [0.0, 0.03, 0.07, 0.11, -0.11], 0.0)
     e = 100 + np.concatenate(([0.0], np.cumsum(grade[:-1] * 10.0)))
-    terrain = SimpleNamespace(distance=d, elevation=e, length=float(d[-1]), gain=0.0, loss=0.0)
+    terrain = SimpleNamespace(
+        distance=d, elevation=e, grade=grade[:-1], length=float(d[-1]), gain=0.0, loss=0.0
+    )
     svg, _ = plots.elevation_profile(terrain, [])
 
     def luminance(hex_colour):
@@ -263,6 +265,35 @@ def test_profile_shading_orders_by_lightness_so_it_reads_in_greyscale():
     assert luminance(flat) > luminance(three) > luminance(seven) > luminance(eleven)
     # the descent, after the summit's short mixed stretch, takes the climb's shade again
     assert eleven in shades[5:]
+
+
+def test_profile_shading_reads_the_terrains_own_grade():
+    """The shading is the terrain's grade (the climb table's), averaged over each drawn
+    stretch, not a grade made again from the thinned points: a terrain whose grade
+    says 11 % over a stretch is shaded as 11 % there even where its elevation (here
+    deliberately inconsistent) is flat, and the 0 % stretch stays the lightest."""
+    from types import SimpleNamespace
+
+    from matplotlib import colormaps
+    from matplotlib.colors import BoundaryNorm, to_hex
+
+    from cardgen.render import plots
+
+    d = np.arange(0.0, 20001.0, 10.0)  # 2001 nodes: thinned to every 3rd
+    grade = np.where(d[:-1] < 10000, 0.0, 0.11)
+    e = np.full(d.size, 100.0)
+    terrain = SimpleNamespace(distance=d, elevation=e, grade=grade, length=float(d[-1]), gain=0.0, loss=0.0)
+    svg, _ = plots.elevation_profile(terrain, [])
+    bounds = np.arange(0.0, plots.GRADE_RANGE + 0.1, 2.0)
+    cmap, norm = colormaps["cividis_r"], BoundaryNorm(bounds, 256, extend="max")
+    profile = svg[svg.index('<g id="axes_1">') : svg.index('<g id="axes_2">')]  # not the colour bar
+    fills = re.findall(r"<path d=\"M [^\"]*\"[^>]*?fill: ?(#[0-9a-f]{6})", profile)
+    assert to_hex(cmap(norm(0.0))) in fills and to_hex(cmap(norm(11.0))) in fills
+    # the same thinned stretches, averaged: exactly the mean of the segment grades
+    idx = plots.thin_index(d.size)
+    assert np.allclose(
+        plots.thinned_grade(grade, idx), [grade[a:b].mean() for a, b in zip(idx[:-1], idx[1:], strict=True)]
+    )
 
 
 @needs_poppler
@@ -308,7 +339,9 @@ def test_profile_bands_read_in_greyscale_print(tmp_path):
     d = np.arange(0.0, 6001.0, 10.0)
     grade = np.select([d < 1500, d < 3000, d < 4500], [0.0, 0.03, 0.07], 0.11)
     e = 100 + np.concatenate(([0.0], np.cumsum(grade[:-1] * 10.0)))
-    terrain = SimpleNamespace(distance=d, elevation=e, length=float(d[-1]), gain=0.0, loss=0.0)
+    terrain = SimpleNamespace(
+        distance=d, elevation=e, grade=grade[:-1], length=float(d[-1]), gain=0.0, loss=0.0
+    )
     svg, _ = plots.elevation_profile(terrain, [], width_in=5.0, height_in=2.0)
     (tmp_path / "p.svg").write_text(svg, encoding="utf-8")
     write_pdf('<img src="p.svg" style="width: 120mm">', tmp_path, tmp_path / "p.pdf")

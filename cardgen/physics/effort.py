@@ -160,3 +160,47 @@ def w_prime_balance(power: Floats, time: Floats, cp: float, w_prime: float) -> A
     shift = np.where(above, -(p - cp) * dt, w_prime * (1.0 - decay))
     unbounded = np.full(p.size, UNBOUNDED)
     return clamp_affine_scan(decay, shift, -unbounded, unbounded, w_prime)[1:]
+
+
+#: Decline of the sustainable power per natural-log unit of duration beyond
+#: :data:`LOG_FROM` [share of CP]. From memory of fits of the omni-domain model
+#: (Puchowicz, Baker & Clarke 2020), where A was of the order of 5–10 % of CP for
+#: trained riders [M]; not checked against the paper's tables.
+LOG_DECLINE = 0.08
+#: Duration [s] from which the log decline applies (T_CPmax = 30 min in the
+#: omni-domain model [M]).
+LOG_FROM = 1800.0
+
+
+def sustainable_power_omni(duration: Floats, cp: float, w_prime: float) -> Any:
+    """Highest mean power [W] a rider can sustain for ``duration`` [s]: the
+    critical-power model up to :data:`LOG_FROM`, with a logarithmic decline beyond.
+
+    Parameters
+    ----------
+    duration : float or array [s], > 0
+    cp : float [W] critical power
+    w_prime : float [J] W′
+
+    Returns
+    -------
+    float or array [W]; NaN for a duration that is not positive.
+
+    Notes
+    -----
+    P(t) = CP + W′/t for t ≤ T (Monod & Scherrer 1965), and for t > T
+    P(t) = CP + W′/t − A·CP·ln(t/T), the long-duration form of the omni-domain
+    power–duration model (Puchowicz, Baker & Clarke 2020), with A
+    :data:`LOG_DECLINE` and T :data:`LOG_FROM` (both from memory).
+
+    References
+    ----------
+    Puchowicz, M. J., Baker, J. & Clarke, D. C. (2020). Development and field
+    validation of an omni-domain power-duration model. *J. Sports Sci.*
+    38(7):801–813 (journal details from memory). Monod, H. & Scherrer, J. (1965),
+    *Ergonomics* 8:329–338.
+    """
+    t = np.asarray(duration, dtype=float)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        power = cp + w_prime / t - LOG_DECLINE * cp * np.log(np.maximum(t, LOG_FROM) / LOG_FROM)
+    return np.where(t > 0, power, np.nan)[()]

@@ -90,6 +90,26 @@ class Totals:
 
 
 @dataclass(frozen=True)
+class Effort:
+    """The day's effort a plan rides at and how it is spread.
+
+    ``style`` the pacing style ("best", "steady"); ``mean_power`` [W] the ride's
+    time-weighted mean rider power; ``asked`` [W] the day's effort it was planned
+    for; ``ceiling`` [W] the most the plan asks; ``given``: the effort is the rider's
+    own setting (flat_w, flat_kmh, --power), else the default for the ride's length,
+    ``duration`` [s] (the moving time that default assumed); ``battery_empty_at`` [m] where the motor stops
+    for want of battery (None: it lasts or there is none)."""
+
+    style: str
+    mean_power: float
+    asked: float
+    ceiling: float
+    given: bool = True
+    duration: float | None = None
+    battery_empty_at: float | None = None
+
+
+@dataclass(frozen=True)
 class Analysis:
     """What a route is, whoever rides it: climbs, descents and cues."""
 
@@ -117,6 +137,7 @@ class Plan:
     warnings: tuple[Notice, ...]
     assist_between: int | None = None  # level between climbs (0 = off); None without a motor
     stops: tuple[tuple[float, float], ...] = ()  # (where [m], how long [s]) planned stops
+    effort: Effort | None = None  # the day's effort and its pacing
 
     def lightened(self) -> Plan:
         """This plan with only the ride's times and rider power kept (what the pages,

@@ -21,20 +21,22 @@ from cardgen.physics.assist import (
     rider_power_for_speed,
 )
 from cardgen.physics.atmosphere import Conditions, air_density_isa
-from cardgen.physics.effort import effort_power, safe_climb_power, w_prime_balance
+from cardgen.physics.effort import safe_climb_power, w_prime_balance
 from cardgen.physics.forces import gravity_power, headwind
-from cardgen.physics.ride import Ride, simulate
+from cardgen.physics.ride import Ride
 from cardgen.physics.steady import power_for_speed, speed_for_power
 from cardgen.plan.model import (
     Analysis,
     ClimbRow,
     DescentRow,
+    Effort,
     Notice,
     Plan,
     TimedCue,
     Totals,
     arrival_time,
 )
+from cardgen.plan.pacing import W_PRIME_SLACK, Course, ceiling, day_effort, pace, ridden_mean
 from cardgen.plan.walking import stretches, walking_mask
 from cardgen.profiles.motors import find_motor
 from cardgen.profiles.riders import Rider
@@ -203,33 +205,24 @@ def make_plan(
         motor = dataclasses.replace(motor, battery=vehicle.battery)
     ratio, levels, between_level = _assist_ratios(rider, motor, route.climbs, terrain, wind, rho)
 
-    on_climb = np.zeros(terrain.grade.size, dtype=bool)
-    for climb in route.climbs:
-        on_climb[climb.start : climb.end] = True
-    power = effort_power(
-        flat_power=rider.flat_power,
-        climb_power=rider.climb_power_used,
-        on_climb=on_climb,
-        grade=terrain.grade,
-        headwind=wind,
-        air_density=rho,
-        resistance=vehicle.resistance,
-    )
-    ride = simulate(
+    course = Course(
         step=terrain.step,
         grade=terrain.grade,
         headwind=wind,
         air_density=rho,
-        resistance=vehicle.resistance,
-        rider_power=power,
-        speed_cap=speed_caps(terrain, rider),
         distance=terrain.distance,
+        speed_cap=speed_caps(terrain, rider),
         deceleration=braking(terrain.grade),
+        resistance=vehicle.resistance,
         motor=motor,
-        assist_ratio=ratio,
+        assist_ratio=ratio if motor is not None else None,
     )
+    effort, ride = _paced(course, rider)
     wbal = w_prime_balance(ride.rider_power, ride.time, rider.cp, rider.w_prime)
     walked = walking_mask(terrain.step, ride.time, ride.rider_power, ride.limited, vehicle.min_stable_speed)
+    on_climb = np.zeros(terrain.grade.size, dtype=bool)
+    for climb in route.climbs:
+        on_climb[climb.start : climb.end] = True
 
     climbs = tuple(
         _climb_row(i + 1, c, terrain, rider, motor, levels.get(c.start), ride, wbal, wind, rho, walked)
@@ -305,6 +298,7 @@ def make_plan(
         tuple(warnings),
         between_level,
         stops,
+        effort,
     )
 
 
@@ -322,6 +316,26 @@ def _walks_off_climbs(
         )
         for a, b in stretches(walked & ~on_climb)
     ]
+
+
+def _paced(course: Course, rider: Rider) -> tuple[Effort, Ride]:
+    """The rider's pacing plan, ridden, and what it assumed."""
+    style = rider.pacing_style
+    top = ceiling(style, rider.cp, rider.climb_share)
+    asked, duration = min(rider.flat_power, top), None
+    if not rider.effort_given:
+        asked, duration = day_effort(course, cp=rider.cp, w_prime=rider.w_prime, top=top)
+    paced = pace(course, mean_power=asked, cp=rider.cp, w_prime=rider.w_prime, top=top)
+    effort = Effort(
+        style=style,
+        mean_power=ridden_mean(paced.ride),
+        asked=asked,
+        ceiling=top,
+        given=rider.effort_given,
+        duration=duration,
+        battery_empty_at=paced.empty_at,
+    )
+    return effort, paced.ride
 
 
 def _climb_row(
@@ -354,7 +368,7 @@ def _climb_row(
     before = float(wbal[climb.start - 1]) if climb.start > 0 else rider.w_prime
     warnings = []
     safe = None
-    if w_low < 0:
+    if w_low < -W_PRIME_SLACK * rider.w_prime:
         safe = safe_climb_power(
             cp=rider.cp,
             climb_power=rider.climb_power_used,

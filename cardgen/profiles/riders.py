@@ -24,6 +24,9 @@ W_PRIME_SECONDS_OF_CP = 70.0
 DEFAULT_ASSIST_LEVEL = 1
 #: Default cap on climbing power, as a share above CP.
 CLIMB_SHARE_ABOVE_CP = 0.10
+#: Pacing styles (:mod:`cardgen.plan.pacing`): "best" spends W′ where it saves the most
+#: time; "steady" never rides above CP.
+PACING_STYLES = ("best", "steady")
 
 
 @dataclass(frozen=True)
@@ -41,6 +44,10 @@ class Rider:
     climb_share : float [-] largest share above CP allowed on climbs
     target_speed : float [m/s] climbing speed for the "watts to hold it" column
     assist_between_climbs : int  assist level away from climbs (vehicles with a motor)
+    effort_given : bool  ``flat_power`` is the rider's own setting (flat_w, flat_kmh);
+        else the plan chooses the day's effort from the ride's length
+    pacing : str  a pacing style of :data:`PACING_STYLES`, or "" for the vehicle's
+        default (:attr:`pacing_style`)
 
     Notes
     -----
@@ -63,6 +70,8 @@ class Rider:
     climb_share: float
     target_speed: float
     assist_between_climbs: int = DEFAULT_ASSIST_LEVEL
+    pacing: str = ""
+    effort_given: bool = True
 
     def __post_init__(self):
         problems = []
@@ -81,6 +90,8 @@ class Rider:
                 f"flat power {self.flat_power:g} W must be between 1 W and the CP "
                 f"({self.cp:g} W): efforts above CP cannot be held for long"
             )
+        if self.pacing and self.pacing not in PACING_STYLES:
+            problems.append(f"pacing {self.pacing!r} is not one of {', '.join(PACING_STYLES)}")
         if self.vehicle.motor is not None:
             levels = len(find_motor(self.vehicle.motor).levels)
             if not 0 <= self.assist_between_climbs <= levels:
@@ -95,13 +106,29 @@ class Rider:
         """Power actually used on climbs [W]: the wanted power, capped above CP."""
         return min(self.climb_power, self.cp * (1.0 + self.climb_share))
 
+    @property
+    def pacing_style(self) -> str:
+        """The pacing style planned: the rider's, else "steady" on arm-powered vehicles
+        and "best" on the others.
+
+        Arm-powered riders get the even style by default: many ride with a spinal
+        cord injury, where heart rate and temperature may not tell them how hard
+        they are going, and clinicians often advise them to stay below their
+        threshold (from memory, no figure taken from a source); they can choose
+        "best" themselves."""
+        if self.pacing:
+            return self.pacing
+        return "steady" if self.vehicle.propulsion == "arms" else "best"
+
     @classmethod
     def for_vehicle(cls, vehicle: Vehicle, name: str | None = None, **given) -> Rider:
         """A rider with the defaults of the Notes, any of them replaced by ``given``.
 
         Defaults follow what is given: W′ and the climbing power from the CP, the CP
         from the flat power (:data:`ALL_DAY_SHARE_OF_CP`)."""
-        flat = given.get("flat_power", vehicle.typical_power)
+        # with a CP and no effort given, the effort follows the CP (the one rule)
+        typical = vehicle.typical_power if "cp" not in given else ALL_DAY_SHARE_OF_CP * given["cp"]
+        flat = given.get("flat_power", typical)
         cp = given.get("cp", flat / ALL_DAY_SHARE_OF_CP)
         values = dict(
             cp=cp,
@@ -110,6 +137,7 @@ class Rider:
             climb_power=cp,
             climb_share=CLIMB_SHARE_ABOVE_CP,
             target_speed=vehicle.climb_speed,
+            effort_given="flat_power" in given,
         )
         values.update(given)
         return cls(name=name or vehicle.label, vehicle=vehicle, **values)

@@ -347,3 +347,43 @@ def _rounded(tree):
     if isinstance(tree, float):
         return _num(tree, 4)
     return tree
+
+
+#: The header of ``cardgen route --trace`` (part of the command-line contract).
+TRACE_HEADER = (
+    "distance_m",
+    "elevation_m",
+    "grade_pct",
+    "rider_w",
+    "motor_w",
+    "speed_kmh",
+    "time_s",
+    "w_prime_j",
+)
+
+
+def trace_csv_text(plan) -> str:
+    """One row per simulation node: where, how steep, the rider's and the motor's
+    power on the segment that starts there (the last node repeats the last
+    segment's), speed, time from the start and the W′ balance on arrival."""
+    terrain, ride = plan.terrain, plan.ride
+    n = terrain.grade.size
+    follows = np.minimum(np.arange(n + 1), max(n - 1, 0))
+    motor = getattr(ride, "motor_power", np.zeros(n))
+    balance = np.concatenate(([plan.rider.w_prime], plan.w_prime_balance))
+    columns = (
+        terrain.distance,
+        terrain.elevation,
+        terrain.grade[follows] * 100,
+        ride.rider_power[follows],
+        np.asarray(motor)[follows],
+        ride.speed * 3.6,
+        ride.elapsed,
+        balance,
+    )
+    out = io.StringIO()
+    writer = csv.writer(out, lineterminator="\n")
+    writer.writerow(TRACE_HEADER)
+    for row in zip(*columns, strict=True):
+        writer.writerow(["" if not math.isfinite(x) else f"{x:.4f}".rstrip("0").rstrip(".") for x in row])
+    return out.getvalue()

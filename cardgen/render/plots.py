@@ -65,12 +65,25 @@ def _savefig(fig, buffer: io.StringIO, matplotlib) -> str:
     return text[text.index("<svg") :]
 
 
+def thin_index(n: int, max_points: int = MAX_POINTS) -> np.ndarray:
+    """Indices of every k-th of ``n`` points (always keeping the last) so that at most
+    ``max_points`` remain."""
+    k = max(1, int(np.ceil(n / max_points)))
+    return np.unique(np.concatenate((np.arange(0, n, k), [n - 1])))
+
+
 def thin(distance, elevation, max_points: int = MAX_POINTS):
     """Every k-th point (always keeping the last) so that at most ``max_points`` remain."""
-    n = len(distance)
-    k = max(1, int(np.ceil(n / max_points)))
-    idx = np.unique(np.concatenate((np.arange(0, n, k), [n - 1])))
+    idx = thin_index(len(distance), max_points)
     return np.asarray(distance)[idx], np.asarray(elevation)[idx]
+
+
+def thinned_grade(grade, idx: np.ndarray):
+    """The terrain's own segment grades [-] averaged over each thinned stretch
+    (``idx[j]`` to ``idx[j + 1]``): the grade the climb table reads, never one made
+    again from the thinned points."""
+    grade = np.asarray(grade, dtype=float)
+    return np.add.reduceat(grade, idx[:-1]) / np.diff(idx)
 
 
 def elevation_profile(
@@ -99,9 +112,10 @@ def elevation_profile(
     imperial = units == "imperial"
     x_scale = 1 / fmt.M_PER_MI if imperial else 1 / 1000
     y_scale = 1 / fmt.M_PER_FT if imperial else 1.0
-    d, e = thin(terrain.distance, terrain.elevation)
+    idx = thin_index(len(terrain.distance))
+    d, e = terrain.distance[idx], terrain.elevation[idx]
     x, y = d * x_scale, e * y_scale
-    grade = np.diff(e) / np.maximum(np.diff(d), 1e-9) * 100
+    grade = thinned_grade(terrain.grade, idx) * 100
     bounds = np.arange(0.0, GRADE_RANGE + 0.1, 2.0)
     cmap = colormaps["cividis_r"]  # steeper = darker
     norm = BoundaryNorm(bounds, cmap.N, extend="max")

@@ -1,0 +1,546 @@
+"""Pacing: the rider's power along a route that makes the ride shortest at the day's
+mean power, with W′ never spent below zero.
+
+The problem (de Jong et al. 2016; Wolf, Bertschinger & Saupe 2016): choose the power
+P(s) along the route, 0 ≤ P ≤ a ceiling, that minimises the moving time T subject to
+the time-weighted mean power ∫P dt / T being the day's effort P̄, and to the W′
+balance of Skiba et al. (2015) staying ≥ 0. A Lagrange multiplier turns the mean
+power into a price: minimise Σ tᵢ(Pᵢ)·(Pᵢ + κ), κ > 0 found by bisection so that
+the mean power is P̄ (Swain 1997: at equal mean power, more power where the rider is
+slow and less where fast is quicker). The W′ balance is the state of a dynamic
+programme over blocks of the route (Bellman 1957). Times per block come from the
+steady speed at each power (:func:`cardgen.physics.steady.speed_for_power`, or the
+assisted speed with a motor), capped by the braking envelope of every speed limit;
+the result is ridden again by :func:`cardgen.physics.ride.simulate`, which has the
+inertia the steady times leave out, and the day's mean is matched on that ride.
+
+References
+----------
+Swain, D. P. (1997). A model for optimizing cycling performance by varying power on
+hills and in wind. *Med. Sci. Sports Exerc.* 29(8):1104–1108.
+Atkinson, G., Peacock, O. & Passfield, L. (2007). Variable versus constant power
+strategies during cycling time-trials. *J. Sports Sci.* 25(9):1001–1009.
+de Jong, J., Fokkink, R., Olsder, G. J. & Schwab, A. L. (2016). The individual time
+trial as an optimal control problem. *Procedia Engineering* 147:907–912 (details
+from memory).
+Wolf, S., Bertschinger, R. & Saupe, D. (2016). Road cycling climbs made speedier by
+personalized pacing strategies. *icSPORTS 2016* (from memory).
+Skiba, P. F. et al. (2015). *Eur. J. Appl. Physiol.* 115(4):703–713 (W′ balance).
+Bellman, R. (1957). *Dynamic Programming*. Princeton University Press.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import functools
+import hashlib
+from collections import OrderedDict
+from dataclasses import dataclass
+from typing import Any
+
+import numpy as np
+
+from cardgen.physics.assist import Motor, assisted_speed
+from cardgen.physics.effort import sustainable_power_omni, w_prime_balance
+from cardgen.physics.forces import Resistance
+from cardgen.physics.ride import Ride, simulate, speed_limit_profile
+from cardgen.physics.steady import speed_for_power
+from cardgen.profiles.riders import PACING_STYLES as RIDER_STYLES
+
+#: Pacing styles: "best" spends W′ where it saves most time; "steady" never goes above
+#: CP (for riders told by a coach or clinician to stay below it).
+STYLES = RIDER_STYLES
+#: Power levels the programme chooses from, 0 W and this many up to the ceiling.
+POWER_LEVELS = 24
+#: Lowest non-zero level, as a share of the ceiling.
+LOWEST_LEVEL = 0.15
+#: Levels of the W′ balance, from empty to full.
+W_LEVELS = 31
+#: A block of the route ends where the grade leaves its first segment's by more than
+#: this [-], the headwind by more than BLOCK_WIND [m/s], or at BLOCK_LENGTH [m].
+BLOCK_GRADE = 0.006
+BLOCK_WIND = 1.0
+BLOCK_LENGTH = 250.0
+#: The ride's W′ balance may fall this far below zero [share of W′] (the steady
+#: times of the programme against the ride's inertia) before it is planned again.
+W_PRIME_SLACK = 0.01
+#: W′ the programme keeps in hand [share of W′]: the ride's inertia moves the balance
+#: a little from the programme's steady times.
+W_FLOOR = 0.01
+#: Stand-in for "infeasible" in the programme's values (finite keeps arithmetic clean).
+INFEASIBLE = 1e15
+#: Longest time [s] counted for one segment: a power too low to move on it.
+STALL_TIME = 1e5
+#: Multipliers tried in each round of the bisection, and rounds.
+KAPPAS = 8
+ROUNDS = 4
+#: A stretch where W′ matters ends where the balance is back above this share of W′.
+WINDOW_FULL = 0.98
+#: With W′ binding, κ is sought between its value without W′ and this many times it.
+WIDEN = 4.0
+
+
+@dataclass(frozen=True)
+class Course:
+    """A route as one vehicle rides it: what pacing and the ride simulation need,
+    shared by the vehicle's riders.
+
+    Attributes
+    ----------
+    step : float [m]
+    grade, headwind, air_density : arrays (n,) per segment [-], [m/s], [kg/m³]
+    distance, speed_cap : arrays (n + 1,) per node [m], [m/s]
+    deceleration : array (n,) [m/s²] braking before the caps
+    resistance : Resistance
+    motor : Motor or None, with ``assist_ratio`` (n,) per segment
+    """
+
+    step: float
+    grade: np.ndarray
+    headwind: np.ndarray
+    air_density: np.ndarray
+    distance: np.ndarray
+    speed_cap: np.ndarray
+    deceleration: np.ndarray
+    resistance: Resistance
+    motor: Motor | None = None
+    assist_ratio: np.ndarray | None = None
+
+    @functools.cached_property
+    def speed_limit(self) -> np.ndarray:
+        """The braking envelope's limit over each segment [m/s] (the lower end's)."""
+        limit = speed_limit_profile(self.distance, self.speed_cap, self.deceleration)
+        return np.asarray(np.minimum(limit[:-1], limit[1:]), dtype=float)
+
+    def key(self, top: float) -> str:
+        """A content hash of the course and a ceiling: the key of shared tables."""
+        digest = hashlib.sha1(repr((self.step, self.resistance, self.motor, float(top))).encode())
+        for array in (self.grade, self.headwind, self.air_density, self.speed_limit, self.assist_ratio):
+            if array is not None:
+                digest.update(np.ascontiguousarray(array, dtype=float).tobytes())
+        return digest.hexdigest()
+
+    def ride(self, power: np.ndarray, assist_ratio: np.ndarray | None = None) -> Ride:
+        """The ride at ``power`` [W] per segment (:func:`~cardgen.physics.ride.simulate`)."""
+        ratio = self.assist_ratio if assist_ratio is None else assist_ratio
+        return simulate(
+            step=self.step,
+            grade=self.grade,
+            headwind=self.headwind,
+            air_density=self.air_density,
+            resistance=self.resistance,
+            rider_power=power,
+            speed_cap=self.speed_cap,
+            distance=self.distance,
+            deceleration=self.deceleration,
+            motor=self.motor,
+            assist_ratio=0.0 if ratio is None else ratio,
+        )
+
+    def blocks(self) -> np.ndarray:
+        """Start index of every block (the last entry is n): runs of segments of
+        nearly the same grade and wind, at most :data:`BLOCK_LENGTH` long."""
+        n = self.grade.size
+        most = max(1, int(BLOCK_LENGTH / self.step))
+        starts = [0]
+        first = 0
+        for i in range(1, n):
+            if (
+                i - first >= most
+                or abs(self.grade[i] - self.grade[first]) > BLOCK_GRADE
+                or abs(self.headwind[i] - self.headwind[first]) > BLOCK_WIND
+            ):
+                starts.append(i)
+                first = i
+        starts.append(n)
+        return np.asarray(starts)
+
+    def times(self, powers: np.ndarray) -> np.ndarray:
+        """Time [s] on every segment at each steady power: array (levels, n)."""
+        p = np.asarray(powers, dtype=float)[:, None]
+        air: dict[str, Any] = dict(grade=self.grade, headwind=self.headwind, air_density=self.air_density)
+        if self.motor is not None and self.assist_ratio is not None:
+            speed = assisted_speed(self.motor, self.assist_ratio, p, resistance=self.resistance, **air)
+        else:
+            speed = speed_for_power(p, **self.resistance.steady(), **air, rtol=1e-6)
+        speed = np.minimum(np.nan_to_num(np.asarray(speed, dtype=float), nan=0.0), self.speed_limit)
+        length = self.step * np.sqrt(1.0 + self.grade**2)
+        with np.errstate(divide="ignore"):
+            return np.minimum(np.where(speed > 0, length / speed, STALL_TIME), STALL_TIME)
+
+
+@dataclass(frozen=True)
+class Pacing:
+    """A pacing plan: ``power`` [W] per segment, and what the programme expected of
+    it (steady speeds, no inertia): ``time`` [s], ``mean_power`` [W], ``kappa`` [W]
+    the price of time, and whether W′ was a binding limit (``w_prime_bound``)."""
+
+    power: np.ndarray
+    time: float
+    mean_power: float
+    kappa: float
+    w_prime_bound: bool
+
+
+def ceiling(style: str, cp: float, climb_share: float) -> float:
+    """Highest power [W] of a style: CP for "steady", CP·(1 + climb share) for "best"."""
+    if style not in STYLES:
+        raise ValueError(f"unknown pacing style {style!r}: choose one of {', '.join(STYLES)}")
+    return cp if style == "steady" else cp * (1.0 + climb_share)
+
+
+def plan_pacing(
+    course: Course,
+    *,
+    mean_power: float,
+    cp: float,
+    w_prime: float,
+    top: float,
+    table: tuple[np.ndarray, np.ndarray] | None = None,
+    kappa_hint: float | None = None,
+    floor: float = 0.0,
+) -> Pacing:
+    """Power on every segment that minimises the moving time at ``mean_power`` [W],
+    between 0 and ``top`` [W], with the W′ balance (``cp`` [W], ``w_prime`` [J]) ≥ 0.
+
+    Parameters
+    ----------
+    course : Course
+    mean_power : float [W] the day's time-weighted mean power
+    cp, w_prime : float [W], [J] the rider's critical power and W′
+    top : float [W] the ceiling (see :func:`ceiling`)
+    table : (powers [W], block times [s] (levels, blocks)) made by :func:`block_times`
+        for this course, when already at hand
+    kappa_hint : float [W] or None: κ of an earlier plan at a nearby mean power
+    floor : float [-] share of W′ kept in hand beyond :data:`W_FLOOR`
+
+    Returns
+    -------
+    Pacing
+
+    Notes
+    -----
+    With the mean power's multiplier, minimising T at mean P̄ is minimising
+    Σ tᵢ(Pᵢ)·(Pᵢ + κ) for the κ that gives mean P̄ (module notes); the mean rises with
+    κ, so κ is bisected on a log scale (:data:`KAPPAS` at once, :data:`ROUNDS` rounds).
+    Without W′ the blocks are independent and each takes its cheapest level. Where
+    that would spend more W′ than there is, the blocks of every stretch where W′ is
+    not nearly full (:func:`_windows`) are solved together by dynamic programming over (block, W′ balance) on :data:`W_LEVELS` levels, the
+    balance moving by the exact solution of the differential form for a constant
+    power over the block's time (Skiba et al. 2015).
+    """
+    powers, times = table if table is not None else block_times(course, top)
+    starts = course.blocks()
+    if mean_power >= powers[-1]:
+        index = np.full(times.shape[1], powers.size - 1)
+        return _result(powers, times, index, starts, np.inf, False)
+    # first the blocks alone, for every multiplier
+    low, high = 1e-3 * mean_power, 1e3 * mean_power
+    kappa, index = _bisect(lambda k: _independent(powers, times, k), powers, times, mean_power, low, high)
+    chosen = times[index, np.arange(index.size)]
+    balance = w_prime_balance(powers[index], chosen, cp, w_prime)
+    keep = (W_FLOOR + floor) * w_prime
+    if np.min(balance, initial=w_prime) >= keep:
+        return _result(powers, times, index, starts, kappa, False)
+    # W′ lowers the power on climbs, so the mean needs a higher price of time
+    programme = _programme(powers, times, cp, w_prime, _windows(balance, w_prime), keep)
+    hint = kappa if kappa_hint is None else kappa_hint
+    narrow = 1.0 + (WIDEN - 1.0) * (kappa_hint is None)
+    kappa, index = _bisect(programme.solve, powers, times, mean_power, hint / narrow**0.1, hint * narrow, 2)
+    return _result(powers, times, index, starts, kappa, True)
+
+
+def _windows(balance: np.ndarray, w_prime: float) -> np.ndarray:
+    """Blocks where W′ matters: every run of blocks whose balance, without the W′
+    limit, is below :data:`WINDOW_FULL` of W′ (each run starts with W′ nearly full).
+    Returns a bool array over blocks."""
+    return np.asarray(balance < WINDOW_FULL * w_prime)
+
+
+_last: dict[str, tuple[tuple, _Programme]] = {}
+
+
+def _programme(powers, times, cp, w_prime, window, keep) -> _Programme:
+    """The programme for these windows, kept for the next call with the same ones
+    (the ride's mean is matched by asking again with a corrected mean)."""
+    key = (id(times), times.shape, float(cp), float(w_prime), float(keep), window.tobytes())
+    if "last" in _last and _last["last"][0] == key:
+        return _last["last"][1]
+    programme = _Programme(powers, times, cp, w_prime, window, keep)
+    _last["last"] = (key, programme)
+    return programme
+
+
+def block_times(course: Course, top: float) -> tuple[np.ndarray, np.ndarray]:
+    """The power levels [W] (0 and :data:`POWER_LEVELS` up to ``top``) and the time
+    [s] of every block at each: arrays (levels,), (levels, blocks)."""
+    powers = np.concatenate(([0.0], np.linspace(LOWEST_LEVEL * top, top, POWER_LEVELS)))
+    per_segment = course.times(powers)
+    return powers, np.add.reduceat(per_segment, course.blocks()[:-1], axis=1)
+
+
+def _result(powers, times, index, starts, kappa, bound) -> Pacing:
+    chosen = times[index, np.arange(index.size)]
+    total = float(np.sum(chosen))
+    power = np.repeat(powers[index], np.diff(starts))
+    return Pacing(power, total, float(np.sum(powers[index] * chosen) / total), float(kappa), bound)
+
+
+def _independent(powers: np.ndarray, times: np.ndarray, kappas: np.ndarray) -> np.ndarray:
+    """Each block's cheapest level for each multiplier: array (kappas, blocks)."""
+    cost = times[None, :, :] * (powers[None, :, None] + kappas[:, None, None])
+    return np.argmin(cost, axis=1)
+
+
+def _mean(powers, times, index) -> np.ndarray:
+    """Time-weighted mean power of each row of chosen levels (kappas, blocks)."""
+    chosen = times[index, np.arange(index.shape[1])[None, :]]
+    return np.sum(powers[index] * chosen, axis=1) / np.sum(chosen, axis=1)
+
+
+def _bisect(solve, powers, times, target, low, high, rounds=ROUNDS) -> tuple[float, np.ndarray]:
+    """κ on a log scale between ``low`` and ``high`` whose plan's mean power is
+    closest to ``target`` from below; ``solve`` maps an array of κ to their plans."""
+    best: tuple[float, np.ndarray] | None = None
+    for _ in range(rounds):
+        kappas = np.geomspace(low, high, KAPPAS)
+        plans = solve(kappas)
+        means = _mean(powers, times, plans)
+        below = np.flatnonzero(means <= target)
+        if below.size == 0:
+            return float(kappas[0]), plans[0]
+        k = int(below[-1])
+        best = (float(kappas[k]), plans[k])
+        if k == KAPPAS - 1:
+            break
+        low, high = kappas[k], kappas[k + 1]
+    assert best is not None
+    # between the bracket's ends the mean moves in small steps; take the upper end
+    # when it is closer to the target
+    upper = solve(np.array([high]))
+    if abs(_mean(powers, times, upper)[0] - target) < abs(_mean(powers, times, best[1][None])[0] - target):
+        return float(high), upper[0]
+    return best
+
+
+class _Programme:
+    """The dynamic programme over (block, W′ balance) for many multipliers at once,
+    on the blocks of ``window`` (bool over blocks); the others take their cheapest
+    level alone. W′ is taken as full where a run of window blocks starts.
+
+    The transitions depend only on the course, the levels and the rider, so they are
+    worked out once and every multiplier reuses them."""
+
+    def __init__(self, powers, times, cp: float, w_prime: float, window: np.ndarray, keep: float):
+        self.powers, self.all_times = powers, times
+        self.inside = np.flatnonzero(window)
+        self.times = times[:, self.inside].T  # (window blocks, levels)
+        # a run starts where the block before is not in the window
+        self.resets = np.concatenate(([True], np.diff(self.inside) > 1))
+        grid = np.linspace(0.0, w_prime, W_LEVELS)
+        above = powers >= cp
+        spend = (powers - cp)[None, :] * self.times
+        decay = np.exp(-np.maximum(cp - powers, 0.0)[None, :] * self.times / w_prime)
+        after = np.where(
+            above[None, None, :],
+            grid[None, :, None] - spend[:, None, :],
+            w_prime - (w_prime - grid[None, :, None]) * decay[:, None, :],
+        )  # (blocks, W levels, power levels)
+        self.floor = keep
+        self.feasible = after >= self.floor
+        position = np.clip(after, 0.0, w_prime) / w_prime * (W_LEVELS - 1)
+        self.cell = np.minimum(position.astype(np.int64), W_LEVELS - 2)
+        self.frac = position - self.cell
+        self.spend, self.decay, self.above = spend, decay, above
+        self.w_prime = w_prime
+
+    def solve(self, kappas: np.ndarray) -> np.ndarray:
+        """Chosen level in every block for each multiplier: array (kappas, blocks)."""
+        chosen = _independent(self.powers, self.all_times, kappas)
+        cost = self.times[None, :, :] * (self.powers[None, None, :] + kappas[:, None, None])
+        value = self._backward(cost)
+        chosen[:, self.inside] = self._forward(cost, value)
+        return chosen
+
+    def _backward(self, cost: np.ndarray) -> np.ndarray:
+        """Least cost from each window block on, by W′ level: (blocks + 1, m, W)."""
+        blocks = self.times.shape[0]
+        value = np.zeros((blocks + 1, cost.shape[0], W_LEVELS))
+        for b in range(blocks - 1, -1, -1):
+            ahead = value[b + 1]
+            if b + 1 < blocks and self.resets[b + 1]:  # a new run starts with W′ full
+                ahead = np.repeat(ahead[:, -1:], W_LEVELS, axis=1)
+            cell, frac = self.cell[b], self.frac[b]
+            later = ahead[:, cell] * (1.0 - frac) + ahead[:, cell + 1] * frac  # (m, W, levels)
+            total = np.where(self.feasible[b], later, INFEASIBLE) + cost[:, b, None, :]
+            value[b] = total.min(axis=2)
+        return value
+
+    def _forward(self, cost: np.ndarray, value: np.ndarray) -> np.ndarray:
+        """The exact balance along each window run and the best level against the
+        values ahead: (m, window blocks)."""
+        blocks = self.times.shape[0]
+        m = cost.shape[0]
+        rows = np.arange(m)[:, None]
+        chosen = np.empty((m, blocks), dtype=np.int64)
+        w = np.full(m, self.w_prime)
+        for b in range(blocks):
+            if self.resets[b]:
+                w = np.full(m, self.w_prime)
+            after = np.where(
+                self.above[None, :],
+                w[:, None] - self.spend[b][None, :],
+                self.w_prime - (self.w_prime - w[:, None]) * self.decay[b][None, :],
+            )
+            position = np.clip(after, 0.0, self.w_prime) / self.w_prime * (W_LEVELS - 1)
+            cell = np.minimum(position.astype(np.int64), W_LEVELS - 2)
+            frac = position - cell
+            ahead = value[b + 1]
+            if b + 1 < blocks and self.resets[b + 1]:
+                ahead = np.repeat(ahead[:, -1:], W_LEVELS, axis=1)
+            later = ahead[rows, cell] * (1.0 - frac) + ahead[rows, cell + 1] * frac
+            total = np.where(after >= self.floor, later, INFEASIBLE) + cost[:, b, :]
+            k = np.argmin(total, axis=1)
+            chosen[:, b] = k
+            w = np.maximum(after[np.arange(m), k], 0.0)
+        return chosen
+
+
+#: Block-time tables kept for riders of one vehicle on one route (keyed by content).
+TABLE_CACHE = 16
+_tables: OrderedDict[str, tuple[np.ndarray, np.ndarray]] = OrderedDict()
+#: The ridden mean power may miss the day's effort by this share before the
+#: programme is asked again with the miss corrected …
+MEAN_TOLERANCE = 0.005
+#: … at most this many times.
+FIT_ROUNDS = 2
+#: Rounds of cutting the motor where the battery runs out (each only cuts earlier).
+BATTERY_ROUNDS = 4
+
+
+def shared_block_times(course: Course, top: float) -> tuple[np.ndarray, np.ndarray]:
+    """:func:`block_times`, kept for the next rider of the same vehicle and route."""
+    key = course.key(top)
+    if key in _tables:
+        _tables.move_to_end(key)
+        return _tables[key]
+    table = block_times(course, top)
+    _tables[key] = table
+    while len(_tables) > TABLE_CACHE:
+        _tables.popitem(last=False)
+    return table
+
+
+@dataclass(frozen=True)
+class PacedRide:
+    """A pacing plan ridden: ``pacing``, the simulated ``ride``, the ``assist_ratio``
+    per segment actually given (0 once the battery is empty) and ``empty_at`` [m],
+    where the battery runs out (None: it lasts)."""
+
+    pacing: Pacing
+    ride: Ride
+    assist_ratio: np.ndarray | None
+    empty_at: float | None
+
+
+def ridden_mean(ride: Ride) -> float:
+    """Time-weighted mean rider power [W] of a ride (stalled segments left out)."""
+    finite = np.isfinite(ride.time)
+    total = float(np.sum(ride.time[finite]))
+    return float(np.sum(ride.rider_power[finite] * ride.time[finite]) / total) if total > 0 else 0.0
+
+
+def pace(course: Course, *, mean_power: float, cp: float, w_prime: float, top: float) -> PacedRide:
+    """Plan the power (:func:`plan_pacing`) and ride it, at ``mean_power`` [W] as
+    ridden; with a motor, the motor gives nothing once the battery is empty.
+
+    Notes
+    -----
+    The programme works with steady speeds; the ride has inertia, so its mean power
+    differs a little. The programme is asked again for the mean scaled by the miss
+    (at most :data:`FIT_ROUNDS` times). With a motor, the ride's battery draw is
+    summed along the route; where it passes the usable capacity the assist ratio is
+    cut (pro rata on that segment, to 0 after it) and the rider's power planned and
+    ridden again, until the battery lasts to the cut.
+    """
+    ratio = course.assist_ratio
+    empty_at = None
+    for rounds in range(1, BATTERY_ROUNDS + 1):
+        ridden = course if ratio is course.assist_ratio else dataclasses.replace(course, assist_ratio=ratio)
+        pacing, ride = _fit(ridden, mean_power, cp, w_prime, top)
+        motor = course.motor
+        if motor is None or ratio is None:
+            break
+        energy = np.nan_to_num(ride.motor_power * ride.time, posinf=0.0) / motor.drive_efficiency
+        drawn = np.cumsum(energy)
+        over = np.flatnonzero(drawn > motor.usable_battery * (1.0 + 1e-6))
+        if not over.size or rounds == BATTERY_ROUNDS:
+            break
+        i = int(over[0])
+        left = motor.usable_battery - (drawn[i - 1] if i else 0.0)
+        ratio = ratio.copy()
+        ratio[i] *= max(left, 0.0) / max(energy[i], 1e-9)
+        ratio[i + 1 :] = 0.0
+        empty_at = float(course.distance[i + 1])
+    return PacedRide(pacing, ride, ratio, empty_at)
+
+
+def _fit(course: Course, mean_power: float, cp: float, w_prime: float, top: float) -> tuple[Pacing, Ride]:
+    """The pacing plan and its ride whose ridden mean power is ``mean_power``."""
+    table = shared_block_times(course, top)
+    asked = mean_power
+    hint = None
+    floor = 0.0
+    for _ in range(FIT_ROUNDS + 1):
+        pacing = plan_pacing(
+            course,
+            mean_power=asked,
+            cp=cp,
+            w_prime=w_prime,
+            top=top,
+            table=table,
+            kappa_hint=hint,
+            floor=floor,
+        )
+        hint = pacing.kappa if np.isfinite(pacing.kappa) else None
+        ride = course.ride(pacing.power)
+        ridden = ridden_mean(ride)
+        low = float(np.min(w_prime_balance(ride.rider_power, ride.time, cp, w_prime), initial=w_prime))
+        short = low < -W_PRIME_SLACK * w_prime
+        if ridden <= 0 or (abs(ridden - mean_power) <= MEAN_TOLERANCE * mean_power and not short):
+            break
+        if short:  # the ride's inertia spent more than the programme planned: keep more
+            floor += -low / w_prime + W_FLOOR
+        asked = min(asked * mean_power / ridden, top)
+    return pacing, ride
+
+
+#: A day's ride, not a race: the default mean power is this share of the power the
+#: rider could sustain for the ride's length (common practice, no published source).
+RIDE_SHARE = 0.80
+
+
+def day_effort(course: Course, *, cp: float, w_prime: float, top: float) -> tuple[float, float]:
+    """The default day's effort: mean power [W] and the ride's length [s] it assumed.
+
+    Notes
+    -----
+    P̄ = :data:`RIDE_SHARE` × min(CP, P_sustainable(T)), P_sustainable of
+    :func:`~cardgen.physics.effort.sustainable_power_omni` (the omni-domain
+    power–duration model), T the moving time at a constant P̄ on steady speeds: a
+    fixed point, found by iteration (T falls as P̄ rises, so it settles). The time at
+    constant power is a little longer than the paced ride's, so the default errs low.
+    """
+    powers, times = shared_block_times(course, top)
+    total = times.sum(axis=1)
+    mean = RIDE_SHARE * cp
+    duration = float(np.interp(mean, powers[1:], total[1:]))
+    for _ in range(30):
+        sustainable = float(sustainable_power_omni(duration, cp, w_prime))
+        new = min(RIDE_SHARE * min(cp, sustainable), top)
+        duration = float(np.interp(new, powers[1:], total[1:]))
+        if abs(new - mean) < 0.01:
+            mean = new
+            break
+        mean = new
+    return mean, duration
