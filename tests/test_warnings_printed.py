@@ -69,7 +69,15 @@ battery_wh = 60
 cp_w = 130
 flat_w = 90
 climb_w = 130
-routes = ["switchback", "hill-loop"]
+routes = ["hill-loop"]
+
+[[riders]]
+name = "Cargo rider, full battery"
+vehicle = "e-assist-cargo"
+cp_w = 130
+flat_w = 90
+climb_w = 130
+routes = ["switchback"]
 
 [[riders]]
 name = "Assisted city rider"
@@ -151,8 +159,12 @@ def test_watch_for_lists_each_hazard_once_most_severe_first(outing):
 
 def test_a_u_turn_inside_a_climb_does_not_make_anyone_walk(outing):
     """The switchback's U-turn is one track point inside a 9 % climb: no walking for
-    the road rider or the cargo rider, in plan.json and on their cards."""
-    for name, slug in (("Road rider", "road-rider"), ("Cargo rider", "cargo-rider")):
+    the road rider or the cargo rider (500 Wh battery), in plan.json and on their
+    cards."""
+    for name, slug in (
+        ("Road rider", "road-rider"),
+        ("Cargo rider, full battery", "cargo-rider-full-battery"),
+    ):
         plan = plans(outing, "switchback")[name]
         assert plan["totals"]["walk_m"] == 0
         walks = [w for c in plan["climbs"] for w in c["warnings"] if w["code"] == "walk"]
@@ -186,7 +198,7 @@ def test_a_60_wh_battery_rounds_toward_caution(outing):
     need = plan["totals"]["battery_j"] / 3600
     assert f"battery about {-int(-need // 1)} Wh of 54 Wh usable" in card
     reading = text(outing / "hill-loop" / "cargo-rider.pdf", layout=False)
-    assert "Range: planned on 54 Wh usable of 60 Wh, 20 % in reserve" in reading
+    assert "Range: 54 Wh usable of 60 Wh, 20 % in reserve" in reading and "unassisted" in reading
 
 
 def test_tandem_descent_flags_and_figures_agree(outing):

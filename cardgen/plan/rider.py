@@ -220,9 +220,9 @@ def make_plan(
     effort, ride = _paced(course, rider)
     wbal = w_prime_balance(ride.rider_power, ride.time, rider.cp, rider.w_prime)
     walked = walking_mask(terrain.step, ride.time, ride.rider_power, ride.limited, vehicle.min_stable_speed)
-    on_climb = np.zeros(terrain.grade.size, dtype=bool)
+    on_climb = np.zeros(terrain.grade.size, dtype=bool)  # with the walks that run into each climb
     for climb in route.climbs:
-        on_climb[climb.start : climb.end] = True
+        on_climb[slice(*_walk_reach(climb, terrain))] = True
 
     climbs = tuple(
         _climb_row(i + 1, c, terrain, rider, motor, levels.get(c.start), ride, wbal, wind, rho, walked)
@@ -302,6 +302,18 @@ def make_plan(
     )
 
 
+#: Walking this close [m] to a climb's ends is the climb's own (the smoothed grade
+#: starts to rise before the climb's foot).
+WALK_REACH = 100.0
+
+
+def _walk_reach(climb: Climb, terrain: Terrain) -> tuple[int, int]:
+    """Segments whose walking counts as the climb's: the climb and
+    :data:`WALK_REACH` either side."""
+    k = int(round(WALK_REACH / terrain.step))
+    return max(0, climb.start - k), min(terrain.grade.size, climb.end + k)
+
+
 def _walks_off_climbs(
     walked: np.ndarray, on_climb: np.ndarray, terrain: Terrain, speed: float
 ) -> list[Notice]:
@@ -358,7 +370,8 @@ def _climb_row(
     need = rider_power_for_speed(motor, ratio, rider.target_speed, resistance=vehicle.resistance, **air)
     time = float(np.sum(ride.time[segs]))
     speeds = ride.mean_speed[segs]
-    slow = float(np.sum(walked[segs]) * terrain.step)
+    reach = slice(*_walk_reach(climb, terrain))
+    slow = float(np.sum(walked[reach]) * terrain.step)
     finite = np.isfinite(ride.time[segs])  # a stalled rider never completes some segments
     ridden = float(np.sum(ride.time[segs][finite]))
     rider_power = (
@@ -379,7 +392,7 @@ def _climb_row(
         )
         warnings.append(Notice("w-prime", "warning", (("power", rider_power), ("safe", safe))))
     if slow > 0:
-        first = climb.start + int(np.argmax(walked[segs]))
+        first = reach.start + int(np.argmax(walked[reach]))
         warnings.append(
             Notice(
                 "walk",

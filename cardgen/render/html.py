@@ -35,8 +35,8 @@ LONG_RIDE = 3 * 3600.0
 CAUTIONS = (
     "Every figure is a model estimate from average values, not a guarantee: wind, road surface, "
     "tyres and the rider's day change them.",
-    "Descents and curves: speeds shown are model upper bounds, not safe or target speeds; check brakes "
-    "and ride well below them where you cannot see far ahead.",
+    "Descents: speeds shown are model upper bounds, not safe or target speeds; check brakes, "
+    "and ride slower where you cannot see ahead.",
     "Exertion: anyone with a medical condition needs clearance from a qualified professional "
     "before hard efforts; adaptive athletes follow their clinician's advice.",
     "Roads are open to traffic: local road rules apply.",
@@ -168,7 +168,7 @@ def cautions_for(plan: Plan) -> tuple[str, ...]:
         general = (*general, heat_caution(temperature - 273.15))
     if plan.motor is None:
         return general
-    return (*general, f"E-assist: motor rules differ by place; the local rules apply. {assist_range(plan)}")
+    return (*general, f"E-assist rules differ by place. {assist_range(plan)}")
 
 
 def assist_range(plan: Plan) -> str:
@@ -178,9 +178,8 @@ def assist_range(plan: Plan) -> str:
     if motor is None:
         return ""
     return (
-        f"Range: planned on {fmt.battery(motor.usable_battery, 'down')} usable of "
-        f"{fmt.battery(motor.battery, 'down')}, {BATTERY_RESERVE * 100:.0f} % in reserve; cold, age and "
-        "load shorten it: plan to finish without assist."
+        f"Range: {fmt.battery(motor.usable_battery, 'down')} usable of {fmt.battery(motor.battery, 'down')}, "
+        f"{BATTERY_RESERVE * 100:.0f} % in reserve; cold, age, load cut it: plan to finish unassisted."
     )
 
 
