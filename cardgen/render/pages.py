@@ -19,6 +19,7 @@ import numpy as np
 from cardgen import __version__
 from cardgen.errors import CardgenError
 from cardgen.plan import Plan, checkpoint_windows
+from cardgen.plan.event import group_spread
 from cardgen.plan.fuel import carb_rate, fluid_rate, legs
 from cardgen.plan.model import RouteJob
 from cardgen.render import exports, plots
@@ -448,7 +449,7 @@ def _render_route(config, site: dict, job: RouteJob, folder: Path) -> RoutePages
             groups=groups,
             group_size=COACH_GROUP,
             rider_count=len(views),
-            together=group_spread(job, views),
+            together=group_spread(job),
             rider_notes=functools.partial(rider_notes, units=units),
         )
         cards.append(CardSource(html, str(folder), str(folder / "coach.pdf")))
@@ -702,45 +703,6 @@ def route_overview(job: RouteJob, views, to_second: bool = False) -> dict:
         for e, v in zip(job.riders, views, strict=True)
     ]
     return {"climbs": climbs, "descents": descents, "cues": cues, "finish": finish, "riders": riders}
-
-
-def group_spread(job: RouteJob, views) -> list[dict]:
-    """For each set of two or more riders who start together: at every climb top and
-    checkpoint, the first and last planned arrival, the spread between them, and the
-    wait that regroups them there if they regrouped at the point before (the gap that
-    opened since). Times in seconds from their start."""
-    points = sorted(
-        [(c.end_distance, f"top of climb {i + 1}") for i, c in enumerate(job.analysis.climbs)]
-        + [(c.distance, c.name) for c in job.checkpoints]
-        + [(job.analysis.terrain.length, "Finish")]
-    )
-    together: dict = {}
-    for e, v in zip(job.riders, views, strict=True):
-        if e.start is not None:
-            together.setdefault(e.start, []).append(v)
-    groups = []
-    for start, members in sorted(together.items()):
-        if len(members) < 2:
-            continue
-        rows, before = [], [0.0] * len(members)
-        for distance, name in points:
-            at = [m.plan.elapsed_at(distance) for m in members]
-            if not all(t == t and t != float("inf") for t in at):
-                break  # someone cannot get there: the spread means nothing beyond
-            legs = [a - b for a, b in zip(at, before, strict=True)]
-            rows.append(
-                {
-                    "name": name,
-                    "distance": distance,
-                    "first": start + timedelta(seconds=min(at)),
-                    "last": start + timedelta(seconds=max(at)),
-                    "spread": max(at) - min(at),
-                    "wait": max(legs) - min(legs),
-                }
-            )
-            before = at
-        groups.append({"start": start, "riders": [m.name for m in members], "rows": rows})
-    return groups
 
 
 def _pack_order(job: RouteJob, views, to_second: bool = False) -> list[dict]:
