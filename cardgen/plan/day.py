@@ -107,7 +107,9 @@ def day_points(
                 carbs * (1 + STOCK_MARGIN),
                 fluid * (1 + STOCK_MARGIN),
                 max(arrivals) + stop if arrivals else None,
-                max([last_start + timedelta(seconds=SWEEP_DELAY + cp.distance / SWEEP_SPEED)] + arrivals_left),
+                max(
+                    [last_start + timedelta(seconds=SWEEP_DELAY + cp.distance / SWEEP_SPEED)] + arrivals_left
+                ),
             )
         )
     return rows
