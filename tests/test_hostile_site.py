@@ -103,6 +103,10 @@ CASES = {
     "csv-quote-left-open": "an entrants CSV with a quote never closed: refused with its row",
     "csv-extra-cells": "an entrants CSV row with more cells than the header: refused with its row, never dropped",
     "toml-nested-50000": "a site.toml with 50,000 nested [: not valid TOML, one message (no RecursionError)",
+    "gpx-absolute-pattern": 'gpx = "/abs/folder/*.gpx": the pattern is read from that folder',
+    "gpx-symlink-loop": "a GPX file that is a symbolic link to itself: one message naming the key",
+    "gpx-nul-in-name": 'gpx = "t\\u0000.gpx": one message (no ValueError: embedded null byte)',
+    "pattern-never-matches-the-site": 'routes = "**/*.gpx" with the site built inside the event folder: rebuilds work',
 }
 
 #: The cases that are a site's input files and one command, and their outcome:
@@ -139,6 +143,27 @@ INPUTS = {
         "check",
         ("error", "entrants.csv:row 2", "more cells than the header has columns (2)"),
     ),
+    "gpx-absolute-pattern": (
+        'routes = "{src}/*.gpx"\n',
+        "",
+        {},
+        "check",
+        ("ok", "riverside-loop.gpx", "configuration and routes are fine"),
+    ),
+    "gpx-symlink-loop": (
+        "",
+        '[[routes]]\ngpx = "loop.gpx"\n',
+        {"loop.gpx": ("link", "loop.gpx")},
+        "build",
+        ("error", "routes[1].gpx", "loop.gpx is a symbolic link that leads back to itself"),
+    ),
+    "gpx-nul-in-name": (
+        "",
+        '[[routes]]\ngpx = "t\\u0000.gpx"\n',
+        {},
+        "build",
+        ("error", "routes[1].gpx", "NUL character"),
+    ),
     "toml-nested-50000": (
         "x = " + "[" * 50_000 + "]" * 50_000 + "\n",
         "",
@@ -156,14 +181,14 @@ def test_input_case(tmp_path, capsys, name):
     src = tmp_path / "src"
     src.mkdir()
     shutil.copy(SAMPLES / "riverside-loop.gpx", src)
-    (src / "site.toml").write_text(
-        head
-        + '[site]\ntitle = "T"\n[[routes]]\ngpx = "riverside-loop.gpx"\n'
-        + (tail if head else RIDER + tail),
-        encoding="utf-8",
-    )
+    routes = "" if head.startswith("routes") else '[[routes]]\ngpx = "riverside-loop.gpx"\n'
+    text = head + '[site]\ntitle = "T"\n' + routes + (tail if "riders" in head else RIDER + tail)
+    (src / "site.toml").write_text(text.replace("{src}", str(src)), encoding="utf-8")
     for file, data in files.items():
-        (src / file).write_bytes(data)
+        if isinstance(data, tuple):  # ("link", target)
+            (src / file).symlink_to(data[1])
+        else:
+            (src / file).write_bytes(data)
     out = tmp_path / "site"
     args = [command, str(src / "site.toml")] + (
         ["-o", str(out), "--no-pdf", "--jobs", "1"] if command == "build" else []
@@ -179,6 +204,21 @@ def test_input_case(tmp_path, capsys, name):
     assert code == 1, captured.err
     assert any(all(word in line for word in words) for line in captured.err.splitlines()), captured.err
     assert not out.exists()
+
+
+def test_pattern_never_matches_the_site(tmp_path, capsys):
+    """The site's own route.gpx files (and a build's hidden folders) are no routes."""
+    src = tmp_path / "event"
+    (src / "routes").mkdir(parents=True)
+    shutil.copy(SAMPLES / "riverside-loop.gpx", src / "routes")
+    (src / "site.toml").write_text('routes = "**/*.gpx"\n[site]\ntitle = "T"\n' + RIDER, encoding="utf-8")
+    for _ in range(2):  # the second build sees the first site inside the event folder
+        assert _run("build", str(src / "site.toml"), "--no-pdf", "--jobs", "1") == 0, capsys.readouterr().err
+    assert (src / "site" / "riverside-loop" / "route.gpx").is_file()
+    capsys.readouterr()
+    assert _run("check", str(src / "site.toml")) == 0
+    routes = [line for line in capsys.readouterr().out.splitlines() if line.startswith("ok ")]
+    assert len(routes) == 1 and "riverside-loop.gpx" in routes[0], routes
 
 
 def test_the_readme_table_lists_every_case():

@@ -15,6 +15,7 @@ from datetime import date, datetime, time
 from pathlib import Path
 from typing import Any
 
+from cardgen.config.patterns import expand, is_pattern, local_path
 from cardgen.errors import CardgenError, ConfigError, close_matches
 from cardgen.io.files import read_toml
 from cardgen.io.tables import read_csv
@@ -217,7 +218,11 @@ class _Checker:
                 self.problems.append(f"{where} = {raw!r}; use one of {', '.join(spec.choices)}")
                 return spec.default
             if kind == "path":
-                resolved = (folder / raw).resolve()
+                try:
+                    resolved = local_path(folder, raw, where)
+                except ConfigError as exc:
+                    self.problems.append(str(exc))
+                    return None
                 if not resolved.is_file():
                     self.problems.append(
                         f"{where}: no file {resolved}; check the path (relative to {folder})"
@@ -227,6 +232,9 @@ class _Checker:
             if kind == "vehicle":
                 if raw in self.vehicles:
                     return self.vehicles[raw]
+                if "\x00" in raw:
+                    self.problems.append(f"{where}: the name holds a NUL character (\\u0000); remove it")
+                    return None
                 candidate = folder / raw
                 name = str(candidate) if raw.lower().endswith(".toml") else raw
                 if raw.lower().endswith(".toml"):
@@ -369,11 +377,10 @@ def _from_data(data: dict, path: Path | None, text: str, folder: Path) -> SiteCo
     start = None
     if event["start"] is not None:
         start = datetime.combine(event["date"] or date(2000, 1, 1), event["start"])
-    templates = None
-    if site["templates"]:
-        templates = (folder / site["templates"]).resolve()
-        if not templates.is_dir():
-            check.problems.append(f"{check.where('site', None, 'templates')}: no folder {templates}")
+    templates = _folder(check, folder, site["templates"], "templates")
+    if templates is not None and not templates.is_dir():
+        check.problems.append(f"{check.where('site', None, 'templates')}: no folder {templates}")
+    output = _folder(check, folder, site["output"], "output")
     if check.problems:
         problems = [
             p.replace(":: ", ": ").replace(": =", " =") for p in check.problems
@@ -393,7 +400,7 @@ def _from_data(data: dict, path: Path | None, text: str, folder: Path) -> SiteCo
         units=site["units"],
         card_size=site["card_size"],
         large_print=site["large_print"],
-        output=(folder / site["output"]).resolve(),
+        output=output or folder / "site",
         base_url=site["base_url"],
         templates=templates,
         start=start,
@@ -427,6 +434,17 @@ def _from_data(data: dict, path: Path | None, text: str, folder: Path) -> SiteCo
 MAX_CSV_ROWS = 20_000
 
 
+def _folder(check: _Checker, folder: Path, raw: str | None, key: str) -> Path | None:
+    """A folder named in [site], resolved (None when not given or not usable)."""
+    if not raw:
+        return None
+    try:
+        return local_path(folder, raw, check.where("site", None, key))
+    except ConfigError as exc:
+        check.problems.append(str(exc))
+        return None
+
+
 def _rider_tables(check: _Checker, raw: Any, folder: Path) -> list[Any]:
     """[[riders]] tables, with riders from spreadsheets: ``riders = "entrants.csv"``, or
     a ``[[riders]]`` table holding only ``csv = "..."``, which may be mixed with others.
@@ -440,7 +458,11 @@ def _rider_tables(check: _Checker, raw: Any, folder: Path) -> list[Any]:
     tables: list[Any] = []
     for table in raw:
         if isinstance(table, dict) and set(table) == {"csv"} and isinstance(table["csv"], str):
-            csv_path = (folder / table["csv"]).resolve()
+            try:
+                csv_path = local_path(folder, table["csv"], f"{check.path}: riders")
+            except ConfigError as exc:
+                check.problems.append(str(exc))
+                continue
             check.inputs.append(csv_path)
             for row_number, row in _csv_rows(check, csv_path):
                 check.csv_rows[("riders", len(tables))] = (csv_path, row_number)
@@ -629,18 +651,21 @@ def _route_tables(check: _Checker, raw: Any, folder: Path) -> list[dict]:
     expanded: list[tuple[Path | None, int, Any]] = []
     for i, table in enumerate(raw):
         pattern = table.get("gpx") if isinstance(table, dict) else None
-        if isinstance(pattern, str) and any(c in pattern for c in "*?["):
-            matches = sorted(p for p in folder.glob(pattern) if p.is_file() and p.suffix.lower() == ".gpx")
-            if not matches:
-                check.problems.append(
-                    f"{check.where('routes', i, 'gpx')}: {pattern!r} matches no .gpx file in {folder}"
-                )
-            expanded.extend((m.resolve(), i, {**table, "gpx": str(m.relative_to(folder))}) for m in matches)
-        else:
-            resolved = (folder / pattern).resolve() if isinstance(pattern, str) else None
-            if resolved is not None:
-                explicit[resolved] = table
-            expanded.append((resolved, i, table))
+        where = check.where("routes", i, "gpx")
+        try:
+            if isinstance(pattern, str) and is_pattern(pattern):
+                matches = expand(folder, pattern, where)
+                if not matches:
+                    check.problems.append(f"{where}: {pattern!r} matches no .gpx file in {folder}")
+                expanded.extend((m, i, {**table, "gpx": str(m)}) for m in matches)
+                continue
+            resolved = local_path(folder, pattern, where) if isinstance(pattern, str) else None
+        except ConfigError as exc:
+            check.problems.append(str(exc))
+            continue
+        if resolved is not None:
+            explicit[resolved] = table
+        expanded.append((resolved, i, table))
     tables, seen = [], set()
     for resolved, i, table in expanded:
         if resolved is not None:
