@@ -34,7 +34,9 @@ def local_path(folder: Path, raw: str, where: str) -> Path:
         symbolic link that leads back to itself.
     """
     if "\x00" in raw:
-        raise ConfigError(f"{where}: the path holds a NUL character (\\u0000), which no file name can; remove it")
+        raise ConfigError(
+            f"{where}: the path holds a NUL character (\\u0000), which no file name can; remove it"
+        )
     try:
         return (folder / raw).resolve()
     except RuntimeError:  # Python 3.11: "Symlink loop from …"
@@ -95,7 +97,5 @@ def expand(folder: Path, pattern: str, where: str, suffix: str = ".gpx") -> list
                 return True
         return False
 
-    found = [
-        p for p in root.glob(rest) if p.suffix.lower() == suffix and p.is_file() and not in_a_site(p)
-    ]
+    found = [p for p in root.glob(rest) if p.suffix.lower() == suffix and p.is_file() and not in_a_site(p)]
     return sorted({p.resolve() for p in found})
