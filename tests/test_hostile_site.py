@@ -107,103 +107,163 @@ CASES = {
     "gpx-symlink-loop": "a GPX file that is a symbolic link to itself: one message naming the key",
     "gpx-nul-in-name": 'gpx = "t\\u0000.gpx": one message (no ValueError: embedded null byte)',
     "pattern-never-matches-the-site": 'routes = "**/*.gpx" with the site built inside the event folder: rebuilds work',
+    "csv-thousands-separator": 'an entrants CSV battery_wh of "1,000": refused with row, column and the number format',
+    "csv-underscore-number": "an entrants CSV battery_wh of 2_00: refused with row and column (it was read as 200)",
+    "csv-etc-passwd": 'riders = "/etc/passwd": the count of unknown columns and the expected names, none of its text',
+    "checkpoint-nan": "checkpoints = [nan]: refused by check and by build alike",
+    "cue-text-nan": 'cue_texts = ["nan = …"]: refused by check and by build alike',
+    "cue-text-inf": 'cue_texts = ["inf = …"]: refused by check and by build alike',
+    "cue-text-1e308": 'cue_texts = ["1e308 = …"]: refused by check and by build alike',
+    "cue-text-99999": 'cue_texts = ["99999 = …"]: refused by check and by build alike (beyond 10,000 km)',
+    "cue-text-underscore": 'cue_texts = ["1_5 = …"]: refused by check and by build alike (it was read as 15 km)',
 }
 
-#: The cases that are a site's input files and one command, and their outcome:
-#: ("error", words…): exit 1 and one error line holding the words, no traceback, and a
-#: build publishes nothing; ("ok", words…): exit 0 and the words in the output.
-#: Each: (text before [site], text after the route, {file: bytes}, command, outcome).
-CSV_SITE = 'riders = "entrants.csv"\n'
+#: The cases that are a site's input files and commands, and their outcome:
+#: ("error", words…): exit 1, a line holding all the words, no traceback, and a build
+#: publishes nothing; ("ok", words…): exit 0 and the words in the output. Each case:
+#: (parts of site.toml, {file: bytes or ("link", target)}, commands, outcome). The parts
+#: "top" (before [site]), "route" (more keys of the one route), "routes" (in place of
+#: it) and "riders" (in place of one road-bike rider); "{src}" is the site's folder.
+#: A case run by both check and build checks that the two agree.
+CSV_RIDERS = {"top": 'riders = "entrants.csv"\n', "riders": ""}
 INPUTS = {
     "csv-cr-line-endings": (
-        CSV_SITE,
-        "",
+        CSV_RIDERS,
         {"entrants.csv": b"name,vehicle\rAda,road-hoods\rBea,handcycle\r"},
-        "check",
+        ("check",),
         ("ok", "Ada", "Bea", "configuration and routes are fine"),
     ),
     "csv-cell-200k": (
-        CSV_SITE,
-        "",
+        CSV_RIDERS,
         {"entrants.csv": b"name,vehicle\nAda,road-hoods\n" + b"B" * 200_000 + b",handcycle\n"},
-        "build",
+        ("build",),
         ("error", "entrants.csv:row 3", "longer than 131,072 characters"),
     ),
     "csv-quote-left-open": (
-        CSV_SITE,
-        "",
+        CSV_RIDERS,
         {"entrants.csv": b'name,vehicle\nAda,road-hoods\n"Bea,handcycle\nCy,tandem\n'},
-        "check",
+        ("check",),
         ("error", "entrants.csv:row 3", "never closed"),
     ),
     "csv-extra-cells": (
-        CSV_SITE,
-        "",
+        CSV_RIDERS,
         {"entrants.csv": b"name,vehicle\nAda,road-hoods,250\nBea,handcycle,,\n"},
-        "check",
+        ("check",),
         ("error", "entrants.csv:row 2", "more cells than the header has columns (2)"),
     ),
-    "gpx-absolute-pattern": (
-        'routes = "{src}/*.gpx"\n',
-        "",
+    "csv-thousands-separator": (
+        CSV_RIDERS,
+        {"entrants.csv": b'name,vehicle,battery_wh\nAda,e-assist-city,"1,000"\n'},
+        ("check", "build"),
+        ("error", "entrants.csv:row 2, column battery_wh", "'1,000'", "no thousands separators"),
+    ),
+    "csv-underscore-number": (
+        CSV_RIDERS,
+        {"entrants.csv": b"name,vehicle,battery_wh\nAda,e-assist-city,2_00\n"},
+        ("check", "build"),
+        ("error", "entrants.csv:row 2, column battery_wh", "'2_00'"),
+    ),
+    "csv-etc-passwd": (
+        {"top": 'riders = "/etc/passwd"\n', "riders": ""},
         {},
-        "check",
+        ("check",),
+        ("error", "/etc/passwd:row 1: 1 unknown column (column 1)", "names the keys of [[riders]]: name"),
+    ),
+    "gpx-absolute-pattern": (
+        {"top": 'routes = "{src}/*.gpx"\n', "routes": ""},
+        {},
+        ("check",),
         ("ok", "riverside-loop.gpx", "configuration and routes are fine"),
     ),
     "gpx-symlink-loop": (
-        "",
-        '[[routes]]\ngpx = "loop.gpx"\n',
+        {"routes": '[[routes]]\ngpx = "loop.gpx"\n'},
         {"loop.gpx": ("link", "loop.gpx")},
-        "build",
-        ("error", "routes[1].gpx", "loop.gpx is a symbolic link that leads back to itself"),
+        ("check", "build"),
+        ("error", "routes[0].gpx", "loop.gpx is a symbolic link that leads back to itself"),
     ),
     "gpx-nul-in-name": (
-        "",
-        '[[routes]]\ngpx = "t\\u0000.gpx"\n',
+        {"routes": '[[routes]]\ngpx = "t\\u0000.gpx"\n'},
         {},
-        "build",
-        ("error", "routes[1].gpx", "NUL character"),
+        ("check", "build"),
+        ("error", "routes[0].gpx", "NUL character"),
     ),
     "toml-nested-50000": (
-        "x = " + "[" * 50_000 + "]" * 50_000 + "\n",
-        "",
+        {"top": "x = " + "[" * 50_000 + "]" * 50_000 + "\n"},
         {},
-        "build",
+        ("build",),
         ("error", "site.toml: not valid TOML", "nested too deeply"),
+    ),
+    "checkpoint-nan": (
+        {"route": "checkpoints = [nan]\n"},
+        {},
+        ("check", "build"),
+        ("error", "routes[0].checkpoints", "nan is not a distance"),
+    ),
+    "cue-text-nan": (
+        {"route": 'cue_texts = ["nan = Left"]\n'},
+        {},
+        ("check", "build"),
+        ("error", "routes[0].cue_texts", "'nan = Left'"),
+    ),
+    "cue-text-inf": (
+        {"route": 'cue_texts = ["inf = Left"]\n'},
+        {},
+        ("check", "build"),
+        ("error", "routes[0].cue_texts", "'inf = Left'"),
+    ),
+    "cue-text-1e308": (
+        {"route": 'cue_texts = ["1e308 = Left"]\n'},
+        {},
+        ("check", "build"),
+        ("error", "routes[0].cue_texts", "'1e308 = Left'"),
+    ),
+    "cue-text-99999": (
+        {"route": 'cue_texts = ["99999 = Left"]\n'},
+        {},
+        ("check", "build"),
+        ("error", "routes[0].cue_texts", "between 0 and 10,000"),
+    ),
+    "cue-text-underscore": (
+        {"route": 'cue_texts = ["1_5 = Left"]\n'},
+        {},
+        ("check", "build"),
+        ("error", "routes[0].cue_texts", "'1_5 = Left'"),
     ),
 }
 
 
-@pytest.mark.parametrize("name", list(INPUTS))
-def test_input_case(tmp_path, capsys, name):
-    head, tail, files, command, (kind, *words) = INPUTS[name]
-    assert name in CASES
-    src = tmp_path / "src"
+def _input_site(src: Path, parts: dict, files: dict) -> None:
     src.mkdir()
     shutil.copy(SAMPLES / "riverside-loop.gpx", src)
-    routes = "" if head.startswith("routes") else '[[routes]]\ngpx = "riverside-loop.gpx"\n'
-    text = head + '[site]\ntitle = "T"\n' + routes + (tail if "riders" in head else RIDER + tail)
+    routes = parts.get("routes", '[[routes]]\ngpx = "riverside-loop.gpx"\n' + parts.get("route", ""))
+    text = parts.get("top", "") + '[site]\ntitle = "T"\n' + routes + parts.get("riders", RIDER)
     (src / "site.toml").write_text(text.replace("{src}", str(src)), encoding="utf-8")
     for file, data in files.items():
         if isinstance(data, tuple):  # ("link", target)
             (src / file).symlink_to(data[1])
         else:
             (src / file).write_bytes(data)
+
+
+@pytest.mark.parametrize("name", list(INPUTS))
+def test_input_case(tmp_path, capsys, name):
+    parts, files, commands, (kind, *words) = INPUTS[name]
+    assert name in CASES
+    _input_site(tmp_path / "src", parts, files)
     out = tmp_path / "site"
-    args = [command, str(src / "site.toml")] + (
-        ["-o", str(out), "--no-pdf", "--jobs", "1"] if command == "build" else []
-    )
-    code = _run(*args)
-    captured = capsys.readouterr()
-    assert "Traceback" not in captured.err
-    if kind == "ok":
-        assert code == 0, captured.err
-        for word in words:
-            assert word in captured.out, captured.out
-        return
-    assert code == 1, captured.err
-    assert any(all(word in line for word in words) for line in captured.err.splitlines()), captured.err
-    assert not out.exists()
+    for command in commands:
+        args = [command, str(tmp_path / "src" / "site.toml")]
+        code = _run(*args, *(["-o", str(out), "--no-pdf", "--jobs", "1"] if command == "build" else []))
+        captured = capsys.readouterr()
+        assert "Traceback" not in captured.err
+        if kind == "ok":
+            assert code == 0, captured.err
+            assert all(word in captured.out for word in words), captured.out
+            continue
+        assert code == 1, (command, captured.err)
+        lines = captured.err.splitlines()
+        assert any(all(word in line for word in words) for line in lines), (command, captured.err)
+        assert not out.exists()
 
 
 def test_pattern_never_matches_the_site(tmp_path, capsys):

@@ -15,6 +15,7 @@ from datetime import date, datetime, time
 from pathlib import Path
 from typing import Any
 
+from cardgen.config.numbers import FORMAT, parse_number, parse_whole
 from cardgen.config.patterns import expand, is_pattern, local_path
 from cardgen.errors import CardgenError, ConfigError, close_matches
 from cardgen.io.files import read_toml
@@ -23,6 +24,7 @@ from cardgen.physics.atmosphere import Conditions
 from cardgen.profiles.limits import LIMITS
 from cardgen.profiles.riders import DEFAULT_ASSIST_LEVEL, Rider, flat_power_for_speed
 from cardgen.profiles.vehicles import Vehicle, builtin_vehicles, find_vehicle, vehicles_from_tables
+from cardgen.route.terrain import MAX_ROUTE_LENGTH
 from cardgen.settings import RiderConfig, RouteConfig, SiteConfig, Wave
 
 CARD_SIZES = ("A5", "A4", "pocket")
@@ -197,12 +199,13 @@ class _Checker:
         where = self.where(section, index, key)
         kind = spec.kind
         if kind in ("number", "int"):
+            text = f"; write {FORMAT}" if isinstance(raw, str) else ""  # a spreadsheet cell
             if kind == "int" and (isinstance(raw, bool) or not isinstance(raw, int)):
-                self.problems.append(f"{where} must be a whole number, not {raw!r}")
+                self.problems.append(f"{where} must be a whole number, not {raw!r}{text}")
                 return spec.default
             problem = LIMITS[spec.limit].problem(raw)
             if problem:
-                self.problems.append(f"{where} {problem}" + (f" ({spec.about})" if spec.about else ""))
+                self.problems.append(f"{where} {problem}" + (f" ({spec.about})" if spec.about else "") + text)
                 return spec.default
             return raw
         if kind == "bool":
@@ -338,8 +341,9 @@ def _from_data(data: dict, path: Path | None, text: str, folder: Path) -> SiteCo
     }
     vehicles = _site_vehicles(check, data.get("vehicles", []))
     routes = _route_tables(check, data.get("routes", []), folder)
+    before = len(check.problems)
     riders_raw = _rider_tables(check, data.get("riders", []), folder)
-    if not riders_raw:
+    if not riders_raw and len(check.problems) == before:  # not when an entrants file was refused
         check.problems.append(
             f'{path}: no [[riders]] entries; add [[riders]] tables, or riders = "entrants.csv"'
         )
@@ -352,7 +356,7 @@ def _from_data(data: dict, path: Path | None, text: str, folder: Path) -> SiteCo
             r["gpx"],
             r["name"],
             r["notes"] or "",
-            tuple(x * 1000.0 if isinstance(x, int | float) else x for x in (r["checkpoints"] or ())),
+            _checkpoints(check, i, r),
             r["start"],
             r["stop_min"] * 60.0,
             _stops(check, i, r),
@@ -475,18 +479,27 @@ def _rider_tables(check: _Checker, raw: Any, folder: Path) -> list[Any]:
 def _csv_rows(check: _Checker, path: Path) -> list[tuple[int, dict[str, Any]]]:
     """The rows of an entrants file as [[riders]] tables, numbers as numbers."""
     try:
-        header, found = read_csv(path, "entrants (CSV)", ConfigError, MAX_CSV_ROWS)
+        header, found, over = read_csv(path, "entrants (CSV)", ConfigError, MAX_CSV_ROWS)
     except ConfigError as exc:
         check.problems.append(str(exc))
         return []
     rows: list[tuple[int, dict[str, Any]]] = []
     known = SCHEMA["riders"]
-    for column in header:
-        if column not in known:
-            check.problems.append(
-                f"{path}:row 1, column {column}: unknown column{close_matches(column, known)}; "
-                f"the columns are the keys of [[riders]]: {', '.join(known)}"
-            )
+    unknown = [f"column {i}{close_matches(c, known)}" for i, c in enumerate(header, 1) if c not in known]
+    if unknown:  # by position: the file may be anything (/etc/passwd), its text is not repeated
+        check.problems.append(
+            f"{path}:row 1: {plural(len(unknown), 'unknown column')} ({', '.join(unknown[:5])}"
+            f"{', …' if len(unknown) > 5 else ''}); the header row names the keys of [[riders]]: {', '.join(known)}"
+        )
+    missing = [key for key, spec in known.items() if spec.required and key not in header]
+    if missing:
+        check.problems.append(
+            f"{path}:row 1: no column {' or '.join(missing)}; the header row names the columns"
+        )
+    if over:
+        check.problems.append(over)
+    if unknown or missing:  # the rows cannot be read as riders: one message for the file, not one per row
+        return []
     for number, row in enumerate(found, 2):
         if number > MAX_CSV_ROWS + 1:
             check.problems.append(f"{path}: more than {MAX_CSV_ROWS:,} rows; split the file")
@@ -504,11 +517,8 @@ def _csv_value(cell: str, kind: str) -> Any:
     """A spreadsheet cell as the kind of value its key takes (left as text when it is
     not one: the check then names the row and column)."""
     if kind in ("number", "int"):
-        try:
-            number = float(cell.replace(",", ".")) if kind == "number" else int(cell)
-        except ValueError:
-            return cell
-        return number
+        number = parse_number(cell) if kind == "number" else parse_whole(cell)
+        return cell if number is None else number  # text: the check names its row, column and the format
     if kind == "list":
         return [part.strip() for part in cell.split(";") if part.strip()]
     return cell
@@ -535,19 +545,40 @@ def _stops(check: _Checker, index: int, route: dict) -> tuple[float, ...]:
     return tuple(float(x) * 60.0 for x in raw)
 
 
+#: Farthest distance along a route that config can name [km] (the longest route planned).
+MAX_KM = MAX_ROUTE_LENGTH / 1000.0
+
+
+def _checkpoints(check: _Checker, index: int, route: dict) -> tuple[str | float, ...]:
+    """``checkpoints`` of one route: waypoint names, and distances [m] from numbers in
+    km, which must be finite and within 0…:data:`MAX_KM`."""
+    out: list[str | float] = []
+    for x in route.get("checkpoints") or ():
+        if isinstance(x, int | float) and not isinstance(x, bool):
+            if not (math.isfinite(x) and 0 <= x <= MAX_KM):
+                check.problems.append(
+                    f"{check.where('routes', index, 'checkpoints')}: {x!r} is not a distance along the route; "
+                    f"give km between 0 and {MAX_KM:,.0f}, like 42.5, or a waypoint's name"
+                )
+                continue
+            out.append(x * 1000.0)
+        else:
+            out.append(x)
+    return tuple(out)
+
+
 def _cue_texts(check: _Checker, index: int, route: dict) -> tuple[tuple[float, str], ...]:
-    """``cue_texts`` of one route: entries "km = text", distance in km."""
+    """``cue_texts`` of one route: entries "km = text", the distance in km written as
+    :data:`cardgen.config.numbers.FORMAT` says, within 0…:data:`MAX_KM`."""
     out = []
     for entry in route.get("cue_texts") or ():
         km, sep, text = str(entry).partition("=")
-        try:
-            where = float(km.strip().removesuffix("km").strip()) * 1000.0
-        except ValueError:
-            where = -1.0
+        number = parse_number(km.strip().removesuffix("km"))
+        where = -1.0 if number is None or not 0 <= number <= MAX_KM else number * 1000.0
         if not sep or where < 0 or not text.strip():
             check.problems.append(
                 f'{check.where("routes", index, "cue_texts")}: {str(entry)[:60]!r} is not like "12.1 = Left at the '
-                'old mill" (the cue\'s distance in km, "=", the words)'
+                f'old mill" (the cue\'s distance in km between 0 and {MAX_KM:,.0f}, "=", the words)'
             )
             continue
         out.append((where, text.strip()[:200]))
