@@ -116,14 +116,20 @@ CASES = {
     "cue-text-1e308": 'cue_texts = ["1e308 = …"]: refused by check and by build alike',
     "cue-text-99999": 'cue_texts = ["99999 = …"]: refused by check and by build alike (beyond 10,000 km)',
     "cue-text-underscore": 'cue_texts = ["1_5 = …"]: refused by check and by build alike (it was read as 15 km)',
+    "title-nul": "a NUL character in the title (it was published raw into index.html): refused with its key",
+    "rider-name-escape": "an escape sequence in a rider's name: refused with its key, the message printing none of it",
+    "csv-name-nul": "a NUL character in a rider's name in the entrants CSV: refused with row and column",
+    "base-url-no-host": 'base_url = "http://" (QR codes for http:///…): refused',
+    "check-10000-riders-lines": "check of 10,000 riders: the riders are counted, no line of 188,902 characters",
 }
 
 #: The cases that are a site's input files and commands, and their outcome:
 #: ("error", words…): exit 1, a line holding all the words, no traceback, and a build
 #: publishes nothing; ("ok", words…): exit 0 and the words in the output. Each case:
 #: (parts of site.toml, {file: bytes or ("link", target)}, commands, outcome). The parts
-#: "top" (before [site]), "route" (more keys of the one route), "routes" (in place of
-#: it) and "riders" (in place of one road-bike rider); "{src}" is the site's folder.
+#: "top" (before [site]), "site" (in place of [site] with its title), "route" (more
+#: keys of the one route), "routes" (in place of it) and "riders" (in place of one
+#: road-bike rider); "{src}" is the site's folder.
 #: A case run by both check and build checks that the two agree.
 CSV_RIDERS = {"top": 'riders = "entrants.csv"\n', "riders": ""}
 INPUTS = {
@@ -223,6 +229,30 @@ INPUTS = {
         ("check", "build"),
         ("error", "routes[0].cue_texts", "between 0 and 10,000"),
     ),
+    "title-nul": (
+        {"site": '[site]\ntitle = "Spring\\u0000ride"\n'},
+        {},
+        ("check", "build"),
+        ("error", "site.title", "control character (U+0000) at character 7"),
+    ),
+    "rider-name-escape": (
+        {"riders": '[[riders]]\nname = "Ada \\u001b[31mRED"\nvehicle = "road-hoods"\n'},
+        {},
+        ("check", "build"),
+        ("error", "riders[0].name", "control character (U+001B)"),
+    ),
+    "csv-name-nul": (
+        CSV_RIDERS,
+        {"entrants.csv": b"name,vehicle\nAda\x00,road-hoods\n"},
+        ("check", "build"),
+        ("error", "entrants.csv:row 2, column name", "control character (U+0000)"),
+    ),
+    "base-url-no-host": (
+        {"site": '[site]\ntitle = "T"\nbase_url = "http://"\n'},
+        {},
+        ("check", "build"),
+        ("error", "site.base_url", "with a host name"),
+    ),
     "cue-text-underscore": (
         {"route": 'cue_texts = ["1_5 = Left"]\n'},
         {},
@@ -236,7 +266,8 @@ def _input_site(src: Path, parts: dict, files: dict) -> None:
     src.mkdir()
     shutil.copy(SAMPLES / "riverside-loop.gpx", src)
     routes = parts.get("routes", '[[routes]]\ngpx = "riverside-loop.gpx"\n' + parts.get("route", ""))
-    text = parts.get("top", "") + '[site]\ntitle = "T"\n' + routes + parts.get("riders", RIDER)
+    site = parts.get("site", '[site]\ntitle = "T"\n')
+    text = parts.get("top", "") + site + routes + parts.get("riders", RIDER)
     (src / "site.toml").write_text(text.replace("{src}", str(src)), encoding="utf-8")
     for file, data in files.items():
         if isinstance(data, tuple):  # ("link", target)
@@ -509,10 +540,18 @@ def test_math_and_underscore_names_in_plots(tmp_path, capsys):
 
 
 def test_control_characters_are_not_written_raw(tmp_path, capsys):
-    src = _src(tmp_path, riders=_riders(["Rider \x1b[31mRED\x1b[0m \u202eevil"]))
+    """An escape sequence in a name is refused (naming the character by its code, so
+    the message prints none of it); a direction override is kept but never written
+    raw to the terminal."""
+    src = _src(tmp_path, riders=_riders(["Rider \x1b[31mRED\x1b[0m"]))
+    assert _run("check", str(src / "site.toml")) == 1
+    err = capsys.readouterr().err
+    assert "\x1b" not in err and "U+001B" in err
+    (tmp_path / "rtl").mkdir()
+    src = _src(tmp_path / "rtl", riders=_riders(["Rider RED \u202eevil"]))
     assert _run("check", str(src / "site.toml")) == 0
     out = capsys.readouterr().out
-    assert "\x1b" not in out and "\u202e" not in out and "RED" in out
+    assert "\u202e" not in out and "RED" in out
 
 
 def test_too_weak_rider(tmp_path, capsys):
@@ -612,6 +651,16 @@ def test_check_10000_riders(tmp_path, capsys):
     )
     src = _src(tmp_path, riders=riders + "[[riders]]\nname = 'bad'\nvehicle = 'road-hoods'\ncp_w = 5000\n")
     _one_line_error(capsys, _run("check", str(src / "site.toml")), "line 40008")
+
+
+def test_check_10000_riders_lines(tmp_path, capsys):
+    assert "check-10000-riders-lines" in CASES
+    riders = "".join(f'[[riders]]\nname = "Rider number {i}"\nvehicle = "road-hoods"\n' for i in range(10000))
+    src = _src(tmp_path, riders=riders)
+    assert _run("check", str(src / "site.toml")) == 0
+    out = capsys.readouterr().out
+    assert "10000 riders" in out and "9,988 more" in out
+    assert max(len(line) for line in out.splitlines()) < 400
 
 
 def test_serve_idle_connection(tmp_path, monkeypatch):

@@ -17,6 +17,7 @@ from typing import Any
 
 from cardgen.config.numbers import FORMAT, parse_number, parse_whole
 from cardgen.config.patterns import expand, is_pattern, local_path
+from cardgen.config.text import control_problem, has_host
 from cardgen.errors import CardgenError, ConfigError, close_matches
 from cardgen.io.files import read_toml
 from cardgen.io.tables import read_csv
@@ -217,6 +218,10 @@ class _Checker:
             if not isinstance(raw, str):
                 self.problems.append(f"{where} must be text in quotes, not {raw!r}")
                 return spec.default
+            control = control_problem(raw, key) if kind == "str" else None
+            if control:
+                self.problems.append(f"{where} {control}")
+                return spec.default
             if kind == "choice" and raw not in spec.choices:
                 self.problems.append(f"{where} = {raw!r}; use one of {', '.join(spec.choices)}")
                 return spec.default
@@ -278,11 +283,12 @@ class _Checker:
                 return spec.default
             if raw and (
                 not raw.lower().startswith(("http://", "https://"))
+                or not has_host(raw)
                 or len(raw) > MAX_URL_LENGTH
                 or any(c.isspace() or ord(c) < 32 for c in raw)
             ):
                 self.problems.append(
-                    f"{where} must be an http:// or https:// address of at most "
+                    f"{where} must be an http:// or https:// address with a host name, of at most "
                     f'{MAX_URL_LENGTH} characters without spaces, like "https://example.org/rides"'
                 )
                 return spec.default
