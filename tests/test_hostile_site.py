@@ -555,11 +555,14 @@ def test_control_characters_are_not_written_raw(tmp_path, capsys):
 
 
 def test_too_weak_rider(tmp_path, capsys):
-    assert _run("route", str(SAMPLES / "hill-loop.gpx"), "--power", "1", "--json") == 0
+    weak = ("--power", "1", "--cp", "10")  # the lowest CP the limits allow, riding at 1 W
+    assert _run("route", str(SAMPLES / "hill-loop.gpx"), *weak, "--json") == 0
     data = json.loads(capsys.readouterr().out)  # valid JSON: no Infinity
     assert data["totals"]["time_s"] is None
-    assert _run("route", str(SAMPLES / "hill-loop.gpx"), "--power", "1") == 0
+    assert _run("route", str(SAMPLES / "hill-loop.gpx"), *weak) == 0
     assert "cannot complete the route" in capsys.readouterr().out
+    # 1 W alone implies a CP below the limits: one clear line, exit 1
+    _one_line_error(capsys, _run("route", str(SAMPLES / "hill-loop.gpx"), "--power", "1"), "critical power")
     riders = '[[riders]]\nname = "Weak"\nvehicle = "road-hoods"\ncp_w = 10\nflat_w = 1\n'
     src = _src(tmp_path, riders=riders, event='date = "2027-04-18"\nstart = "08:00"\n')
     shutil.copy(SAMPLES / "hill-loop.gpx", src / "riverside-loop.gpx")
