@@ -12,8 +12,9 @@ from datetime import timedelta
 
 import numpy as np
 
+from cardgen.render import format as fmt
 from cardgen.render.notices import notice_text
-from cardgen.units import J_PER_KCAL
+from cardgen.units import J_PER_KCAL, KMH_PER_MS
 
 
 def _num(x, digits=3):
@@ -25,7 +26,7 @@ def _num(x, digits=3):
 
 def _notices(notices, units: str = "metric") -> list[dict]:
     """Notices of plan.json: code, severity, text, where (at_m) and, for curves, the
-    radius and safe speed in SI units."""
+    radius and the speed to slow to in SI units."""
     return [_notice(n, units, km=False) for n in notices]
 
 
@@ -35,13 +36,13 @@ def _notice(n, units: str = "metric", *, km: bool) -> dict:
         out["at_km"] = None if n.at is None else n.at / 1000
     else:
         out["at_m"] = _num(n.at, 1)
-    if n.code == "curve":
-        out["radius_m"] = _num(n.value("radius"), 1)
-        speed = n.value("speed")
+    if n.code == "curve":  # the figures the card prints, rounded as it rounds them
+        out["radius_m"] = fmt.radius_m(n.value("radius"))
+        slow_to = fmt.slow_to_kmh(n.value("speed"))
         if km:
-            out["safe_speed_kmh"] = speed * 3.6
+            out["slow_to_kmh"] = slow_to
         else:
-            out["safe_speed_m_s"] = _num(speed, 3)
+            out["slow_to_m_s"] = math.floor(slow_to / KMH_PER_MS * 1000) / 1000  # never above the card
     return out
 
 
