@@ -71,7 +71,7 @@ class Checker:
                     f"{self.where(section, index, key)} is missing ({spec.about or spec.kind})"
                 )
             return spec.default
-        place = Place(self.where(section, index, key), folder, self.vehicles, self.inputs)
+        place = Place(self.where(section, index, key), key, folder, self.vehicles, self.inputs)
         try:
             return VALIDATORS[spec.kind](table[key], spec, place)
         except Invalid as exc:

@@ -13,8 +13,11 @@ from datetime import date, datetime, time
 from pathlib import Path
 from typing import Any
 
+from cardgen.config.numbers import FORMAT
+from cardgen.config.patterns import local_path
 from cardgen.config.schema import EVENT_YEARS, MAX_URL_LENGTH, Spec
-from cardgen.errors import CardgenError
+from cardgen.config.text import control_problem, has_host
+from cardgen.errors import CardgenError, ConfigError
 from cardgen.profiles.limits import LIMITS
 from cardgen.profiles.vehicles import Vehicle, find_vehicle
 
@@ -29,6 +32,7 @@ class Place:
     site's own ``vehicles``, and ``inputs``, the list of files the configuration reads."""
 
     where: str
+    key: str
     folder: Path
     vehicles: Mapping[str, Vehicle]
     inputs: list[Path]
@@ -40,18 +44,25 @@ def _text(raw: Any, place: Place) -> str:
     return raw
 
 
+def _as_written(raw: Any) -> str:
+    """How to write a number, for a value that came as text (a spreadsheet cell)."""
+    return f"; write {FORMAT}" if isinstance(raw, str) else ""
+
+
 def number(raw: Any, spec: Spec, place: Place) -> Any:
     """A number in the range of its entry in the table of limits."""
     problem = LIMITS[spec.limit].problem(raw)
     if problem:
-        raise Invalid(f"{place.where} {problem}" + (f" ({spec.about})" if spec.about else ""))
+        raise Invalid(
+            f"{place.where} {problem}" + (f" ({spec.about})" if spec.about else "") + _as_written(raw)
+        )
     return raw
 
 
 def whole_number(raw: Any, spec: Spec, place: Place) -> Any:
     """A whole number (not true or false) in its range."""
     if isinstance(raw, bool) or not isinstance(raw, int):
-        raise Invalid(f"{place.where} must be a whole number, not {raw!r}")
+        raise Invalid(f"{place.where} must be a whole number, not {raw!r}{_as_written(raw)}")
     return number(raw, spec, place)
 
 
@@ -62,7 +73,12 @@ def boolean(raw: Any, spec: Spec, place: Place) -> bool:
 
 
 def text(raw: Any, spec: Spec, place: Place) -> str:
-    return _text(raw, place)
+    """Text without control characters."""
+    value = _text(raw, place)
+    control = control_problem(value, place.key)
+    if control:
+        raise Invalid(f"{place.where} {control}")
+    return value
 
 
 def choice(raw: Any, spec: Spec, place: Place) -> str:
@@ -75,7 +91,10 @@ def choice(raw: Any, spec: Spec, place: Place) -> str:
 
 def path(raw: Any, spec: Spec, place: Place) -> Path:
     """An existing file, relative to the configuration's folder; resolved."""
-    resolved = (place.folder / _text(raw, place)).resolve()
+    try:
+        resolved = local_path(place.folder, _text(raw, place), place.where)
+    except ConfigError as exc:
+        raise Invalid(str(exc)) from None
     if not resolved.is_file():
         raise Invalid(f"{place.where}: no file {resolved}; check the path (relative to {place.folder})")
     return resolved
@@ -86,6 +105,8 @@ def vehicle(raw: Any, spec: Spec, place: Place) -> Vehicle:
     name = _text(raw, place)
     if name in place.vehicles:
         return place.vehicles[name]
+    if "\x00" in name:
+        raise Invalid(f"{place.where}: the name holds a NUL character (\\u0000); remove it")
     is_file = name.lower().endswith(".toml")
     if is_file:
         place.inputs.append(place.folder / name)
@@ -135,11 +156,12 @@ def url(raw: Any, spec: Spec, place: Place) -> str:
     value = _text(raw, place)
     if value and (
         not value.lower().startswith(("http://", "https://"))
+        or not has_host(value)
         or len(value) > MAX_URL_LENGTH
         or any(c.isspace() or ord(c) < 32 for c in value)
     ):
         raise Invalid(
-            f"{place.where} must be an http:// or https:// address of at most "
+            f"{place.where} must be an http:// or https:// address with a host name, of at most "
             f'{MAX_URL_LENGTH} characters without spaces, like "https://example.org/rides"'
         )
     return value

@@ -24,6 +24,7 @@ from cardgen.plan.fuel import carb_rate, fluid_rate, legs
 from cardgen.plan.model import RouteJob
 from cardgen.render import exports, plots
 from cardgen.render import format as fmt
+from cardgen.render.day import day_rows, day_sheet_files
 from cardgen.render.html import (
     HOT_C,
     RiderView,
@@ -256,12 +257,19 @@ def _exports(
     windows: list,
     files: dict[str, str | bytes],
     to_second: bool = False,
+    celsius: float | None = None,
 ) -> str:
     """plan.json, climbs.csv, route.gpx and the QR code, added to ``files``; returns
     the QR's target URL."""
     analysis = job.analysis
     files["plan.json"] = exports.plan_json_text(
-        job.name, plans, job.riders, windows, dated=config.day is not None, to_second=to_second
+        job.name,
+        plans,
+        job.riders,
+        windows,
+        dated=config.day is not None,
+        to_second=to_second,
+        temperature_c=celsius,
     )
     files["climbs.csv"] = exports.climbs_csv_text(plans)
     files["route.gpx"] = exports.route_gpx_text(
@@ -386,11 +394,11 @@ def _render_route(config, site: dict, job: RouteJob, folder: Path) -> RoutePages
         margin_text=margin_text,
         root="../",
     )
-    qr = _exports(config, job, plans, windows, files, site.get("to_second", False))
-    page = page_geometry(config.card_size, config.large_print)
-    feeds = [(c.distance, c.name) for c in job.checkpoints]
     temperature = config.conditions.temperature
     celsius = None if temperature is None else temperature - ZERO_CELSIUS_K
+    qr = _exports(config, job, plans, windows, files, site.get("to_second", False), celsius)
+    page = page_geometry(config.card_size, config.large_print)
+    feeds = [(c.distance, c.name) for c in job.checkpoints]
     card_template = env.get_template("card.html")
     cards = []
     for view in views:
@@ -453,7 +461,10 @@ def _render_route(config, site: dict, job: RouteJob, folder: Path) -> RoutePages
             rider_notes=functools.partial(rider_notes, units=units),
         )
         cards.append(CardSource(html, str(folder), str(folder / "coach.pdf")))
-    return RoutePages(files, route_summary(job, views, units, site.get("to_second", False)), cards)
+    summary = route_summary(job, views, units, site.get("to_second", False))
+    starts = [e.start for e in job.riders]
+    summary["day"] = day_rows(job.name, plans, starts, windows, celsius, site.get("to_second", False))
+    return RoutePages(files, summary, cards)
 
 
 #: At most this many items in a card's "Watch for" box; the rest are in the tables.
@@ -819,3 +830,12 @@ def _render_index(config, site: dict, summaries: list[dict], packs: bool) -> dic
         "index.html": page,
         **{name: theme_file(config.templates, name) for name in ("style.css", "find.js")},
     }
+
+
+def render_day_sheet(config, summaries: list[dict], folder: Path, pdf: bool) -> dict[str, str | bytes]:
+    """The organiser's day sheet of the whole event (:mod:`cardgen.render.day`), by
+    file name, for ``folder``."""
+    with theme_errors(config.templates):
+        env = _environment(config.templates, config.units)
+        rows = [row for summary in summaries for row in summary.get("day", [])]
+        return day_sheet_files(env, config, rows, folder, pdf)
