@@ -23,6 +23,10 @@ EXCEPTIONS = {
     ("render/packs.py", "pikepdf.open"): "joins the cards this build made into packs (and PDFs in memory)",
     ("render/pdf.py", "pikepdf.open"): "a PDF in memory, to add a blank page",
     ("render/sandbox.py", "open"): "the process's own memory use (/proc/self/statm), bounding a theme",
+    (
+        "config/patterns.py",
+        "read_text",
+    ): "a built site's manifest, so that a route pattern skips cardgen's output",
     ("cli/route.py", "write_text"): "route --trace OUT.csv writes the file the user named, not the site",
 }
 
