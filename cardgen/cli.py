@@ -496,22 +496,27 @@ def cmd_check(args) -> int:
     """Everything a build can find without rendering, all at once."""
     from cardgen.config import plural
     from cardgen.io.gpx import read_gpx
-    from cardgen.plan import analyse
-    from cardgen.route.checkpoints import resolve_checkpoints
-    from cardgen.route.terrain import build_terrain
+    from cardgen.plan import plan_route
 
     config, _ = _site_config(args.site)
     _say_config(config)
     problems = []
     for route in config.routes:
-        try:
+        try:  # the build's own route step (cue texts, checkpoints, stops), without riders
             track = read_gpx(route.gpx)
-            terrain = build_terrain(track)
-            analysis = analyse(track, terrain)
-            checkpoints = resolve_checkpoints(route.checkpoints, track, terrain, str(route.gpx))
+            surveyed = plan_route(
+                track,
+                [],
+                cue_texts=route.cue_texts,
+                checkpoints=route.checkpoints,
+                stops=route.stops,
+                stop=route.stop,
+                where=str(route.gpx),
+            )
         except CardgenError as exc:
             problems.append(str(exc))
             continue
+        analysis, checkpoints, terrain = surveyed.analysis, surveyed.checkpoints, surveyed.analysis.terrain
         _print(
             f"ok  {route.gpx.name}: {terrain.length / 1000:.1f} km, {plural(track.points, 'point')}, "
             f"{plural(len(analysis.climbs), 'climb')}, {plural(len(checkpoints), 'checkpoint')}"
