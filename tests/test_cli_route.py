@@ -38,7 +38,8 @@ DESCENT_KEYS = {
 def test_route_json_has_the_contract(cli, name):
     code, out, err = cli("route", str(SAMPLES / f"{name}.gpx"), "--json", parse_json=True)
     assert code == 0, err
-    assert set(out) == {"route", "vehicle", "climbs", "descents", "totals"}
+    assert set(out) == {"route", "vehicle", "climbs", "descents", "totals", "notes"}
+    assert all(set(n) >= {"code", "text", "at_km"} for n in out["notes"])
     assert set(out["route"]) == {"name", "distance_km", "gain_m", "loss_m", "points"}
     assert set(out["vehicle"]) == {"name", "mass_kg", "cda_m2", "crr"}
     assert set(out["totals"]) == {"time_s", "energy_kj", "food_kcal", "battery_wh"}
@@ -164,3 +165,30 @@ def test_route_json_warnings_are_objects_with_their_place(cli):
         assert f"slow to {w['slow_to_kmh']:.1f} km/h" in w["text"]
         assert "safe" not in json.dumps(w)
         assert descent["start_km"] <= w["at_km"] <= descent["end_km"] + 0.1
+
+
+def test_route_json_carries_the_route_notes(run_cli, tmp_path):
+    """The notes the text output prints (here: two track segments 500 km apart) are
+    in the JSON too, as objects with a code, the text and where."""
+    a_lat, a_lon = to_latlon(np.arange(0.0, 1500.0, 10.0), np.zeros(150))
+    b_lat, b_lon = to_latlon(np.arange(0.0, 1500.0, 10.0), np.full(150, 500_000.0))
+    pts = "".join(
+        "<trkseg>"
+        + "".join(
+            f'<trkpt lat="{a:.8f}" lon="{b:.8f}"><ele>10</ele></trkpt>' for a, b in zip(la, lo, strict=True)
+        )
+        + "</trkseg>"
+        for la, lo in ((a_lat, a_lon), (b_lat, b_lon))
+    )
+    path = tmp_path / "gap.gpx"
+    path.write_text(
+        '<?xml version="1.0"?><gpx version="1.1" creator="t" xmlns="http://www.topografix.com/GPX/1/1">'
+        f"<trk><name>Gap</name>{pts}</trk></gpx>"
+    )
+    code, out, err = run_cli("route", str(path), "--json", parse_json=True)
+    assert code == 0, err
+    notes = [n for n in out["notes"] if n["code"] == "track"]
+    assert notes and all(set(n) >= {"code", "text", "at_km"} for n in notes)
+    assert any("gap" in n["text"] for n in notes)
+    code, text_out, _ = run_cli("route", str(path))
+    assert all(f"note: {n['text']}" in text_out for n in out["notes"])

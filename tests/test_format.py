@@ -72,7 +72,7 @@ def test_clock_times():
 
 
 def test_limits_round_the_safe_way():
-    assert fmt.power(223.5, "down") == "220 W"  # a safe climbing power is never printed higher
+    assert fmt.power(223.5, "down") == "220 W"  # a sustainable climbing power (model) is never printed higher
     assert fmt.power(225.0, "down") == "225 W"
     assert fmt.speed(15.9 / 3.6, "metric", "down") == "15.5 km/h"  # nor a safe curve speed
     assert fmt.speed(16.0 / 3.6, "metric", "down") == "16.0 km/h"

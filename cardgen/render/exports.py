@@ -339,6 +339,10 @@ def route_json(plan) -> dict:
                 "food_kcal": totals.food_energy / J_PER_KCAL,
                 "battery_wh": None if totals.battery is None else totals.battery / 3600,
             },
+            # what the text output prints as notes: the route itself (joined gaps,
+            # damaged elevation, points left off) and the rider's notices away from
+            # the climbs and descents
+            "notes": [_notice(w, km=True) for w in plan.warnings],
         }
     )
 
