@@ -134,6 +134,7 @@ def _assist_ratios(rider: Rider, motor: Motor | None, climbs, terrain, wind, rho
             headwind=wind,
             air_density=rho,
             step=terrain.step,
+            w_prime=rider.w_prime,
         )
     off = np.ones(terrain.grade.size, dtype=bool)
     for c in climbs:
