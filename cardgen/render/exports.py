@@ -138,7 +138,7 @@ def plan_json_text(
         if start is None:
             return None
         seconds = plan.elapsed_at(distance)
-        return when(start + timedelta(seconds=seconds)) if np.isfinite(seconds) else None
+        return when(fmt.moment(start, seconds, to_second)) if np.isfinite(seconds) else None
 
     dicts = []
     for i, plan in enumerate(plans):
