@@ -8,7 +8,6 @@ import csv
 import io
 import json
 import math
-from datetime import timedelta
 
 import numpy as np
 
