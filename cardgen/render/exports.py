@@ -117,8 +117,32 @@ def plan_dict(plan) -> dict:
     }
 
 
+def _legs(plan, windows, temperature_c) -> list[dict]:
+    """The plan's legs between its checkpoints (the card's food and fluid table):
+    riding time, and carbohydrate [g] and fluid [L] as (low, high) guides."""
+    from cardgen.plan.fuel import legs
+
+    feeds = [(w.checkpoint.distance, w.checkpoint.name) for w in windows]
+    return [
+        {
+            "to": leg.to,
+            "end_m": _num(leg.end, 1),
+            "time_s": _num(leg.time, 0),
+            "carbs_g": [_num(x, 1) for x in leg.carbs] if leg.carbs else None,
+            "fluid_l": [_num(x, 3) for x in leg.fluid] if leg.fluid else None,
+        }
+        for leg in legs(plan, feeds, temperature_c)
+    ]
+
+
 def plan_json_text(
-    route_name: str, plans, entries=(), windows=(), dated: bool = False, to_second: bool = False
+    route_name: str,
+    plans,
+    entries=(),
+    windows=(),
+    dated: bool = False,
+    to_second: bool = False,
+    temperature_c: float | None = None,
 ) -> str:
     """All riders' plans of one route as JSON text (stable key order), with each
     rider's start, bib and wave, their arrival at each checkpoint and the finish, and
@@ -156,6 +180,7 @@ def plan_json_text(
             for w in windows
         ]
         data["finish"] = arrival(plan, start, plan.terrain.length)
+        data["legs"] = _legs(plan, windows, temperature_c)
         dicts.append(data)
     top = {
         "route": route_name,

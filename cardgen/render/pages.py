@@ -22,6 +22,7 @@ from cardgen.plan import Analysis, Plan, checkpoint_windows
 from cardgen.plan.fuel import carb_rate, fluid_rate, legs
 from cardgen.render import exports, plots
 from cardgen.render import format as fmt
+from cardgen.render.day import day_rows, write_day_sheet
 from cardgen.render.html import (
     HOT_C,
     RiderView,
@@ -269,12 +270,24 @@ def _write_plots(config, job: RouteJob, folder: Path) -> dict:
 
 
 def _write_exports(
-    config, job: RouteJob, plans: list[Plan], folder: Path, windows: list, to_second: bool = False
+    config,
+    job: RouteJob,
+    plans: list[Plan],
+    folder: Path,
+    windows: list,
+    to_second: bool = False,
+    celsius: float | None = None,
 ) -> str:
     """plan.json, climbs.csv, route.gpx and the QR code; returns the QR's target URL."""
     analysis = job.analysis
     text = exports.plan_json_text(
-        job.name, plans, job.riders, windows, dated=config.day is not None, to_second=to_second
+        job.name,
+        plans,
+        job.riders,
+        windows,
+        dated=config.day is not None,
+        to_second=to_second,
+        temperature_c=celsius,
     )
     (folder / "plan.json").write_text(text, encoding="utf-8")
     (folder / "climbs.csv").write_text(exports.climbs_csv_text(plans), encoding="utf-8")
@@ -380,11 +393,11 @@ def _render_route(config, site: dict, job: RouteJob, folder: Path) -> tuple[dict
         ),
         encoding="utf-8",
     )
-    qr = _write_exports(config, job, plans, folder, windows, site.get("to_second", False))
-    page = page_geometry(config.card_size, config.large_print)
-    feeds = [(c.distance, c.name) for c in job.checkpoints]
     temperature = config.conditions.temperature
     celsius = None if temperature is None else temperature - 273.15
+    qr = _write_exports(config, job, plans, folder, windows, site.get("to_second", False), celsius)
+    page = page_geometry(config.card_size, config.large_print)
+    feeds = [(c.distance, c.name) for c in job.checkpoints]
     card_template = env.get_template("card.html")
     cards = []
     for view in views:
@@ -439,7 +452,9 @@ def _render_route(config, site: dict, job: RouteJob, folder: Path) -> tuple[dict
             rider_notes=functools.partial(rider_notes, units=units),
         )
         cards.append(CardSource(html, str(folder), str(folder / "coach.pdf")))
-    return route_summary(job, views, units, site.get("to_second", False)), cards
+    summary = route_summary(job, views, units, site.get("to_second", False))
+    summary["day"] = day_rows(job.name, plans, starts, windows, celsius, site.get("to_second", False))
+    return summary, cards
 
 
 #: At most this many items in a card's "Watch for" box; the rest are in the tables.
@@ -844,3 +859,11 @@ def _render_index(config, site: dict, summaries: list[dict], folder: Path) -> No
     )
     for name in ("style.css", "find.js"):
         (folder / name).write_bytes(theme_file(config.templates, name).read_bytes())
+
+
+def render_day_sheet(config, summaries: list[dict], folder: Path, pdf: bool) -> None:
+    """The organiser's day sheet of the whole event (:mod:`cardgen.render.day`)."""
+    with theme_errors(config.templates):
+        env = _environment(config.templates, config.units)
+        rows = [row for summary in summaries for row in summary.get("day", [])]
+        write_day_sheet(env, config, rows, folder, pdf)
