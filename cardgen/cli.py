@@ -222,6 +222,19 @@ def cmd_solve(args) -> int:
     return 0
 
 
+#: The short cautions of ``cardgen solve`` and ``cardgen route`` (the cards carry the
+#: full ones).
+SOLVE_CAUTION = (
+    "Model estimate, not a guarantee: a speed here is an upper bound from the power balance, "
+    "not a safe or target speed; ride to the conditions and the local rules."
+)
+ROUTE_CAUTION = (
+    "Model estimates, not guarantees: speeds are model upper bounds, not safe or target speeds. "
+    "Check brakes and ride descents and curves to the conditions; local road rules apply; hard "
+    "efforts need medical clearance."
+)
+
+
 def _print_solve(args, result, label, vehicle, rho, speed, power, motor, motor_w, bearings) -> None:
     """The solve command's words for a person."""
     mass, cda, crr, eff = vehicle
@@ -254,6 +267,7 @@ def _print_solve(args, result, label, vehicle, rho, speed, power, motor, motor_w
         _print(f"  {term:<10} {value:7.0f} W   {share}{note}")
     if bearings:
         _print("\n  rolling includes wheel-bearing friction (Dahn et al. 1991).")
+    _print(f"\n{SOLVE_CAUTION}")
 
 
 def _route_plan(args):
@@ -354,7 +368,7 @@ def cmd_route(args) -> int:
     _print(f"{len(plan.cues)} cues ({turns} turns)")
     for w in plan.warnings:
         _print(f"note: {notice_text(w)}")
-    _print("\nModel estimates, not guarantees. Ride descents to the conditions; local road rules apply.")
+    _print(f"\n{ROUTE_CAUTION}")
     return 0
 
 
