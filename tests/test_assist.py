@@ -168,3 +168,36 @@ def test_the_level_between_climbs_gives_way_when_the_battery_is_short(tmp_path):
         assert plan.assist_between == level and plan.totals.battery_fits
         times.append(plan.totals.time)
     assert times == sorted(times, reverse=True)
+
+
+def test_within_cp_allows_a_short_pitch_that_w_prime_covers():
+    """The lowest level "within CP" (critical-power model, Monod & Scherrer 1965):
+    the climb's mean power at the target no more than CP, and the work above CP on
+    its steeper pitch no more than W′. A 900 m climb at 4 % with 100 m at 8 %: at
+    the level where the mean fits CP but the pitch does not, W′ decides."""
+    from cardgen.physics.assist import climb_options, rider_power_for_speed
+
+    vehicle = builtin_vehicles()["e-assist-cargo"]
+    motor = find_motor(vehicle.motor)
+    grade = np.full(90, 0.04)
+    grade[40:50] = 0.08
+    air = dict(headwind=np.zeros(90), air_density=np.full(90, 1.2))
+    target = 10 / 3.6
+    ratio = motor.levels[2]  # level 3
+    need = rider_power_for_speed(motor, ratio, target, resistance=vehicle.resistance, grade=grade, **air)
+    cp = float(np.mean(need)) + 1.0  # the climb's mean within CP at level 3; the 8 % pitch above it
+    assert need[45] > cp
+    excess = float((need[45] - cp) * 100.0 / target)  # [J] above CP on the pitch
+    common = dict(
+        climb_power=cp,
+        cp=cp,
+        target_speed=target,
+        resistance=vehicle.resistance,
+        grade=grade,
+        step=10.0,
+        **air,
+    )
+    lots = climb_options(motor, [(0, 90)], w_prime=excess * 1.5, **common)["within_cp"][:, 0]
+    none = climb_options(motor, [(0, 90)], w_prime=excess * 0.5, **common)["within_cp"][:, 0]
+    assert int(np.argmax(lots)) == 3  # level 3: W′ covers the pitch
+    assert int(np.argmax(none)) == 4  # not enough W′: one level more

@@ -12,6 +12,13 @@ from cardgen.errors import CardgenError
 from cardgen.profiles.riders import PACING_STYLES
 from cardgen.units import KMH_PER_MS
 
+#: The short caution of ``cardgen route`` (the cards carry the full ones).
+ROUTE_CAUTION = (
+    "Model estimates, not guarantees: speeds are model upper bounds, not safe or target speeds. "
+    "Check brakes and ride descents and curves to the conditions; local road rules apply; hard "
+    "efforts need medical clearance."
+)
+
 
 def _route_plan(args):
     """Read, analyse and plan one route from the ``route`` command's options."""
@@ -111,7 +118,7 @@ def cmd_route(args) -> int:
     _print(f"{len(plan.cues)} cues ({turns} turns)")
     for w in plan.warnings:
         _print(f"note: {notice_text(w)}")
-    _print("\nModel estimates, not guarantees. Ride descents to the conditions; local road rules apply.")
+    _print(f"\n{ROUTE_CAUTION}")
     return 0
 
 

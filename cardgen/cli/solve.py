@@ -133,6 +133,13 @@ def cmd_solve(args) -> int:
     return 0
 
 
+#: The short caution of ``cardgen solve`` (the cards carry the full ones).
+SOLVE_CAUTION = (
+    "Model estimate, not a guarantee: a speed here is an upper bound from the power balance, "
+    "not a safe or target speed; ride to the conditions and the local rules."
+)
+
+
 def _print_solve(args, result, label, vehicle, rho, speed, power, motor, motor_w, bearings) -> None:
     """The solve command's words for a person."""
     mass, cda, crr, eff = vehicle
@@ -165,6 +172,7 @@ def _print_solve(args, result, label, vehicle, rho, speed, power, motor, motor_w
         _print(f"  {term:<10} {value:7.0f} W   {share}{note}")
     if bearings:
         _print("\n  rolling includes wheel-bearing friction (Dahn et al. 1991).")
+    _print(f"\n{SOLVE_CAUTION}")
 
 
 def add_parser(sub: argparse._SubParsersAction) -> None:

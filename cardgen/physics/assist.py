@@ -203,13 +203,17 @@ def climb_options(
     headwind: Floats,
     air_density: Floats,
     step: float,
+    w_prime: float = 0.0,
 ) -> dict[str, np.ndarray]:
     """What each assist level does on each climb, all solved at once (steady speeds).
 
     Returns arrays of shape (levels 0…N, climbs): ``slowest`` [m/s] the slowest
     segment, ``time`` [s], ``battery`` [J] drawn, and ``within_cp`` (bool): the rider
-    holds the target speed at no more than CP. The rider rides at the power the target
-    speed needs, at most ``climb_power``, and eases off at the target.
+    holds the target speed within CP: the climb's mean power at the target no more
+    than CP, and the work above CP on its steeper pitches within ``w_prime`` [J] (the
+    critical-power model, Monod & Scherrer 1965; with ``w_prime`` 0, every segment
+    within CP). The rider rides at the power the target speed needs, at most
+    ``climb_power``, and eases off at the target.
     """
     segments = [np.arange(start, end) for start, end in climbs]
     idx = np.concatenate(segments)
@@ -224,11 +228,14 @@ def climb_options(
     with np.errstate(divide="ignore"):
         seconds = np.where(speed > 0, length / speed, np.inf)
     drawn = motor_power(motor, ratios, speed, power) * seconds / motor.drive_efficiency
+    at_target = length / target_speed  # [s] on each segment at the target speed
+    mean = np.add.reduceat(wanted * at_target, starts, axis=1) / np.add.reduceat(at_target, starts)
+    above = np.add.reduceat(np.maximum(wanted - cp, 0.0) * at_target, starts, axis=1)  # [J] above CP
     return dict(
         slowest=np.minimum.reduceat(speed, starts, axis=1),
         time=np.add.reduceat(seconds, starts, axis=1),
         battery=np.add.reduceat(np.nan_to_num(drawn, posinf=0.0), starts, axis=1),
-        within_cp=np.maximum.reduceat(wanted, starts, axis=1) <= cp * (1 + 1e-9),
+        within_cp=(mean <= cp * (1 + 1e-9)) & (above <= w_prime * (1 + 1e-9) + 1e-6),
     )
 
 

@@ -50,7 +50,7 @@ class ClimbRow:
     slow_length: float  # [m] below the two-wheel stable speed
     rider_power: float  # [W] time-averaged simulated rider power on the climb
     w_prime_low: float  # [J] lowest W′ balance on the climb
-    safe_power: float | None  # [W] highest steady power that keeps W′ ≥ 0, where it runs out
+    sustainable_power: float | None  # [W] highest steady power that keeps W′ ≥ 0, where it runs out
     assist_level: int | None  # suggested level (0 = off); None without a motor
     assist_name: str | None
     warnings: tuple[Notice, ...]

@@ -21,7 +21,7 @@ from cardgen.physics.assist import (
     rider_power_for_speed,
 )
 from cardgen.physics.atmosphere import Conditions, air_density_isa
-from cardgen.physics.effort import safe_climb_power, w_prime_balance
+from cardgen.physics.effort import sustainable_climb_power, w_prime_balance
 from cardgen.physics.forces import gravity_power, headwind
 from cardgen.physics.ride import Ride
 from cardgen.physics.steady import power_for_speed, speed_for_power
@@ -133,6 +133,7 @@ def _assist_ratios(rider: Rider, motor: Motor | None, climbs, terrain, wind, rho
             headwind=wind,
             air_density=rho,
             step=terrain.step,
+            w_prime=rider.w_prime,
         )
     off = np.ones(terrain.grade.size, dtype=bool)
     for c in climbs:
@@ -382,9 +383,9 @@ def _climb_row(
     w_low = float(np.min(wbal[segs]))
     before = float(wbal[climb.start - 1]) if climb.start > 0 else rider.w_prime
     warnings = []
-    safe = None
+    hold = None
     if w_low < -W_PRIME_SLACK * rider.w_prime:
-        safe = safe_climb_power(
+        hold = sustainable_climb_power(
             cp=rider.cp,
             climb_power=rider.climb_power_used,
             w_prime_left=before,
@@ -392,7 +393,7 @@ def _climb_row(
             resistance=vehicle.resistance,
             **air,
         )
-        warnings.append(Notice("w-prime", "warning", (("power", rider_power), ("safe", safe))))
+        warnings.append(Notice("w-prime", "warning", (("power", rider_power), ("hold", hold))))
     if slow > 0:
         first = reach.start + int(np.argmax(walked[reach]))
         warnings.append(
@@ -436,7 +437,7 @@ def _climb_row(
         slow_length=slow,
         rider_power=rider_power,
         w_prime_low=w_low,
-        safe_power=safe,
+        sustainable_power=hold,
         assist_level=level,
         assist_name=None if motor is None else motor.level_name(level or 0),
         warnings=tuple(warnings),

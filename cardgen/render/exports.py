@@ -8,7 +8,6 @@ import csv
 import io
 import json
 import math
-from datetime import timedelta
 
 import numpy as np
 
@@ -162,7 +161,7 @@ def plan_json_text(
         if start is None:
             return None
         seconds = plan.elapsed_at(distance)
-        return when(start + timedelta(seconds=seconds)) if np.isfinite(seconds) else None
+        return when(fmt.moment(start, seconds, to_second)) if np.isfinite(seconds) else None
 
     dicts = []
     for i, plan in enumerate(plans):
@@ -365,6 +364,10 @@ def route_json(plan) -> dict:
                 "food_kcal": totals.food_energy / J_PER_KCAL,
                 "battery_wh": None if totals.battery is None else totals.battery / 3600,
             },
+            # what the text output prints as notes: the route itself (joined gaps,
+            # damaged elevation, points left off) and the rider's notices away from
+            # the climbs and descents
+            "notes": [_notice(w, km=True) for w in plan.warnings],
         }
     )
 

@@ -10,7 +10,7 @@ import re
 import traceback
 from collections.abc import Iterator
 from dataclasses import dataclass
-from datetime import UTC, datetime, timedelta
+from datetime import UTC, datetime
 from pathlib import Path
 
 import jinja2
@@ -645,7 +645,7 @@ def _when(start: datetime | None, seconds: float):
     """A moment (start + seconds), or the seconds themselves without a start."""
     if seconds != seconds or seconds == float("inf"):
         return None
-    return seconds if start is None else start + timedelta(seconds=seconds)
+    return seconds if start is None else fmt.moment(start, seconds)
 
 
 def _clock_text(moment) -> str:

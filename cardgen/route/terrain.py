@@ -270,6 +270,20 @@ def _segment_count(track: Track, length: float, step: float) -> int:
     return n
 
 
+#: Points on each side of a join whose median elevations are made to meet: a logger's
+#: first fixes after a pause are often tens of metres off, and one bad point must not
+#: set the level of the whole next segment.
+JOIN_POINTS = 5
+
+
+def _join_step(elevation: np.ndarray, index: int) -> float:
+    """The elevation step [m] removed at a join before point ``index``: the median of
+    the first :data:`JOIN_POINTS` points after it less that of the last ones before."""
+    before = elevation[max(0, index - JOIN_POINTS) : index]
+    after = elevation[index : index + JOIN_POINTS]
+    return float(np.median(after) - np.median(before))
+
+
 def build_terrain(track: Track, step: float = GRID_STEP) -> Terrain:
     """Resample a :class:`~cardgen.route.gpx.Track` onto a uniform grid and derive
     the terrain.
@@ -285,7 +299,7 @@ def build_terrain(track: Track, step: float = GRID_STEP) -> Terrain:
         legs = np.diff(d)
         for gap in track.gaps:
             legs[gap.index - 1] = GAP_SPAN
-            ele_in[gap.index :] -= ele_in[gap.index] - ele_in[gap.index - 1]
+            ele_in[gap.index :] -= _join_step(ele_in, gap.index)
         d = np.concatenate(([0.0], np.cumsum(legs)))
     keep = np.concatenate(([True], np.diff(d) > 0))  # drop repeated points
     d = d[keep]
