@@ -162,13 +162,15 @@ def clock(start: datetime | None, seconds) -> str:
     return when.strftime("%H:%M")
 
 
-def start_clock(moment, to_second: bool = False) -> str:
-    """A start's time of day: "09:30", or "09:30:30" when the event's starts are
-    seconds apart (half-minute starts would otherwise print as repeated minutes);
-    "–" without one."""
-    if moment is None:
+def start_clock(when, to_second: bool = False) -> str:
+    """A start's (or an arrival's) time of day: "09:30", or "09:30:30" when the event's
+    starts are seconds apart (half-minute starts would otherwise print as repeated
+    minutes), rounded like :func:`moment`; "–" without one."""
+    if when is None:
         return "–"
-    return moment.strftime("%H:%M:%S" if to_second else "%H:%M")
+    whole = when.replace(second=0, microsecond=0)
+    rounded = moment(whole, when.second + when.microsecond / 1e6, to_second)
+    return rounded.strftime("%H:%M:%S" if to_second else "%H:%M")
 
 
 @_dash_if_missing
