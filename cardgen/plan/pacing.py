@@ -463,26 +463,43 @@ def pace(course: Course, *, mean_power: float, cp: float, w_prime: float, top: f
     cut (pro rata on that segment, to 0 after it) and the rider's power planned and
     ridden again, until the battery lasts to the cut.
     """
-    ratio = course.assist_ratio
-    empty_at = None
-    for rounds in range(1, BATTERY_ROUNDS + 1):
-        ridden = course if ratio is course.assist_ratio else dataclasses.replace(course, assist_ratio=ratio)
+    full = course.assist_ratio
+    ratio, empty_at = full, None
+    for _ in range(BATTERY_ROUNDS):
+        ridden = course if ratio is full else dataclasses.replace(course, assist_ratio=ratio)
         pacing, ride = _fit(ridden, mean_power, cp, w_prime, top)
-        motor = course.motor
-        if motor is None or ratio is None:
+        if course.motor is None or full is None:
             break
-        energy = np.nan_to_num(ride.motor_power * ride.time, posinf=0.0) / motor.drive_efficiency
-        drawn = np.cumsum(energy)
-        over = np.flatnonzero(drawn > motor.usable_battery * (1.0 + 1e-6))
-        if not over.size or rounds == BATTERY_ROUNDS:
+        # the draw up to any point does not depend on the motor after it: ride this
+        # power with the motor on throughout, and cut where that empties the battery
+        unbounded = ride if ratio is full else course.ride(pacing.power, full)
+        cut = _battery_cut(unbounded, full, course.motor)
+        if cut is None:
+            ratio, empty_at, ride = full, None, unbounded
             break
-        i = int(over[0])
-        left = motor.usable_battery - (drawn[i - 1] if i else 0.0)
-        ratio = ratio.copy()
-        ratio[i] *= max(left, 0.0) / max(energy[i], 1e-9)
-        ratio[i + 1 :] = 0.0
-        empty_at = float(course.distance[i + 1])
+        index, cut_ratio = cut
+        ride = course.ride(pacing.power, cut_ratio)
+        settled = empty_at is not None and empty_at == float(course.distance[index + 1])
+        ratio, empty_at = cut_ratio, float(course.distance[index + 1])
+        if settled:
+            break
     return PacedRide(pacing, ride, ratio, empty_at)
+
+
+def _battery_cut(ride: Ride, ratio: np.ndarray, motor: Motor) -> tuple[int, np.ndarray] | None:
+    """Where the ride empties the usable battery: the segment, and the assist ratio
+    cut there (pro rata on that segment, 0 after it); None when the battery lasts."""
+    energy = np.nan_to_num(ride.motor_power * ride.time, posinf=0.0) / motor.drive_efficiency
+    drawn = np.cumsum(energy)
+    over = np.flatnonzero(drawn > motor.usable_battery * (1.0 + 1e-6))
+    if not over.size:
+        return None
+    i = int(over[0])
+    left = motor.usable_battery - (drawn[i - 1] if i else 0.0)
+    cut = ratio.copy()
+    cut[i] *= max(left, 0.0) / max(energy[i], 1e-9)
+    cut[i + 1 :] = 0.0
+    return i, cut
 
 
 def _fit(course: Course, mean_power: float, cp: float, w_prime: float, top: float) -> tuple[Pacing, Ride]:
