@@ -72,6 +72,12 @@ CASES = {
     "theme-python-escape": "a theme reaching Python internals (__class__.__mro__): stopped by the sandbox",
     "theme-syntax-error": "a theme template with a syntax error: one line with file and line",
     "theme-undefined-name": "a theme template using an undefined name: one line with the file",
+    "theme-includes-itself": "a template that includes itself: one line, the previous site intact",
+    "theme-extends-itself": "a template that extends itself: one line, the previous site intact",
+    "theme-range-1e9": "range(10**9) in a template: one line, the previous site intact",
+    "theme-string-1e10": "'x' * 10**10 in a template: refused before allocating, one line",
+    "theme-nested-loops": "nested range(100000) loops: stopped at the render time bound (60 s), one line",
+    "theme-memory": "a template making a string larger than the render memory bound (1 GiB): one line",
     "source-date-epoch-text": "SOURCE_DATE_EPOCH=abc or huge: ignored with a warning",
     "math-in-names": "names with $…$ and \\sqrt{ in plots: drawn literally, no traceback",
     "underscore-name-in-legend": "a rider named _hidden stays in the power chart's legend",
@@ -222,6 +228,60 @@ def test_theme_template_mistakes(tmp_path, capsys, body, words):
     (theme / "index.html").write_text("<!DOCTYPE html>\n<p>\n" + body + "\n")
     code = _run("build", str(src / "site.toml"), "-o", str(tmp_path / "site"), "--no-pdf")
     _one_line_error(capsys, code, *words)
+
+
+@pytest.fixture(scope="module")
+def themed_site(tmp_path_factory):
+    """A site built with an (empty) theme folder: the previous site of the theme cases."""
+    folder = tmp_path_factory.mktemp("themed")
+    src = _src(folder)
+    _theme(src)
+    out = folder / "site"
+    assert main(["build", str(src / "site.toml"), "-o", str(out), "--no-pdf", "--jobs", "1"]) == 0
+    return src, out
+
+
+@pytest.mark.parametrize(
+    ("case", "body", "words", "bound"),
+    [
+        ("theme-includes-itself", "{% include 'index.html' %}", ("includes or extends itself",), None),
+        ("theme-extends-itself", "{% extends 'index.html' %}", ("includes or extends itself",), None),
+        ("theme-range-1e9", "{% for i in range(10**9) %}{% endfor %}", ("Range too big",), None),
+        ("theme-string-1e10", "{{ 'x' * 10**10 }}", ("10,000,000,000 items",), None),
+        (
+            "theme-nested-loops",
+            "{% for i in range(100000) %}{% for j in range(100000) %}{% endfor %}{% endfor %}",
+            ("rendering took over 1 s",),
+            ("RENDER_SECONDS", 1.0),
+        ),
+        (
+            "theme-memory",
+            "{{ ('x'|center(300000000))[:3] }}",
+            ("more than 64 MiB of memory",),
+            ("RENDER_BYTES", 64 << 20),
+        ),
+    ],
+)
+def test_theme_render_bounds(tmp_path, capsys, monkeypatch, themed_site, case, body, words, bound):
+    """A theme's mistakes end in one line naming the template, and the site built
+    before stays as it was (the bounds: cardgen/render/sandbox.py; a bound is made
+    small here so that the case runs in a second)."""
+    assert case in CASES
+    if bound:
+        from cardgen.render import sandbox
+
+        monkeypatch.setattr(sandbox, *bound)
+    src, built = themed_site
+    out = tmp_path / "site"
+    shutil.copytree(built, out)
+    before = snapshot(out)
+    shutil.copytree(src, tmp_path / "src")
+    theme = tmp_path / "src" / "theme"
+    (theme / "index.html").write_text("<!DOCTYPE html>\n<p>\n" + body + "\n")
+    code = _run("build", str(tmp_path / "src" / "site.toml"), "-o", str(out), "--no-pdf", "--jobs", "1")
+    err = _one_line_error(capsys, code, "index.html", *words)
+    assert [line for line in err.splitlines() if "error" in line] == [err.splitlines()[-1]], err
+    assert snapshot(out) == before
 
 
 @pytest.mark.parametrize("value", ["abc", "9" * 40])

@@ -10,13 +10,13 @@ from datetime import datetime
 from pathlib import Path
 
 import jinja2
-import jinja2.sandbox
 
 from cardgen.errors import CardgenError
 from cardgen.paths import default_templates
 from cardgen.plan import Plan
 from cardgen.render import format as fmt
 from cardgen.render.notices import notice_text
+from cardgen.render.sandbox import ThemeEnvironment
 
 #: The caution for vehicles with a motor (cards of other vehicles leave it out).
 ASSIST_CAUTION = (
@@ -93,9 +93,10 @@ def environment(override: Path | None = None, units: str = "metric") -> jinja2.E
     ``override`` (a site's own templates) first, then cardgen's.
 
     A theme is code: it is rendered in Jinja2's sandbox, so a template can read the
-    values it is given but cannot reach Python's internals or run commands."""
+    values it is given but cannot reach Python's internals or run commands, and each
+    render is bounded in time and memory (:mod:`cardgen.render.sandbox`)."""
     paths = ([str(override)] if override else []) + [str(default_templates())]
-    env = jinja2.sandbox.SandboxedEnvironment(
+    env = ThemeEnvironment(
         loader=ThemeLoader(paths),
         autoescape=True,
         undefined=jinja2.StrictUndefined,

@@ -40,6 +40,14 @@ SPIKE_POINTS = 5
 GAIN_DEADBAND = 5.0
 #: Window [m] over which heading change gives the curve radius.
 CURVE_WINDOW = 30.0
+#: Longest route cardgen plans [m]: 10,000 km, longer than any ridden single-stage
+#: event (the longest, across a continent, are under 5,000 km; from memory). Every
+#: array of the plan has one value per grid node, so this bounds the work a GPX file
+#: can ask for: at 10 m, 1,000,000 nodes, about 0.6 GB and a few seconds for
+#: `cardgen route` (measured on a synthetic 10,000 km route).
+MAX_ROUTE_LENGTH = 10_000_000.0
+#: Most grid segments of one route (nodes less one), whatever the grid step.
+MAX_SEGMENTS = 1_000_000
 
 
 @dataclass(frozen=True)
@@ -239,6 +247,20 @@ def _gap_distances(track: Track, d: np.ndarray, keep: np.ndarray) -> list[float]
     return [float(d[position[gap.index]]) for gap in track.gaps]
 
 
+def _segment_count(track: Track, length: float, step: float) -> int:
+    """Grid segments of a route ``length`` [m] long, refused before any array is
+    made when the route is longer than :data:`MAX_ROUTE_LENGTH` or needs more than
+    :data:`MAX_SEGMENTS` segments."""
+    n = int(np.ceil(length / step))
+    if length > MAX_ROUTE_LENGTH or n > MAX_SEGMENTS:
+        raise GpxError(
+            f"{track.path}: the route is {length / 1000:,.0f} km long ({n:,} steps of {step:g} m); "
+            f"cardgen plans routes up to {MAX_ROUTE_LENGTH / 1000:,.0f} km ({MAX_SEGMENTS:,} steps): "
+            "split it into stages, or check its coordinates"
+        )
+    return n
+
+
 def build_terrain(track: Track, step: float = GRID_STEP) -> Terrain:
     """Resample a :class:`~cardgen.route.gpx.Track` onto a uniform grid and derive
     the terrain.
@@ -246,7 +268,7 @@ def build_terrain(track: Track, step: float = GRID_STEP) -> Terrain:
     Raises
     ------
     GpxError
-        When the route has no length.
+        When the route has no length, or is longer than :data:`MAX_ROUTE_LENGTH`.
     """
     d = cumulative_distance(track.lat, track.lon)
     ele_in = track.elevation.copy()
@@ -263,8 +285,8 @@ def build_terrain(track: Track, step: float = GRID_STEP) -> Terrain:
             f"{track.path}: the route is {d[-1]:.0f} m long; cardgen needs at least {2 * step:.0f} m "
             "(are all points the same?)"
         )
+    n = _segment_count(track, float(d[-1]), step)
     ele = remove_spikes(ele_in[keep])
-    n = int(np.ceil(d[-1] / step))
     grid = np.linspace(0.0, d[-1], n + 1)
     grid_step = float(grid[1] - grid[0])
     lat = np.interp(grid, d, track.lat[keep])

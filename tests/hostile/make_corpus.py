@@ -301,6 +301,16 @@ CASES = {
         ("error", "more than 2,000 waypoints"),
         "2,100 waypoints (a cue sheet cannot hold them)",
     ),
+    "pole-to-pole-zigzag": (
+        _track(
+            "".join(
+                f'<trkpt lat="{80 if i % 2 else -80}" lon="{i * 0.001:.3f}"><ele>5</ele></trkpt>'
+                for i in range(300)
+            )
+        ),
+        ("error", "cardgen plans routes up to 10,000 km"),
+        "300 points alternating between latitudes 80 and −80: 5.3 million km, refused before resampling",
+    ),
 }
 
 
