@@ -1,28 +1,41 @@
 """Benchmark: an invented event of 300 riders on three routes (40, 100 and 160 km),
-from a CSV, built in full with --jobs 1 and with --jobs 2, then again after one
-rider's power changes. Reports, all from one run: wall times, the speed-up, the
-one-rider rebuild as a share of the full build (target <= 10 %), the print packs'
-share of the build (target <= 5 %), and peak memory (resident set of the build
-process and of its largest worker; target <= 1 GB). Not part of the test run.
+from a CSV, built in full, by this tree and by an earlier commit side by side in the
+same run (each in a fresh interpreter, one after the other, --jobs 2), then once more
+by this tree after one rider's power changes. Not part of the test run.
 
-    .venv/bin/python bench/bench_event.py [--no-pdf]
+Reports, all from one run: wall and CPU seconds of each full build (the CPU of the
+build process and all its workers), CPU seconds per card, WeasyPrint layouts per
+fitted card (counted by wrapping WeasyPrint's ``HTML.render`` in each build's process
+before its workers start, calls made while fitting a card), peak resident memory of
+the build process and of its largest worker (target <= 1 GB each), this tree's time
+as a share of the earlier commit's (target <= 0.35), the one-rider rebuild as a share
+of the full build (target <= 10 %) and the print packs' share (target <= 5 %).
+
+    .venv/bin/python bench/bench_event.py [--riders 300] [--baseline REV | --no-baseline]
+                                          [--no-pdf] [--jobs 2]
+
+``--baseline`` names the commit to compare with (default: the last commit before the
+fitter learned variants); it is unpacked with ``git archive`` into bench/out, no
+worktree is registered. ``--riders 3000 --no-baseline`` measures the scaling.
 """
 
 from __future__ import annotations
 
+import argparse
+import json
+import os
 import resource
 import shutil
+import subprocess
 import sys
-import time
 from pathlib import Path
 
 sys.path.insert(0, str(Path(__file__).resolve().parent))
 from bench_route import OUT, make_route  # noqa: E402
 
-from cardgen.build import build_site  # noqa: E402
-from cardgen.config import load_config  # noqa: E402
-
-RIDERS = 300
+ROOT = Path(__file__).resolve().parent.parent
+#: The last commit whose fitter searched by halving (three layouts per card).
+BASELINE = "0f5edd5"
 ROUTES = {"sportive-40": 4_000, "sportive-100": 10_000, "sportive-160": 16_000}  # points 10 m apart
 VEHICLES = (
     "road-hoods",
@@ -34,68 +47,139 @@ VEHICLES = (
     "e-assist-city",
 )
 
+#: Run in a fresh interpreter with the tree to measure first on sys.path: builds the
+#: site and prints one JSON line of figures.
+BUILD = r"""
+import inspect, json, os, resource, sys, time
+from pathlib import Path
+import weasyprint
+from cardgen.build import build_site
+from cardgen.config import load_config
 
-def _write_riders(folder: Path, changed: bool = False) -> None:
+site, out, jobs, pdf, count = sys.argv[1], sys.argv[2], int(sys.argv[3]), sys.argv[4] == "1", sys.argv[5]
+render = weasyprint.HTML.render
+
+def counted(self, *args, **kwargs):
+    names = {f.function for f in inspect.stack()[1:6]}
+    if names & {"fit", "write_fitting_pdf", "layout", "fits"}:
+        fd = os.open(count, os.O_WRONLY | os.O_APPEND | os.O_CREAT)
+        os.write(fd, b".")
+        os.close(fd)
+    return render(self, *args, **kwargs)
+
+weasyprint.HTML.render = counted
+t0 = time.perf_counter()
+report = build_site(load_config(Path(site)), Path(out), jobs=jobs, pdf=pdf)
+wall = time.perf_counter() - t0
+own, kids = resource.getrusage(resource.RUSAGE_SELF), resource.getrusage(resource.RUSAGE_CHILDREN)
+print(json.dumps({
+    "wall": wall,
+    "cpu": own.ru_utime + own.ru_stime + kids.ru_utime + kids.ru_stime,
+    "rss_own": own.ru_maxrss / 1024, "rss_worker": kids.ru_maxrss / 1024,
+    "cards": report.cards_rendered, "reused": report.cards_reused, "seconds": report.seconds,
+}))
+"""
+
+
+def _write_riders(folder: Path, riders: int, changed: bool = False) -> None:
     rows = ["name,vehicle,cp_w,flat_w,climb_w,bib,routes"]
     names = list(ROUTES)
-    for i in range(RIDERS):
+    for i in range(riders):
         cp = 120 + (i * 7) % 180
-        flat = int(cp * 0.7) + (5 if changed and i == RIDERS // 2 else 0)  # one mid-field rider
+        flat = int(cp * 0.7) + (5 if changed and i == riders // 2 else 0)  # one mid-field rider
         rows.append(
-            f"Entrant {i:03d},{VEHICLES[i % len(VEHICLES)]},{cp},{flat},{cp},{1000 + i},{names[i % len(names)]}"
+            f"Entrant {i:04d},{VEHICLES[i % len(VEHICLES)]},{cp},{flat},{cp},{1000 + i},{names[i % len(names)]}"
         )
     (folder / "entrants.csv").write_text("\n".join(rows) + "\n", encoding="utf-8")
 
 
-def _peak_mib() -> tuple[float, float]:
-    own = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024  # KiB on Linux
-    worker = resource.getrusage(resource.RUSAGE_CHILDREN).ru_maxrss / 1024
-    return own, worker
+def _unpack(revision: str) -> Path:
+    """The tree of ``revision`` in bench/out (``git archive``: no worktree registered)."""
+    tree = OUT / f"tree-{revision}"
+    if not (tree / "cardgen").is_dir():
+        shutil.rmtree(tree, ignore_errors=True)
+        tree.mkdir(parents=True)
+        archive = subprocess.run(
+            ["git", "-C", str(ROOT), "archive", revision], check=True, capture_output=True
+        ).stdout
+        subprocess.run(["tar", "-x", "-C", str(tree)], input=archive, check=True)
+    return tree
+
+
+def _build(tree: Path, site: Path, out: Path, jobs: int, pdf: bool) -> dict:
+    count = out.parent / f"{out.name}.layouts"
+    count.unlink(missing_ok=True)
+    env = {**os.environ, "PYTHONPATH": str(tree)}
+    done = subprocess.run(
+        [sys.executable, "-c", BUILD, str(site), str(out), str(jobs), "1" if pdf else "0", str(count)],
+        capture_output=True,
+        text=True,
+        env=env,
+        cwd=tree,
+    )
+    if done.returncode:
+        sys.exit(f"the build of {tree} failed:\n{done.stderr[-3000:]}")
+    figures = json.loads(done.stdout.strip().splitlines()[-1])
+    figures["layouts"] = count.stat().st_size if count.exists() else 0
+    fitted = figures["cards"] - len(ROUTES)  # the coach sheets are not fitted
+    figures["per_card"] = figures["layouts"] / fitted if fitted > 0 else float("nan")
+    return figures
+
+
+def _line(label: str, f: dict, riders: int) -> str:
+    return (
+        f"{label}: wall {f['wall']:.0f} s, CPU {f['cpu']:.0f} s ({f['cpu'] / riders:.2f} CPU-s per card), "
+        f"{f['cards']} cards rendered, layouts per fitted card {f['per_card']:.2f}, "
+        f"peak RSS build {f['rss_own']:.0f} MiB, largest worker {f['rss_worker']:.0f} MiB; phases "
+        + ", ".join(f"{k} {v:.1f}" for k, v in f["seconds"].items())
+    )
 
 
 def main() -> None:
-    pdf = "--no-pdf" not in sys.argv
-    folder = OUT / "event"
+    parser = argparse.ArgumentParser()
+    parser.add_argument("--riders", type=int, default=300)
+    parser.add_argument("--baseline", default=BASELINE)
+    parser.add_argument("--no-baseline", action="store_true")
+    parser.add_argument("--no-pdf", action="store_true")
+    parser.add_argument("--jobs", type=int, default=2)
+    args = parser.parse_args()
+    pdf = not args.no_pdf
+    folder = OUT / f"event-{args.riders}"
     shutil.rmtree(folder, ignore_errors=True)
     folder.mkdir(parents=True)
     for name, points in ROUTES.items():
         make_route(folder / f"{name}.gpx", points=points)
-    _write_riders(folder)
+    _write_riders(folder, args.riders)
     (folder / "site.toml").write_text(
         'riders = "entrants.csv"\n[site]\ntitle = "Invented sportive"\n[event]\nstart = "07:00"\n'
         "start_interval_min = 0.5\n" + "".join(f'[[routes]]\ngpx = "{n}.gpx"\n' for n in ROUTES),
         encoding="utf-8",
     )
-    walls, reports = {}, {}
-    for jobs in (1, 2):
-        out = folder / f"site-{jobs}"
-        t0 = time.perf_counter()
-        reports[jobs] = build_site(load_config(folder / "site.toml"), out, jobs=jobs, pdf=pdf)
-        walls[jobs] = time.perf_counter() - t0
-    _write_riders(folder, changed=True)
-    t0 = time.perf_counter()
-    again = build_site(load_config(folder / "site.toml"), folder / "site-2", jobs=2, pdf=pdf)
-    rebuild = time.perf_counter() - t0
-    own, worker = _peak_mib()
-    full = reports[2]
-    print(f"{RIDERS} riders on 40, 100 and 160 km, {'with' if pdf else 'without'} PDFs")
+    site = folder / "site.toml"
     print(
-        f"full build: --jobs 1 {walls[1]:.0f} s, --jobs 2 {walls[2]:.0f} s (speed-up {walls[1] / walls[2]:.2f}x)"
+        f"{args.riders} riders on 40, 100 and 160 km, {'with' if pdf else 'without'} PDFs, --jobs {args.jobs}"
     )
+    before = None
+    if not args.no_baseline:
+        before = _build(_unpack(args.baseline), site, folder / "site-before", args.jobs, pdf)
+        print(_line(f"commit {args.baseline}", before, args.riders))
+    now = _build(ROOT, site, folder / "site", args.jobs, pdf)
+    print(_line("this tree", now, args.riders))
+    if before:
+        print(
+            f"this tree / commit {args.baseline}: wall {now['wall'] / before['wall']:.2f}, "
+            f"CPU {now['cpu'] / before['cpu']:.2f} (target <= 0.35)"
+        )
+    _write_riders(folder, args.riders, changed=True)
+    again = _build(ROOT, site, folder / "site", args.jobs, pdf)
     print(
-        f"cards rendered {full.cards_rendered}; seconds by phase (--jobs 2): "
-        + ", ".join(f"{k} {v:.1f}" for k, v in full.seconds.items())
+        f"one rider changed: {again['wall']:.1f} s, {again['wall'] / now['wall']:.1%} of the full build "
+        f"(target <= 10 %); {again['cards']} cards rendered, {again['reused']} reused"
     )
-    packs = full.seconds.get("packs", 0.0)
-    print(f"print packs: {packs:.1f} s, {packs / walls[2]:.1%} of the build (target <= 5 %)")
-    print(
-        f"one rider changed: {rebuild:.1f} s, {rebuild / walls[2]:.1%} of the full build (target <= 10 %); "
-        f"{again.cards_rendered} cards rendered, {again.cards_reused} reused"
-    )
-    print(
-        f"peak resident memory: build process {own:.0f} MiB, largest worker {worker:.0f} MiB "
-        f"(target: each at most 1024 MiB)"
-    )
+    packs = now["seconds"].get("packs", 0.0)
+    print(f"print packs: {packs:.1f} s, {packs / now['wall']:.1%} of the build (target <= 5 %)")
+    own = resource.getrusage(resource.RUSAGE_CHILDREN).ru_maxrss / 1024
+    print(f"largest process of the whole run: {own:.0f} MiB (target: each at most 1024 MiB)")
 
 
 if __name__ == "__main__":

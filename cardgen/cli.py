@@ -473,22 +473,23 @@ def _say_config(config) -> None:
         _print(f"cardgen: note: {note}", file=sys.stderr)
 
 
-def _print_waves(config) -> None:
-    """Each start wave's first and last start, over every route its riders ride."""
-    from cardgen.config import plural, rider_start
+#: Riders named by ``check`` (a field of thousands is counted, not listed).
+CHECK_NAMES = 12
 
-    for wave in config.waves:
-        starts = sorted(
-            start
-            for i, rc in enumerate(config.riders)
-            for route in config.routes
-            if rc.rides(route, route.name or route.gpx.stem)
-            for start, name in [rider_start(config, i, route)]
-            if name == wave.name and start is not None
-        )
-        if starts:
+
+def _print_waves(config) -> None:
+    """Each start wave's riders and first and last start (one start line per wave,
+    whatever the routes its riders ride)."""
+    from cardgen.config import plural
+    from cardgen.plan.starts import event_starts
+
+    starts = event_starts(config)
+    shown = "%H:%M:%S" if starts.to_second else "%H:%M"
+    for wave in starts.waves:
+        if wave.riders and wave.first and wave.last:
             _print(
-                f"wave {wave.name}: {plural(len(starts), 'start')}, first {starts[0]:%H:%M}, last {starts[-1]:%H:%M}"
+                f"wave {wave.name}: {plural(wave.riders, 'start')}, first {wave.first:{shown}}, "
+                f"last {wave.last:{shown}}"
             )
         else:
             _print(f"wave {wave.name}: no riders start in it")
@@ -520,7 +521,13 @@ def cmd_check(args) -> int:
         )
         for warning in analysis.warnings:
             _print(f"cardgen: warning: {route.gpx.name}: {warning}", file=sys.stderr)
-    _print(f"{plural(len(config.riders), 'rider')}: " + "; ".join(r.rider.name for r in config.riders))
+    names = [r.rider.name for r in config.riders[:CHECK_NAMES]]
+    more = len(config.riders) - len(names)
+    _print(
+        f"{plural(len(config.riders), 'rider')}: "
+        + "; ".join(names)
+        + (f"; and {more:,} more" if more > 0 else "")
+    )
     _print_waves(config)
     if problems:
         raise CardgenError("\n  ".join([f"{plural(len(problems), 'route problem')}:"] + problems))

@@ -41,6 +41,7 @@ routes = ["day-ride"]
 name = "Late"
 start = "09:40"
 interval_min = 3
+routes = ["day-ride"]
 
 [[routes]]
 gpx = "day-ride.gpx"

@@ -24,7 +24,7 @@ from pathlib import Path
 from cardgen import __version__
 from cardgen.build.cache import digest, file_digest, read_manifest, templates_digest, write_manifest
 from cardgen.build.publish import TMP, BuildError, Lock, check_output, publish, recover, side_name
-from cardgen.config import plural, rider_start
+from cardgen.config import plural
 from cardgen.errors import CardgenError
 from cardgen.io.gpx import MAX_FILE_BYTES
 from cardgen.paths import default_templates
@@ -46,6 +46,7 @@ class BuildReport:
     cards_rendered: int = 0
     cards_reused: int = 0
     up_to_date: bool = False
+    layouts: int = 0  # WeasyPrint layouts made for the cards rendered
     failed: list[str] = field(default_factory=list)
     seconds: dict[str, float] = field(default_factory=dict)
 
@@ -58,6 +59,7 @@ class _Route:
     slug: str
     key: str
     job: object = None  # RouteJob once planned
+    starts: dict = field(default_factory=dict)  # rider index → Start on this route
 
 
 def build_site(
@@ -117,7 +119,7 @@ def _plan_route(task):
     from cardgen.route.cues import apply_cue_texts
     from cardgen.route.terrain import build_terrain
 
-    route, config = task
+    route, config, starts = task  # starts: rider index → Start on this route
     rc = route.config
     try:
         track = read_gpx(rc.gpx)
@@ -133,12 +135,13 @@ def _plan_route(task):
         riders = tuple(
             Entry(
                 r.rider.name,
-                *rider_start(config, i, rc),
+                starts[i].at,
+                starts[i].wave,
                 make_plan(analysis, rider=r.rider, conditions=config.conditions, stops=stops).lightened(),
                 r.bib,
             )
             for i, r in enumerate(config.riders)
-            if r.rides(rc, rc.name or rc.gpx.stem)
+            if i in starts
         )
         job = RouteJob(route.slug, rc.name or track.name, rc.notes, analysis, tuple(checkpoints), riders)
         return job, None
@@ -169,33 +172,37 @@ def card_key(card) -> str:
     )
 
 
-def _render_pdf(card):
-    """Worker: one card's HTML → PDF file: the first of its condensed variants that
-    fits its page budget (the last one otherwise)."""
-    from cardgen.render.pdf import write_fitting_pdf, write_pdf
+def _render_pdfs(cards) -> tuple[list[str], int]:
+    """Worker: cards' HTML → PDF files, each the first of its condensed variants that
+    fits its page budget (the last one otherwise), by one fitter that learns from the
+    cards before (:class:`cardgen.render.pdf.Fitter`). Returns the files and the
+    layouts made."""
+    from cardgen.render.pdf import Fitter, write_pdf
 
-    if card.variants:
-        write_fitting_pdf(card.variants, Path(card.base), Path(card.target), card.budget)
-    else:
-        write_pdf(card.html, Path(card.base), Path(card.target))
-    return card.target
+    fitter = Fitter()
+    for card in cards:
+        if card.variants:
+            fitter.fit(card.variants, Path(card.base), Path(card.target), card.budget, card.group)
+        else:
+            write_pdf(card.html, Path(card.base), Path(card.target))
+    return [c.target for c in cards], fitter.layouts
 
 
-def _routes(config: SiteConfig, shared: str) -> list[_Route]:
+def _routes(config: SiteConfig, shared: str, starts) -> list[_Route]:
     from cardgen.render.html import slugify
 
     taken: set[str] = set()
     routes = []
-    for rc in config.routes:
+    for k, rc in enumerate(config.routes):
         slug = slugify(rc.name or rc.gpx.stem, taken)
-        riders = [(i, r) for i, r in enumerate(config.riders) if r.rides(rc, rc.name or rc.gpx.stem)]
+        mine = dict(starts.route_starts(k))
         key = digest(
             shared,
             file_digest(rc.gpx, MAX_FILE_BYTES),
             rc,  # name, notes, checkpoints, its start and stops
-            *[(i, r, rider_start(config, i, rc)) for i, r in riders],  # riders with their starts
+            *[(i, config.riders[i], (s.at, s.wave)) for i, s in mine.items()],  # riders with their starts
         )
-        routes.append(_Route(rc, slug, key))
+        routes.append(_Route(rc, slug, key, starts=mine))
     return routes
 
 
@@ -221,7 +228,9 @@ def _build_locked(config, out, jobs, pdf, keep_going, say, progress, report):
         epoch,
     )
     old = read_manifest(out)
-    routes = _routes(config, shared)
+    from cardgen.plan.starts import event_starts
+
+    routes = _routes(config, shared, event_starts(config))
     site_key = digest(shared, *[r.key for r in routes], *[r.slug for r in routes])
     report.routes = len(routes)
     if old.get("site_key") == site_key and all((out / r.slug).is_dir() for r in routes):
@@ -241,7 +250,7 @@ def _build_locked(config, out, jobs, pdf, keep_going, say, progress, report):
     failures = []
     with _pool(jobs, len(todo)) as pool:
         for route, (job, error) in zip(
-            todo, _map(pool, _plan_route, [(r, config) for r in todo]), strict=True
+            todo, _map(pool, _plan_route, [(r, config, r.starts) for r in todo]), strict=True
         ):
             if error:
                 failures.append(error)
@@ -282,29 +291,49 @@ def _build_locked(config, out, jobs, pdf, keep_going, say, progress, report):
     return report
 
 
-def _render_cards(pool, cards: list, jobs: int, tmp: Path, progress) -> None:
-    """Render the cards' PDFs, in the pool (or this process) for a few; for many, in
-    fresh worker processes for every batch: the renderer's memory grows with the cards
-    a process has made (over 1 GB after 150), so no process makes more than
-    :data:`CARDS_PER_WORKER`."""
-    done = 0
+def card_batches(cards: list, size: int) -> list[list]:
+    """The cards in batches of at most ``size``, each from one route and, within it,
+    by vehicle kind: the cards of a batch share their drawings and their fitter learns
+    the variant of each kind from the first card of that kind."""
+    by_route: dict[str, list] = {}
+    for card in cards:
+        by_route.setdefault(card.base, []).append(card)
+    batches = []
+    for members in by_route.values():
+        members.sort(key=lambda c: (getattr(c, "group", ""), c.target))
+        batches += [members[i : i + size] for i in range(0, len(members), size)]
+    return batches
 
-    def tick(target: str) -> None:
-        nonlocal done
-        done += 1
-        if progress:
-            progress(done, len(cards), Path(target).relative_to(tmp).as_posix())
 
-    if len(cards) <= CARDS_PER_WORKER:
-        for target in _map(pool, _render_pdf, cards, "a card-rendering process"):
-            tick(target)
-        return
+def _render_cards(pool, cards: list, jobs: int, tmp: Path, progress) -> int:
+    """Render the cards' PDFs in batches (:func:`card_batches`): in this process for
+    one job, else in worker processes that each make one batch and end: the
+    renderer's memory grows with the cards a process has made (over 1 GB after 150),
+    so no process makes more than :data:`CARDS_PER_WORKER`. Returns the layouts made."""
+    done = layouts = 0
     workers = max(1, jobs)
-    for start in range(0, len(cards), CARDS_PER_WORKER * workers):
-        batch = cards[start : start + CARDS_PER_WORKER * workers]
-        with ProcessPoolExecutor(max_workers=min(workers, len(batch))) as fresh:
-            for target in _map(fresh, _render_pdf, batch, "a card-rendering process"):
-                tick(target)
+    batches = card_batches(cards, max(1, min(CARDS_PER_WORKER, -(-len(cards) // workers))))
+
+    def tick(targets: list[str]) -> None:
+        nonlocal done
+        for target in targets:
+            done += 1
+            if progress:
+                progress(done, len(cards), Path(target).relative_to(tmp).as_posix())
+
+    if len(batches) <= 1:
+        for batch in batches:
+            targets, made = _render_pdfs(batch)
+            layouts += made
+            tick(targets)
+        return layouts
+    for start in range(0, len(batches), workers):  # fresh processes for every round
+        round_ = batches[start : start + workers]
+        with ProcessPoolExecutor(max_workers=len(round_)) as fresh:
+            for targets, made in _map(fresh, _render_pdfs, round_, "a card-rendering process"):
+                layouts += made
+                tick(targets)
+    return layouts
 
 
 def _render(config, routes, old, out, tmp, pool, pdf, progress, report, reusable, jobs=1) -> dict:
@@ -350,7 +379,7 @@ def _render(config, routes, old, out, tmp, pool, pdf, progress, report, reusable
     report.seconds["html"] = time.perf_counter() - t_render
 
     t_pdf = time.perf_counter()
-    _render_cards(pool, cards, jobs, tmp, progress)
+    report.layouts = _render_cards(pool, cards, jobs, tmp, progress)
     report.cards_rendered = len(cards)
     report.seconds["pdf"] = time.perf_counter() - t_pdf
 

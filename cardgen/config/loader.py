@@ -11,7 +11,7 @@ import dataclasses
 import math
 import re
 from dataclasses import dataclass
-from datetime import date, datetime, time, timedelta
+from datetime import date, datetime, time
 from pathlib import Path
 from typing import Any
 
@@ -557,6 +557,11 @@ def _waves(
     waves = []
     for i, table in enumerate(raw):
         w = check.table("waves", table, i, folder)
+        if isinstance(table, dict) and not (w["riders"] or w["routes"]):
+            check.problems.append(
+                f"{check.where('waves', i, 'name')}: the wave names neither riders nor routes; "
+                'add riders = ["..."] or routes = ["..."] (a wave never takes everyone)'
+            )
         for kind, names, known in (
             ("rider", w["riders"] or (), riders),
             ("route", w["routes"] or (), route_names),
@@ -814,44 +819,14 @@ def _default_site(
 def rider_start(
     config: SiteConfig, index: int, route: RouteConfig | None = None
 ) -> tuple[datetime | None, str | None]:
-    """The index-th rider's start on ``route``, and the name of their wave (or None).
+    """The index-th rider's start on ``route`` (the first route when None), and the
+    name of their wave (or None): one look-up in :func:`cardgen.plan.starts.event_starts`,
+    which computes every start of the event at once (use it directly for many riders)."""
+    from cardgen.plan.starts import event_starts
 
-    First the rider's own ``start``; then the first wave that names them, or their
-    route, or that names neither riders nor routes (its riders spaced by its interval,
-    in the order of the configuration); then the route's own ``start``; then the
-    event's start. Riders of one start group are spaced by its interval."""
-    rc = config.riders[index]
-    day = config.day or (config.start.date() if config.start else date(2000, 1, 1))
-    if rc.start is not None:
-        return datetime.combine(day, rc.start), None
-    route_name = (route.name or route.gpx.stem) if route is not None else None
-
-    def on_route(other: RiderConfig) -> bool:
-        return route is None or other.rides(route, route_name or "")
-
-    def matches(other: RiderConfig, wave: Wave) -> bool:
-        if other.start is not None or not on_route(other):
-            return False
-        named = other.rider.name in wave.riders
-        routed = route is not None and any(
-            n in wave.routes for n in (route.gpx.name, route.gpx.stem, route.name)
-        )
-        return named or routed or (not wave.riders and not wave.routes)
-
-    def wave_of(other: RiderConfig) -> Wave | None:  # a rider starts in the first wave that takes them
-        return next((w for w in config.waves if matches(other, w)), None)
-
-    wave = wave_of(rc)
-    if wave is not None:
-        k = [other for other in config.riders if wave_of(other) is wave].index(rc)
-        return datetime.combine(day, wave.start) + timedelta(seconds=k * wave.interval), wave.name
-    if route is not None and route.start is not None:
-        group = [other for other in config.riders if other.start is None and on_route(other)]
-        k = group.index(rc) if rc in group else 0
-        return datetime.combine(day, route.start) + timedelta(seconds=k * config.start_interval), None
-    if config.start is None:
-        return None, None
-    return config.start + timedelta(seconds=index * config.start_interval), None
+    k = config.routes.index(route) if route is not None else 0
+    start = event_starts(config).of(index, k)
+    return start.at, start.wave
 
 
 def reference_table() -> str:

@@ -117,16 +117,21 @@ def plan_dict(plan) -> dict:
     }
 
 
-def plan_json_text(route_name: str, plans, entries=(), windows=(), dated: bool = False) -> str:
+def plan_json_text(
+    route_name: str, plans, entries=(), windows=(), dated: bool = False, to_second: bool = False
+) -> str:
     """All riders' plans of one route as JSON text (stable key order), with each
     rider's start, bib and wave, their arrival at each checkpoint and the finish, and
     the checkpoints' windows (docs/contracts.md). Times are local "HH:MM", or ISO 8601
-    date-times when the event has a date."""
+    date-times when the event has a date; to the second ("HH:MM:SS") when the
+    event's starts are seconds apart (``to_second``)."""
 
     def when(moment):
         if moment is None:
             return None
-        return moment.isoformat(timespec="minutes") if dated else moment.strftime("%H:%M")
+        if dated:
+            return moment.isoformat(timespec="seconds" if to_second else "minutes")
+        return moment.strftime("%H:%M:%S" if to_second else "%H:%M")
 
     def arrival(plan, start, distance):
         if start is None:

@@ -114,6 +114,15 @@ def clock(start: datetime | None, seconds) -> str:
     return when.strftime("%H:%M")
 
 
+def start_clock(moment, to_second: bool = False) -> str:
+    """A start's time of day: "09:30", or "09:30:30" when the event's starts are
+    seconds apart (half-minute starts would otherwise print as repeated minutes);
+    "–" without one."""
+    if moment is None:
+        return "–"
+    return moment.strftime("%H:%M:%S" if to_second else "%H:%M")
+
+
 @_dash_if_missing
 def food(joules) -> str:
     """ "1,240 kcal"."""

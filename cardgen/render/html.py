@@ -112,6 +112,7 @@ def environment(override: Path | None = None, units: str = "metric") -> jinja2.E
         cautions=CAUTIONS,
         symbols=SYMBOLS,
         clock=fmt.clock,
+        start_clock=fmt.start_clock,
         cautions_for=cautions_for,
         legend_for=legend_for,
     )
@@ -127,6 +128,8 @@ class RiderView:
     plan: Plan
     card: str  # file name of the PDF card
     start: datetime | None
+    bib: int | None = None
+    wave: str | None = None
 
 
 def cautions_for(plan: Plan) -> tuple[str, ...]:

@@ -82,6 +82,7 @@ class CardSource:
     target: str
     variants: tuple[str, ...] = ()
     budget: int = 0
+    group: str = ""  # cards of one group fit alike: the vehicle kind
 
 
 #: The order in which a card is condensed until it fits its page budget, never
@@ -103,13 +104,29 @@ def built_stamp(source_date_epoch: str | None) -> str:
 
 
 def site_context(config, built: str = "") -> dict:
-    """What every page knows of the site."""
-    event_line = ""
+    """What every page knows of the site, the event's real starts included: each
+    wave's first and last start, and the open start of the riders outside waves."""
+    from cardgen.plan.starts import event_starts
+
+    starts = event_starts(config)
+    to_second = starts.to_second
     day = config.day.strftime("%A %d %B %Y") if config.day else ""
-    if config.start is not None:
-        event_line = f"Start {day + ', ' if day else ''}{config.start.strftime('%H:%M')}"
+    parts = []
+    for wave in starts.waves:
+        if wave.first is None:
+            continue
+        span = fmt.start_clock(wave.first, to_second)
+        if wave.last != wave.first:
+            span += "–" + fmt.start_clock(wave.last, to_second)
+        parts.append(f"wave {wave.name} {span} ({wave.riders} rider{'s' if wave.riders != 1 else ''})")
+    if config.start is not None and (starts.open_start or not parts):
+        line = f"{'other riders from ' if parts else ''}{fmt.start_clock(config.start, to_second)}"
         if config.start_interval:
-            event_line += f", riders {config.start_interval / 60:.0f} min apart"
+            line += f", riders {_interval_text(config.start_interval)} apart"
+        parts.append(line)
+    event_line = ""
+    if parts:
+        event_line = f"Start {day + ': ' if day else ''}" + "; ".join(parts)
     elif day:
         event_line = day
     return {
@@ -122,7 +139,25 @@ def site_context(config, built: str = "") -> dict:
         "built": built,
         "event_line": event_line,
         "card_size": config.card_size,
+        "to_second": to_second,
     }
+
+
+def _start_span(job, to_second: bool) -> str:
+    """The route's first and last start ("06:45–07:31"), or "" without starts."""
+    starts = sorted(e.start for e in job.riders if e.start is not None)
+    if not starts:
+        return ""
+    first, last = fmt.start_clock(starts[0], to_second), fmt.start_clock(starts[-1], to_second)
+    return first if first == last else f"{first}–{last}"
+
+
+def _interval_text(seconds: float) -> str:
+    """ "2 min", "30 s", "1 min 30 s"."""
+    minutes, rest = divmod(round(seconds), 60)
+    if not rest:
+        return f"{minutes} min"
+    return f"{minutes} min {rest} s" if minutes else f"{rest} s"
 
 
 #: Paper [mm] (width, height), margins [mm] (top, sides, bottom), body type size and
@@ -220,10 +255,14 @@ def _write_plots(config, job: RouteJob, folder: Path) -> dict:
     }
 
 
-def _write_exports(config, job: RouteJob, plans: list[Plan], folder: Path, windows: list) -> str:
+def _write_exports(
+    config, job: RouteJob, plans: list[Plan], folder: Path, windows: list, to_second: bool = False
+) -> str:
     """plan.json, climbs.csv, route.gpx and the QR code; returns the QR's target URL."""
     analysis = job.analysis
-    text = exports.plan_json_text(job.name, plans, job.riders, windows, dated=config.day is not None)
+    text = exports.plan_json_text(
+        job.name, plans, job.riders, windows, dated=config.day is not None, to_second=to_second
+    )
     (folder / "plan.json").write_text(text, encoding="utf-8")
     (folder / "climbs.csv").write_text(exports.climbs_csv_text(plans), encoding="utf-8")
     (folder / "route.gpx").write_text(
@@ -271,7 +310,7 @@ def _render_route(config, site: dict, job: RouteJob, folder: Path) -> tuple[dict
     views: list[RiderView] = []
     for e in job.riders:
         slug = slugify(e.name, taken)  # unique within the route: it names the card file
-        views.append(RiderView(e.name, slug, e.plan, f"{slug}.pdf", e.start))
+        views.append(RiderView(e.name, slug, e.plan, f"{slug}.pdf", e.start, e.bib, e.wave))
     plans: list[Plan] = [v.plan for v in views]
     windows: list = []
     margin_text = ""
@@ -300,15 +339,15 @@ def _render_route(config, site: dict, job: RouteJob, folder: Path) -> tuple[dict
         "climbs": analysis.climbs,
         "descents": analysis.descents,
         "cues": analysis.cues,
-        "start": config.start,
-        "start_text": config.start.strftime("%H:%M") if config.start else "",
+        "start": config.start or any(e.start for e in job.riders),
+        "start_text": _start_span(job, site.get("to_second", False)),
     }
     common = dict(site=site, route=route, units=units, version=__version__, symbols_for=symbols_for)
     (folder / "index.html").write_text(
         env.get_template("route.html").render(
             **common,
             riders=views,
-            overview=route_overview(job, views),
+            overview=route_overview(job, views, site.get("to_second", False)),
             profile_alt=figures["profile_alt"],
             map_alt=figures["map_alt"],
             power_svg=figures["power_svg"],
@@ -319,7 +358,7 @@ def _render_route(config, site: dict, job: RouteJob, folder: Path) -> tuple[dict
         ),
         encoding="utf-8",
     )
-    qr = _write_exports(config, job, plans, folder, windows)
+    qr = _write_exports(config, job, plans, folder, windows, site.get("to_second", False))
     page = page_geometry(config.card_size, config.large_print)
     feeds = [(c.distance, c.name) for c in job.checkpoints]
     temperature = config.conditions.temperature
@@ -356,7 +395,16 @@ def _render_route(config, site: dict, job: RouteJob, folder: Path) -> tuple[dict
             card_template.render(**context, condense=min(level, 3), continuation=level >= 4)
             for level in range(CONDENSE_STEPS + 1)
         )
-        cards.append(CardSource(variants[0], str(folder), str(folder / view.card), variants, page["budget"]))
+        cards.append(
+            CardSource(
+                variants[0],
+                str(folder),
+                str(folder / view.card),
+                variants,
+                page["budget"],
+                view.plan.rider.vehicle.name,
+            )
+        )
     if views:
         ordered = sorted(views, key=lambda v: (v.start.isoformat() if v.start else "~", v.name))
         groups = [ordered[i : i + COACH_GROUP] for i in range(0, len(ordered), COACH_GROUP)]
@@ -368,7 +416,7 @@ def _render_route(config, site: dict, job: RouteJob, folder: Path) -> tuple[dict
             together=group_spread(job, views),
         )
         cards.append(CardSource(html, str(folder), str(folder / "coach.pdf")))
-    return route_summary(job, views, units), cards
+    return route_summary(job, views, units, site.get("to_second", False)), cards
 
 
 def watch_list(plan: Plan, units: str) -> list[dict]:
@@ -534,7 +582,7 @@ def _clock_text(moment) -> str:
     return fmt.clock(None, moment)
 
 
-def route_overview(job: RouteJob, views) -> dict:
+def route_overview(job: RouteJob, views, to_second: bool = False) -> dict:
     """The route page's tables for any number of riders: per climb, descent, cue and
     checkpoint a summary over riders (fastest, median, slowest), and one row per
     rider."""
@@ -580,7 +628,8 @@ def route_overview(job: RouteJob, views) -> dict:
             "name": v.name,
             "bib": e.bib,
             "vehicle": v.plan.rider.vehicle.label,
-            "start": e.start.strftime("%H:%M") if e.start else "–",
+            "start": fmt.start_clock(e.start, to_second),
+            "wave": e.wave,
             "finish": _clock_text(_when(e.start, v.plan.finish_elapsed)),
             "moving": v.plan.totals.time,
             "warnings": sum(len(r.warnings) for r in v.plan.climbs)
@@ -632,13 +681,13 @@ def group_spread(job: RouteJob, views) -> list[dict]:
     return groups
 
 
-def _pack_order(job: RouteJob, views) -> list[dict]:
+def _pack_order(job: RouteJob, views, to_second: bool = False) -> list[dict]:
     """The route's cards in start order (then bib, then name): who, bib, start, file."""
     rows = [
         {
             "name": v.name,
             "bib": e.bib,
-            "start": e.start.strftime("%H:%M") if e.start else "",
+            "start": fmt.start_clock(e.start, to_second) if e.start else "",
             "sort": e.start.isoformat() if e.start else "~",
             "card": v.card,
         }
@@ -693,7 +742,7 @@ def render_packs(config, routes: list[tuple[str, dict]], folder: Path, fresh: se
     return written
 
 
-def route_summary(job: RouteJob, views, units: str) -> dict:
+def route_summary(job: RouteJob, views, units: str, to_second: bool = False) -> dict:
     """One line of the index: distance, climbing, the hardest climb, riders' times."""
     terrain = job.analysis.terrain
     hardest = _hardest(job.analysis.climbs)
@@ -708,7 +757,7 @@ def route_summary(job: RouteJob, views, units: str) -> dict:
             else "none"
         ),
         "times": {v.name: v.plan.totals.time for v in views},
-        "pack": _pack_order(job, views),
+        "pack": _pack_order(job, views, to_second),
         "cards": [v.card for v in views] + (["coach.pdf"] if views else []),
     }
 

@@ -7,10 +7,12 @@ everything else (network, data from elsewhere on the disk).
 
 from __future__ import annotations
 
+import contextlib
+import gc
 import logging
 import mimetypes
+from collections.abc import Iterator
 from pathlib import Path
-from typing import Any
 from urllib.parse import urlsplit
 from urllib.request import url2pathname
 
@@ -61,47 +63,91 @@ def write_pdf(html: str, base: Path, target: Path) -> list[str]:
     return fetcher.refused
 
 
-def write_fitting_pdf(variants, base: Path, target: Path, budget: int) -> tuple[int, int]:
-    """Write the least condensed variant of a card whose layout is within ``budget``
-    pages; when none of them fits, the last (the cue sheet on a continuation sheet:
-    up to twice the budget, padded to whole sheets). Returns (variant index, pages).
+class Fitter:
+    """Chooses each card's variant with as few WeasyPrint layouts as it can, learning
+    from the cards it has laid out.
 
-    Condensing never adds pages, so the variants are searched by halving: at most
-    three layouts for five variants. The layout written is the one measured: the
-    check and the printed card are the same pages.
+    Cards of one group (one route, card size and vehicle kind: ``group`` of
+    :meth:`fit`) differ only by the rider's own notices and figures, so a variant that
+    overflowed for one card overflows for every card of the group whose HTML is no
+    shorter. The variants are tried from the least condensed; a variant is skipped
+    only when a card of the group with no longer HTML has already overflowed it.
+    The first variant tried that fits is written, from the very layout that was
+    measured (the check and the printed card are the same pages); when none fits,
+    the last (the cue sheet on a continuation sheet) is written, ended on a whole sheet.
+
+    The rule is a prediction only in one direction: it may skip a variant that
+    would have fitted a card with fewer but longer words (the card is then condensed
+    one step more than it needs), never print a card over its budget.
+
+    One fitter serves the cards of one process: drawings that every card of a route
+    shows alike are parsed once (WeasyPrint's image ``cache``).
     """
-    from weasyprint import HTML
 
-    logging.getLogger("weasyprint").setLevel(logging.ERROR)
-    fetcher = build_only_fetcher(base)
-    url = base.resolve().as_uri() + "/"
-    last = len(variants) - 1
-    laid: dict[int, Any] = {}
+    def __init__(self) -> None:
+        #: group → variant index → the shortest HTML (characters) seen to overflow it
+        self.overflowed: dict[object, dict[int, int]] = {}
+        self.cache: dict = {}
+        self.layouts = 0
 
-    def layout(index: int):
-        if index not in laid:
-            laid[index] = HTML(string=variants[index], base_url=url, url_fetcher=fetcher).render(
-                pdf_tags=True
+    def _skip(self, group, index: int, html: str) -> bool:
+        shortest = self.overflowed.get(group, {}).get(index)
+        return shortest is not None and len(html) >= shortest
+
+    def _learn(self, group, index: int, html: str) -> None:
+        seen = self.overflowed.setdefault(group, {})
+        seen[index] = min(seen.get(index, len(html)), len(html))
+
+    def fit(self, variants, base: Path, target: Path, budget: int, group=None) -> tuple[int, int]:
+        """Write the least condensed variant of a card whose layout is within
+        ``budget`` pages (the last when none is). Returns (variant index, pages)."""
+        from weasyprint import HTML
+
+        logging.getLogger("weasyprint").setLevel(logging.ERROR)
+        fetcher = build_only_fetcher(base)
+        url = base.resolve().as_uri() + "/"
+        last = len(variants) - 1
+        for index, html in enumerate(variants):
+            if index < last and self._skip(group, index, html):
+                continue
+            with _quiet_collector():
+                document = HTML(string=html, base_url=url, url_fetcher=fetcher).render(
+                    pdf_tags=True, cache=self.cache
+                )
+            self.layouts += 1
+            pages = len(document.pages)
+            if pages <= budget or index == last:
+                break
+            self._learn(group, index, html)
+        with _quiet_collector():
+            document.write_pdf(
+                target, pdf_identifier=b"cardgen", uncompressed_pdf=False, pdf_tags=True, cache=self.cache
             )
-        return laid[index]
+        if index == last and pages % 2:  # the continuation is a whole sheet: end on a back page
+            _add_blank_page(target)
+            pages += 1
+        return index, pages
 
-    def fits(index: int) -> bool:
-        return len(layout(index).pages) <= budget
 
-    lo, hi = 0, last  # the answer lies in lo..hi; the last variant is always taken
-    while lo < hi:
-        mid = (lo + hi) // 2
-        if fits(mid):
-            hi = mid
-        else:
-            lo = mid + 1
-    document = layout(lo)
-    pages = len(document.pages)
-    document.write_pdf(target, pdf_identifier=b"cardgen", uncompressed_pdf=False, pdf_tags=True)
-    if lo == last and pages % 2:  # the continuation is a whole sheet: end on a back page
-        _add_blank_page(target)
-        pages += 1
-    return lo, pages
+@contextlib.contextmanager
+def _quiet_collector() -> Iterator[None]:
+    """Python's cyclic garbage collector paused while WeasyPrint builds a layout (it
+    makes hundreds of thousands of short-lived objects; collecting between them costs
+    about a third of the time), and run once after."""
+    was = gc.isenabled()
+    gc.disable()
+    try:
+        yield
+    finally:
+        if was:
+            gc.enable()
+            gc.collect(1)
+
+
+def write_fitting_pdf(variants, base: Path, target: Path, budget: int) -> tuple[int, int]:
+    """One card fitted by a fitter of its own (see :class:`Fitter`): the least
+    condensed variant within ``budget`` pages. Returns (variant index, pages)."""
+    return Fitter().fit(variants, base, target, budget)
 
 
 def _add_blank_page(target: Path) -> None:
