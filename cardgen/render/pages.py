@@ -20,7 +20,7 @@ from cardgen import __version__
 from cardgen.errors import CardgenError
 from cardgen.plan import Analysis, Plan, checkpoint_windows
 from cardgen.plan.fuel import carb_rate, fluid_rate, legs
-from cardgen.render import exports, plots
+from cardgen.render import advice, exports, plots
 from cardgen.render import format as fmt
 from cardgen.render.html import RiderView, environment, slugify, symbol_of, symbols_for, theme_file
 from cardgen.render.notices import notice_text
@@ -342,7 +342,16 @@ def _render_route(config, site: dict, job: RouteJob, folder: Path) -> tuple[dict
         "start": config.start or any(e.start for e in job.riders),
         "start_text": _start_span(job, site.get("to_second", False)),
     }
-    common = dict(site=site, route=route, units=units, version=__version__, symbols_for=symbols_for)
+    common = dict(
+        site=site,
+        route=route,
+        units=units,
+        version=__version__,
+        symbols_for=symbols_for,
+        effort_line=functools.partial(advice.effort_line, units=units),
+        climb_advice=functools.partial(advice.climb_advice, units=units),
+        descent_advice=functools.partial(advice.descent_advice, units=units),
+    )
     (folder / "index.html").write_text(
         env.get_template("route.html").render(
             **common,
