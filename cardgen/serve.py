@@ -2,12 +2,19 @@
 
 Only the site's own files are served: a path with a NUL byte is a bad request, and a
 link that leads out of the site is not found. Idle connections time out, the number
-served at once is bounded, and a client that goes away is not an error.
+served at once is bounded, and a client that goes away is not an error. A request
+must arrive whole (its line and headers) within :data:`HEADER_SECONDS`, however
+slowly its bytes trickle in; and when every connection slot is taken, a new client
+takes the slot of the connection that has waited longest without sending a whole
+request, so that half-sent requests cannot lock the server.
 """
 
 from __future__ import annotations
 
+import contextlib
+import socket
 import threading
+import time
 import urllib.parse
 from collections.abc import Callable
 from http.server import SimpleHTTPRequestHandler, ThreadingHTTPServer
@@ -18,6 +25,11 @@ from typing import Any
 IDLE_SECONDS = 20
 #: Connections served at once; more are closed at once.
 MAX_CONNECTIONS = 32
+#: Seconds a request's line and headers may take to arrive, in all (a browser sends
+#: them in one packet; a client trickling a byte at a time is cut off).
+HEADER_SECONDS = 10.0
+#: Seconds a new client waits for the slot of a connection cut off for it.
+SLOT_WAIT_SECONDS = 2.0
 
 
 class SiteHandler(SimpleHTTPRequestHandler):
@@ -45,6 +57,17 @@ class SiteHandler(SimpleHTTPRequestHandler):
             super().handle()
         except (ConnectionError, TimeoutError):
             pass  # the browser went away or stalled: nothing to report
+        finally:
+            self.server.waiting(self.connection, False)  # type: ignore[attr-defined]
+
+    def handle_one_request(self) -> None:
+        self.server.waiting(self.connection, True)  # type: ignore[attr-defined]
+        super().handle_one_request()
+
+    def parse_request(self) -> bool:
+        done = super().parse_request()  # reads the headers
+        self.server.waiting(self.connection, False)  # type: ignore[attr-defined]
+        return done
 
 
 class PreviewServer(ThreadingHTTPServer):
@@ -54,12 +77,40 @@ class PreviewServer(ThreadingHTTPServer):
 
     def __init__(self, address: tuple[str, int], folder: Path):
         self._slots = threading.BoundedSemaphore(MAX_CONNECTIONS)
+        self._lock = threading.Lock()
+        self._waiting: dict[socket.socket, float] = {}  # connection: since when it waits for a request
         super().__init__(address, lambda *a: SiteHandler(*a, directory=str(folder)))
+
+    def waiting(self, connection: socket.socket, now_waiting: bool) -> None:
+        """Mark a connection as waiting for a whole request (or no longer)."""
+        with self._lock:
+            if now_waiting:
+                self._waiting[connection] = time.monotonic()
+            else:
+                self._waiting.pop(connection, None)
+
+    def _cut(self, connection: socket.socket) -> None:
+        """End a connection's wait: its reads return at once, its thread ends."""
+        self._waiting.pop(connection, None)
+        with contextlib.suppress(OSError):
+            connection.shutdown(socket.SHUT_RDWR)
+
+    def service_actions(self) -> None:
+        """Called by serve_forever about twice a second: cut off the connections whose
+        request has not arrived whole within :data:`HEADER_SECONDS`."""
+        late = time.monotonic() - HEADER_SECONDS
+        with self._lock:
+            for connection in [c for c, since in self._waiting.items() if since < late]:
+                self._cut(connection)
 
     def process_request(self, request: Any, client_address: Any) -> None:
         if not self._slots.acquire(blocking=False):
-            self.shutdown_request(request)
-            return
+            with self._lock:  # every slot taken: the longest wait for a request gives way
+                if self._waiting:
+                    self._cut(min(self._waiting, key=self._waiting.__getitem__))
+            if not self._slots.acquire(timeout=SLOT_WAIT_SECONDS):
+                self.shutdown_request(request)
+                return
         super().process_request(request, client_address)
 
     def process_request_thread(self, request: Any, client_address: Any) -> None:

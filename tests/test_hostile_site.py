@@ -4,6 +4,7 @@ tests/hostile/README.md (a test below checks the table names every case here).""
 
 from __future__ import annotations
 
+import contextlib
 import csv
 import io
 import json
@@ -69,6 +70,8 @@ CASES = {
     "vehicle-is-dev-zero": "a vehicle profile that is /dev/zero: refused before reading",
     "theme-css-symlink": "a theme's style.css linking to a file outside the theme: refused",
     "theme-include-symlink": "{% include %} of a template linking outside the theme: refused",
+    "theme-hard-link-js": "a theme's find.js hard-linked to a file outside the theme: refused, nothing published",
+    "theme-hard-link-include": "{% include %} of a template hard-linked to a file outside the theme: refused",
     "theme-python-escape": "a theme reaching Python internals (__class__.__mro__): stopped by the sandbox",
     "theme-syntax-error": "a theme template with a syntax error: one line with file and line",
     "theme-undefined-name": "a theme template using an undefined name: one line with the file",
@@ -87,6 +90,8 @@ CASES = {
     "serve-symlink-out": "serve: a link out of the site answers 404",
     "serve-disconnect": "serve: clients that hang up print nothing",
     "serve-idle-connection": "serve: a half-sent request is dropped after the idle timeout",
+    "serve-trickled-headers": "serve: a request sent a byte at a time is cut off at the header time bound (10 s)",
+    "serve-slots-full": "serve: 40 half-sent requests hold 32 slots; a new GET is answered at once",
     "rebuild-reuse-symlink": "a rebuild reusing a route keeps a link inside it as a link (no hard links to its target)",
     "watch-unexpected-error": "serve --watch: any error is reported once and the watch goes on",
     "watch-polls-times-only": "serve --watch: the configuration is read again only when a file changes",
@@ -203,6 +208,26 @@ def test_theme_include_symlink(tmp_path, capsys):
     out = tmp_path / "site"
     code = _run("build", str(src / "site.toml"), "-o", str(out), "--no-pdf")
     _one_line_error(capsys, code, "leak.txt")
+    assert not out.exists()
+
+
+@pytest.mark.parametrize("include", [False, True])
+def test_theme_hard_link(tmp_path, capsys, include):
+    """A hard link has no target to check: it is another name of the same file, which
+    may lie outside the theme. Theme files with more than one name are refused."""
+    src = _src(tmp_path)
+    theme = _theme(src)
+    secret = tmp_path / "secret.txt"
+    secret.write_text("the organiser's private notes")
+    if include:
+        os.link(secret, theme / "notes.txt")
+        index = (Path(__file__).resolve().parents[1] / "templates" / "index.html").read_text()
+        (theme / "index.html").write_text(index.replace("<h1>", "{% include 'notes.txt' %}<h1>", 1))
+    else:
+        os.link(secret, theme / "find.js")
+    out = tmp_path / "site"
+    code = _run("build", str(src / "site.toml"), "-o", str(out), "--no-pdf", "--jobs", "1")
+    _one_line_error(capsys, code, "notes.txt" if include else "find.js", "hard link")
     assert not out.exists()
 
 
@@ -426,6 +451,68 @@ def test_serve_idle_connection(tmp_path, monkeypatch):
     finally:
         server.shutdown()
         server.server_close()
+
+
+@contextlib.contextmanager
+def _preview(tmp_path):
+    from cardgen import serve
+
+    (tmp_path / "index.html").write_text("hi")
+    server = serve.PreviewServer(("127.0.0.1", 0), tmp_path)
+    thread = threading.Thread(target=server.serve_forever, daemon=True)
+    thread.start()
+    try:
+        yield server.server_address[:2]
+    finally:
+        server.shutdown()
+        server.server_close()
+
+
+def test_serve_trickled_headers(tmp_path, monkeypatch):
+    """One byte every 0.2 s never trips the per-read idle timeout (20 s); the bound on
+    the whole header time (made 1 s here) cuts it off."""
+    from cardgen import serve
+
+    monkeypatch.setattr(serve, "HEADER_SECONDS", 1.0, raising=False)
+    request = b"GET /index.html HTTP/1.1\r\nHost: x\r\nX-Slow: " + b"a" * 1000
+    with _preview(tmp_path) as address, socket.create_connection(address, timeout=5) as s:
+        started = time.monotonic()
+        cut = False
+        for byte in request[:40]:  # at most 8 s of trickling
+            try:
+                s.sendall(bytes([byte]))
+            except OSError:
+                cut = True
+                break
+            time.sleep(0.2)
+            s.setblocking(False)
+            try:
+                cut = s.recv(1024) == b""
+            except BlockingIOError:
+                pass
+            except OSError:
+                cut = True
+            s.setblocking(True)
+            if cut:
+                break
+        assert cut and time.monotonic() - started < 4
+
+
+def test_serve_slots_full(tmp_path):
+    """40 connections that never finish their request take the 32 slots; a normal GET
+    is still answered, at once, taking the slot of the longest waiter."""
+    from cardgen import serve
+
+    with _preview(tmp_path) as address, contextlib.ExitStack() as stack:
+        for _ in range(serve.MAX_CONNECTIONS + 8):
+            s = stack.enter_context(socket.create_connection(address, timeout=5))
+            s.sendall(b"GET /index.html HTTP/1.1\r\nHost: x\r\n")  # never finished
+        time.sleep(0.5)
+        started = time.monotonic()
+        url = f"http://{address[0]}:{address[1]}/index.html"
+        with urllib.request.urlopen(url, timeout=5) as response:
+            assert response.status == 200 and response.read() == b"hi"
+        assert time.monotonic() - started < serve.SLOT_WAIT_SECONDS + 1
 
 
 def test_rebuild_reuse_symlink(tmp_path):

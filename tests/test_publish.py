@@ -13,7 +13,7 @@ import pytest
 from buildkit import cardgen_command, leftovers, snapshot
 
 from cardgen.build import publish as publish_module
-from cardgen.build.publish import OLD, recover, side_name
+from cardgen.build.publish import OLD, TMP, recover, side_name
 from cardgen.cli import main
 
 SAMPLES = Path(__file__).resolve().parents[1] / "sample_routes"
@@ -252,6 +252,74 @@ def test_killed_at_the_publishing_syscall_a_whole_site_stays(tmp_path, syscall, 
         assert code == 0
     else:  # killed before the swap: the old site, whole
         assert snapshot(out) == old
+    assert _build(src, out) == 0
+    assert "New" in (out / "index.html").read_text()
+    assert leftovers(out) == []
+
+
+def _traced_build(src: Path, out: Path, *strace_args: str, env=None) -> subprocess.CompletedProcess:
+    return subprocess.run(
+        [
+            STRACE,
+            "-f",
+            "-qq",
+            *strace_args,
+            *cardgen_command(),
+            "build",
+            str(src / "site.toml"),
+            "-o",
+            str(out),
+            "--jobs",
+            "1",
+            "--no-pdf",
+        ],
+        env=env,
+        capture_output=True,
+        text=True,
+        timeout=300,
+    )
+
+
+@pytest.mark.skipif(STRACE is None, reason="strace is not installed (Debian package 'strace')")
+@pytest.mark.parametrize("exchange", [True, False])
+def test_every_file_and_folder_is_flushed_before_the_swap(tmp_path, exchange):
+    """fsync of every file, then every folder bottom-up, before the rename that
+    publishes; the folder holding the site right after it (traced with strace -y,
+    which names each descriptor's file)."""
+    src = _site_src(tmp_path, routes=("riverside-loop", "accessible-path"))
+    out = tmp_path / "site"
+    assert _build(src, out) == 0
+    (src / "site.toml").write_text((src / "site.toml").read_text().replace('"T"', '"New"'))
+    trace = tmp_path / "trace.txt"
+    env = dict(os.environ, **({} if exchange else {"CARDGEN_NO_EXCHANGE": "1"}))
+    done = _traced_build(
+        src, out, "-y", "-o", str(trace), "-e", "trace=fsync,fdatasync,renameat2,rename", env=env
+    )
+    assert done.returncode == 0, done.stderr
+    calls = trace.read_text().splitlines()
+    swap = next(i for i, c in enumerate(calls) if "rename" in c)  # the first: the one that publishes
+    flushed = [c.split("<", 1)[1].split(">", 1)[0] for c in calls[:swap] if "fsync(" in c]
+    tmp = flushed[-1]  # the new site's own folder, last
+    assert TMP in Path(tmp).name
+    order = [Path(f).relative_to(tmp).as_posix() for f in flushed if f.startswith(tmp)]
+    assert set(order) == {p.relative_to(out).as_posix() for p in out.rglob("*")} | {"."}
+    assert order.index("riverside-loop/index.html") < order.index("riverside-loop") < order.index(".")
+    after = [c for c in calls[swap + 1 :] if "fsync(" in c]
+    assert after and f"<{tmp_path}>" in after[0]  # the rename itself made durable
+
+
+@pytest.mark.skipif(STRACE is None, reason="strace is not installed (Debian package 'strace')")
+@pytest.mark.parametrize("when", [1, 12])
+def test_killed_while_flushing_the_old_site_stays(tmp_path, when):
+    src = _site_src(tmp_path)
+    out = tmp_path / "site"
+    assert _build(src, out) == 0
+    old = snapshot(out)
+    (src / "site.toml").write_text((src / "site.toml").read_text().replace('"T"', '"New"'))
+    _traced_build(
+        src, out, "-o", os.devnull, "-e", "trace=fsync", "-e", f"inject=fsync:signal=SIGKILL:when={when}"
+    )
+    assert snapshot(out) == old
     assert _build(src, out) == 0
     assert "New" in (out / "index.html").read_text()
     assert leftovers(out) == []

@@ -5,6 +5,12 @@ can (``renameat2`` with ``RENAME_EXCHANGE``, Linux 3.15+), so that at every mome
 either the old site or the new one is in place. Where it cannot, the old site is
 moved aside, the new one renamed in, and a copy moved aside by a build that died
 between the two renames is put back by the next build.
+
+Before the swap every file of the new folder, then every folder bottom-up, is
+flushed to disk (``fsync``), and after it the folder holding the site: a power cut
+at any moment leaves the old site or the new one whole, never a new site with files
+the disk had not yet received (on file systems that honour ``fsync``: ext4, XFS,
+Btrfs and the like).
 """
 
 from __future__ import annotations
@@ -133,6 +139,7 @@ def recover(out: Path) -> list[str]:
     olds = sorted((p for pid, p in _side_folders(out, OLD) if _dead(pid)), key=lambda p: p.stat().st_mtime)
     if olds and not out.exists():
         os.rename(olds.pop(), out)
+        _fsync(out.parent, os.O_RDONLY | os.O_DIRECTORY)
         done.append(f"put back the previous site in {out} (a build had died while publishing)")
     for path in olds + [p for pid, p in _side_folders(out, TMP) if _dead(pid)]:
         shutil.rmtree(path, ignore_errors=True)
@@ -157,16 +164,48 @@ def _exchange(a: Path, b: Path) -> bool:
     raise OSError(err, os.strerror(err), str(b))
 
 
+def _fsync(path: Path | str, flags: int = os.O_RDONLY) -> None:
+    fd = os.open(path, flags | os.O_NOFOLLOW)
+    try:
+        os.fsync(fd)
+    finally:
+        os.close(fd)
+
+
+def flush_tree(folder: Path) -> None:
+    """Flush every regular file under ``folder`` to disk, then every folder from the
+    deepest up to ``folder`` itself, so that the names in each folder point at data
+    already written. Symbolic links are not followed (their folder records them)."""
+    for root, dirs, files in os.walk(folder, topdown=False):
+        for name in files:
+            path = os.path.join(root, name)
+            if not os.path.islink(path):
+                _fsync(path)
+        del dirs  # flushed as roots of their own, before this one (bottom-up)
+        _fsync(root, os.O_RDONLY | os.O_DIRECTORY)
+
+
 def publish(tmp: Path, out: Path) -> None:
     """Put the finished folder ``tmp`` in place of ``out``; afterwards the old site is
     gone. At every moment one complete site is at ``out`` (or, on file systems that
-    cannot swap, in its hidden copy beside it, which :func:`recover` puts back)."""
+    cannot swap, in its hidden copy beside it, which :func:`recover` puts back), and
+    what is at ``out`` has reached the disk: :func:`flush_tree` before the swap, the
+    folder holding ``out`` right after it."""
+    flush_tree(tmp)
+    old = _swap(tmp, out)
+    _fsync(out.parent, os.O_RDONLY | os.O_DIRECTORY)
+    if old is not None:
+        with contextlib.suppress(OSError):
+            shutil.rmtree(old)
+
+
+def _swap(tmp: Path, out: Path) -> Path | None:
+    """Put ``tmp`` at ``out``; return where the old site now is (None: there was none)."""
     if not out.exists():
         os.rename(tmp, out)
-        return
+        return None
     if _exchange(tmp, out):  # tmp now holds the old site
-        shutil.rmtree(tmp, ignore_errors=True)
-        return
+        return tmp
     old = side_name(out, OLD)
     os.rename(out, old)
     try:
@@ -174,5 +213,4 @@ def publish(tmp: Path, out: Path) -> None:
     except OSError:
         os.rename(old, out)
         raise
-    with contextlib.suppress(OSError):
-        shutil.rmtree(old)
+    return old

@@ -62,21 +62,41 @@ def slugify(text: str, taken: set[str] | None = None) -> str:
     return slug
 
 
+def _refuse_hard_link(path: Path) -> None:
+    """A file of a site's theme with more than one name (a hard link) may be any file
+    of the same disk, outside the theme: it is refused, never published or included."""
+    links = path.stat().st_nlink
+    if links > 1:
+        raise CardgenError(
+            f"{path}: a hard link (the file has {links} names), which may be a file outside the theme "
+            "folder; cardgen reads no theme file with more than one name. Put a copy of the file itself "
+            "in the theme folder"
+        )
+
+
 class ThemeLoader(jinja2.FileSystemLoader):
     """Templates from the search path, never through a link that leads out of the
-    folder it was found in (a theme could otherwise publish any file it can read)."""
+    folder it was found in (a theme could otherwise publish any file it can read),
+    and, in the site's own theme folder ``own``, never a hard link."""
+
+    def __init__(self, searchpath: list[str], own: Path | None = None):
+        super().__init__(searchpath)
+        self.own = None if own is None else Path(own).resolve()
 
     def get_source(self, environment: jinja2.Environment, template: str) -> tuple:
         source, filename, uptodate = super().get_source(environment, template)
         real = Path(filename).resolve()
         if not any(Path(root).resolve() in real.parents for root in self.searchpath):
             raise jinja2.TemplateNotFound(f"{template} (a link out of the theme folder, not followed)")
+        if self.own is not None and self.own in real.parents:
+            _refuse_hard_link(real)
         return source, filename, uptodate
 
 
 def theme_file(override: Path | None, name: str) -> Path:
     """A theme's own file (e.g. style.css) if it has one inside its folder, else
-    cardgen's; a link out of the theme folder is refused with a clear error."""
+    cardgen's; a link out of the theme folder, or a hard link, is refused with a
+    clear error."""
     if override is not None and (override / name).exists():
         real = (override / name).resolve()
         if Path(override).resolve() not in real.parents or not real.is_file():
@@ -84,6 +104,7 @@ def theme_file(override: Path | None, name: str) -> Path:
                 f"{override / name}: a link out of the theme folder; cardgen does not follow it. "
                 "Put the file itself in the theme folder"
             )
+        _refuse_hard_link(real)
         return real
     return default_templates() / name
 
@@ -97,7 +118,7 @@ def environment(override: Path | None = None, units: str = "metric") -> jinja2.E
     render is bounded in time and memory (:mod:`cardgen.render.sandbox`)."""
     paths = ([str(override)] if override else []) + [str(default_templates())]
     env = ThemeEnvironment(
-        loader=ThemeLoader(paths),
+        loader=ThemeLoader(paths, override),
         autoescape=True,
         undefined=jinja2.StrictUndefined,
         trim_blocks=True,
