@@ -260,10 +260,9 @@ def _route_plan(args):
     """Read, analyse and plan one route from the ``route`` command's options."""
     from cardgen.io.gpx import read_gpx
     from cardgen.physics.atmosphere import Conditions
-    from cardgen.plan import make_plan
+    from cardgen.plan import plan_route
     from cardgen.profiles.riders import Rider
     from cardgen.profiles.vehicles import find_vehicle
-    from cardgen.route.terrain import build_terrain
     from cardgen.units import celsius_to_kelvin, kmh_to_ms
 
     for name in ("power", "target_speed", "wind", "wind_from", "temperature", "cp", "w_prime"):
@@ -291,9 +290,7 @@ def _route_plan(args):
         temperature = float(celsius_to_kelvin(args.temperature))
     conditions = Conditions(float(kmh_to_ms(args.wind)), math.radians(args.wind_from), temperature)
     rider = Rider.for_vehicle(vehicle, target_speed=target, **given)
-    track = read_gpx(args.gpx)
-    terrain = build_terrain(track)
-    return make_plan(track, terrain, rider, conditions)
+    return plan_route(read_gpx(args.gpx), [rider], conditions, where=str(args.gpx)).plans[0]
 
 
 def cmd_route(args) -> int:

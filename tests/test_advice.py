@@ -5,7 +5,7 @@ from __future__ import annotations
 from types import SimpleNamespace
 
 from cardgen.plan.model import Effort
-from cardgen.render.advice import climb_advice, descent_advice, effort_line
+from cardgen.render.advice import climb_advice, descent_advice, descents_advice, effort_line
 
 
 def _plan(**effort):
@@ -24,7 +24,8 @@ def test_the_effort_line_says_the_style_the_mean_and_what_was_assumed():
     # 163.4 W rounds to 165 W (5 W steps); 163.4 / 214 = 76 %; 3,960 s is 1:06
     assert "best use of the day's effort" in text and "165 W on average, 76 % of CP" in text
     assert "the default for a ride of about 1:06" in text
-    assert "your own setting" in effort_line(_plan(given=True, duration=None, style="steady"))
+    assert "reserve above CP (W′) 15.0 kJ" in text
+    assert "your setting" in effort_line(_plan(given=True, duration=None, style="steady"))
     assert "steady, never above CP" in effort_line(_plan(style="steady"))
 
 
@@ -45,3 +46,9 @@ def test_descent_advice_is_to_ease_or_to_pedal():
     plan = _plan()  # mean 163.4 W: ease below 35 % of it, 57.2 W
     assert descent_advice(SimpleNamespace(rider_power=20.0), plan) == "ease off and let it roll"
     assert descent_advice(SimpleNamespace(rider_power=118.0), plan) == "keep pedalling, about 120 W"
+
+
+def test_descents_with_the_same_advice_share_a_line():
+    plan = _plan()
+    plan.descents = [SimpleNamespace(number=n, rider_power=p) for n, p in ((1, 10.0), (2, 0.0), (3, 118.0))]
+    assert descents_advice(plan) == ["Descents 1, 2: ease off and let it roll", "Descent 3: keep pedalling, about 120 W"]

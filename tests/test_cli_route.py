@@ -34,8 +34,8 @@ DESCENT_KEYS = {
 
 
 @pytest.mark.parametrize("name", ["riverside-loop", "hill-loop", "day-ride", "accessible-path"])
-def test_route_json_has_the_contract(run_cli, name):
-    code, out, err = run_cli("route", str(SAMPLES / f"{name}.gpx"), "--json", parse_json=True)
+def test_route_json_has_the_contract(cli, name):
+    code, out, err = cli("route", str(SAMPLES / f"{name}.gpx"), "--json", parse_json=True)
     assert code == 0, err
     assert set(out) == {"route", "vehicle", "climbs", "descents", "totals"}
     assert set(out["route"]) == {"name", "distance_km", "gain_m", "loss_m", "points"}
@@ -50,8 +50,8 @@ def test_route_json_has_the_contract(run_cli, name):
     assert out["totals"]["time_s"] > 0
 
 
-def test_hill_loop_numbers_are_plausible(run_cli):
-    code, out, err = run_cli(
+def test_hill_loop_numbers_are_plausible(cli):
+    code, out, err = cli(
         "route",
         str(SAMPLES / "hill-loop.gpx"),
         "--vehicle",
@@ -85,8 +85,8 @@ def test_hill_loop_numbers_are_plausible(run_cli):
     assert 0.186 <= efficiency <= 0.210
 
 
-def test_handcycle_gets_no_walk_warning(run_cli):
-    code, out, err = run_cli(
+def test_handcycle_gets_no_walk_warning(cli):
+    code, out, err = cli(
         "route", str(SAMPLES / "hill-loop.gpx"), "--vehicle", "handcycle", "--json", parse_json=True
     )
     assert code == 0, err
@@ -99,24 +99,24 @@ def _east_west(tmp_path):
     return write_gpx(tmp_path / "east.gpx", lat, lon, np.zeros(x.size))
 
 
-def test_wind_from_the_east_slows_an_eastbound_rider(run_cli, tmp_path):
+def test_wind_from_the_east_slows_an_eastbound_rider(cli, tmp_path):
     path = str(_east_west(tmp_path))
-    calm = run_cli("route", path, "--json", parse_json=True)[1]["totals"]["time_s"]
-    into = run_cli("route", path, "--wind", "20", "--wind-from", "90", "--json", parse_json=True)[1]
-    behind = run_cli("route", path, "--wind", "20", "--wind-from", "270", "--json", parse_json=True)[1]
+    calm = cli("route", path, "--json", parse_json=True)[1]["totals"]["time_s"]
+    into = cli("route", path, "--wind", "20", "--wind-from", "90", "--json", parse_json=True)[1]
+    behind = cli("route", path, "--wind", "20", "--wind-from", "270", "--json", parse_json=True)[1]
     assert into["totals"]["time_s"] > calm * 1.2
     assert behind["totals"]["time_s"] < calm * 0.9
 
 
-def test_cold_air_is_slower(run_cli, tmp_path):
+def test_cold_air_is_slower(cli, tmp_path):
     path = str(_east_west(tmp_path))
-    cold = run_cli("route", path, "--temperature", "-10", "--json", parse_json=True)[1]["totals"]["time_s"]
-    warm = run_cli("route", path, "--temperature", "35", "--json", parse_json=True)[1]["totals"]["time_s"]
+    cold = cli("route", path, "--temperature", "-10", "--json", parse_json=True)[1]["totals"]["time_s"]
+    warm = cli("route", path, "--temperature", "35", "--json", parse_json=True)[1]["totals"]["time_s"]
     assert cold > warm
 
 
-def test_human_table(run_cli):
-    code, out, err = run_cli("route", str(SAMPLES / "hill-loop.gpx"))
+def test_human_table(cli):
+    code, out, err = cli("route", str(SAMPLES / "hill-loop.gpx"))
     assert code == 0, err
     assert "FIETS" in out and "Moving time" in out and "not guarantees" in out
 
@@ -133,19 +133,19 @@ def test_human_table(run_cli):
         (["--vehicle", "rocket"], "unknown vehicle"),
     ],
 )
-def test_route_wrong_options(run_cli, args, fragment):
-    code, _, err = run_cli("route", str(SAMPLES / "riverside-loop.gpx"), *args)
+def test_route_wrong_options(cli, args, fragment):
+    code, _, err = cli("route", str(SAMPLES / "riverside-loop.gpx"), *args)
     assert code == 1
     assert fragment in err and "Traceback" not in err
 
 
-def test_route_missing_file(run_cli, tmp_path):
-    code, _, err = run_cli("route", str(tmp_path / "nope.gpx"))
+def test_route_missing_file(cli, tmp_path):
+    code, _, err = cli("route", str(tmp_path / "nope.gpx"))
     assert code == 1 and "no such file" in err
 
 
-def test_route_json_warnings_are_objects_with_their_place(run_cli):
-    code, out, err = run_cli(
+def test_route_json_warnings_are_objects_with_their_place(cli):
+    code, out, err = cli(
         "route", str(SAMPLES / "hill-loop.gpx"), "--vehicle", "road-hoods", "--json", parse_json=True
     )
     assert code == 0, err

@@ -5,8 +5,8 @@ import pytest
 KEYS = {"speed_kmh", "power_w", "grade_pct", "headwind_kmh", "air_density_kg_m3", "breakdown_w"}
 
 
-def test_solve_power_for_speed_json(run_cli):
-    code, out, err = run_cli(
+def test_solve_power_for_speed_json(cli):
+    code, out, err = cli(
         "solve",
         "--speed",
         "30",
@@ -30,8 +30,8 @@ def test_solve_power_for_speed_json(run_cli):
     assert sum(out["breakdown_w"].values()) == pytest.approx(out["power_w"], rel=1e-9)
 
 
-def test_solve_speed_for_power_with_vehicle(run_cli):
-    code, out, err = run_cli(
+def test_solve_speed_for_power_with_vehicle(cli):
+    code, out, err = cli(
         "solve", "--power", "200", "--grade", "5", "--vehicle", "road-hoods", "--json", parse_json=True
     )
     assert code == 0, err
@@ -41,8 +41,8 @@ def test_solve_speed_for_power_with_vehicle(run_cli):
     assert sum(out["breakdown_w"].values()) == pytest.approx(200, rel=1e-6)
 
 
-def test_descent_gravity_is_negative(run_cli):
-    code, out, err = run_cli(
+def test_descent_gravity_is_negative(cli):
+    code, out, err = cli(
         "solve", "--power", "0", "--grade", "-8", "--vehicle", "city-upright", "--json", parse_json=True
     )
     assert code == 0, err
@@ -50,16 +50,16 @@ def test_descent_gravity_is_negative(run_cli):
     assert out["speed_kmh"] > 30
 
 
-def test_altitude_lowers_air_density(run_cli):
-    code, out, _ = run_cli(
+def test_altitude_lowers_air_density(cli):
+    code, out, _ = cli(
         "solve", "--speed", "30", "--vehicle", "road-hoods", "--altitude", "2000", "--json", parse_json=True
     )
     assert code == 0
     assert out["air_density_kg_m3"] == pytest.approx(1.0066, abs=5e-4)  # ISO 2533
 
 
-def test_human_output_is_a_table(run_cli):
-    code, out, err = run_cli("solve", "--speed", "20", "--vehicle", "handcycle")
+def test_human_output_is_a_table(cli):
+    code, out, err = cli("solve", "--speed", "20", "--vehicle", "handcycle")
     assert code == 0, err
     for word in ("km/h", "rolling", "aero", "gravity", "drivetrain", "%"):
         assert word in out
@@ -79,18 +79,18 @@ def test_human_output_is_a_table(run_cli):
         (["--power", "abc"], 2, "invalid float"),
     ],
 )
-def test_wrong_input_is_one_clear_line(run_cli, args, code, fragment):
-    got, _, err = run_cli("solve", *args)
+def test_wrong_input_is_one_clear_line(cli, args, code, fragment):
+    got, _, err = cli("solve", *args)
     assert got == code
     assert fragment in err
     assert "Traceback" not in err
 
 
-def test_vehicles_lists_the_library(run_cli):
-    code, out, _ = run_cli("vehicles")
+def test_vehicles_lists_the_library(cli):
+    code, out, _ = cli("vehicles")
     assert code == 0
     assert "handcycle" in out and "e-assist-cargo" in out
-    code, rows, _ = run_cli("vehicles", "--json", parse_json=True)
+    code, rows, _ = cli("vehicles", "--json", parse_json=True)
     assert code == 0
     assert all(row["sources"]["cda_m2"] for row in rows)
 
@@ -150,19 +150,19 @@ def test_guard_rails_give_finite_numbers(args, mass):
         (["--power", "100", "--efficiency", "0.2"], "--efficiency"),
     ],
 )
-def test_guard_rails_refusals(run_cli, args, fragment):
-    code, _, err = run_cli("solve", *args, "--mass", "80", "--crr", "0.005", "--cda", "0.4")
+def test_guard_rails_refusals(cli, args, fragment):
+    code, _, err = cli("solve", *args, "--mass", "80", "--crr", "0.005", "--cda", "0.4")
     assert code == 1 and fragment in err and "Traceback" not in err
 
 
 @pytest.mark.parametrize("mass", ["19", "601"])
-def test_guard_rails_mass(run_cli, mass):
-    code, _, err = run_cli("solve", "--power", "100", "--mass", mass, "--crr", "0.005", "--cda", "0.4")
+def test_guard_rails_mass(cli, mass):
+    code, _, err = cli("solve", "--power", "100", "--mass", mass, "--crr", "0.005", "--cda", "0.4")
     assert code == 1 and "--mass" in err
 
 
-def test_assist_level_in_solve(run_cli):
-    code, out, err = run_cli(
+def test_assist_level_in_solve(cli):
+    code, out, err = cli(
         "solve",
         "--vehicle",
         "e-assist-city",
@@ -183,11 +183,11 @@ def test_assist_level_in_solve(run_cli):
     assert out["motor_w"] == pytest.approx(out["power_w"]) and out["assist_level"] == 2
 
 
-def test_solve_says_the_motor_is_off_without_a_level(run_cli):
-    code, out, err = run_cli("solve", "--vehicle", "e-assist-city", "--power", "100")
+def test_solve_says_the_motor_is_off_without_a_level(cli):
+    code, out, err = cli("solve", "--vehicle", "e-assist-city", "--power", "100")
     assert code == 0 and "motor is off" in out
 
 
-def test_assist_level_without_a_motor_is_refused(run_cli):
-    code, _, err = run_cli("solve", "--vehicle", "road-hoods", "--power", "100", "--assist-level", "1")
+def test_assist_level_without_a_motor_is_refused(cli):
+    code, _, err = cli("solve", "--vehicle", "road-hoods", "--power", "100", "--assist-level", "1")
     assert code == 1 and "needs a --vehicle with a motor" in err

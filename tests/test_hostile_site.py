@@ -98,7 +98,87 @@ CASES = {
     "check-10000-riders": "check of 10,000 riders: linear (line numbers indexed once)",
     "negative-zero": "a flat route prints its climbing as 0 m, never as --0 m",
     "solve-implausible-speed": "solve at 146 km/h says the model does not hold there",
+    "csv-cr-line-endings": "an entrants CSV with old-Mac CR-only line endings: read, every rider",
+    "csv-cell-200k": "an entrants CSV cell of 200,000 characters: refused with its row (cells up to 131,072)",
+    "csv-quote-left-open": "an entrants CSV with a quote never closed: refused with its row",
+    "csv-extra-cells": "an entrants CSV row with more cells than the header: refused with its row, never dropped",
+    "toml-nested-50000": "a site.toml with 50,000 nested [: not valid TOML, one message (no RecursionError)",
 }
+
+#: The cases that are a site's input files and one command, and their outcome:
+#: ("error", words…): exit 1 and one error line holding the words, no traceback, and a
+#: build publishes nothing; ("ok", words…): exit 0 and the words in the output.
+#: Each: (text before [site], text after the route, {file: bytes}, command, outcome).
+CSV_SITE = 'riders = "entrants.csv"\n'
+INPUTS = {
+    "csv-cr-line-endings": (
+        CSV_SITE,
+        "",
+        {"entrants.csv": b"name,vehicle\rAda,road-hoods\rBea,handcycle\r"},
+        "check",
+        ("ok", "Ada", "Bea", "configuration and routes are fine"),
+    ),
+    "csv-cell-200k": (
+        CSV_SITE,
+        "",
+        {"entrants.csv": b"name,vehicle\nAda,road-hoods\n" + b"B" * 200_000 + b",handcycle\n"},
+        "build",
+        ("error", "entrants.csv:row 3", "longer than 131,072 characters"),
+    ),
+    "csv-quote-left-open": (
+        CSV_SITE,
+        "",
+        {"entrants.csv": b'name,vehicle\nAda,road-hoods\n"Bea,handcycle\nCy,tandem\n'},
+        "check",
+        ("error", "entrants.csv:row 3", "never closed"),
+    ),
+    "csv-extra-cells": (
+        CSV_SITE,
+        "",
+        {"entrants.csv": b"name,vehicle\nAda,road-hoods,250\nBea,handcycle,,\n"},
+        "check",
+        ("error", "entrants.csv:row 2", "more cells than the header has columns (2)"),
+    ),
+    "toml-nested-50000": (
+        "x = " + "[" * 50_000 + "]" * 50_000 + "\n",
+        "",
+        {},
+        "build",
+        ("error", "site.toml: not valid TOML", "nested too deeply"),
+    ),
+}
+
+
+@pytest.mark.parametrize("name", list(INPUTS))
+def test_input_case(tmp_path, capsys, name):
+    head, tail, files, command, (kind, *words) = INPUTS[name]
+    assert name in CASES
+    src = tmp_path / "src"
+    src.mkdir()
+    shutil.copy(SAMPLES / "riverside-loop.gpx", src)
+    (src / "site.toml").write_text(
+        head
+        + '[site]\ntitle = "T"\n[[routes]]\ngpx = "riverside-loop.gpx"\n'
+        + (tail if head else RIDER + tail),
+        encoding="utf-8",
+    )
+    for file, data in files.items():
+        (src / file).write_bytes(data)
+    out = tmp_path / "site"
+    args = [command, str(src / "site.toml")] + (
+        ["-o", str(out), "--no-pdf", "--jobs", "1"] if command == "build" else []
+    )
+    code = _run(*args)
+    captured = capsys.readouterr()
+    assert "Traceback" not in captured.err
+    if kind == "ok":
+        assert code == 0, captured.err
+        for word in words:
+            assert word in captured.out, captured.out
+        return
+    assert code == 1, captured.err
+    assert any(all(word in line for word in words) for line in captured.err.splitlines()), captured.err
+    assert not out.exists()
 
 
 def test_the_readme_table_lists_every_case():
@@ -336,11 +416,14 @@ def test_control_characters_are_not_written_raw(tmp_path, capsys):
 
 
 def test_too_weak_rider(tmp_path, capsys):
-    assert _run("route", str(SAMPLES / "hill-loop.gpx"), "--power", "1", "--json") == 0
+    weak = ("--power", "1", "--cp", "10")  # the lowest CP the limits allow, riding at 1 W
+    assert _run("route", str(SAMPLES / "hill-loop.gpx"), *weak, "--json") == 0
     data = json.loads(capsys.readouterr().out)  # valid JSON: no Infinity
     assert data["totals"]["time_s"] is None
-    assert _run("route", str(SAMPLES / "hill-loop.gpx"), "--power", "1") == 0
+    assert _run("route", str(SAMPLES / "hill-loop.gpx"), *weak) == 0
     assert "cannot complete the route" in capsys.readouterr().out
+    # 1 W alone implies a CP below the limits: one clear line, exit 1
+    _one_line_error(capsys, _run("route", str(SAMPLES / "hill-loop.gpx"), "--power", "1"), "critical power")
     riders = '[[riders]]\nname = "Weak"\nvehicle = "road-hoods"\ncp_w = 10\nflat_w = 1\n'
     src = _src(tmp_path, riders=riders, event='date = "2027-04-18"\nstart = "08:00"\n')
     shutil.copy(SAMPLES / "hill-loop.gpx", src / "riverside-loop.gpx")

@@ -117,24 +117,28 @@ def test_index_has_one_row_per_route_and_no_column_per_rider(site):
     assert body.count("<tr>") == 2
 
 
-def test_coach_sheet_groups_riders_eight_to_a_page_in_start_order(tmp_path):
-    """20 riders on a route without climbs: three groups (8, 8, 4), each on a page of
-    its own, the riders in start order."""
+def test_coach_sheet_groups_riders_a_group_to_a_page_in_start_order(tmp_path, monkeypatch):
+    """Riders on a route without climbs, in groups of COACH_GROUP (8; 2 here, so that
+    the build renders 5 cards, not 20): three groups (2, 2, 1), each on a page of its
+    own, the riders in start order."""
+    from cardgen.render import pages
+
+    monkeypatch.setattr(pages, "COACH_GROUP", 2)  # in this process: jobs=1 below
     shutil.copy(SAMPLES / "riverside-loop.gpx", tmp_path)
     riders = "".join(
-        f'[[riders]]\nname = "Rider {i:02d}"\nvehicle = "road-hoods"\nstart = "{8 + (19 - i) // 6:02d}:{(19 - i) % 6 * 10:02d}"\n'
-        for i in range(20)
+        f'[[riders]]\nname = "Rider {i:02d}"\nvehicle = "road-hoods"\nstart = "08:{(4 - i) * 10:02d}"\n'
+        for i in range(5)
     )
     (tmp_path / "site.toml").write_text(
         '[event]\nstart = "08:00"\n[[routes]]\ngpx = "riverside-loop.gpx"\n' + riders, encoding="utf-8"
     )
     out = tmp_path / "site"
-    build_site(load_config(tmp_path / "site.toml"), out=out, jobs=2)
-    pages = [p.extract_text() for p in PdfReader(out / "riverside-loop" / "coach.pdf").pages]
-    heads = [next((x for x in t.splitlines() if "of 20" in x), "") for t in pages]
-    assert [h.split(": riders ")[1] for h in heads] == ["1–8 of 20", "9–16 of 20", "17–20 of 20"]
-    # Rider 19 starts first (08:00), Rider 00 last
-    assert pages[0].index("Rider 19") < pages[0].index("Rider 18") and "Rider 00" in pages[2]
+    build_site(load_config(tmp_path / "site.toml"), out=out, jobs=1)
+    pages_text = [p.extract_text() for p in PdfReader(out / "riverside-loop" / "coach.pdf").pages]
+    heads = [next((x for x in t.splitlines() if ": riders " in x), "") for t in pages_text]
+    assert [h.split(": riders ")[1] for h in heads] == ["1–2 of 5", "3–4 of 5", "5–5 of 5"]
+    # Rider 04 starts first (08:00), Rider 00 last
+    assert pages_text[0].index("Rider 04") < pages_text[0].index("Rider 03") and "Rider 00" in pages_text[2]
 
 
 @pytest.mark.slow

@@ -122,3 +122,14 @@ def test_the_search_box_filters_the_riders(big_site, tmp_path):
     assert hidden == "false"  # the script shows the box
     assert int(one) == 1 and int(everyone) == RIDERS
     assert int(vehicle) == RIDERS // len(VEHICLES)  # every sixth entrant rides a handcycle
+
+
+def test_the_power_chart_draws_one_curve_per_vehicle_kind(big_site):
+    """300 riders: one legend line per vehicle kind with its riders counted (six
+    kinds, 50 riders each), not one per rider; the alt text gives each kind's range."""
+    svg = (big_site / "hill-loop" / "power.svg").read_text(encoding="utf-8")
+    html = (big_site / "hill-loop" / "index.html").read_text(encoding="utf-8")
+    assert "Entrant" not in svg
+    assert svg.count("(50 riders)") == len(VEHICLES)
+    alt = html.split('src="power.svg" alt="')[1].split('"')[0]
+    assert "each vehicle kind" in alt and alt.count("(50 riders) ride it at") == len(VEHICLES)

@@ -65,6 +65,19 @@ def test_a_folder_the_configuration_reads_is_refused(tmp_path, capsys):
     assert (theme / "style.css").is_file()
 
 
+def test_an_output_inside_the_theme_folder_is_refused(tmp_path, capsys):
+    """It made the site part of its own theme: every build changed the theme, so every
+    rebuild redid everything (and a template could include the last site's files)."""
+    src = _site_src(tmp_path, extra='templates = "theme"\n')
+    theme = src / "theme"
+    theme.mkdir()
+    (theme / "style.css").write_text("body { color: #1a1a1a; }")
+    assert _build(src, theme / "site") == 1
+    err = capsys.readouterr().err
+    assert "inside the theme folder" in err and str(theme) in err
+    assert sorted(p.name for p in theme.iterdir()) == ["style.css"]
+
+
 def test_a_previous_site_and_an_empty_folder_are_replaced(tmp_path):
     src = _site_src(tmp_path)
     out = tmp_path / "out"

@@ -10,7 +10,6 @@ route whose inputs did not change, and skip the whole build when nothing did.
 from __future__ import annotations
 
 import contextlib
-import dataclasses
 import os
 import re
 import shutil
@@ -74,7 +73,7 @@ def build_site(
 ) -> BuildReport:
     """Build the site of ``config`` into ``out``. ``say`` receives one line per step;
     ``progress(done, total, label)`` is called as cards are rendered."""
-    out = check_output(out, list(config.inputs))
+    out = check_output(out, list(config.inputs), config.templates)
     report = BuildReport()
     with Lock(out):
         for line in recover(out):
@@ -113,36 +112,30 @@ def _plan_route(task):
 
     Returns (RouteJob, None) or (None, error message naming the file)."""
     from cardgen.io.gpx import read_gpx
-    from cardgen.plan import analyse, make_plan
+    from cardgen.plan import plan_route
     from cardgen.render.pages import Entry, RouteJob
-    from cardgen.route.checkpoints import resolve_checkpoints
-    from cardgen.route.cues import apply_cue_texts
-    from cardgen.route.terrain import build_terrain
 
     route, config, starts = task  # starts: rider index → Start on this route
     rc = route.config
     try:
         track = read_gpx(rc.gpx)
-        analysis = analyse(track, build_terrain(track))
-        if rc.cue_texts:  # the organiser's words in place of the GPX's
-            analysis = dataclasses.replace(
-                analysis, cues=apply_cue_texts(analysis.cues, rc.cue_texts, str(rc.gpx))
-            )
-        checkpoints = resolve_checkpoints(
-            rc.checkpoints, track, analysis.terrain, str(rc.gpx), stops=rc.stops, stop=rc.stop
+        riding = [(i, r) for i, r in enumerate(config.riders) if i in starts]
+        planned = plan_route(
+            track,
+            [r.rider for _, r in riding],
+            config.conditions,
+            cue_texts=rc.cue_texts,
+            checkpoints=rc.checkpoints,
+            stops=rc.stops,
+            stop=rc.stop,
+            where=str(rc.gpx),
+            light=True,
         )
-        stops = tuple((c.distance, c.stop) for c in checkpoints)
         riders = tuple(
-            Entry(
-                r.rider.name,
-                starts[i].at,
-                starts[i].wave,
-                make_plan(analysis, rider=r.rider, conditions=config.conditions, stops=stops).lightened(),
-                r.bib,
-            )
-            for i, r in enumerate(config.riders)
-            if i in starts
+            Entry(r.rider.name, starts[i].at, starts[i].wave, plan, r.bib)
+            for (i, r), plan in zip(riding, planned.plans, strict=True)
         )
+        analysis, checkpoints = planned.analysis, planned.checkpoints
         job = RouteJob(route.slug, rc.name or track.name, rc.notes, analysis, tuple(checkpoints), riders)
         return job, None
     except CardgenError as exc:

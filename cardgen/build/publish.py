@@ -35,16 +35,22 @@ class BuildError(CardgenError):
     """The build failed; nothing was published."""
 
 
-def check_output(out: Path, sources: list[Path]) -> Path:
+def check_output(out: Path, sources: list[Path], theme: Path | None = None) -> Path:
     """The resolved output folder, or a BuildError when building there could lose data.
 
     Refused: / and the home folder; a folder that is, or holds, one the configuration
-    reads from (``sources``); an existing file; an existing folder that is not empty
-    and is not a site cardgen built (it has no cardgen manifest); a folder we may not
-    write.
+    reads from (``sources``); a folder inside the ``theme`` folder (the site would be
+    part of its own theme, and every build would change the theme); an existing file;
+    an existing folder that is not empty and is not a site cardgen built (it has no
+    cardgen manifest); a folder we may not write.
     """
     given = Path(out)
     out = given.resolve()
+    if theme is not None and Path(theme).resolve() in out.parents:
+        raise BuildError(
+            f"output folder {out} is inside the theme folder {Path(theme).resolve()}; the site would become "
+            f"part of its own theme; choose a folder outside it, e.g. -o {Path(theme).resolve().parent / 'site'}"
+        )
     home = Path.home().resolve()
     if out == Path(out.anchor) or out == home:
         raise BuildError(

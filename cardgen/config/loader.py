@@ -97,7 +97,10 @@ SCHEMA = {
         "checkpoints": Spec("list", help="waypoint names or distances in km"),
         "start": Spec("time", help='this route\'s own first start, like "09:00"'),
         "stop_min": Spec("number", default=0.0, limit="stop_min", help="planned stop at each checkpoint"),
-        "stops_min": Spec("list", help="planned stop at each of the checkpoints listed, in minutes"),
+        "stops_min": Spec(
+            "list",
+            help="planned stop at each checkpoint listed (none listed: the GPX's, in route order), in minutes",
+        ),
         "cue_texts": Spec(
             "list", help='the organiser\'s words for cues, like ["12.1 = Left at the old mill"] (km = text)'
         ),
@@ -353,15 +356,18 @@ def _from_data(data: dict, path: Path | None, text: str, folder: Path) -> SiteCo
         for i, r in enumerate(routes)
         if r["gpx"] is not None
     )
-    rider_objects = [
-        rc for i, r in enumerate(riders) if (rc := _rider(check, i, r, route_objects)) is not None
+    numbered = [
+        (i, rc) for i, r in enumerate(riders) if (rc := _rider(check, i, r, route_objects)) is not None
     ]
+    rider_objects = [rc for _, rc in numbered]
     names = [rc.rider.name for rc in rider_objects]
-    for name in sorted({n for n in names if names.count(n) > 1}):
-        check.problems.append(f"{path}: two riders are named {name!r}; give each a different name")
-    bibs = [rc.bib for rc in rider_objects if rc.bib is not None]
-    for bib in sorted({b for b in bibs if bibs.count(b) > 1}):
-        check.problems.append(f"{path}: bib {bib} is given to two riders; give each a different bib")
+    _duplicates(check, [(i, rc.rider.name) for i, rc in numbered], "name", "two riders are named {!r}")
+    _duplicates(
+        check,
+        [(i, rc.bib) for i, rc in numbered if rc.bib is not None],
+        "bib",
+        "bib {} is given to two riders",
+    )
     waves = _waves(check, data.get("waves", []), folder, set(names), route_objects)
     speed_rule = _speed_rule(check, tables["event"])
 
@@ -459,6 +465,13 @@ def _csv_rows(check: _Checker, path: Path) -> list[tuple[int, dict[str, Any]]]:
         return []
     rows: list[tuple[int, dict[str, Any]]] = []
     known = SCHEMA["riders"]
+    for mark, called in ((";", "semicolons"), ("\t", "tabs")):
+        if len(header) == 1 and mark in header[0]:
+            check.problems.append(
+                f"{path}:row 1: the columns are separated by {called}, not commas (some spreadsheets save "
+                "CSV so in some languages); save it again as CSV with commas between the columns"
+            )
+            return []
     for column in header:
         if column not in known:
             check.problems.append(
@@ -492,6 +505,19 @@ def _csv_value(cell: str, kind: str) -> Any:
     return cell
 
 
+def _duplicates(check: _Checker, values: list[tuple[int, Any]], key: str, words: str) -> None:
+    """One problem per value given to more than one rider, naming where each is (the
+    CSV row, or the site.toml line); linear in the riders."""
+    places: dict[Any, list[int]] = {}
+    for index, value in values:
+        places.setdefault(value, []).append(index)
+    for value, where in places.items():
+        if len(where) > 1:
+            shown = "; ".join(check.where("riders", i, key).rstrip(":") for i in where[:3])
+            more = f" (and {len(where) - 3} more)" if len(where) > 3 else ""
+            check.problems.append(f"{shown}{more}: {words.format(value)}; give each a different {key}")
+
+
 def _stops(check: _Checker, index: int, route: dict) -> tuple[float, ...]:
     """``stops_min`` of one route, in seconds: numbers in range, one per checkpoint."""
     raw = route.get("stops_min")
@@ -503,7 +529,7 @@ def _stops(check: _Checker, index: int, route: dict) -> tuple[float, ...]:
         check.problems.append(f"{where} must list minutes between {low:g} and {high:g}, like [10, 0, 5]")
         return ()
     listed = route.get("checkpoints") or ()
-    if len(raw) != len(listed):
+    if listed and len(raw) != len(listed):  # none listed: the GPX's checkpoints, counted when it is read
         check.problems.append(
             f"{where} has {len(raw)} {'entry' if len(raw) == 1 else 'entries'} for {plural(len(listed), 'checkpoint')} listed; "
             "give one stop per checkpoint "

@@ -58,6 +58,11 @@ def read_toml(path: Path, what: str, error: type[CardgenError]) -> tuple[dict, s
         return tomllib.loads(text), text
     except tomllib.TOMLDecodeError as exc:
         raise error(f"{path}: not valid TOML: {exc}; fix the syntax there") from None
+    except RecursionError:  # the parser recurses once per level: Python's stack is the bound
+        raise error(
+            f"{path}: not valid TOML: arrays or inline tables nested too deeply to read "
+            "(hundreds of levels); fix the syntax there"
+        ) from None
 
 
 def read_package_toml(package: str, *parts: str) -> dict:

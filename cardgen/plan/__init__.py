@@ -1,7 +1,8 @@
 """Route × rider (vehicle and effort) × conditions → Plan: data only.
 
 :mod:`~cardgen.plan.model` holds the frozen result types, :mod:`~cardgen.plan.rider`
-makes one rider's plan, :mod:`~cardgen.plan.event` puts many plans together
+makes one rider's plan, :mod:`~cardgen.plan.route_plans` plans every rider on one route (for the build and
+the ``route`` command alike), :mod:`~cardgen.plan.event` puts many plans together
 (checkpoint windows). It knows nothing of GPX or HTML and makes no words: notices
 carry codes and numbers.
 """
@@ -9,6 +10,7 @@ carry codes and numbers.
 from cardgen.plan.event import CheckpointWindow, checkpoint_windows
 from cardgen.plan.model import Analysis, ClimbRow, DescentRow, Notice, Plan, TimedCue, Totals
 from cardgen.plan.rider import analyse, make_plan
+from cardgen.plan.route_plans import RoutePlans, plan_route
 
 __all__ = [
     "Analysis",
@@ -17,9 +19,11 @@ __all__ = [
     "DescentRow",
     "Notice",
     "Plan",
+    "RoutePlans",
     "TimedCue",
     "Totals",
     "analyse",
     "checkpoint_windows",
     "make_plan",
+    "plan_route",
 ]

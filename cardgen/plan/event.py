@@ -35,8 +35,10 @@ def checkpoint_windows(
     ``speeds`` = (slowest, fastest) average speeds [m/s] since the start (the usual
     rule of timed events; common practice, no published source), it opens at the
     first start + distance / fastest and closes at the last start + distance /
-    slowest. Both to the whole minute outward; the finish likewise. Returns
-    (windows, finish window).
+    slowest, widened where needed so that every planned arrival, and every planned
+    stop at the checkpoint to its end, lies inside (a window that shuts while a rider
+    is still stopped there helps nobody). Both to the whole minute outward; the finish
+    likewise. Returns (windows, finish window).
     """
     starts = list(start) if not isinstance(start, datetime) else [start] * len(plans)
 
@@ -46,14 +48,16 @@ def checkpoint_windows(
 
     def window(checkpoint: Checkpoint) -> CheckpointWindow:
         arrivals = tuple(at(p, s, checkpoint.distance) for p, s in zip(plans, starts, strict=True))
+        stop = timedelta(seconds=checkpoint.stop)
+        reached = [a for a in arrivals if a is not None] or [min(starts)]  # none arrives: the first start
         if speeds is not None:
             slowest, fastest = speeds
             opens = min(starts) + timedelta(seconds=checkpoint.distance / fastest)
             closes = max(starts) + timedelta(seconds=checkpoint.distance / slowest)
+            opens, closes = min(opens, min(reached)), max(closes, max(reached) + stop)
         else:
-            reached = [a for a in arrivals if a is not None] or [min(starts)]  # none arrives: the first start
             opens = min(reached) - timedelta(seconds=margin)
-            closes = max(reached) + timedelta(seconds=margin)
+            closes = max(reached) + stop + timedelta(seconds=margin)
         # to the minute, outward: a planned arrival is never outside the printed window
         return CheckpointWindow(checkpoint, _minute_down(opens), _minute_up(closes), arrivals)
 

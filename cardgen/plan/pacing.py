@@ -74,6 +74,10 @@ STALL_TIME = 1e5
 #: Multipliers tried in each round of the bisection, and rounds.
 KAPPAS = 8
 ROUNDS = 4
+#: Multipliers the dynamic programme tries at once (one pass over the route).
+PROGRAMME_KAPPAS = 16
+#: Asked again for a corrected mean, κ is sought within this factor of the last.
+REFIT = 1.3
 #: A stretch where W′ matters ends where the balance is back above this share of W′.
 WINDOW_FULL = 0.98
 #: With W′ binding, κ is sought between its value without W′ and this many times it.
@@ -244,9 +248,8 @@ def plan_pacing(
         return _result(powers, times, index, starts, kappa, False)
     # W′ lowers the power on climbs, so the mean needs a higher price of time
     programme = _programme(powers, times, cp, w_prime, _windows(balance, w_prime), keep)
-    hint = kappa if kappa_hint is None else kappa_hint
-    narrow = 1.0 + (WIDEN - 1.0) * (kappa_hint is None)
-    kappa, index = _bisect(programme.solve, powers, times, mean_power, hint / narrow**0.1, hint * narrow, 2)
+    low, high = (kappa, kappa * WIDEN) if kappa_hint is None else (kappa_hint / REFIT, kappa_hint * REFIT)
+    kappa, index = _bisect(programme.solve, powers, times, mean_power, low, high, 1, PROGRAMME_KAPPAS)
     return _result(powers, times, index, starts, kappa, True)
 
 
@@ -298,29 +301,24 @@ def _mean(powers, times, index) -> np.ndarray:
     return np.sum(powers[index] * chosen, axis=1) / np.sum(chosen, axis=1)
 
 
-def _bisect(solve, powers, times, target, low, high, rounds=ROUNDS) -> tuple[float, np.ndarray]:
+def _bisect(solve, powers, times, target, low, high, rounds=ROUNDS, count=KAPPAS) -> tuple[float, np.ndarray]:
     """κ on a log scale between ``low`` and ``high`` whose plan's mean power is
-    closest to ``target`` from below; ``solve`` maps an array of κ to their plans."""
-    best: tuple[float, np.ndarray] | None = None
+    closest to ``target``; ``solve`` maps an array of κ to their plans. Each round
+    tries ``count`` values and narrows to the two around the target."""
+    closest: tuple[float, float, np.ndarray] | None = None
     for _ in range(rounds):
-        kappas = np.geomspace(low, high, KAPPAS)
+        kappas = np.geomspace(low, high, count)
         plans = solve(kappas)
         means = _mean(powers, times, plans)
+        k = int(np.argmin(np.abs(means - target)))
+        if closest is None or abs(means[k] - target) < closest[0]:
+            closest = (abs(float(means[k]) - target), float(kappas[k]), plans[k])
         below = np.flatnonzero(means <= target)
-        if below.size == 0:
-            return float(kappas[0]), plans[0]
-        k = int(below[-1])
-        best = (float(kappas[k]), plans[k])
-        if k == KAPPAS - 1:
+        if below.size == 0 or below[-1] == count - 1:
             break
-        low, high = kappas[k], kappas[k + 1]
-    assert best is not None
-    # between the bracket's ends the mean moves in small steps; take the upper end
-    # when it is closer to the target
-    upper = solve(np.array([high]))
-    if abs(_mean(powers, times, upper)[0] - target) < abs(_mean(powers, times, best[1][None])[0] - target):
-        return float(high), upper[0]
-    return best
+        low, high = kappas[below[-1]], kappas[below[-1] + 1]
+    assert closest is not None
+    return closest[1], closest[2]
 
 
 class _Programme:
@@ -411,7 +409,7 @@ TABLE_CACHE = 16
 _tables: OrderedDict[str, tuple[np.ndarray, np.ndarray]] = OrderedDict()
 #: The ridden mean power may miss the day's effort by this share before the
 #: programme is asked again with the miss corrected …
-MEAN_TOLERANCE = 0.005
+MEAN_TOLERANCE = 0.01
 #: … at most this many times.
 FIT_ROUNDS = 2
 #: Rounds of cutting the motor where the battery runs out (each only cuts earlier).

@@ -230,7 +230,12 @@ def make_plan(
         TimedCue(c, arrival_time(terrain.distance, ride.elapsed, stops, c.distance)) for c in route.cues
     )
 
-    energy = float(np.sum(np.maximum(ride.rider_power, 0.0) * ride.time))
+    # work only where the rider pedals: a stalled segment (infinite time) at 0 W adds
+    # nothing, one at a positive power makes the total infinite ("cannot complete")
+    pedalled = ride.rider_power > 0
+    energy = float(
+        np.sum(np.multiply(ride.rider_power, ride.time, out=np.zeros_like(ride.time), where=pedalled))
+    )
     slow = (ride.mean_speed < vehicle.min_stable_speed) & (ride.rider_power > 0)
     battery = fits = None
     warnings = [Notice("track", "info", (("text", w),)) for w in route.warnings]

@@ -8,7 +8,7 @@ from cardgen.render import format as fmt
 
 #: Names of the pacing styles on cards and pages.
 STYLE_NAMES = {
-    "best": "best use of the day's effort (above CP on climbs where the reserve allows)",
+    "best": "best use of the day's effort",
     "steady": "steady, never above CP",
 }
 #: Shares of W′ left at a climb's top and how the card says them: below the first,
@@ -22,19 +22,16 @@ EASE_SHARE = 0.35
 
 def effort_line(plan, units: str = "metric") -> str:
     """The day's effort and style: "Pacing: steady, never above CP · 150 W on
-    average, 70 % of CP (the default for a ride of about 3:20)"."""
+    average, 70 % of CP (the default for a ride of about 3:20) · reserve above CP
+    (W′) 15.0 kJ"."""
     e = plan.effort
     if e is None:
         return ""
     share = e.mean_power / plan.rider.cp
-    assumed = (
-        "your own setting"
-        if e.given
-        else f"the default for a ride of about {fmt.duration(e.duration)}; set flat_w to change it"
-    )
+    assumed = "your setting" if e.given else f"the default for a ride of about {fmt.duration(e.duration)}"
     return (
         f"Pacing: {STYLE_NAMES.get(e.style, e.style)} · {fmt.power(e.mean_power)} on average, "
-        f"{share * 100:.0f} % of CP ({assumed})"
+        f"{share * 100:.0f} % of CP ({assumed}) · reserve above CP (W′) {plan.rider.w_prime / 1000:.1f} kJ"
     )
 
 
@@ -61,3 +58,15 @@ def descent_advice(row, plan, units: str = "metric") -> str:
     if row.rider_power < EASE_SHARE * mean:
         return "ease off and let it roll"
     return f"keep pedalling, about {fmt.power(row.rider_power)}"
+
+
+def descents_advice(plan, units: str = "metric") -> list[str]:
+    """The descents' advice in as few lines as it takes: "Descents 1, 2: ease off and
+    let it roll"."""
+    groups: dict[str, list[str]] = {}
+    for row in plan.descents:
+        groups.setdefault(descent_advice(row, plan, units), []).append(str(row.number))
+    return [
+        f"{'Descent' if len(numbers) == 1 else 'Descents'} {', '.join(numbers)}: {text}"
+        for text, numbers in groups.items()
+    ]

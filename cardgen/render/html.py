@@ -48,10 +48,24 @@ SYMBOLS = {
 }
 
 
+#: Latin letters that Unicode does not decompose into a base letter and a mark, with
+#: their usual ASCII spelling (Ł → L, Ø → O, ß → ss, …), so that a name keeps them.
+_UNDECOMPOSED = str.maketrans(
+    {
+        "Ł": "L", "ł": "l", "Ø": "O", "ø": "o", "Đ": "D", "đ": "d", "Ð": "D", "ð": "d",
+        "Þ": "Th", "þ": "th", "Æ": "AE", "æ": "ae", "Œ": "OE", "œ": "oe", "ß": "ss",
+        "ı": "i", "Ħ": "H", "ħ": "h", "Ŧ": "T", "ŧ": "t", "Ŋ": "N", "ŋ": "n", "ĸ": "k",
+    }
+)  # fmt: skip
+
+
 def slugify(text: str, taken: set[str] | None = None) -> str:
     """A file and URL name of ASCII letters, digits and hyphens: never empty, never
-    '.' or '..', unique among ``taken`` (which it updates)."""
-    ascii_text = unicodedata.normalize("NFKD", text).encode("ascii", "ignore").decode("ascii")
+    '.' or '..', unique among ``taken`` (which it updates). Accented letters lose
+    their marks and letters such as Ł, Ø and ß are spelt out (L, O, ss)."""
+    ascii_text = (
+        unicodedata.normalize("NFKD", text.translate(_UNDECOMPOSED)).encode("ascii", "ignore").decode("ascii")
+    )
     slug = re.sub(r"[^a-z0-9]+", "-", ascii_text.lower()).strip("-")[:60].strip("-") or "route"
     if taken is not None:
         base, n = slug, 2

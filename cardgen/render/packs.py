@@ -8,7 +8,9 @@ puts each card on sheets of its own and every card begins on an odd (front) page
 ``all-cards-2up.pdf`` (A5 cards only): the same pages imposed two A5 pages side by
 side on A4 landscape sheets, for cut-and-stack: cards are taken in pairs (A, B); a
 sheet's front carries A's and B's front pages, its back B's and A's back pages
-(swapped, as a long-edge flip turns the sheet), with cut marks at the middle.
+(swapped: turned over about its short edge, like a book page, the sheet's right
+half is behind its left), with cut marks at the middle. So it is printed double-sided
+with "flip on short edge", as its cover says.
 """
 
 from __future__ import annotations
@@ -105,7 +107,7 @@ def impose_two_up(pack: Path, target: Path, card_firsts: Sequence[int]) -> None:
             for i in range(length + length % 2):
                 a = left[i] if i < len(left) else None
                 b = right[i] if i < len(right) else None
-                order = (a, b) if i % 2 == 0 else (b, a)  # a long-edge flip swaps left and right
+                order = (a, b) if i % 2 == 0 else (b, a)  # a short-edge flip swaps left and right
                 sheet = out.add_blank_page(page_size=(width, height))
                 forms, ops = pikepdf.Dictionary(), []
                 for slot, index in enumerate(order):

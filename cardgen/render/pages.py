@@ -241,7 +241,11 @@ def _write_plots(config, job: RouteJob, folder: Path) -> dict:
     hardest = _hardest(analysis.climbs)
     if hardest is not None and job.riders:
         index = analysis.climbs.index(hardest)
-        power_svg, power_alt = plots.power_curves([(e.name, e.plan.climbs[index]) for e in job.riders], units)
+        power_svg, power_alt = plots.power_curves(
+            [(e.name, e.plan.climbs[index]) for e in job.riders],
+            units,
+            kinds=[e.plan.rider.vehicle.label for e in job.riders],
+        )
         (folder / "power.svg").write_text(power_svg, encoding="utf-8")
     return {
         "profile_alt": alt,
@@ -351,6 +355,7 @@ def _render_route(config, site: dict, job: RouteJob, folder: Path) -> tuple[dict
         effort_line=functools.partial(advice.effort_line, units=units),
         climb_advice=functools.partial(advice.climb_advice, units=units),
         descent_advice=functools.partial(advice.descent_advice, units=units),
+        descents_advice=functools.partial(advice.descents_advice, units=units),
     )
     (folder / "index.html").write_text(
         env.get_template("route.html").render(
@@ -726,7 +731,12 @@ def render_packs(config, routes: list[tuple[str, dict]], folder: Path, fresh: se
         firsts = make_pack(
             entries,
             lambda rows: cover.render(
-                title=config.title, subtitle=subtitle, rows=rows, page=page, show_route=show_route
+                title=config.title,
+                subtitle=subtitle,
+                rows=rows,
+                page=page,
+                show_route=show_route,
+                two_up=config.card_size == "A5",
             ),
             where,
             target,

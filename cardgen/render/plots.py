@@ -212,12 +212,33 @@ def elevation_profile(
     return svg, " ".join(parts)
 
 
-def power_curves(rows, units: str = "metric", *, width_in: float = 6.6, height_in: float = 2.6):
-    """Power needed against speed on one climb's average grade, one line per rider,
-    each marked where that rider rides the climb (their planned average speed there,
-    assist included). ``rows`` is a list of (label, climb row of the rider's plan); the
-    curves are the plan's own (the climb's grade, mean wind and air density). Returns
-    (svg, alt text)."""
+#: Riders on one power chart drawn one by one; more are drawn one curve per vehicle
+#: kind (a legend of hundreds would cover the plot).
+CURVES_PER_RIDER_UP_TO = 8
+
+
+def _curve_groups(rows, kinds) -> list[tuple[str, list]]:
+    """(legend label, climb rows) of each curve: each rider when there are few, else
+    each vehicle kind with its riders counted."""
+    if kinds is None or len(rows) <= CURVES_PER_RIDER_UP_TO:
+        return [(label, [row]) for label, row in rows]
+    groups: dict[str, list] = {}
+    for (_, row), kind in zip(rows, kinds, strict=True):
+        groups.setdefault(kind, []).append(row)
+    return [
+        (f"{kind} ({len(members)} rider{'s' if len(members) > 1 else ''})", members)
+        for kind, members in groups.items()
+    ]
+
+
+def power_curves(rows, units: str = "metric", *, kinds=None, width_in: float = 6.6, height_in: float = 2.6):
+    """Power needed against speed on one climb's average grade: one line per rider,
+    or, for more than :data:`CURVES_PER_RIDER_UP_TO` riders, one per vehicle kind
+    (``kinds``, one per row: the curve of the kind's median rider by power, every
+    rider of the kind marked where they ride). Each rider is marked at their planned
+    average speed there, assist included. ``rows`` is a list of (label, climb row of
+    the rider's plan); the curves are the plan's own (the climb's grade, mean wind and
+    air density). Returns (svg, alt text)."""
     from matplotlib import colormaps
 
     imperial = units == "imperial"
@@ -226,11 +247,13 @@ def power_curves(rows, units: str = "metric", *, width_in: float = 6.6, height_i
     ax = fig.add_subplot()
     markers = ["o", "s", "^", "D", "v", "P", "X", "*"]
     styles = ["-", "--", "-.", ":", (0, (5, 1, 1, 1, 1, 1))]
-    shades = colormaps["cividis"](np.linspace(0.0, 0.75, max(2, len(rows))))
+    groups = _curve_groups(rows, kinds)
+    shades = colormaps["cividis"](np.linspace(0.0, 0.75, max(2, len(groups))))
     alt = []
     climb = rows[0][1].climb
-    for i, (label, row) in enumerate(rows):
-        speeds, watts = row.power_curve
+    for i, (label, members) in enumerate(groups):
+        ordered = sorted(members, key=lambda r: r.power_at_effort)
+        speeds, watts = ordered[(len(ordered) - 1) // 2].power_curve
         ax.plot(
             speeds * to_shown,
             watts,
@@ -242,20 +265,17 @@ def power_curves(rows, units: str = "metric", *, width_in: float = 6.6, height_i
             markevery=(i * 2, 12),
             markersize=3.5,
         )
-        at, need = row.speed_at_effort, row.power_at_effort
         ax.plot(
-            [at * to_shown],
-            [need],
+            [r.speed_at_effort * to_shown for r in members],
+            [r.power_at_effort for r in members],
             color=shades[i],
             marker=markers[i % len(markers)],
-            markersize=7,
+            markersize=7 if len(members) == 1 else 4.5,
             markeredgecolor=INK,
+            markeredgewidth=0.6,
             linestyle="none",
         )
-        assist = f" with assist {row.assist_name}" if row.assist_name and row.assist_level else ""
-        alt.append(
-            f"{label} rides it at about {fmt.speed(at, units)}{assist}, which takes {fmt.power(need)} in all"
-        )
+        alt.append(_curve_alt(label, members, units))
     ax.set_xlabel("speed (mph)" if imperial else "speed (km/h)", fontsize=8, color=INK)
     ax.set_ylabel("power needed (W)", fontsize=8, color=INK)
     ax.set_ylim(0, None)
@@ -263,13 +283,32 @@ def power_curves(rows, units: str = "metric", *, width_in: float = 6.6, height_i
     ax.grid(color="#bbbbbb", linewidth=0.4)
     for spine in ("top", "right"):
         ax.spines[spine].set_visible(False)
-    for text in ax.legend(fontsize=7, frameon=False).get_texts():
+    # a fixed place: matplotlib's search for the best one grows with the points drawn
+    for text in ax.legend(fontsize=7, frameon=False, loc="upper left").get_texts():
         text.set_parse_math(False)
+    each = "each rider" if len(groups) == len(rows) else "each vehicle kind (its median rider)"
     text = (
         f"Power needed against speed on a steady {fmt.grade(climb.avg_grade)} grade (the hardest climb's "
-        f"average), for each rider; markers show where each rider rides it: " + "; ".join(alt) + "."
+        f"average), for {each}; markers show where each rider rides it: " + "; ".join(alt) + "."
     )
     return _svg(fig), text
+
+
+def _curve_alt(label: str, members, units: str) -> str:
+    """The text of one curve: where its rider rides the climb, or its riders' range."""
+    if len(members) == 1:
+        row = members[0]
+        at, need = row.speed_at_effort, row.power_at_effort
+        assist = f" with assist {row.assist_name}" if row.assist_name and row.assist_level else ""
+        return (
+            f"{label} rides it at about {fmt.speed(at, units)}{assist}, which takes {fmt.power(need)} in all"
+        )
+    speeds = sorted(r.speed_at_effort for r in members)
+    watts = sorted(r.power_at_effort for r in members)
+    return (
+        f"{label} ride it at {fmt.speed(speeds[0], units)} to {fmt.speed(speeds[-1], units)}, "
+        f"taking {fmt.power(watts[0])} to {fmt.power(watts[-1])} in all"
+    )
 
 
 def _literal(label: str) -> str:

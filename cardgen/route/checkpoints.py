@@ -41,13 +41,21 @@ def resolve_checkpoints(
     """The checkpoints a configuration names: waypoint names (str) or distances [m];
     none given: the waypoints typed "checkpoint". Sorted by distance. Each gets its
     planned stop [s]: ``stops`` one per item (a waypoint passed twice stops at each
-    pass), else ``stop``.
+    pass; with no items, one per GPX checkpoint in route order), else ``stop``.
 
     Raises ConfigError naming ``where`` (the GPX file) for a name that is not a
     waypoint or a distance off the route.
     """
     if not items:
-        return [Checkpoint(c.name, c.distance, stop) for c in checkpoints_from_waypoints(track, terrain)]
+        found = checkpoints_from_waypoints(track, terrain)
+        if stops and len(stops) != len(found):
+            raise ConfigError(
+                f"{where}: stops_min has {len(stops)} entries but the GPX file marks {len(found)} "
+                f"checkpoint{'' if len(found) == 1 else 's'} (waypoints of type \"checkpoint\"); give one stop "
+                "for each, in route order, or list the checkpoints"
+            )
+        pauses = list(stops) if stops else [stop] * len(found)
+        return [Checkpoint(c.name, c.distance, float(p)) for c, p in zip(found, pauses, strict=True)]
     names = {w.name for w in track.waypoints}
     out: list[Checkpoint] = []
     problems: list[str] = []
