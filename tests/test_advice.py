@@ -51,4 +51,7 @@ def test_descent_advice_is_to_ease_or_to_pedal():
 def test_descents_with_the_same_advice_share_a_line():
     plan = _plan()
     plan.descents = [SimpleNamespace(number=n, rider_power=p) for n, p in ((1, 10.0), (2, 0.0), (3, 118.0))]
-    assert descents_advice(plan) == ["Descents 1, 2: ease off and let it roll", "Descent 3: keep pedalling, about 120 W"]
+    assert descents_advice(plan) == [
+        "Descents 1, 2: ease off and let it roll",
+        "Descent 3: keep pedalling, about 120 W",
+    ]
