@@ -11,12 +11,14 @@ the build process and of its largest worker (target <= 1 GB each), this tree's t
 as a share of the earlier commit's (target <= 0.35), the one-rider rebuild as a share
 of the full build (target <= 10 %) and the print packs' share (target <= 5 %).
 
-    .venv/bin/python bench/bench_event.py [--riders 300] [--baseline REV | --no-baseline]
+    .venv/bin/python bench/bench_event.py [--riders 300] [--baseline REV | --no-baseline | --old-fitter]
                                           [--no-pdf] [--jobs 2]
 
 ``--baseline`` names the commit to compare with (default: the last commit before the
 fitter learned variants); it is unpacked with ``git archive`` into bench/out, no
-worktree is registered. ``--riders 3000 --no-baseline`` measures the scaling.
+worktree is registered. ``--old-fitter`` compares instead with this very tree running
+that commit's fitter (so that later changes elsewhere, such as slower planning, do not
+blur the fitter's share). ``--riders 3000 --no-baseline`` measures the scaling.
 """
 
 from __future__ import annotations
@@ -68,6 +70,47 @@ def counted(self, *args, **kwargs):
     return render(self, *args, **kwargs)
 
 weasyprint.HTML.render = counted
+if os.environ.get("BENCH_OLD_FITTER"):  # this tree, with the fitter of commit 0f5edd5
+    import logging
+    from cardgen.build import pipeline
+    from cardgen.render import pdf as _pdf
+
+    def write_fitting_pdf(variants, base, target, budget):
+        logging.getLogger("weasyprint").setLevel(logging.ERROR)
+        fetcher = _pdf.build_only_fetcher(base)
+        url = base.resolve().as_uri() + "/"
+        last, laid = len(variants) - 1, {}
+
+        def layout(index):
+            if index not in laid:
+                laid[index] = weasyprint.HTML(string=variants[index], base_url=url, url_fetcher=fetcher).render(
+                    pdf_tags=True
+                )
+            return laid[index]
+
+        lo, hi = 0, last
+        while lo < hi:
+            mid = (lo + hi) // 2
+            if len(layout(mid).pages) <= budget:
+                hi = mid
+            else:
+                lo = mid + 1
+        document = layout(lo)
+        pages = len(document.pages)
+        document.write_pdf(target, pdf_identifier=b"cardgen", uncompressed_pdf=False, pdf_tags=True)
+        if lo == last and pages % 2:
+            _pdf._add_blank_page(target)
+        return lo, pages
+
+    def old_render_pdfs(cards):
+        for card in cards:
+            if card.variants:
+                write_fitting_pdf(card.variants, Path(card.base), Path(card.target), card.budget)
+            else:
+                _pdf.write_pdf(card.html, Path(card.base), Path(card.target))
+        return [c.target for c in cards], 0
+
+    pipeline._render_pdfs = old_render_pdfs
 t0 = time.perf_counter()
 report = build_site(load_config(Path(site)), Path(out), jobs=jobs, pdf=pdf)
 wall = time.perf_counter() - t0
@@ -106,10 +149,12 @@ def _unpack(revision: str) -> Path:
     return tree
 
 
-def _build(tree: Path, site: Path, out: Path, jobs: int, pdf: bool) -> dict:
+def _build(tree: Path, site: Path, out: Path, jobs: int, pdf: bool, old_fitter: bool = False) -> dict:
     count = out.parent / f"{out.name}.layouts"
     count.unlink(missing_ok=True)
     env = {**os.environ, "PYTHONPATH": str(tree)}
+    if old_fitter:
+        env["BENCH_OLD_FITTER"] = "1"
     done = subprocess.run(
         [sys.executable, "-c", BUILD, str(site), str(out), str(jobs), "1" if pdf else "0", str(count)],
         capture_output=True,
@@ -140,6 +185,12 @@ def main() -> None:
     parser.add_argument("--riders", type=int, default=300)
     parser.add_argument("--baseline", default=BASELINE)
     parser.add_argument("--no-baseline", action="store_true")
+    parser.add_argument(
+        "--old-fitter",
+        action="store_true",
+        help="compare with this tree running commit 0f5edd5's fitter (three layouts by halving) instead of "
+        "with the baseline commit: isolates the fitter from other changes since",
+    )
     parser.add_argument("--no-pdf", action="store_true")
     parser.add_argument("--jobs", type=int, default=2)
     args = parser.parse_args()
@@ -160,14 +211,19 @@ def main() -> None:
         f"{args.riders} riders on 40, 100 and 160 km, {'with' if pdf else 'without'} PDFs, --jobs {args.jobs}"
     )
     before = None
-    if not args.no_baseline:
+    label = f"commit {args.baseline}"
+    if args.old_fitter:
+        label = "this tree with the old fitter"
+        before = _build(ROOT, site, folder / "site-before", args.jobs, pdf, old_fitter=True)
+        print(_line(label, before, args.riders))
+    elif not args.no_baseline:
         before = _build(_unpack(args.baseline), site, folder / "site-before", args.jobs, pdf)
-        print(_line(f"commit {args.baseline}", before, args.riders))
+        print(_line(label, before, args.riders))
     now = _build(ROOT, site, folder / "site", args.jobs, pdf)
     print(_line("this tree", now, args.riders))
     if before:
         print(
-            f"this tree / commit {args.baseline}: wall {now['wall'] / before['wall']:.2f}, "
+            f"this tree / {label}: wall {now['wall'] / before['wall']:.2f}, "
             f"CPU {now['cpu'] / before['cpu']:.2f} (target <= 0.35)"
         )
     _write_riders(folder, args.riders, changed=True)

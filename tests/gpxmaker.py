@@ -105,3 +105,46 @@ def long_route(
     feeds.append((out_back, "Feed on the out-and-back"))
     waypoints = [{"lat": float(lat[i]), "lon": float(lon[i]), "name": name} for i, name in feeds]
     return write_gpx(path, lat, lon, e, waypoints=waypoints, name="Invented long route")
+
+
+def town_route(path: Path, km: float = 30.0, spacing: float = 10.0, seed: int = 21) -> Path:
+    """An invented 30 km ride through a town's street grid: blocks of 150–450 m
+    joined by right-angle turns at single track points (junctions, as a route planner
+    draws them), points every ``spacing`` m between them, and gentle rolling
+    elevation (grades under 3 %). Fixed ``seed``: the same file every time."""
+    rng = np.random.default_rng(seed)
+    heading, x, y = 90.0, [0.0], [0.0]
+    total = 0.0
+    while total < km * 1000.0:
+        block = float(rng.uniform(150.0, 450.0))
+        n = max(1, int(block // spacing))
+        h = math.radians(heading)
+        for _ in range(n):
+            x.append(x[-1] + spacing * math.sin(h))
+            y.append(y[-1] + spacing * math.cos(h))
+        total += n * spacing
+        heading += 90.0 if rng.random() < 0.5 else -90.0
+    x, y = np.array(x), np.array(y)
+    s = np.concatenate(([0.0], np.cumsum(np.hypot(np.diff(x), np.diff(y)))))
+    e = 40.0 + 12.0 * np.sin(s / 1500.0) + 5.0 * np.sin(s / 430.0)  # steepest about 2 %
+    lat, lon = to_latlon(x, y)
+    return write_gpx(path, lat, lon, e, name="Invented town ride")
+
+
+def switchback_climb(path: Path, grade: float = 0.09, leg: float = 600.0, spacing: float = 10.0) -> Path:
+    """An invented climb that zig-zags: ``leg`` m east, a U-turn drawn as one track
+    point onto a road 10 m to the north, ``leg`` m west, all at ``grade``, with 300 m
+    of flat before and after. The U-turn sits inside the climb."""
+    x = list(np.arange(-300.0, leg + 0.1, spacing))
+    y = [0.0] * len(x)
+    x.append(leg + 5.0)  # the U-turn: one point
+    y.append(5.0)
+    back = np.arange(leg, -300.0 - 0.1, -spacing)
+    x += list(back)
+    y += [10.0] * back.size
+    x, y = np.array(x), np.array(y)
+    s = np.concatenate(([0.0], np.cumsum(np.hypot(np.diff(x), np.diff(y)))))
+    climb_end = s[-1] - 300.0
+    e = 100.0 + grade * np.clip(s - 300.0, 0.0, climb_end - 300.0)
+    lat, lon = to_latlon(x, y)
+    return write_gpx(path, lat, lon, e, name="Invented switchback climb")

@@ -1,5 +1,6 @@
 """`cardgen route` on the sample routes, as a user runs it."""
 
+import json
 from pathlib import Path
 
 import numpy as np
@@ -152,8 +153,14 @@ def test_route_json_warnings_are_objects_with_their_place(cli):
     (descent,) = out["descents"]
     curves = [w for w in descent["warnings"] if w["code"] == "curve"]
     assert curves and all(
-        set(w) >= {"code", "severity", "text", "at_km", "radius_m", "safe_speed_kmh"} for w in curves
+        set(w) >= {"code", "severity", "text", "at_km", "radius_m", "slow_to_kmh"} for w in curves
     )
     for w in curves:  # v = √(a·R) at the vehicle's 0.2 g (FHWA-HRT-04-103, 2004)
-        assert w["safe_speed_kmh"] == pytest.approx((0.2 * 9.80665 * w["radius_m"]) ** 0.5 * 3.6, rel=0.01)
+        # the card's figures: the radius rounded down to its step, the speed down to 0.5 km/h
+        step = 1.0 if w["radius_m"] < 30 else 5.0 if w["radius_m"] < 100 else 10.0
+        low = (0.2 * 9.80665 * w["radius_m"]) ** 0.5 * 3.6
+        high = (0.2 * 9.80665 * (w["radius_m"] + step)) ** 0.5 * 3.6
+        assert w["slow_to_kmh"] % 0.5 == 0 and low - 0.5 <= w["slow_to_kmh"] <= high
+        assert f"slow to {w['slow_to_kmh']:.1f} km/h" in w["text"]
+        assert "safe" not in json.dumps(w)
         assert descent["start_km"] <= w["at_km"] <= descent["end_km"] + 0.1

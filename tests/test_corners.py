@@ -106,3 +106,45 @@ def test_a_straight_with_gps_noise_has_no_corner():
         y = rng.normal(0, sigma, 400)
         lat, lon = to_latlon(x, y)
         assert find_corners(lat, lon, cumulative_distance(lat, lon)) == []
+
+
+@pytest.mark.parametrize("spacing", [5.0, 10.0])
+@pytest.mark.parametrize("radius", [5.0, 7.7])
+def test_hairpins_within_one_percent_and_printed_apart(radius, spacing):
+    """A U-turn's two straights are 2R apart (AASHTO 2018, §3.3): its radius within
+    1 %, printed rounded down to the metre, so 5 m and 7.7 m hairpins read apart."""
+    from cardgen.render.format import radius as printed
+
+    for phase in np.linspace(0.0, spacing, 4, endpoint=False):
+        (corner,), _ = fitted(radius, 180.0, spacing, phase)
+        assert corner.radius == pytest.approx(radius, rel=0.01)
+        assert not corner.junction
+        assert printed(corner.radius) == f"{int(radius)} m"
+
+
+@pytest.mark.parametrize("spacing", [5.0, 10.0])
+def test_a_6_m_corner_is_never_read_below_the_least_turn_radius(spacing):
+    """A 90° corner of 6 m radius (the simple curve, AASHTO 2018 §3.3): at 5 m
+    spacing points lie on its arc and pin it within 1 %; at 10 m some phases leave no
+    point on the arc, and the radius is then only bounded: never below
+    MIN_TURN_RADIUS (5 m), never above the truth by more than 5 %."""
+    from cardgen.route.corners import MIN_TURN_RADIUS
+
+    for phase in np.linspace(0.0, spacing, 4, endpoint=False):
+        (corner,), pinned = fitted(6.0, 90.0, spacing, phase)
+        if spacing == 5.0:
+            assert corner.radius == pytest.approx(6.0, rel=0.01)
+        assert MIN_TURN_RADIUS <= corner.radius <= 6.3
+        assert corner.junction == (not pinned)
+
+
+@pytest.mark.parametrize("spacing", [10.0, 25.0])
+def test_a_turn_at_one_track_point_is_a_junction(spacing):
+    """A right angle drawn as one track point (a junction, as route planners draw
+    it): marked a junction, its radius at least MIN_TURN_RADIUS."""
+    from cardgen.route.corners import MIN_TURN_RADIUS
+
+    for phase in np.linspace(0.0, spacing, 4, endpoint=False):
+        (corner,), pinned = fitted(0.01, 90.0, spacing, phase)
+        assert corner.junction and not pinned
+        assert corner.radius >= MIN_TURN_RADIUS

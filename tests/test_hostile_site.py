@@ -103,82 +103,213 @@ CASES = {
     "csv-quote-left-open": "an entrants CSV with a quote never closed: refused with its row",
     "csv-extra-cells": "an entrants CSV row with more cells than the header: refused with its row, never dropped",
     "toml-nested-50000": "a site.toml with 50,000 nested [: not valid TOML, one message (no RecursionError)",
+    "gpx-absolute-pattern": 'gpx = "/abs/folder/*.gpx": the pattern is read from that folder',
+    "gpx-symlink-loop": "a GPX file that is a symbolic link to itself: one message naming the key",
+    "gpx-nul-in-name": 'gpx = "t\\u0000.gpx": one message (no ValueError: embedded null byte)',
+    "pattern-never-matches-the-site": 'routes = "**/*.gpx" with the site built inside the event folder: rebuilds work',
+    "csv-thousands-separator": 'an entrants CSV battery_wh of "1,000": refused with row, column and the number format',
+    "csv-underscore-number": "an entrants CSV battery_wh of 2_00: refused with row and column (it was read as 200)",
+    "csv-etc-passwd": 'riders = "/etc/passwd": the count of unknown columns and the expected names, none of its text',
+    "checkpoint-nan": "checkpoints = [nan]: refused by check and by build alike",
+    "cue-text-nan": 'cue_texts = ["nan = …"]: refused by check and by build alike',
+    "cue-text-inf": 'cue_texts = ["inf = …"]: refused by check and by build alike',
+    "cue-text-1e308": 'cue_texts = ["1e308 = …"]: refused by check and by build alike',
+    "cue-text-99999": 'cue_texts = ["99999 = …"]: refused by check and by build alike (beyond 10,000 km)',
+    "cue-text-underscore": 'cue_texts = ["1_5 = …"]: refused by check and by build alike (it was read as 15 km)',
+    "title-nul": "a NUL character in the title (it was published raw into index.html): refused with its key",
+    "rider-name-escape": "an escape sequence in a rider's name: refused with its key, the message printing none of it",
+    "csv-name-nul": "a NUL character in a rider's name in the entrants CSV: refused with row and column",
+    "base-url-no-host": 'base_url = "http://" (QR codes for http:///…): refused',
+    "check-10000-riders-lines": "check of 10,000 riders: the riders are counted, no line of 188,902 characters",
 }
 
-#: The cases that are a site's input files and one command, and their outcome:
-#: ("error", words…): exit 1 and one error line holding the words, no traceback, and a
-#: build publishes nothing; ("ok", words…): exit 0 and the words in the output.
-#: Each: (text before [site], text after the route, {file: bytes}, command, outcome).
-CSV_SITE = 'riders = "entrants.csv"\n'
+#: The cases that are a site's input files and commands, and their outcome:
+#: ("error", words…): exit 1, a line holding all the words, no traceback, and a build
+#: publishes nothing; ("ok", words…): exit 0 and the words in the output. Each case:
+#: (parts of site.toml, {file: bytes or ("link", target)}, commands, outcome). The parts
+#: "top" (before [site]), "site" (in place of [site] with its title), "route" (more
+#: keys of the one route), "routes" (in place of it) and "riders" (in place of one
+#: road-bike rider); "{src}" is the site's folder.
+#: A case run by both check and build checks that the two agree.
+CSV_RIDERS = {"top": 'riders = "entrants.csv"\n', "riders": ""}
 INPUTS = {
     "csv-cr-line-endings": (
-        CSV_SITE,
-        "",
+        CSV_RIDERS,
         {"entrants.csv": b"name,vehicle\rAda,road-hoods\rBea,handcycle\r"},
-        "check",
+        ("check",),
         ("ok", "Ada", "Bea", "configuration and routes are fine"),
     ),
     "csv-cell-200k": (
-        CSV_SITE,
-        "",
+        CSV_RIDERS,
         {"entrants.csv": b"name,vehicle\nAda,road-hoods\n" + b"B" * 200_000 + b",handcycle\n"},
-        "build",
+        ("build",),
         ("error", "entrants.csv:row 3", "longer than 131,072 characters"),
     ),
     "csv-quote-left-open": (
-        CSV_SITE,
-        "",
+        CSV_RIDERS,
         {"entrants.csv": b'name,vehicle\nAda,road-hoods\n"Bea,handcycle\nCy,tandem\n'},
-        "check",
+        ("check",),
         ("error", "entrants.csv:row 3", "never closed"),
     ),
     "csv-extra-cells": (
-        CSV_SITE,
-        "",
+        CSV_RIDERS,
         {"entrants.csv": b"name,vehicle\nAda,road-hoods,250\nBea,handcycle,,\n"},
-        "check",
+        ("check",),
         ("error", "entrants.csv:row 2", "more cells than the header has columns (2)"),
     ),
-    "toml-nested-50000": (
-        "x = " + "[" * 50_000 + "]" * 50_000 + "\n",
-        "",
+    "csv-thousands-separator": (
+        CSV_RIDERS,
+        {"entrants.csv": b'name,vehicle,battery_wh\nAda,e-assist-city,"1,000"\n'},
+        ("check", "build"),
+        ("error", "entrants.csv:row 2, column battery_wh", "'1,000'", "no thousands separators"),
+    ),
+    "csv-underscore-number": (
+        CSV_RIDERS,
+        {"entrants.csv": b"name,vehicle,battery_wh\nAda,e-assist-city,2_00\n"},
+        ("check", "build"),
+        ("error", "entrants.csv:row 2, column battery_wh", "'2_00'"),
+    ),
+    "csv-etc-passwd": (
+        {"top": 'riders = "/etc/passwd"\n', "riders": ""},
         {},
-        "build",
+        ("check",),
+        ("error", "/etc/passwd:row 1: 1 unknown column (column 1)", "names the keys of [[riders]]: name"),
+    ),
+    "gpx-absolute-pattern": (
+        {"top": 'routes = "{src}/*.gpx"\n', "routes": ""},
+        {},
+        ("check",),
+        ("ok", "riverside-loop.gpx", "configuration and routes are fine"),
+    ),
+    "gpx-symlink-loop": (
+        {"routes": '[[routes]]\ngpx = "loop.gpx"\n'},
+        {"loop.gpx": ("link", "loop.gpx")},
+        ("check", "build"),
+        ("error", "routes[0].gpx", "loop.gpx is a symbolic link that leads back to itself"),
+    ),
+    "gpx-nul-in-name": (
+        {"routes": '[[routes]]\ngpx = "t\\u0000.gpx"\n'},
+        {},
+        ("check", "build"),
+        ("error", "routes[0].gpx", "NUL character"),
+    ),
+    "toml-nested-50000": (
+        {"top": "x = " + "[" * 50_000 + "]" * 50_000 + "\n"},
+        {},
+        ("build",),
         ("error", "site.toml: not valid TOML", "nested too deeply"),
     ),
+    "checkpoint-nan": (
+        {"route": "checkpoints = [nan]\n"},
+        {},
+        ("check", "build"),
+        ("error", "routes[0].checkpoints", "nan is not a distance"),
+    ),
+    "cue-text-nan": (
+        {"route": 'cue_texts = ["nan = Left"]\n'},
+        {},
+        ("check", "build"),
+        ("error", "routes[0].cue_texts", "'nan = Left'"),
+    ),
+    "cue-text-inf": (
+        {"route": 'cue_texts = ["inf = Left"]\n'},
+        {},
+        ("check", "build"),
+        ("error", "routes[0].cue_texts", "'inf = Left'"),
+    ),
+    "cue-text-1e308": (
+        {"route": 'cue_texts = ["1e308 = Left"]\n'},
+        {},
+        ("check", "build"),
+        ("error", "routes[0].cue_texts", "'1e308 = Left'"),
+    ),
+    "cue-text-99999": (
+        {"route": 'cue_texts = ["99999 = Left"]\n'},
+        {},
+        ("check", "build"),
+        ("error", "routes[0].cue_texts", "between 0 and 10,000"),
+    ),
+    "title-nul": (
+        {"site": '[site]\ntitle = "Spring\\u0000ride"\n'},
+        {},
+        ("check", "build"),
+        ("error", "site.title", "control character (U+0000) at character 7"),
+    ),
+    "rider-name-escape": (
+        {"riders": '[[riders]]\nname = "Ada \\u001b[31mRED"\nvehicle = "road-hoods"\n'},
+        {},
+        ("check", "build"),
+        ("error", "riders[0].name", "control character (U+001B)"),
+    ),
+    "csv-name-nul": (
+        CSV_RIDERS,
+        {"entrants.csv": b"name,vehicle\nAda\x00,road-hoods\n"},
+        ("check", "build"),
+        ("error", "entrants.csv:row 2, column name", "control character (U+0000)"),
+    ),
+    "base-url-no-host": (
+        {"site": '[site]\ntitle = "T"\nbase_url = "http://"\n'},
+        {},
+        ("check", "build"),
+        ("error", "site.base_url", "with a host name"),
+    ),
+    "cue-text-underscore": (
+        {"route": 'cue_texts = ["1_5 = Left"]\n'},
+        {},
+        ("check", "build"),
+        ("error", "routes[0].cue_texts", "'1_5 = Left'"),
+    ),
 }
+
+
+def _input_site(src: Path, parts: dict, files: dict) -> None:
+    src.mkdir()
+    shutil.copy(SAMPLES / "riverside-loop.gpx", src)
+    routes = parts.get("routes", '[[routes]]\ngpx = "riverside-loop.gpx"\n' + parts.get("route", ""))
+    site = parts.get("site", '[site]\ntitle = "T"\n')
+    text = parts.get("top", "") + site + routes + parts.get("riders", RIDER)
+    (src / "site.toml").write_text(text.replace("{src}", str(src)), encoding="utf-8")
+    for file, data in files.items():
+        if isinstance(data, tuple):  # ("link", target)
+            (src / file).symlink_to(data[1])
+        else:
+            (src / file).write_bytes(data)
 
 
 @pytest.mark.parametrize("name", list(INPUTS))
 def test_input_case(tmp_path, capsys, name):
-    head, tail, files, command, (kind, *words) = INPUTS[name]
+    parts, files, commands, (kind, *words) = INPUTS[name]
     assert name in CASES
-    src = tmp_path / "src"
-    src.mkdir()
-    shutil.copy(SAMPLES / "riverside-loop.gpx", src)
-    (src / "site.toml").write_text(
-        head
-        + '[site]\ntitle = "T"\n[[routes]]\ngpx = "riverside-loop.gpx"\n'
-        + (tail if head else RIDER + tail),
-        encoding="utf-8",
-    )
-    for file, data in files.items():
-        (src / file).write_bytes(data)
+    _input_site(tmp_path / "src", parts, files)
     out = tmp_path / "site"
-    args = [command, str(src / "site.toml")] + (
-        ["-o", str(out), "--no-pdf", "--jobs", "1"] if command == "build" else []
-    )
-    code = _run(*args)
-    captured = capsys.readouterr()
-    assert "Traceback" not in captured.err
-    if kind == "ok":
-        assert code == 0, captured.err
-        for word in words:
-            assert word in captured.out, captured.out
-        return
-    assert code == 1, captured.err
-    assert any(all(word in line for word in words) for line in captured.err.splitlines()), captured.err
-    assert not out.exists()
+    for command in commands:
+        args = [command, str(tmp_path / "src" / "site.toml")]
+        code = _run(*args, *(["-o", str(out), "--no-pdf", "--jobs", "1"] if command == "build" else []))
+        captured = capsys.readouterr()
+        assert "Traceback" not in captured.err
+        if kind == "ok":
+            assert code == 0, captured.err
+            assert all(word in captured.out for word in words), captured.out
+            continue
+        assert code == 1, (command, captured.err)
+        lines = captured.err.splitlines()
+        assert any(all(word in line for word in words) for line in lines), (command, captured.err)
+        assert not out.exists()
+
+
+def test_pattern_never_matches_the_site(tmp_path, capsys):
+    """The site's own route.gpx files (and a build's hidden folders) are no routes."""
+    src = tmp_path / "event"
+    (src / "routes").mkdir(parents=True)
+    shutil.copy(SAMPLES / "riverside-loop.gpx", src / "routes")
+    (src / "site.toml").write_text('routes = "**/*.gpx"\n[site]\ntitle = "T"\n' + RIDER, encoding="utf-8")
+    for _ in range(2):  # the second build sees the first site inside the event folder
+        assert _run("build", str(src / "site.toml"), "--no-pdf", "--jobs", "1") == 0, capsys.readouterr().err
+    assert (src / "site" / "riverside-loop" / "route.gpx").is_file()
+    capsys.readouterr()
+    assert _run("check", str(src / "site.toml")) == 0
+    routes = [line for line in capsys.readouterr().out.splitlines() if line.startswith("ok ")]
+    assert len(routes) == 1 and "riverside-loop.gpx" in routes[0], routes
 
 
 def test_the_readme_table_lists_every_case():
@@ -409,10 +540,18 @@ def test_math_and_underscore_names_in_plots(tmp_path, capsys):
 
 
 def test_control_characters_are_not_written_raw(tmp_path, capsys):
-    src = _src(tmp_path, riders=_riders(["Rider \x1b[31mRED\x1b[0m \u202eevil"]))
+    """An escape sequence in a name is refused (naming the character by its code, so
+    the message prints none of it); a direction override is kept but never written
+    raw to the terminal."""
+    src = _src(tmp_path, riders=_riders(["Rider \x1b[31mRED\x1b[0m"]))
+    assert _run("check", str(src / "site.toml")) == 1
+    err = capsys.readouterr().err
+    assert "\x1b" not in err and "U+001B" in err
+    (tmp_path / "rtl").mkdir()
+    src = _src(tmp_path / "rtl", riders=_riders(["Rider RED \u202eevil"]))
     assert _run("check", str(src / "site.toml")) == 0
     out = capsys.readouterr().out
-    assert "\x1b" not in out and "\u202e" not in out and "RED" in out
+    assert "\u202e" not in out and "RED" in out
 
 
 def test_too_weak_rider(tmp_path, capsys):
@@ -515,6 +654,16 @@ def test_check_10000_riders(tmp_path, capsys):
     )
     src = _src(tmp_path, riders=riders + "[[riders]]\nname = 'bad'\nvehicle = 'road-hoods'\ncp_w = 5000\n")
     _one_line_error(capsys, _run("check", str(src / "site.toml")), "line 40008")
+
+
+def test_check_10000_riders_lines(tmp_path, capsys):
+    assert "check-10000-riders-lines" in CASES
+    riders = "".join(f'[[riders]]\nname = "Rider number {i}"\nvehicle = "road-hoods"\n' for i in range(10000))
+    src = _src(tmp_path, riders=riders)
+    assert _run("check", str(src / "site.toml")) == 0
+    out = capsys.readouterr().out
+    assert "10000 riders" in out and "9,988 more" in out
+    assert max(len(line) for line in out.splitlines()) < 400
 
 
 def test_serve_idle_connection(tmp_path, monkeypatch):

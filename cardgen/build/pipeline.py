@@ -330,7 +330,7 @@ def _render_cards(pool, cards: list, jobs: int, tmp: Path, progress) -> int:
 
 
 def _render(config, routes, old, out, tmp, pool, pdf, progress, report, reusable, jobs=1) -> dict:
-    from cardgen.render.pages import built_stamp, render_index, render_packs, site_context
+    from cardgen.render.pages import built_stamp, render_day_sheet, render_index, render_packs, site_context
 
     site = site_context(config, built_stamp(os.environ.get("SOURCE_DATE_EPOCH")))
     manifest: dict = {"version": __version__, "routes": {}}
@@ -387,4 +387,5 @@ def _render(config, routes, old, out, tmp, pool, pdf, progress, report, reusable
         report.seconds["packs"] = time.perf_counter() - t_pack
     summaries = [manifest["routes"][r.slug]["summary"] for r in routes if r.slug in manifest["routes"]]
     render_index(config, site, summaries, tmp)
+    render_day_sheet(config, summaries, tmp, pdf)
     return manifest

@@ -15,6 +15,9 @@ from datetime import date, datetime, time
 from pathlib import Path
 from typing import Any
 
+from cardgen.config.numbers import FORMAT, parse_number, parse_whole
+from cardgen.config.patterns import expand, is_pattern, local_path
+from cardgen.config.text import control_problem, has_host
 from cardgen.errors import CardgenError, ConfigError, close_matches
 from cardgen.io.files import read_toml
 from cardgen.io.tables import read_csv
@@ -22,6 +25,7 @@ from cardgen.physics.atmosphere import Conditions
 from cardgen.profiles.limits import LIMITS
 from cardgen.profiles.riders import DEFAULT_ASSIST_LEVEL, Rider, flat_power_for_speed
 from cardgen.profiles.vehicles import Vehicle, builtin_vehicles, find_vehicle, vehicles_from_tables
+from cardgen.route.terrain import MAX_ROUTE_LENGTH
 from cardgen.settings import RiderConfig, RouteConfig, SiteConfig, Wave
 
 CARD_SIZES = ("A5", "A4", "pocket")
@@ -199,12 +203,13 @@ class _Checker:
         where = self.where(section, index, key)
         kind = spec.kind
         if kind in ("number", "int"):
+            text = f"; write {FORMAT}" if isinstance(raw, str) else ""  # a spreadsheet cell
             if kind == "int" and (isinstance(raw, bool) or not isinstance(raw, int)):
-                self.problems.append(f"{where} must be a whole number, not {raw!r}")
+                self.problems.append(f"{where} must be a whole number, not {raw!r}{text}")
                 return spec.default
             problem = LIMITS[spec.limit].problem(raw)
             if problem:
-                self.problems.append(f"{where} {problem}" + (f" ({spec.about})" if spec.about else ""))
+                self.problems.append(f"{where} {problem}" + (f" ({spec.about})" if spec.about else "") + text)
                 return spec.default
             return raw
         if kind == "bool":
@@ -216,11 +221,19 @@ class _Checker:
             if not isinstance(raw, str):
                 self.problems.append(f"{where} must be text in quotes, not {raw!r}")
                 return spec.default
+            control = control_problem(raw, key) if kind == "str" else None
+            if control:
+                self.problems.append(f"{where} {control}")
+                return spec.default
             if kind == "choice" and raw not in spec.choices:
                 self.problems.append(f"{where} = {raw!r}; use one of {', '.join(spec.choices)}")
                 return spec.default
             if kind == "path":
-                resolved = (folder / raw).resolve()
+                try:
+                    resolved = local_path(folder, raw, where)
+                except ConfigError as exc:
+                    self.problems.append(str(exc))
+                    return None
                 if not resolved.is_file():
                     self.problems.append(
                         f"{where}: no file {resolved}; check the path (relative to {folder})"
@@ -230,6 +243,9 @@ class _Checker:
             if kind == "vehicle":
                 if raw in self.vehicles:
                     return self.vehicles[raw]
+                if "\x00" in raw:
+                    self.problems.append(f"{where}: the name holds a NUL character (\\u0000); remove it")
+                    return None
                 candidate = folder / raw
                 name = str(candidate) if raw.lower().endswith(".toml") else raw
                 if raw.lower().endswith(".toml"):
@@ -270,11 +286,12 @@ class _Checker:
                 return spec.default
             if raw and (
                 not raw.lower().startswith(("http://", "https://"))
+                or not has_host(raw)
                 or len(raw) > MAX_URL_LENGTH
                 or any(c.isspace() or ord(c) < 32 for c in raw)
             ):
                 self.problems.append(
-                    f"{where} must be an http:// or https:// address of at most "
+                    f"{where} must be an http:// or https:// address with a host name, of at most "
                     f'{MAX_URL_LENGTH} characters without spaces, like "https://example.org/rides"'
                 )
                 return spec.default
@@ -333,8 +350,9 @@ def _from_data(data: dict, path: Path | None, text: str, folder: Path) -> SiteCo
     }
     vehicles = _site_vehicles(check, data.get("vehicles", []))
     routes = _route_tables(check, data.get("routes", []), folder)
+    before = len(check.problems)
     riders_raw = _rider_tables(check, data.get("riders", []), folder)
-    if not riders_raw:
+    if not riders_raw and len(check.problems) == before:  # not when an entrants file was refused
         check.problems.append(
             f'{path}: no [[riders]] entries; add [[riders]] tables, or riders = "entrants.csv"'
         )
@@ -347,7 +365,7 @@ def _from_data(data: dict, path: Path | None, text: str, folder: Path) -> SiteCo
             r["gpx"],
             r["name"],
             r["notes"] or "",
-            tuple(x * 1000.0 if isinstance(x, int | float) else x for x in (r["checkpoints"] or ())),
+            _checkpoints(check, i, r),
             r["start"],
             r["stop_min"] * 60.0,
             _stops(check, i, r),
@@ -375,11 +393,10 @@ def _from_data(data: dict, path: Path | None, text: str, folder: Path) -> SiteCo
     start = None
     if event["start"] is not None:
         start = datetime.combine(event["date"] or date(2000, 1, 1), event["start"])
-    templates = None
-    if site["templates"]:
-        templates = (folder / site["templates"]).resolve()
-        if not templates.is_dir():
-            check.problems.append(f"{check.where('site', None, 'templates')}: no folder {templates}")
+    templates = _folder(check, folder, site["templates"], "templates")
+    if templates is not None and not templates.is_dir():
+        check.problems.append(f"{check.where('site', None, 'templates')}: no folder {templates}")
+    output = _folder(check, folder, site["output"], "output")
     if check.problems:
         problems = [
             p.replace(":: ", ": ").replace(": =", " =") for p in check.problems
@@ -399,7 +416,7 @@ def _from_data(data: dict, path: Path | None, text: str, folder: Path) -> SiteCo
         units=site["units"],
         card_size=site["card_size"],
         large_print=site["large_print"],
-        output=(folder / site["output"]).resolve(),
+        output=output or folder / "site",
         base_url=site["base_url"],
         templates=templates,
         start=start,
@@ -433,6 +450,17 @@ def _from_data(data: dict, path: Path | None, text: str, folder: Path) -> SiteCo
 MAX_CSV_ROWS = 20_000
 
 
+def _folder(check: _Checker, folder: Path, raw: str | None, key: str) -> Path | None:
+    """A folder named in [site], resolved (None when not given or not usable)."""
+    if not raw:
+        return None
+    try:
+        return local_path(folder, raw, check.where("site", None, key))
+    except ConfigError as exc:
+        check.problems.append(str(exc))
+        return None
+
+
 def _rider_tables(check: _Checker, raw: Any, folder: Path) -> list[Any]:
     """[[riders]] tables, with riders from spreadsheets: ``riders = "entrants.csv"``, or
     a ``[[riders]]`` table holding only ``csv = "..."``, which may be mixed with others.
@@ -446,7 +474,11 @@ def _rider_tables(check: _Checker, raw: Any, folder: Path) -> list[Any]:
     tables: list[Any] = []
     for table in raw:
         if isinstance(table, dict) and set(table) == {"csv"} and isinstance(table["csv"], str):
-            csv_path = (folder / table["csv"]).resolve()
+            try:
+                csv_path = local_path(folder, table["csv"], f"{check.path}: riders")
+            except ConfigError as exc:
+                check.problems.append(str(exc))
+                continue
             check.inputs.append(csv_path)
             for row_number, row in _csv_rows(check, csv_path):
                 check.csv_rows[("riders", len(tables))] = (csv_path, row_number)
@@ -459,7 +491,7 @@ def _rider_tables(check: _Checker, raw: Any, folder: Path) -> list[Any]:
 def _csv_rows(check: _Checker, path: Path) -> list[tuple[int, dict[str, Any]]]:
     """The rows of an entrants file as [[riders]] tables, numbers as numbers."""
     try:
-        header, found = read_csv(path, "entrants (CSV)", ConfigError, MAX_CSV_ROWS)
+        header, found, over = read_csv(path, "entrants (CSV)", ConfigError, MAX_CSV_ROWS)
     except ConfigError as exc:
         check.problems.append(str(exc))
         return []
@@ -472,12 +504,21 @@ def _csv_rows(check: _Checker, path: Path) -> list[tuple[int, dict[str, Any]]]:
                 "CSV so in some languages); save it again as CSV with commas between the columns"
             )
             return []
-    for column in header:
-        if column not in known:
-            check.problems.append(
-                f"{path}:row 1, column {column}: unknown column{close_matches(column, known)}; "
-                f"the columns are the keys of [[riders]]: {', '.join(known)}"
-            )
+    unknown = [f"column {i}{close_matches(c, known)}" for i, c in enumerate(header, 1) if c not in known]
+    if unknown:  # by position: the file may be anything (/etc/passwd), its text is not repeated
+        check.problems.append(
+            f"{path}:row 1: {plural(len(unknown), 'unknown column')} ({', '.join(unknown[:5])}"
+            f"{', …' if len(unknown) > 5 else ''}); the header row names the keys of [[riders]]: {', '.join(known)}"
+        )
+    missing = [key for key, spec in known.items() if spec.required and key not in header]
+    if missing:
+        check.problems.append(
+            f"{path}:row 1: no column {' or '.join(missing)}; the header row names the columns"
+        )
+    if over:
+        check.problems.append(over)
+    if unknown or missing:  # the rows cannot be read as riders: one message for the file, not one per row
+        return []
     for number, row in enumerate(found, 2):
         if number > MAX_CSV_ROWS + 1:
             check.problems.append(f"{path}: more than {MAX_CSV_ROWS:,} rows; split the file")
@@ -495,11 +536,8 @@ def _csv_value(cell: str, kind: str) -> Any:
     """A spreadsheet cell as the kind of value its key takes (left as text when it is
     not one: the check then names the row and column)."""
     if kind in ("number", "int"):
-        try:
-            number = float(cell.replace(",", ".")) if kind == "number" else int(cell)
-        except ValueError:
-            return cell
-        return number
+        number = parse_number(cell) if kind == "number" else parse_whole(cell)
+        return cell if number is None else number  # text: the check names its row, column and the format
     if kind == "list":
         return [part.strip() for part in cell.split(";") if part.strip()]
     return cell
@@ -539,19 +577,40 @@ def _stops(check: _Checker, index: int, route: dict) -> tuple[float, ...]:
     return tuple(float(x) * 60.0 for x in raw)
 
 
+#: Farthest distance along a route that config can name [km] (the longest route planned).
+MAX_KM = MAX_ROUTE_LENGTH / 1000.0
+
+
+def _checkpoints(check: _Checker, index: int, route: dict) -> tuple[str | float, ...]:
+    """``checkpoints`` of one route: waypoint names, and distances [m] from numbers in
+    km, which must be finite (whether they lie on the route is checked with the route)."""
+    out: list[str | float] = []
+    for x in route.get("checkpoints") or ():
+        if isinstance(x, int | float) and not isinstance(x, bool):
+            if not math.isfinite(x):
+                check.problems.append(
+                    f"{check.where('routes', index, 'checkpoints')}: {x!r} is not a distance along the route; "
+                    "give km, like 42.5, or a waypoint's name"
+                )
+                continue
+            out.append(x * 1000.0)
+        else:
+            out.append(x)
+    return tuple(out)
+
+
 def _cue_texts(check: _Checker, index: int, route: dict) -> tuple[tuple[float, str], ...]:
-    """``cue_texts`` of one route: entries "km = text", distance in km."""
+    """``cue_texts`` of one route: entries "km = text", the distance in km written as
+    :data:`cardgen.config.numbers.FORMAT` says, within 0…:data:`MAX_KM`."""
     out = []
     for entry in route.get("cue_texts") or ():
         km, sep, text = str(entry).partition("=")
-        try:
-            where = float(km.strip().removesuffix("km").strip()) * 1000.0
-        except ValueError:
-            where = -1.0
+        number = parse_number(km.strip().removesuffix("km"))
+        where = -1.0 if number is None or not 0 <= number <= MAX_KM else number * 1000.0
         if not sep or where < 0 or not text.strip():
             check.problems.append(
                 f'{check.where("routes", index, "cue_texts")}: {str(entry)[:60]!r} is not like "12.1 = Left at the '
-                'old mill" (the cue\'s distance in km, "=", the words)'
+                f'old mill" (the cue\'s distance in km between 0 and {MAX_KM:,.0f}, "=", the words)'
             )
             continue
         out.append((where, text.strip()[:200]))
@@ -655,18 +714,21 @@ def _route_tables(check: _Checker, raw: Any, folder: Path) -> list[dict]:
     expanded: list[tuple[Path | None, int, Any]] = []
     for i, table in enumerate(raw):
         pattern = table.get("gpx") if isinstance(table, dict) else None
-        if isinstance(pattern, str) and any(c in pattern for c in "*?["):
-            matches = sorted(p for p in folder.glob(pattern) if p.is_file() and p.suffix.lower() == ".gpx")
-            if not matches:
-                check.problems.append(
-                    f"{check.where('routes', i, 'gpx')}: {pattern!r} matches no .gpx file in {folder}"
-                )
-            expanded.extend((m.resolve(), i, {**table, "gpx": str(m.relative_to(folder))}) for m in matches)
-        else:
-            resolved = (folder / pattern).resolve() if isinstance(pattern, str) else None
-            if resolved is not None:
-                explicit[resolved] = table
-            expanded.append((resolved, i, table))
+        where = check.where("routes", i, "gpx")
+        try:
+            if isinstance(pattern, str) and is_pattern(pattern):
+                matches = expand(folder, pattern, where)
+                if not matches:
+                    check.problems.append(f"{where}: {pattern!r} matches no .gpx file in {folder}")
+                expanded.extend((m, i, {**table, "gpx": str(m)}) for m in matches)
+                continue
+            resolved = local_path(folder, pattern, where) if isinstance(pattern, str) else None
+        except ConfigError as exc:
+            check.problems.append(str(exc))
+            continue
+        if resolved is not None:
+            explicit[resolved] = table
+        expanded.append((resolved, i, table))
     tables, seen = [], set()
     for resolved, i, table in expanded:
         if resolved is not None:

@@ -18,14 +18,16 @@ ROWS_NAMED = 5
 
 def read_csv(
     path: Path, what: str, error: type[CardgenError], max_rows: int
-) -> tuple[list[str], list[dict[str, str | None]]]:
-    """The header and at most ``max_rows + 1`` data rows of a UTF-8 CSV file (a byte-order
-    mark allowed): one more than the caller allows, so that it can say the file is too long.
+) -> tuple[list[str], list[dict[str, str | None]], str]:
+    """The header, at most ``max_rows + 1`` data rows of a UTF-8 CSV file (a byte-order
+    mark allowed: one more than the caller allows, so that it can say the file is too
+    long), and a problem: rows with more cells than the header has columns and something
+    in them, named by number ("" when there are none; such cells are never dropped
+    silently).
 
     Lines may end in LF, CR LF or CR alone (old Mac files). Rows are numbered as a
     spreadsheet numbers them, the header being row 1. A cell longer than
-    :data:`MAX_CELL` characters, a quote left open, or a row with more cells than the
-    header has columns (and something in them) is ``error`` naming the row."""
+    :data:`MAX_CELL` characters or a quote left open is ``error`` naming the row."""
     text = read_text_bounded(path, what, error)
     reader = csv.DictReader(io.StringIO(text.removeprefix("\ufeff"), newline=""), strict=True)
     rows: list[dict[str, str | None]] = []
@@ -41,15 +43,15 @@ def read_csv(
                 break
     except csv.Error as exc:
         raise error(f"{path}:row {len(rows) + 2 if reader.fieldnames else 1}: {_reason(exc)}") from None
+    problem = ""
     if over:
-        named = ", ".join(str(n) for n in over[:ROWS_NAMED]) + (
-            f" and {len(over) - ROWS_NAMED} more" if len(over) > ROWS_NAMED else ""
-        )
-        raise error(
-            f"{path}:row {named}: more cells than the header has columns ({len(header)}); "
+        named = ", ".join(str(n) for n in over[:ROWS_NAMED])
+        more = f" and {len(over) - ROWS_NAMED} more" if len(over) > ROWS_NAMED else ""
+        problem = (
+            f"{path}:row {named}{more}: more cells than the header has columns ({len(header)}); "
             "name every column in row 1, or remove what is beyond the last one"
         )
-    return header, rows
+    return header, rows, problem
 
 
 def _reason(exc: csv.Error) -> str:

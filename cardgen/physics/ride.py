@@ -46,6 +46,11 @@ ROUGH = 1e-2
 #: Passes after this one move the reference half way only (damping); earlier
 #: passes too once a pass closes in by less than half.
 DAMP_AFTER = 12
+#: Passes over which a damped solve must close in; if the largest change of the last
+#: CYCLE passes is not clearly below that of the CYCLE before, the share moved is
+#: halved, down to MIN_RELAX.
+CYCLE = 4
+MIN_RELAX = 1.0 / 64
 #: Time constant [s] of the motor's thermal filter: of the order of the period over
 #: which a continuous rating holds; common practice, no published source.
 THERMAL_TIME = 600.0
@@ -400,7 +405,8 @@ def _scan(
     u = np.full(n + 1, start_speed**2)
     # node speeds of the first reference: a good guess can be judged settled at once
     v_last = np.asarray(first_guess, dtype=float) if first_guess is not None else np.sqrt(u)
-    used, change, damped = 0, 0.0, False
+    used, change, damped, relax = 0, 0.0, False, 0.5
+    history: list[float] = []
     for used in range(1, max_passes + 1):
         motor_w, motor_slope = drive(v_ref)
         p_wheel = wheel_rider + motor_w
@@ -424,7 +430,18 @@ def _scan(
         # once the passes stop closing in (a reference that flips across a motor's
         # taper or a stall), or after DAMP_AFTER passes, each moves half way only
         damped = damped or used > DAMP_AFTER or (used > 2 and change > 0.5 * last_change)
-        v_ref = 0.5 * (v_ref + v_new) if damped else v_new
+        history.append(change)
+        if (
+            damped
+            and len(history) > 2 * CYCLE
+            and max(history[-CYCLE:]) >= 0.9 * max(history[-2 * CYCLE : -CYCLE])
+        ):
+            # the passes cycle (a reference that flips across the kink where a motor's
+            # taper begins): move a smaller share of the way, which settles any cycle
+            # of a map whose slope is below one there
+            relax = max(relax / 2, MIN_RELAX)
+            history.clear()
+        v_ref = v_ref + relax * (v_new - v_ref) if damped else v_new
         if change <= tolerance:
             break
     speed = np.sqrt(u)

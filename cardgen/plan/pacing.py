@@ -58,9 +58,11 @@ LOWEST_LEVEL = 0.15
 W_LEVELS = 31
 #: A block of the route ends where the grade leaves its first segment's by more than
 #: this [-], the headwind by more than BLOCK_WIND [m/s], or at BLOCK_LENGTH [m].
-BLOCK_GRADE = 0.006
-BLOCK_WIND = 1.0
+BLOCK_GRADE = 0.012
+BLOCK_WIND = 1.5
 BLOCK_LENGTH = 250.0
+#: … but is never shorter than this [m] (the plan's finest step of power).
+BLOCK_LEAST = 50.0
 #: The ride's W′ balance may fall this far below zero [share of W′] (the steady
 #: times of the programme against the ride's inertia) before it is planned again.
 W_PRIME_SLACK = 0.01
@@ -143,16 +145,19 @@ class Course:
 
     def blocks(self) -> np.ndarray:
         """Start index of every block (the last entry is n): runs of segments of
-        nearly the same grade and wind, at most :data:`BLOCK_LENGTH` long."""
+        nearly the same grade and wind, :data:`BLOCK_LEAST` to :data:`BLOCK_LENGTH` long."""
         n = self.grade.size
         most = max(1, int(BLOCK_LENGTH / self.step))
+        least = max(1, int(BLOCK_LEAST / self.step))
         starts = [0]
         first = 0
         for i in range(1, n):
-            if (
-                i - first >= most
-                or abs(self.grade[i] - self.grade[first]) > BLOCK_GRADE
-                or abs(self.headwind[i] - self.headwind[first]) > BLOCK_WIND
+            if i - first >= most or (
+                i - first >= least
+                and (
+                    abs(self.grade[i] - self.grade[first]) > BLOCK_GRADE
+                    or abs(self.headwind[i] - self.headwind[first]) > BLOCK_WIND
+                )
             ):
                 starts.append(i)
                 first = i

@@ -37,6 +37,7 @@ from cardgen.plan.model import (
     arrival_time,
 )
 from cardgen.plan.pacing import W_PRIME_SLACK, Course, ceiling, day_effort, pace, ridden_mean
+from cardgen.plan.walking import stretches, walking_mask
 from cardgen.profiles.motors import find_motor
 from cardgen.profiles.riders import Rider
 from cardgen.route.climbs import Climb, Descent, find_climbs, find_descents
@@ -218,9 +219,13 @@ def make_plan(
     )
     effort, ride = _paced(course, rider)
     wbal = w_prime_balance(ride.rider_power, ride.time, rider.cp, rider.w_prime)
+    walked = walking_mask(terrain.step, ride.time, ride.rider_power, ride.limited, vehicle.min_stable_speed)
+    on_climb = np.zeros(terrain.grade.size, dtype=bool)  # with the walks that run into each climb
+    for climb in route.climbs:
+        on_climb[slice(*_walk_reach(climb, terrain))] = True
 
     climbs = tuple(
-        _climb_row(i + 1, c, terrain, rider, motor, levels.get(c.start), ride, wbal, wind, rho)
+        _climb_row(i + 1, c, terrain, rider, motor, levels.get(c.start), ride, wbal, wind, rho, walked)
         for i, c in enumerate(route.climbs)
     )
     curves = curve_notices(terrain, rider, ride, wind, rho)
@@ -236,9 +241,9 @@ def make_plan(
     energy = float(
         np.sum(np.multiply(ride.rider_power, ride.time, out=np.zeros_like(ride.time), where=pedalled))
     )
-    slow = (ride.mean_speed < vehicle.min_stable_speed) & (ride.rider_power > 0)
     battery = fits = None
     warnings = [Notice("track", "info", (("text", w),)) for w in route.warnings]
+    warnings.extend(_walks_off_climbs(walked, on_climb, terrain, vehicle.min_stable_speed))
     on_descents = {id(w) for row in descents for w in row.warnings}
     warnings.extend(c for c in curves if id(c) not in on_descents)  # curves away from any descent
     if not ride.converged:
@@ -273,7 +278,7 @@ def make_plan(
         food_energy=energy / vehicle.gross_efficiency,
         battery=battery,
         battery_fits=fits,
-        walk_length=float(np.sum(slow) * terrain.step),
+        walk_length=float(np.sum(walked) * terrain.step),
     )
     if between_level is not None and between_level < rider.assist_between_climbs:
         warnings.append(
@@ -300,6 +305,34 @@ def make_plan(
         stops,
         effort,
     )
+
+
+#: Walking this close [m] to a climb's ends is the climb's own (the smoothed grade
+#: starts to rise before the climb's foot).
+WALK_REACH = 100.0
+
+
+def _walk_reach(climb: Climb, terrain: Terrain) -> tuple[int, int]:
+    """Segments whose walking counts as the climb's: the climb and
+    :data:`WALK_REACH` either side."""
+    k = int(round(WALK_REACH / terrain.step))
+    return max(0, climb.start - k), min(terrain.grade.size, climb.end + k)
+
+
+def _walks_off_climbs(
+    walked: np.ndarray, on_climb: np.ndarray, terrain: Terrain, speed: float
+) -> list[Notice]:
+    """A "walk" notice for each walked stretch away from the climbs (those on a climb
+    are in the climb's own notices)."""
+    return [
+        Notice(
+            "walk",
+            "warning",
+            (("speed", speed), ("length", (b - a) * terrain.step)),
+            at=float(terrain.distance[a]),
+        )
+        for a, b in stretches(walked & ~on_climb)
+    ]
 
 
 def _paced(course: Course, rider: Rider) -> tuple[Effort, Ride]:
@@ -333,6 +366,7 @@ def _climb_row(
     wbal,
     wind,
     rho,
+    walked: np.ndarray,
 ) -> ClimbRow:
     vehicle = rider.vehicle
     segs = slice(climb.start, climb.end)
@@ -341,7 +375,8 @@ def _climb_row(
     need = rider_power_for_speed(motor, ratio, rider.target_speed, resistance=vehicle.resistance, **air)
     time = float(np.sum(ride.time[segs]))
     speeds = ride.mean_speed[segs]
-    slow = float(np.sum(speeds < vehicle.min_stable_speed) * terrain.step)
+    reach = slice(*_walk_reach(climb, terrain))
+    slow = float(np.sum(walked[reach]) * terrain.step)
     finite = np.isfinite(ride.time[segs])  # a stalled rider never completes some segments
     ridden = float(np.sum(ride.time[segs][finite]))
     rider_power = (
@@ -362,7 +397,15 @@ def _climb_row(
         )
         warnings.append(Notice("w-prime", "warning", (("power", rider_power), ("safe", safe))))
     if slow > 0:
-        warnings.append(Notice("walk", "warning", (("speed", vehicle.min_stable_speed), ("length", slow))))
+        first = reach.start + int(np.argmax(walked[reach]))
+        warnings.append(
+            Notice(
+                "walk",
+                "warning",
+                (("speed", vehicle.min_stable_speed), ("length", slow)),
+                at=float(terrain.distance[first]),
+            )
+        )
     if climb.steepest_grade >= STEEP_GRADE:
         warnings.append(
             Notice("steep", "caution", (("grade", climb.steepest_grade), ("length", climb.pitch_length)))
@@ -435,10 +478,16 @@ def _recovered_after(climb: Climb, terrain: Terrain, wbal, w_prime: float) -> fl
 
 #: Curves closer than this [m] are one warning (a run of bends), at the tightest.
 CURVE_GAP = 150.0
-#: A curve is warned where its safe speed is below this share of the speed the rider
+#: A curve is warned where the speed it allows is below this share of the speed the rider
 #: would hold there without it (common practice, no published source: a bend that
 #: asks for less than a 10 % slow-down is ridden without thinking).
 CURVE_SLOWDOWN = 0.9
+#: A turn at a junction earns a slow-down note only where coasting alone would carry
+#: the rider to it at this multiple of their steady speed on the flat or more, and at
+#: :data:`JUNCTION_FAST_SPEED` [m/s] or more: from a descent (common practice, no
+#: published source: an ordinary junction is taken without a note).
+JUNCTION_FAST = 1.25
+JUNCTION_FAST_SPEED = 25.0 / 3.6
 #: A descent's curves include those this far [m] beyond its foot.
 CURVE_REACH = 100.0
 
@@ -488,10 +537,17 @@ def _rider_cautions(
 
 
 def curve_notices(terrain: Terrain, rider: Rider, ride: Ride, wind, rho) -> list[Notice]:
-    """One "curve" notice for every curve the rider would reach faster than its safe
-    speed v = √(a·R) (FHWA-HRT-04-103, 2004), on or off a descent: where the simulated
-    speed (which brakes for the curve) meets that speed and the steady speed the rider
-    would hold there without the curve is clearly higher (:data:`CURVE_SLOWDOWN`)."""
+    """One "curve" notice for every curve the rider would reach clearly faster than
+    the speed v = √(a·R) it allows (FHWA-HRT-04-103, 2004), on or off a descent: where
+    the simulated speed (which brakes for the curve) meets that speed and the steady
+    speed the rider would hold there without the curve is clearly higher
+    (:data:`CURVE_SLOWDOWN`).
+
+    A turn at a single track point (a junction, :attr:`Terrain.junctions`) is a cue,
+    not a bend: it gets a notice only where the rider arrives fast from a descent,
+    where coasting alone gives :data:`JUNCTION_FAST` times their steady speed on the
+    flat and :data:`JUNCTION_FAST_SPEED` or more.
+    Its notice carries ``junction`` = 1."""
     vehicle = rider.vehicle
     cap = np.sqrt(vehicle.curve_accel * terrain.curve_radius)
     free = speed_for_power(
@@ -504,6 +560,19 @@ def curve_notices(terrain: Terrain, rider: Rider, ride: Ride, wind, rho) -> list
     free = np.minimum(np.nan_to_num(free, nan=0.0), vehicle.max_descent_speed)
     free_at_node = np.concatenate((free, free[-1:])) if free.size else np.zeros(cap.size)
     binding = (cap < CURVE_SLOWDOWN * free_at_node) & (ride.speed >= 0.98 * cap) & (ride.speed > 0)
+    junction = _junction_nodes(terrain)
+    if junction.any():
+        steady = vehicle.resistance.steady()
+        flat = float(
+            speed_for_power(
+                rider.flat_power, **steady, grade=0.0, headwind=0.0, air_density=float(np.mean(rho))
+            )
+        )
+        coast = np.nan_to_num(
+            speed_for_power(0.0, **steady, grade=terrain.grade, headwind=wind, air_density=rho)
+        )
+        coast_at_node = np.concatenate((coast[:1], coast))  # the segment that leads to each node
+        binding &= ~junction | (coast_at_node >= max(JUNCTION_FAST * flat, JUNCTION_FAST_SPEED))
     nodes = np.flatnonzero(binding)
     notices: list[Notice] = []
     if not nodes.size:
@@ -519,11 +588,20 @@ def curve_notices(terrain: Terrain, rider: Rider, ride: Ride, wind, rho) -> list
                     ("radius", float(terrain.curve_radius[i])),
                     ("where", float(terrain.distance[i])),
                     ("speed", float(cap[i])),
+                    ("junction", float(junction[i])),
                 ),
                 at=float(terrain.distance[i]),
             )
         )
     return notices
+
+
+def _junction_nodes(terrain: Terrain) -> np.ndarray:
+    """Grid nodes inside a turn at a single track point (a junction)."""
+    on = np.zeros(terrain.distance.size, dtype=bool)
+    for lo, hi in terrain.junctions:
+        on |= (terrain.distance >= lo) & (terrain.distance <= hi)
+    return on
 
 
 def _descent_rows(

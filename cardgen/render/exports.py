@@ -12,9 +12,10 @@ from datetime import timedelta
 
 import numpy as np
 
+from cardgen.render import format as fmt
 from cardgen.render.advice import climb_advice, descent_advice, effort_line
 from cardgen.render.notices import notice_text
-from cardgen.units import J_PER_KCAL
+from cardgen.units import J_PER_KCAL, KMH_PER_MS
 
 
 def _num(x, digits=3):
@@ -26,7 +27,7 @@ def _num(x, digits=3):
 
 def _notices(notices, units: str = "metric") -> list[dict]:
     """Notices of plan.json: code, severity, text, where (at_m) and, for curves, the
-    radius and safe speed in SI units."""
+    radius and the speed to slow to in SI units."""
     return [_notice(n, units, km=False) for n in notices]
 
 
@@ -36,13 +37,13 @@ def _notice(n, units: str = "metric", *, km: bool) -> dict:
         out["at_km"] = None if n.at is None else n.at / 1000
     else:
         out["at_m"] = _num(n.at, 1)
-    if n.code == "curve":
-        out["radius_m"] = _num(n.value("radius"), 1)
-        speed = n.value("speed")
+    if n.code == "curve":  # the figures the card prints, rounded as it rounds them
+        out["radius_m"] = fmt.radius_m(n.value("radius"))
+        slow_to = fmt.slow_to_kmh(n.value("speed"))
         if km:
-            out["safe_speed_kmh"] = speed * 3.6
+            out["slow_to_kmh"] = slow_to
         else:
-            out["safe_speed_m_s"] = _num(speed, 3)
+            out["slow_to_m_s"] = math.floor(slow_to / KMH_PER_MS * 1000) / 1000  # never above the card
     return out
 
 
@@ -142,8 +143,32 @@ def _pacing(plan) -> dict | None:
     }
 
 
+def _legs(plan, windows, temperature_c) -> list[dict]:
+    """The plan's legs between its checkpoints (the card's food and fluid table):
+    riding time, and carbohydrate [g] and fluid [L] as (low, high) guides."""
+    from cardgen.plan.fuel import legs
+
+    feeds = [(w.checkpoint.distance, w.checkpoint.name) for w in windows]
+    return [
+        {
+            "to": leg.to,
+            "end_m": _num(leg.end, 1),
+            "time_s": _num(leg.time, 0),
+            "carbs_g": [_num(x, 1) for x in leg.carbs] if leg.carbs else None,
+            "fluid_l": [_num(x, 3) for x in leg.fluid] if leg.fluid else None,
+        }
+        for leg in legs(plan, feeds, temperature_c)
+    ]
+
+
 def plan_json_text(
-    route_name: str, plans, entries=(), windows=(), dated: bool = False, to_second: bool = False
+    route_name: str,
+    plans,
+    entries=(),
+    windows=(),
+    dated: bool = False,
+    to_second: bool = False,
+    temperature_c: float | None = None,
 ) -> str:
     """All riders' plans of one route as JSON text (stable key order), with each
     rider's start, bib and wave, their arrival at each checkpoint and the finish, and
@@ -181,6 +206,7 @@ def plan_json_text(
             for w in windows
         ]
         data["finish"] = arrival(plan, start, plan.terrain.length)
+        data["legs"] = _legs(plan, windows, temperature_c)
         dicts.append(data)
     top = {
         "route": route_name,

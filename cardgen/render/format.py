@@ -3,7 +3,10 @@ site's units. Pure functions of SI values; the templates call them as filters.
 
 Rounding (what a model estimate supports): power to 5 W, speed to 0.5 km/h (or
 0.5 mph), time to the minute, distance to 0.1 km (or 0.1 mi), height to 1 m (or 5 ft),
-grade to 0.5 %, food energy to 10 kcal, battery to 5 Wh.
+grade to 0.5 %, food energy to 10 kcal, battery to 5 Wh (1 Wh below 100 Wh); a curve's radius down to
+1 m below 30 m, 5 m below 100 m, else 10 m (5 ft in imperial units). Limits round
+toward caution: a speed to slow to, a power to hold and a usable battery share round
+down.
 """
 
 from __future__ import annotations
@@ -23,8 +26,8 @@ def _nearest(value: float, step: float) -> float:
 
 
 def _down(value: float, step: float) -> float:
-    """To the step below: a limit (a safe power, a safe speed) is never printed higher
-    than it is. The small allowance keeps 225.0 at 225 despite float noise."""
+    """To the step below: a limit (a power to hold, a speed to slow to) is never
+    printed higher than it is. The small allowance keeps 225.0 at 225 despite float noise."""
     return math.floor(value / step + 1e-9) * step
 
 
@@ -50,7 +53,7 @@ def power(watts, rounding: str = "nearest") -> str:
 
 @_dash_if_missing
 def speed(ms, units: str = "metric", rounding: str = "nearest") -> str:
-    """ "12.5 km/h" or "7.5 mph"; ``rounding="down"`` for a limit (a safe speed)."""
+    """ "12.5 km/h" or "7.5 mph"; ``rounding="down"`` for a limit (a speed to slow to)."""
     step = _down if rounding == "down" else _nearest
     if units == "imperial":
         return f"{step(ms * MPH_PER_MS, 0.5):.1f} mph"
@@ -76,6 +79,26 @@ def length(metres, units: str = "metric") -> str:
             return f"{_nearest(metres / M_PER_FT, 5):.0f} ft"
         return f"{_nearest(metres / M_PER_MI, 0.01):.2f} mi"
     return f"{_nearest(metres, 10):.0f} m"
+
+
+def radius_m(metres: float) -> float:
+    """A curve's radius [m] as printed: rounded down (a tighter curve asks for a
+    lower speed) to 1 m below 30 m, 5 m below 100 m, else 10 m."""
+    step = 1.0 if metres < 30 else 5.0 if metres < 100 else 10.0
+    return _down(metres, step)
+
+
+@_dash_if_missing
+def radius(metres, units: str = "metric") -> str:
+    """A curve's radius: "7 m" (see :func:`radius_m`), or "20 ft" rounded down to 5 ft."""
+    if units == "imperial":
+        return f"{_down(metres / M_PER_FT, 5):.0f} ft"
+    return f"{radius_m(metres):.0f} m"
+
+
+def slow_to_kmh(ms: float) -> float:
+    """A speed to slow to [km/h] as the card prints it: rounded down to 0.5 km/h."""
+    return _down(ms * KMH_PER_MS, 0.5)
 
 
 @_dash_if_missing
@@ -129,10 +152,20 @@ def food(joules) -> str:
     return f"{_nearest(joules / J_PER_KCAL, 10):,.0f} kcal"
 
 
+def _up(value: float, step: float) -> float:
+    """To the step above: a need (energy the plan draws) is never printed lower than it is."""
+    return math.ceil(value / step - 1e-9) * step
+
+
 @_dash_if_missing
-def battery(joules) -> str:
-    """ "215 Wh"."""
-    return f"{_nearest(joules / 3600, 5):.0f} Wh"
+def battery(joules, rounding: str = "nearest") -> str:
+    """ "215 Wh": to 5 Wh, and to 1 Wh below 100 Wh. ``rounding="down"`` for what can
+    be drawn (a limit: 54 Wh usable prints as 54 Wh, never 55), ``"up"`` for what the
+    plan needs."""
+    wh = joules / 3600
+    step = 1 if wh < 100 else 5
+    rounded = {"down": _down, "up": _up}.get(rounding, _nearest)(wh, step)
+    return f"{rounded:.0f} Wh"
 
 
 @_dash_if_missing
@@ -146,6 +179,7 @@ FILTERS = {
     "speed": speed,
     "distance": distance,
     "length": length,
+    "radius": radius,
     "height": height,
     "grade": grade,
     "duration": duration,

@@ -14,6 +14,7 @@ import jinja2
 from cardgen.errors import CardgenError
 from cardgen.paths import default_templates
 from cardgen.plan import Plan
+from cardgen.plan.rider import BATTERY_RESERVE
 from cardgen.render import format as fmt
 from cardgen.render.notices import notice_text
 from cardgen.render.sandbox import ThemeEnvironment
@@ -22,12 +23,20 @@ from cardgen.render.sandbox import ThemeEnvironment
 ASSIST_CAUTION = (
     "E-assist: legal limits on motor power and assisted speed differ by place; the local rules apply."
 )
+#: Beside every table of descent speeds (card and route page): what the speeds are.
+DESCENT_CAUTION = (
+    "Speeds are model upper bounds, not safe or target speeds: check brakes before the start, brake "
+    "before bends, and ride slower for the conditions, visibility, surface, traffic and posted limits."
+)
+#: Beside the descents table of a card whose ride is longer than :data:`LONG_RIDE` [s].
+REST_CAUTION = "On a long ride, rest before the big descents: tired arms and hands brake and steer less well."
+LONG_RIDE = 3 * 3600.0
 #: Cautions printed on every page, plain and short (cards: :func:`cautions_for`).
 CAUTIONS = (
     "Every figure is a model estimate from average values, not a guarantee: wind, road surface, "
     "tyres and the rider's day change them.",
-    "Descents and curves: check brakes before the start, ride to the conditions, and slow down "
-    "below the speeds shown wherever you cannot see far ahead.",
+    "Descents: speeds shown are model upper bounds, not safe or target speeds; check brakes, "
+    "and ride slower where you cannot see ahead.",
     "Exertion: anyone with a medical condition needs clearance from a qualified professional "
     "before hard efforts; adaptive athletes follow their clinician's advice.",
     "Roads are open to traffic: local road rules apply.",
@@ -36,11 +45,11 @@ CAUTIONS = (
 
 #: Short symbols for warnings on cards, with their meaning (our own letters).
 SYMBOLS = {
-    "walk": ("W", "below balance speed on two wheels: walking may be needed"),
+    "walk": ("D", "dismount: below balance speed on two wheels over a stretch, walking may be needed"),
     "steep": ("S", "a stretch of 10 % or more"),
     "w-prime": ("R", "W′ (the work the rider can do above CP) runs out at this effort"),
-    "fast": ("F", "coasting would pass the vehicle's speed limit: control the speed"),
-    "curve": ("C", "tight curve: slow down before it"),
+    "fast": ("F", "coasting would pass the speed set for this vehicle: brake to hold it"),
+    "curve": ("C", "curve, or a turn reached fast: slow down before it"),
     "battery": ("B", "the battery may not last with a reserve"),
     "crawl": ("K", "slow for a long way: plan rests"),
     "over-cp": ("P", "the target speed takes more than this rider's CP"),
@@ -145,6 +154,9 @@ def environment(override: Path | None = None, units: str = "metric") -> jinja2.E
     env.globals.update(
         units=units,
         cautions=CAUTIONS,
+        descent_caution=DESCENT_CAUTION,
+        rest_caution=REST_CAUTION,
+        long_ride=LONG_RIDE,
         symbols=SYMBOLS,
         clock=fmt.clock,
         start_clock=fmt.start_clock,
@@ -167,10 +179,46 @@ class RiderView:
     wave: str | None = None
 
 
+#: From this air temperature [°C] the cards carry the hot-weather caution: common
+#: practice, no published source (cardgen's fluid guide changes band at 25 °C).
+HOT_C = 25.0
+
+
+def heat_caution(celsius: float) -> str:
+    """The hot-weather caution (Sawka et al. 2007, ACSM position stand, Med Sci Sports
+    Exerc 39(2):377–390: sweat losses of about 0.4–1.8 L/h; drink to keep body-mass
+    loss under about 2 %, and not more than is sweated out)."""
+    return (
+        f"Hot weather (planned at {celsius:.0f} °C): sweat losses can run well above the fluid figures "
+        "shown, up to about 1.8 L an hour (Sawka et al. 2007). Drink to keep body-mass loss under about "
+        "2 %, and not more than you sweat out; rest in shade. Follow medical and clinician advice: "
+        "adaptive riders may have impaired temperature control and need their own plan for heat."
+    )
+
+
 def cautions_for(plan: Plan) -> tuple[str, ...]:
-    """The cautions that apply to this rider's vehicle: the e-assist one only where
-    there is a motor."""
-    return tuple(c for c in CAUTIONS if plan.motor is not None or c != ASSIST_CAUTION)
+    """The cautions that apply to this rider's plan: the hot-weather one from
+    :data:`HOT_C`, the e-assist ones (rules, and the range with the battery the plan
+    assumes) only where there is a motor."""
+    general = tuple(c for c in CAUTIONS if c != ASSIST_CAUTION)
+    temperature = plan.conditions.temperature
+    if temperature is not None and temperature - 273.15 >= HOT_C:
+        general = (*general, heat_caution(temperature - 273.15))
+    if plan.motor is None:
+        return general
+    return (*general, f"E-assist rules differ by place. {assist_range(plan)}")
+
+
+def assist_range(plan: Plan) -> str:
+    """The e-assist range line: the battery the plan assumes, its usable share and the
+    reserve kept, and what shortens the range."""
+    motor = plan.motor
+    if motor is None:
+        return ""
+    return (
+        f"Range: {fmt.battery(motor.usable_battery, 'down')} usable of {fmt.battery(motor.battery, 'down')}, "
+        f"{BATTERY_RESERVE * 100:.0f} % in reserve; cold, age, load cut it: plan to finish unassisted."
+    )
 
 
 def legend_for(plan: Plan) -> list[tuple[str, str]]:

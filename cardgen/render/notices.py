@@ -16,9 +16,18 @@ def _battery(n: Notice, units: str) -> str:
         else ""
     )
     return (
-        f"{place}the plan needs about {fmt.battery(n.value('used'))} of the {fmt.battery(n.value('usable'))} usable; "
+        f"{place}the plan needs about {fmt.battery(n.value('used'), 'up')} of the "
+        f"{fmt.battery(n.value('usable'), 'down')} usable; "
         "ride lower levels before that, or carry a spare"
     )
+
+
+def _curve(n: Notice, units: str) -> str:
+    slow = f"slow to {fmt.speed(n.value('speed'), units, 'down')} or less"
+    where = fmt.distance(n.value("where"), units)
+    if n.value("junction"):
+        return f"turn at {where}, reached fast: {slow} (a turn taken at {fmt.radius(n.value('radius'), units)} radius)"
+    return f"curve of {fmt.radius(n.value('radius'), units)} radius at {where}: {slow}"
 
 
 def _w_prime(n: Notice, units: str) -> str:
@@ -45,11 +54,7 @@ _WORDS: dict[str, Callable[[Notice, str], str]] = {
         f"coasting would reach {fmt.speed(n.value('coast'), units)}, above the "
         f"{fmt.speed(n.value('cap'), units)} set for this vehicle: control the speed"
     ),
-    "curve": lambda n, units: (
-        f"curve of about {fmt.length(n.value('radius'), units)} radius at "
-        f"{fmt.distance(n.value('where'), units)}: slow to "
-        f"{fmt.speed(n.value('speed'), units, 'down')} or less"
-    ),
+    "curve": lambda n, units: _curve(n, units),
     "assist-lowered": lambda n, units: (
         f"assist between climbs planned at level {n.value('level'):.0f}, not the {n.value('asked'):.0f} asked for, "
         "so that the battery keeps its reserve for the climbs"

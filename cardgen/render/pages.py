@@ -22,7 +22,17 @@ from cardgen.plan import Analysis, Plan, checkpoint_windows
 from cardgen.plan.fuel import carb_rate, fluid_rate, legs
 from cardgen.render import advice, exports, plots
 from cardgen.render import format as fmt
-from cardgen.render.html import RiderView, environment, slugify, symbol_of, symbols_for, theme_file
+from cardgen.render.day import day_rows, write_day_sheet
+from cardgen.render.html import (
+    HOT_C,
+    RiderView,
+    environment,
+    heat_caution,
+    slugify,
+    symbol_of,
+    symbols_for,
+    theme_file,
+)
 from cardgen.render.notices import notice_text
 
 #: Riders on one group of the coach sheet: a group's tables fit a page or two.
@@ -260,12 +270,24 @@ def _write_plots(config, job: RouteJob, folder: Path) -> dict:
 
 
 def _write_exports(
-    config, job: RouteJob, plans: list[Plan], folder: Path, windows: list, to_second: bool = False
+    config,
+    job: RouteJob,
+    plans: list[Plan],
+    folder: Path,
+    windows: list,
+    to_second: bool = False,
+    celsius: float | None = None,
 ) -> str:
     """plan.json, climbs.csv, route.gpx and the QR code; returns the QR's target URL."""
     analysis = job.analysis
     text = exports.plan_json_text(
-        job.name, plans, job.riders, windows, dated=config.day is not None, to_second=to_second
+        job.name,
+        plans,
+        job.riders,
+        windows,
+        dated=config.day is not None,
+        to_second=to_second,
+        temperature_c=celsius,
     )
     (folder / "plan.json").write_text(text, encoding="utf-8")
     (folder / "climbs.csv").write_text(exports.climbs_csv_text(plans), encoding="utf-8")
@@ -346,6 +368,8 @@ def _render_route(config, site: dict, job: RouteJob, folder: Path) -> tuple[dict
         "start": config.start or any(e.start for e in job.riders),
         "start_text": _start_span(job, site.get("to_second", False)),
     }
+    hot = config.conditions.temperature
+    hot_caution = heat_caution(hot - 273.15) if hot is not None and hot - 273.15 >= HOT_C else ""
     common = dict(
         site=site,
         route=route,
@@ -356,6 +380,7 @@ def _render_route(config, site: dict, job: RouteJob, folder: Path) -> tuple[dict
         climb_advice=functools.partial(advice.climb_advice, units=units),
         descent_advice=functools.partial(advice.descent_advice, units=units),
         descents_advice=functools.partial(advice.descents_advice, units=units),
+        hot_caution=hot_caution,
     )
     (folder / "index.html").write_text(
         env.get_template("route.html").render(
@@ -372,11 +397,11 @@ def _render_route(config, site: dict, job: RouteJob, folder: Path) -> tuple[dict
         ),
         encoding="utf-8",
     )
-    qr = _write_exports(config, job, plans, folder, windows, site.get("to_second", False))
-    page = page_geometry(config.card_size, config.large_print)
-    feeds = [(c.distance, c.name) for c in job.checkpoints]
     temperature = config.conditions.temperature
     celsius = None if temperature is None else temperature - 273.15
+    qr = _write_exports(config, job, plans, folder, windows, site.get("to_second", False), celsius)
+    page = page_geometry(config.card_size, config.large_print)
+    feeds = [(c.distance, c.name) for c in job.checkpoints]
     card_template = env.get_template("card.html")
     cards = []
     for view in views:
@@ -428,70 +453,92 @@ def _render_route(config, site: dict, job: RouteJob, folder: Path) -> tuple[dict
             group_size=COACH_GROUP,
             rider_count=len(views),
             together=group_spread(job, views),
+            rider_notes=functools.partial(rider_notes, units=units),
         )
         cards.append(CardSource(html, str(folder), str(folder / "coach.pdf")))
-    return route_summary(job, views, units, site.get("to_second", False)), cards
+    summary = route_summary(job, views, units, site.get("to_second", False))
+    summary["day"] = day_rows(job.name, plans, starts, windows, celsius, site.get("to_second", False))
+    return summary, cards
+
+
+#: At most this many items in a card's "Watch for" box; the rest are in the tables.
+WATCH_MAX = 5
 
 
 def watch_list(plan: Plan, units: str) -> list[dict]:
-    """The card's "Watch for" box: the rider's own critical points in plain words,
-    each with where it happens: where the battery reaches its reserve, where the speed
-    falls to nothing or below balance, where W′ runs out, the fastest descent and the
-    tightest curve."""
+    """The card's "Watch for" box: each kind of hazard once, most severe first, at most
+    :data:`WATCH_MAX` items (everything is also in the tables): where the speed falls
+    to nothing, where the battery reaches its reserve, walking stretches, where W′ runs
+    out, the slowest curve or turn, descents where coasting would pass the vehicle's
+    limit, long crawls."""
     items = []
-    for w in plan.warnings:
-        if w.code == "battery":
-            items.append(
-                {
-                    "symbol": symbol_of("battery"),
-                    "text": f"battery reaches its reserve near {fmt.distance(w.at, units)}",
-                }
-            )
-        elif w.code == "stall":
-            items.append(
-                {
-                    "symbol": "",
-                    "text": f"the speed falls to zero near {fmt.distance(w.at, units)}: walk or plan more help",
-                }
-            )
-    said = {
-        "walk": "below balance speed, walking may be needed",
-        "crawl": "a long crawl: plan rests",
-        "w-prime": "W′ runs out at the planned effort",
-    }
-    for code, words in said.items():  # one line per kind, naming every climb it concerns
+    for code in ("stall", "battery"):
+        for w in plan.warnings:
+            if w.code == code:
+                text = (
+                    f"the speed falls to zero near {fmt.distance(w.at, units)}: walk or plan more help"
+                    if code == "stall"
+                    else f"battery reaches its reserve near {fmt.distance(w.at, units)}"
+                )
+                items.append({"symbol": symbol_of(code), "text": text})
+                break
+    walks = [w for w in _all_warnings(plan) if w.code == "walk"]
+    if walks:
+        where = ", ".join(
+            f"{fmt.length(w.value('length'), units)} from {fmt.distance(w.at, units)}"
+            for w in sorted(walks, key=lambda w: w.at or 0.0)
+        )
+        items.append({"symbol": symbol_of("walk"), "text": f"walking may be needed: {where}"})
+    said = {"w-prime": "W′ runs out at the planned effort"}
+    for code, words in said.items():
         rows = [row for row in plan.climbs if code in {w.code for w in row.warnings}]
         if rows:
             where = ", ".join(f"{r.number} ({fmt.distance(r.climb.start_distance, units)})" for r in rows)
             name = "climb" if len(rows) == 1 else "climbs"
             items.append({"symbol": symbol_of(code), "text": f"{name} {where}: {words}"})
-    if plan.descents:
-        fastest = max(plan.descents, key=lambda d: d.max_speed)
-        items.append(
-            {
-                "symbol": "",
-                "text": f"fastest descent {fastest.number} ({fmt.distance(fastest.descent.start_distance, units)}): "
-                f"up to {fmt.speed(fastest.max_speed, units)}",
-            }
-        )
-    curves = [w for w in plan.warnings if w.code == "curve"]
-    curves += [w for d in plan.descents for w in d.warnings if w.code == "curve"]
+    curves = [w for w in _all_warnings(plan) if w.code == "curve"]
     if curves:
-        tight = min(curves, key=lambda w: w.value("radius"))
+        tight = min(curves, key=lambda w: w.value("speed"))
+        kind = "turn" if tight.value("junction") else "curve"
+        more = f" ({len(curves)} in all, in the tables)" if len(curves) > 1 else ""
         items.append(
             {
                 "symbol": symbol_of("curve"),
-                "text": f"tightest curve near {fmt.distance(tight.value('where'), units)}: about "
-                f"{fmt.length(tight.value('radius'), units)} radius, slow to "
-                f"{fmt.speed(tight.value('speed'), units, 'down')}",
+                "text": f"slowest {kind} near {fmt.distance(tight.value('where'), units)}: "
+                f"{fmt.radius(tight.value('radius'), units)} radius, slow to "
+                f"{fmt.speed(tight.value('speed'), units, 'down')} or less{more}",
             }
         )
-    return items
+    fast = [row for row in plan.descents if any(w.code == "fast" for w in row.warnings)]
+    if fast:
+        numbers = ", ".join(str(row.number) for row in fast)
+        cap = min(w.value("cap") for row in fast for w in row.warnings if w.code == "fast")
+        items.append(
+            {
+                "symbol": symbol_of("fast"),
+                "text": f"descent{'s' if len(fast) > 1 else ''} {numbers}: coasting would pass "
+                f"{fmt.speed(cap, units)}; brake to hold the speed",
+            }
+        )
+    crawl = [row for row in plan.climbs if "crawl" in {w.code for w in row.warnings}]
+    if crawl:
+        where = ", ".join(f"{r.number} ({fmt.distance(r.climb.start_distance, units)})" for r in crawl)
+        items.append({"symbol": symbol_of("crawl"), "text": f"climb {where}: a long crawl, plan rests"})
+    return items[:WATCH_MAX]
+
+
+def _all_warnings(plan: Plan):
+    """Every notice of a plan: the route-wide ones, then each climb's and descent's."""
+    yield from plan.warnings
+    for climb in plan.climbs:
+        yield from climb.warnings
+    for descent in plan.descents:
+        yield from descent.warnings
 
 
 def _curve_places(curves, units: str) -> tuple[str, str]:
     """Where the curve notices are, as a list of distances, and the slowest speed any
-    of them asks for (rounded down, the safe way)."""
+    of them asks for (rounded down, toward caution)."""
     places = ", ".join(fmt.distance(w.value("where"), units) for w in curves)
     return places, fmt.speed(min(w.value("speed") for w in curves), units, "down")
 
@@ -534,7 +581,7 @@ _NUMBERED = re.compile(r"^\s*checkpoint\s*\d+\s*[:.\-–]\s*", re.IGNORECASE)
 
 def short_name(name: str) -> str:
     """A checkpoint's name without a leading "Checkpoint 3:" (the card numbers them
-    CP1, CP2, … itself); the name as it is when nothing would be left."""
+    Chk1, Chk2, … itself: "CP" is critical power on the card); the name as it is when nothing would be left."""
     return _NUMBERED.sub("", name) or name
 
 
@@ -551,6 +598,13 @@ def warnings_brief(warnings, units: str, skip=frozenset()) -> list[str]:
             f"slow to {slowest} or less"
         )
     return lines
+
+
+def rider_notes(plan: Plan, units: str) -> list[str]:
+    """A rider's notes beyond the climbs, for the coach sheet: the descents (curves
+    on them, coasting past the vehicle's limit) and the route-wide notices (curves and
+    turns away from the descents, walking off the climbs, battery, stalls)."""
+    return [*descents_brief(plan.descents, units), *warnings_brief(plan.warnings, units)]
 
 
 def cue_rows(plan: Plan) -> list[dict]:
@@ -809,3 +863,11 @@ def _render_index(config, site: dict, summaries: list[dict], folder: Path) -> No
     )
     for name in ("style.css", "find.js"):
         (folder / name).write_bytes(theme_file(config.templates, name).read_bytes())
+
+
+def render_day_sheet(config, summaries: list[dict], folder: Path, pdf: bool) -> None:
+    """The organiser's day sheet of the whole event (:mod:`cardgen.render.day`)."""
+    with theme_errors(config.templates):
+        env = _environment(config.templates, config.units)
+        rows = [row for summary in summaries for row in summary.get("day", [])]
+        write_day_sheet(env, config, rows, folder, pdf)

@@ -177,7 +177,7 @@ def elevation_profile(
         ax.text(
             where * x_scale,
             top,
-            f"CP{number}",
+            f"Chk{number}",
             fontsize=SMALLEST_PT * k,
             ha="center",
             va="bottom",
@@ -204,7 +204,7 @@ def elevation_profile(
         )
     if checkpoints:
         parts.append(
-            "Checkpoints (CP1, CP2, …): "
+            "Checkpoints (Chk1, Chk2, …): "
             + ", ".join(f"{label} at {fmt.distance(where, units)}" for label, where in checkpoints)
             + "."
         )
@@ -331,7 +331,7 @@ def route_map(
     """Where the route goes, drawn from the track alone (no tiles, no network): the
     outline on a local plane (equirectangular about the route's mean latitude, true to
     scale within about 0.1 % over a few tens of km; Snyder 1987, §12), start (circle)
-    and finish (square), arrows in the direction of travel, checkpoints (CP1, …),
+    and finish (square), arrows in the direction of travel, checkpoints (Chk1, …),
     climb numbers at their feet, a scale bar and a north arrow. Ink and greys only, so
     it reads in black and white and for colour-blind readers. Returns (svg, alt text).
     """
@@ -385,7 +385,7 @@ def route_map(
         cx, cy = at(where)
         ax.plot([cx], [cy], marker="^", markersize=7, color=INK, markerfacecolor="white", markeredgewidth=1.2)
         ax.annotate(
-            f"CP{number}",
+            f"Chk{number}",
             (cx, cy),
             xytext=(5, 4),
             textcoords="offset points",
@@ -436,7 +436,7 @@ def route_map(
     ]
     if checkpoints:
         parts.append(
-            f"{len(checkpoints)} checkpoint{'s' if len(checkpoints) != 1 else ''} marked CP1 onwards."
+            f"{len(checkpoints)} checkpoint{'s' if len(checkpoints) != 1 else ''} marked Chk1 onwards."
         )
     if climbs:
         parts.append(f"Climbs numbered at their feet, 1 to {len(climbs)}.")

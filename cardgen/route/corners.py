@@ -17,7 +17,13 @@ for a deflection Θ). The radius comes from
 - when no track point lies on the arc (a corner shorter than the point spacing), the
   points only bound the radius: the arc's tangent points must lie between the legs'
   last points, so every R up to R_max fits them equally well, and the middle of that
-  range is about R_max / 2, on the safe (slower) side of what is possible.
+  range is about R_max / 2, on the slower side of what is possible.
+
+A corner with no track point on its arc (every point lies on one of the two legs'
+lines) turns at a single point: most often a junction, where a route planner puts
+one point where two roads meet. Its radius is not in the data; such a corner is
+marked ``junction`` (a cue, not a bend of the road) and, like every corner, is given
+at least :data:`MIN_TURN_RADIUS`.
 """
 
 from __future__ import annotations
@@ -42,8 +48,16 @@ LEG_LENGTH = 30.0
 #: Deflection [deg] from which the corner is a hairpin and its radius is half the
 #: legs' separation.
 HAIRPIN_TURN = 160.0
-#: No corner radius is taken below this [m]; a bicycle cannot turn tighter.
+#: No corner radius is tried below this [m]; a bicycle cannot turn tighter.
 MIN_RADIUS = 1.0
+#: Least effective radius [m] of a turn taken on a road: the path a rider follows
+#: through a turn at an ordinary junction (kerb radii of a few metres, plus the
+#: distance the rider keeps from the kerb). Common practice, no published source.
+#: No corner's radius is given below it, junction or bend.
+MIN_TURN_RADIUS = 5.0
+#: A track point lies on a corner's arc when it is off both legs' lines by more than
+#: this [m] (or twice the legs' own scatter, GPS noise, when that is larger).
+ARC_OFFSET = 0.5
 
 
 @dataclass(frozen=True)
@@ -55,6 +69,7 @@ class Corner:
     end: float
     turn: float
     radius: float
+    junction: bool = False
 
 
 def _turn_regions(
@@ -188,13 +203,30 @@ def find_corners(lat: np.ndarray, lon: np.ndarray, d: np.ndarray) -> list[Corner
         between = abs(float(np.arctan2(_cross(u1, u2), float(u1 @ u2))))
         if between < np.radians(CORNER_TURN) and abs(whole) <= np.radians(200.0):
             continue  # the legs themselves barely turn: noise, or a wiggle
+        junction = False
         if abs(whole) > np.radians(200.0):  # a loop: its legs say nothing of its radius
             radius = max(MIN_RADIUS, (hi - lo - DETECT_WINDOW / 2) / abs(whole))
         else:
             inner = (ds > lo) & (ds < hi)
-            radius = _fit_radius(xy[inner], p1, u1, p2, u2, between, max(rms1, rms2))
-        corners.append(Corner(start=lo, end=hi, turn=whole, radius=radius))
+            scatter = max(rms1, rms2)
+            radius = _fit_radius(xy[inner], p1, u1, p2, u2, between, scatter)
+            junction = not _on_arc(xy[inner], p1, u1, p2, u2, max(ARC_OFFSET, 2.0 * scatter))
+        corners.append(
+            Corner(start=lo, end=hi, turn=whole, radius=max(radius, MIN_TURN_RADIUS), junction=junction)
+        )
     return corners
+
+
+def _on_arc(
+    pts: np.ndarray, p1: np.ndarray, u1: np.ndarray, p2: np.ndarray, u2: np.ndarray, off: float
+) -> bool:
+    """Whether any of ``pts`` lies off both legs' lines by more than ``off`` [m]: a
+    point of the corner's arc, not of its legs."""
+    if pts.size == 0:
+        return False
+    d1 = np.abs((pts - p1) @ np.array([-u1[1], u1[0]]))
+    d2 = np.abs((pts - p2) @ np.array([-u2[1], u2[0]]))
+    return bool(np.any((d1 > off) & (d2 > off)))
 
 
 def _unwrap(lon: np.ndarray) -> Any:

@@ -18,7 +18,7 @@ import numpy as np
 from numpy.lib.stride_tricks import sliding_window_view
 
 from cardgen.errors import GpxError
-from cardgen.route.corners import find_corners
+from cardgen.route.corners import MIN_TURN_RADIUS, find_corners
 from cardgen.route.geodesy import bearing, course, cumulative_distance
 from cardgen.route.gpx import Track
 from cardgen.units import Floats
@@ -60,6 +60,8 @@ class Terrain:
     Segment arrays (n), segment i from node i to i + 1: ``grade`` [-], ``heading``
     [rad] clockwise from north.
     ``step`` [m] is the grid spacing; ``gain``/``loss`` [m] use :data:`GAIN_DEADBAND`.
+    ``junctions`` are the corners that turn at a single track point (see
+    :mod:`cardgen.route.corners`): turns at junctions rather than bends of a road.
     """
 
     distance: np.ndarray
@@ -74,6 +76,7 @@ class Terrain:
     gain: float
     loss: float
     gaps: tuple[float, ...] = ()  # [m] where gaps between track segments were joined
+    junctions: tuple[tuple[float, float], ...] = ()  # [m] (start, end) of turns at a single track point
 
     @property
     def length(self) -> float:
@@ -301,13 +304,18 @@ def build_terrain(track: Track, step: float = GRID_STEP) -> Terrain:
     radius = curve_radius(lat, lon, grid_step)
     # corners shorter than the window: the radius of the whole corner, from the
     # track's own points (the grid's interpolated points add nothing)
+    junctions = []
     for corner in find_corners(track.lat[keep], unwrapped, d):
         on = (grid >= corner.start) & (grid <= corner.end)
         radius[on] = np.minimum(radius[on], corner.radius)
+        if corner.junction:
+            junctions.append((corner.start, corner.end))
+    radius = np.maximum(radius, MIN_TURN_RADIUS)  # no turn on a road is tighter
     gap_at = tuple(_gap_distances(track, d, keep))
     for where in gap_at:  # the join is no curve and no turn
         near = np.abs(grid - where) <= CURVE_WINDOW
         radius[near] = np.inf
+        junctions = [j for j in junctions if not (j[0] - CURVE_WINDOW <= where <= j[1] + CURVE_WINDOW)]
     gain, loss = elevation_gain(smooth)
     return Terrain(
         distance=grid,
@@ -322,6 +330,7 @@ def build_terrain(track: Track, step: float = GRID_STEP) -> Terrain:
         gain=gain,
         loss=loss,
         gaps=gap_at,
+        junctions=tuple(junctions),
     )
 
 

@@ -1,0 +1,120 @@
+"""The organiser's day sheet: for each checkpoint of a route, who is due when, what a
+feed stop must stock, and when the sweep gets there. Every number comes from the
+riders' own plans (the same ones their cards print).
+
+- Timetable: the first and last planned arrival, the riders due in each quarter hour,
+  and the checkpoint's window (:func:`cardgen.plan.event.checkpoint_windows`).
+- Stock at a feed stop (a checkpoint with a planned stop): carbohydrate and fluid for
+  the leg after it, summed over the riders due there, each at the top of the rider's
+  own guide (:func:`cardgen.plan.fuel.legs`: the ride's length for carbohydrate, the
+  day's temperature band for fluid), plus :data:`STOCK_MARGIN`.
+- Sweep: when the last rider is planned to leave the checkpoint (their stop
+  included), and when a sweep leaving :data:`SWEEP_DELAY` after the last start at
+  :data:`SWEEP_SPEED` reaches it, never before that last rider has left (a sweep
+  rides behind the field; where it would catch up, it waits).
+"""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+from dataclasses import dataclass
+from datetime import datetime, timedelta
+
+from cardgen.plan.event import CheckpointWindow
+from cardgen.plan.fuel import fluid_rate, legs
+from cardgen.plan.model import Plan
+
+#: Quarter hours of the riders-due chart [s].
+BIN = 15 * 60.0
+#: Stock over the summed plans, for riders who eat and drink more than planned and
+#: for spills: 20 % (common practice, no published source).
+STOCK_MARGIN = 0.20
+#: The sweep: a bicycle at 15 km/h average over the route, leaving 10 min after the
+#: last start (common practice for a ridden sweep at the back of a sportive, no
+#: published source). [m/s], [s]
+SWEEP_SPEED = 15 / 3.6
+SWEEP_DELAY = 10 * 60.0
+
+
+@dataclass(frozen=True)
+class PointDay:
+    """One checkpoint's day. Times are None where nobody is due."""
+
+    name: str
+    distance: float  # [m]
+    opens: datetime
+    closes: datetime
+    riders: int  # riders planned to reach it
+    first: datetime | None
+    last: datetime | None
+    quarters: tuple[tuple[datetime, int], ...]  # (quarter hour, riders due in it)
+    stop: float  # [s] planned stop there (0: not a feed stop)
+    carbs_g: float  # to stock for the next leg (margin included); 0 without a stop
+    fluid_l: float
+    last_leaves: datetime | None  # the last rider's planned departure (stop included)
+    sweep: datetime  # when the sweep reaches it
+
+
+def _quarters(arrivals: list[datetime]) -> tuple[tuple[datetime, int], ...]:
+    """Riders due per quarter hour, from the first quarter to the last, empty ones
+    included (a gap in the field shows as a gap in the chart)."""
+    if not arrivals:
+        return ()
+    first = min(arrivals)
+    base = first.replace(minute=first.minute - first.minute % 15, second=0, microsecond=0)
+    counts: dict[int, int] = {}
+    for a in arrivals:
+        k = int((a - base).total_seconds() // BIN)
+        counts[k] = counts.get(k, 0) + 1
+    return tuple((base + timedelta(seconds=k * BIN), counts.get(k, 0)) for k in range(max(counts) + 1))
+
+
+def day_points(
+    plans: Sequence[Plan],
+    starts: Sequence[datetime],
+    windows: Sequence[CheckpointWindow],
+    temperature_c: float | None,
+) -> list[PointDay]:
+    """The day sheet's rows for one route's checkpoints (``windows``, in route order),
+    from its riders' plans and starts (one each)."""
+    feeds = [(w.checkpoint.distance, w.checkpoint.name) for w in windows]
+    rider_legs = [legs(plan, feeds, temperature_c) for plan in plans]
+    last_start = max(starts)
+    rows = []
+    for k, window in enumerate(windows):
+        cp = window.checkpoint
+        due = [(a, i) for i, a in enumerate(window.arrivals) if a is not None]
+        arrivals = [a for a, _ in due]
+        carbs = fluid = 0.0
+        if cp.stop > 0:  # a feed stop stocks the next leg of everyone due there
+            for _, i in due:
+                leg = rider_legs[i][k + 1]
+                carbs += leg.carbs[1] if leg.carbs else 0.0
+                fluid += leg.fluid[1] if leg.fluid else 0.0
+        stop = timedelta(seconds=cp.stop)
+        arrivals_left = [max(arrivals) + stop] if arrivals else []
+        rows.append(
+            PointDay(
+                cp.name,
+                cp.distance,
+                window.opens,
+                window.closes,
+                len(due),
+                min(arrivals) if arrivals else None,
+                max(arrivals) if arrivals else None,
+                _quarters(arrivals),
+                cp.stop,
+                carbs * (1 + STOCK_MARGIN),
+                fluid * (1 + STOCK_MARGIN),
+                max(arrivals) + stop if arrivals else None,
+                max(
+                    [last_start + timedelta(seconds=SWEEP_DELAY + cp.distance / SWEEP_SPEED)] + arrivals_left
+                ),
+            )
+        )
+    return rows
+
+
+def fluid_band(temperature_c: float | None) -> tuple[float, float]:
+    """The fluid guide [L/h] the stock uses (the day's temperature band)."""
+    return fluid_rate(temperature_c)

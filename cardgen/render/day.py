@@ -1,0 +1,109 @@
+"""The organiser's day sheet, one CSV and one PDF for the event (``day-sheet.csv``,
+``day-sheet.pdf``): each checkpoint's timetable, a feed stop's stock and the sweep,
+from :mod:`cardgen.plan.day`."""
+
+from __future__ import annotations
+
+import csv
+import io
+from pathlib import Path
+
+from cardgen.plan.day import STOCK_MARGIN, SWEEP_DELAY, SWEEP_SPEED, day_points, fluid_band
+from cardgen.render import format as fmt
+
+#: The CSV's columns, in order.
+COLUMNS = (
+    "route",
+    "checkpoint",
+    "km",
+    "opens",
+    "closes",
+    "riders",
+    "first",
+    "last",
+    "per_15_min",
+    "stop_min",
+    "carbs_g",
+    "fluid_l",
+    "last_leaves",
+    "sweep",
+)
+
+
+def day_rows(route: str, plans, starts, windows, temperature_c, to_second: bool) -> list[dict]:
+    """One route's rows of the day sheet, as text and numbers (they travel in the
+    build's manifest, so that a route reused from the last build keeps its rows)."""
+    if not windows or not plans:
+        return []
+
+    def clock(moment) -> str:
+        return fmt.start_clock(moment, to_second) if moment is not None else ""
+
+    rows = []
+    for p in day_points(plans, starts, windows, temperature_c):
+        rows.append(
+            {
+                "route": route,
+                "checkpoint": p.name,
+                "km": round(p.distance / 1000, 2),
+                "opens": clock(p.opens),
+                "closes": clock(p.closes),
+                "riders": p.riders,
+                "first": clock(p.first),
+                "last": clock(p.last),
+                "per_15_min": [[clock(q), n] for q, n in p.quarters],
+                "stop_min": round(p.stop / 60),
+                "carbs_g": round(p.carbs_g),
+                "fluid_l": round(p.fluid_l, 1),
+                "last_leaves": clock(p.last_leaves),
+                "sweep": clock(p.sweep),
+            }
+        )
+    return rows
+
+
+def day_csv_text(rows: list[dict]) -> str:
+    """The day sheet as CSV text, one row per checkpoint ("per_15_min" as
+    "07:00=3; 07:15=5")."""
+    buffer = io.StringIO()
+    writer = csv.writer(buffer, lineterminator="\n")
+    writer.writerow(COLUMNS)
+    for row in rows:
+        cells = dict(row, per_15_min="; ".join(f"{q}={n}" for q, n in row["per_15_min"]))
+        writer.writerow([_cell(cells[c]) for c in COLUMNS])
+    return buffer.getvalue()
+
+
+def _cell(value):
+    """Text that a spreadsheet would run as a formula gets a leading apostrophe."""
+    if isinstance(value, str) and value.startswith(("=", "+", "-", "@", "\t", "\r")):
+        return "'" + value
+    return value
+
+
+def assumptions(temperature_c: float | None) -> dict:
+    """What the sheet states beside its numbers."""
+    low, high = fluid_band(temperature_c)
+    return {
+        "margin_pct": round(STOCK_MARGIN * 100),
+        "fluid_band": f"{low:.1f}–{high:.1f} L an hour",
+        "temperature": "not given (the middle band)" if temperature_c is None else f"{temperature_c:.0f} °C",
+        "sweep": f"a ridden sweep at {SWEEP_SPEED * 3.6:.0f} km/h average, leaving {SWEEP_DELAY / 60:.0f} min "
+        "after the last start and never passing the last rider",
+    }
+
+
+def write_day_sheet(env, config, rows: list[dict], folder: Path, pdf: bool) -> None:
+    """``day-sheet.csv`` and (with PDFs) ``day-sheet.pdf`` into ``folder``."""
+    (folder / "day-sheet.csv").write_text(day_csv_text(rows), encoding="utf-8")
+    if not pdf:
+        return
+    from cardgen.render.pdf import write_pdf
+
+    temperature = config.conditions.temperature
+    celsius = None if temperature is None else temperature - 273.15
+    peak = max((n for r in rows for _, n in r["per_15_min"]), default=1) or 1
+    html = env.get_template("day-sheet.html").render(
+        title=config.title, rows=rows, peak=peak, said=assumptions(celsius)
+    )
+    write_pdf(html, folder, folder / "day-sheet.pdf")
