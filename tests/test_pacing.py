@@ -192,3 +192,25 @@ def test_route_trace_writes_every_node(tmp_path, run_cli):
     # a bad place for the trace: one line, exit 1, nothing else written
     code, _, err = run_cli("route", str(track_path), "--trace", str(tmp_path / "no" / "x.csv"))
     assert code == 1 and "cannot write the trace" in err and err.count("\n") == 1
+
+
+def test_the_pacing_style_is_a_rider_key_and_a_csv_column(tmp_path):
+    from cardgen.config import load_config
+    from cardgen.errors import CardgenError
+
+    d = np.arange(0, 3001, 10.0)
+    profile_gpx(tmp_path / "r.gpx", d, 10 * np.sin(d / 500))
+    (tmp_path / "riders.csv").write_text("name,vehicle,pacing\nAda,road-hoods,steady\n", encoding="utf-8")
+    site = tmp_path / "site.toml"
+    site.write_text(
+        '[[routes]]\ngpx = "r.gpx"\n\n[[riders]]\nname = "Bo"\nvehicle = "handcycle"\npacing = "best"\n\n'
+        '[[riders]]\ncsv = "riders.csv"\n',
+        encoding="utf-8",
+    )
+    riders = {r.rider.name: r.rider for r in load_config(site).riders}
+    assert riders["Bo"].pacing_style == "best" and riders["Ada"].pacing_style == "steady"
+    site.write_text(
+        '[[routes]]\ngpx = "r.gpx"\n\n[[riders]]\nname = "Bo"\nvehicle = "handcycle"\npacing = "fast"\n'
+    )
+    with pytest.raises(CardgenError, match="pacing"):
+        load_config(site)

@@ -23,7 +23,7 @@ from cardgen.io.files import read_toml
 from cardgen.io.tables import read_csv
 from cardgen.physics.atmosphere import Conditions
 from cardgen.profiles.limits import LIMITS
-from cardgen.profiles.riders import DEFAULT_ASSIST_LEVEL, Rider, flat_power_for_speed
+from cardgen.profiles.riders import DEFAULT_ASSIST_LEVEL, PACING_STYLES, Rider, flat_power_for_speed
 from cardgen.profiles.vehicles import Vehicle, builtin_vehicles, find_vehicle, vehicles_from_tables
 from cardgen.route.terrain import MAX_ROUTE_LENGTH
 from cardgen.settings import RiderConfig, RouteConfig, SiteConfig, Wave
@@ -132,6 +132,11 @@ SCHEMA = {
         "load_kg": Spec("number", limit="load_kg"),
         "battery_wh": Spec("number", limit="battery_wh", help="battery fitted (e-assist vehicles)"),
         "assist_between_climbs": Spec("int", limit="assist_between_climbs"),
+        "pacing": Spec(
+            "choice",
+            choices=PACING_STYLES,
+            help="best: spend W′ where it saves most time; steady: never above CP (default: steady on handcycles)",
+        ),
         "start": Spec("time", help='this rider\'s own start, like "08:42"'),
         "bib": Spec("int", limit="bib"),
         "routes": Spec("list", help="only these routes (GPX file names or route names)"),
@@ -761,6 +766,8 @@ def _rider(check: _Checker, i: int, r: dict, routes: tuple[RouteConfig, ...]) ->
             given[attr] = r[key] * LIMITS[key].to_si
     if r["assist_between_climbs"] is not None and vehicle.motor is not None:
         given["assist_between_climbs"] = r["assist_between_climbs"]
+    if r["pacing"] is not None:
+        given["pacing"] = r["pacing"]
     if r["flat_kmh"] is not None:
         if r["flat_w"] is not None:
             check.problems.append(
