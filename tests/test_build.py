@@ -138,6 +138,16 @@ def test_failing_route_leaves_the_previous_site_byte_identical(tmp_path):
     assert leftovers(out) == []
 
 
+_RENDER_PDFS = build_module._render_pdfs
+
+
+def _disk_full_after_one_card(cards):
+    """Cards rendered in a worker process: one reaches the disk, then the disk is full
+    (module level, so that the worker can find it)."""
+    _RENDER_PDFS(cards[:1])
+    raise OSError(28, "No space left on device")
+
+
 def test_render_failing_midway_leaves_the_previous_site(tmp_path, monkeypatch):
     src = _small_site(tmp_path)
     out = tmp_path / "out"
@@ -145,16 +155,7 @@ def test_render_failing_midway_leaves_the_previous_site(tmp_path, monkeypatch):
     before = snapshot(out)
     # rider A changes: A's card and the coach sheet of each route are rendered again
     (src / "site.toml").write_text((src / "site.toml").read_text().replace('"road-hoods"', '"road-drops"'))
-    calls = []
-
-    def flaky(job):
-        calls.append(job)
-        if len(calls) == 3:
-            raise OSError(28, "No space left on device")
-        return real(job)
-
-    real = build_module._render_pdf
-    monkeypatch.setattr(build_module, "_render_pdf", flaky)
+    monkeypatch.setattr(build_module, "_render_pdfs", _disk_full_after_one_card)
     with pytest.raises(OSError):
         build_site(load_config(src / "site.toml"), out, jobs=1)
     assert snapshot(out) == before

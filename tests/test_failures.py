@@ -82,14 +82,14 @@ def test_permission_denied_on_the_output_folder(tmp_path, monkeypatch, capsys):
     assert snapshot(out) == before and _clean(out)
 
 
-def _die(job):
+def _die(cards):
     os._exit(9)  # the worker vanishes without a word, as under the out-of-memory killer
 
 
 def test_a_worker_process_dies(tmp_path, monkeypatch, capsys):
     src, out = _site(tmp_path)
     before = snapshot(out)
-    monkeypatch.setattr(build_module, "_render_pdf", _die)
+    monkeypatch.setattr(build_module, "_render_pdfs", _die)
     assert main(["build", str(src / "site.toml"), "-o", str(out), "--jobs", "2"]) == 1
     err = capsys.readouterr().err
     assert "card-rendering process died" in err and "Traceback" not in err

@@ -133,3 +133,25 @@ def test_the_power_chart_draws_one_curve_per_vehicle_kind(big_site):
     assert svg.count("(50 riders)") == len(VEHICLES)
     alt = html.split('src="power.svg" alt="')[1].split('"')[0]
     assert "each vehicle kind" in alt and alt.count("(50 riders) ride it at") == len(VEHICLES)
+
+
+@pytest.mark.skipif(_chromium() is None, reason="Chromium is not installed (Debian package 'chromium')")
+@pytest.mark.parametrize("width", [360, 1200])
+def test_charts_keep_their_text_at_least_10_px(big_site, width, tmp_path):
+    """Each chart is shown at no less than its drawn size, so its smallest text
+    (7.5 pt = 10 CSS px at that size) stays readable; at 360 px it scrolls in its own
+    box, and the page still does not scroll sideways."""
+    page = big_site / "hill-loop" / "index.html"
+    script = (
+        'var out=[];d.querySelectorAll("img.plot").forEach(function(i){'
+        'out.push(Math.round(i.getBoundingClientRect().width)+":"+i.naturalWidth);});return out.join(",");'
+    )
+    sizes = [
+        tuple(int(x) for x in pair.split(":"))
+        for pair in _in_frame(page, width, tmp_path / "p", script).split(",")
+    ]
+    assert len(sizes) == 3  # profile, map, power chart
+    for shown, natural in sizes:
+        assert natural > 0 and shown >= natural - 1, (shown, natural)
+    scroll, client = _widths(page, width, tmp_path / "profile")
+    assert scroll <= client

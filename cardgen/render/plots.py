@@ -279,12 +279,12 @@ def power_curves(rows, units: str = "metric", *, kinds=None, width_in: float = 6
     ax.set_xlabel("speed (mph)" if imperial else "speed (km/h)", fontsize=8, color=INK)
     ax.set_ylabel("power needed (W)", fontsize=8, color=INK)
     ax.set_ylim(0, None)
-    ax.tick_params(labelsize=7, colors=INK)
+    ax.tick_params(labelsize=SMALLEST_PT, colors=INK)
     ax.grid(color="#bbbbbb", linewidth=0.4)
     for spine in ("top", "right"):
         ax.spines[spine].set_visible(False)
     # a fixed place: matplotlib's search for the best one grows with the points drawn
-    for text in ax.legend(fontsize=7, frameon=False, loc="upper left").get_texts():
+    for text in ax.legend(fontsize=SMALLEST_PT, frameon=False, loc="upper left").get_texts():
         text.set_parse_math(False)
     each = "each rider" if len(groups) == len(rows) else "each vehicle kind (its median rider)"
     text = (
