@@ -6,15 +6,12 @@ from gpxmaker import profile_gpx
 
 from cardgen.errors import VehicleError
 from cardgen.io.gpx import read_gpx
-from cardgen.physics.assist import motor_power, suggest_levels, taper_factor
-from cardgen.physics.atmosphere import Conditions
-from cardgen.physics.steady import speed_for_power
+from cardgen.physics.assist import motor_power, taper_factor
 from cardgen.plan import make_plan
-from cardgen.plan.rider import BATTERY_RESERVE, segment_air
+from cardgen.plan.rider import BATTERY_RESERVE
 from cardgen.profiles.motors import builtin_motors, find_motor
 from cardgen.profiles.riders import Rider
 from cardgen.profiles.vehicles import builtin_vehicles
-from cardgen.route.climbs import find_climbs
 from cardgen.route.terrain import build_terrain
 
 MPH = 1609.344 / 3600
@@ -56,51 +53,6 @@ def test_no_assist_at_or_above_cutoff_and_never_above_peak():
 def test_unknown_motor():
     with pytest.raises(VehicleError, match="eu-pedelec"):
         find_motor("no-such-motor")
-
-
-def test_suggested_level_is_the_lowest_that_works_brute_force(tmp_path):
-    """Check the suggestion against an independent steady computation per level."""
-    d = np.arange(0, 3001, 10.0)
-    e = np.interp(d, [0, 500, 1500, 2000, 3000], [0, 0, 60, 130, 130])  # 6 % then 14 %
-    track = read_gpx(profile_gpx(tmp_path / "c.gpx", d, e))
-    terrain = build_terrain(track)
-    vehicle = builtin_vehicles()["e-assist-cargo"]
-    motor = find_motor(vehicle.motor)
-    rider = Rider.for_vehicle(vehicle)
-    wind, rho = segment_air(terrain, Conditions())
-    (hill,) = find_climbs(terrain)
-    ((level, _),) = suggest_levels(
-        motor,
-        [(hill.start, hill.end)],
-        climb_power=rider.climb_power_used,
-        target_speed=rider.target_speed,
-        min_speed=vehicle.min_stable_speed,
-        resistance=vehicle.resistance,
-        grade=terrain.grade,
-        headwind=wind,
-        air_density=rho,
-    )
-    g = terrain.grade[hill.start : hill.end]
-    ok = []
-    for lv in range(len(motor.levels) + 1):
-        ratio = 0.0 if lv == 0 else motor.levels[lv - 1]
-        # the rider at their climbing power, assist below the cut-off (speeds here are low)
-        wheel = rider.climb_power_used * vehicle.efficiency + min(
-            ratio * rider.climb_power_used, motor.peak_power
-        )
-        v = speed_for_power(
-            wheel,
-            mass=vehicle.mass,
-            crr=vehicle.crr,
-            cda=vehicle.cda,
-            efficiency=1.0,
-            grade=g,
-            air_density=rho[hill.start : hill.end],
-        )
-        v = np.minimum(v, rider.target_speed)
-        ok.append(bool(v.min() >= vehicle.min_stable_speed))
-    assert ok.index(True) == level
-    assert level > 0  # 14 % with 160 kg needs help
 
 
 @pytest.mark.parametrize("km", [20, 160])
@@ -216,3 +168,36 @@ def test_the_level_between_climbs_gives_way_when_the_battery_is_short(tmp_path):
         assert plan.assist_between == level and plan.totals.battery_fits
         times.append(plan.totals.time)
     assert times == sorted(times, reverse=True)
+
+
+def test_within_cp_allows_a_short_pitch_that_w_prime_covers():
+    """The lowest level "within CP" (critical-power model, Monod & Scherrer 1965):
+    the climb's mean power at the target no more than CP, and the work above CP on
+    its steeper pitch no more than W′. A 900 m climb at 4 % with 100 m at 8 %: at
+    the level where the mean fits CP but the pitch does not, W′ decides."""
+    from cardgen.physics.assist import climb_options, rider_power_for_speed
+
+    vehicle = builtin_vehicles()["e-assist-cargo"]
+    motor = find_motor(vehicle.motor)
+    grade = np.full(90, 0.04)
+    grade[40:50] = 0.08
+    air = dict(headwind=np.zeros(90), air_density=np.full(90, 1.2))
+    target = 10 / 3.6
+    ratio = motor.levels[2]  # level 3
+    need = rider_power_for_speed(motor, ratio, target, resistance=vehicle.resistance, grade=grade, **air)
+    cp = float(np.mean(need)) + 1.0  # the climb's mean within CP at level 3; the 8 % pitch above it
+    assert need[45] > cp
+    excess = float((need[45] - cp) * 100.0 / target)  # [J] above CP on the pitch
+    common = dict(
+        climb_power=cp,
+        cp=cp,
+        target_speed=target,
+        resistance=vehicle.resistance,
+        grade=grade,
+        step=10.0,
+        **air,
+    )
+    lots = climb_options(motor, [(0, 90)], w_prime=excess * 1.5, **common)["within_cp"][:, 0]
+    none = climb_options(motor, [(0, 90)], w_prime=excess * 0.5, **common)["within_cp"][:, 0]
+    assert int(np.argmax(lots)) == 3  # level 3: W′ covers the pitch
+    assert int(np.argmax(none)) == 4  # not enough W′: one level more

@@ -39,7 +39,7 @@ def printed(request, tmp_path_factory):
     long_route(src / "long.gpx", turns=60 if "60 cues" in request.param else 40)
     (src / "site.toml").write_text(
         f'[site]\ntitle = "Invented long day"\n{site}\n'
-        '[event]\ndate = "2027-05-02"\nstart = "07:00"\ncontact = "Desk 0100 555 0100"\nemergency = "112"\n'
+        '[event]\ndate = "2027-05-02"\nstart = "07:00"\ncontact = "Desk 01632 960100"\nemergency = "112"\n'
         '[[routes]]\ngpx = "long.gpx"\nnotes = "Invented for the print tests."\n'
         '[[riders]]\nname = "Cargo"\nvehicle = "e-assist-cargo"\nbattery_wh = 200\n'
         '[[riders]]\nname = "Hand"\nvehicle = "handcycle"\n',

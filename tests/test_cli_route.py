@@ -5,7 +5,7 @@ from pathlib import Path
 
 import numpy as np
 import pytest
-from gpxmaker import straight, to_latlon, write_gpx
+from gpxmaker import profile_gpx, straight, to_latlon, write_gpx
 
 SAMPLES = Path(__file__).resolve().parents[1] / "sample_routes"
 CLIMB_KEYS = {
@@ -21,6 +21,7 @@ CLIMB_KEYS = {
     "speed_at_effort_kmh",
     "time_s",
     "assist_level",
+    "assist",
     "warnings",
 }
 DESCENT_KEYS = {
@@ -38,7 +39,8 @@ DESCENT_KEYS = {
 def test_route_json_has_the_contract(cli, name):
     code, out, err = cli("route", str(SAMPLES / f"{name}.gpx"), "--json", parse_json=True)
     assert code == 0, err
-    assert set(out) == {"route", "vehicle", "climbs", "descents", "totals"}
+    assert set(out) == {"route", "vehicle", "climbs", "descents", "totals", "notes"}
+    assert all(set(n) >= {"code", "text", "at_km"} for n in out["notes"])
     assert set(out["route"]) == {"name", "distance_km", "gain_m", "loss_m", "points"}
     assert set(out["vehicle"]) == {"name", "mass_kg", "cda_m2", "crr"}
     assert set(out["totals"]) == {"time_s", "energy_kj", "food_kcal", "battery_wh"}
@@ -164,3 +166,90 @@ def test_route_json_warnings_are_objects_with_their_place(cli):
         assert f"slow to {w['slow_to_kmh']:.1f} km/h" in w["text"]
         assert "safe" not in json.dumps(w)
         assert descent["start_km"] <= w["at_km"] <= descent["end_km"] + 0.1
+
+
+def test_assist_level_is_a_whole_number_as_in_solve(run_cli):
+    """route --json and solve --json give assist_level the same type: the level's
+    number (0 = off), null without a motor; the words are in "assist"."""
+    code, out, err = run_cli(
+        "route", str(SAMPLES / "hill-loop.gpx"), "--vehicle", "e-assist-city", "--json", parse_json=True
+    )
+    assert code == 0, err
+    assert out["climbs"]
+    for climb in out["climbs"]:
+        assert isinstance(climb["assist_level"], int) and not isinstance(climb["assist_level"], bool)
+        assert isinstance(climb["assist"], str)
+    code, out, err = run_cli(
+        "route", str(SAMPLES / "hill-loop.gpx"), "--vehicle", "road-hoods", "--json", parse_json=True
+    )
+    assert code == 0, err
+    assert all(c["assist_level"] is None and c["assist"] is None for c in out["climbs"])
+    code, solved, err = run_cli(
+        "solve",
+        "--vehicle",
+        "e-assist-city",
+        "--speed",
+        "15",
+        "--grade",
+        "6",
+        "--assist-level",
+        "2",
+        "--json",
+        parse_json=True,
+    )
+    assert code == 0, err
+    assert solved["assist_level"] == 2
+
+
+def test_route_json_carries_the_route_notes(run_cli, tmp_path):
+    """The notes the text output prints (here: two track segments 500 km apart) are
+    in the JSON too, as objects with a code, the text and where."""
+    a_lat, a_lon = to_latlon(np.arange(0.0, 1500.0, 10.0), np.zeros(150))
+    b_lat, b_lon = to_latlon(np.arange(0.0, 1500.0, 10.0), np.full(150, 500_000.0))
+    pts = "".join(
+        "<trkseg>"
+        + "".join(
+            f'<trkpt lat="{a:.8f}" lon="{b:.8f}"><ele>10</ele></trkpt>' for a, b in zip(la, lo, strict=True)
+        )
+        + "</trkseg>"
+        for la, lo in ((a_lat, a_lon), (b_lat, b_lon))
+    )
+    path = tmp_path / "gap.gpx"
+    path.write_text(
+        '<?xml version="1.0"?><gpx version="1.1" creator="t" xmlns="http://www.topografix.com/GPX/1/1">'
+        f"<trk><name>Gap</name>{pts}</trk></gpx>"
+    )
+    code, out, err = run_cli("route", str(path), "--json", parse_json=True)
+    assert code == 0, err
+    notes = [n for n in out["notes"] if n["code"] == "track"]
+    assert notes and all(set(n) >= {"code", "text", "at_km"} for n in notes)
+    assert any("gap" in n["text"] for n in notes)
+    code, text_out, _ = run_cli("route", str(path))
+    assert all(f"note: {n['text']}" in text_out for n in out["notes"])
+
+
+@pytest.mark.parametrize("cp", [130.0, 95.0, 65.0])
+def test_assist_is_the_lowest_level_that_holds_the_target_within_cp(cli, tmp_path, cp):
+    """A cargo bike on a uniform 4 % climb (1.5 km, still air): the level `route`
+    picks is the lowest at which `solve` says the rider needs no more than CP for the
+    10 km/h target (a check through the other command's balance: level 2 needs about
+    112 W, level 3 about 74 W, level 4 about 55 W); the level below needs more."""
+    d = np.arange(0.0, 2500.0, 10.0)
+    e = 100.0 + 0.04 * np.clip(d - 500.0, 0.0, 1500.0)
+    path = profile_gpx(tmp_path / "ramp.gpx", d, e)
+    code, out, err = cli(
+        "route", str(path), "--vehicle", "e-assist-cargo", "--cp", str(cp), "--power", str(cp),
+        "--target-speed", "10", "--json", parse_json=True,
+    )  # fmt: skip
+    assert code == 0, err
+    (climb,) = out["climbs"]
+    level = 0 if climb["assist_level"] == "off" else int(climb["assist_level"].split()[1])
+    need = []
+    for n in range(5):
+        code, solved, _ = cli(
+            "solve", "--vehicle", "e-assist-cargo", "--speed", "10", "--grade", "4", "--altitude", "130",
+            "--assist-level", str(n), "--json", parse_json=True,
+        )  # fmt: skip
+        need.append(solved["power_w"])
+    assert need[level] <= cp * 1.02
+    assert level == 0 or need[level - 1] > cp

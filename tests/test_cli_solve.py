@@ -1,5 +1,7 @@
 """`cardgen solve` and `cardgen vehicles` as a user runs them."""
 
+from pathlib import Path
+
 import pytest
 
 KEYS = {"speed_kmh", "power_w", "grade_pct", "headwind_kmh", "air_density_kg_m3", "breakdown_w"}
@@ -191,3 +193,13 @@ def test_solve_says_the_motor_is_off_without_a_level(cli):
 def test_assist_level_without_a_motor_is_refused(cli):
     code, _, err = cli("solve", "--vehicle", "road-hoods", "--power", "100", "--assist-level", "1")
     assert code == 1 and "needs a --vehicle with a motor" in err
+
+
+def test_solve_and_route_print_short_cautions(run_cli):
+    """A speed from the power balance is an upper bound, not an allowance: the text
+    output of solve (here 0 W down 12 %) and route says so."""
+    code, out, _ = run_cli("solve", "--vehicle", "road-hoods", "--power", "0", "--grade", "-12")
+    assert code == 0 and "not a safe or target speed" in out
+    sample = Path(__file__).resolve().parents[1] / "sample_routes" / "hill-loop.gpx"
+    code, out, _ = run_cli("route", str(sample))
+    assert code == 0 and "not safe or target speeds" in out and "medical clearance" in out

@@ -72,7 +72,37 @@ def test_clock_times():
 
 
 def test_limits_round_the_safe_way():
-    assert fmt.power(223.5, "down") == "220 W"  # a safe climbing power is never printed higher
+    assert fmt.power(223.5, "down") == "220 W"  # a sustainable climbing power (model) is never printed higher
     assert fmt.power(225.0, "down") == "225 W"
     assert fmt.speed(15.9 / 3.6, "metric", "down") == "15.5 km/h"  # nor a safe curve speed
     assert fmt.speed(16.0 / 3.6, "metric", "down") == "16.0 km/h"
+
+
+def test_arrivals_round_one_way_everywhere():
+    """An arrival rounds to the nearest minute, half up, the same in plan.json (via
+    fmt.moment) as on the cards (fmt.clock): 08:00 + 9 min 29 s is 08:09, + 9 min 30 s
+    is 08:10 (not truncated to 08:09, 51 s early, as before)."""
+    from datetime import datetime
+
+    from cardgen.render.format import clock, moment
+
+    start = datetime(2027, 4, 18, 8, 0)
+    for seconds, text in ((569.0, "08:09"), (570.0, "08:10"), (599.0, "08:10"), (3599.4, "09:00")):
+        assert clock(start, seconds) == text
+        assert moment(start, seconds).strftime("%H:%M") == text
+    assert moment(start, 569.6, to_second=True).strftime("%H:%M:%S") == "08:09:30"
+    from cardgen.render.format import hhmm
+
+    assert (
+        hhmm(datetime(2027, 4, 18, 8, 9, 29)) == "08:09" and hhmm(datetime(2027, 4, 18, 8, 9, 30)) == "08:10"
+    )
+
+
+def test_fluid_ranges_never_print_as_one_figure():
+    """0.21–0.24 L once printed "0.2–0.2 L": low end down, high end up, to 0.1 L."""
+    from cardgen.render.format import litres_range
+
+    assert litres_range((0.21, 0.24)) == "0.2–0.3 L"
+    assert litres_range((0.2, 0.2)) == "0.2–0.3 L"
+    assert litres_range((0.4, 0.6)) == "0.4–0.6 L"
+    assert litres_range(None) == "–"

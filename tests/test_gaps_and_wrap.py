@@ -71,6 +71,21 @@ def test_a_short_gap_with_an_elevation_jump_makes_no_climb(tmp_path):
     assert analysis.climbs == () and terrain.gain < 1.0
 
 
+def test_a_join_after_a_bad_first_fix_makes_no_climb(tmp_path):
+    """A logger's first two fixes after a pause 30 m above the road (invented data):
+    the join levels the segments by the medians of their ends, so no climb and no
+    steep grade appear at the join."""
+    a_lat, a_lon = _line(-40.500, -140.30, -40.500, -140.29)
+    b_lat, b_lon = _line(-40.50017, -140.29, -40.50017, -140.28)
+    b_ele = np.full(200, 112.0)
+    b_ele[:2] += 30.0
+    path = _write(tmp_path, [_segment(a_lat, a_lon, np.full(200, 100.0)), _segment(b_lat, b_lon, b_ele)])
+    track = read_gpx(path)
+    terrain = build_terrain(track)
+    assert analyse(track, terrain).climbs == ()
+    assert np.abs(terrain.grade).max() < 0.01 and terrain.gain < 1.0
+
+
 def test_segments_that_meet_are_not_gaps(tmp_path):
     lat, lon = _line(-40.5, -140.30, -40.5, -140.28, 400)
     path = _write(

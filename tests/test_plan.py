@@ -8,7 +8,7 @@ import pytest
 from gpxmaker import profile_gpx
 
 from cardgen.io.gpx import read_gpx
-from cardgen.physics.effort import safe_climb_power
+from cardgen.physics.effort import sustainable_climb_power
 from cardgen.physics.forces import gravity_power
 from cardgen.physics.steady import power_for_speed, speed_for_power
 from cardgen.plan import checkpoint_windows, make_plan
@@ -171,14 +171,14 @@ def test_a_long_climb_spends_w_prime_as_the_critical_power_model_allows(tmp_path
 
 
 def test_the_safe_climbing_power_is_the_critical_power_model(tmp_path):
-    """safe_climb_power: the steady power whose work above CP over the climb is the
+    """sustainable_climb_power: the steady power whose work above CP over the climb is the
     W′ left, (P − CP)·T(P) = W′ (Monod & Scherrer 1965)."""
     track, terrain = _long_climb(tmp_path)
     vehicle = builtin_vehicles()["road-hoods"]
     cp, w_prime = 200.0, 14000.0
     res = vehicle.resistance
     seg = slice(100, 600)  # the 8 % stretch
-    safe = safe_climb_power(
+    safe = sustainable_climb_power(
         cp=cp,
         climb_power=260.0,
         w_prime_left=w_prime,

@@ -191,47 +191,6 @@ def rider_power_for_speed(
     return np.maximum(p, 0.0)
 
 
-def suggest_levels(
-    motor: Motor,
-    climbs: Sequence[tuple[int, int]],
-    *,
-    climb_power: float,
-    target_speed: float,
-    min_speed: float,
-    resistance: Resistance,
-    grade: Floats,
-    headwind: Floats,
-    air_density: Floats,
-) -> Any:
-    """For each climb, the lowest assist level (0 = off) at which the rider, at no more
-    than ``climb_power``, stays at or above ``min_speed`` on every segment. The rider
-    eases off once ``target_speed`` is reached.
-
-    ``climbs`` are (start, end) segment ranges; ``grade``, ``headwind`` and
-    ``air_density`` arrays over the whole route. Returns a list, one (level, slowest
-    speed [m/s] at each level 0…N) per climb; where no level is enough, the highest
-    level. All climbs and levels are solved at once.
-    """
-    if not climbs:
-        return []
-    segments = [np.arange(start, end) for start, end in climbs]
-    idx = np.concatenate(segments)
-    starts = np.cumsum([0] + [len(x) for x in segments[:-1]])
-    grade, headwind, air_density = (np.asarray(x, dtype=float)[idx] for x in (grade, headwind, air_density))
-    ratios = np.array([0.0, *motor.levels])[:, None]  # (levels, 1) against (segments,)
-    phys = dict(grade=grade, headwind=headwind, air_density=air_density)
-    wanted = rider_power_for_speed(motor, ratios, target_speed, resistance=resistance, **phys)
-    power = np.minimum(wanted, climb_power)
-    speed = np.minimum(assisted_speed(motor, ratios, power, resistance=resistance, **phys), target_speed)
-    slowest = np.minimum.reduceat(speed, starts, axis=1)  # (levels, climbs)
-    enough = slowest >= min_speed
-    out = []
-    for k in range(len(climbs)):
-        level = int(np.argmax(enough[:, k])) if enough[:, k].any() else len(motor.levels)
-        out.append((level, slowest[:, k].tolist()))
-    return out
-
-
 def climb_options(
     motor: Motor,
     climbs: Sequence[tuple[int, int]],
@@ -244,13 +203,17 @@ def climb_options(
     headwind: Floats,
     air_density: Floats,
     step: float,
+    w_prime: float = 0.0,
 ) -> dict[str, np.ndarray]:
     """What each assist level does on each climb, all solved at once (steady speeds).
 
     Returns arrays of shape (levels 0…N, climbs): ``slowest`` [m/s] the slowest
     segment, ``time`` [s], ``battery`` [J] drawn, and ``within_cp`` (bool): the rider
-    holds the target speed at no more than CP. The rider rides at the power the target
-    speed needs, at most ``climb_power``, and eases off at the target.
+    holds the target speed within CP: the climb's mean power at the target no more
+    than CP, and the work above CP on its steeper pitches within ``w_prime`` [J] (the
+    critical-power model, Monod & Scherrer 1965; with ``w_prime`` 0, every segment
+    within CP). The rider rides at the power the target speed needs, at most
+    ``climb_power``, and eases off at the target.
     """
     segments = [np.arange(start, end) for start, end in climbs]
     idx = np.concatenate(segments)
@@ -265,11 +228,14 @@ def climb_options(
     with np.errstate(divide="ignore"):
         seconds = np.where(speed > 0, length / speed, np.inf)
     drawn = motor_power(motor, ratios, speed, power) * seconds / motor.drive_efficiency
+    at_target = length / target_speed  # [s] on each segment at the target speed
+    mean = np.add.reduceat(wanted * at_target, starts, axis=1) / np.add.reduceat(at_target, starts)
+    above = np.add.reduceat(np.maximum(wanted - cp, 0.0) * at_target, starts, axis=1)  # [J] above CP
     return dict(
         slowest=np.minimum.reduceat(speed, starts, axis=1),
         time=np.add.reduceat(seconds, starts, axis=1),
         battery=np.add.reduceat(np.nan_to_num(drawn, posinf=0.0), starts, axis=1),
-        within_cp=np.maximum.reduceat(wanted, starts, axis=1) <= cp * (1 + 1e-9),
+        within_cp=(mean <= cp * (1 + 1e-9)) & (above <= w_prime * (1 + 1e-9) + 1e-6),
     )
 
 

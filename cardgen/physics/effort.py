@@ -2,8 +2,8 @@
 
 The effort model: the flat power everywhere, the climbing power on climbs, and no
 pedalling where gravity alone keeps the rider at least as fast as their flat speed on
-level ground. The W′ balance is the differential form of Skiba et al. (2015); the safe
-climbing power is the highest steady power whose work above CP fits the W′ left.
+level ground. The W′ balance is the differential form of Skiba et al. (2015); the sustainable
+climbing power (model) is the highest steady power whose work above CP fits the W′ left.
 
 References
 ----------
@@ -74,7 +74,7 @@ def effort_power(
     return power
 
 
-def safe_climb_power(
+def sustainable_climb_power(
     *,
     cp: float,
     climb_power: float,

@@ -8,6 +8,7 @@ from __future__ import annotations
 
 import dataclasses
 from dataclasses import dataclass
+from datetime import datetime
 
 import numpy as np
 
@@ -49,7 +50,7 @@ class ClimbRow:
     slow_length: float  # [m] below the two-wheel stable speed
     rider_power: float  # [W] time-averaged simulated rider power on the climb
     w_prime_low: float  # [J] lowest W′ balance on the climb
-    safe_power: float | None  # [W] highest steady power that keeps W′ ≥ 0, where it runs out
+    sustainable_power: float | None  # [W] highest steady power that keeps W′ ≥ 0, where it runs out
     assist_level: int | None  # suggested level (0 = off); None without a motor
     assist_name: str | None
     warnings: tuple[Notice, ...]
@@ -176,3 +177,27 @@ def arrival_time(nodes, elapsed, stops, distance: float) -> float:
     """Time [s] from the start to arriving at ``distance`` [m]: the ride's ``elapsed``
     at the grid ``nodes``, and every planned stop before it."""
     return float(np.interp(distance, nodes, elapsed)) + stops_before(stops, distance)
+
+
+@dataclass(frozen=True)
+class RouteJob:
+    """One route's plans, as the renderer needs them."""
+
+    slug: str
+    name: str
+    notes: str
+    analysis: Analysis
+    checkpoints: tuple  # Checkpoint, by distance
+    riders: tuple  # Entry, in the configuration's order
+
+
+@dataclass(frozen=True)
+class Entry:
+    """One rider on one route: name, start (None without an event time), the start
+    wave's name, their plan and bib."""
+
+    name: str
+    start: datetime | None
+    wave: str | None
+    plan: Plan
+    bib: int | None = None

@@ -127,6 +127,31 @@ def minutes(seconds) -> str:
     return f"{int(_nearest(seconds / 60, 1))} min"
 
 
+def moment(start: datetime, seconds: float, to_second: bool = False) -> datetime:
+    """The time of day ``seconds`` after ``start``, rounded to the nearest minute (half
+    up; to the second when ``to_second``): every printed arrival, on cards, coach
+    sheets, pages and plan.json, rounds this one way."""
+    unit = 1.0 if to_second else 60.0
+    return start + timedelta(seconds=_nearest(seconds / unit, 1) * unit)
+
+
+def litres_range(pair) -> str:
+    """A fluid range "0.2–0.3 L": the low end rounded down, the high end up, to 0.1 L,
+    so a range never prints as "0.2–0.2 L"; "–" without one."""
+    if pair is None or _missing(pair[0]) or _missing(pair[1]):
+        return "–"
+    low, high = _down(pair[0], 0.1), _up(pair[1], 0.1)
+    if high <= low:
+        high = low + 0.1
+    return f"{low:.1f}–{high:.1f} L"
+
+
+def hhmm(when: datetime) -> str:
+    """A moment as "09:42", rounded to the nearest minute like :func:`moment`."""
+    whole = when.replace(second=0, microsecond=0)
+    return moment(whole, when.second + when.microsecond / 1e6).strftime("%H:%M")
+
+
 def clock(start: datetime | None, seconds) -> str:
     """Time of day "09:42" after ``seconds`` from ``start``; "+1:07" without a start."""
     if _missing(seconds):
@@ -187,4 +212,6 @@ FILTERS = {
     "food": food,
     "battery": battery,
     "score": score,
+    "hhmm": hhmm,
+    "litres_range": litres_range,
 }

@@ -32,8 +32,8 @@ def _curve(n: Notice, units: str) -> str:
 
 def _w_prime(n: Notice, units: str) -> str:
     advice = (
-        f"hold about {fmt.power(n.value('safe'), 'down')} instead"
-        if n.value("safe") is not None
+        f"hold about {fmt.power(n.value('hold'), 'down')} instead"
+        if n.value("hold") is not None
         else "ease off before the climb to recover"
     )
     return f"at {fmt.power(n.value('power'))} W′ (the work the rider can do above CP) runs out on this climb; {advice}"
@@ -76,7 +76,8 @@ _WORDS: dict[str, Callable[[Notice, str], str]] = {
         f"at CP expect about {fmt.speed(n.value('speed'), units, 'down')}"
     ),
     "traction": lambda n, units: (
-        f"{fmt.grade(n.value('grade'))} at the steepest: a driven front wheel may slip; keep weight forward"
+        f"{fmt.grade(n.value('grade'))} at the steepest: a driven front wheel may slip; ask your coach or "
+        "clinician how best to ride it (keeping weight over the front wheel may help)"
     ),
     "battery": lambda n, units: _battery(n, units),
 }
