@@ -48,6 +48,7 @@ bench: $(VENV)/installed
 	$(BIN)/python bench/bench_ride.py
 	$(BIN)/python bench/bench_build.py
 	$(BIN)/python bench/bench_event.py
+	$(BIN)/python bench/bench_publish.py
 	$(BIN)/python bench/bench_profile.py
 
 # The pictures in docs/, drawn from the demo by scripts/make_docs.py.

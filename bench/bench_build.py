@@ -57,7 +57,7 @@ def card_costs(config_path: Path, work: Path):
     from cardgen.plan import analyse, make_plan
     from cardgen.render.html import RiderView, environment, symbols_for
     from cardgen.render.pages import page_geometry
-    from cardgen.render.pdf import write_pdf
+    from cardgen.render.pdf import pdf_bytes
     from cardgen.render.plots import elevation_profile
     from cardgen.route.checkpoints import resolve_checkpoints
     from cardgen.route.terrain import build_terrain
@@ -98,7 +98,7 @@ def card_costs(config_path: Path, work: Path):
     t_html = (time.perf_counter() - t0) / n
     t0 = time.perf_counter()
     for _ in range(n):
-        write_pdf(html, work, work / "card.pdf")
+        (work / "card.pdf").write_bytes(pdf_bytes(html, work)[0])
     t_pdf = (time.perf_counter() - t0) / n
     return t_plot, t_html, t_pdf
 

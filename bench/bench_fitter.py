@@ -90,21 +90,23 @@ def main() -> None:
     for name in ("old", "new"):
         out = folder / name
         shutil.copytree(html, out)
-        counter, chosen = [0], []
+        counter, chosen = [0], {}
         t0 = time.process_time()
         if name == "old":
             for c in cards:
-                chosen.append(halving_fit(c.variants, out, out / Path(c.target).name, c.budget, counter))
+                chosen[c.target] = halving_fit(c.variants, out, out / Path(c.target).name, c.budget, counter)
         else:
             for batch in card_batches(cards, 40):
                 fitter = Fitter()
                 for c in batch:
-                    chosen.append(fitter.fit(c.variants, out, out / Path(c.target).name, c.budget, c.group))
+                    chosen[c.target] = fitter.fit(
+                        c.variants, out, out / Path(c.target).name, c.budget, c.group
+                    )
                 counter[0] += fitter.layouts
         cpu = time.process_time() - t0
         results[name] = (cpu, counter[0], chosen)
         budget = cards[0].budget
-        over = sum(1 for variant, pages in chosen if variant < 4 and pages > budget)
+        over = sum(1 for variant, pages in chosen.values() if variant < 4 and pages > budget)
         print(
             f"{name} fitter: {len(cards)} cards, CPU {cpu:.1f} s ({cpu / len(cards):.2f} s per card), "
             f"{counter[0] / len(cards):.2f} layouts per card, {over} over budget"

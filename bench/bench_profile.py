@@ -18,7 +18,7 @@ import numpy as np
 from cardgen.build import pipeline
 from cardgen.config import load_config
 from cardgen.render import format as fmt
-from cardgen.render.pdf import write_pdf
+from cardgen.render.pdf import pdf_bytes
 from cardgen.render.plots import INK, _figure, _svg, thin
 
 GRADE_RANGE = 12.0
@@ -179,7 +179,7 @@ def main() -> None:
             best = float("inf")
             for _ in range(3):
                 t0 = time.perf_counter()
-                write_pdf(card.variants[0], folder, folder / "bench.pdf")  # one layout, the same HTML
+                pdf_bytes(card.variants[0], folder)  # one layout, the same HTML
                 best = min(best, time.perf_counter() - t0)
             timings[label] = (best, svg.count("<path"), svg.count("<"))
     for label, (seconds, paths, nodes) in timings.items():

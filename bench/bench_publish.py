@@ -55,7 +55,7 @@ def _event(folder: Path) -> Path:
     folder.mkdir(parents=True)
     for name, points in ROUTES.items():
         make_route(folder / f"{name}.gpx", points=points)
-    _write_riders(folder)
+    _write_riders(folder, 300)
     (folder / "site.toml").write_text(
         'riders = "entrants.csv"\n[site]\ntitle = "Invented sportive"\n[event]\nstart = "07:00"\n'
         "start_interval_min = 0.5\n" + "".join(f'[[routes]]\ngpx = "{n}.gpx"\n' for n in ROUTES),

@@ -10,35 +10,29 @@ import numpy as np
 KMH_PER_MS = 3.6
 MPH_PER_MS = 3600.0 / 1609.344
 J_PER_KCAL = 4184.0  # thermochemical calorie, ISO 80000-5
-W_PER_HP = 745.69987158227022  # mechanical horsepower, 550 ft·lbf/s
 ZERO_CELSIUS_K = 273.15
 #: Standard gravity [m/s²], exact by definition (CGPM 1901): also converts g to m/s².
 G0 = 9.80665
 
 
-def kmh_to_ms(speed_kmh):
+def kmh_to_ms(speed_kmh: Floats) -> np.ndarray:
     """Convert km/h to m/s."""
     return np.asarray(speed_kmh, dtype=float) / KMH_PER_MS
 
 
-def ms_to_kmh(speed):
+def ms_to_kmh(speed: Floats) -> np.ndarray:
     """Convert m/s to km/h."""
     return np.asarray(speed, dtype=float) * KMH_PER_MS
 
 
-def pct_to_grade(grade_pct):
+def pct_to_grade(grade_pct: Floats) -> np.ndarray:
     """Convert a grade in percent (rise/run × 100) to a fraction."""
     return np.asarray(grade_pct, dtype=float) / 100.0
 
 
-def celsius_to_kelvin(temperature_c):
+def celsius_to_kelvin(temperature_c: Floats) -> np.ndarray:
     """Convert °C to K."""
     return np.asarray(temperature_c, dtype=float) + ZERO_CELSIUS_K
-
-
-def hp_to_w(power_hp):
-    """Convert mechanical horsepower to watts."""
-    return np.asarray(power_hp, dtype=float) * W_PER_HP
 
 
 #: A float or an array of floats: what the physics and route functions take and give.

@@ -6,15 +6,12 @@ from gpxmaker import profile_gpx
 
 from cardgen.errors import VehicleError
 from cardgen.io.gpx import read_gpx
-from cardgen.physics.assist import motor_power, suggest_levels, taper_factor
-from cardgen.physics.atmosphere import Conditions
-from cardgen.physics.steady import speed_for_power
+from cardgen.physics.assist import motor_power, taper_factor
 from cardgen.plan import make_plan
-from cardgen.plan.rider import BATTERY_RESERVE, segment_air
+from cardgen.plan.rider import BATTERY_RESERVE
 from cardgen.profiles.motors import builtin_motors, find_motor
 from cardgen.profiles.riders import Rider
 from cardgen.profiles.vehicles import builtin_vehicles
-from cardgen.route.climbs import find_climbs
 from cardgen.route.terrain import build_terrain
 
 MPH = 1609.344 / 3600
@@ -56,51 +53,6 @@ def test_no_assist_at_or_above_cutoff_and_never_above_peak():
 def test_unknown_motor():
     with pytest.raises(VehicleError, match="eu-pedelec"):
         find_motor("no-such-motor")
-
-
-def test_suggested_level_is_the_lowest_that_works_brute_force(tmp_path):
-    """Check the suggestion against an independent steady computation per level."""
-    d = np.arange(0, 3001, 10.0)
-    e = np.interp(d, [0, 500, 1500, 2000, 3000], [0, 0, 60, 130, 130])  # 6 % then 14 %
-    track = read_gpx(profile_gpx(tmp_path / "c.gpx", d, e))
-    terrain = build_terrain(track)
-    vehicle = builtin_vehicles()["e-assist-cargo"]
-    motor = find_motor(vehicle.motor)
-    rider = Rider.for_vehicle(vehicle)
-    wind, rho = segment_air(terrain, Conditions())
-    (hill,) = find_climbs(terrain)
-    ((level, _),) = suggest_levels(
-        motor,
-        [(hill.start, hill.end)],
-        climb_power=rider.climb_power_used,
-        target_speed=rider.target_speed,
-        min_speed=vehicle.min_stable_speed,
-        resistance=vehicle.resistance,
-        grade=terrain.grade,
-        headwind=wind,
-        air_density=rho,
-    )
-    g = terrain.grade[hill.start : hill.end]
-    ok = []
-    for lv in range(len(motor.levels) + 1):
-        ratio = 0.0 if lv == 0 else motor.levels[lv - 1]
-        # the rider at their climbing power, assist below the cut-off (speeds here are low)
-        wheel = rider.climb_power_used * vehicle.efficiency + min(
-            ratio * rider.climb_power_used, motor.peak_power
-        )
-        v = speed_for_power(
-            wheel,
-            mass=vehicle.mass,
-            crr=vehicle.crr,
-            cda=vehicle.cda,
-            efficiency=1.0,
-            grade=g,
-            air_density=rho[hill.start : hill.end],
-        )
-        v = np.minimum(v, rider.target_speed)
-        ok.append(bool(v.min() >= vehicle.min_stable_speed))
-    assert ok.index(True) == level
-    assert level > 0  # 14 % with 160 kg needs help
 
 
 @pytest.mark.parametrize("km", [20, 160])

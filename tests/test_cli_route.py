@@ -21,6 +21,7 @@ CLIMB_KEYS = {
     "speed_at_effort_kmh",
     "time_s",
     "assist_level",
+    "assist",
     "warnings",
 }
 DESCENT_KEYS = {
@@ -165,6 +166,39 @@ def test_route_json_warnings_are_objects_with_their_place(cli):
         assert f"slow to {w['slow_to_kmh']:.1f} km/h" in w["text"]
         assert "safe" not in json.dumps(w)
         assert descent["start_km"] <= w["at_km"] <= descent["end_km"] + 0.1
+
+
+def test_assist_level_is_a_whole_number_as_in_solve(run_cli):
+    """route --json and solve --json give assist_level the same type: the level's
+    number (0 = off), null without a motor; the words are in "assist"."""
+    code, out, err = run_cli(
+        "route", str(SAMPLES / "hill-loop.gpx"), "--vehicle", "e-assist-city", "--json", parse_json=True
+    )
+    assert code == 0, err
+    assert out["climbs"]
+    for climb in out["climbs"]:
+        assert isinstance(climb["assist_level"], int) and not isinstance(climb["assist_level"], bool)
+        assert isinstance(climb["assist"], str)
+    code, out, err = run_cli(
+        "route", str(SAMPLES / "hill-loop.gpx"), "--vehicle", "road-hoods", "--json", parse_json=True
+    )
+    assert code == 0, err
+    assert all(c["assist_level"] is None and c["assist"] is None for c in out["climbs"])
+    code, solved, err = run_cli(
+        "solve",
+        "--vehicle",
+        "e-assist-city",
+        "--speed",
+        "15",
+        "--grade",
+        "6",
+        "--assist-level",
+        "2",
+        "--json",
+        parse_json=True,
+    )
+    assert code == 0, err
+    assert solved["assist_level"] == 2
 
 
 def test_route_json_carries_the_route_notes(run_cli, tmp_path):

@@ -224,11 +224,11 @@ def test_group_spread_and_regroup_wait_by_hand():
     is the largest minus the smallest time since the point before (checked by hand
     from the plans)."""
     from datetime import datetime
-    from types import SimpleNamespace
 
+    from cardgen.plan.event import group_spread
+    from cardgen.plan.model import Entry, RouteJob
     from cardgen.profiles.riders import Rider
     from cardgen.profiles.vehicles import builtin_vehicles
-    from cardgen.render.pages import Entry, RouteJob, group_spread
 
     track = read_gpx(SAMPLES / "day-ride.gpx")
     analysis = analyse(track, build_terrain(track))
@@ -241,8 +241,7 @@ def test_group_spread_and_regroup_wait_by_hand():
     ]
     entries = tuple(Entry(f"R{i}", start, None, p) for i, p in enumerate(plans))
     job = RouteJob("day-ride", "Day", "", analysis, tuple(checkpoints), entries)
-    views = [SimpleNamespace(name=e.name, plan=e.plan) for e in entries]
-    (group,) = group_spread(job, views)
+    (group,) = group_spread(job)
     assert group["riders"] == ["R0", "R1", "R2"]
     names = [r["name"] for r in group["rows"]]
     assert names[-1] == "Finish" and len(names) == len(analysis.climbs) + len(checkpoints) + 1

@@ -8,13 +8,11 @@ from cardgen.physics.forces import (
     aero_power,
     bearing_power,
     gravity_power,
-    kinetic_power,
     pedal_power,
     rolling_power,
     steady_breakdown,
     wheel_power,
 )
-from cardgen.units import W_PER_HP, hp_to_w
 
 # Martin, Milliken, Cobb, McFadden & Coggan (1998), J. Appl. Biomech. 14:276–291.
 # Parameters as reported: CdA 0.269 m² + spoke drag area F_W 0.0044 m², Crr 0.0032,
@@ -53,13 +51,6 @@ def test_martin_1998_check_values(v, expected):
     assert steady_breakdown(v, **MARTIN).total == pytest.approx(expected, abs=0.01)
 
 
-def test_martin_kinetic_term_with_wheel_inertia():
-    # Martin et al. (1998): I = 0.14 kg·m² on r = 0.311 m [S]; 8 → 9 m/s in 10 s with
-    # 80 kg: ½·(80 + 1.4475)·(81 − 64)/10 = 69.23 W (docs/sources.md [C]).
-    assert kinetic_power(8.0, 9.0, 10.0, 80.0, 0.14 / 0.311**2) == pytest.approx(69.23, abs=0.01)
-    assert np.isnan(kinetic_power(8.0, 9.0, 0.0, 80.0))
-
-
 def test_gravity_uses_exact_trigonometry():
     # On a 100 % grade the road is at 45°: sin = √½, not the small-angle 1.0.
     assert gravity_power(1.0, 100.0, 1.0) == pytest.approx(100 * G0 / np.sqrt(2), rel=1e-12)
@@ -85,13 +76,6 @@ def test_drivetrain_only_on_positive_power():
     assert pedal_power(97.6, 0.976) == pytest.approx(100.0)
     assert pedal_power(-50.0, 0.9) == -50.0
     assert wheel_power(pedal_power(123.0, 0.95), 0.95) == pytest.approx(123.0)
-
-
-def test_one_mechanical_horsepower():
-    # 550 ft·lbf/s with the international foot (0.3048 m) and pound (0.45359237 kg),
-    # standard gravity: 745.6998715822702 W (the definition; 745.7 W as usually quoted).
-    assert W_PER_HP == pytest.approx(550 * 0.3048 * 0.45359237 * 9.80665, rel=1e-15)
-    assert hp_to_w(1.0) == pytest.approx(745.7, abs=0.01)
 
 
 def test_energy_bookkeeping_climb_then_descend_returns_potential_energy():

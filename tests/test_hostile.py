@@ -54,3 +54,26 @@ def test_hostile_file_is_analysed_with_its_warning(tmp_path, capsys, name):
 def test_readme_table_is_the_corpus():
     readme = (Path(__file__).parent / "hostile" / "README.md").read_text(encoding="utf-8")
     assert CORPUS["readme_table"]() in readme
+
+
+#: Cases whose expected text is a note on the route itself (not on a climb or a name).
+ROUTE_NOTES = (
+    "partial-elevation",
+    "elevation-100km",
+    "time-backwards",
+    "several-tracks",
+    "segments-500km-apart",
+    "gap-with-elevation-jump",
+)
+
+
+@pytest.mark.parametrize("name", ROUTE_NOTES)
+def test_route_json_carries_the_notes_the_text_prints(tmp_path, capsys, name):
+    """A script reading `route --json` learns the route is suspect, as a reader of the
+    text does; a gap joined across an elevation jump never makes a climb."""
+    path = CORPUS["write_case"](name, tmp_path)
+    assert main(["route", str(path), "--json"]) == 0
+    data = json.loads(capsys.readouterr().out)
+    assert any(CASES[name][1][1] in note["text"] for note in data["notes"]), data["notes"]
+    if name == "gap-with-elevation-jump":
+        assert data["climbs"] == []

@@ -116,6 +116,7 @@ CASES = {
     "cue-text-1e308": 'cue_texts = ["1e308 = …"]: refused by check and by build alike',
     "cue-text-99999": 'cue_texts = ["99999 = …"]: refused by check and by build alike (beyond 10,000 km)',
     "cue-text-underscore": 'cue_texts = ["1_5 = …"]: refused by check and by build alike (it was read as 15 km)',
+    "cue-text-off-the-cues": "a cue text at 10 km, where the route has no cue: refused by check as by build",
     "title-nul": "a NUL character in the title (it was published raw into index.html): refused with its key",
     "rider-name-escape": "an escape sequence in a rider's name: refused with its key, the message printing none of it",
     "csv-name-nul": "a NUL character in a rider's name in the entrants CSV: refused with row and column",
@@ -228,6 +229,12 @@ INPUTS = {
         {},
         ("check", "build"),
         ("error", "routes[0].cue_texts", "between 0 and 10,000"),
+    ),
+    "cue-text-off-the-cues": (
+        {"route": 'cue_texts = ["10 = Left at the mill"]\n'},
+        {},
+        ("check", "build"),
+        ("error", "riverside-loop.gpx", "no cue within 150 m of 10 km"),
     ),
     "title-nul": (
         {"site": '[site]\ntitle = "Spring\\u0000ride"\n'},

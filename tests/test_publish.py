@@ -293,6 +293,7 @@ def _traced_build(src: Path, out: Path, *strace_args: str, env=None) -> subproce
     )
 
 
+@pytest.mark.slow  # two builds each, under strace
 @pytest.mark.skipif(STRACE is None, reason="strace is not installed (Debian package 'strace')")
 @pytest.mark.parametrize("exchange", [True, False])
 def test_every_file_and_folder_is_flushed_before_the_swap(tmp_path, exchange):
@@ -321,6 +322,7 @@ def test_every_file_and_folder_is_flushed_before_the_swap(tmp_path, exchange):
     assert after and f"<{tmp_path}>" in after[0]  # the rename itself made durable
 
 
+@pytest.mark.slow  # three builds each, one under strace
 @pytest.mark.skipif(STRACE is None, reason="strace is not installed (Debian package 'strace')")
 @pytest.mark.parametrize("when", [1, 12])
 def test_killed_while_flushing_the_old_site_stays(tmp_path, when):

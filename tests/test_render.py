@@ -334,7 +334,7 @@ def test_profile_bands_read_in_greyscale_print(tmp_path):
     from matplotlib.image import imread
 
     from cardgen.render import plots
-    from cardgen.render.pdf import write_pdf
+    from cardgen.render.pdf import pdf_bytes
 
     d = np.arange(0.0, 6001.0, 10.0)
     grade = np.select([d < 1500, d < 3000, d < 4500], [0.0, 0.03, 0.07], 0.11)
@@ -344,7 +344,7 @@ def test_profile_bands_read_in_greyscale_print(tmp_path):
     )
     svg, _ = plots.elevation_profile(terrain, [], width_in=5.0, height_in=2.0)
     (tmp_path / "p.svg").write_text(svg, encoding="utf-8")
-    write_pdf('<img src="p.svg" style="width: 120mm">', tmp_path, tmp_path / "p.pdf")
+    (tmp_path / "p.pdf").write_bytes(pdf_bytes('<img src="p.svg" style="width: 120mm">', tmp_path)[0])
     subprocess.run(
         ["pdftoppm", "-gray", "-png", "-r", "100", str(tmp_path / "p.pdf"), str(tmp_path / "g")], check=True
     )

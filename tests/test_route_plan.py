@@ -41,7 +41,7 @@ def test_the_route_command_prints_the_builds_plan(built_hill_loop, vehicle):
     printed = _route_json("--vehicle", vehicle)
     assert len(printed["climbs"]) == len(built["climbs"]) > 0
     for c, b in zip(printed["climbs"], built["climbs"], strict=True):
-        assert c["assist_level"] == b["assist"]  # the level chosen for the same climb
+        assert c["assist"] == b["assist"]  # the level chosen for the same climb
         assert c["power_for_target_w"] == pytest.approx(b["power_for_target_w"], abs=0.06)
         assert c["speed_at_effort_kmh"] / 3.6 == pytest.approx(b["speed_m_s"], abs=6e-4)
         assert c["time_s"] == pytest.approx(b["time_s"], abs=0.06)

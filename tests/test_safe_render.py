@@ -8,7 +8,7 @@ from gpxmaker import straight, to_latlon, write_gpx
 
 from cardgen.build import build_site
 from cardgen.config import load_config
-from cardgen.render.pdf import write_pdf
+from cardgen.render.pdf import pdf_bytes
 
 pytestmark = pytest.mark.slow  # builds whole sites, fuzzes or checks the install: not in make check
 
@@ -68,8 +68,8 @@ def test_pdf_renderer_fetches_only_build_files(tmp_path):
         f'<img src="ok.svg"><img src="file:///etc/passwd"><img src="{outside.as_uri()}">'
         '<img src="http://127.0.0.1:9/x.png"><img src="../secret.png"><link rel="stylesheet" href="https://example.invalid/x.css">'
     )
-    refused = write_pdf(html, base, tmp_path / "out.pdf")
-    assert (tmp_path / "out.pdf").stat().st_size > 500
+    data, refused = pdf_bytes(html, base)
+    assert len(data) > 500
     assert any("etc/passwd" in url for url in refused)
     assert any("secret.png" in url for url in refused)
     assert len(refused) >= 4

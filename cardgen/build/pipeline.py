@@ -11,10 +11,9 @@ from __future__ import annotations
 
 import contextlib
 import os
-import re
 import shutil
 import time
-from collections.abc import Callable, Iterable, Iterator
+from collections.abc import Callable, Iterable, Iterator, Mapping
 from concurrent.futures import ProcessPoolExecutor
 from concurrent.futures.process import BrokenProcessPool
 from dataclasses import dataclass, field
@@ -113,7 +112,7 @@ def _plan_route(task):
     Returns (RouteJob, None) or (None, error message naming the file)."""
     from cardgen.io.gpx import read_gpx
     from cardgen.plan import plan_route
-    from cardgen.render.pages import Entry, RouteJob
+    from cardgen.plan.model import Entry, RouteJob
 
     route, config, starts = task  # starts: rider index → Start on this route
     rc = route.config
@@ -147,17 +146,29 @@ def _render_route(task):
     from cardgen.render.pages import render_route
 
     config, site, job, folder = task
-    return render_route(config, site, job, Path(folder))
+    pages = render_route(config, site, job, Path(folder))
+    write_files(Path(folder), pages.files)
+    return pages.summary, pages.cards
 
 
-_REFERENCE = re.compile(r'\bsrc="([^":/?#]+)"')
+def write_files(folder: Path, files: Mapping[str, str | bytes | Path]) -> None:
+    """Write rendered files into ``folder`` by name: text as UTF-8, bytes as they are,
+    a path (a theme file) copied."""
+    for name, content in files.items():
+        target = folder / name
+        if isinstance(content, Path):
+            shutil.copyfile(content, target)
+        elif isinstance(content, bytes):
+            target.write_bytes(content)
+        else:
+            target.write_text(content, encoding="utf-8")
 
 
 def card_key(card) -> str:
     """What a card's PDF depends on: its HTML and the build's own files it shows
-    (the profile drawing, the QR code), by content."""
+    (the profile drawings, the maps, the QR code: the card's ``assets``), by content."""
     base = Path(card.base)
-    used = sorted(set(_REFERENCE.findall(card.html)))
+    used = sorted(set(card.assets))
     return digest(
         card.budget,
         *(card.variants or (card.html,)),
@@ -170,14 +181,15 @@ def _render_pdfs(cards) -> tuple[list[str], int]:
     fits its page budget (the last one otherwise), by one fitter that learns from the
     cards before (:class:`cardgen.render.pdf.Fitter`). Returns the files and the
     layouts made."""
-    from cardgen.render.pdf import Fitter, write_pdf
+    from cardgen.render.pdf import Fitter, pdf_bytes
 
     fitter = Fitter()
     for card in cards:
         if card.variants:
-            fitter.fit(card.variants, Path(card.base), Path(card.target), card.budget, card.group)
+            data, _, _ = fitter.fit(card.variants, Path(card.base), card.budget, card.group)
         else:
-            write_pdf(card.html, Path(card.base), Path(card.target))
+            data, _ = pdf_bytes(card.html, Path(card.base))
+        Path(card.target).write_bytes(data)
     return [c.target for c in cards], fitter.layouts
 
 
@@ -378,14 +390,16 @@ def _render(config, routes, old, out, tmp, pool, pdf, progress, report, reusable
 
     if pdf:
         t_pack = time.perf_counter()
-        render_packs(
+        packs = render_packs(
             config,
             [(r.slug, manifest["routes"][r.slug]["summary"]) for r in routes if r.slug in manifest["routes"]],
             tmp,
             {r.slug for r in fresh},
         )
+        for target, data in packs.items():
+            target.write_bytes(data)
         report.seconds["packs"] = time.perf_counter() - t_pack
     summaries = [manifest["routes"][r.slug]["summary"] for r in routes if r.slug in manifest["routes"]]
-    render_index(config, site, summaries, tmp)
-    render_day_sheet(config, summaries, tmp, pdf)
+    write_files(tmp, render_index(config, site, summaries, packs=(tmp / "all-cards.pdf").is_file()))
+    write_files(tmp, render_day_sheet(config, summaries, tmp, pdf))
     return manifest

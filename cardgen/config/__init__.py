@@ -5,16 +5,9 @@ and :func:`gpx_config` (zero-config sites), :func:`rider_start`, and the schema 
 its README table.
 """
 
-from cardgen.config.loader import (
-    SCHEMA,
-    SECTIONS,
-    folder_config,
-    gpx_config,
-    load_config,
-    plural,
-    reference_table,
-    rider_start,
-)
+from cardgen.config.defaults import folder_config, gpx_config
+from cardgen.config.loader import load_config, plural, rider_start
+from cardgen.config.schema import SCHEMA, SECTIONS, reference_table
 
 __all__ = [
     "SCHEMA",

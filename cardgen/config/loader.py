@@ -1,332 +1,35 @@
-"""Site configuration: a TOML file checked against a declared schema in one pass.
+"""Loading ``site.toml``: the file checked against the schema in one pass, into settings.
 
 Every problem is collected with its file, key and (where it can be found) line, and
 reported together; an unknown key or section is a problem that names the closest
-known ones. Paths resolve against the config file's folder.
+known ones. Paths resolve against the config file's folder. The kinds of values are
+checked by :mod:`cardgen.config.validators`, the sections by
+:class:`~cardgen.config.checker.Checker`; this module adds the rules across keys
+(routes and their patterns, riders and their vehicles, waves, the entrants CSV).
 """
 
 from __future__ import annotations
 
 import dataclasses
 import math
-import re
-from dataclasses import dataclass
-from datetime import date, datetime, time
+from datetime import date, datetime
 from pathlib import Path
 from typing import Any
 
-from cardgen.config.numbers import FORMAT, parse_number, parse_whole
+from cardgen.config.checker import Checker
+from cardgen.config.numbers import parse_number, parse_whole
 from cardgen.config.patterns import expand, is_pattern, local_path
-from cardgen.config.text import control_problem, has_host
+from cardgen.config.schema import SCHEMA, SECTIONS
 from cardgen.errors import CardgenError, ConfigError, close_matches
 from cardgen.io.files import read_toml
 from cardgen.io.tables import read_csv
 from cardgen.physics.atmosphere import Conditions
 from cardgen.profiles.limits import LIMITS
 from cardgen.profiles.riders import DEFAULT_ASSIST_LEVEL, Rider, flat_power_for_speed
-from cardgen.profiles.vehicles import Vehicle, builtin_vehicles, find_vehicle, vehicles_from_tables
+from cardgen.profiles.vehicles import Vehicle, vehicles_from_tables
 from cardgen.route.terrain import MAX_ROUTE_LENGTH
 from cardgen.settings import RiderConfig, RouteConfig, SiteConfig, Wave
-
-CARD_SIZES = ("A5", "A4", "pocket")
-#: Years an event may be in: keeps every start, arrival and window a real date.
-EVENT_YEARS = (1900, 2200)
-#: Longest base_url: its QR code must stay readable on a card.
-MAX_URL_LENGTH = 200
-UNITS = ("metric", "imperial")
-#: Riders of a zero-config build (a folder of GPX files without site.toml).
-DEFAULT_RIDERS = (
-    ("Upright bike", "city-upright"),
-    ("Road bike", "road-hoods"),
-    ("E-assist bike", "e-assist-city"),
-    ("Handcycle", "handcycle"),
-)
-
-
-@dataclass(frozen=True)
-class Spec:
-    """One key of the schema: its kind, whether it must be given, its default, and for
-    numbers the allowed range."""
-
-    kind: str  # "str", "bool", "number", "int", "choice", "list", "date", "time", "path", "vehicle", "url"
-    required: bool = False
-    default: Any = None
-    limit: str = ""  # for numbers: the key of cardgen.profiles.limits.LIMITS with the range
-    choices: tuple = ()
-    help: str = ""
-
-    @property
-    def about(self) -> str:
-        """What the key is, for messages."""
-        return self.help or (LIMITS[self.limit].help if self.limit else "")
-
-
-SCHEMA = {
-    "site": {
-        "title": Spec("str", default="Route cards", help="the site's title"),
-        "units": Spec("choice", default="metric", choices=UNITS, help="units on pages and cards"),
-        "card_size": Spec("choice", default="A5", choices=CARD_SIZES, help="paper of the rider cards"),
-        "large_print": Spec("bool", default=False, help="cards in 14 pt type"),
-        "output": Spec("str", default="site", help="output folder, relative to this file"),
-        "base_url": Spec("url", default="", help="the site's address, for QR codes on cards"),
-        "templates": Spec("str", default="", help="a folder of templates that override cardgen's"),
-    },
-    "event": {
-        "date": Spec("date", help='like "2027-04-18"'),
-        "start": Spec("time", help='like "08:30"'),
-        "start_interval_min": Spec("number", default=0.0, limit="start_interval_min"),
-        "checkpoint_margin_min": Spec("number", default=15.0, limit="checkpoint_margin_min"),
-        "contact": Spec("str", default="", help="the organiser's contact, printed on every card"),
-        "emergency": Spec("str", default="", help="emergency numbers, printed on every card"),
-        "min_kmh": Spec(
-            "number", limit="min_kmh", help="checkpoints close at the last start + distance / this speed"
-        ),
-        "max_kmh": Spec(
-            "number", limit="max_kmh", help="checkpoints open at the first start + distance / this speed"
-        ),
-    },
-    "conditions": {
-        "wind_kmh": Spec("number", default=0.0, limit="wind_kmh"),
-        "wind_from_deg": Spec("number", default=0.0, limit="wind_from_deg"),
-        "temperature_c": Spec("number", limit="temperature_c"),
-    },
-    "routes": {
-        "gpx": Spec(
-            "path",
-            required=True,
-            help='a GPX file, relative to this file, or a pattern like "routes/*.gpx" (routes = "..." alone also works)',
-        ),
-        "name": Spec("str"),
-        "notes": Spec("str", default=""),
-        "checkpoints": Spec("list", help="waypoint names or distances in km"),
-        "start": Spec("time", help='this route\'s own first start, like "09:00"'),
-        "stop_min": Spec("number", default=0.0, limit="stop_min", help="planned stop at each checkpoint"),
-        "stops_min": Spec(
-            "list",
-            help="planned stop at each checkpoint listed (none listed: the GPX's, in route order), in minutes",
-        ),
-        "cue_texts": Spec(
-            "list", help='the organiser\'s words for cues, like ["12.1 = Left at the old mill"] (km = text)'
-        ),
-    },
-    "waves": {
-        "name": Spec("str", required=True, help="the wave's name"),
-        "start": Spec("time", required=True, help='its first start, like "08:00"'),
-        "interval_min": Spec(
-            "number", default=0.0, limit="start_interval_min", help="time between its riders"
-        ),
-        "routes": Spec("list", help="riders on these routes start in this wave"),
-        "riders": Spec("list", help="these riders (by name) start in this wave"),
-    },
-    "riders": {
-        "name": Spec("str", required=True),
-        "vehicle": Spec("vehicle", required=True, help="a built-in vehicle or a .toml profile"),
-        "cp_w": Spec("number", limit="cp_w"),
-        "w_prime_kj": Spec("number", limit="w_prime_kj"),
-        "flat_w": Spec("number", limit="flat_w"),
-        "climb_w": Spec("number", limit="climb_w"),
-        "climb_share": Spec("number", limit="climb_share"),
-        "target_kmh": Spec("number", limit="target_kmh"),
-        "flat_kmh": Spec("number", limit="flat_kmh"),
-        "body_mass_kg": Spec("number", limit="body_mass_kg"),
-        "load_kg": Spec("number", limit="load_kg"),
-        "battery_wh": Spec("number", limit="battery_wh", help="battery fitted (e-assist vehicles)"),
-        "assist_between_climbs": Spec("int", limit="assist_between_climbs"),
-        "start": Spec("time", help='this rider\'s own start, like "08:42"'),
-        "bib": Spec("int", limit="bib"),
-        "routes": Spec("list", help="only these routes (GPX file names or route names)"),
-    },
-}
-TABLE_ARRAYS = {"routes", "riders", "vehicles", "waves"}
-#: Keys that were renamed: the old name is refused with a pointer to the new.
-RENAMED = {"cruise_level": "assist_between_climbs"}
-#: Sections of site.toml, [[vehicles]] included (its keys are those of a vehicle profile).
-SECTIONS = (*SCHEMA, "vehicles")
-
-
-_HEADER = re.compile(r"^\s*(\[\[?)\s*([^\]]+?)\s*\]\]?")
-_KEY = re.compile(r"^\s*([A-Za-z0-9_\-]+)\s*=")
-
-
-def line_index(text: str) -> dict[tuple[str, int | None, str], int]:
-    """Line numbers of the TOML text's keys, by (section, index of a ``[[section]]``
-    or None, key); "" is the header's own line. One pass over the text."""
-    index: dict[tuple[str, int | None, str], int] = {}
-    counts: dict[str, int] = {}
-    section, number = "", None
-    for line_no, line in enumerate(text.splitlines(), 1):
-        header = _HEADER.match(line)
-        if header:
-            section = header.group(2)
-            if header.group(1) == "[[":
-                number = counts.get(section, -1) + 1
-                counts[section] = number
-            else:
-                number = None
-            index.setdefault((section, number, ""), line_no)
-            continue
-        key = _KEY.match(line)
-        if key:
-            index.setdefault((section, number, key.group(1)), line_no)
-    return index
-
-
-class _Checker:
-    def __init__(self, path: Path | None, text: str):
-        self.path = path
-        self.text = text
-        self.lines = line_index(text)
-        self.problems: list[str] = []
-        self.warnings: list[str] = []
-        self.inputs: list[Path] = []
-        self.notes: list[str] = []
-        self.csv_rows: dict[tuple[str, int | None], tuple[Path, int]] = {}
-
-    def where(self, section: str, index: int | None, key: str) -> str:
-        if (section, index) in self.csv_rows:
-            csv_path, row = self.csv_rows[(section, index)]
-            return f"{csv_path}:row {row}" + (f", column {key}:" if key else "")
-        name = f"{section}[{index}].{key}" if index is not None else f"{section}.{key}"
-        line = self.lines.get((section, index, key))
-        place = f"{self.path}" + (f", line {line}" if line else "") if self.path else "settings"
-        return f"{place}: {name}"
-
-    # one branch per kind of key, each short; splitting them apart would scatter the schema's rules
-    def value(self, section: str, table: dict, index: int | None, key: str, spec: Spec, folder: Path):  # noqa: C901
-        if key not in table:
-            if spec.required:
-                self.problems.append(
-                    f"{self.where(section, index, key)} is missing ({spec.about or spec.kind})"
-                )
-            return spec.default
-        raw = table[key]
-        where = self.where(section, index, key)
-        kind = spec.kind
-        if kind in ("number", "int"):
-            text = f"; write {FORMAT}" if isinstance(raw, str) else ""  # a spreadsheet cell
-            if kind == "int" and (isinstance(raw, bool) or not isinstance(raw, int)):
-                self.problems.append(f"{where} must be a whole number, not {raw!r}{text}")
-                return spec.default
-            problem = LIMITS[spec.limit].problem(raw)
-            if problem:
-                self.problems.append(f"{where} {problem}" + (f" ({spec.about})" if spec.about else "") + text)
-                return spec.default
-            return raw
-        if kind == "bool":
-            if not isinstance(raw, bool):
-                self.problems.append(f"{where} must be true or false, not {raw!r}")
-                return spec.default
-            return raw
-        if kind in ("str", "path", "vehicle", "choice"):
-            if not isinstance(raw, str):
-                self.problems.append(f"{where} must be text in quotes, not {raw!r}")
-                return spec.default
-            control = control_problem(raw, key) if kind == "str" else None
-            if control:
-                self.problems.append(f"{where} {control}")
-                return spec.default
-            if kind == "choice" and raw not in spec.choices:
-                self.problems.append(f"{where} = {raw!r}; use one of {', '.join(spec.choices)}")
-                return spec.default
-            if kind == "path":
-                try:
-                    resolved = local_path(folder, raw, where)
-                except ConfigError as exc:
-                    self.problems.append(str(exc))
-                    return None
-                if not resolved.is_file():
-                    self.problems.append(
-                        f"{where}: no file {resolved}; check the path (relative to {folder})"
-                    )
-                    return None
-                return resolved
-            if kind == "vehicle":
-                if raw in self.vehicles:
-                    return self.vehicles[raw]
-                if "\x00" in raw:
-                    self.problems.append(f"{where}: the name holds a NUL character (\\u0000); remove it")
-                    return None
-                candidate = folder / raw
-                name = str(candidate) if raw.lower().endswith(".toml") else raw
-                if raw.lower().endswith(".toml"):
-                    self.inputs.append(candidate)
-                try:
-                    return find_vehicle(name)
-                except CardgenError as exc:
-                    self.problems.append(f"{where}: {exc}")
-                    return None
-            return raw
-        if kind == "list":
-            if not isinstance(raw, list) or not all(
-                isinstance(x, str | int | float) and not isinstance(x, bool) for x in raw
-            ):
-                self.problems.append(f'{where} must be a list like ["name", 12.5]')
-                return None
-            return tuple(raw)
-        if kind == "date":
-            try:
-                day = (
-                    raw
-                    if isinstance(raw, date) and not isinstance(raw, datetime)
-                    else date.fromisoformat(str(raw))
-                )
-            except ValueError:
-                self.problems.append(f'{where} = {raw!r} is not a date like "2027-04-18"')
-                return None
-            if not EVENT_YEARS[0] <= day.year <= EVENT_YEARS[1]:
-                self.problems.append(
-                    f"{where} = {day.isoformat()} is outside the years "
-                    f"{EVENT_YEARS[0]}…{EVENT_YEARS[1]}; check the year"
-                )
-                return None
-            return day
-        if kind == "url":
-            if not isinstance(raw, str):
-                self.problems.append(f"{where} must be text in quotes, not {raw!r}")
-                return spec.default
-            if raw and (
-                not raw.lower().startswith(("http://", "https://"))
-                or not has_host(raw)
-                or len(raw) > MAX_URL_LENGTH
-                or any(c.isspace() or ord(c) < 32 for c in raw)
-            ):
-                self.problems.append(
-                    f"{where} must be an http:// or https:// address with a host name, of at most "
-                    f'{MAX_URL_LENGTH} characters without spaces, like "https://example.org/rides"'
-                )
-                return spec.default
-            return raw
-        if kind == "time":
-            if isinstance(raw, time):
-                return raw
-            try:
-                return time.fromisoformat(str(raw))
-            except ValueError:
-                self.problems.append(f'{where} = {raw!r} is not a time like "08:30"')
-                return None
-        raise AssertionError(kind)
-
-    def table(
-        self, section: str, table: Any, index: int | None, folder: Path, vehicles: dict | None = None
-    ) -> dict:
-        schema = SCHEMA[section]
-        if not isinstance(table, dict):
-            shape = f"[[{section}]] tables" if section in TABLE_ARRAYS else f"a [{section}] table"
-            self.problems.append(f"{self.path}: {section} must be {shape}, not {type(table).__name__}")
-            return {key: None for key in schema}
-        for key in table:
-            if key in RENAMED and RENAMED[key] in schema:
-                self.problems.append(
-                    f"{self.where(section, index, key)}: this key is now '{RENAMED[key]}'; rename it"
-                )
-            elif key not in schema:
-                known = [*schema, "csv"] if section == "riders" else list(schema)  # [[riders]] csv = "…"
-                self.problems.append(
-                    f"{self.where(section, index, key)}: unknown key{close_matches(key, known)}; "
-                    f"the keys of [{section}] are {', '.join(schema)}"
-                )
-        self.vehicles = vehicles or {}
-        return {key: self.value(section, table, index, key, spec, folder) for key, spec in schema.items()}
+from cardgen.units import KMH_PER_MS, ZERO_CELSIUS_K
 
 
 def load_config(path: Path) -> SiteConfig:
@@ -337,7 +40,7 @@ def load_config(path: Path) -> SiteConfig:
 
 
 def _from_data(data: dict, path: Path | None, text: str, folder: Path) -> SiteConfig:
-    check = _Checker(path, text)
+    check = Checker(path, text)
     for key in data:
         if key not in SECTIONS:
             check.problems.append(
@@ -405,9 +108,9 @@ def _from_data(data: dict, path: Path | None, text: str, folder: Path) -> SiteCo
             f"{plural(len(problems), 'problem')} in the configuration:\n  " + "\n  ".join(problems)
         )
     conditions = Conditions(
-        cond["wind_kmh"] / 3.6,
+        cond["wind_kmh"] / KMH_PER_MS,
         math.radians(cond["wind_from_deg"]),
-        None if cond["temperature_c"] is None else cond["temperature_c"] + 273.15,
+        None if cond["temperature_c"] is None else cond["temperature_c"] + ZERO_CELSIUS_K,
     )
     return SiteConfig(
         source=path,
@@ -450,7 +153,7 @@ def _from_data(data: dict, path: Path | None, text: str, folder: Path) -> SiteCo
 MAX_CSV_ROWS = 20_000
 
 
-def _folder(check: _Checker, folder: Path, raw: str | None, key: str) -> Path | None:
+def _folder(check: Checker, folder: Path, raw: str | None, key: str) -> Path | None:
     """A folder named in [site], resolved (None when not given or not usable)."""
     if not raw:
         return None
@@ -461,7 +164,7 @@ def _folder(check: _Checker, folder: Path, raw: str | None, key: str) -> Path | 
         return None
 
 
-def _rider_tables(check: _Checker, raw: Any, folder: Path) -> list[Any]:
+def _rider_tables(check: Checker, raw: Any, folder: Path) -> list[Any]:
     """[[riders]] tables, with riders from spreadsheets: ``riders = "entrants.csv"``, or
     a ``[[riders]]`` table holding only ``csv = "..."``, which may be mixed with others.
     A CSV file has a header row of the same keys as [[riders]] (UTF-8, a byte-order mark
@@ -488,7 +191,7 @@ def _rider_tables(check: _Checker, raw: Any, folder: Path) -> list[Any]:
     return tables
 
 
-def _csv_rows(check: _Checker, path: Path) -> list[tuple[int, dict[str, Any]]]:
+def _csv_rows(check: Checker, path: Path) -> list[tuple[int, dict[str, Any]]]:
     """The rows of an entrants file as [[riders]] tables, numbers as numbers."""
     try:
         header, found, over = read_csv(path, "entrants (CSV)", ConfigError, MAX_CSV_ROWS)
@@ -543,7 +246,7 @@ def _csv_value(cell: str, kind: str) -> Any:
     return cell
 
 
-def _duplicates(check: _Checker, values: list[tuple[int, Any]], key: str, words: str) -> None:
+def _duplicates(check: Checker, values: list[tuple[int, Any]], key: str, words: str) -> None:
     """One problem per value given to more than one rider, naming where each is (the
     CSV row, or the site.toml line); linear in the riders."""
     places: dict[Any, list[int]] = {}
@@ -556,7 +259,7 @@ def _duplicates(check: _Checker, values: list[tuple[int, Any]], key: str, words:
             check.problems.append(f"{shown}{more}: {words.format(value)}; give each a different {key}")
 
 
-def _stops(check: _Checker, index: int, route: dict) -> tuple[float, ...]:
+def _stops(check: Checker, index: int, route: dict) -> tuple[float, ...]:
     """``stops_min`` of one route, in seconds: numbers in range, one per checkpoint."""
     raw = route.get("stops_min")
     if not raw:
@@ -581,7 +284,7 @@ def _stops(check: _Checker, index: int, route: dict) -> tuple[float, ...]:
 MAX_KM = MAX_ROUTE_LENGTH / 1000.0
 
 
-def _checkpoints(check: _Checker, index: int, route: dict) -> tuple[str | float, ...]:
+def _checkpoints(check: Checker, index: int, route: dict) -> tuple[str | float, ...]:
     """``checkpoints`` of one route: waypoint names, and distances [m] from numbers in
     km, which must be finite (whether they lie on the route is checked with the route)."""
     out: list[str | float] = []
@@ -599,7 +302,7 @@ def _checkpoints(check: _Checker, index: int, route: dict) -> tuple[str | float,
     return tuple(out)
 
 
-def _cue_texts(check: _Checker, index: int, route: dict) -> tuple[tuple[float, str], ...]:
+def _cue_texts(check: Checker, index: int, route: dict) -> tuple[tuple[float, str], ...]:
     """``cue_texts`` of one route: entries "km = text", the distance in km written as
     :data:`cardgen.config.numbers.FORMAT` says, within 0…:data:`MAX_KM`."""
     out = []
@@ -617,7 +320,7 @@ def _cue_texts(check: _Checker, index: int, route: dict) -> tuple[tuple[float, s
     return tuple(out)
 
 
-def _speed_rule(check: _Checker, event: dict) -> tuple[float, float] | None:
+def _speed_rule(check: Checker, event: dict) -> tuple[float, float] | None:
     """[event] min_kmh and max_kmh: both or neither, slowest below fastest."""
     slowest, fastest = event.get("min_kmh"), event.get("max_kmh")
     if slowest is None and fastest is None:
@@ -628,11 +331,11 @@ def _speed_rule(check: _Checker, event: dict) -> tuple[float, float] | None:
             "(like min_kmh = 15, max_kmh = 30)"
         )
         return None
-    return slowest / 3.6, fastest / 3.6
+    return slowest / KMH_PER_MS, fastest / KMH_PER_MS
 
 
 def _waves(
-    check: _Checker, raw: Any, folder: Path, riders: set[str], routes: tuple[RouteConfig, ...]
+    check: Checker, raw: Any, folder: Path, riders: set[str], routes: tuple[RouteConfig, ...]
 ) -> list[Wave]:
     """The [[waves]] tables; every rider and route they name must exist."""
     if not isinstance(raw, list):
@@ -675,7 +378,7 @@ def plural(count: int, word: str) -> str:
     return f"{count} {word}" if count == 1 else f"{count} {word}s"
 
 
-def _site_vehicles(check: _Checker, raw: Any) -> dict[str, Vehicle]:
+def _site_vehicles(check: Checker, raw: Any) -> dict[str, Vehicle]:
     """The site's own [[vehicles]]: each a table with a name and the keys of a vehicle
     profile file (``base = "..."`` starts from a built-in)."""
     if not isinstance(raw, list):
@@ -701,7 +404,7 @@ def _site_vehicles(check: _Checker, raw: Any) -> dict[str, Vehicle]:
     return found
 
 
-def _route_tables(check: _Checker, raw: Any, folder: Path) -> list[dict]:
+def _route_tables(check: Checker, raw: Any, folder: Path) -> list[dict]:
     """[[routes]] tables, or one pattern string: every GPX file it matches. A table's
     ``gpx`` may be a pattern too; a file named by a table of its own takes that
     table's settings wherever a pattern also matched it."""
@@ -740,7 +443,7 @@ def _route_tables(check: _Checker, raw: Any, folder: Path) -> list[dict]:
     return tables
 
 
-def _rider(check: _Checker, i: int, r: dict, routes: tuple[RouteConfig, ...]) -> RiderConfig | None:
+def _rider(check: Checker, i: int, r: dict, routes: tuple[RouteConfig, ...]) -> RiderConfig | None:
     """One [[riders]] table as a rider on their vehicle; problems and the model's
     adjustments are recorded on ``check``."""
     vehicle: Vehicle | None = r["vehicle"]
@@ -806,7 +509,7 @@ def _with_assist(vehicle: Vehicle, level: int) -> str:
     return f" with assist level {level}" if level else " with the motor off"
 
 
-def _fitted_vehicle(check: _Checker, i: int, r: dict, vehicle: Vehicle) -> Vehicle:
+def _fitted_vehicle(check: Checker, i: int, r: dict, vehicle: Vehicle) -> Vehicle:
     """The rider's vehicle with their own body mass, load and battery."""
     changes: dict[str, Any] = {}
     if r["body_mass_kg"] is not None:
@@ -832,78 +535,6 @@ def _names_route(name: str, route: RouteConfig) -> bool:
     return name in (route.gpx.name, route.gpx.stem, route.name)
 
 
-#: Route files cardgen does not read, by suffix: named when a folder holds only these.
-OTHER_ROUTE_FILES = {
-    ".kml": "KML",
-    ".kmz": "KMZ",
-    ".fit": "FIT",
-    ".tcx": "TCX",
-    ".crs": "CRS",
-    ".geojson": "GeoJSON",
-}
-
-
-def folder_config(folder: Path) -> SiteConfig:
-    """A site for a folder of GPX files without site.toml: every route, default riders."""
-    folder = Path(folder).resolve()
-    files = sorted(p for p in folder.iterdir() if p.is_file())
-    gpx = [p for p in files if p.suffix.lower() == ".gpx"]
-    other = [p for p in files if p.suffix.lower() in OTHER_ROUTE_FILES]
-    if not gpx:
-        if other:
-            listed = ", ".join(f"{p.name} ({OTHER_ROUTE_FILES[p.suffix.lower()]})" for p in other[:5])
-            raise ConfigError(
-                f"{folder}: no .gpx files; cardgen reads GPX only and found {listed}: "
-                "export them as GPX from the program that made them"
-            )
-        raise ConfigError(f"{folder}: no site.toml and no .gpx files; add routes or a site.toml")
-    return _default_site(folder, gpx, f"{folder}: no site.toml", other)
-
-
-def gpx_config(path: Path) -> SiteConfig:
-    """A one-route site for a GPX file given where a site.toml was expected."""
-    path = Path(path).resolve()
-    return _default_site(
-        path.parent,
-        [path],
-        f"{path} is a GPX file, not a site.toml",
-        [],
-        output=path.with_suffix("").parent / f"{path.stem}-site",
-    )
-
-
-def _default_site(
-    folder: Path, gpx: list[Path], why: str, other: list[Path], output: Path | None = None
-) -> SiteConfig:
-    lib = builtin_vehicles()
-    riders = tuple(RiderConfig(Rider.for_vehicle(lib[v], name=n)) for n, v in DEFAULT_RIDERS)
-    warnings = [
-        f"{why}; building {plural(len(gpx), 'route')} with the default riders: "
-        + ", ".join(f"{n} ({v})" for n, v in DEFAULT_RIDERS)
-    ]
-    if other:
-        warnings.append(f"{folder}: left out {', '.join(p.name for p in other[:5])}: cardgen reads GPX only")
-    return SiteConfig(
-        source=None,
-        folder=folder,
-        title=f"Routes in {folder.name}" if len(gpx) > 1 or output is None else gpx[0].stem,
-        units="metric",
-        card_size="A5",
-        large_print=False,
-        output=output or (folder / "site").resolve(),
-        base_url="",
-        templates=None,
-        start=None,
-        start_interval=0.0,
-        checkpoint_margin=15 * 60.0,
-        conditions=Conditions(),
-        routes=tuple(RouteConfig(p) for p in gpx),
-        riders=riders,
-        inputs=(folder, *gpx),
-        warnings=tuple(warnings),
-    )
-
-
 def rider_start(
     config: SiteConfig, index: int, route: RouteConfig | None = None
 ) -> tuple[datetime | None, str | None]:
@@ -915,32 +546,3 @@ def rider_start(
     k = config.routes.index(route) if route is not None else 0
     start = event_starts(config).of(index, k)
     return start.at, start.wave
-
-
-def reference_table() -> str:
-    """Every key of site.toml as a Markdown table (the README's reference), made from
-    the schema and the table of limits so that it cannot drift from what is checked."""
-    rows = ["| section | key | kind | range or choices | default | what it is |", "|---|---|---|---|---|---|"]
-    for section, keys in SCHEMA.items():
-        shown = f"[[{section}]]" if section in TABLE_ARRAYS else f"[{section}]"
-        for key, spec in keys.items():
-            if spec.limit:
-                limit = LIMITS[spec.limit]
-                span = f"{limit.low:g}…{limit.high:g}" + (f" {limit.unit}" if limit.unit else "")
-            elif spec.choices:
-                span = ", ".join(spec.choices)
-            else:
-                span = ""
-            default = (
-                "required" if spec.required else ("" if spec.default in (None, "") else f"{spec.default}")
-            )
-            rows.append(f"| {shown} | `{key}` | {spec.kind} | {span} | {default} | {spec.about} |")
-    rows.append(
-        '| (top level) | `riders = "entrants.csv"` | CSV file | | | riders from a spreadsheet: a header row of '
-        'the [[riders]] keys (`routes` separated by `;`); or `csv = "..."` alone in a [[riders]] table, to mix |'
-    )
-    rows.append(
-        "| [[vehicles]] | `name`, `base` and any key of a vehicle profile | table | | | "
-        "a vehicle of this site, started from a built-in one (`cardgen vehicles --json` lists the keys) |"
-    )
-    return "\n".join(rows)

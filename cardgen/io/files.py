@@ -12,6 +12,7 @@ import stat
 import tomllib
 from importlib import resources
 from pathlib import Path
+from typing import Any
 
 from cardgen.errors import CardgenError
 
@@ -51,7 +52,7 @@ def read_text_bounded(path: Path, what: str, error: type[CardgenError], limit: i
         raise error(f"{path}: not UTF-8 text ({exc.reason} at byte {exc.start}); save it as UTF-8") from None
 
 
-def read_toml(path: Path, what: str, error: type[CardgenError]) -> tuple[dict, str]:
+def read_toml(path: Path, what: str, error: type[CardgenError]) -> tuple[dict[str, Any], str]:
     """A TOML file as (data, text); every failure is ``error`` naming the file."""
     text = read_text_bounded(path, what, error)
     try:
@@ -65,6 +66,6 @@ def read_toml(path: Path, what: str, error: type[CardgenError]) -> tuple[dict, s
         ) from None
 
 
-def read_package_toml(package: str, *parts: str) -> dict:
+def read_package_toml(package: str, *parts: str) -> dict[str, Any]:
     """A TOML data file shipped inside ``package`` (trusted: the package's own data)."""
     return tomllib.loads(resources.files(package).joinpath(*parts).read_text(encoding="utf-8"))

@@ -191,47 +191,6 @@ def rider_power_for_speed(
     return np.maximum(p, 0.0)
 
 
-def suggest_levels(
-    motor: Motor,
-    climbs: Sequence[tuple[int, int]],
-    *,
-    climb_power: float,
-    target_speed: float,
-    min_speed: float,
-    resistance: Resistance,
-    grade: Floats,
-    headwind: Floats,
-    air_density: Floats,
-) -> Any:
-    """For each climb, the lowest assist level (0 = off) at which the rider, at no more
-    than ``climb_power``, stays at or above ``min_speed`` on every segment. The rider
-    eases off once ``target_speed`` is reached.
-
-    ``climbs`` are (start, end) segment ranges; ``grade``, ``headwind`` and
-    ``air_density`` arrays over the whole route. Returns a list, one (level, slowest
-    speed [m/s] at each level 0…N) per climb; where no level is enough, the highest
-    level. All climbs and levels are solved at once.
-    """
-    if not climbs:
-        return []
-    segments = [np.arange(start, end) for start, end in climbs]
-    idx = np.concatenate(segments)
-    starts = np.cumsum([0] + [len(x) for x in segments[:-1]])
-    grade, headwind, air_density = (np.asarray(x, dtype=float)[idx] for x in (grade, headwind, air_density))
-    ratios = np.array([0.0, *motor.levels])[:, None]  # (levels, 1) against (segments,)
-    phys = dict(grade=grade, headwind=headwind, air_density=air_density)
-    wanted = rider_power_for_speed(motor, ratios, target_speed, resistance=resistance, **phys)
-    power = np.minimum(wanted, climb_power)
-    speed = np.minimum(assisted_speed(motor, ratios, power, resistance=resistance, **phys), target_speed)
-    slowest = np.minimum.reduceat(speed, starts, axis=1)  # (levels, climbs)
-    enough = slowest >= min_speed
-    out = []
-    for k in range(len(climbs)):
-        level = int(np.argmax(enough[:, k])) if enough[:, k].any() else len(motor.levels)
-        out.append((level, slowest[:, k].tolist()))
-    return out
-
-
 def climb_options(
     motor: Motor,
     climbs: Sequence[tuple[int, int]],

@@ -16,7 +16,7 @@ from typing import Any
 
 import numpy as np
 
-from cardgen.units import Floats
+from cardgen.units import ZERO_CELSIUS_K, Floats
 
 #: Specific gas constant of dry air [J/(kg·K)], ISO 2533.
 R_DRY_AIR = 287.05287
@@ -105,7 +105,7 @@ def saturation_vapour_pressure_buck(temperature: Floats) -> Any:
     ----------
     Buck, A. L. (1981). J. Appl. Meteorol. 20:1527–1532.
     """
-    t = np.asarray(temperature, dtype=float) - 273.15
+    t = np.asarray(temperature, dtype=float) - ZERO_CELSIUS_K
     e = 611.21 * np.exp(17.502 * t / (240.97 + t))
     return np.where((t >= -50.0) & (t <= 50.0), e, np.nan)[()]
 

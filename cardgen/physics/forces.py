@@ -139,40 +139,6 @@ def bearing_power(speed: Floats) -> Any:
     return (v * (BEARING_A + BEARING_B * v))[()]
 
 
-def kinetic_power(
-    speed_start: Floats, speed_end: Floats, duration: Floats, mass: Floats, wheel_inertia_mass: Floats = 0.0
-) -> Any:
-    """Power that changes the kinetic energy of rider, vehicle and wheels.
-
-    Parameters
-    ----------
-    speed_start, speed_end : float or array [m/s]
-    duration : float or array [s]
-    mass : float or array [kg] total moving mass
-    wheel_inertia_mass : float or array [kg]
-        I/r², the extra mass that the wheels' rotation adds (Martin et al.: 0.14 kg·m²
-        on r = 0.311 m, ≈1.45 kg for a road bike).
-
-    Returns
-    -------
-    float or array [W]; NaN where duration ≤ 0.
-
-    Notes
-    -----
-    P_KE = ½·(m + I/r²)·(v_f² − v_i²)/(t_f − t_i)
-
-    References
-    ----------
-    Martin et al. (1998), J. Appl. Biomech. 14:276–291.
-    """
-    dt = np.asarray(duration, dtype=float)
-    vi = np.asarray(speed_start, dtype=float)
-    vf = np.asarray(speed_end, dtype=float)
-    with np.errstate(divide="ignore", invalid="ignore"):
-        p = 0.5 * (mass + wheel_inertia_mass) * (vf * vf - vi * vi) / dt
-    return np.where(dt > 0.0, p, np.nan)[()]
-
-
 def pedal_power(wheel_power: Floats, efficiency: Floats) -> Any:
     """Power the rider must put in for a power needed at the wheel.
 

@@ -131,6 +131,64 @@ def _solve_increasing(
     return x
 
 
+def _excess(force: ForceLaw, pw: np.ndarray, elements: np.ndarray) -> Any:
+    """v·F(v) − P_wheel and its derivative, for the given elements of the problem."""
+
+    def excess(v: Floats, sel: Any) -> Any:
+        idx = elements[sel]
+        f, df = force(v, idx)
+        return v * f - pw[idx], f + v * df
+
+    return excess
+
+
+def _upper_bracket(force: ForceLaw, pw: np.ndarray, ok: np.ndarray) -> np.ndarray:
+    """Upper end of the bracket, F(hi) > 0 and hi·F(hi) > P_wheel, doubled from a low
+    first guess so that Newton starts within a factor two of the root. Elements that
+    find none are marked not ``ok``."""
+    hi = np.full_like(pw, _FIRST_UPPER)
+    short = np.flatnonzero(ok)
+    for _ in range(_MAX_DOUBLINGS):
+        f_hi, _ = force(hi[short], short)
+        short = short[(f_hi <= 0) | (hi[short] * f_hi <= pw[short])]
+        if not short.size:
+            break
+        hi[short] *= 2.0
+    ok[short] = False
+    return hi
+
+
+def _pulled_speed(
+    force: ForceLaw, pw: np.ndarray, pulled: np.ndarray, hi: np.ndarray, rtol: Floats
+) -> np.ndarray:
+    """Speeds of the elements coasting or braking with a downhill pull: the coasting
+    speed F(v₀) = 0, and where braking, the stable root of v·F(v) = P_wheel between
+    the minimum of v·F(v) and v₀ (0 where braking is stronger than gravity can feed)."""
+
+    def net_force(v: Floats, sel: Any) -> Any:
+        return force(v, pulled[sel])
+
+    v0 = _solve_increasing(net_force, np.zeros(pulled.size), hi[pulled], hi[pulled], rtol)
+    speed = np.asarray(v0, dtype=float).copy()
+    brake_local = np.flatnonzero(pw[pulled] < 0)
+    if brake_local.size:
+        brake = pulled[brake_local]
+        top = v0[brake_local]
+        k = force.k
+
+        def slope(v: Floats, sel: Any) -> Any:  # d(v·F)/dv and its derivative
+            idx = brake[sel]
+            f, df = force(v, idx)
+            return f + v * df, 2.0 * df + v * 2.0 * k[idx] * np.sign(v + force.wind[idx])
+
+        v_min = _solve_increasing(slope, np.zeros(brake.size), top, top, rtol)
+        f_min, _ = force(v_min, brake)
+        reachable = v_min * f_min <= pw[brake]
+        v_brake = _solve_increasing(_excess(force, pw, brake), v_min, top, top, rtol)
+        speed[brake_local] = np.where(reachable, v_brake, 0.0)
+    return speed
+
+
 def speed_for_power(
     power: Floats,
     *,
@@ -197,65 +255,21 @@ def speed_for_power(
         air_density=np.where(ok, rho, 2.0),
         bearings=bearings,
     )
-    k = force.k
-
-    def excess_over(elements: Any) -> Any:
-        """v·F(v) − P_wheel and its derivative, for the given elements of the problem."""
-
-        def excess(v: Floats, sel: Any) -> Any:
-            idx = elements[sel]
-            f, df = force(v, idx)
-            return v * f - pw[idx], f + v * df
-
-        return excess
-
     speed = np.zeros_like(p)
-
-    # Upper end of the bracket, F(hi) > 0 and hi·F(hi) > P_wheel, doubled from a low
-    # first guess so that Newton starts within a factor two of the root.
-    hi = np.full_like(p, _FIRST_UPPER)
-    short = np.flatnonzero(ok)
-    for _ in range(_MAX_DOUBLINGS):
-        f_hi, _ = force(hi[short], short)
-        short = short[(f_hi <= 0) | (hi[short] * f_hi <= pw[short])]
-        if not short.size:
-            break
-        hi[short] *= 2.0
-    ok[short] = False
+    hi = _upper_bracket(force, pw, ok)
 
     # Pedalling: the single root of v·F(v) − P_wheel on [0, hi].
     push = np.flatnonzero(ok & (pw > 0))
     if push.size:
         # The root lies in (hi/2, hi] once hi has been doubled: start in between.
         start = np.where(hi[push] > _FIRST_UPPER, 0.75 * hi[push], hi[push])
-        speed[push] = _solve_increasing(excess_over(push), np.zeros(push.size), hi[push], start, rtol)
+        speed[push] = _solve_increasing(_excess(force, pw, push), np.zeros(push.size), hi[push], start, rtol)
 
-    # Coasting or braking with a downhill pull: first the coasting speed F(v0) = 0.
+    # Coasting or braking with a downhill pull.
     f0, _ = force(np.zeros_like(p), slice(None))
     pulled = np.flatnonzero(ok & (pw <= 0) & (f0 < 0))
     if pulled.size:
-
-        def net_force(v: Floats, sel: Any) -> Any:
-            return force(v, pulled[sel])
-
-        v0 = _solve_increasing(net_force, np.zeros(pulled.size), hi[pulled], hi[pulled], rtol)
-        speed[pulled] = v0
-        brake_local = np.flatnonzero(pw[pulled] < 0)
-        if brake_local.size:
-            brake = pulled[brake_local]
-            top = v0[brake_local]
-
-            def slope(v: Floats, sel: Any) -> Any:  # d(v·F)/dv and its derivative
-                idx = brake[sel]
-                f, df = force(v, idx)
-                return f + v * df, 2.0 * df + v * 2.0 * k[idx] * np.sign(v + force.wind[idx])
-
-            v_min = _solve_increasing(slope, np.zeros(brake.size), top, top, rtol)
-            f_min, _ = force(v_min, brake)
-            reachable = v_min * f_min <= pw[brake]
-
-            v_brake = _solve_increasing(excess_over(brake), v_min, top, top, rtol)
-            speed[brake] = np.where(reachable, v_brake, 0.0)
+        speed[pulled] = _pulled_speed(force, pw, pulled, hi, rtol)
 
     speed[~ok] = np.nan
     return speed.reshape(shape)[()]

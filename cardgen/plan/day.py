@@ -23,6 +23,7 @@ from datetime import datetime, timedelta
 from cardgen.plan.event import CheckpointWindow
 from cardgen.plan.fuel import fluid_rate, legs
 from cardgen.plan.model import Plan
+from cardgen.units import KMH_PER_MS
 
 #: Quarter hours of the riders-due chart [s].
 BIN = 15 * 60.0
@@ -32,7 +33,7 @@ STOCK_MARGIN = 0.20
 #: The sweep: a bicycle at 15 km/h average over the route, leaving 10 min after the
 #: last start (common practice for a ridden sweep at the back of a sportive, no
 #: published source). [m/s], [s]
-SWEEP_SPEED = 15 / 3.6
+SWEEP_SPEED = 15 / KMH_PER_MS
 SWEEP_DELAY = 10 * 60.0
 
 

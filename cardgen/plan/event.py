@@ -1,4 +1,5 @@
-"""Plans of many riders together: checkpoint opening and closing times."""
+"""Plans of many riders together: checkpoint opening and closing times, and the
+spread and regroup waits of riders who start together."""
 
 from __future__ import annotations
 
@@ -8,7 +9,7 @@ from datetime import datetime, timedelta
 
 import numpy as np
 
-from cardgen.plan.model import Plan
+from cardgen.plan.model import Plan, RouteJob
 from cardgen.route.checkpoints import Checkpoint
 
 
@@ -61,7 +62,7 @@ def checkpoint_windows(
         # to the minute, outward: a planned arrival is never outside the printed window
         return CheckpointWindow(checkpoint, _minute_down(opens), _minute_up(closes), arrivals)
 
-    rows = [window(cp) for cp in sorted(checkpoints, key=lambda c: c.distance)]
+    rows = [window(checkpoint) for checkpoint in sorted(checkpoints, key=lambda c: c.distance)]
     return rows, window(Checkpoint("Finish", plans[0].terrain.length))
 
 
@@ -72,3 +73,42 @@ def _minute_down(when: datetime) -> datetime:
 def _minute_up(when: datetime) -> datetime:
     down = _minute_down(when)
     return down if down == when else down + timedelta(minutes=1)
+
+
+def group_spread(job: RouteJob) -> list[dict]:
+    """For each set of two or more riders who start together: at every climb top and
+    checkpoint, the first and last planned arrival, the spread between them, and the
+    wait that regroups them there if they regrouped at the point before (the gap that
+    opened since). Times in seconds from their start."""
+    points = sorted(
+        [(c.end_distance, f"top of climb {i + 1}") for i, c in enumerate(job.analysis.climbs)]
+        + [(c.distance, c.name) for c in job.checkpoints]
+        + [(job.analysis.terrain.length, "Finish")]
+    )
+    together: dict = {}
+    for e in job.riders:
+        if e.start is not None:
+            together.setdefault(e.start, []).append(e)
+    groups = []
+    for start, members in sorted(together.items()):
+        if len(members) < 2:
+            continue
+        rows, before = [], [0.0] * len(members)
+        for distance, name in points:
+            at = [m.plan.elapsed_at(distance) for m in members]
+            if not all(t == t and t != float("inf") for t in at):
+                break  # someone cannot get there: the spread means nothing beyond
+            legs = [a - b for a, b in zip(at, before, strict=True)]
+            rows.append(
+                {
+                    "name": name,
+                    "distance": distance,
+                    "first": start + timedelta(seconds=min(at)),
+                    "last": start + timedelta(seconds=max(at)),
+                    "spread": max(at) - min(at),
+                    "wait": max(legs) - min(legs),
+                }
+            )
+            before = at
+        groups.append({"start": start, "riders": [m.name for m in members], "rows": rows})
+    return groups

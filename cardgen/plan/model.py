@@ -8,6 +8,7 @@ from __future__ import annotations
 
 import dataclasses
 from dataclasses import dataclass
+from datetime import datetime
 
 import numpy as np
 
@@ -173,3 +174,27 @@ def arrival_time(nodes, elapsed, stops, distance: float) -> float:
     """Time [s] from the start to arriving at ``distance`` [m]: the ride's ``elapsed``
     at the grid ``nodes``, and every planned stop before it."""
     return float(np.interp(distance, nodes, elapsed)) + stops_before(stops, distance)
+
+
+@dataclass(frozen=True)
+class RouteJob:
+    """One route's plans, as the renderer needs them."""
+
+    slug: str
+    name: str
+    notes: str
+    analysis: Analysis
+    checkpoints: tuple  # Checkpoint, by distance
+    riders: tuple  # Entry, in the configuration's order
+
+
+@dataclass(frozen=True)
+class Entry:
+    """One rider on one route: name, start (None without an event time), the start
+    wave's name, their plan and bib."""
+
+    name: str
+    start: datetime | None
+    wave: str | None
+    plan: Plan
+    bib: int | None = None

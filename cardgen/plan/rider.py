@@ -38,13 +38,12 @@ from cardgen.plan.model import (
 )
 from cardgen.plan.pacing import W_PRIME_SLACK, Course, ceiling, day_effort, pace, ridden_mean
 from cardgen.plan.walking import stretches, walking_mask
-from cardgen.profiles.motors import find_motor
 from cardgen.profiles.riders import Rider
 from cardgen.route.climbs import Climb, Descent, find_climbs, find_descents
 from cardgen.route.cues import cue_sheet
 from cardgen.route.gpx import Track
 from cardgen.route.terrain import Terrain, doubtful
-from cardgen.units import G0, Floats
+from cardgen.units import G0, KMH_PER_MS, Floats
 
 #: Steepest 100 m grade that earns a "steep" note [-]: common practice, no published
 #: source (AASHTO's bicycle guide calls grades over 5 % undesirable on shared paths).
@@ -73,14 +72,14 @@ BATTERY_RESERVE = 0.20
 #: A three-wheeler slower than this [m/s] for CRAWL_LENGTH [m], or on one climb for
 #: CRAWL_TIME [s], gets a "crawl" caution: common practice, no published source (on
 #: trails hand cyclists' 15th-percentile speed was 8 km/h, FHWA-HRT-04-103, 2004 [V]).
-CRAWL_SPEED = 4.0 / 3.6
+CRAWL_SPEED = 4.0 / KMH_PER_MS
 CRAWL_LENGTH = 200.0
 CRAWL_TIME = 30 * 60.0
 #: A driven front wheel (arm-powered handcycles) may slip from this grade [-]: from
 #: memory, no published source checked.
 TRACTION_GRADE = 0.10
 #: Speeds [m/s] at which a climb's power curve is drawn: 2 to 30 km/h.
-CURVE_SPEEDS = np.linspace(2.0, 30.0, 57) / 3.6
+CURVE_SPEEDS = np.linspace(2.0, 30.0, 57) / KMH_PER_MS
 
 
 def analyse(track: Track, terrain: Terrain) -> Analysis:
@@ -201,9 +200,7 @@ def make_plan(
     conditions = conditions or Conditions()
     vehicle = rider.vehicle
     wind, rho = segment_air(terrain, conditions)
-    motor = find_motor(vehicle.motor) if vehicle.motor else None
-    if motor is not None and vehicle.battery is not None:
-        motor = dataclasses.replace(motor, battery=vehicle.battery)
+    motor = vehicle.fitted_motor()
     ratio, levels, between_level = _assist_ratios(rider, motor, route.climbs, terrain, wind, rho)
 
     course = Course(
@@ -469,7 +466,7 @@ CURVE_SLOWDOWN = 0.9
 #: :data:`JUNCTION_FAST_SPEED` [m/s] or more: from a descent (common practice, no
 #: published source: an ordinary junction is taken without a note).
 JUNCTION_FAST = 1.25
-JUNCTION_FAST_SPEED = 25.0 / 3.6
+JUNCTION_FAST_SPEED = 25.0 / KMH_PER_MS
 #: A descent's curves include those this far [m] beyond its foot.
 CURVE_REACH = 100.0
 

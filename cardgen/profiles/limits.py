@@ -10,7 +10,7 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass
 
-from cardgen.units import G0
+from cardgen.units import G0, KMH_PER_MS
 
 
 @dataclass(frozen=True)
@@ -51,9 +51,9 @@ LIMITS: dict[str, Limit] = {
     "flat_w": Limit(1, 2000, "W", help="power on flats"),
     "climb_w": Limit(1, 2000, "W", help="power on climbs"),
     "climb_share": Limit(0, 0.5, help="largest share above CP on climbs"),
-    "target_kmh": Limit(1, 60, "km/h", 1 / 3.6, "climbing speed for the watts column"),
+    "target_kmh": Limit(1, 60, "km/h", 1 / KMH_PER_MS, "climbing speed for the watts column"),
     "assist_between_climbs": Limit(0, 10, help="assist level away from climbs (0 = off)"),
-    "flat_kmh": Limit(3, 60, "km/h", 1 / 3.6, "average speed on the flat, instead of flat_w"),
+    "flat_kmh": Limit(3, 60, "km/h", 1 / KMH_PER_MS, "average speed on the flat, instead of flat_w"),
     "body_mass_kg": Limit(20, 250, "kg", help="the rider's own mass (replaces the vehicle's rider mass)"),
     "load_kg": Limit(0, 300, "kg", help="luggage or cargo carried, added to the vehicle"),
     # the vehicle
@@ -66,14 +66,14 @@ LIMITS: dict[str, Limit] = {
     "wheel_inertia_kg": Limit(0, 20, "kg", help="I/r² of all wheels"),
     "gross_efficiency": Limit(0.05, 0.35, help="mechanical work / food energy"),
     "typical_power_w": Limit(1, 2000, "W", help="a steady all-day effort"),
-    "climb_speed_kmh": Limit(1, 60, "km/h", 1 / 3.6, "default target speed on climbs"),
-    "max_descent_speed_kmh": Limit(5, 120, "km/h", 1 / 3.6, "speed cap on descents"),
+    "climb_speed_kmh": Limit(1, 60, "km/h", 1 / KMH_PER_MS, "default target speed on climbs"),
+    "max_descent_speed_kmh": Limit(5, 120, "km/h", 1 / KMH_PER_MS, "speed cap on descents"),
     "curve_accel_g": Limit(0.05, 1, "g", G0, "lateral acceleration in curves"),
     # the motor
     "rated_power_w": Limit(1, 5000, "W", help="maximum continuous rated power"),
     "peak_power_w": Limit(1, 5000, "W", help="peak motor power"),
-    "cutoff_kmh": Limit(1, 80, "km/h", 1 / 3.6, "speed where assistance ends"),
-    "taper_kmh": Limit(0, 20, "km/h", 1 / 3.6, "speed span over which assistance fades"),
+    "cutoff_kmh": Limit(1, 80, "km/h", 1 / KMH_PER_MS, "speed where assistance ends"),
+    "taper_kmh": Limit(0, 20, "km/h", 1 / KMH_PER_MS, "speed span over which assistance fades"),
     "drive_efficiency": Limit(0.3, 1, help="battery to wheel"),
     "battery_wh": Limit(1, 10000, "Wh", 3600.0, "battery capacity"),
     "usable_share": Limit(0.1, 1, help="share of the battery that can be drawn"),
@@ -82,17 +82,17 @@ LIMITS: dict[str, Limit] = {
     "bib": Limit(1, 99999, help="the rider's number"),
     "checkpoint_margin_min": Limit(0, 240, "min", 60.0, "margin around planned arrivals"),
     "stop_min": Limit(0, 240, "min", 60.0, "planned stop at a checkpoint"),
-    "min_kmh": Limit(1, 60, "km/h", 1 / 3.6, "slowest average speed a checkpoint allows"),
-    "max_kmh": Limit(1, 80, "km/h", 1 / 3.6, "fastest average speed a checkpoint allows"),
-    "wind_kmh": Limit(0, 150, "km/h", 1 / 3.6, "wind speed"),
+    "min_kmh": Limit(1, 60, "km/h", 1 / KMH_PER_MS, "slowest average speed a checkpoint allows"),
+    "max_kmh": Limit(1, 80, "km/h", 1 / KMH_PER_MS, "fastest average speed a checkpoint allows"),
+    "wind_kmh": Limit(0, 150, "km/h", 1 / KMH_PER_MS, "wind speed"),
     "wind_from_deg": Limit(0, 360, "°", help="where the wind comes from, clockwise from north"),
     "temperature_c": Limit(-30, 50, "°C", help="air temperature"),
     # the analysis commands
     "power_w": Limit(-3000, 3000, "W", help="rider power at the pedals"),
     "route_power_w": Limit(1, 2000, "W", help="rider power held along the route"),
-    "speed_kmh": Limit(0, 150, "km/h", 1 / 3.6, "ground speed"),
+    "speed_kmh": Limit(0, 150, "km/h", 1 / KMH_PER_MS, "ground speed"),
     "grade_pct": Limit(-50, 50, "%", 0.01, "road grade"),
-    "headwind_kmh": Limit(-150, 150, "km/h", 1 / 3.6, "wind against the direction of travel"),
+    "headwind_kmh": Limit(-150, 150, "km/h", 1 / KMH_PER_MS, "wind against the direction of travel"),
     "altitude_m": Limit(-1000, 9000, "m", help="altitude for the standard atmosphere"),
     "air_density_kg_m3": Limit(0.3, 1.6, "kg/m³", help="air density"),
     "jobs": Limit(1, 64, help="worker processes"),

@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import dataclasses
 from dataclasses import dataclass
+from typing import Any
 
 from cardgen.errors import VehicleError
 from cardgen.physics.assist import rider_power_for_speed
@@ -11,6 +12,7 @@ from cardgen.physics.atmosphere import SEA_LEVEL_AIR_DENSITY
 from cardgen.profiles.limits import LIMITS
 from cardgen.profiles.motors import find_motor
 from cardgen.profiles.vehicles import Vehicle
+from cardgen.units import KMH_PER_MS
 
 #: An all-day effort is held at about this share of critical power: common practice,
 #: no published source. The one link between a rider's flat effort and their CP: the
@@ -73,14 +75,14 @@ class Rider:
     pacing: str = ""
     effort_given: bool = True
 
-    def __post_init__(self):
+    def __post_init__(self) -> None:
         problems = []
         for what, key, value in (
             ("critical power", "cp_w", self.cp),
             ("W′", "w_prime_kj", self.w_prime / 1000),
             ("climb power", "climb_w", self.climb_power),
             ("climb share above CP", "climb_share", self.climb_share),
-            ("target climbing speed", "target_kmh", self.target_speed * 3.6),
+            ("target climbing speed", "target_kmh", self.target_speed * KMH_PER_MS),
         ):
             problem = LIMITS[key].problem(value)
             if problem:
@@ -121,7 +123,7 @@ class Rider:
         return "steady" if self.vehicle.propulsion == "arms" else "best"
 
     @classmethod
-    def for_vehicle(cls, vehicle: Vehicle, name: str | None = None, **given) -> Rider:
+    def for_vehicle(cls, vehicle: Vehicle, name: str | None = None, **given: Any) -> Rider:
         """A rider with the defaults of the Notes, any of them replaced by ``given``.
 
         Defaults follow what is given: W′ and the climbing power from the CP, the CP

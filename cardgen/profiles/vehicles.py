@@ -7,6 +7,7 @@ with ``base = "road-hoods"`` and change only some keys.
 
 from __future__ import annotations
 
+import dataclasses
 import functools
 from collections.abc import Mapping
 from dataclasses import dataclass, field
@@ -15,14 +16,16 @@ from typing import Any
 
 from cardgen.errors import VehicleError, close_matches
 from cardgen.io.files import read_package_toml, read_toml
+from cardgen.physics.assist import Motor
 from cardgen.physics.forces import Resistance
 from cardgen.profiles.limits import LIMITS
-from cardgen.profiles.motors import builtin_motors
+from cardgen.profiles.motors import builtin_motors, find_motor
 from cardgen.profiles.tables import check_numbers, unknown_keys
+from cardgen.units import KMH_PER_MS
 
 #: Below this speed a two-wheeler is walked, not ridden: common practice (≈5–6 km/h),
 #: no published source; it matches the 6 km/h walk-assist limit of EN 15194.
-TWO_WHEEL_MIN_SPEED = 5.5 / 3.6  # [m/s]
+TWO_WHEEL_MIN_SPEED = 5.5 / KMH_PER_MS  # [m/s]
 
 # key in the file → attribute (ranges and units: cardgen.profiles.limits)
 NUMBERS = {
@@ -108,6 +111,14 @@ class Vehicle:
             efficiency=self.efficiency,
             wheel_inertia_mass=self.wheel_inertia_mass,
         )
+
+    def fitted_motor(self) -> Motor | None:
+        """The motor's envelope with the battery fitted to this vehicle (the catalogue's
+        battery where the vehicle names none); None without a motor."""
+        if self.motor is None:
+            return None
+        motor = find_motor(self.motor)
+        return motor if self.battery is None else dataclasses.replace(motor, battery=self.battery)
 
     @classmethod
     def from_table(cls, name: str, table: Mapping[str, Any], where: str) -> Vehicle:

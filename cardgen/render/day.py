@@ -10,6 +10,7 @@ from pathlib import Path
 
 from cardgen.plan.day import STOCK_MARGIN, SWEEP_DELAY, SWEEP_SPEED, day_points, fluid_band
 from cardgen.render import format as fmt
+from cardgen.units import KMH_PER_MS, ZERO_CELSIUS_K
 
 #: The CSV's columns, in order.
 COLUMNS = (
@@ -88,22 +89,24 @@ def assumptions(temperature_c: float | None) -> dict:
         "margin_pct": round(STOCK_MARGIN * 100),
         "fluid_band": f"{low:.1f}–{high:.1f} L an hour",
         "temperature": "not given (the middle band)" if temperature_c is None else f"{temperature_c:.0f} °C",
-        "sweep": f"a ridden sweep at {SWEEP_SPEED * 3.6:.0f} km/h average, leaving {SWEEP_DELAY / 60:.0f} min "
+        "sweep": f"a ridden sweep at {SWEEP_SPEED * KMH_PER_MS:.0f} km/h average, leaving {SWEEP_DELAY / 60:.0f} min "
         "after the last start and never passing the last rider",
     }
 
 
-def write_day_sheet(env, config, rows: list[dict], folder: Path, pdf: bool) -> None:
-    """``day-sheet.csv`` and (with PDFs) ``day-sheet.pdf`` into ``folder``."""
-    (folder / "day-sheet.csv").write_text(day_csv_text(rows), encoding="utf-8")
+def day_sheet_files(env, config, rows: list[dict], folder: Path, pdf: bool) -> dict[str, str | bytes]:
+    """``day-sheet.csv`` and (with PDFs) ``day-sheet.pdf``, by name; ``folder`` is
+    where the build puts them (the PDF's links point there)."""
+    files: dict[str, str | bytes] = {"day-sheet.csv": day_csv_text(rows)}
     if not pdf:
-        return
-    from cardgen.render.pdf import write_pdf
+        return files
+    from cardgen.render.pdf import pdf_bytes
 
     temperature = config.conditions.temperature
-    celsius = None if temperature is None else temperature - 273.15
+    celsius = None if temperature is None else temperature - ZERO_CELSIUS_K
     peak = max((n for r in rows for _, n in r["per_15_min"]), default=1) or 1
     html = env.get_template("day-sheet.html").render(
         title=config.title, rows=rows, peak=peak, said=assumptions(celsius)
     )
-    write_pdf(html, folder, folder / "day-sheet.pdf")
+    files["day-sheet.pdf"], _ = pdf_bytes(html, folder)
+    return files

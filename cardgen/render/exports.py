@@ -256,7 +256,7 @@ def climbs_csv_text(plans) -> str:
                     f"{c.climb.steepest_grade * 100:.1f}",
                     f"{c.climb.score:.2f}",
                     f"{c.power_for_target:.0f}",
-                    f"{c.speed_at_effort * 3.6:.1f}",
+                    f"{c.speed_at_effort * KMH_PER_MS:.1f}",
                     f"{c.time / 60:.1f}",
                     c.assist_name or "",
                     " | ".join(notice_text(w) for w in c.warnings),
@@ -293,14 +293,14 @@ def route_gpx_text(track, terrain, climbs, checkpoints) -> str:
                 type="climb",
             )
         )
-    for cp in checkpoints:
-        i = int(round(cp.distance / terrain.step))
+    for checkpoint in checkpoints:
+        i = int(round(checkpoint.distance / terrain.step))
         gpx.waypoints.append(
             gpxpy.gpx.GPXWaypoint(
                 round(float(terrain.lat[i]), 7),
                 round(float(terrain.lon[i]), 7),
                 elevation=round(float(terrain.elevation[i]), 1),
-                name=cp.name,
+                name=checkpoint.name,
                 type="checkpoint",
             )
         )
@@ -310,7 +310,7 @@ def route_gpx_text(track, terrain, climbs, checkpoints) -> str:
 def route_json(plan) -> dict:
     """The ``cardgen route --json`` object (docs/contracts.md): one rider on one route,
     in the units its key names carry."""
-    kmh = 3.6
+    kmh = KMH_PER_MS
     totals = plan.totals
     return _rounded(
         {
@@ -340,7 +340,8 @@ def route_json(plan) -> dict:
                     "power_for_target_w": c.power_for_target,
                     "speed_at_effort_kmh": c.speed_at_effort * kmh,
                     "time_s": c.time,
-                    "assist_level": c.assist_name,
+                    "assist_level": c.assist_level,
+                    "assist": c.assist_name,
                     "warnings": [_notice(w, km=True) for w in c.warnings],
                 }
                 for c in plan.climbs
@@ -410,7 +411,7 @@ def trace_csv_text(plan) -> str:
         terrain.grade[follows] * 100,
         ride.rider_power[follows],
         np.asarray(motor)[follows],
-        ride.speed * 3.6,
+        ride.speed * KMH_PER_MS,
         ride.elapsed,
         balance,
     )

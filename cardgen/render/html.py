@@ -18,6 +18,7 @@ from cardgen.plan.rider import BATTERY_RESERVE
 from cardgen.render import format as fmt
 from cardgen.render.notices import notice_text
 from cardgen.render.sandbox import ThemeEnvironment
+from cardgen.units import ZERO_CELSIUS_K
 
 #: The caution for vehicles with a motor (cards of other vehicles leave it out).
 ASSIST_CAUTION = (
@@ -204,8 +205,8 @@ def cautions_for(plan: Plan) -> tuple[str, ...]:
     assumes) only where there is a motor."""
     general = tuple(c for c in CAUTIONS if c != ASSIST_CAUTION)
     temperature = plan.conditions.temperature
-    if temperature is not None and temperature - 273.15 >= HOT_C:
-        general = (*general, heat_caution(temperature - 273.15))
+    if temperature is not None and temperature - ZERO_CELSIUS_K >= HOT_C:
+        general = (*general, heat_caution(temperature - ZERO_CELSIUS_K))
     if plan.motor is None:
         return general
     return (*general, f"{CARD_ASSIST_CAUTION} {assist_range(plan)}")

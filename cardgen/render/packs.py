@@ -15,6 +15,7 @@ with "flip on short edge", as its cover says.
 
 from __future__ import annotations
 
+import io
 from collections.abc import Sequence
 from dataclasses import dataclass
 from pathlib import Path
@@ -37,56 +38,50 @@ class PackEntry:
     pdf: Path
 
 
-def _pages(path: Path) -> int:
-    import pikepdf
-
-    with pikepdf.open(path) as pdf:
-        return len(pdf.pages)
-
-
 def make_pack(
-    entries: Sequence[PackEntry], cover_html, base: Path, target: Path, page_size: tuple[float, float]
-) -> list[int]:
-    """Write the pack of ``entries`` (already in print order) to ``target``.
+    entries: Sequence[PackEntry], cover_html, base: Path, title: str, page_size: tuple[float, float]
+) -> tuple[bytes, list[int]]:
+    """The pack of ``entries`` (already in print order), titled ``title``.
 
     ``cover_html(rows)`` renders the cover for rows of (entry, first page) to HTML;
     the cover is rendered once, and again if its own length moved the page numbers.
-    Returns the first page of each card. The cards' pages are copied by qpdf
+    Returns the pack and the first page of each card. The cards' pages are copied by qpdf
     (pikepdf), which neither parses their content nor their tagging.
     """
     import pikepdf
 
-    from cardgen.render.pdf import write_pdf
+    from cardgen.render.pdf import pdf_bytes
 
     opened = [pikepdf.open(e.pdf) for e in entries]
+    out = io.BytesIO()
     try:
         counts = [len(pdf.pages) for pdf in opened]
-        cover_pages, cover = 2, base / ".cover.pdf"
+        cover_pages = 2
         for _ in range(3):
             firsts, page = [], cover_pages + 1
             for n in counts:
                 firsts.append(page)
                 page += n + n % 2
-            write_pdf(cover_html(list(zip(entries, firsts, strict=True))), base, cover)
-            length = _pages(cover)
+            cover, _ = pdf_bytes(cover_html(list(zip(entries, firsts, strict=True))), base)
+            with pikepdf.open(io.BytesIO(cover)) as front:
+                length = len(front.pages)
             if length + length % 2 == cover_pages:
                 break
             cover_pages = length + length % 2
-        with pikepdf.open(cover) as front, pikepdf.new() as pack:
+        with pikepdf.open(io.BytesIO(cover)) as front, pikepdf.new() as pack:
             for source in [front, *opened]:
                 pack.pages.extend(source.pages)
                 if len(source.pages) % 2:
                     pack.add_blank_page(page_size=page_size)
-            pack.docinfo["/Title"] = target.stem
-            pack.save(target, deterministic_id=True)
-        cover.unlink()
+            pack.docinfo["/Title"] = title
+            pack.save(out, deterministic_id=True)
     finally:
         for pdf in opened:
             pdf.close()
-    return firsts
+    return out.getvalue(), firsts
 
 
-def impose_two_up(pack: Path, target: Path, card_firsts: Sequence[int]) -> None:
+def impose_two_up(pack: bytes, title: str, card_firsts: Sequence[int]) -> bytes:
     """Two A5 pages on each A4 landscape sheet, cards paired for cut-and-stack (see
     the module notes). ``card_firsts`` are the 1-based first pages of the cards; the
     cover (the pages before the first card) is paired like a card.
@@ -95,7 +90,8 @@ def impose_two_up(pack: Path, target: Path, card_firsts: Sequence[int]) -> None:
     content is copied, not parsed."""
     import pikepdf
 
-    with pikepdf.open(pack) as source, pikepdf.new() as out:
+    data = io.BytesIO()
+    with pikepdf.open(io.BytesIO(pack)) as source, pikepdf.new() as out:
         total = len(source.pages)
         starts = [1, *card_firsts]
         spans = [
@@ -120,5 +116,6 @@ def impose_two_up(pack: Path, target: Path, card_firsts: Sequence[int]) -> None:
                 )
                 sheet.obj.Resources = pikepdf.Dictionary(XObject=forms)
                 sheet.obj.Contents = out.make_stream(" ".join(ops).encode("ascii"))
-        out.docinfo["/Title"] = target.stem
-        out.save(target, deterministic_id=True)
+        out.docinfo["/Title"] = title
+        out.save(data, deterministic_id=True)
+    return data.getvalue()

@@ -10,7 +10,7 @@ import re
 import traceback
 from collections.abc import Iterator
 from dataclasses import dataclass
-from datetime import UTC, datetime, timedelta
+from datetime import UTC, datetime
 from pathlib import Path
 
 import jinja2
@@ -18,11 +18,13 @@ import numpy as np
 
 from cardgen import __version__
 from cardgen.errors import CardgenError
-from cardgen.plan import Analysis, Plan, checkpoint_windows
+from cardgen.plan import Plan, checkpoint_windows
+from cardgen.plan.event import group_spread
 from cardgen.plan.fuel import carb_rate, fluid_rate, legs
+from cardgen.plan.model import RouteJob
 from cardgen.render import exports, plots
 from cardgen.render import format as fmt
-from cardgen.render.day import day_rows, write_day_sheet
+from cardgen.render.day import day_rows, day_sheet_files
 from cardgen.render.html import (
     HOT_C,
     RiderView,
@@ -34,6 +36,7 @@ from cardgen.render.html import (
     theme_file,
 )
 from cardgen.render.notices import notice_text
+from cardgen.units import ZERO_CELSIUS_K
 
 #: Riders on one group of the coach sheet: a group's tables fit a page or two.
 COACH_GROUP = 8
@@ -57,32 +60,8 @@ RESERVED_CARD_NAMES = frozenset(
 
 
 @dataclass(frozen=True)
-class RouteJob:
-    """One route's plans, as the renderer needs them."""
-
-    slug: str
-    name: str
-    notes: str
-    analysis: Analysis
-    checkpoints: tuple  # Checkpoint, by distance
-    riders: tuple  # Entry, in the configuration's order
-
-
-@dataclass(frozen=True)
-class Entry:
-    """One rider on one route: name, start (None without an event time), the start
-    wave's name, their plan and bib."""
-
-    name: str
-    start: datetime | None
-    wave: str | None
-    plan: Plan
-    bib: int | None = None
-
-
-@dataclass(frozen=True)
 class CardSource:
-    """A card to print: its HTML, the folder its links point into, the PDF to write.
+    """A card to print: its HTML, the folder its links point into, the PDF to make.
     ``variants`` are the same card condensed step by step (:data:`CONDENSE_STEPS`) and
     ``budget`` its pages: the first variant that fits is printed. A coach sheet has
     no variants and no budget."""
@@ -93,6 +72,7 @@ class CardSource:
     variants: tuple[str, ...] = ()
     budget: int = 0
     group: str = ""  # cards of one group fit alike: the vehicle kind
+    assets: tuple[str, ...] = ()  # the build's files (in ``base``) that any variant shows
 
 
 #: The order in which a card is condensed until it fits its page budget, never
@@ -211,12 +191,13 @@ def _hardest(climbs):
     return max(climbs, key=lambda c: c.score) if climbs else None
 
 
-def _write_plots(config, job: RouteJob, folder: Path) -> dict:
-    """The route's SVG plots; returns what the templates need of them."""
+def _plots(config, job: RouteJob, files: dict[str, str | bytes]) -> dict:
+    """The route's SVG plots, added to ``files`` by name; returns what the templates
+    need of them."""
     analysis, units = job.analysis, config.units
     marks = [(c.name, c.distance) for c in job.checkpoints]
     svg, alt = plots.elevation_profile(analysis.terrain, analysis.climbs, marks, units, name=job.name)
-    (folder / "profile.svg").write_text(svg, encoding="utf-8")
+    files["profile.svg"] = svg
     # the card's own profile and map, drawn at their printed width so that their type
     # prints at its size (large print: labels scaled to match its 14 pt)
     page = page_geometry(config.card_size, config.large_print)
@@ -235,7 +216,7 @@ def _write_plots(config, job: RouteJob, folder: Path) -> dict:
             height_in=min(2.0, 0.38 * width) * scale * share,
             text_scale=scale,
         )
-        (folder / f"card-profile{suffix}.svg").write_text(card_svg, encoding="utf-8")
+        files[f"card-profile{suffix}.svg"] = card_svg
         map_svg, map_alt = plots.route_map(
             analysis.terrain,
             analysis.climbs,
@@ -245,7 +226,7 @@ def _write_plots(config, job: RouteJob, folder: Path) -> dict:
             width_in=width,
             height_in=0.45 * width * share,
         )
-        (folder / f"map{suffix}.svg").write_text(map_svg, encoding="utf-8")
+        files[f"map{suffix}.svg"] = map_svg
     card_profile = "card-profile.svg"
     power_svg = power_alt = ""
     hardest = _hardest(analysis.climbs)
@@ -256,7 +237,7 @@ def _write_plots(config, job: RouteJob, folder: Path) -> dict:
             units,
             kinds=[e.plan.rider.vehicle.label for e in job.riders],
         )
-        (folder / "power.svg").write_text(power_svg, encoding="utf-8")
+        files["power.svg"] = power_svg
     return {
         "profile_alt": alt,
         "card_profile": card_profile,
@@ -269,18 +250,19 @@ def _write_plots(config, job: RouteJob, folder: Path) -> dict:
     }
 
 
-def _write_exports(
+def _exports(
     config,
     job: RouteJob,
     plans: list[Plan],
-    folder: Path,
     windows: list,
+    files: dict[str, str | bytes],
     to_second: bool = False,
     celsius: float | None = None,
 ) -> str:
-    """plan.json, climbs.csv, route.gpx and the QR code; returns the QR's target URL."""
+    """plan.json, climbs.csv, route.gpx and the QR code, added to ``files``; returns
+    the QR's target URL."""
     analysis = job.analysis
-    text = exports.plan_json_text(
+    files["plan.json"] = exports.plan_json_text(
         job.name,
         plans,
         job.riders,
@@ -289,18 +271,20 @@ def _write_exports(
         to_second=to_second,
         temperature_c=celsius,
     )
-    (folder / "plan.json").write_text(text, encoding="utf-8")
-    (folder / "climbs.csv").write_text(exports.climbs_csv_text(plans), encoding="utf-8")
-    (folder / "route.gpx").write_text(
-        exports.route_gpx_text(analysis.track, analysis.terrain, analysis.climbs, job.checkpoints),
-        encoding="utf-8",
+    files["climbs.csv"] = exports.climbs_csv_text(plans)
+    files["route.gpx"] = exports.route_gpx_text(
+        analysis.track, analysis.terrain, analysis.climbs, job.checkpoints
     )
     if not config.base_url:
         return ""
+    import io
+
     import segno
 
     qr = config.base_url.rstrip("/") + f"/{job.slug}/index.html"
-    segno.make(qr, error="m").save(str(folder / "qr.svg"), kind="svg", border=1, xmldecl=False)
+    buffer = io.BytesIO()
+    segno.make(qr, error="m").save(buffer, kind="svg", border=1, xmldecl=False)
+    files["qr.svg"] = buffer.getvalue()
     return qr
 
 
@@ -319,25 +303,20 @@ def theme_errors(templates: Path | None) -> Iterator[None]:
         raise CardgenError(f"{where}: {exc.message or type(exc).__name__}; fix the template") from None
 
 
-def render_route(config, site: dict, job: RouteJob, folder: Path) -> tuple[dict, list[CardSource]]:
-    """Write a route's page, plots and exports into ``folder``; return its summary for
-    the index and the cards to print."""
-    with theme_errors(config.templates):
-        return _render_route(config, site, job, folder)
+@dataclass(frozen=True)
+class RoutePages:
+    """What a route's folder holds, made in memory: ``files`` by name (text or bytes),
+    its ``summary`` for the index, and the ``cards`` to print there."""
+
+    files: dict[str, str | bytes]
+    summary: dict
+    cards: list[CardSource]
 
 
-def _render_route(config, site: dict, job: RouteJob, folder: Path) -> tuple[dict, list[CardSource]]:
-    """Write a route's page, plots and exports into ``folder``; return its summary for
-    the index and the cards to print."""
-    env = _environment(config.templates, config.units)
-    analysis, terrain, units = job.analysis, job.analysis.terrain, config.units
-    figures = _write_plots(config, job, folder)
-    taken = set(RESERVED_CARD_NAMES)
-    views: list[RiderView] = []
-    for e in job.riders:
-        slug = slugify(e.name, taken)  # unique within the route: it names the card file
-        views.append(RiderView(e.name, slug, e.plan, f"{slug}.pdf", e.start, e.bib, e.wave))
-    plans: list[Plan] = [v.plan for v in views]
+def _windows(config, job: RouteJob, plans: list[Plan]) -> tuple[list, str]:
+    """The checkpoints' opening and closing times, from each rider's own start, and
+    the sentence that says how they were set ([], "" without start times)."""
+    units = config.units
     windows: list = []
     margin_text = ""
     starts = [e.start for e in job.riders]
@@ -356,6 +335,29 @@ def _render_route(config, site: dict, job: RouteJob, folder: Path) -> tuple[dict
                 f"{config.checkpoint_margin / 60:.0f} min before the fastest and after the slowest rider "
                 "planned here, stops included"
             )
+    return windows, margin_text
+
+
+def render_route(config, site: dict, job: RouteJob, folder: Path) -> RoutePages:
+    """A route's page, plots and exports, its summary for the index and the cards to
+    print; ``folder`` is where the build will put them (the cards' links point there).
+    Nothing is written."""
+    with theme_errors(config.templates):
+        return _render_route(config, site, job, folder)
+
+
+def _render_route(config, site: dict, job: RouteJob, folder: Path) -> RoutePages:
+    env = _environment(config.templates, config.units)
+    analysis, terrain, units = job.analysis, job.analysis.terrain, config.units
+    files: dict[str, str | bytes] = {}
+    figures = _plots(config, job, files)
+    taken = set(RESERVED_CARD_NAMES)
+    views: list[RiderView] = []
+    for e in job.riders:
+        slug = slugify(e.name, taken)  # unique within the route: it names the card file
+        views.append(RiderView(e.name, slug, e.plan, f"{slug}.pdf", e.start, e.bib, e.wave))
+    plans: list[Plan] = [v.plan for v in views]
+    windows, margin_text = _windows(config, job, plans)
     route = {
         "name": job.name,
         "notes": job.notes,
@@ -369,7 +371,9 @@ def _render_route(config, site: dict, job: RouteJob, folder: Path) -> tuple[dict
         "start_text": _start_span(job, site.get("to_second", False)),
     }
     hot = config.conditions.temperature
-    hot_caution = heat_caution(hot - 273.15) if hot is not None and hot - 273.15 >= HOT_C else ""
+    hot_caution = (
+        heat_caution(hot - ZERO_CELSIUS_K) if hot is not None and hot - ZERO_CELSIUS_K >= HOT_C else ""
+    )
     common = dict(
         site=site,
         route=route,
@@ -378,24 +382,21 @@ def _render_route(config, site: dict, job: RouteJob, folder: Path) -> tuple[dict
         symbols_for=symbols_for,
         hot_caution=hot_caution,
     )
-    (folder / "index.html").write_text(
-        env.get_template("route.html").render(
-            **common,
-            riders=views,
-            overview=route_overview(job, views, site.get("to_second", False)),
-            profile_alt=figures["profile_alt"],
-            map_alt=figures["map_alt"],
-            power_svg=figures["power_svg"],
-            power_alt=figures["power_alt"],
-            windows=windows,
-            margin_text=margin_text,
-            root="../",
-        ),
-        encoding="utf-8",
+    files["index.html"] = env.get_template("route.html").render(
+        **common,
+        riders=views,
+        overview=route_overview(job, views, site.get("to_second", False)),
+        profile_alt=figures["profile_alt"],
+        map_alt=figures["map_alt"],
+        power_svg=figures["power_svg"],
+        power_alt=figures["power_alt"],
+        windows=windows,
+        margin_text=margin_text,
+        root="../",
     )
     temperature = config.conditions.temperature
-    celsius = None if temperature is None else temperature - 273.15
-    qr = _write_exports(config, job, plans, folder, windows, site.get("to_second", False), celsius)
+    celsius = None if temperature is None else temperature - ZERO_CELSIUS_K
+    qr = _exports(config, job, plans, windows, files, site.get("to_second", False), celsius)
     page = page_geometry(config.card_size, config.large_print)
     feeds = [(c.distance, c.name) for c in job.checkpoints]
     card_template = env.get_template("card.html")
@@ -430,6 +431,13 @@ def _render_route(config, site: dict, job: RouteJob, folder: Path) -> tuple[dict
             card_template.render(**context, condense=min(level, 3), continuation=level >= 4)
             for level in range(CONDENSE_STEPS + 1)
         )
+        assets = (
+            *(["qr.svg"] if qr else []),
+            figures["card_profile"],
+            figures["profile_small"],
+            figures["map"],
+            figures["map_small"],
+        )
         cards.append(
             CardSource(
                 variants[0],
@@ -438,6 +446,7 @@ def _render_route(config, site: dict, job: RouteJob, folder: Path) -> tuple[dict
                 variants,
                 page["budget"],
                 view.plan.rider.vehicle.name,
+                assets,
             )
         )
     if views:
@@ -448,13 +457,14 @@ def _render_route(config, site: dict, job: RouteJob, folder: Path) -> tuple[dict
             groups=groups,
             group_size=COACH_GROUP,
             rider_count=len(views),
-            together=group_spread(job, views),
+            together=group_spread(job),
             rider_notes=functools.partial(rider_notes, units=units),
         )
         cards.append(CardSource(html, str(folder), str(folder / "coach.pdf")))
     summary = route_summary(job, views, units, site.get("to_second", False))
+    starts = [e.start for e in job.riders]
     summary["day"] = day_rows(job.name, plans, starts, windows, celsius, site.get("to_second", False))
-    return summary, cards
+    return RoutePages(files, summary, cards)
 
 
 #: At most this many items in a card's "Watch for" box; the rest are in the tables.
@@ -706,45 +716,6 @@ def route_overview(job: RouteJob, views, to_second: bool = False) -> dict:
     return {"climbs": climbs, "descents": descents, "cues": cues, "finish": finish, "riders": riders}
 
 
-def group_spread(job: RouteJob, views) -> list[dict]:
-    """For each set of two or more riders who start together: at every climb top and
-    checkpoint, the first and last planned arrival, the spread between them, and the
-    wait that regroups them there if they regrouped at the point before (the gap that
-    opened since). Times in seconds from their start."""
-    points = sorted(
-        [(c.end_distance, f"top of climb {i + 1}") for i, c in enumerate(job.analysis.climbs)]
-        + [(c.distance, c.name) for c in job.checkpoints]
-        + [(job.analysis.terrain.length, "Finish")]
-    )
-    together: dict = {}
-    for e, v in zip(job.riders, views, strict=True):
-        if e.start is not None:
-            together.setdefault(e.start, []).append(v)
-    groups = []
-    for start, members in sorted(together.items()):
-        if len(members) < 2:
-            continue
-        rows, before = [], [0.0] * len(members)
-        for distance, name in points:
-            at = [m.plan.elapsed_at(distance) for m in members]
-            if not all(t == t and t != float("inf") for t in at):
-                break  # someone cannot get there: the spread means nothing beyond
-            legs = [a - b for a, b in zip(at, before, strict=True)]
-            rows.append(
-                {
-                    "name": name,
-                    "distance": distance,
-                    "first": start + timedelta(seconds=min(at)),
-                    "last": start + timedelta(seconds=max(at)),
-                    "spread": max(at) - min(at),
-                    "wait": max(legs) - min(legs),
-                }
-            )
-            before = at
-        groups.append({"start": start, "riders": [m.name for m in members], "rows": rows})
-    return groups
-
-
 def _pack_order(job: RouteJob, views, to_second: bool = False) -> list[dict]:
     """The route's cards in start order (then bib, then name): who, bib, start, file."""
     rows = [
@@ -761,24 +732,25 @@ def _pack_order(job: RouteJob, views, to_second: bool = False) -> list[dict]:
     return rows
 
 
-def render_packs(config, routes: list[tuple[str, dict]], folder: Path, fresh: set[str]) -> list[str]:
+def render_packs(config, routes: list[tuple[str, dict]], folder: Path, fresh: set[str]) -> dict[Path, bytes]:
     """Print packs (docs/contracts.md): ``all-cards.pdf`` in each route folder that
     was rendered now (``fresh`` slugs; a reused route keeps its pack) and at the
-    root for the whole event, with ``all-cards-2up.pdf`` beside each for A5 cards.
-    ``routes`` are (slug, summary) in site order. Returns the files written."""
+    root for the whole event, with ``all-cards-2up.pdf`` beside each for A5 cards,
+    made from the cards in ``folder``. ``routes`` are (slug, summary) in site order.
+    Returns the packs by the file each goes to."""
     from cardgen.render.packs import PackEntry, impose_two_up, make_pack
 
     env = _environment(config.templates, config.units)
     page = page_geometry(config.card_size, config.large_print)
     size = {"A5": (419.53, 595.28), "A4": (595.28, 841.89), "pocket": (280.63, 595.28)}[config.card_size]
     cover = env.get_template("cover.html")
-    written = []
+    written: dict[Path, bytes] = {}
 
     def pack(entries, where: Path, subtitle: str, show_route: bool) -> None:
         if not entries:
             return
         target = where / "all-cards.pdf"
-        firsts = make_pack(
+        data, firsts = make_pack(
             entries,
             lambda rows: cover.render(
                 title=config.title,
@@ -789,13 +761,12 @@ def render_packs(config, routes: list[tuple[str, dict]], folder: Path, fresh: se
                 two_up=config.card_size == "A5",
             ),
             where,
-            target,
+            target.stem,
             size,
         )
-        written.append(str(target))
+        written[target] = data
         if config.card_size == "A5":
-            impose_two_up(target, where / "all-cards-2up.pdf", firsts)
-            written.append(str(where / "all-cards-2up.pdf"))
+            written[where / "all-cards-2up.pdf"] = impose_two_up(data, "all-cards-2up", firsts)
 
     everyone = []
     for slug, summary in routes:
@@ -831,13 +802,14 @@ def route_summary(job: RouteJob, views, units: str, to_second: bool = False) -> 
     }
 
 
-def render_index(config, site: dict, summaries: list[dict], folder: Path) -> None:
-    """The site's index page and its style sheet."""
+def render_index(config, site: dict, summaries: list[dict], packs: bool) -> dict[str, str | Path]:
+    """The site's index page (``packs``: the event's print pack is there to link), and
+    the theme's files it needs, by name: text, or the theme file to copy."""
     with theme_errors(config.templates):
-        _render_index(config, site, summaries, folder)
+        return _render_index(config, site, summaries, packs)
 
 
-def _render_index(config, site: dict, summaries: list[dict], folder: Path) -> None:
+def _render_index(config, site: dict, summaries: list[dict], packs: bool) -> dict[str, str | Path]:
     env = _environment(config.templates, config.units)
     rows = []
     for summary in summaries:  # one row per route, whatever the number of riders
@@ -851,19 +823,19 @@ def _render_index(config, site: dict, summaries: list[dict], folder: Path) -> No
                 "slowest": times[-1] if times else None,
             }
         )
-    (folder / "index.html").write_text(
-        env.get_template("index.html").render(
-            site=site, routes=rows, packs=(folder / "all-cards.pdf").is_file(), root="", version=__version__
-        ),
-        encoding="utf-8",
+    page = env.get_template("index.html").render(
+        site=site, routes=rows, packs=packs, root="", version=__version__
     )
-    for name in ("style.css", "find.js"):
-        (folder / name).write_bytes(theme_file(config.templates, name).read_bytes())
+    return {
+        "index.html": page,
+        **{name: theme_file(config.templates, name) for name in ("style.css", "find.js")},
+    }
 
 
-def render_day_sheet(config, summaries: list[dict], folder: Path, pdf: bool) -> None:
-    """The organiser's day sheet of the whole event (:mod:`cardgen.render.day`)."""
+def render_day_sheet(config, summaries: list[dict], folder: Path, pdf: bool) -> dict[str, str | bytes]:
+    """The organiser's day sheet of the whole event (:mod:`cardgen.render.day`), by
+    file name, for ``folder``."""
     with theme_errors(config.templates):
         env = _environment(config.templates, config.units)
         rows = [row for summary in summaries for row in summary.get("day", [])]
-        write_day_sheet(env, config, rows, folder, pdf)
+        return day_sheet_files(env, config, rows, folder, pdf)

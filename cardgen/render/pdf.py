@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import contextlib
 import gc
+import io
 import logging
 import mimetypes
 from collections.abc import Iterator
@@ -45,11 +46,12 @@ def build_only_fetcher(root: Path):
     return _fetcher_class()(root)
 
 
-def write_pdf(html: str, base: Path, target: Path) -> list[str]:
-    """Render ``html`` (whose relative links point into ``base``) to ``target``, as a
-    tagged PDF (structure for screen readers; its language and title from the HTML).
+def pdf_bytes(html: str, base: Path) -> tuple[bytes, list[str]]:
+    """Render ``html`` (whose relative links point into ``base``) as a tagged PDF
+    (structure for screen readers; its language and title from the HTML).
 
-    Returns the URLs that were refused (nothing is fetched from outside ``base``).
+    Returns the PDF and the URLs that were refused (nothing is fetched from outside
+    ``base``).
     """
     from weasyprint import HTML
 
@@ -57,10 +59,10 @@ def write_pdf(html: str, base: Path, target: Path) -> list[str]:
     # fetcher already records refusals, so keep its log quiet on the terminal.
     logging.getLogger("weasyprint").setLevel(logging.ERROR)
     fetcher = build_only_fetcher(base)
-    HTML(string=html, base_url=base.resolve().as_uri() + "/", url_fetcher=fetcher).write_pdf(
-        target, pdf_identifier=b"cardgen", uncompressed_pdf=False, pdf_tags=True
+    data = HTML(string=html, base_url=base.resolve().as_uri() + "/", url_fetcher=fetcher).write_pdf(
+        pdf_identifier=b"cardgen", uncompressed_pdf=False, pdf_tags=True
     )
-    return fetcher.refused
+    return data, fetcher.refused
 
 
 class Fitter:
@@ -98,9 +100,9 @@ class Fitter:
         seen = self.overflowed.setdefault(group, {})
         seen[index] = min(seen.get(index, len(html)), len(html))
 
-    def fit(self, variants, base: Path, target: Path, budget: int, group=None) -> tuple[int, int]:
-        """Write the least condensed variant of a card whose layout is within
-        ``budget`` pages (the last when none is). Returns (variant index, pages)."""
+    def fit(self, variants, base: Path, budget: int, group=None) -> tuple[bytes, int, int]:
+        """The PDF of the least condensed variant of a card whose layout is within
+        ``budget`` pages (the last when none is). Returns (PDF, variant index, pages)."""
         from weasyprint import HTML
 
         logging.getLogger("weasyprint").setLevel(logging.ERROR)
@@ -120,13 +122,13 @@ class Fitter:
                 break
             self._learn(group, index, html)
         with _quiet_collector():
-            document.write_pdf(
-                target, pdf_identifier=b"cardgen", uncompressed_pdf=False, pdf_tags=True, cache=self.cache
+            data = document.write_pdf(
+                pdf_identifier=b"cardgen", uncompressed_pdf=False, pdf_tags=True, cache=self.cache
             )
         if index == last and pages % 2:  # the continuation is a whole sheet: end on a back page
-            _add_blank_page(target)
+            data = _add_blank_page(data)
             pages += 1
-        return index, pages
+        return data, index, pages
 
 
 @contextlib.contextmanager
@@ -144,18 +146,20 @@ def _quiet_collector() -> Iterator[None]:
             gc.collect(1)
 
 
-def write_fitting_pdf(variants, base: Path, target: Path, budget: int) -> tuple[int, int]:
+def fitting_pdf(variants, base: Path, budget: int) -> tuple[bytes, int, int]:
     """One card fitted by a fitter of its own (see :class:`Fitter`): the least
-    condensed variant within ``budget`` pages. Returns (variant index, pages)."""
-    return Fitter().fit(variants, base, target, budget)
+    condensed variant within ``budget`` pages. Returns (PDF, variant index, pages)."""
+    return Fitter().fit(variants, base, budget)
 
 
-def _add_blank_page(target: Path) -> None:
+def _add_blank_page(data: bytes) -> bytes:
     """Append one blank page of the last page's size (a card's continuation sheet
     ends on a back page of its own)."""
     import pikepdf
 
-    with pikepdf.open(target, allow_overwriting_input=True) as pdf:
+    out = io.BytesIO()
+    with pikepdf.open(io.BytesIO(data)) as pdf:
         box = pdf.pages[-1].mediabox
         pdf.add_blank_page(page_size=(float(box[2]) - float(box[0]), float(box[3]) - float(box[1])))
-        pdf.save(target, deterministic_id=True)
+        pdf.save(out, deterministic_id=True)
+    return out.getvalue()

@@ -18,6 +18,7 @@ import warnings
 import numpy as np
 
 from cardgen.render import format as fmt
+from cardgen.units import KMH_PER_MS
 
 MAX_POINTS = 1000
 GRADE_RANGE = 12.0  # [%] the colour scale runs from flat to 12 % up or down
@@ -189,8 +190,11 @@ def elevation_profile(
     )
     bar.set_label("grade up or down (%)", fontsize=SMALLEST_PT * k, color=INK)
     bar.ax.tick_params(labelsize=SMALLEST_PT * k, colors=INK)
-    svg = _svg(fig)
+    return _svg(fig), _profile_alt(terrain, climbs, checkpoints, units, name)
 
+
+def _profile_alt(terrain, climbs, checkpoints, units: str, name: str) -> str:
+    """The elevation profile in words, for screen readers and print."""
     parts = [
         f"Elevation profile{' of ' + name if name else ''}: {fmt.distance(terrain.length, units)}, "
         f"from {fmt.height(float(terrain.elevation.min()), units)} to "
@@ -209,7 +213,7 @@ def elevation_profile(
             + "."
         )
     parts.append("Colour shows the grade; the tables give the same numbers.")
-    return svg, " ".join(parts)
+    return " ".join(parts)
 
 
 #: Riders on one power chart drawn one by one; more are drawn one curve per vehicle
@@ -242,7 +246,7 @@ def power_curves(rows, units: str = "metric", *, kinds=None, width_in: float = 6
     from matplotlib import colormaps
 
     imperial = units == "imperial"
-    to_shown = fmt.MPH_PER_MS if imperial else 3.6
+    to_shown = fmt.MPH_PER_MS if imperial else KMH_PER_MS
     fig = _figure(width_in, height_in)
     ax = fig.add_subplot()
     markers = ["o", "s", "^", "D", "v", "P", "X", "*"]
@@ -337,12 +341,7 @@ def route_map(
     """
     import math
 
-    from cardgen.route.geodesy import local_plane
-
-    lat0 = float(np.radians(np.mean(terrain.lat)))
-    lon = np.degrees(np.unwrap(np.radians(terrain.lon)))
-    xy = local_plane(terrain.lat, lon, lat0)
-    xy -= xy.mean(axis=0)
+    xy = terrain.plane()
     step = max(1, xy.shape[0] // (4 * MAX_POINTS))
     x, y = xy[::step, 0], xy[::step, 1]
     d = terrain.distance[::step]

@@ -19,7 +19,7 @@ from numpy.lib.stride_tricks import sliding_window_view
 
 from cardgen.errors import GpxError
 from cardgen.route.corners import MIN_TURN_RADIUS, find_corners
-from cardgen.route.geodesy import bearing, course, cumulative_distance
+from cardgen.route.geodesy import bearing, course, cumulative_distance, local_plane
 from cardgen.route.gpx import Track
 from cardgen.units import Floats
 
@@ -82,6 +82,16 @@ class Terrain:
     def length(self) -> float:
         """Route length [m]."""
         return float(self.distance[-1])
+
+    def plane(self) -> np.ndarray:
+        """The nodes on a local plane [m], x east and y north, centred on the route:
+        equirectangular about the mean latitude, longitudes unwrapped across ±180°
+        (:func:`cardgen.route.geodesy.local_plane`)."""
+        lat0 = float(np.radians(np.mean(self.lat)))
+        lon = np.degrees(np.unwrap(np.radians(self.lon)))
+        xy = local_plane(self.lat, lon, lat0)
+        xy -= xy.mean(axis=0)
+        return xy
 
 
 def remove_spikes(elevation: Floats, points: int = SPIKE_POINTS) -> Any:
@@ -166,7 +176,7 @@ def elevation_gain(elevation: Floats, deadband: float = GAIN_DEADBAND) -> tuple[
     return float(steps[steps > 0].sum()), float(-steps[steps < 0].sum())
 
 
-def turning_points(elevation: Floats, deadband: float) -> np.ndarray:  # noqa: C901 (a small state machine)
+def turning_points(elevation: Floats, deadband: float) -> np.ndarray:
     """Indices of the alternating lows and highs of a profile, with hysteresis.
 
     The first index is always included. A high (low) is confirmed once the profile
@@ -177,39 +187,35 @@ def turning_points(elevation: Floats, deadband: float) -> np.ndarray:  # noqa: C
     n = e.size
     if n < 2:
         return np.arange(n)
-    # Only local extrema can be turning points: the loop below runs over them only.
+    turns = [0]
+    state = 0  # 1 climbing towards a high, -1 falling towards a low, 0 not yet either
+    best = 0
+    for i in _local_extrema(e)[1:]:
+        x = e[i]
+        if state == 0:
+            if abs(x - e[turns[-1]]) > deadband:
+                state, best = (1 if x > e[turns[-1]] else -1), i
+        elif state * (x - e[best]) >= 0:  # further the same way: a new extreme
+            best = i
+        elif state * (e[best] - x) > deadband:  # turned by more than the deadband
+            turns.append(best)
+            state, best = -state, i
+    if state != 0 and best != turns[-1]:
+        turns.append(best)
+    return np.asarray(turns)
+
+
+def _local_extrema(e: np.ndarray) -> list[int]:
+    """The first and last index and every index where the profile turns: only these
+    can be turning points."""
     d = np.sign(np.diff(e))
     nz = np.flatnonzero(d)
     candidates = [0]
     if nz.size:
         change = nz[1:][d[nz[1:]] != d[nz[:-1]]]
         candidates.extend(change.tolist())
-    candidates.append(n - 1)
-    turns = [0]
-    state = 0
-    best = 0
-    for i in candidates[1:]:
-        x = e[i]
-        if state == 0:
-            if x - e[turns[-1]] > deadband:
-                state, best = 1, i
-            elif e[turns[-1]] - x > deadband:
-                state, best = -1, i
-        elif state == 1:
-            if x >= e[best]:
-                best = i
-            elif e[best] - x > deadband:
-                turns.append(best)
-                state, best = -1, i
-        else:
-            if x <= e[best]:
-                best = i
-            elif x - e[best] > deadband:
-                turns.append(best)
-                state, best = 1, i
-    if state != 0 and best != turns[-1]:
-        turns.append(best)
-    return np.asarray(turns)
+    candidates.append(e.size - 1)
+    return candidates
 
 
 def curve_radius(lat: np.ndarray, lon: np.ndarray, step: float, window: float = CURVE_WINDOW) -> Any:

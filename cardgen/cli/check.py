@@ -1,0 +1,87 @@
+"""``cardgen check``: everything a build can find without rendering; writes nothing."""
+
+from __future__ import annotations
+
+import argparse
+import sys
+
+from cardgen.cli.build import _say_config, _site_config
+from cardgen.cli.common import _print
+from cardgen.errors import CardgenError
+
+#: Riders named by ``check`` (a field of thousands is counted, not listed).
+CHECK_NAMES = 12
+
+
+def _print_waves(config) -> None:
+    """Each start wave's riders and first and last start (one start line per wave,
+    whatever the routes its riders ride)."""
+    from cardgen.config import plural
+    from cardgen.plan.starts import event_starts
+
+    starts = event_starts(config)
+    shown = "%H:%M:%S" if starts.to_second else "%H:%M"
+    for wave in starts.waves:
+        if wave.riders and wave.first and wave.last:
+            _print(
+                f"wave {wave.name}: {plural(wave.riders, 'start')}, first {wave.first:{shown}}, "
+                f"last {wave.last:{shown}}"
+            )
+        else:
+            _print(f"wave {wave.name}: no riders start in it")
+
+
+def cmd_check(args) -> int:
+    """Everything a build can find without rendering, all at once."""
+    from cardgen.config import plural
+    from cardgen.io.gpx import read_gpx
+    from cardgen.plan import plan_route
+
+    config, _ = _site_config(args.site)
+    _say_config(config)
+    problems = []
+    for route in config.routes:
+        try:
+            surveyed = plan_route(  # the route as a build reads it, without riders
+                read_gpx(route.gpx),
+                [],
+                cue_texts=route.cue_texts,
+                checkpoints=route.checkpoints,
+                stops=route.stops,
+                stop=route.stop,
+                where=str(route.gpx),
+            )
+            analysis, checkpoints = surveyed.analysis, surveyed.checkpoints
+        except CardgenError as exc:
+            problems.append(str(exc))
+            continue
+        _print(
+            f"ok  {route.gpx.name}: {analysis.terrain.length / 1000:.1f} km, "
+            f"{plural(analysis.track.points, 'point')}, "
+            f"{plural(len(analysis.climbs), 'climb')}, {plural(len(checkpoints), 'checkpoint')}"
+        )
+        for warning in analysis.warnings:
+            _print(f"cardgen: warning: {route.gpx.name}: {warning}", file=sys.stderr)
+    names = [r.rider.name for r in config.riders[:CHECK_NAMES]]
+    more = len(config.riders) - len(names)
+    _print(
+        f"{plural(len(config.riders), 'rider')}: "
+        + "; ".join(names)
+        + (f"; and {more:,} more" if more > 0 else "")
+    )
+    _print_waves(config)
+    if problems:
+        raise CardgenError("\n  ".join([f"{plural(len(problems), 'route problem')}:"] + problems))
+    _print("configuration and routes are fine; nothing was written")
+    return 0
+
+
+def add_parser(sub: argparse._SubParsersAction) -> None:
+    """The ``check`` command's options."""
+    check = sub.add_parser(
+        "check",
+        help="check a site's configuration and routes; writes nothing",
+        description="Check a site's configuration and routes; writes nothing.",
+    )
+    check.add_argument("site", metavar="SITE.toml|FOLDER")
+    check.set_defaults(run=cmd_check)

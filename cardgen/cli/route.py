@@ -1,0 +1,191 @@
+"""``cardgen route``: climbs, descents, cues and times of one GPX route."""
+
+from __future__ import annotations
+
+import argparse
+import json
+import math
+import os
+
+from cardgen.cli.common import _finite, _n, _print, _within
+from cardgen.errors import CardgenError
+from cardgen.profiles.riders import PACING_STYLES
+from cardgen.units import KMH_PER_MS
+
+#: The short caution of ``cardgen route`` (the cards carry the full ones).
+ROUTE_CAUTION = (
+    "Model estimates, not guarantees: speeds are model upper bounds, not safe or target speeds. "
+    "Check brakes and ride descents and curves to the conditions; local road rules apply; hard "
+    "efforts need medical clearance."
+)
+
+
+def _route_plan(args):
+    """Read, analyse and plan one route from the ``route`` command's options."""
+    from cardgen.io.gpx import read_gpx
+    from cardgen.physics.atmosphere import Conditions
+    from cardgen.plan import plan_route
+    from cardgen.profiles.riders import Rider
+    from cardgen.profiles.vehicles import find_vehicle
+    from cardgen.units import celsius_to_kelvin, kmh_to_ms
+
+    for name in ("power", "target_speed", "wind", "wind_from", "temperature", "cp", "w_prime"):
+        _finite(getattr(args, name), "--" + name.replace("_", "-"))
+    vehicle = find_vehicle(args.vehicle)
+    _within("--power", args.power, "route_power_w")
+    _within("--cp", args.cp, "cp_w")
+    _within("--w-prime", None if args.w_prime is None else args.w_prime / 1000, "w_prime_kj")
+    given: dict = {}
+    if args.power is not None:
+        given.update(flat_power=args.power, climb_power=args.power)
+    if args.cp is not None:
+        given["cp"] = args.cp
+    if args.w_prime is not None:
+        given["w_prime"] = args.w_prime
+    if args.pacing is not None:
+        given["pacing"] = args.pacing
+    _within("--target-speed", args.target_speed, "target_kmh")
+    target = vehicle.climb_speed if args.target_speed is None else float(kmh_to_ms(args.target_speed))
+    _within("--wind", args.wind, "wind_kmh")
+    _within("--wind-from", args.wind_from, "wind_from_deg")
+    temperature = None
+    if args.temperature is not None:
+        _within("--temperature", args.temperature, "temperature_c")
+        temperature = float(celsius_to_kelvin(args.temperature))
+    conditions = Conditions(float(kmh_to_ms(args.wind)), math.radians(args.wind_from), temperature)
+    rider = Rider.for_vehicle(vehicle, target_speed=target, **given)
+    return plan_route(read_gpx(args.gpx), [rider], conditions, where=str(args.gpx)).plans[0]
+
+
+def cmd_route(args) -> int:
+    from cardgen.render.exports import route_json
+    from cardgen.render.format import duration
+    from cardgen.render.notices import notice_text
+
+    plan = _route_plan(args)
+    if args.trace is not None:
+        _write_trace(plan, args.trace)
+    data = route_json(plan)
+    if args.json:
+        print(json.dumps(data, indent=2, ensure_ascii=False))
+        return 0
+    r, v, t = data["route"], plan.rider.vehicle, data["totals"]
+    _print(
+        f"{r['name']}: {_n(r['distance_km'], '.1f')} km, +{_n(r['gain_m'], '.0f')} m / -{_n(r['loss_m'], '.0f')} m"
+    )
+    e, rider = plan.effort, plan.rider
+    _print(
+        f"{v.label} ({v.name}), {v.mass:.0f} kg; CP {rider.cp:.0f} W, W′ {rider.w_prime / 1000:.1f} kJ; "
+        f"climb target {rider.target_speed * KMH_PER_MS:.1f} km/h"
+    )
+    assumed = "" if e.given else f", the default for a ride of about {duration(e.duration or 0.0)}"
+    _print(f"Pacing: {e.style}, mean {e.mean_power:.0f} W ({e.mean_power / rider.cp:.0%} of CP{assumed})")
+    _print()
+    if data["climbs"]:
+        _print(" #   km        length  gain  avg   max   FIETS band       W@target  km/h  time")
+        for i, c in enumerate(data["climbs"], 1):
+            _print(
+                f"{i:2}  {_n(c['start_km'], '5.1f')}-{_n(c['end_km'], '<5.1f')} {_n(c['length_m'], '6.0f')} m {_n(c['gain_m'], '4.0f')}m "
+                f"{_n(c['avg_grade_pct'], '4.1f')}% {_n(c['max_grade_pct'], '4.1f')}% {_n(c['score'], '5.2f')} "
+                f"{c['band']:<10} {_n(c['power_for_target_w'], '6.0f')} W {_n(c['speed_at_effort_kmh'], '5.1f')} "
+                f"{duration(c['time_s']):>5}"
+            )
+            if c["assist"] is not None:
+                _print(f"      assist: {c['assist']}")
+            for w in c["warnings"]:
+                _print(f"      ! {w['text']}")
+    else:
+        _print("No climbs.")
+    _print()
+    if data["descents"]:
+        _print(" #   km          drop  avg     coasting   gravity")
+        for i, d in enumerate(data["descents"], 1):
+            _print(
+                f"{i:2}  {_n(d['start_km'], '5.1f')}-{_n(d['end_km'], '<5.1f')} {_n(d['drop_m'], '5.0f')} m {_n(d['avg_grade_pct'], '5.1f')}% "
+                f"{_n(d['coast_speed_kmh'], '6.0f')} km/h {_n(d['gravity_power_w'], '6.0f', -1)} W from gravity"
+            )
+            for w in d["warnings"]:
+                _print(f"      ! {w['text']}")
+    else:
+        _print("No descents.")
+    _print()
+    battery = "" if t["battery_wh"] is None else f", battery about {_n(t['battery_wh'], '.0f')} Wh"
+    _print(
+        f"Moving time {duration(t['time_s'])}, work {_n(t['energy_kj'], '.0f')} kJ, "
+        f"food about {_n(t['food_kcal'], '.0f')} kcal{battery}"
+    )
+    turns = sum(1 for c in plan.cues if c.cue.kind == "turn")
+    _print(f"{len(plan.cues)} cues ({turns} turns)")
+    for w in plan.warnings:
+        _print(f"note: {notice_text(w)}")
+    _print(f"\n{ROUTE_CAUTION}")
+    return 0
+
+
+def _write_trace(plan, path: str) -> None:
+    """Write the plan's node-by-node trace to ``path``, whole or not at all."""
+    from pathlib import Path
+
+    from cardgen.render.exports import trace_csv_text
+
+    target = Path(path)
+    temporary = target.with_name(f".{target.name}.cardgen-tmp-{os.getpid()}")
+    try:
+        temporary.write_text(trace_csv_text(plan), encoding="utf-8")
+        os.replace(temporary, target)
+    except OSError as exc:
+        temporary.unlink(missing_ok=True)
+        raise CardgenError(f"{path}: cannot write the trace ({exc.strerror or exc})") from None
+
+
+def add_parser(sub: argparse._SubParsersAction) -> None:
+    """The ``route`` command's options."""
+    route = sub.add_parser(
+        "route",
+        help="climbs, descents, cues and times of one GPX route",
+        description="Climbs, descents, cues and times of one GPX route.",
+    )
+    route.add_argument("gpx", metavar="ROUTE.gpx")
+    route.add_argument(
+        "--vehicle",
+        default="road-hoods",
+        metavar="NAME|FILE",
+        help="built-in vehicle or TOML profile (default road-hoods)",
+    )
+    route.add_argument(
+        "--power",
+        type=float,
+        metavar="W",
+        help="the rider's mean power over the ride (default: from the ride's length and the CP)",
+    )
+    route.add_argument("--cp", type=float, metavar="W", help="the rider's critical power")
+    route.add_argument("--w-prime", type=float, metavar="J", help="the rider's W′ (work above CP)")
+    route.add_argument(
+        "--pacing",
+        choices=PACING_STYLES,
+        help="best: spend W′ where it saves most time; steady: never above CP "
+        "(default: steady on arm-powered vehicles, best on the others)",
+    )
+    route.add_argument("--trace", metavar="OUT.csv", help="write the plan at every simulation node")
+    route.add_argument(
+        "--target-speed",
+        type=float,
+        metavar="KMH",
+        help="climbing speed for the watts column (default: the vehicle's)",
+    )
+    route.add_argument("--wind", type=float, default=0.0, metavar="KMH", help="wind speed")
+    route.add_argument(
+        "--wind-from",
+        type=float,
+        default=0.0,
+        metavar="DEG",
+        help="direction the wind comes from, degrees clockwise from north",
+    )
+    route.add_argument(
+        "--temperature",
+        type=float,
+        metavar="C",
+        help="air temperature (default: standard atmosphere at each altitude)",
+    )
+    route.add_argument("--json", action="store_true", help="print one JSON object")
+    route.set_defaults(run=cmd_route)
