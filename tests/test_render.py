@@ -223,7 +223,7 @@ def test_contrast_formula_reference_values():
 def test_legend_and_cautions_fit_the_card(demo_site):
     """The legend explains exactly the symbols on the card; the e-assist caution is on
     e-assist cards only (issue: cards fit to hand out)."""
-    from cardgen.render.html import SYMBOLS
+    from cardgen.render.html import CARD_ASSIST_CAUTION, SYMBOLS
 
     _, out, _ = demo_site
     for pdf in sorted((out / "hill-loop").glob("*.pdf")):
@@ -232,7 +232,7 @@ def test_legend_and_cautions_fit_the_card(demo_site):
         text = _pdftotext(pdf)
         shown = {letter for letter, meaning in SYMBOLS.values() if meaning in " ".join(text.split())}
         explained_w = "below balance speed" in text
-        assert ("e-assist" in pdf.name) == ("E-assist: legal limits" in " ".join(text.split())), pdf
+        assert ("e-assist" in pdf.name) == (CARD_ASSIST_CAUTION in " ".join(text.split())), pdf
         assert shown, pdf  # the hill loop gives every card some symbol
         if "handcycle" in pdf.name:
             assert not explained_w  # three wheels: never the walking symbol
