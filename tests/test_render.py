@@ -70,6 +70,9 @@ def test_every_number_on_the_cards_is_the_plans(demo_site):
                 ]
                 for item in expected:
                     assert item in row, (route.gpx.name, rc.rider.name, item, row)
+                # the plan's own power and time on the climb, in the advice under it
+                hold = f"hold {_half_up(c.rider_power, 5):.0f} W for {int(_half_up(c.time / 60, 1))} min"
+                assert hold in " ".join(text.split()), (route.gpx.name, rc.rider.name, hold)
                 checked += 1
             for timed in plan.cues:
                 when = start + timedelta(minutes=int(_half_up(timed.elapsed / 60, 1)))
@@ -220,7 +223,7 @@ def test_contrast_formula_reference_values():
 def test_legend_and_cautions_fit_the_card(demo_site):
     """The legend explains exactly the symbols on the card; the e-assist caution is on
     e-assist cards only (issue: cards fit to hand out)."""
-    from cardgen.render.html import SYMBOLS
+    from cardgen.render.html import CARD_ASSIST_CAUTION, SYMBOLS
 
     _, out, _ = demo_site
     for pdf in sorted((out / "hill-loop").glob("*.pdf")):
@@ -229,7 +232,7 @@ def test_legend_and_cautions_fit_the_card(demo_site):
         text = _pdftotext(pdf)
         shown = {letter for letter, meaning in SYMBOLS.values() if meaning in " ".join(text.split())}
         explained_w = "below balance speed" in text
-        assert ("e-assist" in pdf.name) == ("E-assist: legal limits" in " ".join(text.split())), pdf
+        assert ("e-assist" in pdf.name) == (CARD_ASSIST_CAUTION in " ".join(text.split())), pdf
         assert shown, pdf  # the hill loop gives every card some symbol
         if "handcycle" in pdf.name:
             assert not explained_w  # three wheels: never the walking symbol

@@ -464,6 +464,8 @@ def _rider(check: Checker, i: int, r: dict, routes: tuple[RouteConfig, ...]) -> 
             given[attr] = r[key] * LIMITS[key].to_si
     if r["assist_between_climbs"] is not None and vehicle.motor is not None:
         given["assist_between_climbs"] = r["assist_between_climbs"]
+    if r["pacing"] is not None:
+        given["pacing"] = r["pacing"]
     if r["flat_kmh"] is not None:
         if r["flat_w"] is not None:
             check.problems.append(

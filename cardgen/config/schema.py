@@ -7,6 +7,7 @@ from dataclasses import dataclass
 from typing import Any
 
 from cardgen.profiles.limits import LIMITS
+from cardgen.profiles.riders import PACING_STYLES
 
 CARD_SIZES = ("A5", "A4", "pocket")
 #: Years an event may be in: keeps every start, arrival and window a real date.
@@ -105,6 +106,11 @@ SCHEMA = {
         "load_kg": Spec("number", limit="load_kg"),
         "battery_wh": Spec("number", limit="battery_wh", help="battery fitted (e-assist vehicles)"),
         "assist_between_climbs": Spec("int", limit="assist_between_climbs"),
+        "pacing": Spec(
+            "choice",
+            choices=PACING_STYLES,
+            help="best: spend W′ where it saves most time; steady: never above CP (default: steady on handcycles)",
+        ),
         "start": Spec("time", help='this rider\'s own start, like "08:42"'),
         "bib": Spec("int", limit="bib"),
         "routes": Spec("list", help="only these routes (GPX file names or route names)"),

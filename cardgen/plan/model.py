@@ -59,6 +59,8 @@ class ClimbRow:
     time_above_cp: float = 0.0  # [s] on the climb above the rider's CP: how hard it is for them
     w_prime_used: float = 0.0  # [J] of W′ spent on the climb (from its level at the foot)
     battery_left: float | None = None  # [J] usable battery left at the climb's top; None without a motor
+    w_prime_top: float | None = None  # [J] W′ balance at the top
+    recovered_after: float | None = None  # [m] from the top until W′ is mostly back; None: barely used
 
 
 @dataclass(frozen=True)
@@ -72,6 +74,7 @@ class DescentRow:
     curve_distance: float  # [m] where the tightest curve is
     curve_speed: float  # [m/s] lateral-acceleration limit there (inf on a straight)
     warnings: tuple[Notice, ...]
+    rider_power: float = 0.0  # [W] the plan's time-weighted mean rider power on the descent
 
 
 @dataclass(frozen=True)

@@ -58,9 +58,11 @@ LOWEST_LEVEL = 0.15
 W_LEVELS = 31
 #: A block of the route ends where the grade leaves its first segment's by more than
 #: this [-], the headwind by more than BLOCK_WIND [m/s], or at BLOCK_LENGTH [m].
-BLOCK_GRADE = 0.006
-BLOCK_WIND = 1.0
+BLOCK_GRADE = 0.012
+BLOCK_WIND = 1.5
 BLOCK_LENGTH = 250.0
+#: … but is never shorter than this [m] (the plan's finest step of power).
+BLOCK_LEAST = 50.0
 #: The ride's W′ balance may fall this far below zero [share of W′] (the steady
 #: times of the programme against the ride's inertia) before it is planned again.
 W_PRIME_SLACK = 0.01
@@ -74,6 +76,10 @@ STALL_TIME = 1e5
 #: Multipliers tried in each round of the bisection, and rounds.
 KAPPAS = 8
 ROUNDS = 4
+#: Multipliers the dynamic programme tries at once (one pass over the route).
+PROGRAMME_KAPPAS = 16
+#: Asked again for a corrected mean, κ is sought within this factor of the last.
+REFIT = 1.3
 #: A stretch where W′ matters ends where the balance is back above this share of W′.
 WINDOW_FULL = 0.98
 #: With W′ binding, κ is sought between its value without W′ and this many times it.
@@ -139,16 +145,19 @@ class Course:
 
     def blocks(self) -> np.ndarray:
         """Start index of every block (the last entry is n): runs of segments of
-        nearly the same grade and wind, at most :data:`BLOCK_LENGTH` long."""
+        nearly the same grade and wind, :data:`BLOCK_LEAST` to :data:`BLOCK_LENGTH` long."""
         n = self.grade.size
         most = max(1, int(BLOCK_LENGTH / self.step))
+        least = max(1, int(BLOCK_LEAST / self.step))
         starts = [0]
         first = 0
         for i in range(1, n):
-            if (
-                i - first >= most
-                or abs(self.grade[i] - self.grade[first]) > BLOCK_GRADE
-                or abs(self.headwind[i] - self.headwind[first]) > BLOCK_WIND
+            if i - first >= most or (
+                i - first >= least
+                and (
+                    abs(self.grade[i] - self.grade[first]) > BLOCK_GRADE
+                    or abs(self.headwind[i] - self.headwind[first]) > BLOCK_WIND
+                )
             ):
                 starts.append(i)
                 first = i
@@ -244,9 +253,8 @@ def plan_pacing(
         return _result(powers, times, index, starts, kappa, False)
     # W′ lowers the power on climbs, so the mean needs a higher price of time
     programme = _programme(powers, times, cp, w_prime, _windows(balance, w_prime), keep)
-    hint = kappa if kappa_hint is None else kappa_hint
-    narrow = 1.0 + (WIDEN - 1.0) * (kappa_hint is None)
-    kappa, index = _bisect(programme.solve, powers, times, mean_power, hint / narrow**0.1, hint * narrow, 2)
+    low, high = (kappa, kappa * WIDEN) if kappa_hint is None else (kappa_hint / REFIT, kappa_hint * REFIT)
+    kappa, index = _bisect(programme.solve, powers, times, mean_power, low, high, 1, PROGRAMME_KAPPAS)
     return _result(powers, times, index, starts, kappa, True)
 
 
@@ -298,29 +306,24 @@ def _mean(powers, times, index) -> np.ndarray:
     return np.sum(powers[index] * chosen, axis=1) / np.sum(chosen, axis=1)
 
 
-def _bisect(solve, powers, times, target, low, high, rounds=ROUNDS) -> tuple[float, np.ndarray]:
+def _bisect(solve, powers, times, target, low, high, rounds=ROUNDS, count=KAPPAS) -> tuple[float, np.ndarray]:
     """κ on a log scale between ``low`` and ``high`` whose plan's mean power is
-    closest to ``target`` from below; ``solve`` maps an array of κ to their plans."""
-    best: tuple[float, np.ndarray] | None = None
+    closest to ``target``; ``solve`` maps an array of κ to their plans. Each round
+    tries ``count`` values and narrows to the two around the target."""
+    closest: tuple[float, float, np.ndarray] | None = None
     for _ in range(rounds):
-        kappas = np.geomspace(low, high, KAPPAS)
+        kappas = np.geomspace(low, high, count)
         plans = solve(kappas)
         means = _mean(powers, times, plans)
+        k = int(np.argmin(np.abs(means - target)))
+        if closest is None or abs(means[k] - target) < closest[0]:
+            closest = (abs(float(means[k]) - target), float(kappas[k]), plans[k])
         below = np.flatnonzero(means <= target)
-        if below.size == 0:
-            return float(kappas[0]), plans[0]
-        k = int(below[-1])
-        best = (float(kappas[k]), plans[k])
-        if k == KAPPAS - 1:
+        if below.size == 0 or below[-1] == count - 1:
             break
-        low, high = kappas[k], kappas[k + 1]
-    assert best is not None
-    # between the bracket's ends the mean moves in small steps; take the upper end
-    # when it is closer to the target
-    upper = solve(np.array([high]))
-    if abs(_mean(powers, times, upper)[0] - target) < abs(_mean(powers, times, best[1][None])[0] - target):
-        return float(high), upper[0]
-    return best
+        low, high = kappas[below[-1]], kappas[below[-1] + 1]
+    assert closest is not None
+    return closest[1], closest[2]
 
 
 class _Programme:
@@ -411,7 +414,7 @@ TABLE_CACHE = 16
 _tables: OrderedDict[str, tuple[np.ndarray, np.ndarray]] = OrderedDict()
 #: The ridden mean power may miss the day's effort by this share before the
 #: programme is asked again with the miss corrected …
-MEAN_TOLERANCE = 0.005
+MEAN_TOLERANCE = 0.01
 #: … at most this many times.
 FIT_ROUNDS = 2
 #: Rounds of cutting the motor where the battery runs out (each only cuts earlier).
@@ -463,26 +466,43 @@ def pace(course: Course, *, mean_power: float, cp: float, w_prime: float, top: f
     cut (pro rata on that segment, to 0 after it) and the rider's power planned and
     ridden again, until the battery lasts to the cut.
     """
-    ratio = course.assist_ratio
-    empty_at = None
-    for rounds in range(1, BATTERY_ROUNDS + 1):
-        ridden = course if ratio is course.assist_ratio else dataclasses.replace(course, assist_ratio=ratio)
+    full = course.assist_ratio
+    ratio, empty_at = full, None
+    for _ in range(BATTERY_ROUNDS):
+        ridden = course if ratio is full else dataclasses.replace(course, assist_ratio=ratio)
         pacing, ride = _fit(ridden, mean_power, cp, w_prime, top)
-        motor = course.motor
-        if motor is None or ratio is None:
+        if course.motor is None or full is None:
             break
-        energy = np.nan_to_num(ride.motor_power * ride.time, posinf=0.0) / motor.drive_efficiency
-        drawn = np.cumsum(energy)
-        over = np.flatnonzero(drawn > motor.usable_battery * (1.0 + 1e-6))
-        if not over.size or rounds == BATTERY_ROUNDS:
+        # the draw up to any point does not depend on the motor after it: ride this
+        # power with the motor on throughout, and cut where that empties the battery
+        unbounded = ride if ratio is full else course.ride(pacing.power, full)
+        cut = _battery_cut(unbounded, full, course.motor)
+        if cut is None:
+            ratio, empty_at, ride = full, None, unbounded
             break
-        i = int(over[0])
-        left = motor.usable_battery - (drawn[i - 1] if i else 0.0)
-        ratio = ratio.copy()
-        ratio[i] *= max(left, 0.0) / max(energy[i], 1e-9)
-        ratio[i + 1 :] = 0.0
-        empty_at = float(course.distance[i + 1])
+        index, cut_ratio = cut
+        ride = course.ride(pacing.power, cut_ratio)
+        settled = empty_at is not None and empty_at == float(course.distance[index + 1])
+        ratio, empty_at = cut_ratio, float(course.distance[index + 1])
+        if settled:
+            break
     return PacedRide(pacing, ride, ratio, empty_at)
+
+
+def _battery_cut(ride: Ride, ratio: np.ndarray, motor: Motor) -> tuple[int, np.ndarray] | None:
+    """Where the ride empties the usable battery: the segment, and the assist ratio
+    cut there (pro rata on that segment, 0 after it); None when the battery lasts."""
+    energy = np.nan_to_num(ride.motor_power * ride.time, posinf=0.0) / motor.drive_efficiency
+    drawn = np.cumsum(energy)
+    over = np.flatnonzero(drawn > motor.usable_battery * (1.0 + 1e-6))
+    if not over.size:
+        return None
+    i = int(over[0])
+    left = motor.usable_battery - (drawn[i - 1] if i else 0.0)
+    cut = ratio.copy()
+    cut[i] *= max(left, 0.0) / max(energy[i], 1e-9)
+    cut[i + 1 :] = 0.0
+    return i, cut
 
 
 def _fit(course: Course, mean_power: float, cp: float, w_prime: float, top: float) -> tuple[Pacing, Ride]:

@@ -444,6 +444,8 @@ def _climb_row(
         power_curve=(CURVE_SPEEDS, np.asarray(curve)),
         power_at_effort=float(needed(speed_at_effort)),
         time_above_cp=float(np.sum(ride.time[segs][finite & (ride.rider_power[segs] > rider.cp)])),
+        w_prime_top=float(wbal[climb.end - 1]),
+        recovered_after=_recovered_after(climb, terrain, wbal, rider.w_prime),
         w_prime_used=max(0.0, before - w_low),
         battery_left=None
         if motor is None
@@ -453,6 +455,23 @@ def _climb_row(
             / motor.drive_efficiency
         ),
     )
+
+
+#: W′ counts as back once the balance is again at this share of W′ (the card's "for
+#: the next 2 km" after a climb): common practice, no published source.
+RECOVERED = 0.9
+
+
+def _recovered_after(climb: Climb, terrain: Terrain, wbal, w_prime: float) -> float | None:
+    """Distance [m] from a climb's top until the W′ balance is back at
+    :data:`RECOVERED` of W′ (to the finish if it never is); None when the climb left
+    more than that."""
+    after = wbal[climb.end - 1 :]
+    if after[0] >= RECOVERED * w_prime:
+        return None
+    back = np.flatnonzero(after >= RECOVERED * w_prime)
+    end = climb.end - 1 + (int(back[0]) if back.size else after.size - 1)
+    return float(terrain.distance[end + 1] - terrain.distance[climb.end])
 
 
 #: Curves closer than this [m] are one warning (a run of bends), at the tightest.
@@ -500,11 +519,16 @@ def _rider_cautions(
             if motor
             else (speed_for_power(rider.cp, **vehicle.resistance.steady(), **air))
         )
-        notices.append(
-            Notice(
-                "over-cp", "caution", (("power", need), ("cp", rider.cp), ("speed", float(np.mean(at_cp))))
+        # the climb's average speed at CP: its length over its time (never above the
+        # speed the target asks, which CP does not reach)
+        length = terrain.step * np.sqrt(1.0 + air["grade"] ** 2)
+        with np.errstate(divide="ignore"):
+            seconds = float(np.sum(length / np.maximum(np.asarray(at_cp, dtype=float), 1e-3)))
+        speed = min(float(np.sum(length)) / seconds, rider.target_speed)
+        if speed < rider.target_speed:
+            notices.append(
+                Notice("over-cp", "caution", (("power", need), ("cp", rider.cp), ("speed", speed)))
             )
-        )
     if vehicle.propulsion == "arms" and climb.steepest_grade >= TRACTION_GRADE:
         notices.append(Notice("traction", "caution", (("grade", climb.steepest_grade),)))
     return notices
@@ -628,6 +652,9 @@ def _descent_row(
         max_speed=float(np.max(ride.speed[descent.start : descent.end + 1])),
         gravity_power=gravity,
         braking_energy=float(np.sum(ride.braking[segs] * ride.time[segs])),
+        rider_power=float(
+            np.sum(ride.rider_power[segs] * ride.time[segs]) / max(np.sum(ride.time[segs]), 1e-9)
+        ),
         curve_distance=float(terrain.distance[tight]),
         curve_speed=curve_speed,
         warnings=tuple(warnings),

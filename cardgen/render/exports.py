@@ -12,6 +12,7 @@ import math
 import numpy as np
 
 from cardgen.render import format as fmt
+from cardgen.render.advice import climb_advice, descent_advice, effort_line
 from cardgen.render.notices import notice_text
 from cardgen.units import J_PER_KCAL, KMH_PER_MS
 
@@ -58,6 +59,7 @@ def plan_dict(plan) -> dict:
             "climb_power_w": rider.climb_power_used,
             "target_speed_m_s": rider.target_speed,
         },
+        "pacing": _pacing(plan),
         "totals": {
             "time_s": _num(plan.totals.time, 1),
             "energy_j": _num(plan.totals.energy, 0),
@@ -85,6 +87,10 @@ def plan_dict(plan) -> dict:
                 "w_prime_used_j": _num(c.w_prime_used, 0),
                 "w_prime_min_j": _num(c.w_prime_low, 0),
                 "battery_left_j": _num(c.battery_left, 0),
+                "hold_w": _num(c.rider_power, 1),
+                "w_prime_top_j": _num(c.w_prime_top, 0),
+                "recovered_after_m": _num(c.recovered_after, 0),
+                "advice": climb_advice(c, plan),
                 "assist": c.assist_name,
                 "warnings": _notices(c.warnings),
             }
@@ -100,6 +106,8 @@ def plan_dict(plan) -> dict:
                 "coast_speed_m_s": _num(d.coast_speed, 3),
                 "max_speed_m_s": _num(d.max_speed, 3),
                 "gravity_power_w": _num(d.gravity_power, 0),
+                "rider_w": _num(d.rider_power, 1),
+                "advice": descent_advice(d, plan),
                 "warnings": _notices(d.warnings),
             }
             for d in plan.descents
@@ -114,6 +122,23 @@ def plan_dict(plan) -> dict:
             for t in plan.cues
         ],
         "warnings": _notices(plan.warnings),
+    }
+
+
+def _pacing(plan) -> dict | None:
+    """The day's effort and style of a plan (``plan.json``'s ``pacing``)."""
+    e = plan.effort
+    if e is None:
+        return None
+    return {
+        "style": e.style,
+        "mean_power_w": _num(e.mean_power, 1),
+        "asked_w": _num(e.asked, 1),
+        "ceiling_w": _num(e.ceiling, 1),
+        "given": e.given,
+        "assumed_duration_s": _num(e.duration, 0),
+        "battery_empty_at_m": _num(e.battery_empty_at, 0),
+        "text": effort_line(plan),
     }
 
 

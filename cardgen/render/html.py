@@ -32,6 +32,8 @@ DESCENT_CAUTION = (
 #: Beside the descents table of a card whose ride is longer than :data:`LONG_RIDE` [s].
 REST_CAUTION = "On a long ride, rest before the big descents: tired arms and hands brake and steer less well."
 LONG_RIDE = 3 * 3600.0
+#: The e-assist caution on cards (short: the range line follows it).
+CARD_ASSIST_CAUTION = "E-assist rules differ by place."
 #: Cautions printed on every page, plain and short (cards: :func:`cautions_for`).
 CAUTIONS = (
     "Every figure is a model estimate from average values, not a guarantee: wind, road surface, "
@@ -207,7 +209,7 @@ def cautions_for(plan: Plan) -> tuple[str, ...]:
         general = (*general, heat_caution(temperature - ZERO_CELSIUS_K))
     if plan.motor is None:
         return general
-    return (*general, f"E-assist rules differ by place. {assist_range(plan)}")
+    return (*general, f"{CARD_ASSIST_CAUTION} {assist_range(plan)}")
 
 
 def assist_range(plan: Plan) -> str:

@@ -22,7 +22,7 @@ from cardgen.plan import Plan, checkpoint_windows
 from cardgen.plan.event import group_spread
 from cardgen.plan.fuel import carb_rate, fluid_rate, legs
 from cardgen.plan.model import RouteJob
-from cardgen.render import exports, plots
+from cardgen.render import advice, exports, plots
 from cardgen.render import format as fmt
 from cardgen.render.day import day_rows, day_sheet_files
 from cardgen.render.html import (
@@ -380,6 +380,10 @@ def _render_route(config, site: dict, job: RouteJob, folder: Path) -> RoutePages
         units=units,
         version=__version__,
         symbols_for=symbols_for,
+        effort_line=functools.partial(advice.effort_line, units=units),
+        climb_advice=functools.partial(advice.climb_advice, units=units),
+        descent_advice=functools.partial(advice.descent_advice, units=units),
+        descents_advice=functools.partial(advice.descents_advice, units=units),
         hot_caution=hot_caution,
     )
     files["index.html"] = env.get_template("route.html").render(

@@ -1,0 +1,72 @@
+"""The pacing plan in words: the day's effort, where to spend it on each climb, and
+whether to pedal on each descent. The plan holds the numbers; the words and their
+rounding are made here (through :mod:`cardgen.render.format`)."""
+
+from __future__ import annotations
+
+from cardgen.render import format as fmt
+
+#: Names of the pacing styles on cards and pages.
+STYLE_NAMES = {
+    "best": "best use of the day's effort",
+    "steady": "steady, never above CP",
+}
+#: Shares of W′ left at a climb's top and how the card says them: below the first,
+#: "little left"; below the second, "about half left"; above it nothing is said.
+LITTLE_LEFT = 0.25
+SOME_LEFT = 0.6
+#: A descent where the plan's mean power is below this share of the day's mean is
+#: "ease off and let it roll"; otherwise "keep pedalling".
+EASE_SHARE = 0.35
+
+
+def effort_line(plan, units: str = "metric") -> str:
+    """The day's effort and style: "Pacing: steady, never above CP · 150 W on
+    average, 70 % of CP (the default for a ride of about 3:20) · reserve above CP
+    (W′) 15.0 kJ"."""
+    e = plan.effort
+    if e is None:
+        return ""
+    share = e.mean_power / plan.rider.cp
+    assumed = "your setting" if e.given else f"the default for a ride of about {fmt.duration(e.duration)}"
+    return (
+        f"Pacing: {STYLE_NAMES.get(e.style, e.style)} · {fmt.power(e.mean_power)} on average, "
+        f"{share * 100:.0f} % of CP ({assumed}) · reserve above CP (W′) {plan.rider.w_prime / 1000:.1f} kJ"
+    )
+
+
+def climb_advice(row, plan, units: str = "metric") -> str:
+    """Where to spend effort on a climb: "hold 265 W for 6 min; little left for the
+    next 2.0 km". The reserve is W′, the work a rider can do above CP."""
+    text = f"hold {fmt.power(row.rider_power)} for {fmt.minutes(row.time)}"
+    if row.w_prime_top is None or plan.rider.w_prime <= 0:
+        return text
+    left = row.w_prime_top / plan.rider.w_prime
+    if left < LITTLE_LEFT:
+        after = row.recovered_after
+        if after is not None and after > 0:
+            return f"{text}; little left for the next {fmt.distance(after, units)}"
+        return f"{text}; little reserve left at the top"
+    if left < SOME_LEFT:
+        return f"{text}; about half the reserve left at the top"
+    return text
+
+
+def descent_advice(row, plan, units: str = "metric") -> str:
+    """ "ease off and let it roll", or "keep pedalling, about 120 W"."""
+    mean = plan.effort.mean_power if plan.effort is not None else plan.rider.flat_power
+    if row.rider_power < EASE_SHARE * mean:
+        return "ease off and let it roll"
+    return f"keep pedalling, about {fmt.power(row.rider_power)}"
+
+
+def descents_advice(plan, units: str = "metric") -> list[str]:
+    """The descents' advice in as few lines as it takes: "Descents 1, 2: ease off and
+    let it roll"."""
+    groups: dict[str, list[str]] = {}
+    for row in plan.descents:
+        groups.setdefault(descent_advice(row, plan, units), []).append(str(row.number))
+    return [
+        f"{'Descent' if len(numbers) == 1 else 'Descents'} {', '.join(numbers)}: {text}"
+        for text, numbers in groups.items()
+    ]

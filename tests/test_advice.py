@@ -1,0 +1,57 @@
+"""The pacing plan in words, worked by hand from made-up plan rows."""
+
+from __future__ import annotations
+
+from types import SimpleNamespace
+
+from cardgen.plan.model import Effort
+from cardgen.render.advice import climb_advice, descent_advice, descents_advice, effort_line
+
+
+def _plan(**effort):
+    values = dict(style="best", mean_power=163.4, asked=163.6, ceiling=235.0, given=False, duration=3960.0)
+    values.update(effort)
+    rider = SimpleNamespace(cp=214.0, w_prime=15000.0, flat_power=150.0)
+    return SimpleNamespace(effort=Effort(**values), rider=rider)
+
+
+def _climb(power, time, top, after):
+    return SimpleNamespace(rider_power=power, time=time, w_prime_top=top, recovered_after=after)
+
+
+def test_the_effort_line_says_the_style_the_mean_and_what_was_assumed():
+    text = effort_line(_plan())
+    # 163.4 W rounds to 165 W (5 W steps); 163.4 / 214 = 76 %; 3,960 s is 1:06
+    assert "best use of the day's effort" in text and "165 W on average, 76 % of CP" in text
+    assert "the default for a ride of about 1:06" in text
+    assert "reserve above CP (W′) 15.0 kJ" in text
+    assert "your setting" in effort_line(_plan(given=True, duration=None, style="steady"))
+    assert "steady, never above CP" in effort_line(_plan(style="steady"))
+
+
+def test_climb_advice_says_the_power_the_time_and_the_reserve_left():
+    plan = _plan()
+    # 263 W → 265 W; 362 s → 6 min; 1,500 J of 15,000 is 10 %: little left, for 2.04 km → 2.0 km
+    assert climb_advice(_climb(263.0, 362.0, 1500.0, 2040.0), plan) == (
+        "hold 265 W for 6 min; little left for the next 2.0 km"
+    )
+    assert climb_advice(_climb(230.0, 600.0, 6000.0, 900.0), plan) == (
+        "hold 230 W for 10 min; about half the reserve left at the top"
+    )
+    assert climb_advice(_climb(201.0, 90.0, 14000.0, None), plan) == "hold 200 W for 2 min"
+    assert climb_advice(_climb(263.0, 362.0, 1500.0, 2040.0), plan, "imperial").endswith("1.3 mi")
+
+
+def test_descent_advice_is_to_ease_or_to_pedal():
+    plan = _plan()  # mean 163.4 W: ease below 35 % of it, 57.2 W
+    assert descent_advice(SimpleNamespace(rider_power=20.0), plan) == "ease off and let it roll"
+    assert descent_advice(SimpleNamespace(rider_power=118.0), plan) == "keep pedalling, about 120 W"
+
+
+def test_descents_with_the_same_advice_share_a_line():
+    plan = _plan()
+    plan.descents = [SimpleNamespace(number=n, rider_power=p) for n, p in ((1, 10.0), (2, 0.0), (3, 118.0))]
+    assert descents_advice(plan) == [
+        "Descents 1, 2: ease off and let it roll",
+        "Descent 3: keep pedalling, about 120 W",
+    ]
