@@ -5,7 +5,7 @@ from __future__ import annotations
 from types import SimpleNamespace
 
 from cardgen.plan.model import Effort
-from cardgen.render.advice import climb_advice, descent_advice, descents_advice, effort_line
+from cardgen.render.advice import climb_advice, climbs_advice, descent_advice, descents_advice, effort_line
 
 
 def _plan(**effort):
@@ -55,3 +55,12 @@ def test_descents_with_the_same_advice_share_a_line():
         "Descents 1, 2: ease off and let it roll",
         "Descent 3: keep pedalling, about 120 W",
     ]
+
+
+def test_condensed_climb_advice_groups_climbs_with_the_same_words():
+    plan = _plan()
+    same = _climb(263.0, 362.0, 9000.0, None)  # 60 % of W′ left: no reserve words
+    other = _climb(263.0, 722.0, 9000.0, None)  # 12 min
+    plan.climbs = [SimpleNamespace(number=n, **vars(c)) for n, c in ((1, same), (2, other), (3, same))]
+    # worked by hand: 263 W → 265 W; 362 s → 6 min, 722 s → 12 min
+    assert climbs_advice(plan) == ["Climbs 1, 3: hold 265 W for 6 min", "Climb 2: hold 265 W for 12 min"]

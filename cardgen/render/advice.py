@@ -70,3 +70,15 @@ def descents_advice(plan, units: str = "metric") -> list[str]:
         f"{'Descent' if len(numbers) == 1 else 'Descents'} {', '.join(numbers)}: {text}"
         for text, numbers in groups.items()
     ]
+
+
+def climbs_advice(plan, units: str = "metric") -> list[str]:
+    """The climbs' advice in as few lines as it takes, for a condensed card: "Climbs
+    1, 2, 5: hold 135 W for 24 min"."""
+    groups: dict[str, list[str]] = {}
+    for row in plan.climbs:
+        groups.setdefault(climb_advice(row, plan, units), []).append(str(row.number))
+    return [
+        f"{'Climb' if len(numbers) == 1 else 'Climbs'} {', '.join(numbers)}: {text}"
+        for text, numbers in groups.items()
+    ]

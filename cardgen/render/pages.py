@@ -79,7 +79,8 @@ class CardSource:
 #: dropping a cue: 1 a descent's notes become its symbols and one line; 2 the cue
 #: sheet runs in two columns without the GPX's descriptions; 3 the profile and the map
 #: are drawn smaller; 4 the cue sheet moves to a second sheet (two more pages) with its
-#: own header.
+#: own header, and the route map is left to the route's web page (with per-climb
+#: pacing lines, from step 2 grouped by advice, a long card had no room left for it).
 CONDENSE_STEPS = 4
 
 
@@ -384,6 +385,7 @@ def _render_route(config, site: dict, job: RouteJob, folder: Path) -> RoutePages
         climb_advice=functools.partial(advice.climb_advice, units=units),
         descent_advice=functools.partial(advice.descent_advice, units=units),
         descents_advice=functools.partial(advice.descents_advice, units=units),
+        climbs_advice=functools.partial(advice.climbs_advice, units=units),
         hot_caution=hot_caution,
     )
     files["index.html"] = env.get_template("route.html").render(
