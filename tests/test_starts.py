@@ -128,3 +128,31 @@ def test_every_rider_of_a_route_has_an_entry_even_without_any_start_time(tmp_pat
     starts = event_starts(config)
     assert sorted(starts.by_entry) == [(0, 0), (1, 1), (2, 2), (3, 0)]
     assert all(s.at is None and s.wave is None for s in starts.by_entry.values())
+
+
+def test_the_work_of_the_starts_grows_linearly_with_the_riders(tmp_path, monkeypatch, capsys):
+    """Bounded work (issue: 10,000 entrants and one wave never finished): count how
+    often a rider is matched against a route while `check` works out every start, for
+    N and 2N riders in one wave. The count, not the time, is the bound: it must double,
+    not quadruple, when the riders double. (Timings are in bench/bench_starts.py.)"""
+    from cardgen.settings import RiderConfig
+
+    calls = [0]
+    rides = RiderConfig.rides
+
+    def counted(self, route, name):
+        calls[0] += 1
+        return rides(self, route, name)
+
+    monkeypatch.setattr(RiderConfig, "rides", counted)
+    counts = []
+    for n in (150, 300):
+        folder = tmp_path / str(n)
+        folder.mkdir()
+        config = _site(folder, ONE_LINE, _riders(n))
+        calls[0] = 0
+        assert main(["check", str(config.source)]) == 0
+        counts.append(calls[0])
+    capsys.readouterr()
+    # linear: twice the riders, at most twice the matches (and a little for fixed work)
+    assert 0 < counts[1] <= 2.1 * counts[0], counts
