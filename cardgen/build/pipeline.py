@@ -181,12 +181,15 @@ def _render_pdfs(cards) -> tuple[list[str], int]:
     fits its page budget (the last one otherwise), by one fitter that learns from the
     cards before (:class:`cardgen.render.pdf.Fitter`). Returns the files and the
     layouts made."""
+    from cardgen.render.pages import CONTINUATION_STEP
     from cardgen.render.pdf import Fitter, pdf_bytes
 
     fitter = Fitter()
     for card in cards:
         if card.variants:
-            data, _, _ = fitter.fit(card.variants, Path(card.base), card.budget, card.group)
+            data, _, _ = fitter.fit(
+                card.variants, Path(card.base), card.budget, card.group, continued_from=CONTINUATION_STEP
+            )
         else:
             data, _ = pdf_bytes(card.html, Path(card.base))
         Path(card.target).write_bytes(data)

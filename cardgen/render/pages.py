@@ -79,9 +79,11 @@ class CardSource:
 #: dropping a cue: 1 a descent's notes become its symbols and one line; 2 the cue
 #: sheet runs in two columns without the GPX's descriptions; 3 the profile and the map
 #: are drawn smaller; 4 the cue sheet moves to a second sheet (two more pages) with its
-#: own header, and the route map is left to the route's web page (with per-climb
-#: pacing lines, from step 2 grouped by advice, a long card had no room left for it).
-CONDENSE_STEPS = 4
+#: own header; 5 the same, with the route map left to the route's web page (a long
+#: card with its pacing lines may have no room left for it).
+CONDENSE_STEPS = 5
+#: The first step with a continuation sheet (it may take twice the page budget).
+CONTINUATION_STEP = 4
 
 
 def built_stamp(source_date_epoch: str | None) -> str:
@@ -434,7 +436,12 @@ def _render_route(config, site: dict, job: RouteJob, folder: Path) -> RoutePages
             warnings_brief=functools.partial(warnings_brief, units=units, skip={"battery", "stall"}),
         )
         variants = tuple(
-            card_template.render(**context, condense=min(level, 3), continuation=level >= 4)
+            card_template.render(
+                **context,
+                condense=min(level, 3),
+                continuation=level >= CONTINUATION_STEP,
+                map_on_card=level <= CONTINUATION_STEP,
+            )
             for level in range(CONDENSE_STEPS + 1)
         )
         assets = (

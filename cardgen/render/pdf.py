@@ -100,15 +100,20 @@ class Fitter:
         seen = self.overflowed.setdefault(group, {})
         seen[index] = min(seen.get(index, len(html)), len(html))
 
-    def fit(self, variants, base: Path, budget: int, group=None) -> tuple[bytes, int, int]:
+    def fit(
+        self, variants, base: Path, budget: int, group=None, continued_from: int | None = None
+    ) -> tuple[bytes, int, int]:
         """The PDF of the least condensed variant of a card whose layout is within
-        ``budget`` pages (the last when none is). Returns (PDF, variant index, pages)."""
+        ``budget`` pages (the last when none is). Variants from ``continued_from`` on
+        (default: the last alone) carry a continuation sheet: they may take twice the
+        budget and end on a whole sheet. Returns (PDF, variant index, pages)."""
         from weasyprint import HTML
 
         logging.getLogger("weasyprint").setLevel(logging.ERROR)
         fetcher = build_only_fetcher(base)
         url = base.resolve().as_uri() + "/"
         last = len(variants) - 1
+        continued = last if continued_from is None else continued_from
         for index, html in enumerate(variants):
             if index < last and self._skip(group, index, html):
                 continue
@@ -118,14 +123,14 @@ class Fitter:
                 )
             self.layouts += 1
             pages = len(document.pages)
-            if pages <= budget or index == last:
+            if pages <= (2 * budget if index >= continued else budget) or index == last:
                 break
             self._learn(group, index, html)
         with _quiet_collector():
             data = document.write_pdf(
                 pdf_identifier=b"cardgen", uncompressed_pdf=False, pdf_tags=True, cache=self.cache
             )
-        if index == last and pages % 2:  # the continuation is a whole sheet: end on a back page
+        if index >= continued and pages % 2:  # the continuation is a whole sheet: end on a back page
             data = _add_blank_page(data)
             pages += 1
         return data, index, pages
@@ -144,12 +149,6 @@ def _quiet_collector() -> Iterator[None]:
         if was:
             gc.enable()
             gc.collect(1)
-
-
-def fitting_pdf(variants, base: Path, budget: int) -> tuple[bytes, int, int]:
-    """One card fitted by a fitter of its own (see :class:`Fitter`): the least
-    condensed variant within ``budget`` pages. Returns (PDF, variant index, pages)."""
-    return Fitter().fit(variants, base, budget)
 
 
 def _add_blank_page(data: bytes) -> bytes:
