@@ -30,7 +30,8 @@ lint: $(VENV)/installed
 
 # Everything, as CI runs it, with the coverage figure of the installed package.
 test: system $(VENV)/installed lint
-	$(BIN)/pytest -q --cov --cov-report=term
+	$(BIN)/pytest -q --cov --cov-report=term -m "not untraced"
+	$(BIN)/pytest -q -p no:cacheprovider -m untraced
 
 # Lint and the tests not marked slow, against the source tree (no re-install).
 check:

@@ -41,6 +41,7 @@ def test_errors_are_one_line_naming_the_template(tmp_path, body, words):
     assert "page.html" in text and words in text and "\n" not in text
 
 
+@pytest.mark.untraced  # the deadline does not stop a loop under coverage's tracer
 def test_a_render_past_its_time_is_stopped_and_leaves_nothing_behind(tmp_path, monkeypatch):
     monkeypatch.setattr(sandbox, "RENDER_SECONDS", 0.3)
     started = time.monotonic()
@@ -51,6 +52,7 @@ def test_a_render_past_its_time_is_stopped_and_leaves_nothing_behind(tmp_path, m
     assert _render(tmp_path, "{{ 1 }}") == "1"
 
 
+@pytest.mark.untraced  # the deadline does not stop a loop under coverage's tracer
 def test_a_render_in_another_thread_is_stopped_too(tmp_path, monkeypatch):
     """serve --watch rebuilds in a thread of its own."""
     monkeypatch.setattr(sandbox, "RENDER_SECONDS", 0.3)
