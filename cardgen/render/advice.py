@@ -4,6 +4,8 @@ rounding are made here (through :mod:`cardgen.render.format`)."""
 
 from __future__ import annotations
 
+import math
+
 from cardgen.render import format as fmt
 
 #: Names of the pacing styles on cards and pages.
@@ -38,6 +40,8 @@ def effort_line(plan, units: str = "metric") -> str:
 def climb_advice(row, plan, units: str = "metric") -> str:
     """Where to spend effort on a climb: "hold 265 W for 6 min; little left for the
     next 2.0 km". The reserve is W′, the work a rider can do above CP."""
+    if row.time is None or not math.isfinite(row.time):  # the rider stalls on it
+        return "not ridable at this effort (see the notes)"
     text = f"hold {fmt.power(row.rider_power)} for {fmt.minutes(row.time)}"
     if row.w_prime_top is None or plan.rider.w_prime <= 0:
         return text

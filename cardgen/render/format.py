@@ -122,6 +122,7 @@ def duration(seconds) -> str:
     return f"{minutes // 60}:{minutes % 60:02d}"
 
 
+@_dash_if_missing
 def minutes(seconds) -> str:
     """ "10 min", to the minute (planned stops)."""
     return f"{int(_nearest(seconds / 60, 1))} min"
