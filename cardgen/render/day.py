@@ -10,7 +10,7 @@ from pathlib import Path
 
 from cardgen.plan.day import STOCK_MARGIN, SWEEP_DELAY, SWEEP_SPEED, day_points, fluid_band
 from cardgen.render import format as fmt
-from cardgen.units import KMH_PER_MS, ZERO_CELSIUS_K
+from cardgen.units import ZERO_CELSIUS_K
 
 #: The CSV's columns, in order.
 COLUMNS = (
@@ -82,14 +82,14 @@ def _cell(value):
     return value
 
 
-def assumptions(temperature_c: float | None) -> dict:
+def assumptions(temperature_c: float | None, units: str = "metric") -> dict:
     """What the sheet states beside its numbers."""
     low, high = fluid_band(temperature_c)
     return {
         "margin_pct": round(STOCK_MARGIN * 100),
         "fluid_band": f"{low:.1f}–{high:.1f} L an hour",
         "temperature": "not given (the middle band)" if temperature_c is None else f"{temperature_c:.0f} °C",
-        "sweep": f"a ridden sweep at {SWEEP_SPEED * KMH_PER_MS:.0f} km/h average, leaving {SWEEP_DELAY / 60:.0f} min "
+        "sweep": f"a ridden sweep at {fmt.speed(SWEEP_SPEED, units)} average, leaving {SWEEP_DELAY / 60:.0f} min "
         "after the last start and never passing the last rider",
     }
 
@@ -106,7 +106,7 @@ def day_sheet_files(env, config, rows: list[dict], folder: Path, pdf: bool) -> d
     celsius = None if temperature is None else temperature - ZERO_CELSIUS_K
     peak = max((n for r in rows for _, n in r["per_15_min"]), default=1) or 1
     html = env.get_template("day-sheet.html").render(
-        title=config.title, rows=rows, peak=peak, said=assumptions(celsius)
+        title=config.title, rows=rows, peak=peak, said=assumptions(celsius, config.units), units=config.units
     )
     files["day-sheet.pdf"], _ = pdf_bytes(html, folder)
     return files
