@@ -572,7 +572,9 @@ def test_too_weak_rider(tmp_path, capsys):
     assert _run("route", str(SAMPLES / "hill-loop.gpx"), *weak) == 0
     assert "cannot complete the route" in capsys.readouterr().out
     # 1 W alone implies a CP below the limits: one clear line, exit 1
-    _one_line_error(capsys, _run("route", str(SAMPLES / "hill-loop.gpx"), "--power", "1"), "critical power")
+    _one_line_error(
+        capsys, _run("route", str(SAMPLES / "hill-loop.gpx"), "--power", "1"), "critical power", "--cp"
+    )
     riders = '[[riders]]\nname = "Weak"\nvehicle = "road-hoods"\ncp_w = 10\nflat_w = 1\n'
     src = _src(tmp_path, riders=riders, event='date = "2027-04-18"\nstart = "08:00"\n')
     shutil.copy(SAMPLES / "hill-loop.gpx", src / "riverside-loop.gpx")

@@ -40,6 +40,8 @@ def _route_plan(args):
         given.update(flat_power=args.power, climb_power=args.power)
     if args.cp is not None:
         given["cp"] = args.cp
+    elif args.power is not None:
+        _implied_cp(args.power)
     if args.w_prime is not None:
         given["w_prime"] = args.w_prime
     if args.pacing is not None:
@@ -189,3 +191,19 @@ def add_parser(sub: argparse._SubParsersAction) -> None:
     )
     route.add_argument("--json", action="store_true", help="print one JSON object")
     route.set_defaults(run=cmd_route)
+
+
+def _implied_cp(power: float) -> None:
+    """Refuse a ``--power`` whose implied critical power (the power as an all-day
+    share of CP) is outside the CP's range, naming the option and the way out."""
+    from cardgen.profiles.limits import LIMITS
+    from cardgen.profiles.riders import ALL_DAY_SHARE_OF_CP
+
+    implied = power / ALL_DAY_SHARE_OF_CP
+    problem = LIMITS["cp_w"].problem(implied)
+    if problem:
+        raise CardgenError(
+            f"--power {power:g} W alone implies a critical power of {implied:.1f} W "
+            f"({ALL_DAY_SHARE_OF_CP:.0%} of CP held all day), which {problem.split(' W ', 1)[-1]}; "
+            "give the rider's --cp as well"
+        )
