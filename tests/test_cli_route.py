@@ -122,6 +122,8 @@ def test_human_table(cli):
     code, out, err = cli("route", str(SAMPLES / "hill-loop.gpx"))
     assert code == 0, err
     assert "FIETS" in out and "Moving time" in out and "not guarantees" in out
+    # the total is energy spent, as on the card, not what to eat
+    assert "energy spent riding about" in out and "food about" not in out
 
 
 @pytest.mark.parametrize(

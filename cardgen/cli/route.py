@@ -114,7 +114,7 @@ def cmd_route(args) -> int:
     battery = "" if t["battery_wh"] is None else f", battery about {_n(t['battery_wh'], '.0f')} Wh"
     _print(
         f"Moving time {duration(t['time_s'])}, work {_n(t['energy_kj'], '.0f')} kJ, "
-        f"food about {_n(t['food_kcal'], '.0f')} kcal{battery}"
+        f"energy spent riding about {_n(t['food_kcal'], '.0f')} kcal{battery}"
     )
     turns = sum(1 for c in plan.cues if c.cue.kind == "turn")
     _print(f"{len(plan.cues)} cues ({turns} turns)")
