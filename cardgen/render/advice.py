@@ -64,25 +64,25 @@ def descent_advice(row, plan, units: str = "metric") -> str:
     return f"keep pedalling, about {fmt.power(row.rider_power)}"
 
 
-def descents_advice(plan, units: str = "metric") -> list[str]:
-    """The descents' advice in as few lines as it takes: "Descents 1, 2: ease off and
-    let it roll"."""
+def _grouped(rows, advise, word: str) -> list[str]:
+    """Rows' advice in as few lines as it takes: rows with the same words share a line
+    ("Descents 1, 2: ease off and let it roll")."""
     groups: dict[str, list[str]] = {}
-    for row in plan.descents:
-        groups.setdefault(descent_advice(row, plan, units), []).append(str(row.number))
+    for row in rows:
+        groups.setdefault(advise(row), []).append(str(row.number))
     return [
-        f"{'Descent' if len(numbers) == 1 else 'Descents'} {', '.join(numbers)}: {text}"
+        f"{word if len(numbers) == 1 else word + 's'} {', '.join(numbers)}: {text}"
         for text, numbers in groups.items()
     ]
+
+
+def descents_advice(plan, units: str = "metric") -> list[str]:
+    """The descents' advice, one line per wording: "Descents 1, 2: ease off and let it
+    roll"."""
+    return _grouped(plan.descents, lambda row: descent_advice(row, plan, units), "Descent")
 
 
 def climbs_advice(plan, units: str = "metric") -> list[str]:
-    """The climbs' advice in as few lines as it takes, for a condensed card: "Climbs
-    1, 2, 5: hold 135 W for 24 min"."""
-    groups: dict[str, list[str]] = {}
-    for row in plan.climbs:
-        groups.setdefault(climb_advice(row, plan, units), []).append(str(row.number))
-    return [
-        f"{'Climb' if len(numbers) == 1 else 'Climbs'} {', '.join(numbers)}: {text}"
-        for text, numbers in groups.items()
-    ]
+    """The climbs' advice, one line per wording, for a condensed card: "Climbs 1, 2,
+    5: hold 135 W for 24 min"."""
+    return _grouped(plan.climbs, lambda row: climb_advice(row, plan, units), "Climb")
