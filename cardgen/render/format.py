@@ -149,8 +149,7 @@ def litres_range(pair) -> str:
 
 def hhmm(when: datetime) -> str:
     """A moment as "09:42", rounded to the nearest minute like :func:`moment`."""
-    whole = when.replace(second=0, microsecond=0)
-    return moment(whole, when.second + when.microsecond / 1e6).strftime("%H:%M")
+    return start_clock(when)
 
 
 def clock(start: datetime | None, seconds) -> str:
