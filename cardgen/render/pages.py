@@ -484,6 +484,10 @@ def _render_route(config, site: dict, job: RouteJob, folder: Path) -> RoutePages
 WATCH_MAX = 5
 
 
+#: Walking stretches named in the "Watch for" box: the longest, the rest counted.
+WALK_PLACES = 3
+
+
 def watch_list(plan: Plan, units: str) -> list[dict]:
     """The card's "Watch for" box: each kind of hazard once, most severe first, at most
     :data:`WATCH_MAX` items (everything is also in the tables): where the speed falls
@@ -503,10 +507,16 @@ def watch_list(plan: Plan, units: str) -> list[dict]:
                 break
     walks = [w for w in _all_warnings(plan) if w.code == "walk"]
     if walks:
-        where = ", ".join(
-            f"{fmt.length(w.value('length'), units)} from {fmt.distance(w.at, units)}"
-            for w in sorted(walks, key=lambda w: w.at or 0.0)
+        # the longest few, in route order; a weak rider on a hilly route may have hundreds
+        shown = sorted(
+            sorted(walks, key=lambda w: -w.value("length"))[:WALK_PLACES], key=lambda w: w.at or 0.0
         )
+        where = ", ".join(
+            f"{fmt.length(w.value('length'), units)} from {fmt.distance(w.at, units)}" for w in shown
+        )
+        if len(walks) > len(shown):
+            total = sum(w.value("length") for w in walks)
+            where = f"{where} ({len(walks)} stretches, {fmt.distance(total, units)} in all, in the tables)"
         items.append({"symbol": symbol_of("walk"), "text": f"walking may be needed: {where}"})
     said = {"w-prime": "W′ runs out at the planned effort"}
     for code, words in said.items():
