@@ -24,3 +24,19 @@ def test_walking_names_the_longest_stretches_and_counts_the_rest():
         "walking may be needed: 900 m from 5.0 km, 700 m from 20.0 km, 800 m from 30.0 km "
         "(43 stretches, 4.4 km in all, in the tables)"
     )
+
+
+def test_condensed_notes_put_many_walking_stretches_in_one_line():
+    from cardgen.render.pages import warnings_brief
+
+    walks = [_walk(1000.0 * k, 50.0) for k in range(10)] + [_walk(20000.0, 300.0)]
+    lines = warnings_brief(walks, "metric")
+    # worked by hand: 11 stretches, 10 × 50 m + 300 m = 800 m = 0.8 km; 1.4 m/s = 5.04 km/h → 5.0
+    assert lines == [
+        "11 stretches below 5.0 km/h away from the climbs, 0.8 km in all, the longest 300 m from 20.0 km: "
+        "hard to balance on two wheels; walking may be needed"
+    ]
+    # one stretch keeps its own words
+    assert warnings_brief(walks[:1], "metric") == [
+        "below 5.0 km/h for about 50 m: hard to balance on two wheels; walking may be needed"
+    ]

@@ -617,9 +617,20 @@ def short_name(name: str) -> str:
 def warnings_brief(warnings, units: str, skip=frozenset()) -> list[str]:
     """The route-wide notices in few lines (the first condensing step): every curve
     away from the descents in one line (where, and the slowest speed); the others as
-    they are. Codes in ``skip`` are said elsewhere (the "Watch for" box)."""
+    they are, but walking stretches, more than one, in one line too. Codes in ``skip``
+    are said elsewhere (the "Watch for" box)."""
     curves = [w for w in warnings if w.code == "curve"]
-    lines = [notice_text(w, units) for w in warnings if w.code != "curve" and w.code not in skip]
+    walks = [w for w in warnings if w.code == "walk"] if "walk" not in skip else []
+    grouped = {"curve", "walk"} if len(walks) > 1 else {"curve"}
+    lines = [notice_text(w, units) for w in warnings if w.code not in grouped and w.code not in skip]
+    if len(walks) > 1:
+        longest = max(walks, key=lambda w: w.value("length"))
+        lines.append(
+            f"{len(walks)} stretches below {fmt.speed(longest.value('speed'), units)} away from the climbs, "
+            f"{fmt.distance(sum(w.value('length') for w in walks), units)} in all, the longest "
+            f"{fmt.length(longest.value('length'), units)} from {fmt.distance(longest.at, units)}: "
+            "hard to balance on two wheels; walking may be needed"
+        )
     if curves:
         places, slowest = _curve_places(curves, units)
         lines.append(
