@@ -115,4 +115,6 @@ def test_the_card_calls_the_energy_spent_and_the_cover_names_the_flip_edge():
     card = (Path(__file__).resolve().parents[1] / "templates" / "card.html").read_text()
     cover = (Path(__file__).resolve().parents[1] / "templates" / "cover.html").read_text()
     assert "energy spent riding about" in card and "food about" not in card
+    # the food table's kcal column is energy spent too, not what to eat
+    assert ">Energy spent</th>" in card and ">Food</th>" not in card
     assert "flip on short edge" in cover
