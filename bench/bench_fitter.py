@@ -84,7 +84,7 @@ def main() -> None:
     assert error is None, error
     html = folder / "html"
     html.mkdir()
-    _, cards = render_route(config, site_context(config), job, html)
+    _, cards = render_route(config, site_context(config, event_starts(config)), job, html)
     cards = [c for c in cards if c.variants]
     results = {}
     for name in ("old", "new"):
