@@ -50,10 +50,10 @@ def route_job(
     )
     job = RouteJob(slug, name, notes, planned.analysis, checkpoints, riders)
     plans = [e.plan for e in riders]
-    starts = [e.start for e in riders]
+    starts = [e.start for e in riders if e.start is not None]
     windows: tuple = ()
     day: tuple = ()
-    if plans and all(s is not None for s in starts):  # windows from each rider's own start
+    if plans and len(starts) == len(plans):  # windows from each rider's own start
         rows, _ = checkpoint_windows(plans, checkpoints, starts, margin, speed_rule)
         windows = tuple(rows)
         if windows:
