@@ -184,7 +184,9 @@ def _chart_sizes(page: Path, width: int, profile: Path) -> list[tuple[int, ...]]
         "out.push([Math.round(i.getBoundingClientRect().width),i.naturalWidth,"
         'i.parentNode.clientWidth].join(":"));});return out.join(",");'
     )
-    return [tuple(int(x) for x in item.split(":")) for item in _in_frame(page, width, profile, script).split(",")]
+    return [
+        tuple(int(x) for x in item.split(":")) for item in _in_frame(page, width, profile, script).split(",")
+    ]
 
 
 @pytest.mark.skipif(_chromium() is None, reason="Chromium is not installed (Debian package 'chromium')")

@@ -379,7 +379,9 @@ def route_map(
         )
     sx, sy = at(0.0)
     fx, fy = at(length)
-    ax.plot([sx], [sy], marker="o", markersize=11 * k, color=INK, markerfacecolor="white", markeredgewidth=1.6)
+    ax.plot(
+        [sx], [sy], marker="o", markersize=11 * k, color=INK, markerfacecolor="white", markeredgewidth=1.6
+    )
     ax.plot([fx], [fy], marker="s", markersize=5 * k, color=INK)
     for number, climb in enumerate(climbs, 1):
         cx, cy = at(climb.start_distance)
@@ -395,7 +397,9 @@ def route_map(
         )
     for number, (_, where) in enumerate(checkpoints, 1):
         cx, cy = at(where)
-        ax.plot([cx], [cy], marker="^", markersize=7 * k, color=INK, markerfacecolor="white", markeredgewidth=1.2)
+        ax.plot(
+            [cx], [cy], marker="^", markersize=7 * k, color=INK, markerfacecolor="white", markeredgewidth=1.2
+        )
         ax.annotate(
             f"Chk{number}",
             (cx, cy),
