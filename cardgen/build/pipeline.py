@@ -127,6 +127,8 @@ def _plan_route(task):
             checkpoints=rc.checkpoints,
             stops=rc.stops,
             stop=rc.stop,
+            feeds=rc.feeds,
+            marshals=rc.marshals,
             where=str(rc.gpx),
             light=True,
         )
@@ -135,7 +137,9 @@ def _plan_route(task):
             for (i, r), plan in zip(riding, planned.plans, strict=True)
         )
         analysis, checkpoints = planned.analysis, planned.checkpoints
-        job = RouteJob(route.slug, rc.name or track.name, rc.notes, analysis, tuple(checkpoints), riders)
+        job = RouteJob(
+            route.slug, rc.name or track.name, rc.notes, analysis, tuple(checkpoints), riders, planned.points
+        )
         return job, None
     except CardgenError as exc:
         return None, (f"{rc.gpx}: {exc}" if str(rc.gpx) not in str(exc) else str(exc))

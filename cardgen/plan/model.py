@@ -189,6 +189,7 @@ class RouteJob:
     analysis: Analysis
     checkpoints: tuple  # Checkpoint, by distance
     riders: tuple  # Entry, in the configuration's order
+    points: tuple = ()  # feed and marshal points (Checkpoint of kind "feed", "marshal"), by distance
 
 
 @dataclass(frozen=True)

@@ -168,10 +168,12 @@ def plan_json_text(
     dated: bool = False,
     to_second: bool = False,
     temperature_c: float | None = None,
+    points=(),
 ) -> str:
     """All riders' plans of one route as JSON text (stable key order), with each
-    rider's start, bib and wave, their arrival at each checkpoint and the finish, and
-    the checkpoints' windows (docs/contracts.md). Times are local "HH:MM", or ISO 8601
+    rider's start, bib and wave, their arrival at each checkpoint, feed and marshal
+    point (``points``) and the finish, and the checkpoints' windows
+    (docs/contracts.md). Times are local "HH:MM", or ISO 8601
     date-times when the event has a date; to the second ("HH:MM:SS") when the
     event's starts are seconds apart (``to_second``)."""
 
@@ -204,6 +206,9 @@ def plan_json_text(
             }
             for w in windows
         ]
+        data["points"] = [
+            {"name": c.name, "kind": c.kind, "arrival": arrival(plan, start, c.distance)} for c in points
+        ]
         data["finish"] = arrival(plan, start, plan.terrain.length)
         data["legs"] = _legs(plan, windows, temperature_c)
         dicts.append(data)
@@ -218,6 +223,7 @@ def plan_json_text(
             }
             for w in windows
         ],
+        "points": [{"name": c.name, "kind": c.kind, "distance_m": _num(c.distance, 1)} for c in points],
         "plans": dicts,
     }
     return json.dumps(top, indent=1, ensure_ascii=False, sort_keys=True) + "\n"

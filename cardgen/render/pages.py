@@ -273,6 +273,7 @@ def _exports(
         dated=config.day is not None,
         to_second=to_second,
         temperature_c=celsius,
+        points=job.points,
     )
     files["climbs.csv"] = exports.climbs_csv_text(plans)
     files["route.gpx"] = exports.route_gpx_text(
@@ -476,7 +477,17 @@ def _render_route(config, site: dict, job: RouteJob, folder: Path) -> RoutePages
         cards.append(CardSource(html, str(folder), str(folder / "coach.pdf")))
     summary = route_summary(job, views, units, site.get("to_second", False))
     starts = [e.start for e in job.riders]
-    summary["day"] = day_rows(job.name, plans, starts, windows, celsius, site.get("to_second", False))
+    summary["day"] = day_rows(
+        job.name,
+        plans,
+        starts,
+        windows,
+        celsius,
+        site.get("to_second", False),
+        job.points,
+        config.checkpoint_margin,
+        config.speed_rule,
+    )
     return RoutePages(files, summary, cards)
 
 
