@@ -68,7 +68,7 @@ def card_costs(config_path: Path, work: Path):
     assert error is None, error
     work.mkdir(parents=True, exist_ok=True)
     t0 = time.process_time()
-    pages = render_route(config, site_context(config), job, work)
+    pages = render_route(config, site_context(config, event_starts(config)), job, work)
     write_files(work, pages.files)
     t_html = time.process_time() - t0
     cards = [c for c in pages.cards if c.variants]

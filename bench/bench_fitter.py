@@ -93,7 +93,7 @@ def main() -> None:
     assert error is None, error
     html = folder / "html"
     html.mkdir()
-    pages = render_route(config, site_context(config), job, html)
+    pages = render_route(config, site_context(config, event_starts(config)), job, html)
     write_files(html, pages.files)
     cards = [c for c in pages.cards if c.variants]
     results = {}

@@ -8,7 +8,7 @@ import csv
 import io
 from pathlib import Path
 
-from cardgen.plan.day import STOCK_MARGIN, SWEEP_DELAY, SWEEP_SPEED, day_points, fluid_band, supplies_food
+from cardgen.plan.day import STOCK_MARGIN, SWEEP_DELAY, SWEEP_SPEED, fluid_band, supplies_food
 from cardgen.render import format as fmt
 from cardgen.units import ZERO_CELSIUS_K
 
@@ -36,21 +36,17 @@ COLUMNS = (
 KIND_WORDS = {"checkpoint": "checkpoint", "feed": "feed point", "marshal": "marshal point"}
 
 
-def day_rows(
-    route: str, plans, starts, windows, temperature_c, to_second: bool, points=(), margin=0.0, speeds=None
-) -> list[dict]:
-    """One route's rows of the day sheet, as text and numbers (they travel in the
-    build's manifest, so that a route reused from the last build keeps its rows):
-    its checkpoints (``windows``) and its feed and marshal ``points``, whose windows
-    follow the checkpoints' rule (``margin`` [s], ``speeds``)."""
-    if not plans or not (windows or points) or any(s is None for s in starts):
-        return []
+def day_rows(route: str, points, to_second: bool) -> list[dict]:
+    """One route's rows of the day sheet (``points``: the days of its checkpoints,
+    feed and marshal points, from :func:`cardgen.plan.day.day_points`), as text and
+    numbers (they travel in the build's manifest, so that a route reused from the
+    last build keeps its rows)."""
 
     def clock(moment) -> str:
         return fmt.start_clock(moment, to_second) if moment is not None else ""
 
     rows = []
-    for p in day_points(plans, starts, windows, temperature_c, points, margin, speeds):
+    for p in points:
         rows.append(
             {
                 "route": route,
