@@ -37,7 +37,7 @@ from cardgen.plan.model import (
     arrival_time,
 )
 from cardgen.plan.pacing import W_PRIME_SLACK, Course, ceiling, day_effort, pace, ridden_mean
-from cardgen.plan.walking import stretches, walking_mask
+from cardgen.plan.walking import stretches, walking_mask, widened
 from cardgen.profiles.riders import Rider
 from cardgen.route.climbs import Climb, Descent, find_climbs, find_descents
 from cardgen.route.cues import cue_sheet
@@ -220,7 +220,7 @@ def make_plan(
     walked = walking_mask(terrain.step, ride.time, ride.rider_power, ride.limited, vehicle.min_stable_speed)
     on_climb = np.zeros(terrain.grade.size, dtype=bool)  # with the walks that run into each climb
     for climb in route.climbs:
-        on_climb[slice(*_walk_reach(climb, terrain))] = True
+        on_climb[slice(*widened(walked, *_walk_reach(climb, terrain)))] = True
 
     climbs = tuple(
         _climb_row(i + 1, c, terrain, rider, motor, levels.get(c.start), ride, wbal, wind, rho, walked)
@@ -312,7 +312,8 @@ WALK_REACH = 100.0
 
 def _walk_reach(climb: Climb, terrain: Terrain) -> tuple[int, int]:
     """Segments whose walking counts as the climb's: the climb and
-    :data:`WALK_REACH` either side."""
+    :data:`WALK_REACH` either side (and, by :func:`widened`, the whole of a walked
+    stretch that runs into them)."""
     k = int(round(WALK_REACH / terrain.step))
     return max(0, climb.start - k), min(terrain.grade.size, climb.end + k)
 
@@ -373,7 +374,7 @@ def _climb_row(
     need = rider_power_for_speed(motor, ratio, rider.target_speed, resistance=vehicle.resistance, **air)
     time = float(np.sum(ride.time[segs]))
     speeds = ride.mean_speed[segs]
-    reach = slice(*_walk_reach(climb, terrain))
+    reach = slice(*widened(walked, *_walk_reach(climb, terrain)))
     slow = float(np.sum(walked[reach]) * terrain.step)
     finite = np.isfinite(ride.time[segs])  # a stalled rider never completes some segments
     ridden = float(np.sum(ride.time[segs][finite]))
