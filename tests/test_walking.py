@@ -126,3 +126,4 @@ def test_the_pitched_climb_is_one_walk_for_a_weak_tandem(cli, tmp_path):
     # printed length rounds to 10 m
     assert abs(start - FIRST_FOOT) <= 60
     assert abs(start + length - LAST_TOP) <= 100
+    assert "walk" in climb["rider_difficulty"]

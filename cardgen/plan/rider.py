@@ -25,6 +25,7 @@ from cardgen.physics.effort import sustainable_climb_power, w_prime_balance
 from cardgen.physics.forces import gravity_power, headwind
 from cardgen.physics.ride import Ride
 from cardgen.physics.steady import power_for_speed, speed_for_power
+from cardgen.plan.difficulty import CRAWL_LENGTH, CRAWL_SPEED, climb_words
 from cardgen.plan.model import (
     Analysis,
     ClimbRow,
@@ -69,11 +70,9 @@ def braking(grade: np.ndarray) -> np.ndarray:
 #: Battery share kept in reserve when judging whether a route fits: common practice,
 #: no published source.
 BATTERY_RESERVE = 0.20
-#: A three-wheeler slower than this [m/s] for CRAWL_LENGTH [m], or on one climb for
-#: CRAWL_TIME [s], gets a "crawl" caution: common practice, no published source (on
-#: trails hand cyclists' 15th-percentile speed was 8 km/h, FHWA-HRT-04-103, 2004 [V]).
-CRAWL_SPEED = 4.0 / KMH_PER_MS
-CRAWL_LENGTH = 200.0
+#: A three-wheeler slower than CRAWL_SPEED for CRAWL_LENGTH (the figures of the climbs'
+#: "crawl" word, :mod:`cardgen.plan.difficulty`), or on one climb for CRAWL_TIME [s],
+#: gets a "crawl" caution: common practice, no published source.
 CRAWL_TIME = 30 * 60.0
 #: A driven front wheel (arm-powered handcycles) may slip from this grade [-]: from
 #: memory, no published source checked.
@@ -442,6 +441,9 @@ def _climb_row(
         assist_level=level,
         assist_name=None if motor is None else motor.level_name(level or 0),
         warnings=tuple(warnings),
+        rider_difficulty=climb_words(
+            climb.band, cp=rider.cp, rider_power=rider_power, walked=slow, speed=speeds, step=terrain.step
+        ),
         power_curve=(CURVE_SPEEDS, np.asarray(curve)),
         power_at_effort=float(needed(speed_at_effort)),
         time_above_cp=float(np.sum(ride.time[segs][finite & (ride.rider_power[segs] > rider.cp)])),
