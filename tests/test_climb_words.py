@@ -183,3 +183,18 @@ def test_the_tandem_reads_one_walk_on_the_pitched_climb(outing):
     coach = _text(outing / "pitched" / "coach.pdf")
     assert "by its band; for these riders: walk (Tandem pair)" in coach
 
+
+@pytest.mark.slow
+@needs_poppler
+def test_the_card_says_what_the_carbohydrate_band_follows(outing):
+    """The band is chosen by the whole time out (stops included) and applied per hour of
+    riding: the card says so beside the figures. Thomas, Erdman & Burke (2016), Med Sci
+    Sports Exerc 48(3):543–568, Table 4 [V via plan/fuel.py's notes]: 45–75 min, small
+    amounts (cardgen: up to 30 g an hour)."""
+    card = _text(outing / "pitched" / "tandem-pair.pdf")
+    assert "per hour of riding, the band for the whole time out with stops" in card
+    row = re.search(r"Food and fluids .*? (\d+):(\d\d) [\d,]+ kcal (\d+)–(\d+) g", card)
+    assert row, card
+    hours = (int(row.group(1)) * 60 + int(row.group(2))) / 60
+    assert 0.75 < hours <= 1.25  # the 45–75 min band
+    assert int(row.group(3)) == 0 and abs(int(row.group(4)) - 30 * hours) <= 1
