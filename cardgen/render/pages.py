@@ -36,6 +36,10 @@ from cardgen.render.html import (
 from cardgen.render.notices import notice_text
 from cardgen.units import ZERO_CELSIUS_K
 
+#: Width [in] of the route page's drawings for a phone: with their labels about 290 CSS px
+#: (96 px an inch), the text column of a 320 px screen.
+PHONE_WIDTH_IN = 2.8
+
 #: Riders on one group of the coach sheet: a group's tables fit a page or two.
 COACH_GROUP = 8
 #: File names of a route folder that a card may not take (a rider called "Coach"
@@ -227,16 +231,26 @@ def _plots(config, job: RouteJob, files: dict[str, str | bytes]) -> dict:
         )
         files[f"map{suffix}.svg"] = map_svg
     card_profile = "card-profile.svg"
+    # the route page's drawings for a phone: narrow enough to show at their drawn
+    # size, so that their smallest type (7.5 pt) stays 10 CSS px
+    phone = PHONE_WIDTH_IN
+    files["profile-phone.svg"], _ = plots.elevation_profile(
+        analysis.terrain, analysis.climbs, marks, units, name=job.name, width_in=phone, height_in=0.7 * phone
+    )
+    files["map-phone.svg"], _ = plots.route_map(
+        analysis.terrain, analysis.climbs, marks, units, name=job.name, width_in=phone, height_in=phone
+    )
     power_svg = power_alt = ""
     hardest = _hardest(analysis.climbs)
     if hardest is not None and job.riders:
         index = analysis.climbs.index(hardest)
-        power_svg, power_alt = plots.power_curves(
-            [(e.name, e.plan.climbs[index]) for e in job.riders],
-            units,
-            kinds=[e.plan.rider.vehicle.label for e in job.riders],
-        )
+        rows = [(e.name, e.plan.climbs[index]) for e in job.riders]
+        kinds = [e.plan.rider.vehicle.label for e in job.riders]
+        power_svg, power_alt = plots.power_curves(rows, units, kinds=kinds)
         files["power.svg"] = power_svg
+        files["power-phone.svg"], _ = plots.power_curves(
+            rows, units, kinds=kinds, width_in=phone, height_in=0.75 * phone, legend_below=True
+        )
     return {
         "profile_alt": alt,
         "card_profile": card_profile,
