@@ -17,8 +17,8 @@ of the full build (target <= 10 %) and the print packs' share (target <= 5 %).
 ``--baseline`` names the commit to compare with (default: the last commit before the
 fitter learned variants); it is unpacked with ``git archive`` into bench/out, no
 worktree is registered. ``--old-fitter`` compares instead with this very tree running
-that commit's fitter (so that later changes elsewhere, such as slower planning, do not
-blur the fitter's share). ``--riders 3000 --no-baseline`` measures the scaling.
+that commit's fitter (``bench_fitter.halving_fit``, so that later changes elsewhere,
+such as slower planning, do not blur the fitter's share). ``--riders 3000 --no-baseline`` measures the scaling.
 """
 
 from __future__ import annotations
@@ -52,7 +52,7 @@ VEHICLES = (
 #: Run in a fresh interpreter with the tree to measure first on sys.path: builds the
 #: site and prints one JSON line of figures.
 BUILD = r"""
-import inspect, json, os, resource, sys, time
+import json, os, resource, sys, time
 from pathlib import Path
 import weasyprint
 from cardgen.build import build_site
@@ -60,10 +60,14 @@ from cardgen.config import load_config
 
 site, out, jobs, pdf, count = sys.argv[1], sys.argv[2], int(sys.argv[3]), sys.argv[4] == "1", sys.argv[5]
 render = weasyprint.HTML.render
+FITTING = {"fit", "write_fitting_pdf", "halving_fit", "layout", "fits"}
 
 def counted(self, *args, **kwargs):
-    names = {f.function for f in inspect.stack()[1:6]}
-    if names & {"fit", "write_fitting_pdf", "layout", "fits"}:
+    frame, names = sys._getframe(1), set()
+    while frame is not None and len(names) < 5:
+        names.add(frame.f_code.co_name)
+        frame = frame.f_back
+    if names & FITTING:
         fd = os.open(count, os.O_WRONLY | os.O_APPEND | os.O_CREAT)
         os.write(fd, b".")
         os.close(fd)
@@ -71,44 +75,22 @@ def counted(self, *args, **kwargs):
 
 weasyprint.HTML.render = counted
 if os.environ.get("BENCH_OLD_FITTER"):  # this tree, with the fitter of commit 0f5edd5
-    import logging
+    sys.path.insert(0, os.environ["BENCH_OLD_FITTER"])
+    from bench_fitter import halving_fit
     from cardgen.build import pipeline
-    from cardgen.render import pdf as _pdf
-
-    def write_fitting_pdf(variants, base, target, budget):
-        logging.getLogger("weasyprint").setLevel(logging.ERROR)
-        fetcher = _pdf.build_only_fetcher(base)
-        url = base.resolve().as_uri() + "/"
-        last, laid = len(variants) - 1, {}
-
-        def layout(index):
-            if index not in laid:
-                laid[index] = weasyprint.HTML(string=variants[index], base_url=url, url_fetcher=fetcher).render(
-                    pdf_tags=True
-                )
-            return laid[index]
-
-        lo, hi = 0, last
-        while lo < hi:
-            mid = (lo + hi) // 2
-            if len(layout(mid).pages) <= budget:
-                hi = mid
-            else:
-                lo = mid + 1
-        document = layout(lo)
-        pages = len(document.pages)
-        document.write_pdf(target, pdf_identifier=b"cardgen", uncompressed_pdf=False, pdf_tags=True)
-        if lo == last and pages % 2:
-            _pdf._add_blank_page(target)
-        return lo, pages
+    from cardgen.render.pages import CONTINUATION_STEP
+    from cardgen.render.pdf import pdf_bytes
 
     def old_render_pdfs(cards):
+        layouts = 0
         for card in cards:
             if card.variants:
-                write_fitting_pdf(card.variants, Path(card.base), Path(card.target), card.budget)
+                data, _, _, made = halving_fit(card.variants, Path(card.base), card.budget, CONTINUATION_STEP)
+                layouts += made
             else:
-                _pdf.write_pdf(card.html, Path(card.base), Path(card.target))
-        return [c.target for c in cards], 0
+                data, _ = pdf_bytes(card.html, Path(card.base))
+            Path(card.target).write_bytes(data)
+        return [c.target for c in cards], layouts
 
     pipeline._render_pdfs = old_render_pdfs
 t0 = time.perf_counter()
@@ -154,7 +136,7 @@ def _build(tree: Path, site: Path, out: Path, jobs: int, pdf: bool, old_fitter: 
     count.unlink(missing_ok=True)
     env = {**os.environ, "PYTHONPATH": str(tree)}
     if old_fitter:
-        env["BENCH_OLD_FITTER"] = "1"
+        env["BENCH_OLD_FITTER"] = str(Path(__file__).resolve().parent)
     done = subprocess.run(
         [sys.executable, "-c", BUILD, str(site), str(out), str(jobs), "1" if pdf else "0", str(count)],
         capture_output=True,

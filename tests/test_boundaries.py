@@ -1,5 +1,7 @@
-"""Only io opens input files and only build writes into the site: the source is read
-(its syntax tree, not its text) for every call that opens, reads or writes a file."""
+"""Only io opens input files and only build writes into the site, and render computes
+no plan: the source is read (its syntax tree, not its text) for every call that
+opens, reads or writes a file, and for every call of a planning function from
+render."""
 
 import ast
 from pathlib import Path
@@ -86,3 +88,53 @@ def test_the_scan_sees_each_kind_of_call(tmp_path, source, expected):
     module = tmp_path / "m.py"
     module.write_text(source, encoding="utf-8")
     assert [name for _, name in _calls(module)] == expected
+
+
+#: What plan computes for the pages once per route (``plan.views.route_job``) and
+#: build hands to render: the checkpoints' windows, the food and fluid legs and
+#: rates, the spread of riders who start together, the day sheet's rows, the starts.
+PLANNING = {
+    "checkpoint_windows",
+    "group_spread",
+    "legs",
+    "carb_rate",
+    "fluid_rate",
+    "day_points",
+    "event_starts",
+    "route_job",
+    "plan_route",
+    "make_plan",
+}
+
+
+def _planning_calls(path: Path):
+    """(line, name) of every call in the module of a function named in PLANNING."""
+    for node in ast.walk(ast.parse(path.read_text(encoding="utf-8"))):
+        if isinstance(node, ast.Call):
+            func = node.func
+            name = func.id if isinstance(func, ast.Name) else getattr(func, "attr", "")
+            if name in PLANNING:
+                yield node.lineno, name
+
+
+def test_render_computes_no_plan():
+    found = [
+        f"cardgen/render/{path.name}:{line}: {name}"
+        for path in sorted((PACKAGE / "render").rglob("*.py"))
+        for line, name in _planning_calls(path)
+    ]
+    assert found == []
+
+
+@pytest.mark.parametrize(
+    "source, expected",
+    [
+        ("legs(plan, feeds, t)", ["legs"]),
+        ("fuel.carb_rate(1.0)", ["carb_rate"]),
+        ("x = view.legs", []),
+    ],
+)
+def test_the_planning_scan_sees_calls_not_names(tmp_path, source, expected):
+    module = tmp_path / "m.py"
+    module.write_text(source, encoding="utf-8")
+    assert [name for _, name in _planning_calls(module)] == expected

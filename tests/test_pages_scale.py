@@ -135,23 +135,73 @@ def test_the_power_chart_draws_one_curve_per_vehicle_kind(big_site):
     assert "each vehicle kind" in alt and alt.count("(50 riders) ride it at") == len(VEHICLES)
 
 
+#: What a page shows that may be wider than the window: each element's right edge,
+#: and any element that scrolls sideways in its own box (``overflow-x``), by tag and
+#: class; hidden elements (a table's header row kept for screen readers, clipped to a
+#: pixel) take no room and are left out.
+OVERFLOW_SCRIPT = (
+    "var w=d.documentElement.clientWidth,bad=[];"
+    'd.querySelectorAll("body *").forEach(function(e){'
+    "var r=e.getBoundingClientRect(),s=getComputedStyle(e);"
+    'if(e.closest("thead"))return;'
+    'var name=e.tagName+"."+e.className;'
+    'if(r.width>0&&(r.right>w+1||r.left<-1))bad.push(name+" at "+Math.round(r.left)+"-"+Math.round(r.right));'
+    'if(/auto|scroll/.test(s.overflowX)&&e.scrollWidth>e.clientWidth+1)bad.push(name+" scrolls "+e.scrollWidth+" in "+e.clientWidth);'
+    '});return bad.length+" "+bad.slice(0,4).join(" ; ");'
+)
+
+
+def _overflow(page: Path, width: int, profile: Path) -> str:
+    return _in_frame(page, width, profile, OVERFLOW_SCRIPT)
+
+
+@pytest.mark.skipif(_chromium() is None, reason="Chromium is not installed (Debian package 'chromium')")
+@pytest.mark.parametrize("width", [360, 1200])
+@pytest.mark.parametrize("page", ["index.html", "hill-loop/index.html"])
+def test_no_table_or_chart_scrolls_sideways(big_site, page, width, tmp_path):
+    """At 360 px every table stacks its rows (each cell labelled by its column) and
+    each chart shows its narrow drawing: nothing reaches past the window and nothing
+    scrolls sideways in a box of its own, captions included."""
+    assert _overflow(big_site / page, width, tmp_path / "p") == "0 "
+
+
+@pytest.mark.skipif(_chromium() is None, reason="Chromium is not installed (Debian package 'chromium')")
+@pytest.mark.parametrize("width", [360, 1200])
+def test_the_demo_pages_do_not_scroll_sideways(demo_site, width, tmp_path):
+    _, out, _ = demo_site
+    pages = [out / "index.html", *sorted(out.glob("*/index.html"))]
+    assert len(pages) == 5
+    for page in pages:
+        assert _overflow(page, width, tmp_path / "p") == "0 ", page
+        scroll, client = _widths(page, width, tmp_path / "p")
+        assert scroll <= client, page
+
+
+def _chart_sizes(page: Path, width: int, profile: Path) -> list[tuple[int, ...]]:
+    """(shown width, drawn width, width of its box) of each chart, in CSS px."""
+    script = (
+        'var out=[];d.querySelectorAll("img.plot").forEach(function(i){'
+        "out.push([Math.round(i.getBoundingClientRect().width),i.naturalWidth,"
+        'i.parentNode.clientWidth].join(":"));});return out.join(",");'
+    )
+    return [
+        tuple(int(x) for x in item.split(":")) for item in _in_frame(page, width, profile, script).split(",")
+    ]
+
+
 @pytest.mark.skipif(_chromium() is None, reason="Chromium is not installed (Debian package 'chromium')")
 @pytest.mark.parametrize("width", [360, 1200])
 def test_charts_keep_their_text_at_least_10_px(big_site, width, tmp_path):
     """Each chart is shown at no less than its drawn size, so its smallest text
-    (7.5 pt = 10 CSS px at that size) stays readable; at 360 px it scrolls in its own
-    box, and the page still does not scroll sideways."""
+    (7.5 pt = 10 CSS px at that size) stays readable; at 360 px that is the chart's
+    narrow drawing, which fits the screen whole (nothing to scroll)."""
     page = big_site / "hill-loop" / "index.html"
-    script = (
-        'var out=[];d.querySelectorAll("img.plot").forEach(function(i){'
-        'out.push(Math.round(i.getBoundingClientRect().width)+":"+i.naturalWidth);});return out.join(",");'
-    )
-    sizes = [
-        tuple(int(x) for x in pair.split(":"))
-        for pair in _in_frame(page, width, tmp_path / "p", script).split(",")
-    ]
+    sizes = _chart_sizes(page, width, tmp_path / "p")
     assert len(sizes) == 3  # profile, map, power chart
-    for shown, natural in sizes:
+    for shown, natural, box in sizes:
         assert natural > 0 and shown >= natural - 1, (shown, natural)
+        assert shown <= box, (shown, box)
+    if width == 360:  # the narrow drawings are the ones shown
+        assert all(natural <= 328 for _, natural, _ in sizes), sizes
     scroll, client = _widths(page, width, tmp_path / "profile")
     assert scroll <= client

@@ -112,7 +112,9 @@ def _plan_route(task):
     Returns (RouteJob, None) or (None, error message naming the file)."""
     from cardgen.io.gpx import read_gpx
     from cardgen.plan import plan_route
-    from cardgen.plan.model import Entry, RouteJob
+    from cardgen.plan.model import Entry
+    from cardgen.plan.views import route_job
+    from cardgen.units import ZERO_CELSIUS_K
 
     route, config, starts = task  # starts: rider index → Start on this route
     rc = route.config
@@ -134,8 +136,17 @@ def _plan_route(task):
             Entry(r.rider.name, starts[i].at, starts[i].wave, plan, r.bib)
             for (i, r), plan in zip(riding, planned.plans, strict=True)
         )
-        analysis, checkpoints = planned.analysis, planned.checkpoints
-        job = RouteJob(route.slug, rc.name or track.name, rc.notes, analysis, tuple(checkpoints), riders)
+        temperature = config.conditions.temperature
+        job = route_job(
+            route.slug,
+            rc.name or track.name,
+            rc.notes,
+            planned,
+            riders,
+            config.checkpoint_margin,
+            config.speed_rule,
+            None if temperature is None else temperature - ZERO_CELSIUS_K,
+        )
         return job, None
     except CardgenError as exc:
         return None, (f"{rc.gpx}: {exc}" if str(rc.gpx) not in str(exc) else str(exc))
@@ -345,9 +356,10 @@ def _render_cards(pool, cards: list, jobs: int, tmp: Path, progress) -> int:
 
 
 def _render(config, routes, old, out, tmp, pool, pdf, progress, report, reusable, jobs=1) -> dict:
+    from cardgen.plan.starts import event_starts
     from cardgen.render.pages import built_stamp, render_day_sheet, render_index, render_packs, site_context
 
-    site = site_context(config, built_stamp(os.environ.get("SOURCE_DATE_EPOCH")))
+    site = site_context(config, event_starts(config), built_stamp(os.environ.get("SOURCE_DATE_EPOCH")))
     manifest: dict = {"version": __version__, "routes": {}}
     fresh = []
     for route in routes:

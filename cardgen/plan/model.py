@@ -181,7 +181,9 @@ def arrival_time(nodes, elapsed, stops, distance: float) -> float:
 
 @dataclass(frozen=True)
 class RouteJob:
-    """One route's plans, as the renderer needs them."""
+    """One route's plans, as the renderer needs them: made by
+    :func:`cardgen.plan.views.route_job`, which also fills in what the riders' plans
+    give together (render computes none of it)."""
 
     slug: str
     name: str
@@ -189,6 +191,9 @@ class RouteJob:
     analysis: Analysis
     checkpoints: tuple  # Checkpoint, by distance
     riders: tuple  # Entry, in the configuration's order
+    windows: tuple = ()  # CheckpointWindow, by distance; () unless every rider has a start
+    together: tuple = ()  # the spread and regroup waits of riders who start together (dicts)
+    day: tuple = ()  # PointDay per checkpoint: the organiser's day sheet; () without windows
 
 
 @dataclass(frozen=True)
@@ -201,3 +206,5 @@ class Entry:
     wave: str | None
     plan: Plan
     bib: int | None = None
+    legs: tuple = ()  # fuel.Leg between the checkpoints and to the finish
+    fuel_rates: tuple | None = None  # ((carbohydrate g/h low, high), (fluid L/h low, high))

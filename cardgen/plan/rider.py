@@ -2,7 +2,8 @@
 
 How a rider rides is the effort model of :mod:`cardgen.physics.effort`; the ride is
 simulated with inertia, wind on every segment, air density by altitude, and the
-vehicle's descent and curve speed limits, braking at :data:`BRAKING` before them.
+vehicle's descent and curve speed limits, braking before them
+(:mod:`cardgen.physics.braking`).
 """
 
 from __future__ import annotations
@@ -20,7 +21,8 @@ from cardgen.physics.assist import (
     plan_levels,
     rider_power_for_speed,
 )
-from cardgen.physics.atmosphere import Conditions, air_density_isa
+from cardgen.physics.atmosphere import Conditions, density_along
+from cardgen.physics.braking import braking, curve_speed
 from cardgen.physics.effort import sustainable_climb_power, w_prime_balance
 from cardgen.physics.forces import gravity_power, headwind
 from cardgen.physics.ride import Ride
@@ -43,29 +45,11 @@ from cardgen.route.climbs import Climb, Descent, find_climbs, find_descents
 from cardgen.route.cues import cue_sheet
 from cardgen.route.gpx import Track
 from cardgen.route.terrain import Terrain, doubtful
-from cardgen.units import G0, KMH_PER_MS, Floats
+from cardgen.units import KMH_PER_MS, Floats
 
 #: Steepest 100 m grade that earns a "steep" note [-]: common practice, no published
 #: source (AASHTO's bicycle guide calls grades over 5 % undesirable on shared paths).
 STEEP_GRADE = 0.10
-#: Braking friction before a speed limit: f = 0.25 of the AASHTO Guide for the
-#: Development of Bicycle Facilities (1999) stopping-sight-distance formula
-#: S = V²/(254·(f ± G)) (wet pavement, ordinary brakes) [S]; the deceleration on a
-#: grade G is g·(f + G), less on a descent.
-BRAKING_FRICTION = 0.25
-BRAKING = BRAKING_FRICTION * G0  # on the flat [m/s²]
-#: Least braking deceleration used, on the steepest descents [m/s²] (common practice,
-#: no published source: a rider on a descent steeper than f still slows, by braking
-#: harder or walking).
-LEAST_BRAKING = 0.05 * G0
-
-
-def braking(grade: np.ndarray) -> np.ndarray:
-    """Braking deceleration [m/s²] on each segment: g·(f + G) (AASHTO 1999), at least
-    :data:`LEAST_BRAKING`."""
-    return np.maximum(G0 * (BRAKING_FRICTION + np.asarray(grade, dtype=float)), LEAST_BRAKING)
-
-
 #: Battery share kept in reserve when judging whether a route fits: common practice,
 #: no published source.
 BATTERY_RESERVE = 0.20
@@ -99,16 +83,14 @@ def analyse(track: Track, terrain: Terrain) -> Analysis:
 def segment_air(terrain: Terrain, conditions: Conditions):
     """Headwind [m/s] and air density [kg/m³] on every segment."""
     wind = headwind(terrain.heading, conditions.wind_speed, conditions.wind_from)
-    mid = 0.5 * (terrain.elevation[1:] + terrain.elevation[:-1])
-    rho = air_density_isa(np.clip(mid, -1000.0, 9000.0), conditions.temperature)
-    return np.asarray(wind, dtype=float), np.asarray(rho, dtype=float)
+    return np.asarray(wind, dtype=float), density_along(terrain.elevation, conditions.temperature)
 
 
 def speed_caps(terrain: Terrain, rider: Rider):
     """Speed limit at every node [m/s]: the vehicle's descent cap and v = √(a·R) in
     curves (a the vehicle's lateral acceleration; FHWA-HRT-04-103, 2004)."""
     v = rider.vehicle
-    return np.minimum(v.max_descent_speed, np.sqrt(v.curve_accel * terrain.curve_radius))
+    return np.minimum(v.max_descent_speed, curve_speed(v.curve_accel, terrain.curve_radius))
 
 
 def _assist_ratios(rider: Rider, motor: Motor | None, climbs, terrain, wind, rho):
@@ -547,7 +529,7 @@ def curve_notices(terrain: Terrain, rider: Rider, ride: Ride, wind, rho) -> list
     flat and :data:`JUNCTION_FAST_SPEED` or more.
     Its notice carries ``junction`` = 1."""
     vehicle = rider.vehicle
-    cap = np.sqrt(vehicle.curve_accel * terrain.curve_radius)
+    cap = curve_speed(vehicle.curve_accel, terrain.curve_radius)
     free = speed_for_power(
         np.maximum(ride.rider_power, 0.0),
         **vehicle.resistance.steady(),
@@ -639,7 +621,7 @@ def _descent_row(
     gravity = float(gravity_power(coast, vehicle.mass, descent.avg_grade))
     radii = terrain.curve_radius[descent.start : descent.end + 1]
     tight = descent.start + int(np.argmin(radii))
-    curve_speed = float(np.sqrt(vehicle.curve_accel * terrain.curve_radius[tight]))
+    slowest = float(curve_speed(vehicle.curve_accel, terrain.curve_radius[tight]))
     warnings = []
     if coast > vehicle.max_descent_speed:
         warnings.append(Notice("fast", "warning", (("coast", coast), ("cap", vehicle.max_descent_speed))))
@@ -656,6 +638,6 @@ def _descent_row(
             np.sum(ride.rider_power[segs] * ride.time[segs]) / max(np.sum(ride.time[segs]), 1e-9)
         ),
         curve_distance=float(terrain.distance[tight]),
-        curve_speed=curve_speed,
+        curve_speed=slowest,
         warnings=tuple(warnings),
     )

@@ -8,7 +8,7 @@ import csv
 import io
 from pathlib import Path
 
-from cardgen.plan.day import STOCK_MARGIN, SWEEP_DELAY, SWEEP_SPEED, day_points, fluid_band
+from cardgen.plan.day import STOCK_MARGIN, SWEEP_DELAY, SWEEP_SPEED, fluid_band
 from cardgen.render import format as fmt
 from cardgen.units import ZERO_CELSIUS_K
 
@@ -31,17 +31,16 @@ COLUMNS = (
 )
 
 
-def day_rows(route: str, plans, starts, windows, temperature_c, to_second: bool) -> list[dict]:
-    """One route's rows of the day sheet, as text and numbers (they travel in the
+def day_rows(route: str, points, to_second: bool) -> list[dict]:
+    """One route's rows of the day sheet (``points``: its checkpoints' days, from
+    :func:`cardgen.plan.day.day_points`), as text and numbers (they travel in the
     build's manifest, so that a route reused from the last build keeps its rows)."""
-    if not windows or not plans:
-        return []
 
     def clock(moment) -> str:
         return fmt.start_clock(moment, to_second) if moment is not None else ""
 
     rows = []
-    for p in day_points(plans, starts, windows, temperature_c):
+    for p in points:
         rows.append(
             {
                 "route": route,

@@ -142,12 +142,10 @@ def _pacing(plan) -> dict | None:
     }
 
 
-def _legs(plan, windows, temperature_c) -> list[dict]:
-    """The plan's legs between its checkpoints (the card's food and fluid table):
-    riding time, and carbohydrate [g] and fluid [L] as (low, high) guides."""
-    from cardgen.plan.fuel import legs
-
-    feeds = [(w.checkpoint.distance, w.checkpoint.name) for w in windows]
+def _legs(legs) -> list[dict]:
+    """A rider's legs between the checkpoints (the card's food and fluid table, from
+    :func:`cardgen.plan.fuel.legs`): riding time, and carbohydrate [g] and fluid [L]
+    as (low, high) guides."""
     return [
         {
             "to": leg.to,
@@ -156,7 +154,7 @@ def _legs(plan, windows, temperature_c) -> list[dict]:
             "carbs_g": [_num(x, 1) for x in leg.carbs] if leg.carbs else None,
             "fluid_l": [_num(x, 3) for x in leg.fluid] if leg.fluid else None,
         }
-        for leg in legs(plan, feeds, temperature_c)
+        for leg in legs
     ]
 
 
@@ -167,10 +165,9 @@ def plan_json_text(
     windows=(),
     dated: bool = False,
     to_second: bool = False,
-    temperature_c: float | None = None,
 ) -> str:
     """All riders' plans of one route as JSON text (stable key order), with each
-    rider's start, bib and wave, their arrival at each checkpoint and the finish, and
+    rider's start, bib, wave and food and fluid legs (from ``entries``), their arrival at each checkpoint and the finish, and
     the checkpoints' windows (docs/contracts.md). Times are local "HH:MM", or ISO 8601
     date-times when the event has a date; to the second ("HH:MM:SS") when the
     event's starts are seconds apart (``to_second``)."""
@@ -205,7 +202,7 @@ def plan_json_text(
             for w in windows
         ]
         data["finish"] = arrival(plan, start, plan.terrain.length)
-        data["legs"] = _legs(plan, windows, temperature_c)
+        data["legs"] = _legs(entry.legs if entry is not None else ())
         dicts.append(data)
     top = {
         "route": route_name,

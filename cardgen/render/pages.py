@@ -18,9 +18,7 @@ import numpy as np
 
 from cardgen import __version__
 from cardgen.errors import CardgenError
-from cardgen.plan import Plan, checkpoint_windows
-from cardgen.plan.event import group_spread
-from cardgen.plan.fuel import carb_rate, fluid_rate, legs
+from cardgen.plan import Plan
 from cardgen.plan.model import RouteJob
 from cardgen.render import advice, exports, plots
 from cardgen.render import format as fmt
@@ -37,6 +35,10 @@ from cardgen.render.html import (
 )
 from cardgen.render.notices import notice_text
 from cardgen.units import ZERO_CELSIUS_K
+
+#: Width [in] of the route page's drawings for a phone: with their labels about 290 CSS px
+#: (96 px an inch), the text column of a 320 px screen.
+PHONE_WIDTH_IN = 2.8
 
 #: Riders on one group of the coach sheet: a group's tables fit a page or two.
 COACH_GROUP = 8
@@ -96,12 +98,10 @@ def built_stamp(source_date_epoch: str | None) -> str:
         return ""
 
 
-def site_context(config, built: str = "") -> dict:
-    """What every page knows of the site, the event's real starts included: each
-    wave's first and last start, and the open start of the riders outside waves."""
-    from cardgen.plan.starts import event_starts
-
-    starts = event_starts(config)
+def site_context(config, starts, built: str = "") -> dict:
+    """What every page knows of the site, the event's real starts included
+    (``starts``: :func:`cardgen.plan.starts.event_starts`): each wave's first and last
+    start, and the open start of the riders outside waves."""
     to_second = starts.to_second
     day = config.day.strftime("%A %d %B %Y") if config.day else ""
     parts = []
@@ -231,16 +231,26 @@ def _plots(config, job: RouteJob, files: dict[str, str | bytes]) -> dict:
         )
         files[f"map{suffix}.svg"] = map_svg
     card_profile = "card-profile.svg"
+    # the route page's drawings for a phone: narrow enough to show at their drawn
+    # size, so that their smallest type (7.5 pt) stays 10 CSS px
+    phone = PHONE_WIDTH_IN
+    files["profile-phone.svg"], _ = plots.elevation_profile(
+        analysis.terrain, analysis.climbs, marks, units, name=job.name, width_in=phone, height_in=0.7 * phone
+    )
+    files["map-phone.svg"], _ = plots.route_map(
+        analysis.terrain, analysis.climbs, marks, units, name=job.name, width_in=phone, height_in=phone
+    )
     power_svg = power_alt = ""
     hardest = _hardest(analysis.climbs)
     if hardest is not None and job.riders:
         index = analysis.climbs.index(hardest)
-        power_svg, power_alt = plots.power_curves(
-            [(e.name, e.plan.climbs[index]) for e in job.riders],
-            units,
-            kinds=[e.plan.rider.vehicle.label for e in job.riders],
-        )
+        rows = [(e.name, e.plan.climbs[index]) for e in job.riders]
+        kinds = [e.plan.rider.vehicle.label for e in job.riders]
+        power_svg, power_alt = plots.power_curves(rows, units, kinds=kinds)
         files["power.svg"] = power_svg
+        files["power-phone.svg"], _ = plots.power_curves(
+            rows, units, kinds=kinds, width_in=phone, height_in=0.75 * phone, legend_below=True
+        )
     return {
         "profile_alt": alt,
         "card_profile": card_profile,
@@ -260,7 +270,6 @@ def _exports(
     windows: list,
     files: dict[str, str | bytes],
     to_second: bool = False,
-    celsius: float | None = None,
 ) -> str:
     """plan.json, climbs.csv, route.gpx and the QR code, added to ``files``; returns
     the QR's target URL."""
@@ -272,7 +281,6 @@ def _exports(
         windows,
         dated=config.day is not None,
         to_second=to_second,
-        temperature_c=celsius,
     )
     files["climbs.csv"] = exports.climbs_csv_text(plans)
     files["route.gpx"] = exports.route_gpx_text(
@@ -316,17 +324,12 @@ class RoutePages:
     cards: list[CardSource]
 
 
-def _windows(config, job: RouteJob, plans: list[Plan]) -> tuple[list, str]:
-    """The checkpoints' opening and closing times, from each rider's own start, and
-    the sentence that says how they were set ([], "" without start times)."""
+def _margin_text(config, job: RouteJob) -> str:
+    """The sentence that says how the checkpoints' windows were set ("" without
+    windows)."""
     units = config.units
-    windows: list = []
     margin_text = ""
-    starts = [e.start for e in job.riders]
-    if plans and all(s is not None for s in starts):  # windows from each rider's own start
-        windows, _ = checkpoint_windows(
-            plans, job.checkpoints, starts, config.checkpoint_margin, config.speed_rule
-        )
+    if job.windows:
         if config.speed_rule:
             slowest, fastest = config.speed_rule
             margin_text = (
@@ -338,7 +341,7 @@ def _windows(config, job: RouteJob, plans: list[Plan]) -> tuple[list, str]:
                 f"{config.checkpoint_margin / 60:.0f} min before the fastest and after the slowest rider "
                 "planned here, stops included"
             )
-    return windows, margin_text
+    return margin_text
 
 
 def render_route(config, site: dict, job: RouteJob, folder: Path) -> RoutePages:
@@ -360,7 +363,7 @@ def _render_route(config, site: dict, job: RouteJob, folder: Path) -> RoutePages
         slug = slugify(e.name, taken)  # unique within the route: it names the card file
         views.append(RiderView(e.name, slug, e.plan, f"{slug}.pdf", e.start, e.bib, e.wave))
     plans: list[Plan] = [v.plan for v in views]
-    windows, margin_text = _windows(config, job, plans)
+    windows, margin_text = list(job.windows), _margin_text(config, job)
     route = {
         "name": job.name,
         "notes": job.notes,
@@ -402,14 +405,11 @@ def _render_route(config, site: dict, job: RouteJob, folder: Path) -> RoutePages
         margin_text=margin_text,
         root="../",
     )
-    temperature = config.conditions.temperature
-    celsius = None if temperature is None else temperature - ZERO_CELSIUS_K
-    qr = _exports(config, job, plans, windows, files, site.get("to_second", False), celsius)
+    qr = _exports(config, job, plans, windows, files, site.get("to_second", False))
     page = page_geometry(config.card_size, config.large_print)
-    feeds = [(c.distance, c.name) for c in job.checkpoints]
     card_template = env.get_template("card.html")
     cards = []
-    for view in views:
+    for view, entry in zip(views, job.riders, strict=True):
         watch = watch_list(view.plan, units)
         context = dict(
             **common,
@@ -425,8 +425,8 @@ def _render_route(config, site: dict, job: RouteJob, folder: Path) -> RoutePages
             page=page,
             qr=qr,
             windows=windows,
-            legs=legs(view.plan, feeds, celsius),
-            fuel_rates=(carb_rate(min(view.plan.finish_elapsed / 3600.0, 1e6)), fluid_rate(celsius)),
+            legs=entry.legs,
+            fuel_rates=entry.fuel_rates,
             watch=watch,
             watch_codes={"battery", "stall"},
             cue_rows=cue_rows(view.plan),
@@ -470,13 +470,12 @@ def _render_route(config, site: dict, job: RouteJob, folder: Path) -> RoutePages
             groups=groups,
             group_size=COACH_GROUP,
             rider_count=len(views),
-            together=group_spread(job),
+            together=list(job.together),
             rider_notes=functools.partial(rider_notes, units=units),
         )
         cards.append(CardSource(html, str(folder), str(folder / "coach.pdf")))
     summary = route_summary(job, views, units, site.get("to_second", False))
-    starts = [e.start for e in job.riders]
-    summary["day"] = day_rows(job.name, plans, starts, windows, celsius, site.get("to_second", False))
+    summary["day"] = day_rows(job.name, job.day, site.get("to_second", False))
     return RoutePages(files, summary, cards)
 
 

@@ -235,14 +235,23 @@ def _curve_groups(rows, kinds) -> list[tuple[str, list]]:
     ]
 
 
-def power_curves(rows, units: str = "metric", *, kinds=None, width_in: float = 6.6, height_in: float = 2.6):
+def power_curves(
+    rows,
+    units: str = "metric",
+    *,
+    kinds=None,
+    width_in: float = 6.6,
+    height_in: float = 2.6,
+    legend_below: bool = False,
+):
     """Power needed against speed on one climb's average grade: one line per rider,
     or, for more than :data:`CURVES_PER_RIDER_UP_TO` riders, one per vehicle kind
     (``kinds``, one per row: the curve of the kind's median rider by power, every
     rider of the kind marked where they ride). Each rider is marked at their planned
     average speed there, assist included. ``rows`` is a list of (label, climb row of
     the rider's plan); the curves are the plan's own (the climb's grade, mean wind and
-    air density). Returns (svg, alt text)."""
+    air density). ``legend_below`` puts the legend under the plot (a phone's narrow
+    drawing, where it would cover the curves). Returns (svg, alt text)."""
     from matplotlib import colormaps
 
     imperial = units == "imperial"
@@ -288,7 +297,8 @@ def power_curves(rows, units: str = "metric", *, kinds=None, width_in: float = 6
     for spine in ("top", "right"):
         ax.spines[spine].set_visible(False)
     # a fixed place: matplotlib's search for the best one grows with the points drawn
-    for text in ax.legend(fontsize=SMALLEST_PT, frameon=False, loc="upper left").get_texts():
+    place = {"loc": "upper left", "bbox_to_anchor": (-0.15, -0.22)} if legend_below else {"loc": "upper left"}
+    for text in ax.legend(fontsize=SMALLEST_PT, frameon=False, **place).get_texts():
         text.set_parse_math(False)
     each = "each rider" if len(groups) == len(rows) else "each vehicle kind (its median rider)"
     text = (
@@ -331,16 +341,19 @@ def route_map(
     name: str = "",
     width_in: float = 5.2,
     height_in: float = 2.6,
+    text_scale: float = 1.0,
 ):
     """Where the route goes, drawn from the track alone (no tiles, no network): the
     outline on a local plane (equirectangular about the route's mean latitude, true to
     scale within about 0.1 % over a few tens of km; Snyder 1987, §12), start (circle)
     and finish (square), arrows in the direction of travel, checkpoints (Chk1, …),
     climb numbers at their feet, a scale bar and a north arrow. Ink and greys only, so
-    it reads in black and white and for colour-blind readers. Returns (svg, alt text).
+    it reads in black and white and for colour-blind readers. ``text_scale`` enlarges
+    every label and mark (large print). Returns (svg, alt text).
     """
     import math
 
+    k = text_scale
     xy = terrain.plane()
     step = max(1, xy.shape[0] // (4 * MAX_POINTS))
     x, y = xy[::step, 0], xy[::step, 1]
@@ -362,18 +375,20 @@ def route_map(
             "",
             xy=b,
             xytext=a,
-            arrowprops={"arrowstyle": "-|>", "color": INK, "lw": 1.0, "mutation_scale": 12},
+            arrowprops={"arrowstyle": "-|>", "color": INK, "lw": 1.0, "mutation_scale": 12 * k},
         )
     sx, sy = at(0.0)
     fx, fy = at(length)
-    ax.plot([sx], [sy], marker="o", markersize=11, color=INK, markerfacecolor="white", markeredgewidth=1.6)
-    ax.plot([fx], [fy], marker="s", markersize=5, color=INK)
+    ax.plot(
+        [sx], [sy], marker="o", markersize=11 * k, color=INK, markerfacecolor="white", markeredgewidth=1.6
+    )
+    ax.plot([fx], [fy], marker="s", markersize=5 * k, color=INK)
     for number, climb in enumerate(climbs, 1):
         cx, cy = at(climb.start_distance)
         ax.annotate(
             str(number),
             (cx, cy),
-            fontsize=SMALLEST_PT,
+            fontsize=SMALLEST_PT * k,
             fontweight="bold",
             color="white",
             ha="center",
@@ -382,13 +397,15 @@ def route_map(
         )
     for number, (_, where) in enumerate(checkpoints, 1):
         cx, cy = at(where)
-        ax.plot([cx], [cy], marker="^", markersize=7, color=INK, markerfacecolor="white", markeredgewidth=1.2)
+        ax.plot(
+            [cx], [cy], marker="^", markersize=7 * k, color=INK, markerfacecolor="white", markeredgewidth=1.2
+        )
         ax.annotate(
             f"Chk{number}",
             (cx, cy),
             xytext=(5, 4),
             textcoords="offset points",
-            fontsize=SMALLEST_PT,
+            fontsize=SMALLEST_PT * k,
             color=INK,
             parse_math=False,
             bbox={"boxstyle": "square,pad=0.1", "facecolor": "white", "edgecolor": "none", "alpha": 0.8},
@@ -408,7 +425,7 @@ def route_map(
     x0, y0 = x.min() - pad * 0.6, y.min() - pad * 0.6
     ax.plot([x0, x0 + bar], [y0, y0], color=INK, linewidth=2.0, solid_capstyle="butt")
     label = f"{nice:g} {'mi' if units == 'imperial' else 'km'}"
-    ax.text(x0 + bar / 2, y0, label, fontsize=SMALLEST_PT, ha="center", va="bottom", color=INK)
+    ax.text(x0 + bar / 2, y0, label, fontsize=SMALLEST_PT * k, ha="center", va="bottom", color=INK)
     nx, ny = x.max() + pad * 0.6, y.max() + pad * 0.2
     ax.annotate(
         "N",
@@ -416,7 +433,7 @@ def route_map(
         xytext=(nx, ny - 0.35 * pad),
         ha="center",
         va="top",
-        fontsize=LABEL_PT,
+        fontsize=LABEL_PT * k,
         fontweight="bold",
         color=INK,
         arrowprops={"arrowstyle": "-|>", "color": INK, "lw": 1.2},
