@@ -191,9 +191,10 @@ class RouteJob:
     analysis: Analysis
     checkpoints: tuple  # Checkpoint, by distance
     riders: tuple  # Entry, in the configuration's order
+    points: tuple = ()  # feed and marshal points (Checkpoint of kind "feed", "marshal"), by distance
     windows: tuple = ()  # CheckpointWindow, by distance; () unless every rider has a start
     together: tuple = ()  # the spread and regroup waits of riders who start together (dicts)
-    day: tuple = ()  # PointDay per checkpoint: the organiser's day sheet; () without windows
+    day: tuple = ()  # PointDay per checkpoint, feed and marshal point: the day sheet; () without starts
 
 
 @dataclass(frozen=True)

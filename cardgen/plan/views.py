@@ -1,7 +1,8 @@
 """What the pages show of one route's riders together, computed once when the route
 is planned (render only formats it): the checkpoints' windows, each rider's food and
 fluid legs and guide rates, the spread and regroup waits of riders who start
-together, and the organiser's day-sheet rows."""
+together, and the organiser's day-sheet rows (checkpoints, feed and marshal
+points)."""
 
 from __future__ import annotations
 
@@ -48,7 +49,8 @@ def route_job(
         )
         for e in entries
     )
-    job = RouteJob(slug, name, notes, planned.analysis, checkpoints, riders)
+    points = tuple(planned.points)  # feed and marshal points
+    job = RouteJob(slug, name, notes, planned.analysis, checkpoints, riders, points)
     plans = [e.plan for e in riders]
     starts = [e.start for e in riders if e.start is not None]
     windows: tuple = ()
@@ -56,6 +58,6 @@ def route_job(
     if plans and len(starts) == len(plans):  # windows from each rider's own start
         rows, _ = checkpoint_windows(plans, checkpoints, starts, margin, speed_rule)
         windows = tuple(rows)
-        if windows:
-            day = tuple(day_points(plans, starts, windows, temperature_c))
+        if windows or points:
+            day = tuple(day_points(plans, starts, windows, temperature_c, points, margin, speed_rule))
     return dataclasses.replace(job, windows=windows, together=tuple(group_spread(job)), day=day)

@@ -165,10 +165,12 @@ def plan_json_text(
     windows=(),
     dated: bool = False,
     to_second: bool = False,
+    points=(),
 ) -> str:
     """All riders' plans of one route as JSON text (stable key order), with each
-    rider's start, bib, wave and food and fluid legs (from ``entries``), their arrival at each checkpoint and the finish, and
-    the checkpoints' windows (docs/contracts.md). Times are local "HH:MM", or ISO 8601
+    rider's start, bib, wave and food and fluid legs (from ``entries``), their arrival
+    at each checkpoint, feed and marshal point (``points``) and the finish, and the
+    checkpoints' windows (docs/contracts.md). Times are local "HH:MM", or ISO 8601
     date-times when the event has a date; to the second ("HH:MM:SS") when the
     event's starts are seconds apart (``to_second``)."""
 
@@ -201,6 +203,9 @@ def plan_json_text(
             }
             for w in windows
         ]
+        data["points"] = [
+            {"name": c.name, "kind": c.kind, "arrival": arrival(plan, start, c.distance)} for c in points
+        ]
         data["finish"] = arrival(plan, start, plan.terrain.length)
         data["legs"] = _legs(entry.legs if entry is not None else ())
         dicts.append(data)
@@ -215,6 +220,7 @@ def plan_json_text(
             }
             for w in windows
         ],
+        "points": [{"name": c.name, "kind": c.kind, "distance_m": _num(c.distance, 1)} for c in points],
         "plans": dicts,
     }
     return json.dumps(top, indent=1, ensure_ascii=False, sort_keys=True) + "\n"

@@ -281,6 +281,7 @@ def _exports(
         windows,
         dated=config.day is not None,
         to_second=to_second,
+        points=job.points,
     )
     files["climbs.csv"] = exports.climbs_csv_text(plans)
     files["route.gpx"] = exports.route_gpx_text(
