@@ -44,8 +44,7 @@ def walking_mask(
     seconds = np.concatenate(([0.0], np.cumsum(np.where(np.isfinite(time), time, 1e12))))
     lo = np.clip(np.arange(n) - k // 2, 0, n - k)
     average = k * step / (seconds[lo + k] - seconds[lo])  # [m/s] over the span around each segment
-    walked = (average < min_speed) & (rider_power > 0) & ~np.asarray(limited, dtype=bool)
-    return walked
+    return np.asarray((average < min_speed) & (rider_power > 0) & ~np.asarray(limited, dtype=bool))
 
 
 def stretches(mask: np.ndarray) -> list[tuple[int, int]]:
