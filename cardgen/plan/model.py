@@ -69,6 +69,7 @@ class ClimbRow:
     battery_left: float | None = None  # [J] usable battery left at the climb's top; None without a motor
     w_prime_top: float | None = None  # [J] W′ balance at the top
     recovered_after: float | None = None  # [m] from the top until W′ is mostly back; None: barely used
+    rider_difficulty: tuple[str, ...] = ()  # words where the band understates the plan (plan/difficulty)
 
 
 @dataclass(frozen=True)

@@ -27,6 +27,7 @@ from cardgen.physics.effort import sustainable_climb_power, w_prime_balance
 from cardgen.physics.forces import gravity_power, headwind
 from cardgen.physics.ride import Ride
 from cardgen.physics.steady import power_for_speed, speed_for_power
+from cardgen.plan.difficulty import CRAWL_LENGTH, CRAWL_SPEED, climb_words
 from cardgen.plan.model import (
     Analysis,
     ClimbRow,
@@ -39,7 +40,7 @@ from cardgen.plan.model import (
     arrival_time,
 )
 from cardgen.plan.pacing import W_PRIME_SLACK, Course, ceiling, day_effort, pace, ridden_mean
-from cardgen.plan.walking import stretches, walking_mask
+from cardgen.plan.walking import stretches, walking_mask, widened
 from cardgen.profiles.riders import Rider
 from cardgen.route.climbs import Climb, Descent, find_climbs, find_descents
 from cardgen.route.cues import cue_sheet
@@ -53,11 +54,9 @@ STEEP_GRADE = 0.10
 #: Battery share kept in reserve when judging whether a route fits: common practice,
 #: no published source.
 BATTERY_RESERVE = 0.20
-#: A three-wheeler slower than this [m/s] for CRAWL_LENGTH [m], or on one climb for
-#: CRAWL_TIME [s], gets a "crawl" caution: common practice, no published source (on
-#: trails hand cyclists' 15th-percentile speed was 8 km/h, FHWA-HRT-04-103, 2004 [V]).
-CRAWL_SPEED = 4.0 / KMH_PER_MS
-CRAWL_LENGTH = 200.0
+#: A three-wheeler slower than CRAWL_SPEED for CRAWL_LENGTH (the figures of the climbs'
+#: "crawl" word, :mod:`cardgen.plan.difficulty`), or on one climb for CRAWL_TIME [s],
+#: gets a "crawl" caution: common practice, no published source.
 CRAWL_TIME = 30 * 60.0
 #: A driven front wheel (arm-powered handcycles) may slip from this grade [-]: from
 #: memory, no published source checked.
@@ -268,7 +267,7 @@ def _route_notices(
     terrain = route.terrain
     on_climb = np.zeros(terrain.grade.size, dtype=bool)  # with the walks that run into each climb
     for climb in route.climbs:
-        on_climb[slice(*_walk_reach(climb, terrain))] = True
+        on_climb[slice(*widened(walked, *_walk_reach(climb, terrain)))] = True
     warnings = [Notice("track", "info", (("text", w),)) for w in route.warnings]
     warnings.extend(_walks_off_climbs(walked, on_climb, terrain, walk_speed))
     on_descents = {id(w) for row in descents for w in row.warnings}
@@ -333,7 +332,8 @@ WALK_REACH = 100.0
 
 def _walk_reach(climb: Climb, terrain: Terrain) -> tuple[int, int]:
     """Segments whose walking counts as the climb's: the climb and
-    :data:`WALK_REACH` either side."""
+    :data:`WALK_REACH` either side (and, by :func:`widened`, the whole of a walked
+    stretch that runs into them)."""
     k = int(round(WALK_REACH / terrain.step))
     return max(0, climb.start - k), min(terrain.grade.size, climb.end + k)
 
@@ -394,7 +394,7 @@ def _climb_row(
     need = rider_power_for_speed(motor, ratio, rider.target_speed, resistance=vehicle.resistance, **air)
     time = float(np.sum(ride.time[segs]))
     speeds = ride.mean_speed[segs]
-    reach = slice(*_walk_reach(climb, terrain))
+    reach = slice(*widened(walked, *_walk_reach(climb, terrain)))
     slow = float(np.sum(walked[reach]) * terrain.step)
     finite = np.isfinite(ride.time[segs])  # a stalled rider never completes some segments
     ridden = float(np.sum(ride.time[segs][finite]))
@@ -464,6 +464,9 @@ def _climb_row(
         assist_level=level,
         assist_name=None if motor is None else motor.level_name(level or 0),
         warnings=tuple(warnings),
+        rider_difficulty=climb_words(
+            climb.band, cp=rider.cp, rider_power=rider_power, walked=slow, speed=speeds, step=terrain.step
+        ),
         power_curve=(CURVE_SPEEDS, np.asarray(curve)),
         power_at_effort=float(needed(speed_at_effort)),
         time_above_cp=float(np.sum(ride.time[segs][finite & (ride.rider_power[segs] > rider.cp)])),
