@@ -24,7 +24,7 @@ from dataclasses import dataclass
 from datetime import datetime, timedelta
 
 from cardgen.plan.event import CheckpointWindow, checkpoint_windows
-from cardgen.plan.fuel import fluid_rate, legs
+from cardgen.plan.fuel import Leg, fluid_rate, legs
 from cardgen.plan.model import Plan
 from cardgen.route.checkpoints import Checkpoint
 from cardgen.units import KMH_PER_MS
@@ -82,7 +82,9 @@ def supplies_food(point: Checkpoint | PointDay) -> bool:
     return point.kind == "feed" or (point.kind == "checkpoint" and point.stop > 0)
 
 
-def _stock_legs(plans: Sequence[Plan], windows: Sequence[CheckpointWindow], temperature_c) -> list[dict]:
+def _stock_legs(
+    plans: Sequence[Plan], windows: Sequence[CheckpointWindow], temperature_c: float | None
+) -> list[dict[float, Leg]]:
     """Per rider, the leg that starts at each place where food is (by distance [m]):
     from there to the next such place or the finish."""
     places = sorted(

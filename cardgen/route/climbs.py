@@ -8,6 +8,7 @@ as restated by several independent secondary sources (no primary citation found)
 
 from __future__ import annotations
 
+from collections.abc import Sequence
 from dataclasses import dataclass
 from typing import Any
 
@@ -27,30 +28,9 @@ DIP_TOLERANCE = 10.0
 MAX_GAP = 500.0
 #: Window over which climbs are found, and the shortest pitch reported [m].
 GRADE_WINDOW = 100.0
-#: The steepest pitch is reported over the shortest window (a multiple of 50 m, up to
-#: MAX_PITCH) whose least-squares slope the elevation noise moves by at most this
-#: much (1 sigma) [-]: so noisy GPS elevations do not print walls that are not there.
-PITCH_NOISE = 0.003
-MAX_PITCH = 500.0
-
-
-def pitch_window(terrain: Terrain) -> float:
-    """The length [m] over which to report the steepest pitch of this terrain.
-
-    Notes
-    -----
-    The elevation noise σ is the robust spread (1.4826 × median absolute deviation)
-    of the resampled elevation about the smoothed one. A least-squares slope over N
-    points Δ apart has the standard error σ·√(12/(N(N² − 1)))/Δ (ordinary least
-    squares); the window is the shortest with that error at most :data:`PITCH_NOISE`.
-    """
-    residual = terrain.elevation_raw - terrain.elevation
-    sigma = 1.4826 * float(np.median(np.abs(residual - np.median(residual))))
-    for length in np.arange(GRADE_WINDOW, MAX_PITCH + 1, 50.0):
-        n = int(round(length / terrain.step)) + 1
-        if sigma * np.sqrt(12.0 / (n * (n * n - 1))) / terrain.step <= PITCH_NOISE:
-            return float(length)
-    return MAX_PITCH
+#: Neighbouring ground counts as part of the steepest pitch while it is at most this
+#: much less steep [-]: half the 0.5-point step in which grades are printed.
+PITCH_TOLERANCE = 0.0025
 
 
 #: Our own plain-language bands on the FIETS index: (upper bound, words).
@@ -126,24 +106,51 @@ class Climb(Descent):
     band: str = ""
 
 
-def steepest_pitch(elevation: np.ndarray, step: float, points: int) -> float:
-    """The steepest grade [-] of any stretch of ``points`` steps, each stretch's grade
-    the least-squares slope of all its points.
+def steepest_pitch(
+    elevation: np.ndarray, step: float, points: int, knots: Sequence[tuple[float, float, float]] = ()
+) -> tuple[float, float]:
+    """The steepest grade [-] over ``points`` steps of a smoothed profile, and the
+    length [m] of the stretch it describes.
+
+    Parameters
+    ----------
+    elevation : array [m] of the fitted profile (:mod:`cardgen.route.profile_fit`)
+    step : float [m] grid spacing
+    points : int  steps of the window
+    knots : (place, low, high) [node index of ``elevation``, not whole] of the
+        profile's knots and the 95 % ranges of their places
 
     Notes
     -----
-    A least-squares slope over n + 1 equally spaced points, Σ(x − x̄)(h − h̄)/Σ(x − x̄)²,
-    weighs every point, so noise and a smoothing filter's overshoot at one end move it
-    far less than the difference of the two end points does. A stretch shorter than
-    the window is fitted whole.
+    On straight pieces the grade of a stretch is the rise over its length. The
+    stretch is the run of steps around the steepest ``points`` steps that are each at
+    most :data:`PITCH_TOLERANCE` less steep than it; where it ends at a knot, it is
+    counted from the latest place the knot's range allows to the earliest (so noise
+    that moves a knot never makes the stretch longer than the ground's), and never
+    shorter than ``points`` steps. A profile shorter than that is taken whole.
     """
     n = min(points, elevation.size - 1)
     if n < 1:
-        return 0.0
-    x = (np.arange(n + 1) - n / 2.0) * step
-    weights = x / np.sum(x * x)
-    windows = np.lib.stride_tricks.sliding_window_view(elevation, n + 1)
-    return float(np.max(windows @ weights))
+        return 0.0, 0.0
+    rise = elevation[n:] - elevation[:-n]
+    first = int(np.argmax(rise))
+    grade = float(rise[first]) / (n * step)
+    steep = np.diff(elevation) / step >= grade - PITCH_TOLERANCE
+    inside = np.flatnonzero(steep[first : first + n])
+    if inside.size == 0:
+        return grade, n * step
+    start = end = first + int(inside[0])
+    while start > 0 and steep[start - 1]:
+        start -= 1
+    while end + 1 < steep.size and steep[end + 1]:
+        end += 1
+    begins, ends = float(start), float(end + 1)
+    for place, low, high in knots:
+        if start - 1 <= place <= start + 1:  # the knot where the run begins, to a step
+            begins = high
+        if end <= place <= end + 2:
+            ends = low
+    return grade, max(n, ends - begins) * step
 
 
 def _find(
@@ -155,8 +162,6 @@ def _find(
     max_gap: float,
 ) -> list[dict[str, Any]]:
     e = terrain.elevation * direction  # descents are climbs of the negated profile
-    pitch = pitch_window(terrain)
-    pitch_steps = max(1, int(round(pitch / terrain.step)))
     step = terrain.step
     n = e.size
     k = max(1, min(int(round(GRADE_WINDOW / step)), n - 1))
@@ -193,7 +198,8 @@ def _find(
         length = (end - start) * step
         if height < min_gain or height / length < min_avg_grade:
             continue
-        steepest = steepest_pitch(e[start : end + 1], step, pitch_steps)
+        knots = [(p / step - start, lo / step - start, hi / step - start) for p, lo, hi in terrain.knots]
+        steepest, pitch = steepest_pitch(e[start : end + 1], step, k, knots)
         top = float(terrain.elevation[start : end + 1].max())
         hills.append(
             dict(
