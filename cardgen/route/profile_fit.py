@@ -294,7 +294,7 @@ def fit_linear_spline(elevation: np.ndarray, knots: np.ndarray) -> np.ndarray:
 class ProfileFit:
     """A profile as straight pieces: ``elevation`` [m] at every node, and per knot
     (both ends included) its ``knots`` place and the ``knot_low``/``knot_high`` ends of
-    its 95 % range [node index, not whole]."""
+    its 99 % range [node index, not whole]."""
 
     elevation: np.ndarray
     knots: np.ndarray
@@ -302,13 +302,13 @@ class ProfileFit:
     knot_high: np.ndarray
 
 
-#: χ² with one degree of freedom at 95 %: a knot's range is where moving it raises
+#: χ² with one degree of freedom at 99 %: a knot's range is where moving it raises
 #: the residual sum of squares by less than this many σ².
-KNOT_RANGE_CHI2 = 3.84
+KNOT_RANGE_CHI2 = 6.63
 
 
 def knot_ranges(elevation: np.ndarray, knots: np.ndarray, noise: float) -> tuple[np.ndarray, np.ndarray]:
-    """The 95 % range of each knot's place [node index, not whole]: where a knot fits
+    """The 99 % range of each knot's place [node index, not whole]: where a knot fits
     worse than at its place by less than :data:`KNOT_RANGE_CHI2`·σ² (a
     profile-likelihood interval for the place of a change in a two-phase
     regression: Hinkley 1971), with the cut as a parabola through the node nearest the
