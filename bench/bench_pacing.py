@@ -30,12 +30,13 @@ from bench_route import OUT, make_route  # noqa: E402
 
 from cardgen.io.gpx import read_gpx  # noqa: E402
 from cardgen.physics.atmosphere import Conditions  # noqa: E402
+from cardgen.physics.braking import braking  # noqa: E402
 from cardgen.physics.effort import effort_power  # noqa: E402
 from cardgen.plan import analyse, make_plan  # noqa: E402
 from cardgen.plan import rider as plan_rider  # noqa: E402
 from cardgen.plan.model import Effort  # noqa: E402
 from cardgen.plan.pacing import Course, ceiling, pace, ridden_mean  # noqa: E402
-from cardgen.plan.rider import braking, segment_air, speed_caps  # noqa: E402
+from cardgen.plan.rider import segment_air, speed_caps  # noqa: E402
 from cardgen.profiles.riders import Rider  # noqa: E402
 from cardgen.profiles.vehicles import builtin_vehicles  # noqa: E402
 from cardgen.route.terrain import build_terrain  # noqa: E402
