@@ -98,11 +98,11 @@ def test_noise_alone_makes_no_knot(seed):
     assert np.ptp(np.diff(fit)) < 1e-9
 
 
-def test_a_knots_range_holds_its_true_place_nineteen_times_in_twenty():
+def test_a_knots_range_holds_its_true_place_ninety_nine_times_in_a_hundred():
     """A 300 m wall of 15 % between flats, its steps between nodes, under σ = 2.5 m of
-    white noise, 100 fixed seeds: the 95 % range of each of its two knots (Hinkley
-    1971, profile likelihood) holds the drawn place in at least 90 % of the 200 cases
-    (measured: 94.5 %)."""
+    white noise, 100 fixed seeds: the 99 % range of each of its two knots (Hinkley
+    1971, profile likelihood) holds the drawn place in at least 97 % of the 200 cases
+    (measured: 99.5 %; with χ² at 95 %, 94.5 %)."""
     x = np.arange(231) + 0.37
     drawn_knots = (100.2 - 0.37, 130.7 - 0.37)  # [node]
     held = []
@@ -112,4 +112,4 @@ def test_a_knots_range_holds_its_true_place_nineteen_times_in_twenty():
         for place in drawn_knots:
             j = int(np.argmin(np.abs(fit.knots - place)))
             held.append(fit.knot_low[j] <= place <= fit.knot_high[j])
-    assert np.mean(held) >= 0.9
+    assert np.mean(held) >= 0.97

@@ -22,7 +22,7 @@ import numpy as np
 
 from cardgen.physics.forces import Resistance
 from cardgen.physics.steady import power_for_speed, speed_for_power
-from cardgen.units import Floats
+from cardgen.units import Floats, scalar_or_array
 
 
 @dataclass(frozen=True)
@@ -55,7 +55,7 @@ class Motor:
         return f"level {level} ({self.levels[level - 1] * 100:.0f} %)"
 
 
-def taper_factor(speed: Floats, cutoff_speed: float, taper: float) -> Any:
+def taper_factor(speed: Floats, cutoff_speed: float, taper: float) -> Floats:
     """Share of assistance left at a speed: 1 below ``cutoff − taper``, falling
     linearly to 0 at the cut-off and above (the "progressively reduced and finally
     cut off" of Regulation (EU) No 168/2013, Art. 2(2)(h))."""
@@ -65,7 +65,7 @@ def taper_factor(speed: Floats, cutoff_speed: float, taper: float) -> Any:
     return np.clip((cutoff_speed - v) / taper, 0.0, 1.0)[()]
 
 
-def motor_power(motor: Motor, ratio: Floats, speed: Floats, rider_power: Floats) -> Any:
+def motor_power(motor: Motor, ratio: Floats, speed: Floats, rider_power: Floats) -> Floats:
     """Motor power at the wheel [W].
 
     Parameters
@@ -82,7 +82,7 @@ def motor_power(motor: Motor, ratio: Floats, speed: Floats, rider_power: Floats)
     """
     p = np.asarray(rider_power, dtype=float)
     assist = np.minimum(np.asarray(ratio, dtype=float) * np.maximum(p, 0.0), motor.peak_power)
-    return (assist * taper_factor(speed, motor.cutoff_speed, motor.taper))[()]
+    return scalar_or_array(assist * taper_factor(speed, motor.cutoff_speed, motor.taper))
 
 
 def motor_power_and_slope(
@@ -115,7 +115,7 @@ def assisted_speed(
     grade: Floats,
     headwind: Floats,
     air_density: Floats,
-) -> Any:
+) -> Floats:
     """Steady speed [m/s] with the rider's power and assist at ``ratio``.
 
     Notes
@@ -166,7 +166,7 @@ def rider_power_for_speed(
     grade: Floats,
     headwind: Floats,
     air_density: Floats,
-) -> Any:
+) -> Floats:
     """Rider's pedal power [W] to hold ``speed`` with assist at ``ratio`` (0 = none).
 
     Notes

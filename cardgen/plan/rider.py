@@ -644,8 +644,10 @@ def _descent_rows(
     grade = np.array([d.avg_grade for d in descents])
     mean_wind = np.array([np.mean(wind[d.start : d.end]) for d in descents])
     mean_rho = np.array([np.mean(rho[d.start : d.end]) for d in descents])
-    coasts = speed_for_power(
-        0.0, **vehicle.resistance.steady(), grade=grade, headwind=mean_wind, air_density=mean_rho
+    coasts = np.asarray(
+        speed_for_power(
+            0.0, **vehicle.resistance.steady(), grade=grade, headwind=mean_wind, air_density=mean_rho
+        )
     )  # all descents at once
     rows = []
     for number, (descent, coast) in enumerate(zip(descents, coasts, strict=True), 1):

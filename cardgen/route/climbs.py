@@ -118,7 +118,7 @@ def steepest_pitch(
     step : float [m] grid spacing
     points : int  steps of the window
     knots : (place, low, high) [node index of ``elevation``, not whole] of the
-        profile's knots and the 95 % ranges of their places
+        profile's knots and the 99 % ranges of their places
 
     Notes
     -----

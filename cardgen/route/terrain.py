@@ -61,7 +61,7 @@ class Terrain:
     ``step`` [m] is the grid spacing; ``gain``/``loss`` [m] use :data:`GAIN_DEADBAND`.
     ``junctions`` are the corners that turn at a single track point (see
     :mod:`cardgen.route.corners`): turns at junctions rather than bends of a road.
-    ``knots`` are where the smoothed profile's grade changes, each with the 95 %
+    ``knots`` are where the smoothed profile's grade changes, each with the 99 %
     range of its place (:func:`cardgen.route.profile_fit.knot_ranges`).
     """
 
@@ -78,7 +78,7 @@ class Terrain:
     loss: float
     gaps: tuple[float, ...] = ()  # [m] where gaps between track segments were joined
     junctions: tuple[tuple[float, float], ...] = ()  # [m] (start, end) of turns at a single track point
-    knots: tuple[tuple[float, float, float], ...] = ()  # [m] (place, 95 % low, high) where the grade changes
+    knots: tuple[tuple[float, float, float], ...] = ()  # [m] (place, 99 % low, high) where the grade changes
 
     @property
     def length(self) -> float:
