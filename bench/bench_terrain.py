@@ -24,6 +24,7 @@ from bench_route import OUT, make_route  # noqa: E402
 
 from cardgen.io.gpx import read_gpx  # noqa: E402
 from cardgen.route import terrain  # noqa: E402
+from cardgen.route.profile_fit import ProfileFit  # noqa: E402
 
 
 # The smoothing as cardgen did it before this change, kept here only for the comparison.
@@ -50,8 +51,11 @@ def cpu(fn, repeat: int) -> float:
     return best
 
 
-def old_smooth(elevation, step, noise=None):
-    return old_savitzky_golay(np.asarray(elevation, dtype=float), int(round(250.0 / step)) | 1)
+def old_smooth(elevation, step, noise):
+    """The old smoothing in the place of the fit (no knots)."""
+    e = np.asarray(elevation, dtype=float)
+    ends = np.array([0.0, e.size - 1.0])
+    return ProfileFit(old_savitzky_golay(e, int(round(250.0 / step)) | 1), ends, ends, ends)
 
 
 def main() -> None:
@@ -59,18 +63,18 @@ def main() -> None:
     parser.add_argument("--repeat", type=int, default=3)
     args = parser.parse_args()
     OUT.mkdir(exist_ok=True)
-    fit = terrain.smooth_elevation
+    fit = terrain.fit_profile
     for points in (16_000, 120_000):
         path = OUT / f"terrain-{points}.gpx"
         if not path.exists():
             make_route(path, points)
         track = read_gpx(path)
         build = partial(terrain.build_terrain, track)
-        terrain.smooth_elevation = fit
+        terrain.fit_profile = fit
         new = cpu(build, args.repeat)
-        terrain.smooth_elevation = old_smooth
+        terrain.fit_profile = old_smooth
         old = cpu(build, args.repeat)
-        terrain.smooth_elevation = fit
+        terrain.fit_profile = fit
         print(
             f"{points * 10 / 1000:,.0f} km: terrain build with the fit {new:.3f} CPU-s, "
             f"with Savitzky–Golay {old:.3f} CPU-s: {new / old:.1f}×"
