@@ -361,7 +361,7 @@ class _Grid:
 
 
 #: Grids of block times kept for riders of one vehicle on one route (keyed by content).
-TABLE_CACHE = 16
+TABLE_CACHE = 32
 _grids: OrderedDict[str, _Grid] = OrderedDict()
 
 
