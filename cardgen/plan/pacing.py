@@ -35,6 +35,7 @@ import dataclasses
 import functools
 import hashlib
 from collections import OrderedDict
+from collections.abc import Callable
 from dataclasses import dataclass
 from typing import Any
 
@@ -299,10 +300,12 @@ def _windows(balance: np.ndarray, w_prime: float, keep: float) -> np.ndarray:
     return np.asarray(inside & (run >= 0) & (lowest[np.maximum(run, 0)] < keep))
 
 
-_last: dict[str, tuple[tuple, _Programme]] = {}
+_last: dict[str, tuple[tuple[object, ...], _Programme]] = {}
 
 
-def _programme(powers, times, cp, w_prime, window, keep) -> _Programme:
+def _programme(
+    powers: np.ndarray, times: np.ndarray, cp: float, w_prime: float, window: np.ndarray, keep: float
+) -> _Programme:
     """The programme for these windows, kept for the next call with the same ones
     (the ride's mean is matched by asking again with a corrected mean)."""
     key = (id(times), times.shape, float(cp), float(w_prime), float(keep), window.tobytes())
@@ -381,7 +384,9 @@ def block_times(course: Course, top: float) -> Table:
     return Table(powers, times, grid.starts)
 
 
-def _result(powers, times, index, starts, kappa, bound) -> Pacing:
+def _result(
+    powers: np.ndarray, times: np.ndarray, index: np.ndarray, starts: np.ndarray, kappa: float, bound: bool
+) -> Pacing:
     chosen = times[index, np.arange(index.size)]
     total = float(np.sum(chosen))
     power = np.repeat(powers[index], np.diff(starts))
@@ -391,17 +396,25 @@ def _result(powers, times, index, starts, kappa, bound) -> Pacing:
 def _independent(powers: np.ndarray, times: np.ndarray, kappas: np.ndarray) -> np.ndarray:
     """Each block's cheapest level for each multiplier: array (kappas, blocks)."""
     cost = times[None, :, :] * (powers[None, :, None] + kappas[:, None, None])
-    return np.argmin(cost, axis=1)
+    return np.asarray(np.argmin(cost, axis=1))
 
 
-def _mean(powers, times, index) -> np.ndarray:
+def _mean(powers: np.ndarray, times: np.ndarray, index: np.ndarray) -> np.ndarray:
     """Time-weighted mean power of each row of chosen levels (kappas, blocks)."""
     chosen = times[index, np.arange(index.shape[1])[None, :]]
-    return np.sum(powers[index] * chosen, axis=1) / np.sum(chosen, axis=1)
+    return np.asarray(np.sum(powers[index] * chosen, axis=1) / np.sum(chosen, axis=1))
 
 
 def _bisect(
-    solve, powers, times, target, low, high, rounds=ROUNDS, count=KAPPAS, tried: _Tried | None = None
+    solve: Callable[[np.ndarray], np.ndarray],
+    powers: np.ndarray,
+    times: np.ndarray,
+    target: float,
+    low: float,
+    high: float,
+    rounds: int = ROUNDS,
+    count: int = KAPPAS,
+    tried: _Tried | None = None,
 ) -> tuple[float, np.ndarray]:
     """κ on a log scale between ``low`` and ``high`` whose plan's mean power is
     closest to ``target``; ``solve`` maps an array of κ to their plans. Each round
@@ -460,7 +473,15 @@ class _Programme:
     The transitions depend only on the course, the levels and the rider, so they are
     worked out once and every multiplier reuses them."""
 
-    def __init__(self, powers, times, cp: float, w_prime: float, window: np.ndarray, keep: float):
+    def __init__(
+        self,
+        powers: np.ndarray,
+        times: np.ndarray,
+        cp: float,
+        w_prime: float,
+        window: np.ndarray,
+        keep: float,
+    ):
         self.powers, self.all_times = powers, times
         self.inside = np.flatnonzero(window)
         self.times = times[:, self.inside].T  # (window blocks, levels)
