@@ -498,14 +498,14 @@ def _render(config, routes, old, out, tmp, pdf, progress, report, reusable, jobs
 
     if pdf:
         t_pack = time.perf_counter()
-        packs = render_packs(
+        for target, data in render_packs(
             config,
             [(r.slug, manifest["routes"][r.slug]["summary"]) for r in routes if r.slug in manifest["routes"]],
             tmp,
             {r.slug for r in fresh},
-        )
-        for target, data in packs.items():
-            target.write_bytes(data)
+        ):
+            target.write_bytes(data)  # one pack in memory at a time
+            del data
         report.seconds["packs"] = time.perf_counter() - t_pack
     summaries = [manifest["routes"][r.slug]["summary"] for r in routes if r.slug in manifest["routes"]]
     write_files(tmp, render_index(config, site, summaries, packs=(tmp / "all-cards.pdf").is_file()))

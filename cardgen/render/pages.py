@@ -775,21 +775,24 @@ def _pack_order(job: RouteJob, views, to_second: bool = False) -> list[dict]:
     return rows
 
 
-def render_packs(config, routes: list[tuple[str, dict]], folder: Path, fresh: set[str]) -> dict[Path, bytes]:
+def render_packs(
+    config, routes: list[tuple[str, dict]], folder: Path, fresh: set[str]
+) -> Iterator[tuple[Path, bytes]]:
     """Print packs (docs/contracts.md): ``all-cards.pdf`` in each route folder that
     was rendered now (``fresh`` slugs; a reused route keeps its pack) and at the
     root for the whole event, with ``all-cards-2up.pdf`` beside each for A5 cards,
     made from the cards in ``folder``. ``routes`` are (slug, summary) in site order.
-    Returns the packs by the file each goes to."""
+    Yields each pack with the file it goes to, one at a time (a 300-rider event's
+    eight packs together are some 80 MB of PDF, and their making holds more: write
+    each before asking for the next)."""
     from cardgen.render.packs import PackEntry, impose_two_up, make_pack
 
     env = _environment(config.templates, config.units)
     page = page_geometry(config.card_size, config.large_print)
     size = {"A5": (419.53, 595.28), "A4": (595.28, 841.89), "pocket": (280.63, 595.28)}[config.card_size]
     cover = env.get_template("cover.html")
-    written: dict[Path, bytes] = {}
 
-    def pack(entries, where: Path, subtitle: str, show_route: bool) -> None:
+    def pack(entries, where: Path, subtitle: str, show_route: bool) -> Iterator[tuple[Path, bytes]]:
         if not entries:
             return
         target = where / "all-cards.pdf"
@@ -807,9 +810,13 @@ def render_packs(config, routes: list[tuple[str, dict]], folder: Path, fresh: se
             target.stem,
             size,
         )
-        written[target] = data
         if config.card_size == "A5":
-            written[where / "all-cards-2up.pdf"] = impose_two_up(data, "all-cards-2up", firsts)
+            two_up = impose_two_up(data, "all-cards-2up", firsts)
+            yield target, data
+            del data
+            yield where / "all-cards-2up.pdf", two_up
+        else:
+            yield target, data
 
     everyone = []
     for slug, summary in routes:
@@ -819,10 +826,9 @@ def render_packs(config, routes: list[tuple[str, dict]], folder: Path, fresh: se
             if (folder / slug / r["card"]).is_file()
         ]
         if slug in fresh:
-            pack(entries, folder / slug, summary["name"], show_route=False)
+            yield from pack(entries, folder / slug, summary["name"], show_route=False)
         everyone.extend(entries)
-    pack(everyone, folder, "every route", show_route=True)
-    return written
+    yield from pack(everyone, folder, "every route", show_route=True)
 
 
 def route_summary(job: RouteJob, views, units: str, to_second: bool = False) -> dict:
