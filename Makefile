@@ -22,24 +22,21 @@ $(VENV)/installed: $(SOURCES)
 demo: system $(VENV)/installed
 	$(BIN)/cardgen build
 
-lint: $(VENV)/installed
+# Against the source tree, no re-install (worktrees may share one .venv).
+lint:
+	test -x $(BIN)/python || $(MAKE) $(VENV)/installed
 	$(BIN)/ruff check $(CODE) templates
 	$(BIN)/ruff format --check $(CODE)
 	$(BIN)/lint-imports
 	$(BIN)/mypy cardgen
 
 # Everything, as CI runs it, with the coverage figure of the installed package.
-test: system $(VENV)/installed lint
-	$(BIN)/pytest -q --cov --cov-report=term -m "not untraced"
-	$(BIN)/pytest -q -p no:cacheprovider -m untraced
+test: system $(VENV)/installed
+	$(MAKE) lint
+	$(BIN)/pytest -q --cov --cov-report=term
 
 # Lint and the tests not marked slow, against the source tree (no re-install).
-check:
-	test -x $(BIN)/python || $(MAKE) $(VENV)/installed
-	$(BIN)/ruff check $(CODE) templates
-	$(BIN)/ruff format --check $(CODE)
-	$(BIN)/lint-imports
-	$(BIN)/mypy cardgen
+check: lint
 	PYTHONPATH=$(CURDIR) $(BIN)/python -m pytest -q -m "not slow" -p no:cacheprovider
 
 bench: $(VENV)/installed

@@ -22,10 +22,11 @@ from bench_route import OUT, make_route  # noqa: E402
 
 from cardgen.io.gpx import read_gpx  # noqa: E402
 from cardgen.physics.atmosphere import Conditions  # noqa: E402
+from cardgen.physics.braking import BRAKING  # noqa: E402
 from cardgen.physics.effort import effort_power  # noqa: E402
 from cardgen.physics.ride import _scan, simulate, speed_limit_profile  # noqa: E402
 from cardgen.plan import analyse  # noqa: E402
-from cardgen.plan.rider import BRAKING, segment_air, speed_caps  # noqa: E402
+from cardgen.plan.rider import segment_air, speed_caps  # noqa: E402
 from cardgen.profiles.motors import find_motor  # noqa: E402
 from cardgen.profiles.riders import Rider  # noqa: E402
 from cardgen.profiles.vehicles import builtin_vehicles  # noqa: E402

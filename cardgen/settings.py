@@ -24,6 +24,8 @@ class RouteConfig:
     stop: float = 0.0  # [s] planned stop at each checkpoint
     stops: tuple[float, ...] = ()  # [s] planned stop at each checkpoint listed, in order
     cue_texts: tuple[tuple[float, str], ...] = ()  # (where [m], the organiser's words)
+    feeds: tuple = ()  # feed points: names (str) or distances [m] (float), no planned stop
+    marshals: tuple = ()  # marshal points, the same
 
 
 @dataclass(frozen=True)

@@ -81,3 +81,14 @@ def test_impossible_inputs_give_nan(t, p, rh):
 def test_actual_temperature_overrides_isa():
     warm = air_density_isa(0.0, temperature=303.15)
     assert warm == pytest.approx(1.1644, abs=2e-4)  # same as dry air at 30 °C, 1013.25 hPa
+
+
+def test_density_along_a_route_is_the_isa_density_at_each_segments_mid_height():
+    """ISO 2533 table (above): 1.2250 kg/m³ at 0 m, 1.1117 at 1000 m, 1.0066 at 2000 m;
+    a segment from 0 to 2000 m takes its mid-height, 1000 m. Heights beyond the
+    troposphere's table (a damaged elevation) are clipped, never NaN."""
+    from cardgen.physics.atmosphere import density_along
+
+    rho = density_along(np.array([0.0, 0.0, 2000.0, 2000.0, 50_000.0]))
+    np.testing.assert_allclose(rho[:3], [1.2250, 1.1117, 1.0066], atol=5e-4)
+    assert rho.shape == (4,) and np.isfinite(rho).all()

@@ -17,6 +17,7 @@ CLIMB_KEYS = {
     "max_grade_pct",
     "score",
     "band",
+    "rider_difficulty",
     "power_for_target_w",
     "speed_at_effort_kmh",
     "time_s",

@@ -1,6 +1,6 @@
-"""The organiser's day sheet, recomputed from plan.json: every checkpoint's riders,
-first and last arrival, quarter-hour counts, window, feed stock and last departure
-are the plans' own numbers."""
+"""The organiser's day sheet, recomputed from plan.json: every checkpoint's, feed
+point's and marshal point's riders, first and last arrival, quarter-hour counts,
+window, stock and last departure are the plans' own numbers."""
 
 from __future__ import annotations
 
@@ -32,6 +32,8 @@ riders = ["H1", "H2"]
 [[routes]]
 gpx = "day-ride.gpx"
 stops_min = [10, 30, 0, 10]
+feeds = [55, 88]
+marshals = [12.5, "Checkpoint 3: Yarrowvane Top"]
 """ + "".join(
     f'[[riders]]\nname = "{n}"\nvehicle = "{v}"\n'
     for n, v in [
@@ -57,39 +59,105 @@ def _t(text: str) -> datetime:
     return datetime.strptime(text, "%H:%M:%S" if text.count(":") == 2 else "%H:%M")
 
 
+def _points(plan: dict) -> list[dict]:
+    """Every point of the route in the sheet's order (by distance, a checkpoint before
+    another point at the same place), each with its kind, planned stop and the riders'
+    arrivals (datetimes; None where a rider does not arrive)."""
+    out = [
+        {
+            "name": cp["name"],
+            "kind": "checkpoint",
+            "distance_m": cp["distance_m"],
+            "window": (cp["opens"], cp["closes"]),
+            "stop_s": plan["plans"][0]["checkpoints"][k]["stop_s"],
+            "arrivals": [p["checkpoints"][k]["arrival"] for p in plan["plans"]],
+        }
+        for k, cp in enumerate(plan["checkpoints"])
+    ] + [
+        {
+            "name": pt["name"],
+            "kind": pt["kind"],
+            "distance_m": pt["distance_m"],
+            "window": None,
+            "stop_s": 0,
+            "arrivals": [p["points"][j]["arrival"] for p in plan["plans"]],
+        }
+        for j, pt in enumerate(plan["points"])
+    ]
+    out.sort(key=lambda x: (x["distance_m"], x["kind"] != "checkpoint"))
+    for x in out:
+        x["arrivals"] = [_t(a) if a else None for a in x["arrivals"]]
+    return out
+
+
+#: The top of the carbohydrate guide [g/h] by the whole ride's hours: Thomas, Erdman &
+#: Burke 2016, "Nutrition and Athletic Performance", Med Sci Sports Exerc 48(3), Table 4
+#: [S]: 1–2.5 h 30–60 g/h, longer up to 90 g/h; 45–75 min small amounts (cardgen: up to
+#: 30 g/h), under about 45 min none.
+CARBS_TOP = ((0.75, 0.0), (1.25, 30.0), (2.5, 60.0), (float("inf"), 90.0))
+#: The top of the fluid guide at 22 °C [L/h]: Sawka et al. 2007's 0.4–0.8 L/h split by
+#: temperature, 0.5–0.7 L/h from 15 to 25 °C (common practice, no published source).
+FLUID_TOP_22C = 0.7
+
+
+def _stock(plan: dict, points: list[dict], k: int) -> tuple[float, float]:
+    """Carbohydrate [g] and fluid [L] to stock at ``points[k]``, worked out from the
+    arrivals alone: each rider due there rides from there to the next place with food
+    (a feed point or a checkpoint with a stop) or the finish; the riding time of that
+    leg is the arrival there less the arrival here and the stop here."""
+    here = points[k]
+    later = [x for x in points[k + 1 :] if x["distance_m"] > here["distance_m"]]
+    after = next((x for x in later if x["kind"] == "feed" or x["stop_s"] > 0), None)
+    carbs = fluid = 0.0
+    for i, p in enumerate(plan["plans"]):
+        arrive = here["arrivals"][i]
+        if arrive is None:
+            continue
+        end = after["arrivals"][i] if after else _t(p["finish"])
+        hours = ((end - arrive).total_seconds() - here["stop_s"]) / 3600
+        stopped = sum(c["stop_s"] for c in p["checkpoints"])
+        ride_h = ((_t(p["finish"]) - _t(p["rider"]["start"])).total_seconds() - stopped) / 3600
+        carbs += next(top for limit, top in CARBS_TOP if ride_h <= limit) * hours
+        fluid += FLUID_TOP_22C * hours
+    return carbs * (1 + STOCK_MARGIN), fluid * (1 + STOCK_MARGIN)
+
+
 def test_every_number_of_the_day_sheet_comes_from_the_plans(site):
     plan = json.loads((site / "day-ride" / "plan.json").read_text())
     rows = list(csv.DictReader((site / "day-sheet.csv").read_text(encoding="utf-8").splitlines()))
-    assert [r["checkpoint"] for r in rows] == [c["name"] for c in plan["checkpoints"]]
+    points = _points(plan)
+    assert [(r["checkpoint"], r["kind"]) for r in rows] == [(x["name"], x["kind"]) for x in points]
+    assert [r["kind"] for r in rows].count("feed") == 2 and [r["kind"] for r in rows].count("marshal") == 2
     starts = [_t(p["rider"]["start"]) for p in plan["plans"]]
-    for k, (row, cp) in enumerate(zip(rows, plan["checkpoints"], strict=True)):
-        arrivals = [
-            _t(p["checkpoints"][k]["arrival"]) for p in plan["plans"] if p["checkpoints"][k]["arrival"]
-        ]
+    for k, (row, x) in enumerate(zip(rows, points, strict=True)):
+        arrivals = [a for a in x["arrivals"] if a is not None]
         assert int(row["riders"]) == len(arrivals) == len(plan["plans"])
+        assert float(row["km"]) == pytest.approx(x["distance_m"] / 1000, abs=0.005)
         # the clock is printed to the minute (starts are half a minute apart: to the second)
         assert _t(row["first"]) == min(arrivals).replace(microsecond=0)
         assert _t(row["last"]) == max(arrivals).replace(microsecond=0)
-        assert (row["opens"], row["closes"]) == (cp["opens"], cp["closes"])
-        assert _t(row["opens"]) <= min(arrivals) and max(arrivals) + timedelta(
-            seconds=plan["plans"][0]["checkpoints"][k]["stop_s"]
-        ) <= _t(row["closes"])
+        if x["window"]:
+            assert (row["opens"], row["closes"]) == x["window"]
+        stop = x["stop_s"]
+        assert _t(row["opens"]) <= min(arrivals) and max(arrivals) + timedelta(seconds=stop) <= _t(
+            row["closes"]
+        )
         quarters = [part.split("=") for part in row["per_15_min"].split("; ")]
         assert sum(int(n) for _, n in quarters) == len(arrivals)
         for q, n in quarters:
             begin = _t(q)
             assert int(n) == sum(begin <= a < begin + timedelta(minutes=15) for a in arrivals)
-        stop = plan["plans"][0]["checkpoints"][k]["stop_s"]
         assert int(row["stop_min"]) == round(stop / 60)
-        if stop:  # a feed stop: the next leg of everyone due, at the top of each guide, plus the margin
-            carbs = sum(p["legs"][k + 1]["carbs_g"][1] for p in plan["plans"]) * (1 + STOCK_MARGIN)
-            fluid = sum(p["legs"][k + 1]["fluid_l"][1] for p in plan["plans"]) * (1 + STOCK_MARGIN)
-            assert float(row["carbs_g"]) == pytest.approx(carbs, abs=1.0)
+        if x["kind"] == "marshal":  # a marshal point stocks nothing
+            assert row["carbs_g"] == row["fluid_l"] == ""
+        elif x["kind"] == "feed" or stop:  # food here: the next leg of everyone due, plus the margin
+            carbs, fluid = _stock(plan, points, k)
+            assert float(row["carbs_g"]) == pytest.approx(carbs, abs=1.5)
             assert float(row["fluid_l"]) == pytest.approx(fluid, abs=0.06)
             assert float(row["carbs_g"]) > 0 and float(row["fluid_l"]) > 0
         else:
             assert float(row["carbs_g"]) == 0
         leaves = max(arrivals) + timedelta(seconds=stop)
         assert _t(row["last_leaves"]) == leaves.replace(microsecond=0)
-        pace = max(starts) + timedelta(seconds=SWEEP_DELAY + cp["distance_m"] / SWEEP_SPEED)
+        pace = max(starts) + timedelta(seconds=SWEEP_DELAY + x["distance_m"] / SWEEP_SPEED)
         assert _t(row["sweep"]) == max(pace, leaves).replace(microsecond=0)

@@ -17,7 +17,7 @@ from cardgen.plan import analyse, checkpoint_windows, make_plan
 from cardgen.profiles.riders import Rider
 from cardgen.profiles.vehicles import builtin_vehicles
 from cardgen.render.html import slugify
-from cardgen.route.checkpoints import Checkpoint, resolve_checkpoints
+from cardgen.route.checkpoints import Checkpoint, resolve_checkpoints, resolve_points
 from cardgen.route.terrain import build_terrain
 
 SAMPLES = Path(__file__).resolve().parents[1] / "sample_routes"
@@ -57,6 +57,37 @@ def test_stops_min_applies_to_the_gpx_checkpoints_in_route_order(day_ride):
     assert [c.name for c in found][:2] == ["Checkpoint 1: Brenquist Cross", "Checkpoint 2: Ossivel Hall"]
     with pytest.raises(ConfigError, match="stops_min has 2 entries but the GPX file marks 4 checkpoints"):
         resolve_checkpoints((), track, analysis.terrain, "day-ride.gpx", stops=(600.0, 60.0))
+
+
+def test_feed_and_marshal_points_are_placed_by_waypoint_name_or_km(day_ride):
+    track, analysis = day_ride
+    feeds = resolve_points([55_000.0, "Checkpoint 2: Ossivel Hall"], track, analysis.terrain, "d.gpx", "feed")
+    (hall,) = [c for c in resolve_checkpoints((), track, analysis.terrain, "d.gpx") if "Ossivel" in c.name]
+    assert [(c.name, c.kind, c.stop) for c in feeds] == [
+        ("Checkpoint 2: Ossivel Hall", "feed", 0.0),
+        ("Feed at 55 km", "feed", 0.0),
+    ]
+    assert feeds[0].distance == hall.distance and feeds[1].distance == 55_000.0
+    (marshal,) = resolve_points([12_500.0], track, analysis.terrain, "d.gpx", "marshal")
+    assert (marshal.name, marshal.kind) == ("Marshal point at 12.5 km", "marshal")
+    with pytest.raises(
+        ConfigError, match=r"^d.gpx: feed point 'Checkpoint 2: Osivel Hall' is not a waypoint .*Ossivel"
+    ):
+        resolve_points(["Checkpoint 2: Osivel Hall"], track, analysis.terrain, "d.gpx", "feed")
+    with pytest.raises(ConfigError, match=r"^d.gpx: marshal point at 120 km is beyond the route's 95.0 km$"):
+        resolve_points([120_000.0], track, analysis.terrain, "d.gpx", "marshal")
+
+
+def test_feeds_and_marshals_are_read_from_the_config(tmp_path):
+    shutil.copy(SAMPLES / "day-ride.gpx", tmp_path)
+    body = '[[routes]]\ngpx = "day-ride.gpx"\nfeeds = [55, "Checkpoint 2: Ossivel Hall"]\nmarshals = [12.5]\n'
+    rider = '[[riders]]\nname = "A"\nvehicle = "road-hoods"\n'
+    (tmp_path / "site.toml").write_text(body + rider, encoding="utf-8")
+    route = load_config(tmp_path / "site.toml").routes[0]
+    assert route.feeds == (55_000.0, "Checkpoint 2: Ossivel Hall") and route.marshals == (12_500.0,)
+    (tmp_path / "site.toml").write_text(body.replace("[12.5]", "[nan]") + rider, encoding="utf-8")
+    with pytest.raises(ConfigError, match=r"routes\[0\]\.marshals.*nan is not a distance along the route"):
+        load_config(tmp_path / "site.toml")
 
 
 def test_stops_min_without_listed_checkpoints_is_accepted_by_the_config(tmp_path):

@@ -207,8 +207,8 @@ def test_braking_distance_follows_the_aashto_formula(grade, metres):
     """AASHTO Guide for the Development of Bicycle Facilities (1999): braking distance
     V²/(254·(f + G)) with f = 0.25 [S]; 30 km/h gives 14.2 m on the flat and 23.6 m at
     −10 % (docs/sources.md §7 [C], without the 2.5 s reaction distance)."""
+    from cardgen.physics.braking import braking
     from cardgen.physics.ride import speed_limit_profile
-    from cardgen.plan.rider import braking
 
     d = np.arange(0, 101, 0.01)
     cap = np.full(d.size, np.inf)
@@ -216,6 +216,18 @@ def test_braking_distance_follows_the_aashto_formula(grade, metres):
     limit = speed_limit_profile(d, cap, braking(np.full(d.size - 1, grade)))
     at = np.interp(30 / 3.6, limit[::-1], d[::-1])
     assert d[-1] - at == pytest.approx(metres, abs=0.05)
+
+
+def test_curve_speed_is_the_speed_of_the_friction_factor_taken():
+    """FHWA-HRT-04-103 (2004) gives curve speeds as a friction factor f = v²/(g·R)
+    (docs/sources.md §7 [V]): at f = 0.2 on a 25 m radius, v = √(0.2·9.80665·25)
+    = 7.00 m/s [C]; a straight (R = inf) allows any speed."""
+    from cardgen.physics.braking import curve_speed
+
+    v = curve_speed(0.2 * 9.80665, np.array([25.0, np.inf]))
+    assert v[0] == pytest.approx(7.0024, abs=1e-4)
+    assert v[0] ** 2 / (9.80665 * 25.0) == pytest.approx(0.2)
+    assert v[1] == np.inf
 
 
 def _bends(tmp_path, name, turns):
@@ -270,6 +282,8 @@ def test_a_handcyclist_crawling_up_a_steep_ramp_is_warned(tmp_path):
 
 def test_a_strong_road_rider_gets_no_rider_cautions(hill_loop):
     track, terrain = hill_loop
-    rider = Rider.for_vehicle(builtin_vehicles()["road-drops"], cp=320.0, flat_power=200.0)
+    # Pellowind Bank averages about 9.3 % as read (9.5 % as drawn): 14 km/h takes
+    # about 330 W, so this rider's CP is above that
+    rider = Rider.for_vehicle(builtin_vehicles()["road-drops"], cp=340.0, flat_power=200.0)
     for climb in make_plan(track, terrain, rider).climbs:
         assert not {"crawl", "over-cp", "traction"} & {w.code for w in climb.warnings}

@@ -129,6 +129,8 @@ def _plan_route(task):
             checkpoints=rc.checkpoints,
             stops=rc.stops,
             stop=rc.stop,
+            feeds=rc.feeds,
+            marshals=rc.marshals,
             where=str(rc.gpx),
             light=True,
         )

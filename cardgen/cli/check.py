@@ -49,9 +49,11 @@ def cmd_check(args) -> int:
                 checkpoints=route.checkpoints,
                 stops=route.stops,
                 stop=route.stop,
+                feeds=route.feeds,
+                marshals=route.marshals,
                 where=str(route.gpx),
             )
-            analysis, checkpoints = surveyed.analysis, surveyed.checkpoints
+            analysis, checkpoints, points = surveyed.analysis, surveyed.checkpoints, surveyed.points
         except CardgenError as exc:
             problems.append(str(exc))
             continue
@@ -59,6 +61,14 @@ def cmd_check(args) -> int:
             f"ok  {route.gpx.name}: {analysis.terrain.length / 1000:.1f} km, "
             f"{plural(analysis.track.points, 'point')}, "
             f"{plural(len(analysis.climbs), 'climb')}, {plural(len(checkpoints), 'checkpoint')}"
+            + "".join(
+                f", {plural(n, word)}"
+                for word, n in (
+                    ("feed point", sum(p.kind == "feed" for p in points)),
+                    ("marshal point", sum(p.kind == "marshal" for p in points)),
+                )
+                if n
+            )
         )
         for warning in analysis.warnings:
             _print(f"cardgen: warning: {route.gpx.name}: {warning}", file=sys.stderr)

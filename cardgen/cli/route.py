@@ -92,6 +92,8 @@ def cmd_route(args) -> int:
                 f"{c['band']:<10} {_n(c['power_for_target_w'], '6.0f')} W {_n(c['speed_at_effort_kmh'], '5.1f')} "
                 f"{duration(c['time_s']):>5}"
             )
+            if c["rider_difficulty"]:
+                _print(f"      {c['band']} by its band; for this rider: {', '.join(c['rider_difficulty'])}")
             if c["assist"] is not None:
                 _print(f"      assist: {c['assist']}")
             for w in c["warnings"]:

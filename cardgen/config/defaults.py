@@ -2,10 +2,13 @@
 
 from __future__ import annotations
 
+import unicodedata
+from collections.abc import Sequence
 from pathlib import Path
 
 from cardgen.config.loader import plural
-from cardgen.errors import ConfigError
+from cardgen.errors import CardgenError, ConfigError
+from cardgen.io.gpx import read_gpx
 from cardgen.physics.atmosphere import Conditions
 from cardgen.profiles.riders import Rider
 from cardgen.profiles.vehicles import builtin_vehicles
@@ -28,6 +31,53 @@ OTHER_ROUTE_FILES = {
     ".crs": "CRS",
     ".geojson": "GeoJSON",
 }
+
+
+#: Longest title made from the routes' names [characters]; past it, a count.
+TITLE_CHARS = 70
+#: Separators between a shared part of the routes' names and the rest.
+_SEPARATORS = " -–—:,·|"
+
+
+def _gpx_name(path: Path) -> str | None:
+    """The name a GPX file gives its route (``<metadata>``, ``<trk>`` or ``<rte>``
+    name), as one line without control characters; None when it gives none or cannot
+    be read (the build names the problem then)."""
+    try:
+        name = read_gpx(path).name
+    except CardgenError:
+        return None
+    name = " ".join("".join(c for c in name if c.isspace() or unicodedata.category(c) != "Cc").split())
+    return name if name and name != path.stem else None
+
+
+def _listed(names: Sequence[str]) -> str:
+    return names[0] if len(names) == 1 else ", ".join(names[:-1]) + " and " + names[-1]
+
+
+def _clip(text: str) -> str:
+    return text if len(text) <= TITLE_CHARS else text[: TITLE_CHARS - 1].rstrip() + "…"
+
+
+def routes_title(names: Sequence[str]) -> str:
+    """A site's title from its routes' names: one route, its name; several sharing
+    their first words ("Tarnwhistle Sportive 40 km", "… 100 km"), those words and what
+    differs ("Tarnwhistle Sportive: 40 km and 100 km"); else the names listed ("Hill
+    Loop and River Path"). Past :data:`TITLE_CHARS`, a count stands for the list."""
+    names = list(dict.fromkeys(names))
+    if len(names) == 1:
+        return _clip(names[0])
+    words = [n.split() for n in names]
+    shared = 0
+    while shared < min(len(w) for w in words) - 1 and len({w[shared].casefold() for w in words}) == 1:
+        shared += 1
+    head = " ".join(words[0][:shared]).rstrip(_SEPARATORS)
+    rests = [" ".join(w[shared:]).lstrip(_SEPARATORS) for w in words]
+    if len(head) >= 4 and all(rests):  # a shared word of more than an article
+        title = f"{head}: {_listed(rests)}"
+        return title if len(title) <= TITLE_CHARS else _clip(f"{head}: {len(names)} routes")
+    title = _listed(names)
+    return title if len(title) <= TITLE_CHARS else f"{_clip(names[0])} and {len(names) - 1} more routes"
 
 
 def folder_config(folder: Path) -> SiteConfig:
@@ -70,10 +120,15 @@ def _default_site(
     ]
     if other:
         warnings.append(f"{folder}: left out {', '.join(p.name for p in other[:5])}: cardgen reads GPX only")
+    named = [_gpx_name(p) for p in gpx]
+    if any(named):  # the routes' own names (a file that gives none: its file name)
+        title = routes_title([n or p.stem for n, p in zip(named, gpx, strict=True)])
+    else:
+        title = f"Routes in {folder.name}" if len(gpx) > 1 or output is None else gpx[0].stem
     return SiteConfig(
         source=None,
         folder=folder,
-        title=f"Routes in {folder.name}" if len(gpx) > 1 or output is None else gpx[0].stem,
+        title=title,
         units="metric",
         card_size="A5",
         large_print=False,

@@ -73,6 +73,8 @@ def _from_data(data: dict, path: Path | None, text: str, folder: Path) -> SiteCo
             r["stop_min"] * 60.0,
             _stops(check, i, r),
             _cue_texts(check, i, r),
+            _checkpoints(check, i, r, "feeds"),
+            _checkpoints(check, i, r, "marshals"),
         )
         for i, r in enumerate(routes)
         if r["gpx"] is not None
@@ -284,15 +286,18 @@ def _stops(check: Checker, index: int, route: dict) -> tuple[float, ...]:
 MAX_KM = MAX_ROUTE_LENGTH / 1000.0
 
 
-def _checkpoints(check: Checker, index: int, route: dict) -> tuple[str | float, ...]:
-    """``checkpoints`` of one route: waypoint names, and distances [m] from numbers in
-    km, which must be finite (whether they lie on the route is checked with the route)."""
+def _checkpoints(
+    check: Checker, index: int, route: dict, key: str = "checkpoints"
+) -> tuple[str | float, ...]:
+    """``checkpoints`` (or ``feeds``, ``marshals``: ``key``) of one route: waypoint
+    names, and distances [m] from numbers in km, which must be finite (whether they lie
+    on the route is checked with the route)."""
     out: list[str | float] = []
-    for x in route.get("checkpoints") or ():
+    for x in route.get(key) or ():
         if isinstance(x, int | float) and not isinstance(x, bool):
             if not math.isfinite(x):
                 check.problems.append(
-                    f"{check.where('routes', index, 'checkpoints')}: {x!r} is not a distance along the route; "
+                    f"{check.where('routes', index, key)}: {x!r} is not a distance along the route; "
                     "give km, like 42.5, or a waypoint's name"
                 )
                 continue

@@ -79,6 +79,12 @@ SCHEMA = {
             "list",
             help="planned stop at each checkpoint listed (none listed: the GPX's, in route order), in minutes",
         ),
+        "feeds": Spec(
+            "list", help="feed points (waypoint names or distances in km): on the day sheet with their stock"
+        ),
+        "marshals": Spec(
+            "list", help="marshal points (waypoint names or distances in km): on the day sheet, no stock"
+        ),
         "cue_texts": Spec(
             "list", help='the organiser\'s words for cues, like ["12.1 = Left at the old mill"] (km = text)'
         ),

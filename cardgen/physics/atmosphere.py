@@ -172,6 +172,32 @@ def air_density_isa(
     return air_density(t, isa_pressure(altitude), relative_humidity)
 
 
+#: Heights [m] the density along a route is taken within (beyond them the ISA
+#: pressure is undefined; a damaged elevation must not make NaN air).
+DENSITY_HEIGHTS = (-1000.0, 9000.0)
+
+
+def density_along(elevation: Floats, temperature: float | None = None) -> np.ndarray:
+    """Air density on every segment between consecutive grid nodes.
+
+    Parameters
+    ----------
+    elevation : array [m] at the nodes (n values give n − 1 segments)
+    temperature : float [K], optional; the ISA temperature at each height if omitted
+
+    Returns
+    -------
+    array [kg/m³], at each segment's mid-height, clipped to :data:`DENSITY_HEIGHTS`.
+
+    References
+    ----------
+    ISO 2533:1975, Standard Atmosphere (via :func:`air_density_isa`).
+    """
+    z = np.asarray(elevation, dtype=float)
+    mid = 0.5 * (z[1:] + z[:-1])
+    return np.asarray(air_density_isa(np.clip(mid, *DENSITY_HEIGHTS), temperature), dtype=float)
+
+
 @dataclass(frozen=True)
 class Conditions:
     """Weather: ``wind_speed`` [m/s], ``wind_from`` [rad] clockwise from north (where

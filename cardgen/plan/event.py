@@ -6,10 +6,11 @@ from __future__ import annotations
 from collections.abc import Sequence
 from dataclasses import dataclass
 from datetime import datetime, timedelta
+from typing import Any
 
 import numpy as np
 
-from cardgen.plan.model import Plan, RouteJob
+from cardgen.plan.model import Entry, Plan, RouteJob
 from cardgen.route.checkpoints import Checkpoint
 
 
@@ -75,7 +76,7 @@ def _minute_up(when: datetime) -> datetime:
     return down if down == when else down + timedelta(minutes=1)
 
 
-def group_spread(job: RouteJob) -> list[dict]:
+def group_spread(job: RouteJob) -> list[dict[str, Any]]:
     """For each set of two or more riders who start together: at every climb top and
     checkpoint, the first and last planned arrival, the spread between them, and the
     wait that regroups them there if they regrouped at the point before (the gap that
@@ -85,7 +86,7 @@ def group_spread(job: RouteJob) -> list[dict]:
         + [(c.distance, c.name) for c in job.checkpoints]
         + [(job.analysis.terrain.length, "Finish")]
     )
-    together: dict = {}
+    together: dict[datetime, list[Entry]] = {}
     for e in job.riders:
         if e.start is not None:
             together.setdefault(e.start, []).append(e)

@@ -7,8 +7,10 @@ Notices carry a stable ``code``, a ``severity`` and the numbers they are about;
 from __future__ import annotations
 
 import dataclasses
+from collections.abc import Sequence
 from dataclasses import dataclass
 from datetime import datetime
+from typing import TYPE_CHECKING, Any
 
 import numpy as np
 
@@ -16,10 +18,16 @@ from cardgen.physics.assist import Motor
 from cardgen.physics.atmosphere import Conditions
 from cardgen.physics.ride import Ride, RideTimes
 from cardgen.profiles.riders import Rider
+from cardgen.route.checkpoints import Checkpoint
 from cardgen.route.climbs import Climb, Descent
 from cardgen.route.cues import Cue
 from cardgen.route.gpx import Track
 from cardgen.route.terrain import Terrain
+
+if TYPE_CHECKING:  # made from plans: their modules import this one
+    from cardgen.plan.day import PointDay
+    from cardgen.plan.event import CheckpointWindow
+    from cardgen.plan.fuel import Leg
 
 
 @dataclass(frozen=True)
@@ -34,7 +42,7 @@ class Notice:
     values: tuple[tuple[str, float | str | None], ...] = ()
     at: float | None = None  # [m] from the start, where it applies (None: the whole route)
 
-    def value(self, name: str, default=None):
+    def value(self, name: str, default: Any = None) -> Any:
         """The value called ``name``, or ``default``."""
         return dict(self.values).get(name, default)
 
@@ -61,6 +69,7 @@ class ClimbRow:
     battery_left: float | None = None  # [J] usable battery left at the climb's top; None without a motor
     w_prime_top: float | None = None  # [J] W′ balance at the top
     recovered_after: float | None = None  # [m] from the top until W′ is mostly back; None: barely used
+    rider_difficulty: tuple[str, ...] = ()  # words where the band understates the plan (plan/difficulty)
 
 
 @dataclass(frozen=True)
@@ -167,13 +176,15 @@ class Plan:
         return stops_before(self.stops, self.terrain.length)
 
 
-def stops_before(stops, distance: float) -> float:
+def stops_before(stops: Sequence[tuple[float, float]], distance: float) -> float:
     """The planned stops [s] strictly before ``distance`` [m] (a stop at that very
     place begins on arrival there)."""
-    return sum(s for d, s in stops if d < distance - 1e-6)
+    return float(sum(s for d, s in stops if d < distance - 1e-6))
 
 
-def arrival_time(nodes, elapsed, stops, distance: float) -> float:
+def arrival_time(
+    nodes: np.ndarray, elapsed: np.ndarray, stops: Sequence[tuple[float, float]], distance: float
+) -> float:
     """Time [s] from the start to arriving at ``distance`` [m]: the ride's ``elapsed``
     at the grid ``nodes``, and every planned stop before it."""
     return float(np.interp(distance, nodes, elapsed)) + stops_before(stops, distance)
@@ -189,11 +200,12 @@ class RouteJob:
     name: str
     notes: str
     analysis: Analysis
-    checkpoints: tuple  # Checkpoint, by distance
-    riders: tuple  # Entry, in the configuration's order
-    windows: tuple = ()  # CheckpointWindow, by distance; () unless every rider has a start
-    together: tuple = ()  # the spread and regroup waits of riders who start together (dicts)
-    day: tuple = ()  # PointDay per checkpoint: the organiser's day sheet; () without windows
+    checkpoints: tuple[Checkpoint, ...]  # by distance
+    riders: tuple[Entry, ...]  # in the configuration's order
+    points: tuple[Checkpoint, ...] = ()  # feed and marshal points (kind "feed", "marshal"), by distance
+    windows: tuple[CheckpointWindow, ...] = ()  # by distance; () unless every rider has a start
+    together: tuple[dict[str, Any], ...] = ()  # the spread and regroup waits of riders who start together
+    day: tuple[PointDay, ...] = ()  # per checkpoint, feed and marshal point: the day sheet; () without starts
 
 
 @dataclass(frozen=True)
@@ -206,5 +218,7 @@ class Entry:
     wave: str | None
     plan: Plan
     bib: int | None = None
-    legs: tuple = ()  # fuel.Leg between the checkpoints and to the finish
-    fuel_rates: tuple | None = None  # ((carbohydrate g/h low, high), (fluid L/h low, high))
+    legs: tuple[Leg, ...] = ()  # between the checkpoints and to the finish
+    fuel_rates: tuple[tuple[float, float], tuple[float, float]] | None = (
+        None  # carbohydrate g/h, fluid L/h (low, high)
+    )

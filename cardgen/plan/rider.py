@@ -2,7 +2,8 @@
 
 How a rider rides is the effort model of :mod:`cardgen.physics.effort`; the ride is
 simulated with inertia, wind on every segment, air density by altitude, and the
-vehicle's descent and curve speed limits, braking at :data:`BRAKING` before them.
+vehicle's descent and curve speed limits, braking before them
+(:mod:`cardgen.physics.braking`).
 """
 
 from __future__ import annotations
@@ -20,11 +21,13 @@ from cardgen.physics.assist import (
     plan_levels,
     rider_power_for_speed,
 )
-from cardgen.physics.atmosphere import Conditions, air_density_isa
+from cardgen.physics.atmosphere import Conditions, density_along
+from cardgen.physics.braking import braking, curve_speed
 from cardgen.physics.effort import sustainable_climb_power, w_prime_balance
 from cardgen.physics.forces import gravity_power, headwind
 from cardgen.physics.ride import Ride
 from cardgen.physics.steady import power_for_speed, speed_for_power
+from cardgen.plan.difficulty import CRAWL_LENGTH, CRAWL_SPEED, climb_words
 from cardgen.plan.model import (
     Analysis,
     ClimbRow,
@@ -37,43 +40,23 @@ from cardgen.plan.model import (
     arrival_time,
 )
 from cardgen.plan.pacing import W_PRIME_SLACK, Course, ceiling, day_effort, pace, ridden_mean
-from cardgen.plan.walking import stretches, walking_mask
+from cardgen.plan.walking import stretches, walking_mask, widened
 from cardgen.profiles.riders import Rider
 from cardgen.route.climbs import Climb, Descent, find_climbs, find_descents
 from cardgen.route.cues import cue_sheet
 from cardgen.route.gpx import Track
 from cardgen.route.terrain import Terrain, doubtful
-from cardgen.units import G0, KMH_PER_MS, Floats
+from cardgen.units import KMH_PER_MS, Floats
 
 #: Steepest 100 m grade that earns a "steep" note [-]: common practice, no published
 #: source (AASHTO's bicycle guide calls grades over 5 % undesirable on shared paths).
 STEEP_GRADE = 0.10
-#: Braking friction before a speed limit: f = 0.25 of the AASHTO Guide for the
-#: Development of Bicycle Facilities (1999) stopping-sight-distance formula
-#: S = V²/(254·(f ± G)) (wet pavement, ordinary brakes) [S]; the deceleration on a
-#: grade G is g·(f + G), less on a descent.
-BRAKING_FRICTION = 0.25
-BRAKING = BRAKING_FRICTION * G0  # on the flat [m/s²]
-#: Least braking deceleration used, on the steepest descents [m/s²] (common practice,
-#: no published source: a rider on a descent steeper than f still slows, by braking
-#: harder or walking).
-LEAST_BRAKING = 0.05 * G0
-
-
-def braking(grade: np.ndarray) -> np.ndarray:
-    """Braking deceleration [m/s²] on each segment: g·(f + G) (AASHTO 1999), at least
-    :data:`LEAST_BRAKING`."""
-    return np.maximum(G0 * (BRAKING_FRICTION + np.asarray(grade, dtype=float)), LEAST_BRAKING)
-
-
 #: Battery share kept in reserve when judging whether a route fits: common practice,
 #: no published source.
 BATTERY_RESERVE = 0.20
-#: A three-wheeler slower than this [m/s] for CRAWL_LENGTH [m], or on one climb for
-#: CRAWL_TIME [s], gets a "crawl" caution: common practice, no published source (on
-#: trails hand cyclists' 15th-percentile speed was 8 km/h, FHWA-HRT-04-103, 2004 [V]).
-CRAWL_SPEED = 4.0 / KMH_PER_MS
-CRAWL_LENGTH = 200.0
+#: A three-wheeler slower than CRAWL_SPEED for CRAWL_LENGTH (the figures of the climbs'
+#: "crawl" word, :mod:`cardgen.plan.difficulty`), or on one climb for CRAWL_TIME [s],
+#: gets a "crawl" caution: common practice, no published source.
 CRAWL_TIME = 30 * 60.0
 #: A driven front wheel (arm-powered handcycles) may slip from this grade [-]: from
 #: memory, no published source checked.
@@ -96,22 +79,27 @@ def analyse(track: Track, terrain: Terrain) -> Analysis:
     )
 
 
-def segment_air(terrain: Terrain, conditions: Conditions):
+def segment_air(terrain: Terrain, conditions: Conditions) -> tuple[np.ndarray, np.ndarray]:
     """Headwind [m/s] and air density [kg/m³] on every segment."""
     wind = headwind(terrain.heading, conditions.wind_speed, conditions.wind_from)
-    mid = 0.5 * (terrain.elevation[1:] + terrain.elevation[:-1])
-    rho = air_density_isa(np.clip(mid, -1000.0, 9000.0), conditions.temperature)
-    return np.asarray(wind, dtype=float), np.asarray(rho, dtype=float)
+    return np.asarray(wind, dtype=float), density_along(terrain.elevation, conditions.temperature)
 
 
-def speed_caps(terrain: Terrain, rider: Rider):
+def speed_caps(terrain: Terrain, rider: Rider) -> np.ndarray:
     """Speed limit at every node [m/s]: the vehicle's descent cap and v = √(a·R) in
     curves (a the vehicle's lateral acceleration; FHWA-HRT-04-103, 2004)."""
     v = rider.vehicle
-    return np.minimum(v.max_descent_speed, np.sqrt(v.curve_accel * terrain.curve_radius))
+    return np.asarray(np.minimum(v.max_descent_speed, curve_speed(v.curve_accel, terrain.curve_radius)))
 
 
-def _assist_ratios(rider: Rider, motor: Motor | None, climbs, terrain, wind, rho):
+def _assist_ratios(
+    rider: Rider,
+    motor: Motor | None,
+    climbs: tuple[Climb, ...],
+    terrain: Terrain,
+    wind: np.ndarray,
+    rho: np.ndarray,
+) -> tuple[np.ndarray, dict[int, int], int | None]:
     """Assist ratio on every segment, the level chosen for each climb (by start) and
     the level between climbs: the battery-aware plan of
     :func:`~cardgen.physics.assist.plan_levels`, with the stretches between climbs as
@@ -155,7 +143,7 @@ def _assist_ratios(rider: Rider, motor: Motor | None, climbs, terrain, wind, rho
 
 
 def _between_options(
-    rider: Rider, motor: Motor, off: np.ndarray, terrain, wind, rho
+    rider: Rider, motor: Motor, off: np.ndarray, terrain: Terrain, wind: np.ndarray, rho: np.ndarray
 ) -> dict[str, np.ndarray]:
     """What each assist level does on the stretches between climbs (``off``), at the
     rider's flat power and steady speeds: arrays over levels 0…N like
@@ -196,31 +184,15 @@ def make_plan(
         route = analyse(route, terrain)
     if rider is None:
         raise ValueError("make_plan needs a rider")
-    track, terrain = route.track, route.terrain
+    terrain = route.terrain
     conditions = conditions or Conditions()
     vehicle = rider.vehicle
     wind, rho = segment_air(terrain, conditions)
     motor = vehicle.fitted_motor()
     ratio, levels, between_level = _assist_ratios(rider, motor, route.climbs, terrain, wind, rho)
-
-    course = Course(
-        step=terrain.step,
-        grade=terrain.grade,
-        headwind=wind,
-        air_density=rho,
-        distance=terrain.distance,
-        speed_cap=speed_caps(terrain, rider),
-        deceleration=braking(terrain.grade),
-        resistance=vehicle.resistance,
-        motor=motor,
-        assist_ratio=ratio if motor is not None else None,
-    )
-    effort, ride = _paced(course, rider)
+    effort, ride = _paced(_course(terrain, rider, wind, rho, motor, ratio), rider)
     wbal = w_prime_balance(ride.rider_power, ride.time, rider.cp, rider.w_prime)
     walked = walking_mask(terrain.step, ride.time, ride.rider_power, ride.limited, vehicle.min_stable_speed)
-    on_climb = np.zeros(terrain.grade.size, dtype=bool)  # with the walks that run into each climb
-    for climb in route.climbs:
-        on_climb[slice(*_walk_reach(climb, terrain))] = True
 
     climbs = tuple(
         _climb_row(i + 1, c, terrain, rider, motor, levels.get(c.start), ride, wbal, wind, rho, walked)
@@ -232,52 +204,9 @@ def make_plan(
     timed = tuple(
         TimedCue(c, arrival_time(terrain.distance, ride.elapsed, stops, c.distance)) for c in route.cues
     )
-
-    # work only where the rider pedals: a stalled segment (infinite time) at 0 W adds
-    # nothing, one at a positive power makes the total infinite ("cannot complete")
-    pedalled = ride.rider_power > 0
-    energy = float(
-        np.sum(np.multiply(ride.rider_power, ride.time, out=np.zeros_like(ride.time), where=pedalled))
-    )
-    battery = fits = None
-    warnings = [Notice("track", "info", (("text", w),)) for w in route.warnings]
-    warnings.extend(_walks_off_climbs(walked, on_climb, terrain, vehicle.min_stable_speed))
-    on_descents = {id(w) for row in descents for w in row.warnings}
-    warnings.extend(c for c in curves if id(c) not in on_descents)  # curves away from any descent
-    if not ride.converged:
-        warnings.append(Notice("unsettled", "info", (("passes", float(ride.passes)),)))
-    stalled = np.flatnonzero(~np.isfinite(ride.time))
-    if stalled.size:  # the speed reached zero: the rider cannot get past this point
-        where = float(terrain.distance[stalled[0]])
-        warnings.append(Notice("stall", "warning", (("where", where),), at=where))
-    if motor is not None:
-        battery = battery_energy(motor, ride.motor_power, ride.time)
-        fits = battery <= motor.usable_battery * (1.0 - BATTERY_RESERVE)
-        drawn = np.cumsum(np.nan_to_num(ride.motor_power * ride.time, posinf=0.0)) / motor.drive_efficiency
-        over = np.flatnonzero(drawn > motor.usable_battery * (1.0 - BATTERY_RESERVE))
-        reserve_at = float(terrain.distance[over[0] + 1]) if over.size else float(terrain.length)
-        if not fits:
-            warnings.append(
-                Notice(
-                    "battery",
-                    "warning",
-                    (
-                        ("used", battery),
-                        ("usable", motor.usable_battery),
-                        ("reserve", BATTERY_RESERVE),
-                        ("where", reserve_at),
-                    ),
-                    at=reserve_at,
-                )
-            )
-    totals = Totals(
-        time=float(ride.elapsed[-1]),
-        energy=energy,
-        food_energy=energy / vehicle.gross_efficiency,
-        battery=battery,
-        battery_fits=fits,
-        walk_length=float(np.sum(walked) * terrain.step),
-    )
+    warnings = _route_notices(route, ride, walked, curves, descents, vehicle.min_stable_speed)
+    totals, battery_notices = _totals(terrain, vehicle.gross_efficiency, motor, ride, walked)
+    warnings.extend(battery_notices)
     if between_level is not None and between_level < rider.assist_between_climbs:
         warnings.append(
             Notice(
@@ -287,7 +216,7 @@ def make_plan(
             )
         )
     return Plan(
-        track,
+        route.track,
         terrain,
         rider,
         conditions,
@@ -305,6 +234,97 @@ def make_plan(
     )
 
 
+def _course(
+    terrain: Terrain, rider: Rider, wind: np.ndarray, rho: np.ndarray, motor: Motor | None, ratio: np.ndarray
+) -> Course:
+    """The route as the pacing sees it: every segment's road, air, speed limit and
+    braking, the vehicle's resistance and its motor at the chosen assist ratios."""
+    return Course(
+        step=terrain.step,
+        grade=terrain.grade,
+        headwind=wind,
+        air_density=rho,
+        distance=terrain.distance,
+        speed_cap=speed_caps(terrain, rider),
+        deceleration=braking(terrain.grade),
+        resistance=rider.vehicle.resistance,
+        motor=motor,
+        assist_ratio=ratio if motor is not None else None,
+    )
+
+
+def _route_notices(
+    route: Analysis,
+    ride: Ride,
+    walked: np.ndarray,
+    curves: list[Notice],
+    descents: tuple[DescentRow, ...],
+    walk_speed: float,
+) -> list[Notice]:
+    """The plan's notices away from its climbs and descents, in the order the pages
+    list them: the track's own, walking off the climbs, curves off the descents, a
+    ride that did not settle, and where the rider stalls."""
+    terrain = route.terrain
+    on_climb = np.zeros(terrain.grade.size, dtype=bool)  # with the walks that run into each climb
+    for climb in route.climbs:
+        on_climb[slice(*widened(walked, *_walk_reach(climb, terrain)))] = True
+    warnings = [Notice("track", "info", (("text", w),)) for w in route.warnings]
+    warnings.extend(_walks_off_climbs(walked, on_climb, terrain, walk_speed))
+    on_descents = {id(w) for row in descents for w in row.warnings}
+    warnings.extend(c for c in curves if id(c) not in on_descents)  # curves away from any descent
+    if not ride.converged:
+        warnings.append(Notice("unsettled", "info", (("passes", float(ride.passes)),)))
+    stalled = np.flatnonzero(~np.isfinite(ride.time))
+    if stalled.size:  # the speed reached zero: the rider cannot get past this point
+        where = float(terrain.distance[stalled[0]])
+        warnings.append(Notice("stall", "warning", (("where", where),), at=where))
+    return warnings
+
+
+def _totals(
+    terrain: Terrain, gross_efficiency: float, motor: Motor | None, ride: Ride, walked: np.ndarray
+) -> tuple[Totals, list[Notice]]:
+    """The ride's totals, and the "battery" notice where the battery use passes what
+    the battery holds less :data:`BATTERY_RESERVE` (at the place it does)."""
+    # work only where the rider pedals: a stalled segment (infinite time) at 0 W adds
+    # nothing, one at a positive power makes the total infinite ("cannot complete")
+    pedalled = ride.rider_power > 0
+    energy = float(
+        np.sum(np.multiply(ride.rider_power, ride.time, out=np.zeros_like(ride.time), where=pedalled))
+    )
+    battery = fits = None
+    notices = []
+    if motor is not None:
+        battery = battery_energy(motor, ride.motor_power, ride.time)
+        fits = battery <= motor.usable_battery * (1.0 - BATTERY_RESERVE)
+        drawn = np.cumsum(np.nan_to_num(ride.motor_power * ride.time, posinf=0.0)) / motor.drive_efficiency
+        over = np.flatnonzero(drawn > motor.usable_battery * (1.0 - BATTERY_RESERVE))
+        reserve_at = float(terrain.distance[over[0] + 1]) if over.size else float(terrain.length)
+        if not fits:
+            notices.append(
+                Notice(
+                    "battery",
+                    "warning",
+                    (
+                        ("used", battery),
+                        ("usable", motor.usable_battery),
+                        ("reserve", BATTERY_RESERVE),
+                        ("where", reserve_at),
+                    ),
+                    at=reserve_at,
+                )
+            )
+    totals = Totals(
+        time=float(ride.elapsed[-1]),
+        energy=energy,
+        food_energy=energy / gross_efficiency,
+        battery=battery,
+        battery_fits=fits,
+        walk_length=float(np.sum(walked) * terrain.step),
+    )
+    return totals, notices
+
+
 #: Walking this close [m] to a climb's ends is the climb's own (the smoothed grade
 #: starts to rise before the climb's foot).
 WALK_REACH = 100.0
@@ -312,7 +332,8 @@ WALK_REACH = 100.0
 
 def _walk_reach(climb: Climb, terrain: Terrain) -> tuple[int, int]:
     """Segments whose walking counts as the climb's: the climb and
-    :data:`WALK_REACH` either side."""
+    :data:`WALK_REACH` either side (and, by :func:`widened`, the whole of a walked
+    stretch that runs into them)."""
     k = int(round(WALK_REACH / terrain.step))
     return max(0, climb.start - k), min(terrain.grade.size, climb.end + k)
 
@@ -361,9 +382,9 @@ def _climb_row(
     motor: Motor | None,
     level: int | None,
     ride: Ride,
-    wbal,
-    wind,
-    rho,
+    wbal: np.ndarray,
+    wind: np.ndarray,
+    rho: np.ndarray,
     walked: np.ndarray,
 ) -> ClimbRow:
     vehicle = rider.vehicle
@@ -373,7 +394,7 @@ def _climb_row(
     need = rider_power_for_speed(motor, ratio, rider.target_speed, resistance=vehicle.resistance, **air)
     time = float(np.sum(ride.time[segs]))
     speeds = ride.mean_speed[segs]
-    reach = slice(*_walk_reach(climb, terrain))
+    reach = slice(*widened(walked, *_walk_reach(climb, terrain)))
     slow = float(np.sum(walked[reach]) * terrain.step)
     finite = np.isfinite(ride.time[segs])  # a stalled rider never completes some segments
     ridden = float(np.sum(ride.time[segs][finite]))
@@ -413,16 +434,18 @@ def _climb_row(
     # power needed against speed on the climb's average grade, in its mean wind and air
     res = vehicle.resistance
 
-    def needed(speed: Floats) -> Floats:
-        return power_for_speed(
-            speed,
-            mass=res.mass,
-            crr=res.crr,
-            cda=res.cda,
-            efficiency=res.efficiency,
-            grade=climb.avg_grade,
-            headwind=float(np.mean(wind[segs])),
-            air_density=float(np.mean(rho[segs])),
+    def needed(speed: Floats) -> np.ndarray:
+        return np.asarray(
+            power_for_speed(
+                speed,
+                mass=res.mass,
+                crr=res.crr,
+                cda=res.cda,
+                efficiency=res.efficiency,
+                grade=climb.avg_grade,
+                headwind=float(np.mean(wind[segs])),
+                air_density=float(np.mean(rho[segs])),
+            )
         )
 
     curve = needed(CURVE_SPEEDS)
@@ -441,6 +464,9 @@ def _climb_row(
         assist_level=level,
         assist_name=None if motor is None else motor.level_name(level or 0),
         warnings=tuple(warnings),
+        rider_difficulty=climb_words(
+            climb.band, cp=rider.cp, rider_power=rider_power, walked=slow, speed=speeds, step=terrain.step
+        ),
         power_curve=(CURVE_SPEEDS, np.asarray(curve)),
         power_at_effort=float(needed(speed_at_effort)),
         time_above_cp=float(np.sum(ride.time[segs][finite & (ride.rider_power[segs] > rider.cp)])),
@@ -462,7 +488,7 @@ def _climb_row(
 RECOVERED = 0.9
 
 
-def _recovered_after(climb: Climb, terrain: Terrain, wbal, w_prime: float) -> float | None:
+def _recovered_after(climb: Climb, terrain: Terrain, wbal: np.ndarray, w_prime: float) -> float | None:
     """Distance [m] from a climb's top until the W′ balance is back at
     :data:`RECOVERED` of W′ (to the finish if it never is); None when the climb left
     more than that."""
@@ -498,7 +524,7 @@ def _rider_cautions(
     ratio: float,
     ride: Ride,
     need: float,
-    air: dict,
+    air: dict[str, np.ndarray],
 ) -> list[Notice]:
     """What this rider on this vehicle should know of a climb beyond the road itself:
     a long crawl on three wheels, a target speed above their CP, traction on a driven
@@ -517,7 +543,13 @@ def _rider_cautions(
         at_cp = (
             assisted_speed(motor, ratio, rider.cp, resistance=vehicle.resistance, **air)
             if motor
-            else (speed_for_power(rider.cp, **vehicle.resistance.steady(), **air))
+            else speed_for_power(
+                rider.cp,
+                **vehicle.resistance.steady(),
+                grade=air["grade"],
+                headwind=air["headwind"],
+                air_density=air["air_density"],
+            )
         )
         # the climb's average speed at CP: its length over its time (never above the
         # speed the target asks, which CP does not reach)
@@ -534,7 +566,9 @@ def _rider_cautions(
     return notices
 
 
-def curve_notices(terrain: Terrain, rider: Rider, ride: Ride, wind, rho) -> list[Notice]:
+def curve_notices(
+    terrain: Terrain, rider: Rider, ride: Ride, wind: np.ndarray, rho: np.ndarray
+) -> list[Notice]:
     """One "curve" notice for every curve the rider would reach clearly faster than
     the speed v = √(a·R) it allows (FHWA-HRT-04-103, 2004), on or off a descent: where
     the simulated speed (which brakes for the curve) meets that speed and the steady
@@ -547,7 +581,7 @@ def curve_notices(terrain: Terrain, rider: Rider, ride: Ride, wind, rho) -> list
     flat and :data:`JUNCTION_FAST_SPEED` or more.
     Its notice carries ``junction`` = 1."""
     vehicle = rider.vehicle
-    cap = np.sqrt(vehicle.curve_accel * terrain.curve_radius)
+    cap = curve_speed(vehicle.curve_accel, terrain.curve_radius)
     free = speed_for_power(
         np.maximum(ride.rider_power, 0.0),
         **vehicle.resistance.steady(),
@@ -603,7 +637,13 @@ def _junction_nodes(terrain: Terrain) -> np.ndarray:
 
 
 def _descent_rows(
-    descents, terrain: Terrain, rider: Rider, ride: Ride, wind, rho, curves: list[Notice]
+    descents: tuple[Descent, ...],
+    terrain: Terrain,
+    rider: Rider,
+    ride: Ride,
+    wind: np.ndarray,
+    rho: np.ndarray,
+    curves: list[Notice],
 ) -> tuple[DescentRow, ...]:
     if not descents:
         return ()
@@ -639,7 +679,7 @@ def _descent_row(
     gravity = float(gravity_power(coast, vehicle.mass, descent.avg_grade))
     radii = terrain.curve_radius[descent.start : descent.end + 1]
     tight = descent.start + int(np.argmin(radii))
-    curve_speed = float(np.sqrt(vehicle.curve_accel * terrain.curve_radius[tight]))
+    slowest = float(curve_speed(vehicle.curve_accel, terrain.curve_radius[tight]))
     warnings = []
     if coast > vehicle.max_descent_speed:
         warnings.append(Notice("fast", "warning", (("coast", coast), ("cap", vehicle.max_descent_speed))))
@@ -656,6 +696,6 @@ def _descent_row(
             np.sum(ride.rider_power[segs] * ride.time[segs]) / max(np.sum(ride.time[segs]), 1e-9)
         ),
         curve_distance=float(terrain.distance[tight]),
-        curve_speed=curve_speed,
+        curve_speed=slowest,
         warnings=tuple(warnings),
     )

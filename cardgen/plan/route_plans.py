@@ -11,7 +11,7 @@ from cardgen.physics.atmosphere import Conditions
 from cardgen.plan.model import Analysis, Plan
 from cardgen.plan.rider import analyse, make_plan
 from cardgen.profiles.riders import Rider
-from cardgen.route.checkpoints import Checkpoint, resolve_checkpoints
+from cardgen.route.checkpoints import Checkpoint, resolve_checkpoints, resolve_points
 from cardgen.route.cues import apply_cue_texts
 from cardgen.route.gpx import Track
 from cardgen.route.terrain import build_terrain
@@ -20,11 +20,13 @@ from cardgen.route.terrain import build_terrain
 @dataclass(frozen=True)
 class RoutePlans:
     """A route's analysis (with the organiser's cue texts), its checkpoints (with
-    their planned stops) and one plan per rider, in the riders' order."""
+    their planned stops), one plan per rider, in the riders' order, and its feed and
+    marshal points (kinds "feed", "marshal"; by distance; no planned stop)."""
 
     analysis: Analysis
     checkpoints: tuple[Checkpoint, ...]
     plans: tuple[Plan, ...]
+    points: tuple[Checkpoint, ...] = ()
 
 
 def plan_route(
@@ -36,6 +38,8 @@ def plan_route(
     checkpoints: Sequence[str | float] = (),
     stops: Sequence[float] = (),
     stop: float = 0.0,
+    feeds: Sequence[str | float] = (),
+    marshals: Sequence[str | float] = (),
     where: str = "",
     light: bool = False,
 ) -> RoutePlans:
@@ -49,21 +53,29 @@ def plan_route(
     cue_texts : (distance [m], text) pairs: the organiser's words for the nearest cue
     checkpoints : waypoint names or distances [m]; none: the GPX's checkpoint waypoints
     stops, stop : planned stop [s] at each checkpoint listed, or at every one
+    feeds, marshals : feed and marshal points, waypoint names or distances [m] (the
+        day sheet's; riders plan no stop there)
     where : the GPX file's name, for error messages
     light : keep only what a build's pages need of each plan (:meth:`Plan.lightened`),
         as each is made, so a large event's plans do not pile up in memory
 
     Raises
     ------
-    ConfigError for a cue text or a checkpoint that is not on the route.
+    ConfigError for a cue text, a checkpoint, a feed or a marshal point that is not on
+    the route.
     """
     analysis = analyse(track, build_terrain(track))
     if cue_texts:  # the organiser's words in place of the GPX's
         analysis = dataclasses.replace(analysis, cues=apply_cue_texts(analysis.cues, cue_texts, where))
     found = resolve_checkpoints(checkpoints, track, analysis.terrain, where, stops=stops, stop=stop)
+    points = sorted(
+        resolve_points(feeds, track, analysis.terrain, where, "feed")
+        + resolve_points(marshals, track, analysis.terrain, where, "marshal"),
+        key=lambda c: c.distance,
+    )
     pauses = tuple((c.distance, c.stop) for c in found)
     plans = []
     for rider in riders:
         plan = make_plan(analysis, rider=rider, conditions=conditions, stops=pauses)
         plans.append(plan.lightened() if light else plan)
-    return RoutePlans(analysis, tuple(found), tuple(plans))
+    return RoutePlans(analysis, tuple(found), tuple(plans), tuple(points))

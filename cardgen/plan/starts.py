@@ -20,7 +20,7 @@ from __future__ import annotations
 from dataclasses import dataclass, field
 from datetime import date, datetime, timedelta
 
-from cardgen.settings import RouteConfig, SiteConfig
+from cardgen.settings import RouteConfig, SiteConfig, Wave
 
 
 @dataclass(frozen=True)
@@ -65,7 +65,7 @@ def route_name(route: RouteConfig) -> str:
     return route.name or route.gpx.stem
 
 
-def _route_waves(waves, routes: tuple[RouteConfig, ...]) -> list[int | None]:
+def _route_waves(waves: tuple[Wave, ...], routes: tuple[RouteConfig, ...]) -> list[int | None]:
     """For each route, the first wave that names it (by file name, stem or name)."""
     first: list[int | None] = []
     for route in routes:

@@ -1,17 +1,19 @@
 """What the pages show of one route's riders together, computed once when the route
 is planned (render only formats it): the checkpoints' windows, each rider's food and
 fluid legs and guide rates, the spread and regroup waits of riders who start
-together, and the organiser's day-sheet rows."""
+together, and the organiser's day-sheet rows (checkpoints, feed and marshal
+points)."""
 
 from __future__ import annotations
 
 import dataclasses
 from collections.abc import Sequence
 
-from cardgen.plan.day import day_points
-from cardgen.plan.event import checkpoint_windows, group_spread
+from cardgen.plan.day import PointDay, day_points
+from cardgen.plan.event import CheckpointWindow, checkpoint_windows, group_spread
 from cardgen.plan.fuel import carb_rate, fluid_rate, legs
 from cardgen.plan.model import Entry, RouteJob
+from cardgen.plan.route_plans import RoutePlans
 
 #: The longest ride [h] the carbohydrate guide is looked up for (a rider who never
 #: finishes gets the longest band, not an infinity).
@@ -22,7 +24,7 @@ def route_job(
     slug: str,
     name: str,
     notes: str,
-    planned,
+    planned: RoutePlans,
     entries: Sequence[Entry],
     margin: float,
     speed_rule: tuple[float, float] | None,
@@ -48,14 +50,15 @@ def route_job(
         )
         for e in entries
     )
-    job = RouteJob(slug, name, notes, planned.analysis, checkpoints, riders)
+    points = tuple(planned.points)  # feed and marshal points
+    job = RouteJob(slug, name, notes, planned.analysis, checkpoints, riders, points)
     plans = [e.plan for e in riders]
     starts = [e.start for e in riders if e.start is not None]
-    windows: tuple = ()
-    day: tuple = ()
+    windows: tuple[CheckpointWindow, ...] = ()
+    day: tuple[PointDay, ...] = ()
     if plans and len(starts) == len(plans):  # windows from each rider's own start
         rows, _ = checkpoint_windows(plans, checkpoints, starts, margin, speed_rule)
         windows = tuple(rows)
-        if windows:
-            day = tuple(day_points(plans, starts, windows, temperature_c))
+        if windows or points:
+            day = tuple(day_points(plans, starts, windows, temperature_c, points, margin, speed_rule))
     return dataclasses.replace(job, windows=windows, together=tuple(group_spread(job)), day=day)

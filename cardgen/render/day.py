@@ -1,6 +1,6 @@
 """The organiser's day sheet, one CSV and one PDF for the event (``day-sheet.csv``,
-``day-sheet.pdf``): each checkpoint's timetable, a feed stop's stock and the sweep,
-from :mod:`cardgen.plan.day`."""
+``day-sheet.pdf``): each checkpoint's, feed point's and marshal point's timetable,
+the stock where riders get food, and the sweep, from :mod:`cardgen.plan.day`."""
 
 from __future__ import annotations
 
@@ -8,7 +8,7 @@ import csv
 import io
 from pathlib import Path
 
-from cardgen.plan.day import STOCK_MARGIN, SWEEP_DELAY, SWEEP_SPEED, fluid_band
+from cardgen.plan.day import STOCK_MARGIN, SWEEP_DELAY, SWEEP_SPEED, fluid_band, supplies_food
 from cardgen.render import format as fmt
 from cardgen.units import ZERO_CELSIUS_K
 
@@ -16,6 +16,7 @@ from cardgen.units import ZERO_CELSIUS_K
 COLUMNS = (
     "route",
     "checkpoint",
+    "kind",
     "km",
     "opens",
     "closes",
@@ -31,10 +32,15 @@ COLUMNS = (
 )
 
 
+#: The word for each kind of point on the printed sheet.
+KIND_WORDS = {"checkpoint": "checkpoint", "feed": "feed point", "marshal": "marshal point"}
+
+
 def day_rows(route: str, points, to_second: bool) -> list[dict]:
-    """One route's rows of the day sheet (``points``: its checkpoints' days, from
-    :func:`cardgen.plan.day.day_points`), as text and numbers (they travel in the
-    build's manifest, so that a route reused from the last build keeps its rows)."""
+    """One route's rows of the day sheet (``points``: the days of its checkpoints,
+    feed and marshal points, from :func:`cardgen.plan.day.day_points`), as text and
+    numbers (they travel in the build's manifest, so that a route reused from the
+    last build keeps its rows)."""
 
     def clock(moment) -> str:
         return fmt.start_clock(moment, to_second) if moment is not None else ""
@@ -45,6 +51,7 @@ def day_rows(route: str, points, to_second: bool) -> list[dict]:
             {
                 "route": route,
                 "checkpoint": p.name,
+                "kind": p.kind,
                 "km": round(p.distance / 1000, 2),
                 "opens": clock(p.opens),
                 "closes": clock(p.closes),
@@ -53,8 +60,9 @@ def day_rows(route: str, points, to_second: bool) -> list[dict]:
                 "last": clock(p.last),
                 "per_15_min": [[clock(q), n] for q, n in p.quarters],
                 "stop_min": round(p.stop / 60),
-                "carbs_g": round(p.carbs_g),
-                "fluid_l": round(p.fluid_l, 1),
+                "carbs_g": None if p.carbs_g is None else round(p.carbs_g),
+                "fluid_l": None if p.fluid_l is None else round(p.fluid_l, 1),
+                "food": supplies_food(p),
                 "last_leaves": clock(p.last_leaves),
                 "sweep": clock(p.sweep),
             }
@@ -63,8 +71,8 @@ def day_rows(route: str, points, to_second: bool) -> list[dict]:
 
 
 def day_csv_text(rows: list[dict]) -> str:
-    """The day sheet as CSV text, one row per checkpoint ("per_15_min" as
-    "07:00=3; 07:15=5")."""
+    """The day sheet as CSV text, one row per point ("per_15_min" as "07:00=3;
+    07:15=5"; a marshal point's stock cells empty)."""
     buffer = io.StringIO()
     writer = csv.writer(buffer, lineterminator="\n")
     writer.writerow(COLUMNS)
@@ -78,7 +86,7 @@ def _cell(value):
     """Text that a spreadsheet would run as a formula gets a leading apostrophe."""
     if isinstance(value, str) and value.startswith(("=", "+", "-", "@", "\t", "\r")):
         return "'" + value
-    return value
+    return "" if value is None else value
 
 
 def assumptions(temperature_c: float | None, units: str = "metric") -> dict:
@@ -96,6 +104,8 @@ def assumptions(temperature_c: float | None, units: str = "metric") -> dict:
 def day_sheet_files(env, config, rows: list[dict], folder: Path, pdf: bool) -> dict[str, str | bytes]:
     """``day-sheet.csv`` and (with PDFs) ``day-sheet.pdf``, by name; ``folder`` is
     where the build puts them (the PDF's links point there)."""
+    # rows of a route reused from a build before feed and marshal points: checkpoints
+    rows = [{"kind": "checkpoint", "food": bool(r.get("stop_min")), **r} for r in rows]
     files: dict[str, str | bytes] = {"day-sheet.csv": day_csv_text(rows)}
     if not pdf:
         return files
@@ -105,7 +115,12 @@ def day_sheet_files(env, config, rows: list[dict], folder: Path, pdf: bool) -> d
     celsius = None if temperature is None else temperature - ZERO_CELSIUS_K
     peak = max((n for r in rows for _, n in r["per_15_min"]), default=1) or 1
     html = env.get_template("day-sheet.html").render(
-        title=config.title, rows=rows, peak=peak, said=assumptions(celsius, config.units), units=config.units
+        title=config.title,
+        rows=rows,
+        peak=peak,
+        said=assumptions(celsius, config.units),
+        units=config.units,
+        kinds=KIND_WORDS,
     )
     files["day-sheet.pdf"], _ = pdf_bytes(html, folder)
     return files

@@ -80,6 +80,8 @@ def plan_dict(plan) -> dict:
                 "avg_grade": _num(c.climb.avg_grade, 4),
                 "steepest_grade": _num(c.climb.steepest_grade, 4),
                 "fiets": _num(c.climb.score, 2),
+                "band": c.climb.band,
+                "rider_difficulty": list(c.rider_difficulty),
                 "power_for_target_w": _num(c.power_for_target, 1),
                 "speed_m_s": _num(c.speed_at_effort, 3),
                 "time_s": _num(c.time, 1),
@@ -165,10 +167,12 @@ def plan_json_text(
     windows=(),
     dated: bool = False,
     to_second: bool = False,
+    points=(),
 ) -> str:
     """All riders' plans of one route as JSON text (stable key order), with each
-    rider's start, bib, wave and food and fluid legs (from ``entries``), their arrival at each checkpoint and the finish, and
-    the checkpoints' windows (docs/contracts.md). Times are local "HH:MM", or ISO 8601
+    rider's start, bib, wave and food and fluid legs (from ``entries``), their arrival
+    at each checkpoint, feed and marshal point (``points``) and the finish, and the
+    checkpoints' windows (docs/contracts.md). Times are local "HH:MM", or ISO 8601
     date-times when the event has a date; to the second ("HH:MM:SS") when the
     event's starts are seconds apart (``to_second``)."""
 
@@ -201,6 +205,9 @@ def plan_json_text(
             }
             for w in windows
         ]
+        data["points"] = [
+            {"name": c.name, "kind": c.kind, "arrival": arrival(plan, start, c.distance)} for c in points
+        ]
         data["finish"] = arrival(plan, start, plan.terrain.length)
         data["legs"] = _legs(entry.legs if entry is not None else ())
         dicts.append(data)
@@ -215,6 +222,7 @@ def plan_json_text(
             }
             for w in windows
         ],
+        "points": [{"name": c.name, "kind": c.kind, "distance_m": _num(c.distance, 1)} for c in points],
         "plans": dicts,
     }
     return json.dumps(top, indent=1, ensure_ascii=False, sort_keys=True) + "\n"
@@ -359,6 +367,7 @@ def route_json(plan) -> dict:
                     "max_grade_pct": c.climb.steepest_grade * 100,
                     "score": c.climb.score,
                     "band": c.climb.band,
+                    "rider_difficulty": list(c.rider_difficulty),
                     "power_for_target_w": c.power_for_target,
                     "speed_at_effort_kmh": c.speed_at_effort * kmh,
                     "time_s": c.time,

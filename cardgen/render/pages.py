@@ -20,7 +20,7 @@ from cardgen import __version__
 from cardgen.errors import CardgenError
 from cardgen.plan import Plan
 from cardgen.plan.model import RouteJob
-from cardgen.render import advice, exports, plots
+from cardgen.render import advice, difficulty, exports, plots
 from cardgen.render import format as fmt
 from cardgen.render.day import day_rows, day_sheet_files
 from cardgen.render.html import (
@@ -296,6 +296,7 @@ def _exports(
         windows,
         dated=config.day is not None,
         to_second=to_second,
+        points=job.points,
     )
     files["climbs.csv"] = exports.climbs_csv_text(plans)
     files["route.gpx"] = exports.route_gpx_text(
@@ -485,6 +486,7 @@ def _render_route(config, site: dict, job: RouteJob, folder: Path) -> RoutePages
             rider_count=len(views),
             together=list(job.together),
             rider_notes=functools.partial(rider_notes, units=units),
+            climb_band=climb_band,
         )
         cards.append(CardSource(html, str(folder), str(folder / "coach.pdf")))
     summary = route_summary(job, views, units, site.get("to_second", False))
@@ -702,6 +704,13 @@ def _clock_text(moment) -> str:
     return fmt.clock(None, moment)
 
 
+def climb_band(index: int, views) -> str:
+    """Climb ``index``'s band for a coach sheet's group of riders (views), with the
+    riders for whom it understates their plans."""
+    rows = [(v.name, v.plan.climbs[index].rider_difficulty) for v in views]
+    return difficulty.named(views[0].plan.climbs[index].climb.band, rows) if views else ""
+
+
 def route_overview(job: RouteJob, views, to_second: bool = False) -> dict:
     """The route page's tables for any number of riders: per climb, descent, cue and
     checkpoint a summary over riders (fastest, median, slowest), and one row per
@@ -717,6 +726,7 @@ def route_overview(job: RouteJob, views, to_second: bool = False) -> dict:
                 "times": _spread([r.time for r in rows]),
                 "watts": (watts[0], watts[-1]) if watts else (None, None),
                 "warned": sum(1 for r in rows if r.warnings),
+                "band": difficulty.counted(climb.band, [r.rider_difficulty for r in rows]),
             }
         )
     descents = []

@@ -1,5 +1,5 @@
 """Checkpoints on a route: by waypoint name, by distance, or the waypoints typed
-"checkpoint"."""
+"checkpoint"; feed and marshal points by waypoint name or distance."""
 
 from __future__ import annotations
 
@@ -17,6 +17,16 @@ class Checkpoint:
     name: str
     distance: float  # [m] from the start
     stop: float = 0.0  # [s] planned stop there
+    kind: str = "checkpoint"  # or "feed", "marshal" (points of the day sheet only)
+
+
+#: The kinds of point a route declares: the word for it in messages, and the name of
+#: one given as a distance ("Feed at 42 km").
+KINDS = {
+    "checkpoint": ("checkpoint", "Checkpoint"),
+    "feed": ("feed point", "Feed"),
+    "marshal": ("marshal point", "Marshal point"),
+}
 
 
 def checkpoints_from_waypoints(track: Track, terrain: Terrain) -> list[Checkpoint]:
@@ -56,30 +66,50 @@ def resolve_checkpoints(
             )
         pauses = list(stops) if stops else [stop] * len(found)
         return [Checkpoint(c.name, c.distance, float(p)) for c, p in zip(found, pauses, strict=True)]
+    pauses = [float(stops[i]) if i < len(stops) else stop for i in range(len(items))]
+    return _place(items, pauses, track, terrain, where, "checkpoint")
+
+
+def resolve_points(
+    items: Sequence[str | float], track: Track, terrain: Terrain, where: str, kind: str
+) -> list[Checkpoint]:
+    """Feed or marshal points (``kind``: "feed", "marshal") a configuration names:
+    waypoint names (every pass of one) or distances [m]; no planned stop. Sorted by
+    distance. Raises ConfigError like :func:`resolve_checkpoints`."""
+    return _place(items, [0.0] * len(items), track, terrain, where, kind)
+
+
+def _place(
+    items: Sequence[str | float],
+    pauses: Sequence[float],
+    track: Track,
+    terrain: Terrain,
+    where: str,
+    kind: str,
+) -> list[Checkpoint]:
+    """Points of ``kind`` by waypoint name or distance [m], each with its pause [s]."""
+    word, title = KINDS[kind]
     names = {w.name for w in track.waypoints}
     out: list[Checkpoint] = []
     problems: list[str] = []
-    for i, item in enumerate(items):
-        pause = float(stops[i]) if i < len(stops) else stop
+    for item, pause in zip(items, pauses, strict=True):
         if isinstance(item, str):
             if item in names:  # every pass of it (out and back)
                 cues, _ = place_points(terrain, [w for w in track.waypoints if w.name == item], "waypoint")
-                out.extend(Checkpoint(c.text, c.distance, pause) for c in cues)
+                out.extend(Checkpoint(c.text, c.distance, pause, kind) for c in cues)
             else:
                 problems.append(
-                    f"checkpoint {item!r} is not a waypoint of the route{close_matches(item, names)}; "
+                    f"{word} {item!r} is not a waypoint of the route{close_matches(item, names)}; "
                     "use a waypoint name or a distance in km"
                 )
         elif item < 0:
-            problems.append(
-                f"checkpoint at {item / 1000:g} km is before the start; distances count from 0 km"
-            )
+            problems.append(f"{word} at {item / 1000:g} km is before the start; distances count from 0 km")
         elif item > terrain.length:
             problems.append(
-                f"checkpoint at {item / 1000:g} km is beyond the route's {terrain.length / 1000:.1f} km"
+                f"{word} at {item / 1000:g} km is beyond the route's {terrain.length / 1000:.1f} km"
             )
         else:
-            out.append(Checkpoint(f"Checkpoint at {item / 1000:g} km", float(item), pause))
+            out.append(Checkpoint(f"{title} at {item / 1000:g} km", float(item), pause, kind))
     if problems:
         raise ConfigError(f"{where}: " + "; ".join(problems))
     return sorted(out, key=lambda c: c.distance)

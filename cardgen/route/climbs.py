@@ -27,30 +27,12 @@ DIP_TOLERANCE = 10.0
 MAX_GAP = 500.0
 #: Window over which climbs are found, and the shortest pitch reported [m].
 GRADE_WINDOW = 100.0
-#: The steepest pitch is reported over the shortest window (a multiple of 50 m, up to
-#: MAX_PITCH) whose least-squares slope the elevation noise moves by at most this
-#: much (1 sigma) [-]: so noisy GPS elevations do not print walls that are not there.
-PITCH_NOISE = 0.003
-MAX_PITCH = 500.0
-
-
-def pitch_window(terrain: Terrain) -> float:
-    """The length [m] over which to report the steepest pitch of this terrain.
-
-    Notes
-    -----
-    The elevation noise σ is the robust spread (1.4826 × median absolute deviation)
-    of the resampled elevation about the smoothed one. A least-squares slope over N
-    points Δ apart has the standard error σ·√(12/(N(N² − 1)))/Δ (ordinary least
-    squares); the window is the shortest with that error at most :data:`PITCH_NOISE`.
-    """
-    residual = terrain.elevation_raw - terrain.elevation
-    sigma = 1.4826 * float(np.median(np.abs(residual - np.median(residual))))
-    for length in np.arange(GRADE_WINDOW, MAX_PITCH + 1, 50.0):
-        n = int(round(length / terrain.step)) + 1
-        if sigma * np.sqrt(12.0 / (n * (n * n - 1))) / terrain.step <= PITCH_NOISE:
-            return float(length)
-    return MAX_PITCH
+#: Neighbouring ground counts as part of the steepest pitch while it is at most this
+#: much less steep [-]: half the 0.5-point step in which grades are printed.
+PITCH_TOLERANCE = 0.0025
+#: The steepest pitch's length is printed rounded down to this step [m]: a knot the
+#: noise has moved by up to this much never makes the pitch longer than the ground's.
+PITCH_STEP = 50.0
 
 
 #: Our own plain-language bands on the FIETS index: (upper bound, words).
@@ -126,24 +108,39 @@ class Climb(Descent):
     band: str = ""
 
 
-def steepest_pitch(elevation: np.ndarray, step: float, points: int) -> float:
-    """The steepest grade [-] of any stretch of ``points`` steps, each stretch's grade
-    the least-squares slope of all its points.
+def steepest_pitch(elevation: np.ndarray, step: float, points: int) -> tuple[float, float]:
+    """The steepest grade [-] over ``points`` steps of a smoothed profile, and the
+    length [m] of the stretch it describes.
 
     Notes
     -----
-    A least-squares slope over n + 1 equally spaced points, Σ(x − x̄)(h − h̄)/Σ(x − x̄)²,
-    weighs every point, so noise and a smoothing filter's overshoot at one end move it
-    far less than the difference of the two end points does. A stretch shorter than
-    the window is fitted whole.
+    On the straight pieces of :func:`cardgen.route.terrain.smooth_elevation` the
+    grade of a stretch is the rise over its length. The stretch is the run of steps
+    around the steepest ``points`` steps that are each at most :data:`PITCH_TOLERANCE`
+    less steep than it, rounded down to :data:`PITCH_STEP` and never shorter than
+    ``points`` steps: so a 300 m wall reads "300 m", never more, and the stretch's
+    mean grade is within the tolerance of the grade given with it. A profile
+    shorter than ``points`` steps is taken whole.
     """
     n = min(points, elevation.size - 1)
     if n < 1:
-        return 0.0
-    x = (np.arange(n + 1) - n / 2.0) * step
-    weights = x / np.sum(x * x)
-    windows = np.lib.stride_tricks.sliding_window_view(elevation, n + 1)
-    return float(np.max(windows @ weights))
+        return 0.0, 0.0
+    rise = elevation[n:] - elevation[:-n]
+    first = int(np.argmax(rise))
+    grade = float(rise[first]) / (n * step)
+    steep = np.diff(elevation) / step >= grade - PITCH_TOLERANCE
+    inside = np.flatnonzero(steep[first : first + n])
+    if inside.size == 0:
+        return grade, n * step
+    start = end = first + int(inside[0])
+    while start > 0 and steep[start - 1]:
+        start -= 1
+    while end + 1 < steep.size and steep[end + 1]:
+        end += 1
+    length = max(n, end + 1 - start) * step
+    # the steps at either end where the grade changes between two nodes are left out
+    # of the run: one step of grace at each end before rounding down
+    return grade, max(n * step, np.floor((length + 2 * step) / PITCH_STEP) * PITCH_STEP)
 
 
 def _find(
@@ -155,8 +152,6 @@ def _find(
     max_gap: float,
 ) -> list[dict[str, Any]]:
     e = terrain.elevation * direction  # descents are climbs of the negated profile
-    pitch = pitch_window(terrain)
-    pitch_steps = max(1, int(round(pitch / terrain.step)))
     step = terrain.step
     n = e.size
     k = max(1, min(int(round(GRADE_WINDOW / step)), n - 1))
@@ -193,7 +188,7 @@ def _find(
         length = (end - start) * step
         if height < min_gain or height / length < min_avg_grade:
             continue
-        steepest = steepest_pitch(e[start : end + 1], step, pitch_steps)
+        steepest, pitch = steepest_pitch(e[start : end + 1], step, k)
         top = float(terrain.elevation[start : end + 1].max())
         hills.append(
             dict(

@@ -3,10 +3,11 @@ heading and curve radius.
 
 References
 ----------
-Savitzky, A. & Golay, M. J. E. (1964). Smoothing and differentiation of data by
-simplified least squares procedures. *Analytical Chemistry* 36(8):1627–1639.
-doi:10.1021/ac60214a047
 Tukey, J. W. (1977). *Exploratory Data Analysis*. Addison-Wesley (running medians).
+Pearson, R. K. (2002). Outliers in process modeling and identification. *IEEE
+Transactions on Control Systems Technology* 10(1):55–63. doi:10.1109/87.974338 (the
+Hampel identifier).
+The smoothing's own: see :mod:`cardgen.route.profile_fit`.
 """
 
 from __future__ import annotations
@@ -21,18 +22,16 @@ from cardgen.errors import GpxError
 from cardgen.route.corners import MIN_TURN_RADIUS, find_corners
 from cardgen.route.geodesy import bearing, course, cumulative_distance, local_plane
 from cardgen.route.gpx import Track
+from cardgen.route.profile_fit import NOISE_FLOOR, fit_profile, grid_noise, point_noise
 from cardgen.units import Floats
 
 #: Default grid step [m].
 GRID_STEP = 10.0
-#: Savitzky–Golay window [m] and polynomial order: keeps straight and parabolic
-#: profiles exactly; chosen on synthetic profiles (tests/test_terrain.py) so that
-#: σ = 3 m noise adds under 5 m of gain per 10 km while a 200 m pitch at 12 % keeps
-#: its grade within 1 percentage point.
-SMOOTH_WINDOW = 250.0
-SMOOTH_ORDER = 2
 #: Running-median width [points] that removes single- and double-point spikes.
 SPIKE_POINTS = 5
+#: A value this many robust spreads from its running median is a spike (Pearson
+#: 2002 uses 3).
+SPIKE_SCALES = 3.0
 #: Deadband for total gain and loss [m]: a rise or fall counts once it is this far
 #: from the last turning point. Common practice is 1–3 m on barometric data (no
 #: published source); GPS elevations need more: good receivers stay within 5 m
@@ -94,14 +93,9 @@ class Terrain:
         return xy
 
 
-def remove_spikes(elevation: Floats, points: int = SPIKE_POINTS) -> Any:
-    """Running median over ``points`` samples: removes isolated spikes and dips,
-    leaves monotone stretches and steps unchanged.
-
-    References
-    ----------
-    Tukey (1977), Exploratory Data Analysis.
-    """
+def running_median(elevation: Floats, points: int = SPIKE_POINTS) -> Any:
+    """Median over ``points`` samples centred on each one, the ends padded with the
+    first and last value (Tukey 1977)."""
     e = np.asarray(elevation, dtype=float)
     if e.size < points:
         return e.copy()
@@ -110,55 +104,60 @@ def remove_spikes(elevation: Floats, points: int = SPIKE_POINTS) -> Any:
     return np.median(sliding_window_view(padded, points), axis=1)
 
 
-def smooth_elevation(
-    elevation: Floats, step: float, window: float = SMOOTH_WINDOW, order: int = SMOOTH_ORDER
-) -> Any:
-    """Savitzky–Golay smoothing of an elevation profile on a uniform grid.
+def remove_spikes(elevation: Floats, points: int = SPIKE_POINTS) -> Any:
+    """Isolated spikes and dips replaced by the running median of ``points`` samples;
+    every other value kept (a Hampel identifier).
+
+    Notes
+    -----
+    A value is a spike when it lies more than :data:`SPIKE_SCALES` robust spreads
+    (1.4826 × the median absolute deviation of its window, at least
+    :data:`~cardgen.route.profile_fit.NOISE_FLOOR`) from its window's median. A running
+    median alone would also cut the top off every sharp summit (by about one grid
+    step's rise); monotone stretches and steps are kept either way.
+
+    References
+    ----------
+    Tukey (1977), Exploratory Data Analysis. Pearson, R. K. (2002). Outliers in
+    process modeling and identification. *IEEE Trans. Control Systems Technology*
+    10(1):55–63. doi:10.1109/87.974338 (the Hampel identifier).
+    """
+    e = np.asarray(elevation, dtype=float)
+    if e.size < points:
+        return e.copy()
+    median = running_median(e, points)
+    half = points // 2
+    padded = np.concatenate((np.full(half, e[0]), e, np.full(half, e[-1])))
+    spread = 1.4826 * np.median(np.abs(sliding_window_view(padded, points) - median[:, None]), axis=1)
+    spike = np.abs(e - median) > SPIKE_SCALES * np.maximum(spread, NOISE_FLOOR)
+    return np.where(spike, median, e)
+
+
+def smooth_elevation(elevation: Floats, step: float, noise: float | None = None) -> Any:
+    """The elevation profile with its noise removed: straight grades joined at the
+    knots the noise cannot explain (:func:`cardgen.route.profile_fit.fit_profile`).
 
     Parameters
     ----------
-    elevation : array [m]
+    elevation : array [m] on a uniform grid, spikes removed
     step : float [m] grid spacing
-    window : float [m] length of the local polynomial fit
-    order : int  polynomial order; straight and (order 2) parabolic profiles pass
-        through unchanged.
+    noise : float [m] σ of the noise as independent errors at every node (see
+        :func:`cardgen.route.profile_fit.grid_noise`); measured on ``elevation``
+        itself when not given.
+
+    Notes
+    -----
+    A step in grade stays a step: the fit neither overshoots it nor spreads it over a
+    window, and a climb between flats gains what the data gain.
 
     References
     ----------
-    Savitzky & Golay (1964), Anal. Chem. 36:1627–1639.
+    Those of :mod:`cardgen.route.profile_fit`.
     """
     e = np.asarray(elevation, dtype=float)
-    points = int(round(window / step)) | 1  # odd
-    points = min(points, e.size if e.size % 2 else e.size - 1)
-    if points <= order:
-        return e.copy()
-    return savitzky_golay(e, points, order)
-
-
-def savitzky_golay(values: Any, points: int, order: int) -> Any:
-    """Least-squares polynomial smoothing over a sliding window of ``points`` samples.
-
-    Inside, each value is replaced by the value at the centre of the polynomial of
-    degree ``order`` fitted to the window around it (one fixed convolution). The
-    first and last ``points // 2`` values come from the polynomial fitted to the
-    first and last full window. Same result as ``scipy.signal.savgol_filter(...,
-    mode="interp")`` (checked in the tests), without importing SciPy on the analysis
-    path.
-
-    References
-    ----------
-    Savitzky & Golay (1964), Anal. Chem. 36:1627–1639.
-    """
-    v = np.asarray(values, dtype=float)
-    half = points // 2
-    offsets = np.arange(-half, half + 1, dtype=float)
-    design = offsets[:, None] ** np.arange(order + 1)  # (points, order + 1)
-    fit = np.linalg.pinv(design)  # polynomial coefficients from a window
-    out = np.empty_like(v)
-    out[half : v.size - half] = np.convolve(v, fit[0][::-1], mode="valid")
-    out[:half] = design[:half] @ (fit @ v[:points])
-    out[v.size - half :] = design[half + 1 :] @ (fit @ v[-points:])
-    return out
+    if noise is None:
+        noise = point_noise(np.arange(e.size) * step, e)
+    return fit_profile(e, noise)
 
 
 def elevation_gain(elevation: Floats, deadband: float = GAIN_DEADBAND) -> tuple[float, float]:
@@ -318,7 +317,8 @@ def build_terrain(track: Track, step: float = GRID_STEP) -> Terrain:
     unwrapped = np.degrees(np.unwrap(np.radians(track.lon[keep])))
     lon = (np.interp(grid, d, unwrapped) + 180.0) % 360.0 - 180.0
     raw = np.interp(grid, d, ele)
-    smooth = smooth_elevation(raw, grid_step)
+    noise = grid_noise(point_noise(d, ele_in[keep]), float(np.median(np.diff(d))), grid_step)
+    smooth = smooth_elevation(raw, grid_step, noise)
     grade = np.diff(smooth) / grid_step
     heading = bearing(lat[:-1], lon[:-1], lat[1:], lon[1:])
     radius = curve_radius(lat, lon, grid_step)

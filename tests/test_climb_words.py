@@ -1,0 +1,200 @@
+"""A climb's difficulty for its riders beside the road's band (issue 21, item 5): an
+"easy" ramp that takes every rider of an outing above CP and a handcyclist to a crawl
+says so on the coach sheet, the route page, plan.json and ``route --json``; a weak
+tandem's walking on a climb of alternating pitches prints as one stretch."""
+
+from __future__ import annotations
+
+import json
+import re
+import shutil
+import subprocess
+
+import numpy as np
+import pytest
+from gpxmaker import profile_gpx
+from scipy.optimize import brentq
+from test_walking import FIRST_FOOT, LAST_TOP, pitched_climb
+
+from cardgen.plan.difficulty import CRAWL_SPEED, climb_words
+
+# The ramp: 2 km flat, 400 m at 9 %, 2 km flat. FIETS = H²/(D·10) = 36²/4,000 = 0.32
+# (Fiets magazine's index, via the secondary sources of docs/sources.md [S]): "easy".
+FLAT, RAMP, GRADE = 2000.0, 400.0, 0.09
+
+
+def ramp(path):
+    d = np.arange(0.0, 2 * FLAT + RAMP + 1, 10.0)
+    grade = np.where((d >= FLAT) & (d < FLAT + RAMP), GRADE, 0.0)
+    return profile_gpx(path, d, 50.0 + np.concatenate(([0.0], np.cumsum(grade[:-1] * 10.0))), name="Ramp")
+
+
+def test_words_from_the_plan():
+    fast, slow = np.full(40, 3.0), np.full(40, 3.5 / 3.6)
+    assert climb_words("easy", cp=100, rider_power=120, walked=0, speed=fast, step=10) == ("above CP",)
+    assert climb_words("hard", cp=100, rider_power=120, walked=0, speed=fast, step=10) == ()
+    assert climb_words("easy", cp=100, rider_power=90, walked=0, speed=fast, step=10) == ()
+    # 400 m below 4 km/h is a crawl whatever the band; walking says more and replaces it
+    assert climb_words("very hard", cp=100, rider_power=90, walked=0, speed=slow, step=10) == ("crawl",)
+    assert climb_words("easy", cp=100, rider_power=120, walked=50, speed=slow, step=10) == (
+        "walk",
+        "above CP",
+    )
+    # 150 m slow in a 400 m climb averaging above 4 km/h: no crawl
+    part = np.concatenate((np.full(15, 3.5 / 3.6), np.full(25, 3.0)))
+    assert climb_words("easy", cp=100, rider_power=90, walked=0, speed=part, step=10) == ()
+
+
+def _steady_speed(power, grade, vehicle):
+    """Speed [m/s] at which ``power`` at the cranks holds ``grade`` in still air: the
+    steady power balance of Martin et al. (1998), J. Appl. Biomech. 14:276–291
+    (rolling, bearings after Dahn et al. 1991, gravity, air at 1.225 kg/m³, ISO 2533),
+    root by brentq."""
+    theta = np.arctan(grade)
+
+    def surplus(v):
+        wheel = (
+            v * vehicle.mass * 9.80665 * (vehicle.crr * np.cos(theta) + np.sin(theta))
+            + v * (0.091 + 0.0087 * v)
+            + 0.5 * 1.225 * vehicle.cda * v**3
+        )
+        return power * vehicle.efficiency - wheel
+
+    return brentq(surplus, 1e-6, 30.0)
+
+
+def test_route_json_gives_the_words_beside_the_band(cli, tmp_path):
+    """The handcycle (CP 86 W by its default rider) holds under 4 km/h on 9 % at CP by
+    the power balance itself: the plan crawls, and ``route`` says so beside "easy"."""
+    from cardgen.profiles.riders import Rider
+    from cardgen.profiles.vehicles import find_vehicle
+
+    hand = Rider.for_vehicle(find_vehicle("handcycle"))
+    assert _steady_speed(hand.cp, GRADE, hand.vehicle) < CRAWL_SPEED
+    gpx = ramp(tmp_path / "ramp.gpx")
+    code, data, err = cli(
+        "route", str(gpx), "--vehicle", "handcycle", "--pacing", "best", "--json", parse_json=True
+    )
+    assert code == 0, err
+    (climb,) = data["climbs"]
+    # the smoothing spreads the ramp over a little more than 400 m: a lower score, still "easy"
+    assert climb["band"] == "easy" and climb["score"] == pytest.approx(0.32, abs=0.05)
+    assert climb["rider_difficulty"] == ["crawl", "above CP"]
+    code, out, _ = cli("route", str(gpx), "--vehicle", "handcycle", "--pacing", "best")
+    assert "easy by its band; for this rider: crawl, above CP" in out
+
+
+SITE = """
+[site]
+title = "Invented ramp outing"
+card_size = "A5"
+
+[[routes]]
+gpx = "ramp.gpx"
+
+[[routes]]
+gpx = "pitched.gpx"
+
+[[riders]]
+name = "Upright rider"
+vehicle = "city-upright"
+routes = ["ramp"]
+
+[[riders]]
+name = "Road rider"
+vehicle = "road-hoods"
+routes = ["ramp"]
+
+[[riders]]
+name = "Assisted rider"
+vehicle = "e-assist-city"
+routes = ["ramp"]
+
+[[riders]]
+name = "Hand rider"
+vehicle = "handcycle"
+pacing = "best"
+routes = ["ramp"]
+
+[[riders]]
+name = "Tandem pair"
+vehicle = "tandem"
+cp_w = 141
+routes = ["pitched"]
+"""
+
+
+@pytest.fixture(scope="module")
+def outing(tmp_path_factory):
+    from cardgen.build import build_site
+    from cardgen.config import load_config
+
+    folder = tmp_path_factory.mktemp("ramp-outing")
+    ramp(folder / "ramp.gpx")
+    pitched_climb(folder / "pitched.gpx")
+    (folder / "site.toml").write_text(SITE, encoding="utf-8")
+    out = folder / "site"
+    build_site(load_config(folder / "site.toml"), out, jobs=1)
+    return out
+
+
+def _text(pdf) -> str:
+    raw = subprocess.run(["pdftotext", str(pdf), "-"], capture_output=True, text=True, check=True).stdout
+    return re.sub(r"\s+", " ", raw)
+
+
+needs_poppler = pytest.mark.skipif(
+    shutil.which("pdftotext") is None, reason="needs poppler-utils (pdftotext)"
+)
+
+
+@pytest.mark.slow
+@needs_poppler
+def test_an_easy_ramp_above_everyones_cp_says_so_everywhere(outing):
+    plans = json.loads((outing / "ramp" / "plan.json").read_text())["plans"]
+    for p in plans:
+        (c,) = p["climbs"]
+        assert c["band"] == "easy"
+        # the word follows the plan's own figures: mean power on the climb above CP,
+        # and for the crawl the planned speed under 4 km/h
+        assert ("above CP" in c["rider_difficulty"]) == (c["hold_w"] > p["rider"]["cp_w"])
+        assert ("crawl" in c["rider_difficulty"]) == (p["rider"]["name"] == "Hand rider")
+    assert all("above CP" in p["climbs"][0]["rider_difficulty"] for p in plans)
+    coach = _text(outing / "ramp" / "coach.pdf")
+    assert "easy by its band; for these riders: crawl (Hand rider), above CP (all 4)" in coach
+    page = (outing / "ramp" / "index.html").read_text()
+    assert "easy; for riders: crawl (1 of 4), above CP (4 of 4)" in page
+
+
+@pytest.mark.slow
+@needs_poppler
+def test_the_tandem_reads_one_walk_on_the_pitched_climb(outing):
+    (plan,) = json.loads((outing / "pitched" / "plan.json").read_text())["plans"]
+    (climb,) = plan["climbs"]
+    (walk,) = [w for w in climb["warnings"] if w["code"] == "walk"]
+    assert not [w for w in plan["warnings"] if w["code"] == "walk"]
+    assert abs(walk["at_m"] - FIRST_FOOT) <= 60
+    assert abs(walk["at_m"] + plan["totals"]["walk_m"] - LAST_TOP) <= 100
+    card = _text(outing / "pitched" / "tandem-pair.pdf")
+    printed = re.search(r"walking may be needed: ([\d,]+) m from (\d+\.\d) km", card)
+    assert printed and abs(float(printed.group(1).replace(",", "")) - plan["totals"]["walk_m"]) <= 10
+    assert float(printed.group(2)) * 1000 == pytest.approx(walk["at_m"], abs=50)
+    assert "walk" in climb["rider_difficulty"]
+    coach = _text(outing / "pitched" / "coach.pdf")
+    assert "by its band; for these riders: walk (Tandem pair)" in coach
+
+
+@pytest.mark.slow
+@needs_poppler
+def test_the_card_says_what_the_carbohydrate_band_follows(outing):
+    """The band is chosen by the whole time out (stops included) and applied per hour of
+    riding: the card says so beside the figures. Thomas, Erdman & Burke (2016), Med Sci
+    Sports Exerc 48(3):543–568, Table 4 [V via plan/fuel.py's notes]: 45–75 min, small
+    amounts (cardgen: up to 30 g an hour)."""
+    card = _text(outing / "pitched" / "tandem-pair.pdf")
+    assert "per hour of riding, the band for the whole time out with stops" in card
+    row = re.search(r"Food and fluids .*? (\d+):(\d\d) [\d,]+ kcal (\d+)–(\d+) g", card)
+    assert row, card
+    hours = (int(row.group(1)) * 60 + int(row.group(2))) / 60
+    assert 0.75 < hours <= 1.25  # the 45–75 min band
+    assert int(row.group(3)) == 0 and abs(int(row.group(4)) - 30 * hours) <= 1
