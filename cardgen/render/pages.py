@@ -86,14 +86,14 @@ class CardSource:
 #: descriptions; 3 the profile and the map are drawn smaller.
 CONDENSE_STEPS = 3
 #: A card's variants in the order they are tried, as (condensing step, route map on
-#: the card): first each step within the page budget; then the same again, allowed a
-#: continuation sheet (twice the budget: the card flows on, so its second page is
-#: full before the third starts, and the least condensed that fits is printed); last,
-#: the most condensed with the route map left to the route's web page (a long card
-#: with its pacing lines may have no room left for it).
+#: the card): first each step within the page budget; then the most condensed again,
+#: allowed a continuation sheet (twice the budget: the card flows on, so its second
+#: page is full before the third starts); last, the same with the route map left to
+#: the route's web page (a long card with its pacing lines may have no room left for
+#: it).
 CARD_VARIANTS = (
     *((step, True) for step in range(CONDENSE_STEPS + 1)),
-    *((step, True) for step in range(CONDENSE_STEPS + 1)),
+    (CONDENSE_STEPS, True),
     (CONDENSE_STEPS, False),
 )
 #: The first variant allowed a continuation sheet.
