@@ -17,6 +17,7 @@
 from __future__ import annotations
 
 import argparse
+import dataclasses
 import sys
 import time
 from pathlib import Path
@@ -30,12 +31,14 @@ from bench_route import OUT, make_route  # noqa: E402
 
 from cardgen.io.gpx import read_gpx  # noqa: E402
 from cardgen.physics.atmosphere import Conditions  # noqa: E402
+from cardgen.physics.braking import braking  # noqa: E402
 from cardgen.physics.effort import effort_power  # noqa: E402
 from cardgen.plan import analyse, make_plan  # noqa: E402
 from cardgen.plan import rider as plan_rider  # noqa: E402
+from cardgen.plan.assist_levels import assist_ratio  # noqa: E402
 from cardgen.plan.model import Effort  # noqa: E402
 from cardgen.plan.pacing import Course, ceiling, pace, ridden_mean  # noqa: E402
-from cardgen.plan.rider import braking, segment_air, speed_caps  # noqa: E402
+from cardgen.plan.rider import segment_air, speed_caps  # noqa: E402
 from cardgen.profiles.riders import Rider  # noqa: E402
 from cardgen.profiles.vehicles import builtin_vehicles  # noqa: E402
 from cardgen.route.terrain import build_terrain  # noqa: E402
@@ -157,12 +160,17 @@ def gain_table() -> None:
             )
 
 
-def _old_paced(course, rider):
-    """The earlier plan, for the side-by-side timing: the heuristic ridden once."""
+def _old_paced(course, rider, stretches=()):
+    """The earlier plan, for the side-by-side timing (reconstructed here, labelled
+    "heuristic"): the heuristic ridden once, with a motor at the levels each stretch
+    asks for (the earlier code chose them before the ride, without the pacing plan)."""
     analysis = _old_paced.analysis
+    levels = [s.wanted for s in stretches]
+    if stretches and course.motor is not None:
+        course = dataclasses.replace(course, assist_ratio=assist_ratio(course, stretches, levels))
     ride = course.ride(_heuristic(analysis, course, rider, rider.flat_power))
     effort = Effort("heuristic", ridden_mean(ride), rider.flat_power, rider.climb_power_used)
-    return effort, ride
+    return effort, ride, levels
 
 
 def event_planning(riders: int) -> None:

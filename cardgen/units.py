@@ -5,6 +5,8 @@ Everything inside cardgen is SI: m, s, kg, W, J, Pa, K, rad, grade as a fraction
 
 from __future__ import annotations
 
+from typing import Any
+
 import numpy as np
 
 KMH_PER_MS = 3.6
@@ -37,3 +39,11 @@ def celsius_to_kelvin(temperature_c: Floats) -> np.ndarray:
 
 #: A float or an array of floats: what the physics and route functions take and give.
 Floats = float | np.ndarray
+
+
+def scalar_or_array(values: Any) -> Floats:
+    """numpy's ``values[()]``: a 0-d result as a numpy float (a ``float``), any other
+    as the array itself; typed, so that functions that give what they were given
+    return :data:`Floats` rather than ``Any``."""
+    out: Floats = np.asarray(values)[()]
+    return out

@@ -192,7 +192,7 @@ def test_the_card_says_what_the_carbohydrate_band_follows(outing):
     Sports Exerc 48(3):543–568, Table 4 [V via plan/fuel.py's notes]: 45–75 min, small
     amounts (cardgen: up to 30 g an hour)."""
     card = _text(outing / "pitched" / "tandem-pair.pdf")
-    assert "per hour of riding, the band for the whole time out with stops" in card
+    assert "per riding hour, band by time out with stops" in card
     row = re.search(r"Food and fluids .*? (\d+):(\d\d) [\d,]+ kcal (\d+)–(\d+) g", card)
     assert row, card
     hours = (int(row.group(1)) * 60 + int(row.group(2))) / 60

@@ -114,10 +114,12 @@ def _pitch(tmp_path, knots_d, knots_e, noise=0.0, seed=0, spikes=False):
 @pytest.mark.parametrize("seed", range(4))
 def test_steepest_pitch_is_not_inflated_by_noise(tmp_path, seed):
     """A constant 8 % climb with white elevation noise σ 2.5 m at 10 m spacing and +40 m
-    spikes reads within 1.5 points of 8 %, over a stretch no longer than the 3 km climb."""
+    spikes reads within 1.5 points of 8 %, over a stretch no longer than the 3 km climb
+    (as cardgen measures it: its distances agree with geodesics within 0.6 %,
+    test_terrain.py, and the generator lays metres out on a plane)."""
     climb = _pitch(tmp_path, [0, 1000, 4000, 5000], [0, 0, 240, 240], noise=2.5, seed=seed, spikes=True)
     assert abs(climb.steepest_grade - 0.08) <= 0.015
-    assert 100 < climb.pitch_length <= 3000
+    assert 100 < climb.pitch_length <= 3000 * 1.006
 
 
 @pytest.mark.parametrize(
@@ -130,4 +132,5 @@ def test_steepest_pitch_is_not_inflated_by_noise(tmp_path, seed):
 )
 def test_steepest_pitch_of_a_clean_climb_at_the_route_ends_too(tmp_path, knots):
     climb = _pitch(tmp_path, *knots)  # a 2 km climb at 6 %, also starting or ending the route
-    assert abs(climb.steepest_grade - 0.06) <= 0.003 and climb.pitch_length == 2000
+    assert abs(climb.steepest_grade - 0.06) <= 0.003
+    assert climb.pitch_length == pytest.approx(2000, abs=5)  # printed "2000 m" (to 10 m)

@@ -95,4 +95,6 @@ def test_route_json_is_rounded_and_always_valid(day_ride):
 
     assert all(round(x, 4) == x for x in floats(data))
     assert exports._rounded({"a": math.inf, "b": [math.nan, 1.234567]}) == {"a": None, "b": [None, 1.2346]}
+    # no negative zero: a flat route's loss printed as -0.0
+    assert json.dumps(exports._rounded({"loss": -0.0, "tiny": -0.00001})) == '{"loss": 0.0, "tiny": 0.0}'
     assert json.loads(text)["route"]["distance_km"] == pytest.approx(plans[0].terrain.length / 1000, abs=1e-4)

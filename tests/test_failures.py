@@ -128,3 +128,22 @@ def test_output_may_not_be_the_home_folder(tmp_path, monkeypatch, capsys):
     (tmp_path / "home").mkdir()
     assert main(["build", str(src / "site.toml"), "-o", str(tmp_path / "home")]) == 1
     assert "home folder" in capsys.readouterr().err
+
+
+def test_ctrl_c_wrapped_by_a_first_import_is_still_an_interruption(monkeypatch, capsys):
+    """SIGINT while Python runs a class body's ``__set_name__`` (matplotlib's first
+    import, under load) arrives as RuntimeError caused by KeyboardInterrupt: still the
+    one line and exit 130, no traceback."""
+    import cardgen.cli.solve as solve_module
+    from cardgen.cli import main
+
+    def interrupted(_args):
+        try:
+            raise KeyboardInterrupt
+        except KeyboardInterrupt as exc:
+            raise RuntimeError("Error calling __set_name__ on 'x' instance 'y' in 'Z'") from exc
+
+    monkeypatch.setattr(solve_module, "cmd_solve", interrupted)
+    assert main(["solve", "--power", "150"]) == 130
+    err = capsys.readouterr().err
+    assert "interrupted" in err and "Traceback" not in err

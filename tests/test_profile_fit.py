@@ -96,3 +96,20 @@ def test_noise_alone_makes_no_knot(seed):
     e = 100 + np.random.default_rng(seed).normal(0, 3.0, 1001)
     fit = smooth_elevation(e, 10.0, noise=3.0)
     assert np.ptp(np.diff(fit)) < 1e-9
+
+
+def test_a_knots_range_holds_its_true_place_ninety_nine_times_in_a_hundred():
+    """A 300 m wall of 15 % between flats, its steps between nodes, under σ = 2.5 m of
+    white noise, 100 fixed seeds: the 99 % range of each of its two knots (Hinkley
+    1971, profile likelihood) holds the drawn place in at least 97 % of the 200 cases
+    (measured: 99.5 %; with χ² at 95 %, 94.5 %)."""
+    x = np.arange(231) + 0.37
+    drawn_knots = (100.2 - 0.37, 130.7 - 0.37)  # [node]
+    held = []
+    for seed in range(100):
+        e = np.interp(x, [0, 100.2, 130.7, 231], [0, 0, 45.75, 45.75])
+        fit = pf.fit_profile(e + np.random.default_rng(seed).normal(0, 2.5, x.size), 10.0, 2.5)
+        for place in drawn_knots:
+            j = int(np.argmin(np.abs(fit.knots - place)))
+            held.append(fit.knot_low[j] <= place <= fit.knot_high[j])
+    assert np.mean(held) >= 0.97

@@ -1,5 +1,6 @@
-"""The pipeline: plan every route × rider first, then render into a temporary folder
-beside the output and publish it in one step.
+"""The pipeline: plan every route × rider and write its pages into a temporary folder
+beside the output (a route's plans stay in the worker that made them), then render
+the cards there and publish it in one step.
 
 A failed build publishes nothing and leaves the previous site as it was. A lock file
 beside the output stops two builds writing into one folder. A manifest of content
@@ -10,9 +11,11 @@ route whose inputs did not change, and skip the whole build when nothing did.
 from __future__ import annotations
 
 import contextlib
+import json
 import os
 import shutil
 import time
+import zlib
 from collections.abc import Callable, Iterable, Iterator, Mapping
 from concurrent.futures import ProcessPoolExecutor
 from concurrent.futures.process import BrokenProcessPool
@@ -56,8 +59,9 @@ class _Route:
     config: object  # RouteConfig
     slug: str
     key: str
-    job: object = None  # RouteJob once planned
     starts: dict = field(default_factory=dict)  # rider index → Start on this route
+    summary: dict | None = None  # once planned and its pages written
+    cards: list = field(default_factory=list)  # PackedCard, once planned
 
 
 def build_site(
@@ -164,6 +168,54 @@ def _render_route(task):
     return pages.summary, pages.cards
 
 
+def _plan_and_write_route(task):
+    """Worker: plan one route (:func:`_plan_route`), then write its pages, plots and
+    exports into its folder of the temporary site (:func:`_render_route`). The plans
+    stay in this process and end with it: only the route's summary and its cards,
+    packed (:class:`PackedCard`), come back (a route's plans are about 0.7 MB per rider
+    on 160 km, half a gigabyte for a 1,000-rider route, too much to send between
+    processes and keep for the whole build).
+
+    Returns (name, riders, summary, packed cards), or the error message (str)."""
+    route, config, starts, site, folder = task
+    job, error = _plan_route((route, config, starts))
+    if error is not None:
+        return error
+    summary, cards = _render_route((config, site, job, folder))
+    return job.name, len(job.riders), summary, [PackedCard.of(c) for c in cards]
+
+
+@dataclass(frozen=True)
+class PackedCard:
+    """A card on its way to the PDF: its HTML variants compressed (zlib; a 160 km
+    card's six variants are some 200 KB in memory, 600 MB for 3,000 riders, and
+    about a tenth of that packed), and its key (:func:`card_key`)."""
+
+    base: str
+    target: str
+    budget: int
+    group: str
+    key: str
+    blob: bytes  # zlib of the JSON [html, [variants]]
+
+    @classmethod
+    def of(cls, card) -> PackedCard:
+        """``card`` (a :class:`~cardgen.render.pages.CardSource` whose drawings are
+        written) packed."""
+        text = json.dumps([card.html, list(card.variants)], ensure_ascii=False)
+        return cls(
+            card.base, card.target, card.budget, card.group, card_key(card), zlib.compress(text.encode(), 1)
+        )
+
+    @property
+    def source(self):
+        """The card as rendered (:class:`~cardgen.render.pages.CardSource`)."""
+        from cardgen.render.pages import CardSource
+
+        html, variants = json.loads(zlib.decompress(self.blob))
+        return CardSource(html, self.base, self.target, tuple(variants), self.budget, self.group)
+
+
 def write_files(folder: Path, files: Mapping[str, str | bytes | Path]) -> None:
     """Write rendered files into ``folder`` by name: text as UTF-8, bytes as they are,
     a path (a theme file) copied."""
@@ -198,7 +250,8 @@ def _render_pdfs(cards) -> tuple[list[str], int]:
     from cardgen.render.pdf import Fitter, pdf_bytes
 
     fitter = Fitter()
-    for card in cards:
+    for packed in cards:
+        card = packed.source if isinstance(packed, PackedCard) else packed
         if card.variants:
             data, _, _ = fitter.fit(
                 card.variants, Path(card.base), card.budget, card.group, continued_from=CONTINUATION_STEP
@@ -261,41 +314,30 @@ def _build_locked(config, out, jobs, pdf, keep_going, say, progress, report):
         say(f"{out}: up to date ({len(routes)} routes, {report.cards_reused} cards unchanged)")
         return report
 
-    # Phase 1: plan every route that changed (in the process pool when jobs > 1).
+    # Phase 1: plan every route that changed and write its pages into a temporary
+    # folder beside the output (in the process pool when jobs > 1); phase 2: cards,
+    # packs, index; then publish it. Nothing is published unless every route planned.
     def reusable(route: _Route) -> bool:
         return (
             old.get("routes", {}).get(route.slug, {}).get("key") == route.key and (out / route.slug).is_dir()
         )
 
-    todo = [r for r in routes if not reusable(r)]
-    failures = []
-    with _pool(jobs, len(todo)) as pool:
-        for route, (job, error) in zip(
-            todo, _map(pool, _plan_route, [(r, config, r.starts) for r in todo]), strict=True
-        ):
-            if error:
-                failures.append(error)
-            else:
-                route.job = job
-                say(f"planned {job.name}: {plural(len(job.riders), 'rider')}")
-    report.seconds["plan"] = time.perf_counter() - t0
-    if failures and (not keep_going or len(failures) == len(routes)):
-        why = "every route failed" if keep_going else "the build stopped"
-        raise BuildError(
-            f"{why}; nothing was published (the previous site is unchanged):\n  " + "\n  ".join(failures)
-        )
-    report.failed = failures
-    for failure in failures:
-        say(f"left out (--keep-going): {failure}")
-
-    # Phase 2: render into a temporary folder beside the output, then publish it.
     tmp = side_name(out, TMP)
     shutil.rmtree(tmp, ignore_errors=True)
     tmp.mkdir(parents=True)
     published = False
     try:
-        with _pool(jobs, len(routes) + 1) as pool:
-            manifest = _render(config, routes, old, out, tmp, pool, pdf, progress, report, reusable, jobs)
+        failures = _plan_routes(config, [r for r in routes if not reusable(r)], tmp, jobs, say)
+        report.seconds["plan"] = time.perf_counter() - t0
+        if failures and (not keep_going or len(failures) == len(routes)):
+            why = "every route failed" if keep_going else "the build stopped"
+            raise BuildError(
+                f"{why}; nothing was published (the previous site is unchanged):\n  " + "\n  ".join(failures)
+            )
+        report.failed = failures
+        for failure in failures:
+            say(f"left out (--keep-going): {failure}")
+        manifest = _render(config, routes, old, out, tmp, pdf, progress, report, reusable, jobs)
         manifest["site_key"] = site_key if not failures else ""
         write_manifest(tmp, manifest)
         publish(tmp, out)
@@ -312,6 +354,31 @@ def _build_locked(config, out, jobs, pdf, keep_going, say, progress, report):
     return report
 
 
+def _plan_routes(config, todo: list[_Route], tmp: Path, jobs: int, say) -> list[str]:
+    """Plan each route of ``todo`` and write its pages into its folder in ``tmp``
+    (:func:`_plan_and_write_route`), keeping its summary and packed cards on the route.
+    Returns the failures (a failed route's folder is removed)."""
+    from cardgen.plan.starts import event_starts
+    from cardgen.render.pages import built_stamp, site_context
+
+    site = site_context(config, event_starts(config), built_stamp(os.environ.get("SOURCE_DATE_EPOCH")))
+    failures = []
+    for route in todo:
+        (tmp / route.slug).mkdir()
+    tasks = [(r, config, r.starts, site, str(tmp / r.slug)) for r in todo]
+    # one route too goes to a worker when jobs > 1: its plans then never enter this
+    # process, whose memory every card-rendering process starts from (fork)
+    with _pool(jobs, len(todo) + 1 if todo else 0) as pool:
+        for route, result in zip(todo, _map(pool, _plan_and_write_route, tasks), strict=True):
+            if isinstance(result, str):
+                failures.append(result)
+                shutil.rmtree(tmp / route.slug, ignore_errors=True)
+                continue
+            name, riders, route.summary, route.cards = result
+            say(f"planned {name}: {plural(riders, 'rider')}")
+    return failures
+
+
 def card_batches(cards: list, size: int) -> list[list]:
     """The cards in batches of at most ``size``, each from one route and, within it,
     by vehicle kind: the cards of a batch share their drawings and their fitter learns
@@ -326,7 +393,7 @@ def card_batches(cards: list, size: int) -> list[list]:
     return batches
 
 
-def _render_cards(pool, cards: list, jobs: int, tmp: Path, progress) -> int:
+def _render_cards(cards: list, jobs: int, tmp: Path, progress) -> int:
     """Render the cards' PDFs in batches (:func:`card_batches`): in this process for
     one job, else in worker processes that each make one batch and end: the
     renderer's memory grows with the cards a process has made (over 1 GB after 150),
@@ -357,7 +424,7 @@ def _render_cards(pool, cards: list, jobs: int, tmp: Path, progress) -> int:
     return layouts
 
 
-def _render(config, routes, old, out, tmp, pool, pdf, progress, report, reusable, jobs=1) -> dict:
+def _render(config, routes, old, out, tmp, pdf, progress, report, reusable, jobs=1) -> dict:
     from cardgen.plan.starts import event_starts
     from cardgen.render.pages import built_stamp, render_day_sheet, render_index, render_packs, site_context
 
@@ -365,21 +432,19 @@ def _render(config, routes, old, out, tmp, pool, pdf, progress, report, reusable
     manifest: dict = {"version": __version__, "routes": {}}
     fresh = []
     for route in routes:
-        if route.job is None:
+        if route.summary is None:
             if reusable(route):
                 shutil.copytree(out / route.slug, tmp / route.slug, copy_function=os.link, symlinks=True)
                 manifest["routes"][route.slug] = old["routes"][route.slug]
                 report.routes_reused += 1
                 report.cards_reused += len(old["routes"][route.slug].get("cards", []))
             continue  # a failed route (with --keep-going) is left out
-        (tmp / route.slug).mkdir()
         fresh.append(route)
-    t_render = time.perf_counter()
     cards: list = []
-    tasks = [(config, site, r.job, str(tmp / r.slug)) for r in fresh]
-    for route, (summary, route_cards) in zip(fresh, _map(pool, _render_route, tasks), strict=True):
+    for route in fresh:
+        summary = route.summary
         card_names = summary.pop("cards")
-        keys = {Path(c.target).name: card_key(c) for c in route_cards}
+        keys = {Path(c.target).name: c.key for c in route.cards}
         manifest["routes"][route.slug] = {
             "key": route.key,
             "summary": summary,
@@ -390,7 +455,7 @@ def _render(config, routes, old, out, tmp, pool, pdf, progress, report, reusable
             continue
         # a card whose own content is unchanged keeps its PDF from the previous site
         was = old.get("routes", {}).get(route.slug, {}).get("card_keys", {})
-        for card in route_cards:
+        for card in route.cards:
             name = Path(card.target).name
             before = out / route.slug / name
             if was.get(name) == keys[name] and before.is_file() and not before.is_symlink():
@@ -398,10 +463,10 @@ def _render(config, routes, old, out, tmp, pool, pdf, progress, report, reusable
                 report.cards_reused += 1
             else:
                 cards.append(card)
-    report.seconds["html"] = time.perf_counter() - t_render
+        route.cards = []
 
     t_pdf = time.perf_counter()
-    report.layouts = _render_cards(pool, cards, jobs, tmp, progress)
+    report.layouts = _render_cards(cards, jobs, tmp, progress)
     report.cards_rendered = len(cards)
     report.seconds["pdf"] = time.perf_counter() - t_pdf
 

@@ -46,8 +46,17 @@ def main(argv: list[str] | None = None) -> int:
         )
         return 1
     except KeyboardInterrupt as exc:
-        message = getattr(
-            exc, "message", "interrupted; nothing was published, the previous output is unchanged"
-        )
-        _print(f"cardgen: {message}", file=sys.stderr)
-        return 130
+        return _interrupted(exc)
+    except RuntimeError as exc:
+        # Ctrl-C inside a class body being made (a library's first import) reaches us
+        # wrapped: "Error calling __set_name__", caused by the KeyboardInterrupt
+        if isinstance(exc.__cause__, KeyboardInterrupt):
+            return _interrupted(exc.__cause__)
+        raise
+
+
+def _interrupted(exc: KeyboardInterrupt) -> int:
+    """The one line for Ctrl-C, and the shell's exit code for SIGINT (130)."""
+    message = getattr(exc, "message", "interrupted; nothing was published, the previous output is unchanged")
+    _print(f"cardgen: {message}", file=sys.stderr)
+    return 130

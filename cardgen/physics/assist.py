@@ -22,7 +22,7 @@ import numpy as np
 
 from cardgen.physics.forces import Resistance
 from cardgen.physics.steady import power_for_speed, speed_for_power
-from cardgen.units import Floats
+from cardgen.units import Floats, scalar_or_array
 
 
 @dataclass(frozen=True)
@@ -55,7 +55,7 @@ class Motor:
         return f"level {level} ({self.levels[level - 1] * 100:.0f} %)"
 
 
-def taper_factor(speed: Floats, cutoff_speed: float, taper: float) -> Any:
+def taper_factor(speed: Floats, cutoff_speed: float, taper: float) -> Floats:
     """Share of assistance left at a speed: 1 below ``cutoff − taper``, falling
     linearly to 0 at the cut-off and above (the "progressively reduced and finally
     cut off" of Regulation (EU) No 168/2013, Art. 2(2)(h))."""
@@ -65,7 +65,7 @@ def taper_factor(speed: Floats, cutoff_speed: float, taper: float) -> Any:
     return np.clip((cutoff_speed - v) / taper, 0.0, 1.0)[()]
 
 
-def motor_power(motor: Motor, ratio: Floats, speed: Floats, rider_power: Floats) -> Any:
+def motor_power(motor: Motor, ratio: Floats, speed: Floats, rider_power: Floats) -> Floats:
     """Motor power at the wheel [W].
 
     Parameters
@@ -82,7 +82,7 @@ def motor_power(motor: Motor, ratio: Floats, speed: Floats, rider_power: Floats)
     """
     p = np.asarray(rider_power, dtype=float)
     assist = np.minimum(np.asarray(ratio, dtype=float) * np.maximum(p, 0.0), motor.peak_power)
-    return (assist * taper_factor(speed, motor.cutoff_speed, motor.taper))[()]
+    return scalar_or_array(assist * taper_factor(speed, motor.cutoff_speed, motor.taper))
 
 
 def motor_power_and_slope(
@@ -115,7 +115,7 @@ def assisted_speed(
     grade: Floats,
     headwind: Floats,
     air_density: Floats,
-) -> Any:
+) -> Floats:
     """Steady speed [m/s] with the rider's power and assist at ``ratio``.
 
     Notes
@@ -166,7 +166,7 @@ def rider_power_for_speed(
     grade: Floats,
     headwind: Floats,
     air_density: Floats,
-) -> Any:
+) -> Floats:
     """Rider's pedal power [W] to hold ``speed`` with assist at ``ratio`` (0 = none).
 
     Notes
@@ -239,47 +239,70 @@ def climb_options(
     )
 
 
-def plan_levels(options: dict[str, np.ndarray], *, min_speed: float, budget: float) -> list[int]:
-    """The level for each climb: the lowest at which the rider holds the target speed
-    within CP (else the highest), so long as the climbs' battery fits ``budget`` [J];
-    when it does not, the levels that keep a two-wheeler above ``min_speed`` come first,
-    then the upgrades that save the most time per watt-hour, while the battery lasts.
+def choose_levels(
+    options: dict[str, np.ndarray],
+    wanted: Sequence[int],
+    *,
+    min_speed: float,
+    budget: float,
+    overrun: bool = True,
+) -> list[int]:
+    """The assist level for each stretch (a climb, or the route between climbs): the
+    level it asks for (``wanted``) when the battery of them all fits ``budget`` [J];
+    when it does not, first the lowest levels that keep the rider at ``min_speed``
+    [m/s] or faster (no walking), then, one level at a time up to the level asked
+    for, the upgrades that save the most time per joule, while the budget lasts. With
+    ``overrun`` the last upgrade may pass the budget: it is ridden until the battery
+    is empty, after which the motor gives nothing (the fractional last item of the
+    greedy); without, every upgrade fits.
+
+    Parameters
+    ----------
+    options : arrays of shape (levels 0…N, stretches): ``time`` [s], ``battery`` [J]
+        drawn and ``slowest`` [m/s], each at the rider's planned power
+    wanted : the level each stretch asks for
+    min_speed : float [m/s] the slowest a rider rides without walking
+    budget : float [J] battery to spend
+    overrun : bool, whether the last upgrade may pass the budget
+
+    Returns
+    -------
+    list of int, one level per stretch.
 
     Notes
     -----
-    A greedy knapsack over (climb, level) steps by time saved per joule (Dantzig 1957);
-    each climb's options are first made convex by dropping levels that save no time.
+    A greedy knapsack over (stretch, level) steps by time saved per joule (Dantzig
+    1957), optimal for the fractional knapsack; a step that saves no time is never
+    taken.
+
+    References
+    ----------
+    Dantzig, G. B. (1957). Discrete-variable extremum problems. *Operations Research*
+    5(2):266–288 (from memory).
     """
-    levels, climbs = options["time"].shape
+    levels, stretches = options["time"].shape
     top = levels - 1
-    wanted = [
-        int(np.argmax(options["within_cp"][:, k])) if options["within_cp"][:, k].any() else top
-        for k in range(climbs)
-    ]
-    if sum(options["battery"][wanted[k], k] for k in range(climbs)) <= budget:
+    wanted = [min(int(w), top) for w in wanted]
+    if sum(options["battery"][wanted[k], k] for k in range(stretches)) <= budget:
         return wanted
-    must = [
-        int(np.argmax(options["slowest"][:, k] >= min_speed))
-        if (options["slowest"][:, k] >= min_speed).any()
-        else top
-        for k in range(climbs)
-    ]
-    chosen = list(must)
-    spent = sum(options["battery"][chosen[k], k] for k in range(climbs))
-    while True:
+    fast = options["slowest"] >= min_speed
+    chosen = [int(np.argmax(fast[:, k])) if fast[:, k].any() else top for k in range(stretches)]
+    spent = sum(options["battery"][chosen[k], k] for k in range(stretches))
+    while spent <= budget:
         best, best_rate = None, 0.0
-        for k in range(climbs):
+        for k in range(stretches):
             level = chosen[k]
             if level >= wanted[k]:
                 continue
             extra = options["battery"][level + 1, k] - options["battery"][level, k]
             saved = options["time"][level, k] - options["time"][level + 1, k]
-            if spent + extra > budget or saved <= 0:
+            if saved <= 0 or (not overrun and spent + extra > budget):
                 continue
             rate = saved / max(extra, 1e-9)
             if rate > best_rate:
                 best, best_rate = k, rate
         if best is None:
-            return chosen
+            break
         spent += options["battery"][chosen[best] + 1, best] - options["battery"][chosen[best], best]
         chosen[best] += 1
+    return chosen

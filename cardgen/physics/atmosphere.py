@@ -12,7 +12,6 @@ doi:10.1175/1520-0450(1981)020<1527:NEFCVP>2.0.CO;2
 from __future__ import annotations
 
 from dataclasses import dataclass
-from typing import Any
 
 import numpy as np
 
@@ -36,7 +35,7 @@ ISA_EXPONENT = 5.25588
 ALTITUDE_RANGE = (-1000.0, 11000.0)
 
 
-def isa_temperature(altitude: Floats) -> Any:
+def isa_temperature(altitude: Floats) -> Floats:
     """ISA temperature at a height in the troposphere.
 
     Parameters
@@ -62,7 +61,7 @@ def isa_temperature(altitude: Floats) -> Any:
     return np.where((h >= ALTITUDE_RANGE[0]) & (h <= ALTITUDE_RANGE[1]), t, np.nan)[()]
 
 
-def isa_pressure(altitude: Floats) -> Any:
+def isa_pressure(altitude: Floats) -> Floats:
     """ISA static pressure at a height in the troposphere.
 
     Parameters
@@ -84,7 +83,7 @@ def isa_pressure(altitude: Floats) -> Any:
     return (ISA_P0 * (isa_temperature(altitude) / ISA_T0) ** ISA_EXPONENT)[()]
 
 
-def saturation_vapour_pressure_buck(temperature: Floats) -> Any:
+def saturation_vapour_pressure_buck(temperature: Floats) -> Floats:
     """Saturation vapour pressure over water.
 
     Parameters
@@ -110,7 +109,7 @@ def saturation_vapour_pressure_buck(temperature: Floats) -> Any:
     return np.where((t >= -50.0) & (t <= 50.0), e, np.nan)[()]
 
 
-def air_density(temperature: Floats, pressure: Floats, relative_humidity: Floats = 0.0) -> Any:
+def air_density(temperature: Floats, pressure: Floats, relative_humidity: Floats = 0.0) -> Floats:
     """Density of (optionally humid) air from the ideal-gas law.
 
     Parameters
@@ -146,7 +145,7 @@ def air_density(temperature: Floats, pressure: Floats, relative_humidity: Floats
 
 def air_density_isa(
     altitude: Floats, temperature: Floats | None = None, relative_humidity: Floats = 0.0
-) -> Any:
+) -> Floats:
     """Air density at a height, with the ISA pressure and an optional temperature.
 
     Parameters

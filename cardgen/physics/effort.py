@@ -16,8 +16,6 @@ power. *Eur. J. Appl. Physiol.* 115(4):703–713 (the differential W′ balance)
 
 from __future__ import annotations
 
-from typing import Any
-
 import numpy as np
 
 from cardgen.physics.atmosphere import SEA_LEVEL_AIR_DENSITY
@@ -36,7 +34,7 @@ def effort_power(
     headwind: Floats,
     air_density: Floats,
     resistance: Resistance,
-) -> Any:
+) -> np.ndarray:
     """Rider power [W] on every segment: the effort model of the module notes.
 
     Parameters
@@ -121,7 +119,7 @@ def sustainable_climb_power(
     return low
 
 
-def w_prime_balance(power: Floats, time: Floats, cp: float, w_prime: float) -> Any:
+def w_prime_balance(power: Floats, time: Floats, cp: float, w_prime: float) -> np.ndarray:
     """Balance of work capacity above critical power along a ride, in the differential
     form: W′ is spent only above CP and recovered only below it.
 
@@ -172,7 +170,7 @@ LOG_DECLINE = 0.08
 LOG_FROM = 1800.0
 
 
-def sustainable_power_omni(duration: Floats, cp: float, w_prime: float) -> Any:
+def sustainable_power_omni(duration: Floats, cp: float, w_prime: float) -> Floats:
     """Highest mean power [W] a rider can sustain for ``duration`` [s]: the
     critical-power model up to :data:`LOG_FROM`, with a logarithmic decline beyond.
 

@@ -21,21 +21,21 @@ from typing import Any
 import numpy as np
 
 from cardgen.physics.atmosphere import SEA_LEVEL_AIR_DENSITY
-from cardgen.units import G0, Floats
+from cardgen.units import G0, Floats, scalar_or_array
 
 #: Wheel-bearing friction, P = v·(91 + 8.7·v)·1e-3 [W] (Dahn et al. 1991 via Martin 1998).
 BEARING_A = 0.091  # [N]
 BEARING_B = 0.0087  # [N·s/m]
 
 
-def _slope(grade: Floats) -> Any:
+def _slope(grade: Floats) -> tuple[np.ndarray, np.ndarray]:
     """cos and sin of the road angle for a grade (rise/run), exact trigonometry."""
     g = np.asarray(grade, dtype=float)
     inv = 1.0 / np.sqrt(1.0 + g * g)
     return inv, g * inv
 
 
-def rolling_power(speed: Floats, mass: Floats, crr: Floats, grade: Floats = 0.0) -> Any:
+def rolling_power(speed: Floats, mass: Floats, crr: Floats, grade: Floats = 0.0) -> Floats:
     """Power lost to tyre rolling resistance.
 
     Parameters
@@ -58,10 +58,10 @@ def rolling_power(speed: Floats, mass: Floats, crr: Floats, grade: Floats = 0.0)
     Martin et al. (1998), J. Appl. Biomech. 14:276–291.
     """
     cos_a, _ = _slope(grade)
-    return (np.asarray(speed, dtype=float) * crr * mass * G0 * cos_a)[()]
+    return scalar_or_array(np.asarray(speed, dtype=float) * crr * mass * G0 * cos_a)
 
 
-def gravity_power(speed: Floats, mass: Floats, grade: Floats) -> Any:
+def gravity_power(speed: Floats, mass: Floats, grade: Floats) -> Floats:
     """Power against gravity; negative on a descent (gravity pushes).
 
     Parameters
@@ -83,10 +83,10 @@ def gravity_power(speed: Floats, mass: Floats, grade: Floats) -> Any:
     Martin et al. (1998), J. Appl. Biomech. 14:276–291.
     """
     _, sin_a = _slope(grade)
-    return (np.asarray(speed, dtype=float) * mass * G0 * sin_a)[()]
+    return scalar_or_array(np.asarray(speed, dtype=float) * mass * G0 * sin_a)
 
 
-def aero_power(speed: Floats, cda: Floats, air_density: Floats, headwind: Floats = 0.0) -> Any:
+def aero_power(speed: Floats, cda: Floats, air_density: Floats, headwind: Floats = 0.0) -> Floats:
     """Power against air drag, with wind along the direction of travel.
 
     Parameters
@@ -113,10 +113,10 @@ def aero_power(speed: Floats, cda: Floats, air_density: Floats, headwind: Floats
     """
     v = np.asarray(speed, dtype=float)
     air_speed = v + headwind
-    return (0.5 * air_density * cda * air_speed * np.abs(air_speed) * v)[()]
+    return scalar_or_array(0.5 * air_density * cda * air_speed * np.abs(air_speed) * v)
 
 
-def bearing_power(speed: Floats) -> Any:
+def bearing_power(speed: Floats) -> Floats:
     """Power lost in the wheel bearings.
 
     Parameters
@@ -139,7 +139,7 @@ def bearing_power(speed: Floats) -> Any:
     return (v * (BEARING_A + BEARING_B * v))[()]
 
 
-def pedal_power(wheel_power: Floats, efficiency: Floats) -> Any:
+def pedal_power(wheel_power: Floats, efficiency: Floats) -> Floats:
     """Power the rider must put in for a power needed at the wheel.
 
     Parameters
@@ -164,7 +164,7 @@ def pedal_power(wheel_power: Floats, efficiency: Floats) -> Any:
     return np.where(w > 0.0, w / efficiency, w)[()]
 
 
-def wheel_power(power: Floats, efficiency: Floats) -> Any:
+def wheel_power(power: Floats, efficiency: Floats) -> Floats:
     """Power that reaches the wheel for a rider's power (inverse of :func:`pedal_power`).
 
     Parameters
@@ -191,12 +191,12 @@ class Breakdown:
     ``total`` is at the pedals: ``rolling + bearings + aero + gravity + drivetrain``.
     """
 
-    rolling: np.ndarray
-    bearings: np.ndarray
-    aero: np.ndarray
-    gravity: np.ndarray
-    drivetrain: np.ndarray
-    total: np.ndarray
+    rolling: Floats
+    bearings: Floats
+    aero: Floats
+    gravity: Floats
+    drivetrain: Floats
+    total: Floats
 
 
 def steady_breakdown(
@@ -210,7 +210,7 @@ def steady_breakdown(
     headwind: Floats = 0.0,
     air_density: Floats = SEA_LEVEL_AIR_DENSITY,
     bearings: Floats = True,
-) -> Any:
+) -> Breakdown:
     """Every term of the steady (no acceleration) power balance at a speed.
 
     Parameters
@@ -240,15 +240,15 @@ def steady_breakdown(
     Martin et al. (1998), J. Appl. Biomech. 14:276–291.
     """
     roll = rolling_power(speed, mass, crr, grade)
-    bear = bearing_power(speed) if bearings else np.zeros_like(np.asarray(roll))[()]
+    bear = bearing_power(speed) if bearings else scalar_or_array(np.zeros_like(np.asarray(roll)))
     aero = aero_power(speed, cda, air_density, headwind)
     grav = gravity_power(speed, mass, grade)
     at_wheel = roll + bear + aero + grav
     total = pedal_power(at_wheel, efficiency)
-    return Breakdown(roll, bear, aero, grav, (total - at_wheel)[()], total)
+    return Breakdown(roll, bear, aero, grav, scalar_or_array(total - at_wheel), total)
 
 
-def headwind(heading: Floats, wind_speed: Floats, wind_from: Floats) -> Any:
+def headwind(heading: Floats, wind_speed: Floats, wind_from: Floats) -> Floats:
     """Wind component against the direction of travel.
 
     Parameters
@@ -269,7 +269,9 @@ def headwind(heading: Floats, wind_speed: Floats, wind_from: Floats) -> Any:
     ----------
     Martin et al. (1998), J. Appl. Biomech. 14:276–291.
     """
-    return (np.asarray(wind_speed, dtype=float) * np.cos(np.asarray(wind_from) - np.asarray(heading)))[()]
+    return scalar_or_array(
+        np.asarray(wind_speed, dtype=float) * np.cos(np.asarray(wind_from) - np.asarray(heading))
+    )
 
 
 @dataclass(frozen=True)
@@ -334,7 +336,7 @@ class ForceLaw:
         const = m * G0 * (c_rr * cos_a + sin_a) + (BEARING_A if bearings else 0.0)
         return cls(0.5 * rho * c_da, const, w, BEARING_B if bearings else 0.0)
 
-    def __call__(self, speed: Floats, idx: Any = None) -> Any:
+    def __call__(self, speed: Floats, idx: Any = None) -> tuple[np.ndarray, np.ndarray]:
         """(F [N], dF/dv [N·s/m]) at ``speed`` for the elements ``idx`` (all when None)."""
         if idx is None:
             idx = slice(None)

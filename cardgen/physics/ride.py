@@ -77,7 +77,7 @@ class RideTimes:
     converged: bool = True
 
 
-def clamp_affine_scan(a: Floats, b: Floats, lo: Floats, hi: Floats, x0: float) -> Any:
+def clamp_affine_scan(a: Floats, b: Floats, lo: Floats, hi: Floats, x0: float) -> np.ndarray:
     """Iterate x[i+1] = clip(a[i]·x[i] + b[i], lo[i], hi[i]) for all i at once.
 
     Parameters
@@ -109,7 +109,7 @@ def clamp_affine_scan(a: Floats, b: Floats, lo: Floats, hi: Floats, x0: float) -
 
     def shaped(
         values: Any, fill: float
-    ) -> Any:  # (size, blocks): step j of every block is one contiguous row
+    ) -> np.ndarray:  # (size, blocks): step j of every block is one contiguous row
         values = np.clip(np.asarray(values, dtype=float), -UNBOUNDED, UNBOUNDED)
         return np.ascontiguousarray(np.concatenate((values, np.full(pad, fill))).reshape(blocks, size).T)
 
@@ -131,7 +131,7 @@ def clamp_affine_scan(a: Floats, b: Floats, lo: Floats, hi: Floats, x0: float) -
     return np.concatenate(([x0], values))
 
 
-def speed_limit_profile(distance: Floats, cap: Floats, deceleration: Floats) -> Any:
+def speed_limit_profile(distance: Floats, cap: Floats, deceleration: Floats) -> np.ndarray:
     """Highest speed at each node from which the rider can still brake down to every
     cap ahead.
 
@@ -377,7 +377,7 @@ def _scan(
             return no_motor, no_motor
         return motor_power_and_slope(motor, ratio, v, rider, rows["peak"])
 
-    def steady(p_wheel: Floats) -> Any:
+    def steady(p_wheel: Floats) -> np.ndarray:
         v = speed_for_power(
             p_wheel,
             mass=res.mass,
@@ -390,7 +390,7 @@ def _scan(
             bearings=res.bearings,
             rtol=1e-4,
         )
-        return np.minimum(np.nan_to_num(v, nan=1.0, posinf=1.0), limit[1:])
+        return np.asarray(np.minimum(np.nan_to_num(v, nan=1.0, posinf=1.0), limit[1:]))
 
     # First reference: the steady speed of each segment (with the motor at that speed).
     if first_guess is not None:
@@ -486,10 +486,10 @@ def _ride(result: dict[str, Any], rows: dict[str, np.ndarray], res: Resistance) 
     motor_w = result["motor"]
     m_e = res.mass + res.wheel_inertia_mass
     wheel_rider = np.where(rider > 0, rider * res.efficiency, rider)
-    rolling = rolling_power(mean_speed, res.mass, res.crr, grade)
-    bear = bearing_power(mean_speed) if res.bearings else np.zeros(n)
-    aero = aero_power(mean_speed, res.cda, rho, wind)
-    gravity = gravity_power(mean_speed, res.mass, grade)
+    rolling = np.asarray(rolling_power(mean_speed, res.mass, res.crr, grade))
+    bear = np.asarray(bearing_power(mean_speed) if res.bearings else np.zeros(n))
+    aero = np.asarray(aero_power(mean_speed, res.cda, rho, wind))
+    gravity = np.asarray(gravity_power(mean_speed, res.mass, grade))
     with np.errstate(invalid="ignore", divide="ignore"):
         kinetic = np.where(np.isfinite(time), 0.5 * m_e * (u[1:] - u[:-1]) / time, 0.0)
     drivetrain = rider - wheel_rider

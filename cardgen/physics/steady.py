@@ -42,7 +42,7 @@ def power_for_speed(
     headwind: Floats = 0.0,
     air_density: Floats = SEA_LEVEL_AIR_DENSITY,
     bearings: bool = True,
-) -> Any:
+) -> Floats:
     """Power at the pedals to hold a steady ground speed.
 
     Parameters
@@ -88,7 +88,7 @@ def power_for_speed(
 
 def _valid(
     mass: Floats, crr: Floats, cda: Floats, efficiency: Floats, air_density: Floats, grade: Floats
-) -> Any:
+) -> np.ndarray:
     with np.errstate(invalid="ignore"):
         return (
             (np.asarray(mass) > 0)
@@ -131,10 +131,12 @@ def _solve_increasing(
     return x
 
 
-def _excess(force: ForceLaw, pw: np.ndarray, elements: np.ndarray) -> Any:
+def _excess(
+    force: ForceLaw, pw: np.ndarray, elements: np.ndarray
+) -> Callable[[Floats, Any], tuple[np.ndarray, np.ndarray]]:
     """v·F(v) − P_wheel and its derivative, for the given elements of the problem."""
 
-    def excess(v: Floats, sel: Any) -> Any:
+    def excess(v: Floats, sel: Any) -> tuple[np.ndarray, np.ndarray]:
         idx = elements[sel]
         f, df = force(v, idx)
         return v * f - pw[idx], f + v * df
@@ -165,7 +167,7 @@ def _pulled_speed(
     speed F(v₀) = 0, and where braking, the stable root of v·F(v) = P_wheel between
     the minimum of v·F(v) and v₀ (0 where braking is stronger than gravity can feed)."""
 
-    def net_force(v: Floats, sel: Any) -> Any:
+    def net_force(v: Floats, sel: Any) -> tuple[np.ndarray, np.ndarray]:
         return force(v, pulled[sel])
 
     v0 = _solve_increasing(net_force, np.zeros(pulled.size), hi[pulled], hi[pulled], rtol)
@@ -176,7 +178,7 @@ def _pulled_speed(
         top = v0[brake_local]
         k = force.k
 
-        def slope(v: Floats, sel: Any) -> Any:  # d(v·F)/dv and its derivative
+        def slope(v: Floats, sel: Any) -> tuple[np.ndarray, np.ndarray]:  # d(v·F)/dv and its derivative
             idx = brake[sel]
             f, df = force(v, idx)
             return f + v * df, 2.0 * df + v * 2.0 * k[idx] * np.sign(v + force.wind[idx])
@@ -201,7 +203,7 @@ def speed_for_power(
     air_density: Floats = SEA_LEVEL_AIR_DENSITY,
     bearings: bool = True,
     rtol: Floats = _TOL,
-) -> Any:
+) -> Floats:
     """Steady ground speed reached at a constant power.
 
     Parameters
@@ -244,7 +246,7 @@ def speed_for_power(
     shape = args[0].shape
     p, m, c_rr, c_da, eff, gr, w, rho = (np.asarray(a, dtype=float).ravel() for a in args)
     ok = _valid(m, c_rr, c_da, eff, rho, gr) & np.isfinite(p) & np.isfinite(w)
-    pw = wheel_power(np.where(ok, p, 0.0), np.where(ok, eff, 1.0))
+    pw = np.asarray(wheel_power(np.where(ok, p, 0.0), np.where(ok, eff, 1.0)))
     # invalid elements get a harmless law; they are set to NaN at the end
     force = ForceLaw.build(
         mass=np.where(ok, m, 1.0),

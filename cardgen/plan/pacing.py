@@ -35,6 +35,7 @@ import dataclasses
 import functools
 import hashlib
 from collections import OrderedDict
+from collections.abc import Callable
 from dataclasses import dataclass
 from typing import Any
 
@@ -84,6 +85,12 @@ REFIT = 1.3
 WINDOW_FULL = 0.98
 #: With W′ binding, κ is sought between its value without W′ and this many times it.
 WIDEN = 4.0
+#: The programme runs only where W′ binds; where its plan makes W′ bind in more
+#: places, it runs again with those added, at most this many times in all.
+WINDOW_ROUNDS = 3
+#: … seeking κ within this factor of the last, with this many multipliers.
+WIDER = 1.15
+WIDER_KAPPAS = 6
 
 
 @dataclass(frozen=True)
@@ -118,9 +125,9 @@ class Course:
         limit = speed_limit_profile(self.distance, self.speed_cap, self.deceleration)
         return np.asarray(np.minimum(limit[:-1], limit[1:]), dtype=float)
 
-    def key(self, top: float) -> str:
-        """A content hash of the course and a ceiling: the key of shared tables."""
-        digest = hashlib.sha1(repr((self.step, self.resistance, self.motor, float(top))).encode())
+    def key(self) -> str:
+        """A content hash of the course: the key of the tables its riders share."""
+        digest = hashlib.sha1(repr((self.step, self.resistance, self.motor)).encode())
         for array in (self.grade, self.headwind, self.air_density, self.speed_limit, self.assist_ratio):
             if array is not None:
                 digest.update(np.ascontiguousarray(array, dtype=float).tobytes())
@@ -205,9 +212,10 @@ def plan_pacing(
     cp: float,
     w_prime: float,
     top: float,
-    table: tuple[np.ndarray, np.ndarray] | None = None,
+    table: Table | None = None,
     kappa_hint: float | None = None,
     floor: float = 0.0,
+    tried: _Tried | None = None,
 ) -> Pacing:
     """Power on every segment that minimises the moving time at ``mean_power`` [W],
     between 0 and ``top`` [W], with the W′ balance (``cp`` [W], ``w_prime`` [J]) ≥ 0.
@@ -218,10 +226,11 @@ def plan_pacing(
     mean_power : float [W] the day's time-weighted mean power
     cp, w_prime : float [W], [J] the rider's critical power and W′
     top : float [W] the ceiling (see :func:`ceiling`)
-    table : (powers [W], block times [s] (levels, blocks)) made by :func:`block_times`
-        for this course, when already at hand
+    table : Table of this course and ceiling (:func:`block_times`), when at hand
     kappa_hint : float [W] or None: κ of an earlier plan at a nearby mean power
     floor : float [-] share of W′ kept in hand beyond :data:`W_FLOOR`
+    tried : the plans of an earlier call for the same rider, course and ceiling (its
+        programme's plans are taken when one is close enough; this call's are kept in it)
 
     Returns
     -------
@@ -234,12 +243,16 @@ def plan_pacing(
     κ, so κ is bisected on a log scale (:data:`KAPPAS` at once, :data:`ROUNDS` rounds).
     Without W′ the blocks are independent and each takes its cheapest level. Where
     that would spend more W′ than there is, the blocks of every stretch where W′ is
-    not nearly full (:func:`_windows`) are solved together by dynamic programming over (block, W′ balance) on :data:`W_LEVELS` levels, the
-    balance moving by the exact solution of the differential form for a constant
-    power over the block's time (Skiba et al. 2015).
+    below nearly full and falls to the floor (:func:`_windows`) are solved by dynamic
+    programming over (block, W′ balance) on :data:`W_LEVELS` levels, the balance
+    moving by the exact solution of the differential form for a constant power over
+    the block's time (Skiba et al. 2015); stretches where W′ never binds keep their
+    cheapest levels, and a stretch the programme's plan makes bind is added and the
+    programme run again (:data:`WINDOW_ROUNDS`). Each block's times come from the
+    course's shared grid of powers (:func:`block_times`).
     """
-    powers, times = table if table is not None else block_times(course, top)
-    starts = course.blocks()
+    table = table if table is not None else block_times(course, top)
+    powers, times, starts = table.powers, table.times, table.starts
     if mean_power >= powers[-1]:
         index = np.full(times.shape[1], powers.size - 1)
         return _result(powers, times, index, starts, np.inf, False)
@@ -252,23 +265,47 @@ def plan_pacing(
     if np.min(balance, initial=w_prime) >= keep:
         return _result(powers, times, index, starts, kappa, False)
     # W′ lowers the power on climbs, so the mean needs a higher price of time
-    programme = _programme(powers, times, cp, w_prime, _windows(balance, w_prime), keep)
+    earlier = tried.closest(mean_power, keep) if tried is not None else None
+    if earlier is not None:
+        return _result(powers, times, earlier[1], starts, earlier[0], True)
     low, high = (kappa, kappa * WIDEN) if kappa_hint is None else (kappa_hint / REFIT, kappa_hint * REFIT)
-    kappa, index = _bisect(programme.solve, powers, times, mean_power, low, high, 1, PROGRAMME_KAPPAS)
+    window = _windows(balance, w_prime, keep)
+    count = PROGRAMME_KAPPAS
+    for _ in range(WINDOW_ROUNDS):
+        programme = _programme(powers, times, cp, w_prime, window, keep)
+        seen = _Tried()
+        kappa, index = _bisect(programme.solve, powers, times, mean_power, low, high, 1, count, seen)
+        balance = w_prime_balance(powers[index], times[index, np.arange(index.size)], cp, w_prime)
+        wider = window | _windows(balance, w_prime, keep)
+        if np.array_equal(wider, window):
+            break
+        # more of the route where W′ binds moves κ only a little
+        window, low, high, count = wider, kappa / WIDER, kappa * WIDER, WIDER_KAPPAS
+    if tried is not None:
+        seen.keep = keep
+        tried.__dict__.update(seen.__dict__)
     return _result(powers, times, index, starts, kappa, True)
 
 
-def _windows(balance: np.ndarray, w_prime: float) -> np.ndarray:
-    """Blocks where W′ matters: every run of blocks whose balance, without the W′
-    limit, is below :data:`WINDOW_FULL` of W′ (each run starts with W′ nearly full).
-    Returns a bool array over blocks."""
-    return np.asarray(balance < WINDOW_FULL * w_prime)
+def _windows(balance: np.ndarray, w_prime: float, keep: float) -> np.ndarray:
+    """Blocks where W′ binds: every run of blocks whose balance is below
+    :data:`WINDOW_FULL` of W′ (so each starts with W′ nearly full) and falls below
+    ``keep`` [J] somewhere in it. Returns a bool array over blocks."""
+    inside = balance < WINDOW_FULL * w_prime
+    if not inside.any():
+        return inside
+    starts = np.flatnonzero(inside & ~np.concatenate(([False], inside[:-1])))
+    run = np.cumsum(np.isin(np.arange(inside.size), starts)) - 1  # run number of every block
+    lowest = np.minimum.reduceat(np.where(inside, balance, np.inf), starts)
+    return np.asarray(inside & (run >= 0) & (lowest[np.maximum(run, 0)] < keep))
 
 
-_last: dict[str, tuple[tuple, _Programme]] = {}
+_last: dict[str, tuple[tuple[object, ...], _Programme]] = {}
 
 
-def _programme(powers, times, cp, w_prime, window, keep) -> _Programme:
+def _programme(
+    powers: np.ndarray, times: np.ndarray, cp: float, w_prime: float, window: np.ndarray, keep: float
+) -> _Programme:
     """The programme for these windows, kept for the next call with the same ones
     (the ride's mean is matched by asking again with a corrected mean)."""
     key = (id(times), times.shape, float(cp), float(w_prime), float(keep), window.tobytes())
@@ -279,15 +316,77 @@ def _programme(powers, times, cp, w_prime, window, keep) -> _Programme:
     return programme
 
 
-def block_times(course: Course, top: float) -> tuple[np.ndarray, np.ndarray]:
-    """The power levels [W] (0 and :data:`POWER_LEVELS` up to ``top``) and the time
-    [s] of every block at each: arrays (levels,), (levels, blocks)."""
+@dataclass(frozen=True)
+class Table:
+    """The power levels [W] of one ceiling (0 and :data:`POWER_LEVELS` up to it),
+    the time [s] of every block at each, array (levels, blocks), and the blocks'
+    start indices (:meth:`Course.blocks`)."""
+
+    powers: np.ndarray
+    times: np.ndarray
+    starts: np.ndarray
+
+
+#: Block times are worked out on a grid of powers shared by every rider of a vehicle
+#: on a route, geometric from GRID_LOW [W] in steps of GRID_RATIO; a rider's levels
+#: are interpolated between grid points in log–log, exact where the time goes as a
+#: power of P (t ∝ 1/P on a steep climb, t ∝ P^(-1/3) where drag dominates) and
+#: within a few parts in 10,000 between.
+GRID_LOW = 1.0
+GRID_RATIO = 1.08
+
+
+class _Grid:
+    """The blocks of a course and their times on the shared power grid, grown as
+    riders ask for new powers (the values of a grid point never depend on who asked)."""
+
+    def __init__(self, course: Course):
+        self.starts = course.blocks()
+        self.columns: dict[int, np.ndarray] = {}
+        self.zero = self._log_times(course, np.zeros(1))[0]
+
+    def _log_times(self, course: Course, powers: np.ndarray) -> np.ndarray:
+        return np.log(np.add.reduceat(course.times(powers), self.starts[:-1], axis=1))
+
+    def times(self, course: Course, powers: np.ndarray) -> np.ndarray:
+        """Block times [s] at ``powers`` [W] (> 0): array (levels, blocks)."""
+        x = np.log(powers / GRID_LOW) / np.log(GRID_RATIO)
+        low = np.floor(x).astype(np.int64)
+        missing = sorted({int(k) for k in np.concatenate((low, low + 1))} - self.columns.keys())
+        if missing:
+            grid = GRID_LOW * GRID_RATIO ** np.asarray(missing, dtype=float)
+            for k, column in zip(missing, self._log_times(course, grid), strict=True):
+                self.columns[k] = column
+        below = np.stack([self.columns[int(k)] for k in low])
+        above = np.stack([self.columns[int(k) + 1] for k in low])
+        share = (x - low)[:, None]
+        return np.asarray(np.exp(below + share * (above - below)))
+
+
+#: Grids of block times kept for riders of one vehicle on one route (keyed by content).
+TABLE_CACHE = 32
+_grids: OrderedDict[str, _Grid] = OrderedDict()
+
+
+def block_times(course: Course, top: float) -> Table:
+    """The :class:`Table` of ``course`` for the ceiling ``top`` [W], from the grid the
+    course's riders share."""
+    key = course.key()
+    grid = _grids.get(key)
+    if grid is None:
+        grid = _grids[key] = _Grid(course)
+        while len(_grids) > TABLE_CACHE:
+            _grids.popitem(last=False)
+    else:
+        _grids.move_to_end(key)
     powers = np.concatenate(([0.0], np.linspace(LOWEST_LEVEL * top, top, POWER_LEVELS)))
-    per_segment = course.times(powers)
-    return powers, np.add.reduceat(per_segment, course.blocks()[:-1], axis=1)
+    times = np.vstack((np.exp(grid.zero)[None, :], grid.times(course, powers[1:])))
+    return Table(powers, times, grid.starts)
 
 
-def _result(powers, times, index, starts, kappa, bound) -> Pacing:
+def _result(
+    powers: np.ndarray, times: np.ndarray, index: np.ndarray, starts: np.ndarray, kappa: float, bound: bool
+) -> Pacing:
     chosen = times[index, np.arange(index.size)]
     total = float(np.sum(chosen))
     power = np.repeat(powers[index], np.diff(starts))
@@ -297,24 +396,37 @@ def _result(powers, times, index, starts, kappa, bound) -> Pacing:
 def _independent(powers: np.ndarray, times: np.ndarray, kappas: np.ndarray) -> np.ndarray:
     """Each block's cheapest level for each multiplier: array (kappas, blocks)."""
     cost = times[None, :, :] * (powers[None, :, None] + kappas[:, None, None])
-    return np.argmin(cost, axis=1)
+    return np.asarray(np.argmin(cost, axis=1))
 
 
-def _mean(powers, times, index) -> np.ndarray:
+def _mean(powers: np.ndarray, times: np.ndarray, index: np.ndarray) -> np.ndarray:
     """Time-weighted mean power of each row of chosen levels (kappas, blocks)."""
     chosen = times[index, np.arange(index.shape[1])[None, :]]
-    return np.sum(powers[index] * chosen, axis=1) / np.sum(chosen, axis=1)
+    return np.asarray(np.sum(powers[index] * chosen, axis=1) / np.sum(chosen, axis=1))
 
 
-def _bisect(solve, powers, times, target, low, high, rounds=ROUNDS, count=KAPPAS) -> tuple[float, np.ndarray]:
+def _bisect(
+    solve: Callable[[np.ndarray], np.ndarray],
+    powers: np.ndarray,
+    times: np.ndarray,
+    target: float,
+    low: float,
+    high: float,
+    rounds: int = ROUNDS,
+    count: int = KAPPAS,
+    tried: _Tried | None = None,
+) -> tuple[float, np.ndarray]:
     """κ on a log scale between ``low`` and ``high`` whose plan's mean power is
     closest to ``target``; ``solve`` maps an array of κ to their plans. Each round
-    tries ``count`` values and narrows to the two around the target."""
+    tries ``count`` values and narrows to the two around the target. Every plan
+    tried is added to ``tried`` when given."""
     closest: tuple[float, float, np.ndarray] | None = None
     for _ in range(rounds):
         kappas = np.geomspace(low, high, count)
         plans = solve(kappas)
         means = _mean(powers, times, plans)
+        if tried is not None:
+            tried.add(kappas, plans, means)
         k = int(np.argmin(np.abs(means - target)))
         if closest is None or abs(means[k] - target) < closest[0]:
             closest = (abs(float(means[k]) - target), float(kappas[k]), plans[k])
@@ -326,6 +438,33 @@ def _bisect(solve, powers, times, target, low, high, rounds=ROUNDS, count=KAPPAS
     return closest[1], closest[2]
 
 
+class _Tried:
+    """The plans a rider's programme has worked out, by κ [W] and mean power [W]: asked
+    again for a corrected mean (the ride's inertia moves it a little), the closest of
+    them is taken when it is within :data:`PICK` of the new mean."""
+
+    def __init__(self) -> None:
+        self.keep = np.nan
+        self.kappas = np.empty(0)
+        self.means = np.empty(0)
+        self.plans: list[np.ndarray] = []
+
+    def add(self, kappas: np.ndarray, plans: np.ndarray, means: np.ndarray) -> None:
+        self.kappas = np.concatenate((self.kappas, kappas))
+        self.means = np.concatenate((self.means, means))
+        self.plans.extend(plans)
+
+    def closest(self, target: float, keep: float) -> tuple[float, np.ndarray] | None:
+        """κ and levels of the plan nearest ``target`` [W], kept ``keep`` [J] of W′ in
+        hand like the one asked, and within :data:`PICK`; else None."""
+        if keep != self.keep or not self.plans:
+            return None
+        k = int(np.argmin(np.abs(self.means - target)))
+        if abs(self.means[k] - target) > PICK * target:
+            return None
+        return float(self.kappas[k]), self.plans[k]
+
+
 class _Programme:
     """The dynamic programme over (block, W′ balance) for many multipliers at once,
     on the blocks of ``window`` (bool over blocks); the others take their cheapest
@@ -334,7 +473,15 @@ class _Programme:
     The transitions depend only on the course, the levels and the rider, so they are
     worked out once and every multiplier reuses them."""
 
-    def __init__(self, powers, times, cp: float, w_prime: float, window: np.ndarray, keep: float):
+    def __init__(
+        self,
+        powers: np.ndarray,
+        times: np.ndarray,
+        cp: float,
+        w_prime: float,
+        window: np.ndarray,
+        keep: float,
+    ):
         self.powers, self.all_times = powers, times
         self.inside = np.flatnonzero(window)
         self.times = times[:, self.inside].T  # (window blocks, levels)
@@ -409,29 +556,16 @@ class _Programme:
         return chosen
 
 
-#: Block-time tables kept for riders of one vehicle on one route (keyed by content).
-TABLE_CACHE = 16
-_tables: OrderedDict[str, tuple[np.ndarray, np.ndarray]] = OrderedDict()
 #: The ridden mean power may miss the day's effort by this share before the
 #: programme is asked again with the miss corrected …
 MEAN_TOLERANCE = 0.01
 #: … at most this many times.
 FIT_ROUNDS = 2
+#: Asked again, a plan already worked out is taken when its mean is within this share
+#: of the new one (the programme's κ are 10 % apart, its means about 1.5 %).
+PICK = 0.006
 #: Rounds of cutting the motor where the battery runs out (each only cuts earlier).
 BATTERY_ROUNDS = 4
-
-
-def shared_block_times(course: Course, top: float) -> tuple[np.ndarray, np.ndarray]:
-    """:func:`block_times`, kept for the next rider of the same vehicle and route."""
-    key = course.key(top)
-    if key in _tables:
-        _tables.move_to_end(key)
-        return _tables[key]
-    table = block_times(course, top)
-    _tables[key] = table
-    while len(_tables) > TABLE_CACHE:
-        _tables.popitem(last=False)
-    return table
 
 
 @dataclass(frozen=True)
@@ -507,10 +641,11 @@ def _battery_cut(ride: Ride, ratio: np.ndarray, motor: Motor) -> tuple[int, np.n
 
 def _fit(course: Course, mean_power: float, cp: float, w_prime: float, top: float) -> tuple[Pacing, Ride]:
     """The pacing plan and its ride whose ridden mean power is ``mean_power``."""
-    table = shared_block_times(course, top)
+    table = block_times(course, top)
     asked = mean_power
     hint = None
     floor = 0.0
+    tried = _Tried()
     for _ in range(FIT_ROUNDS + 1):
         pacing = plan_pacing(
             course,
@@ -521,6 +656,7 @@ def _fit(course: Course, mean_power: float, cp: float, w_prime: float, top: floa
             table=table,
             kappa_hint=hint,
             floor=floor,
+            tried=tried,
         )
         hint = pacing.kappa if np.isfinite(pacing.kappa) else None
         ride = course.ride(pacing.power)
@@ -551,8 +687,8 @@ def day_effort(course: Course, *, cp: float, w_prime: float, top: float) -> tupl
     fixed point, found by iteration (T falls as P̄ rises, so it settles). The time at
     constant power is a little longer than the paced ride's, so the default errs low.
     """
-    powers, times = shared_block_times(course, top)
-    total = times.sum(axis=1)
+    table = block_times(course, top)
+    powers, total = table.powers, table.times.sum(axis=1)
     mean = RIDE_SHARE * cp
     duration = float(np.interp(mean, powers[1:], total[1:]))
     for _ in range(30):

@@ -17,8 +17,6 @@ from cardgen.physics.assist import (
     assisted_speed,
     battery_energy,
     climb_options,
-    motor_power,
-    plan_levels,
     rider_power_for_speed,
 )
 from cardgen.physics.atmosphere import Conditions, density_along
@@ -27,6 +25,7 @@ from cardgen.physics.effort import sustainable_climb_power, w_prime_balance
 from cardgen.physics.forces import gravity_power, headwind
 from cardgen.physics.ride import Ride
 from cardgen.physics.steady import power_for_speed, speed_for_power
+from cardgen.plan.assist_levels import Stretch, assist_ratio, pace_assisted
 from cardgen.plan.difficulty import CRAWL_LENGTH, CRAWL_SPEED, climb_words
 from cardgen.plan.model import (
     Analysis,
@@ -39,7 +38,7 @@ from cardgen.plan.model import (
     Totals,
     arrival_time,
 )
-from cardgen.plan.pacing import W_PRIME_SLACK, Course, ceiling, day_effort, pace, ridden_mean
+from cardgen.plan.pacing import W_PRIME_SLACK, Course, PacedRide, ceiling, day_effort, pace, ridden_mean
 from cardgen.plan.walking import stretches, walking_mask, widened
 from cardgen.profiles.riders import Rider
 from cardgen.route.climbs import Climb, Descent, find_climbs, find_descents
@@ -92,25 +91,23 @@ def speed_caps(terrain: Terrain, rider: Rider) -> np.ndarray:
     return np.asarray(np.minimum(v.max_descent_speed, curve_speed(v.curve_accel, terrain.curve_radius)))
 
 
-def _assist_ratios(
+def _stretches(
     rider: Rider,
     motor: Motor | None,
     climbs: tuple[Climb, ...],
     terrain: Terrain,
     wind: np.ndarray,
     rho: np.ndarray,
-) -> tuple[np.ndarray, dict[int, int], int | None]:
-    """Assist ratio on every segment, the level chosen for each climb (by start) and
-    the level between climbs: the battery-aware plan of
-    :func:`~cardgen.physics.assist.plan_levels`, with the stretches between climbs as
-    one more item whose wanted level is the rider's ``assist_between_climbs``."""
-    ratio = np.zeros(terrain.grade.size)
-    levels: dict[int, int] = {}
+) -> list[Stretch]:
+    """The stretches an assist level is chosen for (none without a motor): each climb,
+    asking for the lowest level that holds the target speed within CP
+    (:func:`~cardgen.physics.assist.climb_options`), then the route between climbs,
+    asking for the rider's ``assist_between_climbs``."""
     if motor is None:
-        return ratio, levels, None
-    options = {}
+        return []
+    stretches = []
     if climbs:
-        options = climb_options(
+        within = climb_options(
             motor,
             [(c.start, c.end) for c in climbs],
             climb_power=rider.climb_power_used,
@@ -122,46 +119,18 @@ def _assist_ratios(
             air_density=rho,
             step=terrain.step,
             w_prime=rider.w_prime,
-        )
+        )["within_cp"]
+        for k, c in enumerate(climbs):
+            segments = np.zeros(terrain.grade.size, dtype=bool)
+            segments[c.start : c.end] = True
+            wanted = int(np.argmax(within[:, k])) if within[:, k].any() else len(motor.levels)
+            stretches.append(Stretch(segments, wanted, True))
     off = np.ones(terrain.grade.size, dtype=bool)
     for c in climbs:
         off[c.start : c.end] = False
     if off.any():
-        between = _between_options(rider, motor, off, terrain, wind, rho)
-        options = {
-            k: np.column_stack((options[k], between[k])) if options else between[k][:, None] for k in between
-        }
-    budget = motor.usable_battery * (1.0 - BATTERY_RESERVE)
-    chosen = plan_levels(options, min_speed=rider.vehicle.min_stable_speed, budget=budget)
-    between_level = chosen.pop() if off.any() else None
-    if between_level:
-        ratio[off] = motor.levels[between_level - 1]
-    for climb, level in zip(climbs, chosen, strict=True):
-        levels[climb.start] = level
-        ratio[climb.start : climb.end] = 0.0 if level == 0 else motor.levels[level - 1]
-    return ratio, levels, between_level
-
-
-def _between_options(
-    rider: Rider, motor: Motor, off: np.ndarray, terrain: Terrain, wind: np.ndarray, rho: np.ndarray
-) -> dict[str, np.ndarray]:
-    """What each assist level does on the stretches between climbs (``off``), at the
-    rider's flat power and steady speeds: arrays over levels 0…N like
-    :func:`~cardgen.physics.assist.climb_options`; "within CP" is read as the level the
-    rider asked for (or more), "slowest" as the 5th percentile of the speeds."""
-    res = rider.vehicle.resistance
-    air = dict(grade=terrain.grade[off], headwind=wind[off], air_density=rho[off])
-    ratios = np.array([0.0, *motor.levels])[:, None]
-    speed = assisted_speed(motor, ratios, rider.flat_power, resistance=res, **air)
-    seconds = terrain.step * np.sqrt(1.0 + air["grade"] ** 2) / np.maximum(speed, 0.1)
-    drawn = motor_power(motor, ratios, speed, rider.flat_power) * seconds / motor.drive_efficiency
-    return dict(
-        # short ramps off the climbs do not decide the level: the slowest 5 % of them
-        slowest=np.percentile(speed, 5, axis=1),
-        time=seconds.sum(axis=1),
-        battery=np.nan_to_num(drawn, posinf=0.0).sum(axis=1),
-        within_cp=np.arange(len(motor.levels) + 1) >= rider.assist_between_climbs,
-    )
+        stretches.append(Stretch(off, rider.assist_between_climbs, False))
+    return stretches
 
 
 def make_plan(
@@ -189,8 +158,10 @@ def make_plan(
     vehicle = rider.vehicle
     wind, rho = segment_air(terrain, conditions)
     motor = vehicle.fitted_motor()
-    ratio, levels, between_level = _assist_ratios(rider, motor, route.climbs, terrain, wind, rho)
-    effort, ride = _paced(_course(terrain, rider, wind, rho, motor, ratio), rider)
+    stretches = _stretches(rider, motor, route.climbs, terrain, wind, rho)
+    effort, ride, chosen = _paced(_course(terrain, rider, wind, rho, motor, None), rider, stretches)
+    between_level = chosen.pop() if stretches and not stretches[-1].climb else None
+    levels = {c.start: level for c, level in zip(route.climbs, chosen, strict=True)} if chosen else {}
     wbal = w_prime_balance(ride.rider_power, ride.time, rider.cp, rider.w_prime)
     walked = walking_mask(terrain.step, ride.time, ride.rider_power, ride.limited, vehicle.min_stable_speed)
 
@@ -235,10 +206,16 @@ def make_plan(
 
 
 def _course(
-    terrain: Terrain, rider: Rider, wind: np.ndarray, rho: np.ndarray, motor: Motor | None, ratio: np.ndarray
+    terrain: Terrain,
+    rider: Rider,
+    wind: np.ndarray,
+    rho: np.ndarray,
+    motor: Motor | None,
+    ratio: np.ndarray | None,
 ) -> Course:
     """The route as the pacing sees it: every segment's road, air, speed limit and
-    braking, the vehicle's resistance and its motor at the chosen assist ratios."""
+    braking, the vehicle's resistance and its motor at the given assist ratios (set
+    by :func:`_paced` when None)."""
     return Course(
         step=terrain.step,
         grade=terrain.grade,
@@ -354,14 +331,30 @@ def _walks_off_climbs(
     ]
 
 
-def _paced(course: Course, rider: Rider) -> tuple[Effort, Ride]:
-    """The rider's pacing plan, ridden, and what it assumed."""
+def _paced(course: Course, rider: Rider, stretches: list[Stretch]) -> tuple[Effort, Ride, list[int]]:
+    """The rider's pacing plan, ridden, what it assumed, and with a motor the assist
+    level of each stretch, chosen with the plan (:func:`pace_assisted`)."""
     style = rider.pacing_style
     top = ceiling(style, rider.cp, rider.climb_share)
+    if stretches:
+        course = dataclasses.replace(
+            course, assist_ratio=assist_ratio(course, stretches, [s.wanted for s in stretches])
+        )
     asked, duration = min(rider.flat_power, top), None
     if not rider.effort_given:
         asked, duration = day_effort(course, cp=rider.cp, w_prime=rider.w_prime, top=top)
-    paced = pace(course, mean_power=asked, cp=rider.cp, w_prime=rider.w_prime, top=top)
+
+    def ride(on: Course) -> PacedRide:
+        return pace(on, mean_power=asked, cp=rider.cp, w_prime=rider.w_prime, top=top)
+
+    levels: list[int] = []
+    if stretches and course.motor is not None:
+        budget = course.motor.usable_battery * (1.0 - BATTERY_RESERVE)
+        paced, levels = pace_assisted(
+            course, stretches, ride, budget=budget, min_speed=rider.vehicle.min_stable_speed
+        )
+    else:
+        paced = ride(course)
     effort = Effort(
         style=style,
         mean_power=ridden_mean(paced.ride),
@@ -371,7 +364,7 @@ def _paced(course: Course, rider: Rider) -> tuple[Effort, Ride]:
         duration=duration,
         battery_empty_at=paced.empty_at,
     )
-    return effort, paced.ride
+    return effort, paced.ride, levels
 
 
 def _climb_row(
@@ -651,8 +644,10 @@ def _descent_rows(
     grade = np.array([d.avg_grade for d in descents])
     mean_wind = np.array([np.mean(wind[d.start : d.end]) for d in descents])
     mean_rho = np.array([np.mean(rho[d.start : d.end]) for d in descents])
-    coasts = speed_for_power(
-        0.0, **vehicle.resistance.steady(), grade=grade, headwind=mean_wind, air_density=mean_rho
+    coasts = np.asarray(
+        speed_for_power(
+            0.0, **vehicle.resistance.steady(), grade=grade, headwind=mean_wind, air_density=mean_rho
+        )
     )  # all descents at once
     rows = []
     for number, (descent, coast) in enumerate(zip(descents, coasts, strict=True), 1):

@@ -21,7 +21,8 @@ def _num(x, digits=3):
     if x is None:
         return None
     x = float(x)
-    return round(x, digits) if math.isfinite(x) else None
+    # + 0.0 turns a negative zero (a loss of -0.0 m on a flat route) into 0.0
+    return round(x, digits) + 0.0 if math.isfinite(x) else None
 
 
 def _notices(notices, units: str = "metric") -> list[dict]:

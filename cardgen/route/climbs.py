@@ -8,6 +8,7 @@ as restated by several independent secondary sources (no primary citation found)
 
 from __future__ import annotations
 
+from collections.abc import Sequence
 from dataclasses import dataclass
 from typing import Any
 
@@ -30,9 +31,6 @@ GRADE_WINDOW = 100.0
 #: Neighbouring ground counts as part of the steepest pitch while it is at most this
 #: much less steep [-]: half the 0.5-point step in which grades are printed.
 PITCH_TOLERANCE = 0.0025
-#: The steepest pitch's length is printed rounded down to this step [m]: a knot the
-#: noise has moved by up to this much never makes the pitch longer than the ground's.
-PITCH_STEP = 50.0
 
 
 #: Our own plain-language bands on the FIETS index: (upper bound, words).
@@ -108,19 +106,28 @@ class Climb(Descent):
     band: str = ""
 
 
-def steepest_pitch(elevation: np.ndarray, step: float, points: int) -> tuple[float, float]:
+def steepest_pitch(
+    elevation: np.ndarray, step: float, points: int, knots: Sequence[tuple[float, float, float]] = ()
+) -> tuple[float, float]:
     """The steepest grade [-] over ``points`` steps of a smoothed profile, and the
     length [m] of the stretch it describes.
 
+    Parameters
+    ----------
+    elevation : array [m] of the fitted profile (:mod:`cardgen.route.profile_fit`)
+    step : float [m] grid spacing
+    points : int  steps of the window
+    knots : (place, low, high) [node index of ``elevation``, not whole] of the
+        profile's knots and the 99 % ranges of their places
+
     Notes
     -----
-    On the straight pieces of :func:`cardgen.route.terrain.smooth_elevation` the
-    grade of a stretch is the rise over its length. The stretch is the run of steps
-    around the steepest ``points`` steps that are each at most :data:`PITCH_TOLERANCE`
-    less steep than it, rounded down to :data:`PITCH_STEP` and never shorter than
-    ``points`` steps: so a 300 m wall reads "300 m", never more, and the stretch's
-    mean grade is within the tolerance of the grade given with it. A profile
-    shorter than ``points`` steps is taken whole.
+    On straight pieces the grade of a stretch is the rise over its length. The
+    stretch is the run of steps around the steepest ``points`` steps that are each at
+    most :data:`PITCH_TOLERANCE` less steep than it; where it ends at a knot, it is
+    counted from the latest place the knot's range allows to the earliest (so noise
+    that moves a knot never makes the stretch longer than the ground's), and never
+    shorter than ``points`` steps. A profile shorter than that is taken whole.
     """
     n = min(points, elevation.size - 1)
     if n < 1:
@@ -137,10 +144,13 @@ def steepest_pitch(elevation: np.ndarray, step: float, points: int) -> tuple[flo
         start -= 1
     while end + 1 < steep.size and steep[end + 1]:
         end += 1
-    length = max(n, end + 1 - start) * step
-    # the steps at either end where the grade changes between two nodes are left out
-    # of the run: one step of grace at each end before rounding down
-    return grade, max(n * step, np.floor((length + 2 * step) / PITCH_STEP) * PITCH_STEP)
+    begins, ends = float(start), float(end + 1)
+    for place, low, high in knots:
+        if start - 1 <= place <= start + 1:  # the knot where the run begins, to a step
+            begins = high
+        if end <= place <= end + 2:
+            ends = low
+    return grade, max(n, ends - begins) * step
 
 
 def _find(
@@ -188,7 +198,8 @@ def _find(
         length = (end - start) * step
         if height < min_gain or height / length < min_avg_grade:
             continue
-        steepest, pitch = steepest_pitch(e[start : end + 1], step, k)
+        knots = [(p / step - start, lo / step - start, hi / step - start) for p, lo, hi in terrain.knots]
+        steepest, pitch = steepest_pitch(e[start : end + 1], step, k, knots)
         top = float(terrain.elevation[start : end + 1].max())
         hills.append(
             dict(

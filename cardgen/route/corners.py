@@ -29,7 +29,6 @@ at least :data:`MIN_TURN_RADIUS`.
 from __future__ import annotations
 
 from dataclasses import dataclass
-from typing import Any
 
 import numpy as np
 
@@ -85,8 +84,8 @@ def _turn_regions(
     if probe.size == 0:
         return []
 
-    def mean(a: np.ndarray, b: np.ndarray) -> Any:
-        return (np.interp(b, d, total) - np.interp(a, d, total)) / (b - a)
+    def mean(a: np.ndarray, b: np.ndarray) -> np.ndarray:
+        return np.asarray((np.interp(b, d, total) - np.interp(a, d, total)) / (b - a))
 
     turning = np.abs(mean(probe, probe + half) - mean(probe - half, probe)) >= threshold
     regions: list[tuple[float, float]] = []
@@ -121,7 +120,7 @@ def _cross(a: np.ndarray, b: np.ndarray) -> float:
     return float(a[0] * b[1] - a[1] * b[0])
 
 
-def _misfit(q: np.ndarray, u1: np.ndarray, u2: np.ndarray, half: float, radii: np.ndarray) -> Any:
+def _misfit(q: np.ndarray, u1: np.ndarray, u2: np.ndarray, half: float, radii: np.ndarray) -> np.ndarray:
     """Sum over the points ``q`` (relative to the legs' intersection) of the squared
     distance [m²] to the path leg–arc–leg for each radius in ``radii``."""
     inside = (u2 - u1) / np.linalg.norm(u2 - u1)  # towards the centre, on the bisector
@@ -141,7 +140,7 @@ def _misfit(q: np.ndarray, u1: np.ndarray, u2: np.ndarray, half: float, radii: n
     dist_c = np.linalg.norm(rel, axis=2)
     in_sector = (-rel @ inside) >= dist_c * np.cos(half)
     d_arc = np.where(in_sector, np.abs(dist_c - r), np.inf)
-    return np.sum(np.minimum(np.minimum(d_in, d_out), d_arc) ** 2, axis=1)
+    return np.asarray(np.sum(np.minimum(np.minimum(d_in, d_out), d_arc) ** 2, axis=1))
 
 
 #: Radii [m] tried for a corner.
@@ -229,5 +228,5 @@ def _on_arc(
     return bool(np.any((d1 > off) & (d2 > off)))
 
 
-def _unwrap(lon: np.ndarray) -> Any:
-    return np.degrees(np.unwrap(np.radians(lon)))
+def _unwrap(lon: np.ndarray) -> np.ndarray:
+    return np.asarray(np.degrees(np.unwrap(np.radians(lon))))

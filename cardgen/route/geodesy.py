@@ -22,7 +22,7 @@ from cardgen.units import Floats
 EARTH_RADIUS = 6371008.8
 
 
-def cumulative_distance(lat: Floats, lon: Floats) -> Any:
+def cumulative_distance(lat: Floats, lon: Floats) -> np.ndarray:
     """Distance along a polyline of WGS84 points, from the first point.
 
     Parameters

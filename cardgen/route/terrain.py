@@ -61,6 +61,8 @@ class Terrain:
     ``step`` [m] is the grid spacing; ``gain``/``loss`` [m] use :data:`GAIN_DEADBAND`.
     ``junctions`` are the corners that turn at a single track point (see
     :mod:`cardgen.route.corners`): turns at junctions rather than bends of a road.
+    ``knots`` are where the smoothed profile's grade changes, each with the 99 %
+    range of its place (:func:`cardgen.route.profile_fit.knot_ranges`).
     """
 
     distance: np.ndarray
@@ -76,6 +78,7 @@ class Terrain:
     loss: float
     gaps: tuple[float, ...] = ()  # [m] where gaps between track segments were joined
     junctions: tuple[tuple[float, float], ...] = ()  # [m] (start, end) of turns at a single track point
+    knots: tuple[tuple[float, float, float], ...] = ()  # [m] (place, 99 % low, high) where the grade changes
 
     @property
     def length(self) -> float:
@@ -157,7 +160,7 @@ def smooth_elevation(elevation: Floats, step: float, noise: float | None = None)
     e = np.asarray(elevation, dtype=float)
     if noise is None:
         noise = point_noise(np.arange(e.size) * step, e)
-    return fit_profile(e, noise)
+    return fit_profile(e, step, noise).elevation
 
 
 def elevation_gain(elevation: Floats, deadband: float = GAIN_DEADBAND) -> tuple[float, float]:
@@ -318,7 +321,8 @@ def build_terrain(track: Track, step: float = GRID_STEP) -> Terrain:
     lon = (np.interp(grid, d, unwrapped) + 180.0) % 360.0 - 180.0
     raw = np.interp(grid, d, ele)
     noise = grid_noise(point_noise(d, ele_in[keep]), float(np.median(np.diff(d))), grid_step)
-    smooth = smooth_elevation(raw, grid_step, noise)
+    fitted = fit_profile(raw, grid_step, noise)
+    smooth = fitted.elevation
     grade = np.diff(smooth) / grid_step
     heading = bearing(lat[:-1], lon[:-1], lat[1:], lon[1:])
     radius = curve_radius(lat, lon, grid_step)
@@ -351,6 +355,10 @@ def build_terrain(track: Track, step: float = GRID_STEP) -> Terrain:
         loss=loss,
         gaps=gap_at,
         junctions=tuple(junctions),
+        knots=tuple(
+            (float(k * grid_step), float(lo * grid_step), float(hi * grid_step))
+            for k, lo, hi in zip(fitted.knots, fitted.knot_low, fitted.knot_high, strict=True)
+        ),
     )
 
 
