@@ -84,13 +84,14 @@ if os.environ.get("BENCH_OLD_FITTER"):  # this tree, with the fitter of commit 0
     def old_render_pdfs(cards):
         layouts = 0
         for card in cards:
+            card = card.source
             if card.variants:
                 data, _, _, made = halving_fit(card.variants, Path(card.base), card.budget, CONTINUATION_STEP)
                 layouts += made
             else:
                 data, _ = pdf_bytes(card.html, Path(card.base))
             Path(card.target).write_bytes(data)
-        return [c.target for c in cards], layouts
+        return [c.target for c in cards], layouts, {}
 
     pipeline._render_pdfs = old_render_pdfs
 t0 = time.perf_counter()

@@ -241,25 +241,46 @@ def card_key(card) -> str:
     )
 
 
-def _render_pdfs(cards) -> tuple[list[str], int]:
+class _Batch(list):
+    """Cards for one worker, with what the build's fitters learned before
+    (``learned``: :attr:`cardgen.render.pdf.Fitter.overflowed`, by route and kind)."""
+
+    learned: dict = {}
+
+
+def _render_pdfs(cards) -> tuple[list[str], int, dict]:
     """Worker: cards' HTML → PDF files, each the first of its condensed variants that
     fits its page budget (the last one otherwise), by one fitter that learns from the
-    cards before (:class:`cardgen.render.pdf.Fitter`). Returns the files and the
-    layouts made."""
+    cards before, in this batch and (``cards.learned``) in the build's earlier
+    batches (:class:`cardgen.render.pdf.Fitter`; a group is a route's folder and a
+    vehicle kind). Returns the files, the layouts made and what the fitter learned."""
     from cardgen.render.pages import CONTINUATION_STEP
     from cardgen.render.pdf import Fitter, pdf_bytes
 
-    fitter = Fitter()
+    fitter = Fitter(getattr(cards, "learned", None))
     for packed in cards:
         card = packed.source if isinstance(packed, PackedCard) else packed
         if card.variants:
             data, _, _ = fitter.fit(
-                card.variants, Path(card.base), card.budget, card.group, continued_from=CONTINUATION_STEP
+                card.variants,
+                Path(card.base),
+                card.budget,
+                (card.base, card.group),
+                continued_from=CONTINUATION_STEP,
             )
         else:
             data, _ = pdf_bytes(card.html, Path(card.base))
         Path(card.target).write_bytes(data)
-    return [c.target for c in cards], fitter.layouts
+    return [c.target for c in cards], fitter.layouts, fitter.overflowed
+
+
+def _learn(learned: dict, overflowed: dict) -> None:
+    """Add one fitter's ``overflowed`` to ``learned``: per group and variant, the
+    shortest HTML seen to overflow."""
+    for group, seen in overflowed.items():
+        mine = learned.setdefault(group, {})
+        for index, length in seen.items():
+            mine[index] = min(mine.get(index, length), length)
 
 
 def _routes(config: SiteConfig, shared: str, starts) -> list[_Route]:
@@ -411,15 +432,20 @@ def _render_cards(cards: list, jobs: int, tmp: Path, progress) -> int:
 
     if len(batches) <= 1:
         for batch in batches:
-            targets, made = _render_pdfs(batch)
+            targets, made, _ = _render_pdfs(batch)
             layouts += made
             tick(targets)
         return layouts
+    learned: dict = {}  # each round starts from what the rounds before learned
     for start in range(0, len(batches), workers):  # fresh processes for every round
-        round_ = batches[start : start + workers]
+        round_ = [_Batch(b) for b in batches[start : start + workers]]
+        known = {group: dict(seen) for group, seen in learned.items()}  # fixed for the round
+        for batch in round_:
+            batch.learned = known
         with ProcessPoolExecutor(max_workers=len(round_)) as fresh:
-            for targets, made in _map(fresh, _render_pdfs, round_, "a card-rendering process"):
+            for targets, made, overflowed in _map(fresh, _render_pdfs, round_, "a card-rendering process"):
                 layouts += made
+                _learn(learned, overflowed)
                 tick(targets)
     return layouts
 

@@ -90,9 +90,10 @@ class Fitter:
     shows alike are parsed once (WeasyPrint's image ``cache``).
     """
 
-    def __init__(self) -> None:
+    def __init__(self, overflowed: dict | None = None) -> None:
         #: group → variant index → the shortest HTML (characters) seen to overflow it
-        self.overflowed: dict[object, dict[int, int]] = {}
+        #: (``overflowed``: what earlier fitters of the build learned, to start from)
+        self.overflowed: dict[object, dict[int, int]] = {g: dict(v) for g, v in (overflowed or {}).items()}
         self.cache: dict = {}
         self.layouts = 0
 

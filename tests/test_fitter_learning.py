@@ -1,0 +1,48 @@
+"""The card fitter learns across the build's worker processes: a variant that
+overflowed for a card of one route and vehicle kind is skipped in later batches for
+cards of that kind whose HTML is no shorter, so a later batch lays each card out once."""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+from cardgen.build.pipeline import PackedCard, _Batch, _learn, _render_pdfs
+from cardgen.render.pages import CardSource
+
+
+def _html(pages: int, words: str = "") -> str:
+    body = '<p style="break-after: page">page</p>' * (pages - 1) + f"<p>last {words}</p>"
+    return f"<!DOCTYPE html><html lang='en'><head><title>t</title></head><body>{body}</body></html>"
+
+
+def _cards(folder: Path, names: list[str]) -> list[PackedCard]:
+    """Cards of one route and kind: as is, three pages; condensed, one (budget 2)."""
+    cards = []
+    for name in names:
+        variants = (_html(3, name), _html(1, name)) + (_html(1, name),) * 4
+        cards.append(
+            PackedCard.of(
+                CardSource(variants[0], str(folder), str(folder / f"{name}.pdf"), variants, 2, "road")
+            )
+        )
+    return cards
+
+
+def test_a_later_batch_starts_from_what_earlier_batches_learned(tmp_path):
+    first = _Batch(_cards(tmp_path, ["a", "b"]))
+    targets, layouts, learned = _render_pdfs(first)
+    assert layouts == 3  # a: the variant as is overflows, then the condensed one; b: condensed at once
+    assert all(Path(t).read_bytes().startswith(b"%PDF") for t in targets)
+    later = _Batch(_cards(tmp_path, ["c", "d"]))
+    later.learned = learned
+    _, layouts, _ = _render_pdfs(later)
+    assert layouts == 2  # one each
+    alone = _Batch(_cards(tmp_path, ["c", "d"]))  # without what was learned: c learns again
+    assert _render_pdfs(alone)[1] == 3
+
+
+def test_what_fitters_learned_merges_to_the_shortest_overflowing_html():
+    learned: dict = {}
+    _learn(learned, {("r", "road"): {0: 900, 1: 500}})
+    _learn(learned, {("r", "road"): {0: 700}, ("r", "tandem"): {0: 800}})
+    assert learned == {("r", "road"): {0: 700, 1: 500}, ("r", "tandem"): {0: 800}}
