@@ -69,7 +69,7 @@ def test_every_rider_has_bib_wave_and_start_and_the_index_gives_the_waves(event)
         want = starts.of(i, 0)
         assert rider["bib"] == 500 + i and rider["wave"] == WAVES[i % len(WAVES)][0] == want.wave
         assert rider["start"] == want.at.isoformat(timespec="seconds")
-        assert f'<td class="num">{want.at:%H:%M:%S} ({want.wave})</td>' in page
+        assert f'<td class="num" data-label="Start (wave)">{want.at:%H:%M:%S} ({want.wave})</td>' in page
     index = (site / "index.html").read_text()
     for wave in starts.waves:
         assert f"wave {wave.name} {wave.first:%H:%M:%S}–{wave.last:%H:%M:%S} ({wave.riders} riders)" in index

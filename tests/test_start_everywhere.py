@@ -96,7 +96,7 @@ def test_the_start_is_on_the_card_cover_coach_sheet_pages_and_plan_json(built):
         line = next(x for x in coach.splitlines() if x.strip().startswith(name + " "))
         assert bib in line.split() and at in line and (wave or "–") in line
         assert any(name in x and at in x and bib in x.split() for x in cover.splitlines())
-        assert f'<td class="num">{at}{f" ({wave})" if wave else ""}</td>' in page
+        assert f'<td class="num" data-label="Start (wave)">{at}{f" ({wave})" if wave else ""}</td>' in page
     index = (site / "index.html").read_text()
     assert "wave Early 09:30:00–09:31:00 (3 riders)" in index and "other riders from 09:00:00" in index
 

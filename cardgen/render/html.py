@@ -34,15 +34,20 @@ REST_CAUTION = "On a long ride, rest before the big descents: tired arms and han
 LONG_RIDE = 3 * 3600.0
 #: The e-assist caution on cards (short: the range line follows it).
 CARD_ASSIST_CAUTION = "E-assist rules differ by place."
+DESCENTS_CAUTION = (
+    "Descents: speeds shown are model upper bounds, not safe or target speeds; check brakes, "
+    "and ride slower where you cannot see ahead."
+)
+#: Also in the footer of every card page, in these words.
+TRAFFIC_CAUTION = "Roads are open to traffic: local road rules apply."
 #: Cautions printed on every page, plain and short (cards: :func:`cautions_for`).
 CAUTIONS = (
     "Every figure is a model estimate from average values, not a guarantee: wind, road surface, "
     "tyres and the rider's day change them.",
-    "Descents: speeds shown are model upper bounds, not safe or target speeds; check brakes, "
-    "and ride slower where you cannot see ahead.",
+    DESCENTS_CAUTION,
     "Exertion: anyone with a medical condition needs clearance from a qualified professional "
     "before hard efforts; adaptive athletes follow their clinician's advice.",
-    "Roads are open to traffic: local road rules apply.",
+    TRAFFIC_CAUTION,
     ASSIST_CAUTION,
 )
 
@@ -200,16 +205,33 @@ def heat_caution(celsius: float) -> str:
 
 
 def cautions_for(plan: Plan) -> tuple[str, ...]:
-    """The cautions that apply to this rider's plan: the hot-weather one from
-    :data:`HOT_C`, the e-assist ones (rules, and the range with the battery the plan
-    assumes) only where there is a motor."""
-    general = tuple(c for c in CAUTIONS if c != ASSIST_CAUTION)
+    """The cautions at the end of this rider's card: the hot-weather one from
+    :data:`HOT_C`; the descents one only when the card has no descents (it is beside
+    them otherwise, as :data:`DESCENT_CAUTION`); the e-assist ones (rules, the range
+    with the battery the plan assumes, the motor's assist levels) only where there is a
+    motor."""
+    # once is enough: a card prints the descent caution beside its descents, and the
+    # traffic one in the footer of every page
+    skip = {ASSIST_CAUTION, TRAFFIC_CAUTION, *([DESCENTS_CAUTION] if plan.descents else [])}
+    general = tuple(c for c in CAUTIONS if c not in skip)
     temperature = plan.conditions.temperature
     if temperature is not None and temperature - ZERO_CELSIUS_K >= HOT_C:
         general = (*general, heat_caution(temperature - ZERO_CELSIUS_K))
     if plan.motor is None:
         return general
-    return (*general, f"{CARD_ASSIST_CAUTION} {assist_range(plan)}")
+    return (*general, f"{CARD_ASSIST_CAUTION} {assist_range(plan)} {assist_levels(plan)}")
+
+
+def assist_levels(plan: Plan) -> str:
+    """Every assist level of the rider's motor with its ratio, for the e-assist caution
+    at the end of a card (each level the plan names carries its ratio where it is
+    named, so the list takes no line of its own on the first pages)."""
+    if plan.motor is None:
+        return ""
+    levels = plan.motor.levels
+    ratios = ", ".join(f"{r * 100:.0f}" for r in levels)
+    which = "level 1" if len(levels) == 1 else f"levels 1–{len(levels)}"
+    return f"Assist {which}: {ratios} % of the rider's power."
 
 
 def assist_range(plan: Plan) -> str:

@@ -40,6 +40,10 @@ from cardgen.units import ZERO_CELSIUS_K
 #: (96 px an inch), the text column of a 320 px screen.
 PHONE_WIDTH_IN = 2.8
 
+#: Large print: the route map's labels at the body's 14 pt (its smallest, 7.5 pt,
+#: scaled), so the map reads at the same distance as the card.
+MAP_TEXT_LARGE = 14 / 7.5
+
 #: Riders on one group of the coach sheet: a group's tables fit a page or two.
 COACH_GROUP = 8
 #: File names of a route folder that a card may not take (a rider called "Coach"
@@ -64,7 +68,7 @@ RESERVED_CARD_NAMES = frozenset(
 @dataclass(frozen=True)
 class CardSource:
     """A card to print: its HTML, the folder its links point into, the PDF to make.
-    ``variants`` are the same card condensed step by step (:data:`CONDENSE_STEPS`) and
+    ``variants`` are the same card condensed step by step (:data:`CARD_VARIANTS`) and
     ``budget`` its pages: the first variant that fits is printed. A coach sheet has
     no variants and no budget."""
 
@@ -77,15 +81,23 @@ class CardSource:
     assets: tuple[str, ...] = ()  # the build's files (in ``base``) that any variant shows
 
 
-#: The order in which a card is condensed until it fits its page budget, never
-#: dropping a cue: 1 a descent's notes become its symbols and one line; 2 the cue
-#: sheet runs in two columns without the GPX's descriptions; 3 the profile and the map
-#: are drawn smaller; 4 the cue sheet moves to a second sheet (two more pages) with its
-#: own header; 5 the same, with the route map left to the route's web page (a long
-#: card with its pacing lines may have no room left for it).
-CONDENSE_STEPS = 5
-#: The first step with a continuation sheet (it may take twice the page budget).
-CONTINUATION_STEP = 4
+#: The condensing steps of a card, never dropping a cue: 1 a descent's notes become
+#: its symbols and one line; 2 the cue sheet runs in two columns without the GPX's
+#: descriptions; 3 the profile and the map are drawn smaller.
+CONDENSE_STEPS = 3
+#: A card's variants in the order they are tried, as (condensing step, route map on
+#: the card): first each step within the page budget; then the most condensed again,
+#: allowed a continuation sheet (twice the budget: the card flows on, so its second
+#: page is full before the third starts); last, the same with the route map left to
+#: the route's web page (a long card with its pacing lines may have no room left for
+#: it).
+CARD_VARIANTS = (
+    *((step, True) for step in range(CONDENSE_STEPS + 1)),
+    (CONDENSE_STEPS, True),
+    (CONDENSE_STEPS, False),
+)
+#: The first variant allowed a continuation sheet.
+CONTINUATION_STEP = CONDENSE_STEPS + 1
 
 
 def built_stamp(source_date_epoch: str | None) -> str:
@@ -209,6 +221,8 @@ def _plots(config, job: RouteJob, files: dict[str, str | bytes]) -> dict:
     # a full and a smaller size of each, for the condensing steps (drawn, not shrunk,
     # so the type keeps its size)
     for suffix, share in (("", 1.0), ("-small", 0.45)):
+        # large print keeps a map that reads: its smaller drawing loses a quarter
+        map_share = 0.75 if config.large_print and share < 1.0 else share
         card_svg, _ = plots.elevation_profile(
             analysis.terrain,
             analysis.climbs,
@@ -227,7 +241,8 @@ def _plots(config, job: RouteJob, files: dict[str, str | bytes]) -> dict:
             units,
             name=job.name,
             width_in=width,
-            height_in=0.45 * width * share,
+            height_in=0.45 * width * map_share,
+            text_scale=MAP_TEXT_LARGE if config.large_print else 1.0,
         )
         files[f"map{suffix}.svg"] = map_svg
     card_profile = "card-profile.svg"
@@ -436,15 +451,13 @@ def _render_route(config, site: dict, job: RouteJob, folder: Path) -> RoutePages
             descents_brief=functools.partial(descents_brief, units=units),
             warnings_brief=functools.partial(warnings_brief, units=units, skip={"battery", "stall"}),
         )
-        variants = tuple(
-            card_template.render(
-                **context,
-                condense=min(level, 3),
-                continuation=level >= CONTINUATION_STEP,
-                map_on_card=level <= CONTINUATION_STEP,
-            )
-            for level in range(CONDENSE_STEPS + 1)
-        )
+        # a continuation variant is the same HTML as its step within the budget (the
+        # card flows on), so the fitter measures each step once
+        html_of = {
+            key: card_template.render(**context, condense=key[0], map_on_card=key[1])
+            for key in dict.fromkeys(CARD_VARIANTS)
+        }
+        variants = tuple(html_of[key] for key in CARD_VARIANTS)
         assets = (
             *(["qr.svg"] if qr else []),
             figures["card_profile"],

@@ -14,6 +14,7 @@ import logging
 import mimetypes
 from collections.abc import Iterator
 from pathlib import Path
+from typing import Any
 from urllib.parse import urlsplit
 from urllib.request import url2pathname
 
@@ -76,7 +77,10 @@ class Fitter:
     only when a card of the group with no longer HTML has already overflowed it.
     The first variant tried that fits is written, from the very layout that was
     measured (the check and the printed card are the same pages); when none fits,
-    the last (the cue sheet on a continuation sheet) is written, ended on a whole sheet.
+    the last is written. Continuation variants (twice the budget, ended on a whole
+    sheet) repeat the HTML of the steps before them: a step measured within the budget
+    is not laid out again, and the first layout within twice the budget is kept for
+    them.
 
     The rule is a prediction only in one direction: it may skip a variant that
     would have fitted a card with fewer but longer words (the card is then condensed
@@ -104,29 +108,32 @@ class Fitter:
     def fit(
         self, variants, base: Path, budget: int, group=None, continued_from: int | None = None
     ) -> tuple[bytes, int, int]:
-        """The PDF of the least condensed variant of a card whose layout is within
-        ``budget`` pages (the last when none is). Variants from ``continued_from`` on
-        (default: the last alone) carry a continuation sheet: they may take twice the
-        budget and end on a whole sheet. Returns (PDF, variant index, pages)."""
-        from weasyprint import HTML
-
-        logging.getLogger("weasyprint").setLevel(logging.ERROR)
-        fetcher = build_only_fetcher(base)
-        url = base.resolve().as_uri() + "/"
+        """The PDF of the first variant of a card whose layout is within its page
+        limit (the last when none is): ``budget`` pages, or twice that for the
+        variants from ``continued_from`` on (default: the last alone), which carry a
+        continuation sheet and end on a whole sheet. A variant whose HTML is the same
+        as an earlier one's is not laid out again. Returns (PDF, variant index, pages)."""
         last = len(variants) - 1
         continued = last if continued_from is None else continued_from
+        pages_of: dict[str, int] = {}  # HTML → pages of its layout in this call
+        spare: tuple[str, Any] | None = None  # the first layout within twice the budget
         for index, html in enumerate(variants):
+            limit = 2 * budget if index >= continued else budget
             if index < last and self._skip(group, index, html):
                 continue
-            with _quiet_collector():
-                document = HTML(string=html, base_url=url, url_fetcher=fetcher).render(
-                    pdf_tags=True, cache=self.cache
-                )
-            self.layouts += 1
-            pages = len(document.pages)
-            if pages <= (2 * budget if index >= continued else budget) or index == last:
+            if spare is not None and html == spare[0] and pages_of[html] <= limit:
+                document, pages = spare[1], pages_of[html]
+                break
+            if html in pages_of and pages_of[html] > limit and index < last:
+                self._learn(group, index, html)
+                continue
+            document = self._layout(html, base)
+            pages = pages_of[html] = len(document.pages)
+            if pages <= limit or index == last:
                 break
             self._learn(group, index, html)
+            if spare is None and pages <= 2 * budget:
+                spare = (html, document)
         with _quiet_collector():
             data = document.write_pdf(
                 pdf_identifier=b"cardgen", uncompressed_pdf=False, pdf_tags=True, cache=self.cache
@@ -135,6 +142,18 @@ class Fitter:
             data = _add_blank_page(data)
             pages += 1
         return data, index, pages
+
+    def _layout(self, html: str, base: Path):
+        """One WeasyPrint layout of ``html`` (links into ``base``), counted."""
+        from weasyprint import HTML
+
+        logging.getLogger("weasyprint").setLevel(logging.ERROR)
+        with _quiet_collector():
+            document = HTML(
+                string=html, base_url=base.resolve().as_uri() + "/", url_fetcher=build_only_fetcher(base)
+            ).render(pdf_tags=True, cache=self.cache)
+        self.layouts += 1
+        return document
 
 
 @contextlib.contextmanager

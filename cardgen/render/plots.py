@@ -422,21 +422,40 @@ def route_map(
         default=0.1,
     )
     bar = nice * unit
-    x0, y0 = x.min() - pad * 0.6, y.min() - pad * 0.6
+    x0, y0 = x.min() - pad * 0.6, y.min() - pad * 0.9
     ax.plot([x0, x0 + bar], [y0, y0], color=INK, linewidth=2.0, solid_capstyle="butt")
     label = f"{nice:g} {'mi' if units == 'imperial' else 'km'}"
-    ax.text(x0 + bar / 2, y0, label, fontsize=SMALLEST_PT * k, ha="center", va="bottom", color=INK)
-    nx, ny = x.max() + pad * 0.6, y.max() + pad * 0.2
+    # the labels sit outside the route, offset in points (they keep clear of it at any
+    # type size; the drawing's tight box takes them in): the scale's under its bar, N
+    # above its arrow's tip
     ax.annotate(
-        "N",
-        xy=(nx, ny),
-        xytext=(nx, ny - 0.35 * pad),
+        label,
+        (x0 + bar / 2, y0),
+        xytext=(0, -2),
+        textcoords="offset points",
+        fontsize=SMALLEST_PT * k,
         ha="center",
         va="top",
+        color=INK,
+    )
+    nx, ny = x.max() + pad * 0.6, y.max() + pad * 0.2
+    ax.annotate(
+        "",
+        xy=(nx, ny),
+        xytext=(0, -1.4 * LABEL_PT * k),
+        textcoords="offset points",
+        arrowprops={"arrowstyle": "-|>", "color": INK, "lw": 1.2},
+    )
+    ax.annotate(
+        "N",
+        (nx, ny),
+        xytext=(0, 1),
+        textcoords="offset points",
+        ha="center",
+        va="bottom",
         fontsize=LABEL_PT * k,
         fontweight="bold",
         color=INK,
-        arrowprops={"arrowstyle": "-|>", "color": INK, "lw": 1.2},
     )
     svg = _svg(fig)
     heading = math.degrees(math.atan2(fx - sx, fy - sy)) % 360

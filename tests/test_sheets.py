@@ -1,0 +1,227 @@
+"""Cards that use their sheets, read back from the PDFs: a card that needs a
+continuation sheet fills its first sheet first; the e-assist levels never add a page;
+a short outing in large print keeps within its four pages with a map that reads at
+the card's type size; nothing the build prints is set below 7.5 pt."""
+
+from __future__ import annotations
+
+import re
+import shutil
+import subprocess
+from pathlib import Path
+
+import pytest
+from gpxmaker import long_route
+from pypdf import PdfReader
+
+from cardgen.build import build_site
+from cardgen.config import load_config
+
+pytestmark = [
+    pytest.mark.slow,
+    pytest.mark.skipif(shutil.which("pdftotext") is None, reason="poppler-utils is not installed"),
+]
+SAMPLES = Path(__file__).resolve().parents[1] / "sample_routes"
+MM = 72 / 25.4
+
+
+def _words(pdf: Path) -> list[list[tuple[float, float, float, float, str]]]:
+    """Each page's words as (x0, y0, x1, y1, text) in points, from poppler's pdftotext -bbox."""
+    xml = subprocess.run(
+        ["pdftotext", "-bbox", str(pdf), "-"], capture_output=True, text=True, check=True
+    ).stdout
+    pages = []
+    for page in xml.split("<page ")[1:]:
+        pages.append(
+            [
+                (*map(float, m.groups()[:4]), m.group(5))
+                for m in re.finditer(
+                    r'<word xMin="([\d.]+)" yMin="([\d.]+)" xMax="([\d.]+)" yMax="([\d.]+)">([^<]*)<', page
+                )
+            ]
+        )
+    return pages
+
+
+def _fill(pdf: Path, top_mm: float, bottom_mm: float) -> list[float]:
+    """How far down its text area each page is written: the lowest word above the
+    page's bottom margin (the running footer sits in the margin), as a share of the
+    text area's height; 0 for an empty page."""
+    height = float(PdfReader(pdf).pages[0].mediabox.height)
+    top, bottom = top_mm * MM, height - bottom_mm * MM
+    return [
+        max(
+            ((y1 - top) / (bottom - top) for _, y0, _, y1, _ in page if top < y0 and y1 < bottom), default=0.0
+        )
+        for page in _words(pdf)
+    ]
+
+
+def _font_sizes(pdf: Path) -> dict[float, int]:
+    """Characters by effective font size [pt] (pypdf's text visitor: size × text matrix)."""
+    sizes: dict[float, int] = {}
+    for page in PdfReader(pdf).pages:
+
+        def visit(text, cm, tm, font, size):
+            if text.strip():
+                key = round(size * (abs(tm[3] * cm[3]) or 1.0), 1)
+                sizes[key] = sizes.get(key, 0) + len(text.strip())
+
+        page.extract_text(visitor_text=visit)
+    return sizes
+
+
+def _cards(folder: Path) -> list[Path]:
+    return sorted(p for p in folder.glob("*.pdf") if p.stem not in ("coach", "all-cards", "all-cards-2up"))
+
+
+# -- the demo: every PDF, and the day ride's continued card ---------------------------
+
+
+def test_nothing_the_demo_prints_is_below_7_5_pt(demo_site):
+    """Every PDF of the demo: the cards, the coach sheets, the day sheet and the print
+    packs (with their covers and the two-up sheets)."""
+    _, out, _ = demo_site
+    pdfs = sorted(out.rglob("*.pdf"))
+    names = {p.name for p in pdfs}
+    assert {"coach.pdf", "day-sheet.pdf", "all-cards.pdf", "all-cards-2up.pdf"} <= names and len(pdfs) > 30
+    for pdf in pdfs:
+        sizes = _font_sizes(pdf)
+        assert sizes and min(sizes) >= 7.5 - 0.05, (pdf.relative_to(out), sorted(sizes.items())[:3])
+
+
+def test_a_card_fills_its_first_sheet_before_a_continuation(demo_site):
+    """The demo's A5 cards (12 mm top and 14 mm bottom margin): a card of more than
+    two pages runs on from page 2 (its cue sheet is not moved to a sheet of its own):
+    the cue sheet starts by page 2, and page 2 is written at least 90 % of the way
+    down unless the whole cue sheet ends on it (what follows, the route map, is a
+    drawing that cannot split). Before this, the day ride's four cards took four pages
+    each with page 2 about half empty (0.56–0.66) and the cue sheet on page 3."""
+    _, out, _ = demo_site
+    continued = 0
+    for folder in sorted(p for p in out.iterdir() if p.is_dir()):
+        for card in _cards(folder):
+            fill = _fill(card, 12, 14)
+            assert len(fill) in (2, 4), (card, fill)
+            if len(fill) == 4:
+                continued += 1
+                words = [" ".join(w[4] for w in page) for page in _words(card)]
+                # the cue sheet's heading over its table, and its last row (not the
+                # food table's "Finish (95.0 km)")
+                assert re.search(r"Cue sheet At Cue", " ".join(words[:2])), card.relative_to(out)
+                ends = re.search(r"\d (km|mi) Finish\b", words[1])
+                assert fill[0] >= 0.9 and (fill[1] >= 0.9 or ends), (
+                    card.relative_to(out),
+                    fill,
+                )
+                assert fill[2] > 0  # the card runs on: the third page is not the blank back
+    assert continued >= 1  # the day ride's e-assist card runs on to a second sheet
+
+
+# -- a short outing in large print ----------------------------------------------------
+
+OUTING_RIDERS = (("Cargo", "e-assist-cargo"), ("Hand", "handcycle"), ("Road", "road-hoods"))
+
+
+def _outing(src: Path, out: Path, site: str, theme: str = "") -> Path:
+    """An invented 22 km outing with 2 climbs and 13 cues, in large print unless
+    ``site`` says otherwise; ``theme``: a template folder to use."""
+    src.mkdir(parents=True)
+    long_route(src / "outing.gpx", km=22, turns=12, climbs=2)
+    riders = "".join(f'[[riders]]\nname = "{n}"\nvehicle = "{v}"\n' for n, v in OUTING_RIDERS)
+    (src / "site.toml").write_text(
+        f'[site]\ntitle = "Invented short outing"\n{site}\n{theme}'
+        '[event]\nstart = "09:00"\ncontact = "Desk 01632 960100"\nemergency = "112"\n'
+        f'[[routes]]\ngpx = "outing.gpx"\n{riders}',
+        encoding="utf-8",
+    )
+    build_site(load_config(src / "site.toml"), out, jobs=2)
+    return out / "outing"
+
+
+@pytest.fixture(scope="module")
+def large_outing(tmp_path_factory):
+    root = tmp_path_factory.mktemp("outing")
+    return _outing(root / "src", root / "site", 'card_size = "A5"\nlarge_print = true')
+
+
+def test_large_print_outing_keeps_within_four_pages(large_outing):
+    """Large print's budget is four A5 pages (two sheets); before, the e-assist card of
+    this outing took five (three sheets) with a thumbnail map."""
+    cards = _cards(large_outing)
+    assert [c.stem for c in cards] == ["cargo", "hand", "road"]
+    for card in cards:
+        assert len(PdfReader(card).pages) <= 4, card.name
+
+
+def _scale_label(page, below: float):
+    """The map's scale-bar label ("1 km") on a page: a number and "km" with no words
+    after it on its line (a cue row goes on with the cue), below ``below``."""
+    for x0, y0, x1, y1, text in page:
+        if text in ("km", "mi") and y0 > below:
+            line = [w for w in page if abs(w[1] - y0) < 2]
+            before = [w for w in line if w[2] <= x0 and x0 - w[2] < 6]
+            after = [w for w in line if w[0] >= x1 and w[4].isalpha()]
+            if before and re.fullmatch(r"[\d.]+", before[-1][4]) and not after:
+                return (x0, y0, x1, y1, text)
+    return None
+
+
+def test_large_print_map_reads_at_the_body_size(large_outing):
+    """The map's labels (the north arrow's N, the scale bar's "1 km") are at least as
+    tall as the card's 14 pt body text, and the map is drawn at least 28 mm from its
+    north arrow to its scale bar. Measured from the PDF's word boxes; the same
+    measure on the card before this gave the e-assist card's thumbnail map 18.7 mm
+    with labels 9.3 pt tall against the body's 16.3."""
+    for card in _cards(large_outing):
+        pages = _words(card)
+        body = sorted(y1 - y0 for page in pages for _, y0, _, y1, text in page if text == "Finish")
+        assert body, card.name
+        page = next(p for p in pages if any(text == "N" for *_, text in p))
+        north = next(w for w in page if w[4] == "N")
+        bar = _scale_label(page, north[3])
+        assert bar is not None, card.name
+        assert north[3] - north[1] >= body[0] - 0.2, (card.name, north, body[0])
+        assert bar[3] - bar[1] >= body[0] - 0.2, (card.name, bar, body[0])
+        assert bar[1] - north[1] >= 28 * MM, (card.name, (bar[1] - north[1]) / MM)
+
+
+# -- the assist levels ----------------------------------------------------------------
+
+
+def _without_levels(theme: Path) -> str:
+    """A theme whose cards leave the motor's assist levels out (everything else as
+    cardgen's): the card with and without them, for comparing page counts."""
+    from cardgen.paths import default_templates
+
+    theme.mkdir()
+    text = (default_templates() / "cautions.html").read_text(encoding="utf-8")
+    needle = "{{ text }}"
+    assert needle in text
+    (theme / "cautions.html").write_text(text.replace(needle, '{{ text.split(" Assist level")[0] }}'))
+    return f'templates = "{theme}"\n'
+
+
+@pytest.mark.parametrize(
+    "site", ['card_size = "A5"\nlarge_print = true', 'card_size = "A5"', 'card_size = "pocket"']
+)
+def test_the_assist_levels_never_add_a_page(tmp_path, site):
+    """The outing's e-assist card prints every assist level with its ratio, and has
+    the same pages as the same card without them (a theme that leaves them out); so
+    do the riders without a motor (whose cards do not change)."""
+    with_levels = _outing(tmp_path / "a", tmp_path / "a-site", site)
+    without = _outing(tmp_path / "b", tmp_path / "b-site", site, _without_levels(tmp_path / "theme"))
+    text = " ".join(
+        subprocess.run(
+            ["pdftotext", str(with_levels / "cargo.pdf"), "-"], capture_output=True, text=True
+        ).stdout.split()
+    )
+    assert re.search(r"Assist levels 1–\d: \d+(, \d+)* % of the rider's power", text)
+    plain = " ".join(
+        subprocess.run(
+            ["pdftotext", str(without / "cargo.pdf"), "-"], capture_output=True, text=True
+        ).stdout.split()
+    )
+    assert "Assist levels" not in plain
+    for card in _cards(with_levels):
+        assert len(PdfReader(card).pages) == len(PdfReader(without / card.name).pages), (site, card.name)
