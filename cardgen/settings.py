@@ -19,13 +19,15 @@ class RouteConfig:
     gpx: Path
     name: str | None = None
     notes: str = ""
-    checkpoints: tuple = ()  # names (str) or distances [m] (float); empty: waypoints typed "checkpoint"
+    checkpoints: tuple[
+        str | float, ...
+    ] = ()  # names (str) or distances [m] (float); empty: waypoints typed "checkpoint"
     start: time | None = None  # this route's own first start
     stop: float = 0.0  # [s] planned stop at each checkpoint
     stops: tuple[float, ...] = ()  # [s] planned stop at each checkpoint listed, in order
     cue_texts: tuple[tuple[float, str], ...] = ()  # (where [m], the organiser's words)
-    feeds: tuple = ()  # feed points: names (str) or distances [m] (float), no planned stop
-    marshals: tuple = ()  # marshal points, the same
+    feeds: tuple[str | float, ...] = ()  # feed points: names (str) or distances [m] (float), no planned stop
+    marshals: tuple[str | float, ...] = ()  # marshal points, the same
 
 
 @dataclass(frozen=True)

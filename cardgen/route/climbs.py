@@ -15,7 +15,7 @@ from typing import Any
 import numpy as np
 
 from cardgen.route.terrain import Terrain
-from cardgen.units import Floats
+from cardgen.units import Floats, scalar_or_array
 
 #: A climb gains at least this much [m] …
 MIN_GAIN = 20.0
@@ -37,7 +37,7 @@ PITCH_TOLERANCE = 0.0025
 BANDS = ((0.5, "easy"), (1.5, "moderate"), (3.5, "hard"), (6.5, "very hard"), (np.inf, "extreme"))
 
 
-def fiets_index(gain: Floats, length: Floats, top: Floats) -> Any:
+def fiets_index(gain: Floats, length: Floats, top: Floats) -> Floats:
     """Difficulty of a climb by the FIETS index.
 
     Parameters
@@ -62,7 +62,7 @@ def fiets_index(gain: Floats, length: Floats, top: Floats) -> Any:
     d = np.asarray(length, dtype=float)
     with np.errstate(divide="ignore", invalid="ignore"):
         score = h * h / (d * 10.0) + np.maximum(0.0, (np.asarray(top, dtype=float) - 1000.0) / 1000.0)
-    return np.where(d > 0, score, np.nan)[()]
+    return scalar_or_array(np.where(d > 0, score, np.nan))
 
 
 def difficulty_band(score: float) -> str:

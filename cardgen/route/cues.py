@@ -96,7 +96,9 @@ def find_turns(
     return cues
 
 
-def place_points(terrain: Terrain, points: Sequence[Any], kind: str, reach: float = WAYPOINT_REACH) -> Any:
+def place_points(
+    terrain: Terrain, points: Sequence[Any], kind: str, reach: float = WAYPOINT_REACH
+) -> tuple[list[Cue], list[str]]:
     """Cues for named points (waypoints or route points) within ``reach`` of the route.
 
     A point gets one cue for each pass of the route within ``reach`` of it (an

@@ -11,12 +11,10 @@ Snyder, J. P. (1987). *Map Projections — A Working Manual*. USGS Professional 
 
 from __future__ import annotations
 
-from typing import Any
-
 import numpy as np
 from numpy.typing import ArrayLike
 
-from cardgen.units import Floats
+from cardgen.units import Floats, scalar_or_array
 
 #: Mean radius R₁ = (2a + b)/3 of the WGS84 ellipsoid [m].
 EARTH_RADIUS = 6371008.8
@@ -50,7 +48,7 @@ def cumulative_distance(lat: Floats, lon: Floats) -> np.ndarray:
     return np.concatenate(([0.0], np.cumsum(step)))
 
 
-def bearing(lat1: Floats, lon1: Floats, lat2: Floats, lon2: Floats) -> Any:
+def bearing(lat1: Floats, lon1: Floats, lat2: Floats, lon2: Floats) -> Floats:
     """Initial great-circle bearing from point 1 to point 2.
 
     Returns
@@ -65,7 +63,7 @@ def bearing(lat1: Floats, lon1: Floats, lat2: Floats, lon2: Floats) -> Any:
     dl = np.radians(np.asarray(lon2) - np.asarray(lon1))
     y = np.sin(dl) * np.cos(p2)
     x = np.cos(p1) * np.sin(p2) - np.sin(p1) * np.cos(p2) * np.cos(dl)
-    return np.mod(np.arctan2(y, x), 2 * np.pi)
+    return scalar_or_array(np.mod(np.arctan2(y, x), 2 * np.pi))
 
 
 def local_plane(lat: ArrayLike, lon: ArrayLike, lat0: float) -> np.ndarray:

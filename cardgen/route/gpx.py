@@ -498,7 +498,9 @@ def _column(values: list[str | None], axis: str, label: str, where: str) -> np.n
     return array
 
 
-def _elevation(values: list[str | None], lat: Floats, lon: Floats, label: str, where: str) -> Any:
+def _elevation(
+    values: list[str | None], lat: Floats, lon: Floats, label: str, where: str
+) -> tuple[np.ndarray, int]:
     text = ["nan" if v is None or not v.strip() else v for v in values]
     try:
         ele = np.array(text, dtype=float)

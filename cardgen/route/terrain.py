@@ -13,7 +13,6 @@ The smoothing's own: see :mod:`cardgen.route.profile_fit`.
 from __future__ import annotations
 
 from dataclasses import dataclass
-from typing import Any
 
 import numpy as np
 from numpy.lib.stride_tricks import sliding_window_view
@@ -96,7 +95,7 @@ class Terrain:
         return xy
 
 
-def running_median(elevation: Floats, points: int = SPIKE_POINTS) -> Any:
+def running_median(elevation: Floats, points: int = SPIKE_POINTS) -> np.ndarray:
     """Median over ``points`` samples centred on each one, the ends padded with the
     first and last value (Tukey 1977)."""
     e = np.asarray(elevation, dtype=float)
@@ -104,10 +103,11 @@ def running_median(elevation: Floats, points: int = SPIKE_POINTS) -> Any:
         return e.copy()
     half = points // 2
     padded = np.concatenate((np.full(half, e[0]), e, np.full(half, e[-1])))
-    return np.median(sliding_window_view(padded, points), axis=1)
+    median: np.ndarray = np.median(sliding_window_view(padded, points), axis=1)
+    return median
 
 
-def remove_spikes(elevation: Floats, points: int = SPIKE_POINTS) -> Any:
+def remove_spikes(elevation: Floats, points: int = SPIKE_POINTS) -> np.ndarray:
     """Isolated spikes and dips replaced by the running median of ``points`` samples;
     every other value kept (a Hampel identifier).
 
@@ -136,7 +136,7 @@ def remove_spikes(elevation: Floats, points: int = SPIKE_POINTS) -> Any:
     return np.where(spike, median, e)
 
 
-def smooth_elevation(elevation: Floats, step: float, noise: float | None = None) -> Any:
+def smooth_elevation(elevation: Floats, step: float, noise: float | None = None) -> np.ndarray:
     """The elevation profile with its noise removed: straight grades joined at the
     knots the noise cannot explain (:func:`cardgen.route.profile_fit.fit_profile`).
 
@@ -220,7 +220,7 @@ def _local_extrema(e: np.ndarray) -> list[int]:
     return candidates
 
 
-def curve_radius(lat: np.ndarray, lon: np.ndarray, step: float, window: float = CURVE_WINDOW) -> Any:
+def curve_radius(lat: np.ndarray, lon: np.ndarray, step: float, window: float = CURVE_WINDOW) -> np.ndarray:
     """Radius of the path's curve at each grid node.
 
     Notes
@@ -324,7 +324,7 @@ def build_terrain(track: Track, step: float = GRID_STEP) -> Terrain:
     fitted = fit_profile(raw, grid_step, noise)
     smooth = fitted.elevation
     grade = np.diff(smooth) / grid_step
-    heading = bearing(lat[:-1], lon[:-1], lat[1:], lon[1:])
+    heading = np.asarray(bearing(lat[:-1], lon[:-1], lat[1:], lon[1:]))
     radius = curve_radius(lat, lon, grid_step)
     # corners shorter than the window: the radius of the whole corner, from the
     # track's own points (the grid's interpolated points add nothing)
