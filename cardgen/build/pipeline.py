@@ -202,7 +202,7 @@ class PackedCard:
     def of(cls, card) -> PackedCard:
         """``card`` (a :class:`~cardgen.render.pages.CardSource` whose drawings are
         written) packed."""
-        text = json.dumps([card.html, list(card.variants)], ensure_ascii=False)
+        text = json.dumps([card.html, list(card.variants), list(card.parts)], ensure_ascii=False)
         return cls(
             card.base, card.target, card.budget, card.group, card_key(card), zlib.compress(text.encode(), 1)
         )
@@ -212,8 +212,10 @@ class PackedCard:
         """The card as rendered (:class:`~cardgen.render.pages.CardSource`)."""
         from cardgen.render.pages import CardSource
 
-        html, variants = json.loads(zlib.decompress(self.blob))
-        return CardSource(html, self.base, self.target, tuple(variants), self.budget, self.group)
+        html, variants, parts = json.loads(zlib.decompress(self.blob))
+        return CardSource(
+            html, self.base, self.target, tuple(variants), self.budget, self.group, parts=tuple(parts)
+        )
 
 
 def write_files(folder: Path, files: Mapping[str, str | bytes | Path]) -> None:
@@ -236,7 +238,7 @@ def card_key(card) -> str:
     used = sorted(set(card.assets))
     return digest(
         card.budget,
-        *(card.variants or (card.html,)),
+        *(card.variants or card.parts or (card.html,)),
         *[(n, file_digest(base / n, MAX_FILE_BYTES)) for n in used if (base / n).is_file()],
     )
 
@@ -255,7 +257,7 @@ def _render_pdfs(cards) -> tuple[list[str], int, dict]:
     batches (:class:`cardgen.render.pdf.Fitter`; a group is a route's folder and a
     vehicle kind). Returns the files, the layouts made and what the fitter learned."""
     from cardgen.render.pages import CONTINUATION_STEP
-    from cardgen.render.pdf import Fitter, pdf_bytes
+    from cardgen.render.pdf import Fitter, parts_pdf, pdf_bytes
 
     fitter = Fitter(getattr(cards, "learned", None))
     for packed in cards:
@@ -268,6 +270,8 @@ def _render_pdfs(cards) -> tuple[list[str], int, dict]:
                 (card.base, card.group),
                 continued_from=CONTINUATION_STEP,
             )
+        elif card.parts:
+            data = parts_pdf(card.parts, Path(card.base))
         else:
             data, _ = pdf_bytes(card.html, Path(card.base))
         Path(card.target).write_bytes(data)

@@ -46,6 +46,10 @@ MAP_TEXT_LARGE = 14 / 7.5
 
 #: Riders on one group of the coach sheet: a group's tables fit a page or two.
 COACH_GROUP = 8
+#: Groups of the coach sheet laid out together: WeasyPrint holds a whole layout in
+#: memory (a 300-rider sheet in one layout peaked at 1.2 GB), so a sheet of more
+#: groups is laid out in parts of this many and joined.
+COACH_LAYOUT_GROUPS = 5
 #: File names of a route folder that a card may not take (a rider called "Coach"
 #: gets coach-2.pdf).
 RESERVED_CARD_NAMES = frozenset(
@@ -70,7 +74,8 @@ class CardSource:
     """A card to print: its HTML, the folder its links point into, the PDF to make.
     ``variants`` are the same card condensed step by step (:data:`CARD_VARIANTS`) and
     ``budget`` its pages: the first variant that fits is printed. A coach sheet has
-    no variants and no budget."""
+    no variants and no budget; one of many riders is laid out in ``parts`` (a few
+    groups each, :data:`COACH_LAYOUT_GROUPS`), joined in order."""
 
     html: str
     base: str
@@ -79,6 +84,7 @@ class CardSource:
     budget: int = 0
     group: str = ""  # cards of one group fit alike: the vehicle kind
     assets: tuple[str, ...] = ()  # the build's files (in ``base``) that any variant shows
+    parts: tuple[str, ...] = ()  # a document laid out part by part ("html" is the first)
 
 
 #: The condensing steps of a card, never dropping a cue: 1 a descent's notes become
@@ -479,16 +485,26 @@ def _render_route(config, site: dict, job: RouteJob, folder: Path) -> RoutePages
     if views:
         ordered = sorted(views, key=lambda v: (v.start.isoformat() if v.start else "~", v.name))
         groups = [ordered[i : i + COACH_GROUP] for i in range(0, len(ordered), COACH_GROUP)]
-        html = env.get_template("coach.html").render(
-            **common,
-            groups=groups,
-            group_size=COACH_GROUP,
-            rider_count=len(views),
-            together=list(job.together),
-            rider_notes=functools.partial(rider_notes, units=units),
-            climb_band=climb_band,
+        coach = env.get_template("coach.html")
+        step = COACH_LAYOUT_GROUPS
+        parts = tuple(
+            coach.render(
+                **common,
+                groups=groups[first : first + step],
+                first_group=first,
+                group_size=COACH_GROUP,
+                rider_count=len(views),
+                together=list(job.together) if first + step >= len(groups) else [],
+                rider_notes=functools.partial(rider_notes, units=units),
+                climb_band=climb_band,
+            )
+            for first in range(0, len(groups), step)
         )
-        cards.append(CardSource(html, str(folder), str(folder / "coach.pdf")))
+        cards.append(
+            CardSource(
+                parts[0], str(folder), str(folder / "coach.pdf"), parts=parts if len(parts) > 1 else ()
+            )
+        )
     summary = route_summary(job, views, units, site.get("to_second", False))
     summary["day"] = day_rows(job.name, job.day, site.get("to_second", False))
     return RoutePages(files, summary, cards)

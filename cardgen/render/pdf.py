@@ -47,6 +47,24 @@ def build_only_fetcher(root: Path):
     return _fetcher_class()(root)
 
 
+def parts_pdf(parts: tuple[str, ...], base: Path) -> bytes:
+    """One PDF of a document laid out part by part (each an HTML page of its own,
+    links into ``base``) and joined in order: a layout holds every page of its
+    document in memory, so a coach sheet of hundreds of riders is laid out a few
+    groups at a time (one layout of 300 riders peaked at 1.2 GB). The tags (the
+    structure for screen readers) are those of the first part."""
+    import pikepdf
+
+    out = io.BytesIO()
+    with contextlib.ExitStack() as stack:  # a part stays open until the join is saved
+        joined = stack.enter_context(pikepdf.open(io.BytesIO(pdf_bytes(parts[0], base)[0])))
+        for html in parts[1:]:
+            part = stack.enter_context(pikepdf.open(io.BytesIO(pdf_bytes(html, base)[0])))
+            joined.pages.extend(part.pages)
+        joined.save(out, deterministic_id=True)
+    return out.getvalue()
+
+
 def pdf_bytes(html: str, base: Path) -> tuple[bytes, list[str]]:
     """Render ``html`` (whose relative links point into ``base``) as a tagged PDF
     (structure for screen readers; its language and title from the HTML).
