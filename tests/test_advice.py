@@ -31,9 +31,10 @@ def test_the_effort_line_says_the_style_the_mean_and_what_was_assumed():
 
 def test_climb_advice_says_the_power_the_time_and_the_reserve_left():
     plan = _plan()
-    # 263 W → 265 W; 362 s → 6 min; 1,500 J of 15,000 is 10 %: little left, for 2.04 km → 2.0 km
+    # 263 W → 260 W (a power to hold rounds down, toward caution); 362 s → 6 min; 1,500 J
+    # of 15,000 is 10 %: little left, for 2.04 km → 2.0 km
     assert climb_advice(_climb(263.0, 362.0, 1500.0, 2040.0), plan) == (
-        "hold 265 W for 6 min; little left for the next 2.0 km"
+        "hold 260 W for 6 min; little left for the next 2.0 km"
     )
     assert climb_advice(_climb(230.0, 600.0, 6000.0, 900.0), plan) == (
         "hold 230 W for 10 min; about half the reserve left at the top"
@@ -44,13 +45,25 @@ def test_climb_advice_says_the_power_the_time_and_the_reserve_left():
 
 def test_descent_advice_is_to_ease_or_to_pedal():
     plan = _plan()  # mean 163.4 W: ease below 35 % of it, 57.2 W
-    assert descent_advice(SimpleNamespace(rider_power=20.0), plan) == "ease off and let it roll"
-    assert descent_advice(SimpleNamespace(rider_power=118.0), plan) == "keep pedalling, about 120 W"
+    assert (
+        descent_advice(SimpleNamespace(rider_power=20.0, braking_energy=0.0), plan)
+        == "ease off and let it roll"
+    )
+    # a descent the plan brakes on (a curve, the speed cap) is never "let it roll"
+    braked = SimpleNamespace(rider_power=20.0, braking_energy=4000.0)
+    assert descent_advice(braked, plan) == "ease off; brake where the notes say"
+    assert (
+        descent_advice(SimpleNamespace(rider_power=118.0, braking_energy=0.0), plan)
+        == "keep pedalling, about 120 W"
+    )
 
 
 def test_descents_with_the_same_advice_share_a_line():
     plan = _plan()
-    plan.descents = [SimpleNamespace(number=n, rider_power=p) for n, p in ((1, 10.0), (2, 0.0), (3, 118.0))]
+    plan.descents = [
+        SimpleNamespace(number=n, rider_power=p, braking_energy=0.0)
+        for n, p in ((1, 10.0), (2, 0.0), (3, 118.0))
+    ]
     assert descents_advice(plan) == [
         "Descents 1, 2: ease off and let it roll",
         "Descent 3: keep pedalling, about 120 W",
@@ -62,5 +75,5 @@ def test_condensed_climb_advice_groups_climbs_with_the_same_words():
     same = _climb(263.0, 362.0, 9000.0, None)  # 60 % of W′ left: no reserve words
     other = _climb(263.0, 722.0, 9000.0, None)  # 12 min
     plan.climbs = [SimpleNamespace(number=n, **vars(c)) for n, c in ((1, same), (2, other), (3, same))]
-    # worked by hand: 263 W → 265 W; 362 s → 6 min, 722 s → 12 min
-    assert climbs_advice(plan) == ["Climbs 1, 3: hold 265 W for 6 min", "Climb 2: hold 265 W for 12 min"]
+    # worked by hand: 263 W → 260 W (down); 362 s → 6 min, 722 s → 12 min
+    assert climbs_advice(plan) == ["Climbs 1, 3: hold 260 W for 6 min", "Climb 2: hold 260 W for 12 min"]

@@ -77,6 +77,23 @@ def test_steady_never_goes_above_cp_and_is_the_handcycles_default(tmp_path):
     assert np.min(plan.w_prime_balance) == pytest.approx(hand.w_prime)
 
 
+def test_a_given_climbing_power_is_the_most_the_plan_asks(tmp_path):
+    """climb_w is the rider's (or the coach's) own climbing power: "best" pacing
+    spends W′ above CP on climbs, but never above that setting; without it the plan
+    goes up to CP × (1 + climb_share). The card's "hold" figure follows."""
+    from cardgen.render.advice import climb_advice
+
+    route = _route(tmp_path, 30, "climb-w")
+    vehicle = builtin_vehicles()["road-drops"]
+    free = make_plan(*route, Rider.for_vehicle(vehicle, cp=250.0))
+    assert np.max(free.ride.rider_power) > 240.0  # the plan climbs above 240 W when it may
+    capped = make_plan(*route, Rider.for_vehicle(vehicle, cp=250.0, climb_power=230.0))
+    assert np.max(capped.ride.rider_power) <= 230.0 + 1e-6
+    for row in capped.climbs:
+        held = int(climb_advice(row, capped).split()[1])
+        assert held <= 230
+
+
 def test_best_is_never_slower_than_steady_at_the_same_mean(tmp_path):
     """More freedom (a ceiling above CP) cannot make the optimum slower."""
     track, terrain = _route(tmp_path, 25, "styles")

@@ -336,6 +336,8 @@ def _paced(course: Course, rider: Rider, stretches: list[Stretch]) -> tuple[Effo
     level of each stretch, chosen with the plan (:func:`pace_assisted`)."""
     style = rider.pacing_style
     top = ceiling(style, rider.cp, rider.climb_share)
+    if rider.climb_given:  # the rider's (or coach's) own climbing power is the most the plan asks
+        top = min(top, rider.climb_power_used)
     if stretches:
         course = dataclasses.replace(
             course, assist_ratio=assist_ratio(course, stretches, [s.wanted for s in stretches])

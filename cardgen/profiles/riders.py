@@ -48,6 +48,8 @@ class Rider:
     assist_between_climbs : int  assist level away from climbs (vehicles with a motor)
     effort_given : bool  ``flat_power`` is the rider's own setting (flat_w, flat_kmh);
         else the plan chooses the day's effort from the ride's length
+    climb_given : bool  ``climb_power`` is the rider's own setting (climb_w): the
+        pacing plan never asks for more on any climb
     pacing : str  a pacing style of :data:`PACING_STYLES`, or "" for the vehicle's
         default (:attr:`pacing_style`)
 
@@ -74,6 +76,7 @@ class Rider:
     assist_between_climbs: int = DEFAULT_ASSIST_LEVEL
     pacing: str = ""
     effort_given: bool = True
+    climb_given: bool = False
 
     def __post_init__(self) -> None:
         problems = []
@@ -140,6 +143,7 @@ class Rider:
             climb_share=CLIMB_SHARE_ABOVE_CP,
             target_speed=vehicle.climb_speed,
             effort_given="flat_power" in given,
+            climb_given="climb_power" in given,
         )
         values.update(given)
         return cls(name=name or vehicle.label, vehicle=vehicle, **values)

@@ -42,7 +42,7 @@ def climb_advice(row, plan, units: str = "metric") -> str:
     next 2.0 km". The reserve is W′, the work a rider can do above CP."""
     if row.time is None or not math.isfinite(row.time):  # the rider stalls on it
         return "not ridable at this effort (see the notes)"
-    text = f"hold {fmt.power(row.rider_power)} for {fmt.minutes(row.time)}"
+    text = f"hold {fmt.power(row.rider_power, rounding='down')} for {fmt.minutes(row.time)}"
     if row.w_prime_top is None or plan.rider.w_prime <= 0:
         return text
     left = row.w_prime_top / plan.rider.w_prime
@@ -57,10 +57,12 @@ def climb_advice(row, plan, units: str = "metric") -> str:
 
 
 def descent_advice(row, plan, units: str = "metric") -> str:
-    """ "ease off and let it roll", or "keep pedalling, about 120 W"."""
+    """ "ease off and let it roll", "ease off; brake where the notes say" (the plan
+    brakes on it: for a curve or the speed cap, so letting it roll would contradict
+    the descent's notes), or "keep pedalling, about 120 W"."""
     mean = plan.effort.mean_power if plan.effort is not None else plan.rider.flat_power
     if row.rider_power < EASE_SHARE * mean:
-        return "ease off and let it roll"
+        return "ease off; brake where the notes say" if row.braking_energy > 0 else "ease off and let it roll"
     return f"keep pedalling, about {fmt.power(row.rider_power)}"
 
 
