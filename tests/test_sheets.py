@@ -225,3 +225,23 @@ def test_the_assist_levels_never_add_a_page(tmp_path, site):
     assert "Assist levels" not in plain
     for card in _cards(with_levels):
         assert len(PdfReader(card).pages) == len(PdfReader(without / card.name).pages), (site, card.name)
+
+
+def test_every_card_keeps_the_organisers_words_on_its_cues(demo_site):
+    """A waypoint's description is the organiser's note to riders ("Two hairpins
+    below: brake before them, not in them", sample_routes/hill-loop.gpx): no
+    condensing step drops it. The demo's e-assist and city-bike cards once did, with
+    their second page 40 % empty."""
+    _, out, _ = demo_site
+    cards = [
+        p for p in (out / "hill-loop").glob("*.pdf") if p.stem not in ("coach", "all-cards", "all-cards-2up")
+    ]
+    assert len(cards) >= 6
+    for card in cards:
+        text = " ".join(
+            subprocess.run(
+                ["pdftotext", str(card), "-"], capture_output=True, text=True, check=True
+            ).stdout.split()
+        )
+        assert "Two hairpins below: brake before them, not in them" in text, card.name
+        assert "Narrow lane, oncoming farm traffic" in text, card.name

@@ -87,9 +87,10 @@ class CardSource:
     parts: tuple[str, ...] = ()  # a document laid out part by part ("html" is the first)
 
 
-#: The condensing steps of a card, never dropping a cue: 1 a descent's notes become
-#: its symbols and one line; 2 the cue sheet runs in two columns without the GPX's
-#: descriptions; 3 the profile and the map are drawn smaller.
+#: The condensing steps of a card, never dropping a cue or the organiser's words on
+#: it (a waypoint's description may be "brake before the hairpins"): 1 a descent's
+#: notes become its symbols and one line; 2 the cue sheet runs in two columns (A4);
+#: 3 the profile and the map are drawn smaller.
 CONDENSE_STEPS = 3
 #: A card's variants in the order they are tried, as (condensing step, route map on
 #: the card): first each step within the page budget; then the most condensed again,
