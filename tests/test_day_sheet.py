@@ -164,3 +164,11 @@ def test_every_number_of_the_day_sheet_comes_from_the_plans(site):
         assert _t(row["sweep"]) == (max(pace, leaves) + timedelta(microseconds=500_000)).replace(
             microsecond=0
         )
+
+
+def test_the_index_links_the_day_sheet(demo_site):
+    """An organiser found the day sheet only by its file name: the index links it."""
+    _, out, _ = demo_site
+    index = (out / "index.html").read_text()
+    for name in ("day-sheet.pdf", "day-sheet.csv"):
+        assert f'href="{name}"' in index and (out / name).is_file()
