@@ -49,7 +49,12 @@ LIMITS: dict[str, Limit] = {
     "cp_w": Limit(10, 700, "W", help="critical power"),
     "w_prime_kj": Limit(0.5, 60, "kJ", 1000.0, "work capacity above CP"),
     "flat_w": Limit(1, 2000, "W", help="power on flats"),
-    "climb_w": Limit(1, 2000, "W", help="power on climbs"),
+    "climb_w": Limit(
+        1,
+        2000,
+        "W",
+        help="power on climbs: the most the pacing plan asks on any climb (unset: up to CP × (1 + `climb_share`))",
+    ),
     "climb_share": Limit(0, 0.5, help="largest share above CP on climbs"),
     "target_kmh": Limit(1, 60, "km/h", 1 / KMH_PER_MS, "climbing speed for the watts column"),
     "assist_between_climbs": Limit(0, 10, help="assist level away from climbs (0 = off)"),
