@@ -127,6 +127,26 @@ def test_human_table(cli):
     assert "energy spent riding about" in out and "food about" not in out
 
 
+def test_the_table_prints_the_figures_of_its_notes(cli):
+    """One figure everywhere: a new user read "W@target 152 W" beside "the target speed
+    takes 150 W", "max 13.6%" beside "steepest ... at 13.5 %" and "coasting 55 km/h"
+    beside "coasting would reach 54.5 km/h" in one printout of a handcyclist."""
+    import re
+
+    code, out, err = cli("route", str(SAMPLES / "hill-loop.gpx"), "--vehicle", "handcycle")
+    assert code == 0, err
+    lines = out.splitlines()
+    climb = next(line for line in lines if re.match(r"\s*1\s+\d", line) and "hard" in line)
+    takes = re.search(r"the target speed takes (\d+ W)", out).group(1)
+    steepest = re.search(r"steepest \d+ m at ([\d.]+ %)", out).group(1)
+    assert f" {takes} " in climb and f" {steepest} " in climb
+    descent = next(line for line in lines if re.match(r"\s*1\s+\d", line) and "from gravity" in line)
+    coasting = re.search(r"coasting would reach ([\d.]+ km/h)", out)
+    assert coasting is not None  # the handcycle's cap (35 km/h) is below its coasting speed here
+    assert f" {coasting.group(1)} " in descent
+    assert re.search(r"CP of (\d+) W", out).group(1) in out.splitlines()[1]  # the header's CP
+
+
 @pytest.mark.parametrize(
     "args, fragment",
     [

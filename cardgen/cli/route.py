@@ -59,7 +59,22 @@ def _route_plan(args):
     return plan_route(read_gpx(args.gpx), [rider], conditions, where=str(args.gpx)).plans[0]
 
 
+def _speed(kmh):
+    """A speed of the JSON (km/h) as the notes and the card print it (to 0.5 km/h)."""
+    from cardgen.render import format as fmt
+
+    return fmt.speed(None if kmh is None else kmh / KMH_PER_MS)
+
+
+def _grade(pct):
+    """A grade of the JSON (percent) as the notes and the card print it (to 0.5 %)."""
+    from cardgen.render import format as fmt
+
+    return fmt.grade(None if pct is None else pct / 100)
+
+
 def cmd_route(args) -> int:
+    from cardgen.render import format as fmt
     from cardgen.render.exports import route_json
     from cardgen.render.format import duration
     from cardgen.render.notices import notice_text
@@ -84,12 +99,12 @@ def cmd_route(args) -> int:
     _print(f"Pacing: {e.style}, mean {e.mean_power:.0f} W ({e.mean_power / rider.cp:.0%} of CP{assumed})")
     _print()
     if data["climbs"]:
-        _print(" #   km        length  gain  avg   max   FIETS band       W@target  km/h  time")
+        _print(" #   km        length  gain     avg    max  FIETS band       W@target  km/h  time")
         for i, c in enumerate(data["climbs"], 1):
             _print(
                 f"{i:2}  {_n(c['start_km'], '5.1f')}-{_n(c['end_km'], '<5.1f')} {_n(c['length_m'], '6.0f')} m {_n(c['gain_m'], '4.0f')}m "
-                f"{_n(c['avg_grade_pct'], '4.1f')}% {_n(c['max_grade_pct'], '4.1f')}% {_n(c['score'], '5.2f')} "
-                f"{c['band']:<10} {_n(c['power_for_target_w'], '6.0f')} W {_n(c['speed_at_effort_kmh'], '5.1f')} "
+                f"{_grade(c['avg_grade_pct']):>6} {_grade(c['max_grade_pct']):>6} {_n(c['score'], '5.2f')} "
+                f"{c['band']:<10} {fmt.power(c['power_for_target_w']):>8} {_n(c['speed_at_effort_kmh'], '5.1f')} "
                 f"{duration(c['time_s']):>5}"
             )
             if c["rider_difficulty"]:
@@ -102,11 +117,11 @@ def cmd_route(args) -> int:
         _print("No climbs.")
     _print()
     if data["descents"]:
-        _print(" #   km          drop  avg     coasting   gravity")
+        _print(" #   km          drop  avg       coasting   gravity")
         for i, d in enumerate(data["descents"], 1):
             _print(
-                f"{i:2}  {_n(d['start_km'], '5.1f')}-{_n(d['end_km'], '<5.1f')} {_n(d['drop_m'], '5.0f')} m {_n(d['avg_grade_pct'], '5.1f')}% "
-                f"{_n(d['coast_speed_kmh'], '6.0f')} km/h {_n(d['gravity_power_w'], '6.0f', -1)} W from gravity"
+                f"{i:2}  {_n(d['start_km'], '5.1f')}-{_n(d['end_km'], '<5.1f')} {_n(d['drop_m'], '5.0f')} m {_grade(d['avg_grade_pct']):>7} "
+                f"{_speed(d['coast_speed_kmh']):>10} {_n(d['gravity_power_w'], '6.0f', -1)} W from gravity"
             )
             for w in d["warnings"]:
                 _print(f"      ! {w['text']}")

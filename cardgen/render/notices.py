@@ -72,7 +72,7 @@ _WORDS: dict[str, Callable[[Notice, str], str]] = {
         f"{fmt.duration(n.value('time'))} on this climb; plan rests and drink"
     ),
     "over-cp": lambda n, units: (
-        f"the target speed takes {fmt.power(n.value('power'))}, above this rider's CP of {fmt.power(n.value('cp'))}; "
+        f"the target speed takes {fmt.power(n.value('power'))}, above this rider's CP of {n.value('cp'):.0f} W; "
         f"at CP expect about {fmt.speed(n.value('speed'), units, 'down')}"
     ),
     "traction": lambda n, units: (
