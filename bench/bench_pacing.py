@@ -31,14 +31,13 @@ from bench_route import OUT, make_route  # noqa: E402
 
 from cardgen.io.gpx import read_gpx  # noqa: E402
 from cardgen.physics.atmosphere import Conditions  # noqa: E402
-from cardgen.physics.braking import braking  # noqa: E402
 from cardgen.physics.effort import effort_power  # noqa: E402
 from cardgen.plan import analyse, make_plan  # noqa: E402
 from cardgen.plan import rider as plan_rider  # noqa: E402
 from cardgen.plan.assist_levels import assist_ratio  # noqa: E402
 from cardgen.plan.model import Effort  # noqa: E402
 from cardgen.plan.pacing import Course, ceiling, pace, ridden_mean  # noqa: E402
-from cardgen.plan.rider import segment_air, speed_caps  # noqa: E402
+from cardgen.plan.rider import segment_air  # noqa: E402
 from cardgen.profiles.riders import Rider  # noqa: E402
 from cardgen.profiles.vehicles import builtin_vehicles  # noqa: E402
 from cardgen.route.terrain import build_terrain  # noqa: E402
@@ -51,18 +50,10 @@ RIDERS = {
 
 
 def _course(analysis, rider, conditions=None):
+    """The course as the plan builds it (no motor), in still air by default."""
     terrain = analysis.terrain
     wind, rho = segment_air(terrain, conditions or Conditions())
-    return Course(
-        step=terrain.step,
-        grade=terrain.grade,
-        headwind=wind,
-        air_density=rho,
-        distance=terrain.distance,
-        speed_cap=speed_caps(terrain, rider),
-        deceleration=braking(terrain.grade),
-        resistance=rider.vehicle.resistance,
-    )
+    return plan_rider._course(terrain, rider, wind, rho, None, None)
 
 
 def _heuristic(analysis, course, rider, flat):

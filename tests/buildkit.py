@@ -1,4 +1,4 @@
-"""Helpers shared by the build and failure tests."""
+"""Helpers shared by the build, print and failure tests."""
 
 from __future__ import annotations
 
@@ -7,6 +7,7 @@ import hashlib
 import subprocess
 import sys
 import time
+from collections import Counter
 from pathlib import Path
 
 
@@ -63,3 +64,19 @@ def serving(*args: str):
         proc.terminate()
         proc.wait(timeout=10)
         proc.stdout.close()
+
+
+def font_sizes(pdf: Path) -> Counter:
+    """Effective font sizes [pt] of the text on a PDF's pages, counted by characters
+    (pypdf's text visitor: the font size × the text and current matrices' scale)."""
+    from pypdf import PdfReader
+
+    sizes: Counter = Counter()
+    for page in PdfReader(pdf).pages:
+
+        def visit(text, cm, tm, font, size):
+            if text.strip():
+                sizes[round(size * (abs(tm[3] * cm[3]) or 1.0), 1)] += len(text.strip())
+
+        page.extract_text(visitor_text=visit)
+    return sizes

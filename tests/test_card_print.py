@@ -8,10 +8,10 @@ from __future__ import annotations
 import re
 import shutil
 import subprocess
-from collections import Counter
 from pathlib import Path
 
 import pytest
+from buildkit import font_sizes
 from gpxmaker import long_route
 from pypdf import PdfReader
 
@@ -66,18 +66,6 @@ def _bbox_words(pdf: Path):
     return words, sizes
 
 
-def _font_sizes(pdf: Path) -> Counter:
-    sizes: Counter = Counter()
-    for page in PdfReader(pdf).pages:
-
-        def visit(text, cm, tm, font, size):
-            if text.strip():
-                sizes[round(size * (abs(tm[3] * cm[3]) or 1.0), 1)] += len(text.strip())
-
-        page.extract_text(visitor_text=visit)
-    return sizes
-
-
 def test_page_budget(printed):
     """Two pages (a sheet) on A5 and A4, four for the pocket strip and large print;
     when the cues move to the continuation sheet, one more whole sheet."""
@@ -100,7 +88,7 @@ def test_type_sizes(printed):
     (14 pt in large print): the size most characters are set in."""
     case, _, cards = printed
     for card in cards:
-        sizes = _font_sizes(card)
+        sizes = font_sizes(card)
         assert min(sizes) >= 7.5 - 0.05, (card.name, sorted(sizes.items())[:4])
         body = sizes.most_common(1)[0][0]
         assert body >= (14 if "large" in case else 9) - 0.05, (card.name, sizes.most_common(3))

@@ -13,8 +13,7 @@ import subprocess
 import numpy as np
 import pytest
 from gpxmaker import profile_gpx
-from scipy.optimize import brentq
-from test_walking import FIRST_FOOT, LAST_TOP, pitched_climb
+from test_walking import FIRST_FOOT, LAST_TOP, pitched_climb, steady_speed
 
 from cardgen.plan.difficulty import CRAWL_SPEED, climb_words
 
@@ -45,24 +44,6 @@ def test_words_from_the_plan():
     assert climb_words("easy", cp=100, rider_power=90, walked=0, speed=part, step=10) == ()
 
 
-def _steady_speed(power, grade, vehicle):
-    """Speed [m/s] at which ``power`` at the cranks holds ``grade`` in still air: the
-    steady power balance of Martin et al. (1998), J. Appl. Biomech. 14:276–291
-    (rolling, bearings after Dahn et al. 1991, gravity, air at 1.225 kg/m³, ISO 2533),
-    root by brentq."""
-    theta = np.arctan(grade)
-
-    def surplus(v):
-        wheel = (
-            v * vehicle.mass * 9.80665 * (vehicle.crr * np.cos(theta) + np.sin(theta))
-            + v * (0.091 + 0.0087 * v)
-            + 0.5 * 1.225 * vehicle.cda * v**3
-        )
-        return power * vehicle.efficiency - wheel
-
-    return brentq(surplus, 1e-6, 30.0)
-
-
 def test_route_json_gives_the_words_beside_the_band(cli, tmp_path):
     """The handcycle (CP 86 W by its default rider) holds under 4 km/h on 9 % at CP by
     the power balance itself: the plan crawls, and ``route`` says so beside "easy"."""
@@ -70,7 +51,7 @@ def test_route_json_gives_the_words_beside_the_band(cli, tmp_path):
     from cardgen.profiles.vehicles import find_vehicle
 
     hand = Rider.for_vehicle(find_vehicle("handcycle"))
-    assert _steady_speed(hand.cp, GRADE, hand.vehicle) < CRAWL_SPEED
+    assert steady_speed(hand.cp, GRADE, hand.vehicle) < CRAWL_SPEED
     gpx = ramp(tmp_path / "ramp.gpx")
     code, data, err = cli(
         "route", str(gpx), "--vehicle", "handcycle", "--pacing", "best", "--json", parse_json=True

@@ -3,10 +3,10 @@
 import re
 import shutil
 import subprocess
-from collections import Counter
 from pathlib import Path
 
 import pytest
+from buildkit import font_sizes
 from pypdf import PdfReader
 
 from cardgen.build import build_site
@@ -35,20 +35,6 @@ def _site(tmp_path: Path, site: str) -> Path:
 def _page_size_mm(pdf: Path):
     box = PdfReader(pdf).pages[0].mediabox
     return float(box.width) * 25.4 / 72, float(box.height) * 25.4 / 72
-
-
-def _font_sizes(pdf: Path) -> Counter:
-    """Effective font sizes [pt] of the text on a PDF's pages, counted by characters."""
-    sizes = Counter()
-    for page in PdfReader(pdf).pages:
-
-        def visit(text, cm, tm, font, size):
-            scale = abs(tm[3] * cm[3]) or 1.0
-            if text.strip():
-                sizes[round(size * scale, 1)] += len(text.strip())
-
-        page.extract_text(visitor_text=visit)
-    return sizes
 
 
 @needs_poppler
@@ -80,9 +66,9 @@ def test_card_sizes(tmp_path, size, mm):
 
 
 def test_large_print_body_is_at_least_14_pt(tmp_path):
-    normal = _font_sizes(_site(tmp_path / "n", "large_print = false") / "hill-loop" / "rider.pdf")
+    normal = font_sizes(_site(tmp_path / "n", "large_print = false") / "hill-loop" / "rider.pdf")
     large_pdf = _site(tmp_path / "l", "large_print = true") / "hill-loop" / "rider.pdf"
-    large = _font_sizes(large_pdf)
+    large = font_sizes(large_pdf)
     # the body: the size that carries most of the text (cautions included on large print)
     assert large.most_common(1)[0][0] >= 14
     assert normal.most_common(1)[0][0] < 14

@@ -11,6 +11,7 @@ import subprocess
 from pathlib import Path
 
 import pytest
+from buildkit import font_sizes
 from gpxmaker import long_route
 from pypdf import PdfReader
 
@@ -57,20 +58,6 @@ def _fill(pdf: Path, top_mm: float, bottom_mm: float) -> list[float]:
     ]
 
 
-def _font_sizes(pdf: Path) -> dict[float, int]:
-    """Characters by effective font size [pt] (pypdf's text visitor: size × text matrix)."""
-    sizes: dict[float, int] = {}
-    for page in PdfReader(pdf).pages:
-
-        def visit(text, cm, tm, font, size):
-            if text.strip():
-                key = round(size * (abs(tm[3] * cm[3]) or 1.0), 1)
-                sizes[key] = sizes.get(key, 0) + len(text.strip())
-
-        page.extract_text(visitor_text=visit)
-    return sizes
-
-
 def _cards(folder: Path) -> list[Path]:
     return sorted(p for p in folder.glob("*.pdf") if p.stem not in ("coach", "all-cards", "all-cards-2up"))
 
@@ -86,7 +73,7 @@ def test_nothing_the_demo_prints_is_below_7_5_pt(demo_site):
     names = {p.name for p in pdfs}
     assert {"coach.pdf", "day-sheet.pdf", "all-cards.pdf", "all-cards-2up.pdf"} <= names and len(pdfs) > 30
     for pdf in pdfs:
-        sizes = _font_sizes(pdf)
+        sizes = font_sizes(pdf)
         assert sizes and min(sizes) >= 7.5 - 0.05, (pdf.relative_to(out), sorted(sizes.items())[:3])
 
 

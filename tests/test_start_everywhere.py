@@ -10,6 +10,7 @@ import subprocess
 from pathlib import Path
 
 import pytest
+from buildkit import font_sizes
 
 from cardgen.build import build_site
 from cardgen.config import load_config
@@ -103,21 +104,7 @@ def test_the_start_is_on_the_card_cover_coach_sheet_pages_and_plan_json(built):
 
 def test_the_coach_sheet_and_cover_print_nothing_below_7_5_pt(built):
     """Read back from the PDFs (pypdf's text visitor: font size × text matrix)."""
-    from pypdf import PdfReader
-
-    def _font_sizes(pdf: Path) -> dict:
-        sizes: dict = {}
-        for page in PdfReader(pdf).pages:
-
-            def visit(text, cm, tm, font, size):
-                if text.strip():
-                    key = round(size * (abs(tm[3] * cm[3]) or 1.0), 1)
-                    sizes[key] = sizes.get(key, 0) + len(text.strip())
-
-            page.extract_text(visitor_text=visit)
-        return sizes
-
     _, site = built
     for pdf in (site / "riverside-loop" / "coach.pdf", site / "riverside-loop" / "all-cards.pdf"):
-        sizes = _font_sizes(pdf)
+        sizes = font_sizes(pdf)
         assert sizes and min(sizes) >= 7.5 - 0.05, (pdf.name, sorted(sizes.items())[:4])

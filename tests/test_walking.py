@@ -87,7 +87,7 @@ def test_coasting_is_never_walking():
     assert not _mask(np.full(50, 1.0), power=np.zeros(50)).any()
 
 
-def _steady_speed(power, grade, vehicle):
+def steady_speed(power, grade, vehicle):
     """Speed [m/s] at which ``power`` at the pedals holds ``grade``: the steady power
     balance of Martin, Milliken, Cobb, McFadden & Coggan (1998), J. Appl. Biomech.
     14:276–291 (rolling, wheel bearings after Dahn et al. 1991, gravity, still air at
@@ -113,7 +113,7 @@ def test_the_pitched_climb_is_one_walk_for_a_weak_tandem(cli, tmp_path):
     from cardgen.profiles.vehicles import find_vehicle
 
     tandem = find_vehicle("tandem")
-    assert _steady_speed(141.0, STEEP, tandem) < BALANCE < _steady_speed(141.0, EASY, tandem)
+    assert steady_speed(141.0, STEEP, tandem) < BALANCE < steady_speed(141.0, EASY, tandem)
     gpx = pitched_climb(tmp_path / "pitched.gpx")
     code, data, err = cli("route", str(gpx), "--vehicle", "tandem", "--cp", "141", "--json", parse_json=True)
     assert code == 0, err
