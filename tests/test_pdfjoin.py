@@ -181,3 +181,18 @@ def test_names_and_strings_keep_their_escapes():
     with pikepdf.open(io.BytesIO(sink.getvalue())) as out:
         assert str(out.pages[0].obj["/Odd Key"]) == "a (b) \\ c"
         assert str(out.docinfo["/Title"]) == "t (1)"
+
+
+def test_a_page_of_several_content_streams_is_drawn_whole_on_its_sheet(tmp_path):
+    """Content split over two streams (qpdf then makes the form): both parts drawn."""
+    pdf = _doc("w", 1)
+    page = pdf.pages[0].obj
+    page.Contents = pikepdf.Array(
+        [pdf.make_stream(b"BT /F1 12 Tf 72 300 Td"), pdf.make_stream(b"(w/1) Tj ET")]
+    )
+    cover = io.BytesIO()
+    _doc("cover", 1).save(cover)
+    entry = PackEntry("W", 1, "", "route", _save(pdf, tmp_path / "w.pdf"))
+    sink = io.BytesIO()
+    write_two_up(cover.getvalue(), [entry], sink, "all-cards-2up")
+    assert _sheets(sink.getvalue()) == [("cover/1", "w/1"), ("", "")]

@@ -110,8 +110,6 @@ def write_two_up(cover: bytes, entries: Sequence[PackEntry], sink: BinaryIO, tit
 
 def _two_up_pair(writer: PageWriter, left, right) -> None:
     """The sheets of two cards (``right`` None for a card left alone)."""
-    import pikepdf
-
     counts = [len(pdf.pages) if pdf is not None else 0 for pdf in (left, right)]
     length = max(n + n % 2 for n in counts)
     width, height = A4_LANDSCAPE
@@ -121,8 +119,7 @@ def _two_up_pair(writer: PageWriter, left, right) -> None:
         for slot, side in enumerate(order):
             pdf = (left, right)[side]
             if i < counts[side]:  # fixed names, so the same input gives the same bytes
-                form = pikepdf.Page(pdf.pages[i]).as_form_xobject()
-                forms.append((f"/P{slot}", form if form.is_indirect else pdf.make_indirect(form), pdf))
+                forms.append((f"/P{slot}", pdf.pages[i], pdf))
                 ops.append(f"q 1 0 0 1 {slot * A5[0]:.2f} 0 cm /P{slot} Do Q")
         ops.append(
             f"q 0.5 w 0 G {width / 2:.2f} 0 m {width / 2:.2f} {MARK:.2f} l S "

@@ -18,6 +18,7 @@ the bytes before the trailer, so the same input gives the same file.
 
 from __future__ import annotations
 
+import functools
 import hashlib
 import zlib
 from array import array
@@ -76,10 +77,9 @@ class PageWriter:
 
     def add_sheet(self, size: tuple[float, float], forms: list[tuple[str, Any, Any]], content: str) -> None:
         """A page of ``size`` whose ``content`` (page description operators) draws
-        ``forms``: (name, form XObject, its source) each, under ``/XObject``."""
-        refs = []
-        for name, form, source in forms:
-            refs.append(b"%s %s" % (_name(name), self._ref(form, source)))
+        pages as form XObjects (:meth:`_form`): ``forms`` are (name under
+        ``/XObject``, page, its source) each."""
+        refs = [b"%s %s" % (_name(name), self._form(page, source)) for name, page, source in forms]
         stream = content.encode("ascii")
         contents = self._new()
         self._object(contents, b"<< /Length %d >>\nstream\n%s\nendstream" % (len(stream), stream))
@@ -91,6 +91,32 @@ class PageWriter:
             % (_box(size), b" ".join(refs), contents),
         )
         self._drain()
+
+    def _form(self, page, source) -> bytes:
+        """A reference to ``page`` of ``source`` drawn as a form XObject (ISO 32000-1
+        §8.10): its content stream as stored (not decoded), its resources, and its
+        trim box (else crop box, else media box) as the form's bounding box, as
+        qpdf's form of a page has. A page of several content streams or turned
+        (/Rotate) is left to qpdf (``as_form_xobject``)."""
+        import pikepdf
+
+        entries = self._page_dict(page.obj)
+        contents = entries.get("/Contents")
+        if contents is None or not _is(contents, "stream") or entries.get("/Rotate", 0) % 360:
+            form = pikepdf.Page(page).as_form_xobject()
+            return self._ref(form if form.is_indirect else source.make_indirect(form), source)
+        box = next(entries[k] for k in ("/TrimBox", "/CropBox", "/MediaBox") if k in entries)
+        head = [("/Type", pikepdf.Name.XObject), ("/Subtype", pikepdf.Name.Form), ("/BBox", box)]
+        head += [(k, entries[k]) for k in ("/Resources",) if k in entries]
+        stored = contents.stream_dict
+        head += [(k, stored.get(k)) for k in ("/Filter", "/DecodeParms") if k in stored]
+        data = contents.read_raw_bytes()
+        number = self._new()
+        self._object(
+            number,
+            b"<< %s /Length %d >>\nstream\n%s\nendstream" % (self._entries(head, source), len(data), data),
+        )
+        return b"%d 0 R" % number
 
     def forget(self, source) -> None:
         """Drop the numbering of ``source`` (call it before closing a source given to
@@ -184,19 +210,23 @@ class PageWriter:
             return b"null"
         if not top and value.is_indirect:
             return self._ref(value, source)
+        text = bytes(value.unparse(resolved=True))
+        if b" R" not in text:  # nothing inside refers to another object: qpdf's own syntax
+            return text
         if _is(value, "dictionary"):
             page = value.get("/Type") == "/Page"  # a page that is not copied: no tree
             items = [(k, value.get(k)) for k in value.keys() if not (page and k == "/Parent")]
             return b"<< %s >>" % self._entries(items, source)
         if _is(value, "array"):
             return b"[ %s ]" % b" ".join(self._direct(v, source) for v in value)
-        return bytes(value.unparse())  # a name or a string
+        return text  # a name or a string
 
 
 def _is(obj, kind: str) -> bool:
     return getattr(obj, "_type_name", "") == kind
 
 
+@functools.lru_cache(maxsize=4096)
 def _name(key: str) -> bytes:
     import pikepdf
 
