@@ -5,7 +5,7 @@ from __future__ import annotations
 import argparse
 import sys
 
-from cardgen.cli.build import _say_config, _site_config
+from cardgen.cli.build import _say_config, _site_config, output_folder
 from cardgen.cli.common import _print
 from cardgen.errors import CardgenError
 
@@ -37,7 +37,7 @@ def cmd_check(args) -> int:
     from cardgen.io.gpx import read_gpx
     from cardgen.plan import plan_route
 
-    config, _ = _site_config(args.site)
+    config, demo = _site_config(args.site)
     _say_config(config)
     problems = []
     for route in config.routes:
@@ -82,7 +82,7 @@ def cmd_check(args) -> int:
     _print_waves(config)
     if problems:
         raise CardgenError("\n  ".join([f"{plural(len(problems), 'route problem')}:"] + problems))
-    _print("configuration and routes are fine; nothing was written")
+    _print(f"configuration and routes are fine; nothing was written (a build writes to {output_folder(config, demo)})")
     return 0
 
 
