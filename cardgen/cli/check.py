@@ -82,7 +82,9 @@ def cmd_check(args) -> int:
     _print_waves(config)
     if problems:
         raise CardgenError("\n  ".join([f"{plural(len(problems), 'route problem')}:"] + problems))
-    _print(f"configuration and routes are fine; nothing was written (a build writes to {output_folder(config, demo)})")
+    _print(
+        f"configuration and routes are fine; nothing was written (a build writes to {output_folder(config, demo)})"
+    )
     return 0
 
 

@@ -41,7 +41,9 @@ SCHEMA = {
         "units": Spec("choice", default="metric", choices=UNITS, help="units on pages and cards"),
         "card_size": Spec("choice", default="A5", choices=CARD_SIZES, help="paper of the rider cards"),
         "large_print": Spec("bool", default=False, help="cards in 14 pt type"),
-        "output": Spec("str", default="site", help="output folder, relative to this file (`cardgen check` names it)"),
+        "output": Spec(
+            "str", default="site", help="output folder, relative to this file (`cardgen check` names it)"
+        ),
         "base_url": Spec("url", default="", help="the site's address, for QR codes on cards"),
         "templates": Spec("str", default="", help="a folder of templates that override cardgen's"),
     },
