@@ -90,7 +90,9 @@ def test_the_start_place_of_a_loop_is_not_a_cue_again_at_the_finish(tmp_path):
 
 
 def test_a_place_passed_only_at_the_finish_keeps_its_cue(tmp_path):
-    track, terrain = _square_loop(tmp_path, [(0.0, 30.0, "Lock gate")])  # on the last side, 30 m before the end
+    track, terrain = _square_loop(
+        tmp_path, [(0.0, 30.0, "Lock gate")]
+    )  # on the last side, 30 m before the end
     cues, _ = cue_sheet(terrain, track)
     (gate,) = [c for c in cues if c.text == "Lock gate"]
     assert gate.distance > terrain.length - 100.0
