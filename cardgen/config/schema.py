@@ -121,7 +121,10 @@ SCHEMA = {
         ),
         "start": Spec("time", help='this rider\'s own start, like "08:42"'),
         "bib": Spec("int", limit="bib"),
-        "routes": Spec("list", help="only these routes (GPX file names or route names)"),
+        "routes": Spec(
+            "list",
+            help="only these routes (GPX file names or route names); unset: every route, a ride on each",
+        ),
     },
 }
 TABLE_ARRAYS = {"routes", "riders", "vehicles", "waves"}
