@@ -53,14 +53,19 @@ CASES = {
     # demo day ride's climb 3 under Chk3 was this)
     "summit at a checkpoint": ([12.0, 30.0, 42.6], [("a", 12_400.0), ("b", 28_000.0), ("c", 42_600.0)]),
     # checkpoints a few hundred metres apart, each over a summit
-    "crowded checkpoints": ([20.0, 21.0], [("a", 19_800.0), ("b", 20_100.0), ("c", 20_400.0), ("d", 21_000.0)]),
+    "crowded checkpoints": (
+        [20.0, 21.0],
+        [("a", 19_800.0), ("b", 20_100.0), ("c", 20_400.0), ("d", 21_000.0)],
+    ),
     # summits 2 km apart on a 60 km route (climbs of 5 km meet), no checkpoints
     "crowded summits": ([10.0, 12.0, 14.0, 16.0], []),
 }
 
 
 @pytest.mark.parametrize("case", CASES)
-@pytest.mark.parametrize(("width_in", "height_in", "scale"), [(4.4, 1.67, 1.0), (4.4, 1.1, 1.0), (4.2, 2.6, 1.6)])
+@pytest.mark.parametrize(
+    ("width_in", "height_in", "scale"), [(4.4, 1.67, 1.0), (4.4, 1.1, 1.0), (4.2, 2.6, 1.6)]
+)
 def test_no_label_touches_another(case, width_in, height_in, scale):
     summits, checkpoints = CASES[case]
     terrain, climbs = _route(summits)
