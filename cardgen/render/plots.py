@@ -14,6 +14,7 @@ from __future__ import annotations
 import io
 import logging
 import warnings
+from typing import Any
 
 import numpy as np
 
@@ -234,58 +235,75 @@ def place_profile_labels(fig, ax, summits, checkpoints, top: float, k: float = 1
 
     width, height = fig.get_size_inches() * fig.dpi
     renderer = RendererAgg(width, height, fig.dpi)
-    placed, boxes = [], []
+    placed: list = []
+    boxes: list = []
     for number, x in enumerate(checkpoints, 1):
-        # short, upright labels above the plot; the alt text and tables give the names
-        rise = 0.0
-        while True:
-            label = ax.annotate(
-                f"Chk{number}",
-                (x, top),
-                xytext=(0, rise),
-                textcoords="offset points",
-                fontsize=SMALLEST_PT * k,
-                ha="center",
-                va="bottom",
-                color=INK,
-                annotation_clip=False,
-            )
-            box = _label_box(label, renderer)
-            if rise >= CHECKPOINT_ROWS * SMALLEST_PT * k or not _overlap(box, boxes):
-                break
-            label.remove()
-            rise += SMALLEST_PT * k * 1.4
+        label, box = _checkpoint_label(ax, number, (x, top), k, boxes, renderer)
         placed.append(label)
         boxes.append(box)
-    for number, (x, y) in enumerate(summits, 1):
-        best = None
-        for offset, ha, va in CLIMB_MARK_SPOTS:
-            label = ax.annotate(
-                str(number),
-                (x, y),
-                xytext=(offset[0] * k, offset[1] * k),
-                textcoords="offset points",
-                ha=ha,
-                va=va,
-                fontsize=8 * k,
-                fontweight="bold",
-                color="white",
-                bbox={"boxstyle": "circle,pad=0.25", "facecolor": INK, "edgecolor": "none"},
-                annotation_clip=False,
-            )
-            box = _label_box(label, renderer)
-            touched = _overlap(box, boxes)
-            if best is None or touched < best[0]:
-                if best is not None:
-                    best[1].remove()
-                best = (touched, label, box)
-            else:
-                label.remove()
-            if not touched:
-                break
-        placed.append(best[1])
-        boxes.append(best[2])
+    for number, summit in enumerate(summits, 1):
+        label, box = _climb_mark(ax, number, summit, k, boxes, renderer)
+        placed.append(label)
+        boxes.append(box)
     return placed
+
+
+def _checkpoint_label(ax, number: int, xy, k: float, boxes: list, renderer):
+    """ "Chk<number>" above the plot at ``xy``, risen by a line at a time (at most
+    :data:`CHECKPOINT_ROWS` rows) until it touches none of ``boxes``. Returns the
+    label and its box."""
+    # short, upright labels above the plot; the alt text and tables give the names
+    rise = 0.0
+    while True:
+        label = ax.annotate(
+            f"Chk{number}",
+            xy,
+            xytext=(0, rise),
+            textcoords="offset points",
+            fontsize=SMALLEST_PT * k,
+            ha="center",
+            va="bottom",
+            color=INK,
+            annotation_clip=False,
+        )
+        box = _label_box(label, renderer)
+        if rise >= CHECKPOINT_ROWS * SMALLEST_PT * k or not _overlap(box, boxes):
+            return label, box
+        label.remove()
+        rise += SMALLEST_PT * k * 1.4
+
+
+def _climb_mark(ax, number: int, summit, k: float, boxes: list, renderer):
+    """A climb's number in a dark circle at the first place of
+    :data:`CLIMB_MARK_SPOTS` around its ``summit`` that touches none of ``boxes``
+    (else where it touches least). Returns the label and its box."""
+    best: tuple[float, Any, Any] | None = None
+    for offset, ha, va in CLIMB_MARK_SPOTS:
+        label = ax.annotate(
+            str(number),
+            summit,
+            xytext=(offset[0] * k, offset[1] * k),
+            textcoords="offset points",
+            ha=ha,
+            va=va,
+            fontsize=8 * k,
+            fontweight="bold",
+            color="white",
+            bbox={"boxstyle": "circle,pad=0.25", "facecolor": INK, "edgecolor": "none"},
+            annotation_clip=False,
+        )
+        box = _label_box(label, renderer)
+        touched = _overlap(box, boxes)
+        if best is not None and touched >= best[0]:
+            label.remove()
+            continue
+        if best is not None:
+            best[1].remove()
+        best = (touched, label, box)
+        if not touched:
+            break
+    assert best is not None  # CLIMB_MARK_SPOTS is not empty
+    return best[1], best[2]
 
 
 def _profile_alt(terrain, climbs, checkpoints, units: str, name: str) -> str:
