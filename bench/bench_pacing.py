@@ -52,8 +52,7 @@ RIDERS = {
 def _course(analysis, rider, conditions=None):
     """The course as the plan builds it (no motor), in still air by default."""
     terrain = analysis.terrain
-    wind, rho = segment_air(terrain, conditions or Conditions())
-    return plan_rider._course(terrain, rider, wind, rho, None, None)
+    return plan_rider._course(terrain, rider, segment_air(terrain, conditions or Conditions()), None, None)
 
 
 def _heuristic(analysis, course, rider, flat):
@@ -67,8 +66,7 @@ def _heuristic(analysis, course, rider, flat):
         climb_power=rider.climb_power_used,
         on_climb=on_climb,
         grade=course.grade,
-        headwind=course.headwind,
-        air_density=course.air_density,
+        air=course.air,
         resistance=rider.vehicle.resistance,
     )
 

@@ -43,7 +43,7 @@ def main() -> None:
     track = read_gpx(route)
     analysis = analyse(track, build_terrain(track))
     terrain = analysis.terrain
-    wind, rho = segment_air(terrain, Conditions())
+    air = segment_air(terrain, Conditions())
     on_climb = np.zeros(terrain.grade.size, dtype=bool)
     for c in analysis.climbs:
         on_climb[c.start : c.end] = True
@@ -57,8 +57,7 @@ def main() -> None:
             climb_power=rider.climb_power_used,
             on_climb=on_climb,
             grade=terrain.grade,
-            headwind=wind,
-            air_density=rho,
+            air=air,
             resistance=v.resistance,
         )
         motor = find_motor(v.motor) if v.motor else None
@@ -71,8 +70,8 @@ def main() -> None:
         for _, v, power, motor, ratio, caps in jobs:
             rows = dict(
                 grade=terrain.grade,
-                wind=wind,
-                rho=rho,
+                headwind=air.headwind,
+                air_density=air.air_density,
                 rider=power,
                 ratio=ratio,
                 step=np.full(power.size, terrain.step),
@@ -86,8 +85,7 @@ def main() -> None:
             ride = simulate(
                 step=terrain.step,
                 grade=terrain.grade,
-                headwind=wind,
-                air_density=rho,
+                air=air,
                 resistance=v.resistance,
                 rider_power=power,
                 speed_cap=caps,

@@ -7,6 +7,7 @@ from gpxmaker import profile_gpx
 from cardgen.errors import VehicleError
 from cardgen.io.gpx import read_gpx
 from cardgen.physics.assist import motor_power, taper_factor
+from cardgen.physics.forces import Air
 from cardgen.plan import make_plan
 from cardgen.plan.rider import BATTERY_RESERVE
 from cardgen.profiles.motors import builtin_motors, find_motor
@@ -134,14 +135,12 @@ def test_steady_assisted_speed_near_the_cutoff_matches_a_root_finder(vehicle_nam
     from cardgen.physics.steady import power_for_speed
 
     motor, res = find_motor(motor_name), builtin_vehicles()[vehicle_name].resistance
-    phys = dict(**{**res.steady(), "efficiency": 1.0}, headwind=0.0, air_density=1.2)
+    phys = dict(mass=res.mass, crr=res.crr, cda=res.cda, efficiency=1.0, headwind=0.0, air_density=1.2)
     for ratio in motor.levels:
         for grade in (-0.02, 0.0, 0.01, 0.03, 0.08):
             for rider_w in (60.0, 120.0, 250.0):
                 got = float(
-                    assisted_speed(
-                        motor, ratio, rider_w, resistance=res, grade=grade, headwind=0.0, air_density=1.2
-                    )
+                    assisted_speed(motor, ratio, rider_w, resistance=res, grade=grade, air=Air(0.0, 1.2))
                 )
 
                 def surplus(v, grade=grade, rider_w=rider_w, ratio=ratio):
@@ -182,7 +181,7 @@ def test_within_cp_allows_a_short_pitch_that_w_prime_covers():
     motor = find_motor(vehicle.motor)
     grade = np.full(90, 0.04)
     grade[40:50] = 0.08
-    air = dict(headwind=np.zeros(90), air_density=np.full(90, 1.2))
+    air = dict(air=Air(np.zeros(90), np.full(90, 1.2)))
     target = 10 / 3.6
     ratio = motor.levels[2]  # level 3
     need = rider_power_for_speed(motor, ratio, target, resistance=vehicle.resistance, grade=grade, **air)

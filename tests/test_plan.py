@@ -9,7 +9,7 @@ from gpxmaker import profile_gpx
 
 from cardgen.io.gpx import read_gpx
 from cardgen.physics.effort import sustainable_climb_power
-from cardgen.physics.forces import gravity_power
+from cardgen.physics.forces import Air, gravity_power
 from cardgen.physics.steady import power_for_speed, speed_for_power
 from cardgen.plan import checkpoint_windows, make_plan
 from cardgen.profiles.riders import Rider
@@ -184,8 +184,7 @@ def test_the_safe_climbing_power_is_the_critical_power_model(tmp_path):
         w_prime_left=w_prime,
         step=terrain.step,
         grade=terrain.grade[seg],
-        headwind=0.0,
-        air_density=1.2,
+        air=Air(0.0, 1.2),
         resistance=res,
     )
     assert cp < safe < 260.0

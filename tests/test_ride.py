@@ -6,7 +6,7 @@ import numpy as np
 import pytest
 
 from cardgen.physics.effort import w_prime_balance
-from cardgen.physics.forces import G0, Resistance
+from cardgen.physics.forces import G0, Air, Resistance
 from cardgen.physics.ride import clamp_affine_scan, simulate, speed_limit_profile
 from cardgen.physics.steady import speed_for_power
 
@@ -23,8 +23,7 @@ def _ride(grade, power, cap=None, step=10.0, **kw):
     return simulate(
         step=step,
         grade=grade,
-        headwind=headwind,
-        air_density=rho,
+        air=Air(headwind, rho),
         resistance=Resistance(**params),
         rider_power=np.broadcast_to(power, (n,)),
         speed_cap=np.full(n + 1, np.inf) if cap is None else cap,

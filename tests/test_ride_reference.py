@@ -11,6 +11,7 @@ import pytest
 from scipy.integrate import solve_ivp
 
 from cardgen.physics.assist import motor_power
+from cardgen.physics.forces import Air
 from cardgen.physics.ride import simulate
 from cardgen.profiles.motors import find_motor
 from cardgen.profiles.vehicles import builtin_vehicles
@@ -53,8 +54,7 @@ def _ours(grade, power, vehicle, motor=None, ratio=0.0):
     return simulate(
         step=STEP,
         grade=grade,
-        headwind=0.0,
-        air_density=1.2,
+        air=Air(0.0, 1.2),
         resistance=vehicle.resistance,
         rider_power=power,
         speed_cap=np.full(n + 1, np.inf),

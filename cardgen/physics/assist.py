@@ -20,8 +20,8 @@ from typing import Any
 
 import numpy as np
 
-from cardgen.physics.forces import Resistance
-from cardgen.physics.steady import power_for_speed, speed_for_power
+from cardgen.physics.forces import Air, Resistance
+from cardgen.physics.steady import steady_power, steady_speed
 from cardgen.units import Floats, scalar_or_array
 
 
@@ -113,10 +113,10 @@ def assisted_speed(
     *,
     resistance: Resistance,
     grade: Floats,
-    headwind: Floats,
-    air_density: Floats,
+    air: Air,
 ) -> Floats:
-    """Steady speed [m/s] with the rider's power and assist at ``ratio``.
+    """Steady speed [m/s] with the rider's power and assist at ``ratio``, on ``grade``
+    [-] in ``air``.
 
     Notes
     -----
@@ -129,27 +129,20 @@ def assisted_speed(
     rider_power = np.asarray(rider_power, dtype=float)
     wheel = np.where(rider_power > 0, rider_power * resistance.efficiency, rider_power)
     boost = np.minimum(ratio * np.maximum(rider_power, 0.0), motor.peak_power)
-    phys = dict(
-        **{**resistance.steady(), "efficiency": 1.0},
-        grade=grade,
-        headwind=headwind,
-        air_density=air_density,
-    )
-    full = np.asarray(speed_for_power(wheel + boost, **phys, rtol=1e-6), dtype=float)
+    road: dict[str, Any] = dict(resistance=resistance, grade=grade, air=air, at_wheel=True)
+    full = np.asarray(steady_speed(wheel + boost, **road, rtol=1e-6), dtype=float)
     start = motor.cutoff_speed - motor.taper
     if motor.taper <= 0 or not np.any(full > start):
-        return np.where(full < motor.cutoff_speed, full, speed_for_power(wheel, **phys, rtol=1e-6))[()]
-    alone = np.asarray(speed_for_power(wheel + 0.0 * boost, **phys, rtol=1e-6), dtype=float)
+        return np.where(full < motor.cutoff_speed, full, steady_speed(wheel, **road, rtol=1e-6))[()]
+    alone = np.asarray(steady_speed(wheel + 0.0 * boost, **road, rtol=1e-6), dtype=float)
     lo = np.broadcast_to(np.maximum(alone, start), full.shape).copy()
     hi = np.broadcast_to(np.minimum(full, motor.cutoff_speed), full.shape).copy()
-    shape = np.broadcast(wheel, boost, *(np.asarray(x) for x in (grade, headwind, air_density))).shape
+    shape = np.broadcast(wheel, boost, *(np.asarray(x) for x in (grade, air.headwind, air.air_density))).shape
     wheel_b, boost_b = np.broadcast_to(wheel, shape), np.broadcast_to(boost, shape)
     for _ in range(40):
         mid = 0.5 * (lo + hi)
         surplus = (
-            wheel_b
-            + boost_b * taper_factor(mid, motor.cutoff_speed, motor.taper)
-            - power_for_speed(mid, **phys)
+            wheel_b + boost_b * taper_factor(mid, motor.cutoff_speed, motor.taper) - steady_power(mid, **road)
         )
         lo = np.where(surplus > 0, mid, lo)
         hi = np.where(surplus > 0, hi, mid)
@@ -164,23 +157,17 @@ def rider_power_for_speed(
     *,
     resistance: Resistance,
     grade: Floats,
-    headwind: Floats,
-    air_density: Floats,
+    air: Air,
 ) -> Floats:
-    """Rider's pedal power [W] to hold ``speed`` with assist at ``ratio`` (0 = none).
+    """Rider's pedal power [W] to hold ``speed`` with assist at ``ratio`` (0 = none),
+    on ``grade`` [-] in ``air``.
 
     Notes
     -----
     At the wheel P_need = P_rider·E + min(ratio·P_rider, P_peak)·taper(v); solved for
     P_rider on the branch below the peak, else with the motor at its peak.
     """
-    need = power_for_speed(
-        speed,
-        **{**resistance.steady(), "efficiency": 1.0},
-        grade=grade,
-        headwind=headwind,
-        air_density=air_density,
-    )  # at the wheel
+    need = steady_power(speed, resistance=resistance, grade=grade, air=air, at_wheel=True)
     eff = resistance.efficiency
     if motor is None:
         return np.where(need > 0, need / eff, 0.0)
@@ -200,8 +187,7 @@ def climb_options(
     target_speed: float,
     resistance: Resistance,
     grade: Floats,
-    headwind: Floats,
-    air_density: Floats,
+    air: Air,
     step: float,
     w_prime: float = 0.0,
 ) -> dict[str, np.ndarray]:
@@ -218,12 +204,12 @@ def climb_options(
     segments = [np.arange(start, end) for start, end in climbs]
     idx = np.concatenate(segments)
     starts = np.cumsum([0] + [len(x) for x in segments[:-1]])
-    grade, headwind, air_density = (np.asarray(x, dtype=float)[idx] for x in (grade, headwind, air_density))
+    grade = np.asarray(grade, dtype=float)[idx]
     ratios = np.array([0.0, *motor.levels])[:, None]
-    phys = dict(grade=grade, headwind=headwind, air_density=air_density)
-    wanted = rider_power_for_speed(motor, ratios, target_speed, resistance=resistance, **phys)
+    road: dict[str, Any] = dict(grade=grade, air=air.over(idx))
+    wanted = rider_power_for_speed(motor, ratios, target_speed, resistance=resistance, **road)
     power = np.minimum(wanted, climb_power)
-    speed = np.minimum(assisted_speed(motor, ratios, power, resistance=resistance, **phys), target_speed)
+    speed = np.minimum(assisted_speed(motor, ratios, power, resistance=resistance, **road), target_speed)
     length = step * np.sqrt(1.0 + grade**2)
     with np.errstate(divide="ignore"):
         seconds = np.where(speed > 0, length / speed, np.inf)

@@ -18,10 +18,9 @@ from __future__ import annotations
 
 import numpy as np
 
-from cardgen.physics.atmosphere import SEA_LEVEL_AIR_DENSITY
-from cardgen.physics.forces import Resistance
+from cardgen.physics.forces import Air, Resistance
 from cardgen.physics.ride import UNBOUNDED, clamp_affine_scan
-from cardgen.physics.steady import power_for_speed, speed_for_power
+from cardgen.physics.steady import steady_power, steady_speed
 from cardgen.units import Floats
 
 
@@ -31,8 +30,7 @@ def effort_power(
     climb_power: float,
     on_climb: Floats,
     grade: Floats,
-    headwind: Floats,
-    air_density: Floats,
+    air: Air,
     resistance: Resistance,
 ) -> np.ndarray:
     """Rider power [W] on every segment: the effort model of the module notes.
@@ -41,7 +39,8 @@ def effort_power(
     ----------
     flat_power, climb_power : float [W]
     on_climb : bool array (n,) segments on a climb
-    grade, headwind, air_density : arrays (n,) [-], [m/s], [kg/m³]
+    grade : array (n,) [-]
+    air : Air, headwind and air density per segment
     resistance : Resistance
 
     Returns
@@ -52,22 +51,11 @@ def effort_power(
     -----
     Coasting is at least as fast as the flat speed exactly where, at that speed,
     gravity (and wind) already cover every loss: P(v_flat) ≤ 0 (Martin et al. 1998).
+    The flat speed is the one in still air at the ISA sea-level density.
     """
     power = np.where(np.asarray(on_climb, dtype=bool), climb_power, flat_power).astype(float)
-    steady = resistance.steady()
-    flat_speed = speed_for_power(
-        flat_power, **steady, grade=0.0, headwind=0.0, air_density=SEA_LEVEL_AIR_DENSITY
-    )
-    coasts = (
-        power_for_speed(
-            flat_speed,
-            **{**steady, "efficiency": 1.0},
-            grade=grade,
-            headwind=headwind,
-            air_density=air_density,
-        )
-        <= 0
-    )
+    flat_speed = steady_speed(flat_power, resistance=resistance)
+    coasts = steady_power(flat_speed, resistance=resistance, grade=grade, air=air, at_wheel=True) <= 0
     power[coasts] = 0.0
     return power
 
@@ -79,8 +67,7 @@ def sustainable_climb_power(
     w_prime_left: float,
     step: float,
     grade: Floats,
-    headwind: Floats,
-    air_density: Floats,
+    air: Air,
     resistance: Resistance,
 ) -> float | None:
     """Highest steady power [W] whose work above CP over a climb, (P − CP)·T(P), fits
@@ -89,7 +76,7 @@ def sustainable_climb_power(
     Parameters
     ----------
     cp, climb_power : float [W]; w_prime_left : float [J]; step : float [m] grid step
-    grade, headwind, air_density : arrays over the climb's segments
+    grade : array [-] over the climb's segments; air : Air over them
 
     Notes
     -----
@@ -105,9 +92,7 @@ def sustainable_climb_power(
     length = step * np.sqrt(1.0 + grade**2)  # along the slope
 
     def spent(power: float) -> float:
-        speed = speed_for_power(
-            power, **resistance.steady(), grade=grade, headwind=headwind, air_density=air_density
-        )
+        speed = steady_speed(power, resistance=resistance, grade=grade, air=air)
         return float((power - cp) * np.sum(length / speed))
 
     low, high = cp, max(cp, climb_power)

@@ -290,11 +290,34 @@ class Resistance:
     wheel_inertia_mass: float = 0.0
     bearings: bool = True
 
-    def steady(self) -> dict[str, Any]:
-        """Keyword arguments of :func:`cardgen.physics.steady.power_for_speed`."""
-        return dict(
-            mass=self.mass, crr=self.crr, cda=self.cda, efficiency=self.efficiency, bearings=self.bearings
-        )
+
+@dataclass(frozen=True)
+class Air:
+    """The air a vehicle moves through, in SI units: ``headwind`` [m/s] the wind
+    against the direction of travel (negative: a tailwind) and ``air_density``
+    [kg/m³]. Each is a float or an array with one value per segment, broadcast with
+    the grade. With :class:`Resistance` it is the one argument form of every function
+    above the solver core (:mod:`cardgen.physics.steady`)."""
+
+    headwind: Floats = 0.0
+    air_density: Floats = SEA_LEVEL_AIR_DENSITY
+
+    def over(self, index: slice | np.ndarray | int) -> Air:
+        """The air on the segments ``index`` (a float stays as it is)."""
+        return Air(_take(self.headwind, index), _take(self.air_density, index))
+
+    def mean(self) -> Air:
+        """The mean headwind and air density, as floats."""
+        return Air(float(np.mean(self.headwind)), float(np.mean(self.air_density)))
+
+
+#: Still air at the ISA sea-level density (ISO 2533).
+STILL_AIR = Air()
+
+
+def _take(values: Floats, index: slice | np.ndarray | int) -> Floats:
+    array = np.asarray(values, dtype=float)
+    return values if array.ndim == 0 else scalar_or_array(array[index])
 
 
 @dataclass(frozen=True)
@@ -335,6 +358,19 @@ class ForceLaw:
         cos_a, sin_a = _slope(g)
         const = m * G0 * (c_rr * cos_a + sin_a) + (BEARING_A if bearings else 0.0)
         return cls(0.5 * rho * c_da, const, w, BEARING_B if bearings else 0.0)
+
+    @classmethod
+    def of(cls, resistance: Resistance, *, grade: Floats, air: Air) -> ForceLaw:
+        """The law of a vehicle (:class:`Resistance`) on ``grade`` [-] in ``air``."""
+        return cls.build(
+            mass=resistance.mass,
+            crr=resistance.crr,
+            cda=resistance.cda,
+            grade=grade,
+            headwind=air.headwind,
+            air_density=air.air_density,
+            bearings=resistance.bearings,
+        )
 
     def __call__(self, speed: Floats, idx: Any = None) -> tuple[np.ndarray, np.ndarray]:
         """(F [N], dF/dv [N·s/m]) at ``speed`` for the elements ``idx`` (all when None)."""

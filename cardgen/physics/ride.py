@@ -18,6 +18,7 @@ Blelloch, G. E. (1990). Prefix sums and their applications. CMU-CS-90-190 (the s
 
 from __future__ import annotations
 
+import dataclasses
 import functools
 import math
 from dataclasses import dataclass
@@ -27,6 +28,7 @@ import numpy as np
 
 from cardgen.physics.assist import Motor, motor_power_and_slope
 from cardgen.physics.forces import (
+    Air,
     ForceLaw,
     Resistance,
     aero_power,
@@ -34,7 +36,7 @@ from cardgen.physics.forces import (
     gravity_power,
     rolling_power,
 )
-from cardgen.physics.steady import speed_for_power
+from cardgen.physics.steady import steady_speed
 from cardgen.units import Floats
 
 #: Passes end when no segment's reference speed moves by more than this share …
@@ -196,8 +198,7 @@ def simulate(
     *,
     step: float,
     grade: Floats,
-    headwind: Floats,
-    air_density: Floats,
+    air: Air,
     resistance: Resistance,
     rider_power: Floats,
     speed_cap: Floats,
@@ -215,7 +216,8 @@ def simulate(
     ----------
     step : float [m] horizontal segment length (as on a map); each segment is ridden
         over its slope length step·√(1 + G²)
-    grade, headwind, air_density : arrays (n,) per segment [-], [m/s], [kg/m³]
+    grade : array (n,) per segment [-]
+    air : Air, headwind and air density per segment (floats or arrays (n,))
     resistance : Resistance  mass, Crr, CdA, drivetrain, wheel inertia, bearings
     rider_power : array (n,) [W] the rider's power on each segment
     speed_cap : array (n + 1,) [m/s] limit at each node (descent cap, curves)
@@ -250,8 +252,8 @@ def simulate(
     n = grade.size
     rows = dict(
         grade=grade,
-        wind=np.broadcast_to(np.asarray(headwind, dtype=float), (n,)).copy(),
-        rho=np.broadcast_to(np.asarray(air_density, dtype=float), (n,)).copy(),
+        headwind=np.broadcast_to(np.asarray(air.headwind, dtype=float), (n,)).copy(),
+        air_density=np.broadcast_to(np.asarray(air.air_density, dtype=float), (n,)).copy(),
         rider=np.broadcast_to(np.asarray(rider_power, dtype=float), (n,)).copy(),
         ratio=np.broadcast_to(np.asarray(assist_ratio, dtype=float), (n,)).copy(),
         step=np.full(n, float(step)),
@@ -342,7 +344,7 @@ def _solve(
 
 def _scan(
     rows: dict[str, np.ndarray],
-    res: Resistance,
+    resistance: Resistance,
     motor: Motor | None,
     limit: np.ndarray,
     start_speed: float | None,
@@ -354,22 +356,15 @@ def _scan(
     segment time [s], motor power [W], whether a limit held the speed, passes used.
     ``first_guess`` [m/s] at each node replaces the steady speeds as the first
     reference."""
-    grade, wind, rho, rider, ratio = rows["grade"], rows["wind"], rows["rho"], rows["rider"], rows["ratio"]
+    grade, rider, ratio = rows["grade"], rows["rider"], rows["ratio"]
+    air = Air(rows["headwind"], rows["air_density"])
     n = grade.size
     cos_a = 1.0 / np.sqrt(1.0 + grade * grade)
-    force = ForceLaw.build(
-        mass=res.mass,
-        crr=res.crr,
-        cda=res.cda,
-        grade=grade,
-        headwind=wind,
-        air_density=rho,
-        bearings=res.bearings,
-    )
-    m_e = res.mass + res.wheel_inertia_mass
+    force = ForceLaw.of(resistance, grade=grade, air=air)
+    m_e = resistance.mass + resistance.wheel_inertia_mass
     length = rows["step"] / cos_a  # along the slope
     hi = limit[1:] ** 2
-    wheel_rider = np.where(rider > 0, rider * res.efficiency, rider)
+    wheel_rider = np.where(rider > 0, rider * resistance.efficiency, rider)
     no_motor = np.zeros(n)
 
     def drive(v: np.ndarray) -> tuple[Any, Any]:
@@ -377,19 +372,10 @@ def _scan(
             return no_motor, no_motor
         return motor_power_and_slope(motor, ratio, v, rider, rows["peak"])
 
+    solvable = dataclasses.replace(resistance, cda=max(resistance.cda, 1e-9))
+
     def steady(p_wheel: Floats) -> np.ndarray:
-        v = speed_for_power(
-            p_wheel,
-            mass=res.mass,
-            crr=res.crr,
-            cda=max(res.cda, 1e-9),
-            efficiency=1.0,
-            grade=grade,
-            headwind=wind,
-            air_density=rho,
-            bearings=res.bearings,
-            rtol=1e-4,
-        )
+        v = steady_speed(p_wheel, resistance=solvable, grade=grade, air=air, at_wheel=True, rtol=1e-4)
         return np.asarray(np.minimum(np.nan_to_num(v, nan=1.0, posinf=1.0), limit[1:]))
 
     # First reference: the steady speed of each segment (with the motor at that speed).
@@ -458,7 +444,7 @@ def _scan(
     )
 
 
-def _coarsen(fine: dict[str, Any], boundaries: np.ndarray, res: Resistance) -> dict[str, Any]:
+def _coarsen(fine: dict[str, Any], boundaries: np.ndarray, resistance: Resistance) -> dict[str, Any]:
     """Fine-grid results summed back onto the segments they were cut from."""
     starts = boundaries[:-1]
     time = np.add.reduceat(fine["time"], starts)
@@ -474,9 +460,9 @@ def _coarsen(fine: dict[str, Any], boundaries: np.ndarray, res: Resistance) -> d
     )
 
 
-def _ride(result: dict[str, Any], rows: dict[str, np.ndarray], res: Resistance) -> Ride:
+def _ride(result: dict[str, Any], rows: dict[str, np.ndarray], resistance: Resistance) -> Ride:
     """The Ride of a solved grid: speeds, times, and the power split of each segment."""
-    grade, wind, rho, rider = rows["grade"], rows["wind"], rows["rho"], rows["rider"]
+    grade, rider = rows["grade"], rows["rider"]
     u, time = result["u"], result["time"]
     n = grade.size
     length = rows["step"] * np.sqrt(1.0 + grade * grade)
@@ -484,12 +470,12 @@ def _ride(result: dict[str, Any], rows: dict[str, np.ndarray], res: Resistance) 
     with np.errstate(divide="ignore", invalid="ignore"):
         mean_speed = np.where(np.isfinite(time) & (time > 0), length / time, 0.0)
     motor_w = result["motor"]
-    m_e = res.mass + res.wheel_inertia_mass
-    wheel_rider = np.where(rider > 0, rider * res.efficiency, rider)
-    rolling = np.asarray(rolling_power(mean_speed, res.mass, res.crr, grade))
-    bear = np.asarray(bearing_power(mean_speed) if res.bearings else np.zeros(n))
-    aero = np.asarray(aero_power(mean_speed, res.cda, rho, wind))
-    gravity = np.asarray(gravity_power(mean_speed, res.mass, grade))
+    m_e = resistance.mass + resistance.wheel_inertia_mass
+    wheel_rider = np.where(rider > 0, rider * resistance.efficiency, rider)
+    rolling = np.asarray(rolling_power(mean_speed, resistance.mass, resistance.crr, grade))
+    bear = np.asarray(bearing_power(mean_speed) if resistance.bearings else np.zeros(n))
+    aero = np.asarray(aero_power(mean_speed, resistance.cda, rows["air_density"], rows["headwind"]))
+    gravity = np.asarray(gravity_power(mean_speed, resistance.mass, grade))
     with np.errstate(invalid="ignore", divide="ignore"):
         kinetic = np.where(np.isfinite(time), 0.5 * m_e * (u[1:] - u[:-1]) / time, 0.0)
     drivetrain = rider - wheel_rider

@@ -1,5 +1,14 @@
 """Steady riding: the power for a speed, and the speed for a power.
 
+Two layers. Everything above this module speaks of a vehicle by its
+:class:`~cardgen.physics.forces.Resistance` and of the wind and air by an
+:class:`~cardgen.physics.forces.Air`: :func:`steady_power`, :func:`steady_speed` and
+:func:`steady_terms`. Below them is the solver core, :func:`power_for_speed` and
+:func:`speed_for_power` (with :func:`~cardgen.physics.forces.steady_breakdown`): SI
+keywords, each of them a float or an array, so that a check can vary mass, Crr or
+CdA element by element. Only this module, the tests and the solver benchmark call
+the core.
+
 Vectorised over every argument (numpy broadcasting). Speed for power is solved by a
 safeguarded Newton iteration on the whole array at once (Newton steps that leave the
 current bracket fall back to bisection), so each element converges without a Python
@@ -21,7 +30,15 @@ from typing import Any
 import numpy as np
 
 from cardgen.physics.atmosphere import SEA_LEVEL_AIR_DENSITY
-from cardgen.physics.forces import ForceLaw, steady_breakdown, wheel_power
+from cardgen.physics.forces import (
+    STILL_AIR,
+    Air,
+    Breakdown,
+    ForceLaw,
+    Resistance,
+    steady_breakdown,
+    wheel_power,
+)
 from cardgen.units import Floats
 
 #: First guess for the upper end of the speed bracket [m/s]; doubled until it holds.
@@ -275,3 +292,71 @@ def speed_for_power(
 
     speed[~ok] = np.nan
     return speed.reshape(shape)[()]
+
+
+def _keywords(resistance: Resistance, air: Air, grade: Floats, at_wheel: bool) -> dict[str, Any]:
+    """The solver core's keywords for a vehicle on ``grade`` in ``air``; with
+    ``at_wheel`` the drivetrain is left out (efficiency 1: power at the wheel)."""
+    return dict(
+        mass=resistance.mass,
+        crr=resistance.crr,
+        cda=resistance.cda,
+        efficiency=1.0 if at_wheel else resistance.efficiency,
+        bearings=resistance.bearings,
+        grade=grade,
+        headwind=air.headwind,
+        air_density=air.air_density,
+    )
+
+
+def steady_power(
+    speed: Floats,
+    *,
+    resistance: Resistance,
+    grade: Floats = 0.0,
+    air: Air = STILL_AIR,
+    at_wheel: bool = False,
+) -> Floats:
+    """Power [W] to hold a steady ground speed [m/s]: at the pedals, or at the wheel
+    with ``at_wheel``. :func:`power_for_speed` for a vehicle on ``grade`` [-] in
+    ``air``.
+
+    References
+    ----------
+    Martin et al. (1998), J. Appl. Biomech. 14:276–291.
+    """
+    return power_for_speed(speed, **_keywords(resistance, air, grade, at_wheel))
+
+
+def steady_speed(
+    power: Floats,
+    *,
+    resistance: Resistance,
+    grade: Floats = 0.0,
+    air: Air = STILL_AIR,
+    at_wheel: bool = False,
+    rtol: Floats = _TOL,
+) -> Floats:
+    """Steady ground speed [m/s] at a constant power [W]: at the pedals, or at the
+    wheel with ``at_wheel``. :func:`speed_for_power` for a vehicle on ``grade`` [-]
+    in ``air``; ``rtol`` as there.
+
+    References
+    ----------
+    Martin et al. (1998), J. Appl. Biomech. 14:276–291; Press et al. (2007) §9.4.
+    """
+    return speed_for_power(power, **_keywords(resistance, air, grade, at_wheel), rtol=rtol)
+
+
+def steady_terms(
+    speed: Floats, *, resistance: Resistance, grade: Floats = 0.0, air: Air = STILL_AIR
+) -> Breakdown:
+    """Every term of the steady power balance at a ground speed [m/s]:
+    :func:`~cardgen.physics.forces.steady_breakdown` for a vehicle on ``grade`` [-]
+    in ``air``.
+
+    References
+    ----------
+    Martin et al. (1998), J. Appl. Biomech. 14:276–291.
+    """
+    return steady_breakdown(speed, **_keywords(resistance, air, grade, at_wheel=False))

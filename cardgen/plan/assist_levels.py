@@ -72,8 +72,7 @@ def level_options(course: Course, stretches: Sequence[Stretch], power: np.ndarra
             p,
             resistance=course.resistance,
             grade=course.grade[i],
-            headwind=course.headwind[i],
-            air_density=course.air_density[i],
+            air=course.air.over(i),
         )
         speed = np.minimum(np.nan_to_num(np.asarray(speed, dtype=float), nan=0.0), course.speed_limit[i])
         length = course.step * np.sqrt(1.0 + course.grade[i] ** 2)
@@ -187,8 +186,7 @@ class _Estimate:
             power,
             resistance=course.resistance,
             grade=course.grade,
-            headwind=course.headwind,
-            air_density=course.air_density,
+            air=course.air,
         )
         speed = np.minimum(np.nan_to_num(np.asarray(speed, dtype=float), nan=0.0), course.speed_limit)
         length = course.step * np.sqrt(1.0 + course.grade**2)

@@ -9,7 +9,7 @@ power into a price: minimise Σ tᵢ(Pᵢ)·(Pᵢ + κ), κ > 0 found by bisecti
 the mean power is P̄ (Swain 1997: at equal mean power, more power where the rider is
 slow and less where fast is quicker). The W′ balance is the state of a dynamic
 programme over blocks of the route (Bellman 1957). Times per block come from the
-steady speed at each power (:func:`cardgen.physics.steady.speed_for_power`, or the
+steady speed at each power (:func:`cardgen.physics.steady.steady_speed`, or the
 assisted speed with a motor), capped by the braking envelope of every speed limit;
 the result is ridden again by :func:`cardgen.physics.ride.simulate`, which has the
 inertia the steady times leave out, and the day's mean is matched on that ride.
@@ -43,9 +43,9 @@ import numpy as np
 
 from cardgen.physics.assist import Motor, assisted_speed
 from cardgen.physics.effort import sustainable_power_omni, w_prime_balance
-from cardgen.physics.forces import Resistance
+from cardgen.physics.forces import Air, Resistance
 from cardgen.physics.ride import Ride, simulate, speed_limit_profile
-from cardgen.physics.steady import speed_for_power
+from cardgen.physics.steady import steady_speed
 from cardgen.profiles.riders import PACING_STYLES as RIDER_STYLES
 
 #: Pacing styles: "best" spends W′ where it saves most time; "steady" never goes above
@@ -119,6 +119,11 @@ class Course:
     motor: Motor | None = None
     assist_ratio: np.ndarray | None = None
 
+    @property
+    def air(self) -> Air:
+        """The headwind and air density of every segment, as the physics takes them."""
+        return Air(self.headwind, self.air_density)
+
     @functools.cached_property
     def speed_limit(self) -> np.ndarray:
         """The braking envelope's limit over each segment [m/s] (the lower end's)."""
@@ -139,8 +144,7 @@ class Course:
         return simulate(
             step=self.step,
             grade=self.grade,
-            headwind=self.headwind,
-            air_density=self.air_density,
+            air=self.air,
             resistance=self.resistance,
             rider_power=power,
             speed_cap=self.speed_cap,
@@ -174,11 +178,11 @@ class Course:
     def times(self, powers: np.ndarray) -> np.ndarray:
         """Time [s] on every segment at each steady power: array (levels, n)."""
         p = np.asarray(powers, dtype=float)[:, None]
-        air: dict[str, Any] = dict(grade=self.grade, headwind=self.headwind, air_density=self.air_density)
+        road: dict[str, Any] = dict(resistance=self.resistance, grade=self.grade, air=self.air)
         if self.motor is not None and self.assist_ratio is not None:
-            speed = assisted_speed(self.motor, self.assist_ratio, p, resistance=self.resistance, **air)
+            speed = assisted_speed(self.motor, self.assist_ratio, p, **road)
         else:
-            speed = speed_for_power(p, **self.resistance.steady(), **air, rtol=1e-6)
+            speed = steady_speed(p, **road, rtol=1e-6)
         speed = np.minimum(np.nan_to_num(np.asarray(speed, dtype=float), nan=0.0), self.speed_limit)
         length = self.step * np.sqrt(1.0 + self.grade**2)
         with np.errstate(divide="ignore"):

@@ -9,6 +9,7 @@ vehicle's descent and curve speed limits, braking before them
 from __future__ import annotations
 
 import dataclasses
+from typing import Any
 
 import numpy as np
 
@@ -22,9 +23,9 @@ from cardgen.physics.assist import (
 from cardgen.physics.atmosphere import Conditions, density_along
 from cardgen.physics.braking import braking, curve_speed
 from cardgen.physics.effort import sustainable_climb_power, w_prime_balance
-from cardgen.physics.forces import gravity_power, headwind
+from cardgen.physics.forces import Air, gravity_power, headwind
 from cardgen.physics.ride import Ride
-from cardgen.physics.steady import power_for_speed, speed_for_power
+from cardgen.physics.steady import steady_power, steady_speed
 from cardgen.plan.assist_levels import Stretch, assist_ratio, pace_assisted
 from cardgen.plan.difficulty import CRAWL_LENGTH, CRAWL_SPEED, climb_words
 from cardgen.plan.model import (
@@ -78,10 +79,10 @@ def analyse(track: Track, terrain: Terrain) -> Analysis:
     )
 
 
-def segment_air(terrain: Terrain, conditions: Conditions) -> tuple[np.ndarray, np.ndarray]:
-    """Headwind [m/s] and air density [kg/m³] on every segment."""
+def segment_air(terrain: Terrain, conditions: Conditions) -> Air:
+    """The air on every segment: headwind [m/s] and air density [kg/m³], arrays (n,)."""
     wind = headwind(terrain.heading, conditions.wind_speed, conditions.wind_from)
-    return np.asarray(wind, dtype=float), density_along(terrain.elevation, conditions.temperature)
+    return Air(np.asarray(wind, dtype=float), density_along(terrain.elevation, conditions.temperature))
 
 
 def speed_caps(terrain: Terrain, rider: Rider) -> np.ndarray:
@@ -96,8 +97,7 @@ def _stretches(
     motor: Motor | None,
     climbs: tuple[Climb, ...],
     terrain: Terrain,
-    wind: np.ndarray,
-    rho: np.ndarray,
+    air: Air,
 ) -> list[Stretch]:
     """The stretches an assist level is chosen for (none without a motor): each climb,
     asking for the lowest level that holds the target speed within CP
@@ -115,8 +115,7 @@ def _stretches(
             target_speed=rider.target_speed,
             resistance=rider.vehicle.resistance,
             grade=terrain.grade,
-            headwind=wind,
-            air_density=rho,
+            air=air,
             step=terrain.step,
             w_prime=rider.w_prime,
         )["within_cp"]
@@ -156,21 +155,21 @@ def make_plan(
     terrain = route.terrain
     conditions = conditions or Conditions()
     vehicle = rider.vehicle
-    wind, rho = segment_air(terrain, conditions)
+    air = segment_air(terrain, conditions)
     motor = vehicle.fitted_motor()
-    stretches = _stretches(rider, motor, route.climbs, terrain, wind, rho)
-    effort, ride, chosen = _paced(_course(terrain, rider, wind, rho, motor, None), rider, stretches)
+    stretches = _stretches(rider, motor, route.climbs, terrain, air)
+    effort, ride, chosen = _paced(_course(terrain, rider, air, motor, None), rider, stretches)
     between_level = chosen.pop() if stretches and not stretches[-1].climb else None
     levels = {c.start: level for c, level in zip(route.climbs, chosen, strict=True)} if chosen else {}
     wbal = w_prime_balance(ride.rider_power, ride.time, rider.cp, rider.w_prime)
     walked = walking_mask(terrain.step, ride.time, ride.rider_power, ride.limited, vehicle.min_stable_speed)
 
     climbs = tuple(
-        _climb_row(i + 1, c, terrain, rider, motor, levels.get(c.start), ride, wbal, wind, rho, walked)
+        _climb_row(i + 1, c, terrain, rider, motor, levels.get(c.start), ride, wbal, air, walked)
         for i, c in enumerate(route.climbs)
     )
-    curves = curve_notices(terrain, rider, ride, wind, rho)
-    descents = _descent_rows(route.descents, terrain, rider, ride, wind, rho, curves)
+    curves = curve_notices(terrain, rider, ride, air)
+    descents = _descent_rows(route.descents, terrain, rider, ride, air, curves)
     stops = tuple(sorted((float(d), float(s)) for d, s in stops if s > 0))
     timed = tuple(
         TimedCue(c, arrival_time(terrain.distance, ride.elapsed, stops, c.distance)) for c in route.cues
@@ -208,8 +207,7 @@ def make_plan(
 def _course(
     terrain: Terrain,
     rider: Rider,
-    wind: np.ndarray,
-    rho: np.ndarray,
+    air: Air,
     motor: Motor | None,
     ratio: np.ndarray | None,
 ) -> Course:
@@ -219,8 +217,8 @@ def _course(
     return Course(
         step=terrain.step,
         grade=terrain.grade,
-        headwind=wind,
-        air_density=rho,
+        headwind=np.asarray(air.headwind, dtype=float),
+        air_density=np.asarray(air.air_density, dtype=float),
         distance=terrain.distance,
         speed_cap=speed_caps(terrain, rider),
         deceleration=braking(terrain.grade),
@@ -378,15 +376,14 @@ def _climb_row(
     level: int | None,
     ride: Ride,
     wbal: np.ndarray,
-    wind: np.ndarray,
-    rho: np.ndarray,
+    air: Air,
     walked: np.ndarray,
 ) -> ClimbRow:
     vehicle = rider.vehicle
     segs = slice(climb.start, climb.end)
-    air = dict(grade=terrain.grade[segs], headwind=wind[segs], air_density=rho[segs])
+    road: dict[str, Any] = dict(grade=terrain.grade[segs], air=air.over(segs))
     ratio = 0.0 if not level or motor is None else motor.levels[level - 1]
-    need = rider_power_for_speed(motor, ratio, rider.target_speed, resistance=vehicle.resistance, **air)
+    need = rider_power_for_speed(motor, ratio, rider.target_speed, resistance=vehicle.resistance, **road)
     time = float(np.sum(ride.time[segs]))
     speeds = ride.mean_speed[segs]
     reach = slice(*widened(walked, *_walk_reach(climb, terrain)))
@@ -407,7 +404,7 @@ def _climb_row(
             w_prime_left=before,
             step=terrain.step,
             resistance=vehicle.resistance,
-            **air,
+            **road,
         )
         warnings.append(Notice("w-prime", "warning", (("power", rider_power), ("hold", hold))))
     if slow > 0:
@@ -424,23 +421,14 @@ def _climb_row(
         warnings.append(
             Notice("steep", "caution", (("grade", climb.steepest_grade), ("length", climb.pitch_length)))
         )
-    warnings.extend(_rider_cautions(climb, terrain, rider, motor, ratio, ride, float(np.mean(need)), air))
+    warnings.extend(_rider_cautions(climb, terrain, rider, motor, ratio, ride, float(np.mean(need)), road))
     warnings = [w if w.at is not None else dataclasses.replace(w, at=climb.start_distance) for w in warnings]
     # power needed against speed on the climb's average grade, in its mean wind and air
-    res = vehicle.resistance
+    mean_air = air.over(segs).mean()
 
     def needed(speed: Floats) -> np.ndarray:
         return np.asarray(
-            power_for_speed(
-                speed,
-                mass=res.mass,
-                crr=res.crr,
-                cda=res.cda,
-                efficiency=res.efficiency,
-                grade=climb.avg_grade,
-                headwind=float(np.mean(wind[segs])),
-                air_density=float(np.mean(rho[segs])),
-            )
+            steady_power(speed, resistance=vehicle.resistance, grade=climb.avg_grade, air=mean_air)
         )
 
     curve = needed(CURVE_SPEEDS)
@@ -519,7 +507,7 @@ def _rider_cautions(
     ratio: float,
     ride: Ride,
     need: float,
-    air: dict[str, np.ndarray],
+    road: dict[str, Any],
 ) -> list[Notice]:
     """What this rider on this vehicle should know of a climb beyond the road itself:
     a long crawl on three wheels, a target speed above their CP, traction on a driven
@@ -536,19 +524,13 @@ def _rider_cautions(
             )
     if need > rider.cp * (1 + 1e-9):
         at_cp = (
-            assisted_speed(motor, ratio, rider.cp, resistance=vehicle.resistance, **air)
+            assisted_speed(motor, ratio, rider.cp, resistance=vehicle.resistance, **road)
             if motor
-            else speed_for_power(
-                rider.cp,
-                **vehicle.resistance.steady(),
-                grade=air["grade"],
-                headwind=air["headwind"],
-                air_density=air["air_density"],
-            )
+            else steady_speed(rider.cp, resistance=vehicle.resistance, **road)
         )
         # the climb's average speed at CP: its length over its time (never above the
         # speed the target asks, which CP does not reach)
-        length = terrain.step * np.sqrt(1.0 + air["grade"] ** 2)
+        length = terrain.step * np.sqrt(1.0 + road["grade"] ** 2)
         with np.errstate(divide="ignore"):
             seconds = float(np.sum(length / np.maximum(np.asarray(at_cp, dtype=float), 1e-3)))
         speed = min(float(np.sum(length)) / seconds, rider.target_speed)
@@ -561,9 +543,7 @@ def _rider_cautions(
     return notices
 
 
-def curve_notices(
-    terrain: Terrain, rider: Rider, ride: Ride, wind: np.ndarray, rho: np.ndarray
-) -> list[Notice]:
+def curve_notices(terrain: Terrain, rider: Rider, ride: Ride, air: Air) -> list[Notice]:
     """One "curve" notice for every curve the rider would reach clearly faster than
     the speed v = √(a·R) it allows (FHWA-HRT-04-103, 2004), on or off a descent: where
     the simulated speed (which brakes for the curve) meets that speed and the steady
@@ -577,27 +557,18 @@ def curve_notices(
     Its notice carries ``junction`` = 1."""
     vehicle = rider.vehicle
     cap = curve_speed(vehicle.curve_accel, terrain.curve_radius)
-    free = speed_for_power(
-        np.maximum(ride.rider_power, 0.0),
-        **vehicle.resistance.steady(),
-        grade=terrain.grade,
-        headwind=wind,
-        air_density=rho,
+    resistance = vehicle.resistance
+    free = steady_speed(
+        np.maximum(ride.rider_power, 0.0), resistance=resistance, grade=terrain.grade, air=air
     )
     free = np.minimum(np.nan_to_num(free, nan=0.0), vehicle.max_descent_speed)
     free_at_node = np.concatenate((free, free[-1:])) if free.size else np.zeros(cap.size)
     binding = (cap < CURVE_SLOWDOWN * free_at_node) & (ride.speed >= 0.98 * cap) & (ride.speed > 0)
     junction = _junction_nodes(terrain)
     if junction.any():
-        steady = vehicle.resistance.steady()
-        flat = float(
-            speed_for_power(
-                rider.flat_power, **steady, grade=0.0, headwind=0.0, air_density=float(np.mean(rho))
-            )
-        )
-        coast = np.nan_to_num(
-            speed_for_power(0.0, **steady, grade=terrain.grade, headwind=wind, air_density=rho)
-        )
+        still = Air(0.0, float(np.mean(air.air_density)))
+        flat = float(steady_speed(rider.flat_power, resistance=resistance, air=still))
+        coast = np.nan_to_num(steady_speed(0.0, resistance=resistance, grade=terrain.grade, air=air))
         coast_at_node = np.concatenate((coast[:1], coast))  # the segment that leads to each node
         binding &= ~junction | (coast_at_node >= max(JUNCTION_FAST * flat, JUNCTION_FAST_SPEED))
     nodes = np.flatnonzero(binding)
@@ -636,20 +607,17 @@ def _descent_rows(
     terrain: Terrain,
     rider: Rider,
     ride: Ride,
-    wind: np.ndarray,
-    rho: np.ndarray,
+    air: Air,
     curves: list[Notice],
 ) -> tuple[DescentRow, ...]:
     if not descents:
         return ()
     vehicle = rider.vehicle
     grade = np.array([d.avg_grade for d in descents])
-    mean_wind = np.array([np.mean(wind[d.start : d.end]) for d in descents])
-    mean_rho = np.array([np.mean(rho[d.start : d.end]) for d in descents])
+    means = [air.over(slice(d.start, d.end)).mean() for d in descents]
+    mean_air = Air(np.array([m.headwind for m in means]), np.array([m.air_density for m in means]))
     coasts = np.asarray(
-        speed_for_power(
-            0.0, **vehicle.resistance.steady(), grade=grade, headwind=mean_wind, air_density=mean_rho
-        )
+        steady_speed(0.0, resistance=vehicle.resistance, grade=grade, air=mean_air)
     )  # all descents at once
     rows = []
     for number, (descent, coast) in enumerate(zip(descents, coasts, strict=True), 1):

@@ -4,12 +4,11 @@ speed, with every term of the power balance and the motor's share (``cardgen sol
 from __future__ import annotations
 
 from dataclasses import dataclass
-from typing import Any
 
 from cardgen.physics.assist import Motor, assisted_speed, motor_power, rider_power_for_speed
 from cardgen.physics.atmosphere import air_density_isa
-from cardgen.physics.forces import Resistance, steady_breakdown
-from cardgen.physics.steady import speed_for_power
+from cardgen.physics.forces import Air, Resistance
+from cardgen.physics.steady import steady_speed, steady_terms
 
 
 @dataclass(frozen=True)
@@ -54,25 +53,27 @@ def steady_state(
     ``mass`` [kg], ``crr`` [-], ``cda`` [m²], drivetrain ``efficiency`` [-],
     ``bearings`` (the wheel-bearing term of Dahn et al. 1991); ``grade`` [-],
     ``headwind`` [m/s]; ``air_density`` [kg/m³], else the standard atmosphere's at
-    ``altitude`` [m]; ``motor`` and its assist ``ratio`` (0: off).
+    ``altitude`` [m]; ``motor`` and its assist ``ratio`` (0: off). The command line
+    gives plain SI numbers; they become a :class:`Resistance` and an :class:`Air` here.
     """
     resistance = Resistance(mass=mass, crr=crr, cda=cda, efficiency=efficiency, bearings=bearings)
     if (power is None) == (speed is None):
         raise ValueError("steady_state needs a power or a speed, not both")
-    rho = float(air_density_isa(altitude)) if air_density is None else float(air_density)
-    road: dict[str, Any] = dict(grade=grade, headwind=headwind, air_density=rho)
+    air = Air(headwind, float(air_density_isa(altitude)) if air_density is None else float(air_density))
     assisted = motor is not None and ratio > 0
     if power is not None:
         if assisted:
             assert motor is not None
-            speed = float(assisted_speed(motor, ratio, power, resistance=resistance, **road))
+            speed = float(assisted_speed(motor, ratio, power, resistance=resistance, grade=grade, air=air))
         else:
-            speed = float(speed_for_power(power, **resistance.steady(), **road))
+            speed = float(steady_speed(power, resistance=resistance, grade=grade, air=air))
     assert speed is not None
-    parts = steady_breakdown(speed, **resistance.steady(), **road)
+    parts = steady_terms(speed, resistance=resistance, grade=grade, air=air)
     if power is None:
         if assisted:
-            power = float(rider_power_for_speed(motor, ratio, speed, resistance=resistance, **road))
+            power = float(
+                rider_power_for_speed(motor, ratio, speed, resistance=resistance, grade=grade, air=air)
+            )
         else:
             power = float(parts.total)
     motor_w = float(motor_power(motor, ratio, speed, power)) if motor is not None and assisted else 0.0
@@ -81,7 +82,7 @@ def steady_state(
         speed=speed,
         power=float(power),
         motor_power=motor_w,
-        air_density=rho,
+        air_density=float(air.air_density),
         rolling=float(parts.rolling + parts.bearings),
         aero=float(parts.aero),
         gravity=float(parts.gravity),

@@ -8,7 +8,7 @@ from typing import Any
 
 from cardgen.errors import VehicleError
 from cardgen.physics.assist import rider_power_for_speed
-from cardgen.physics.atmosphere import SEA_LEVEL_AIR_DENSITY
+from cardgen.physics.forces import STILL_AIR
 from cardgen.profiles.limits import LIMITS
 from cardgen.profiles.motors import find_motor
 from cardgen.profiles.vehicles import Vehicle
@@ -180,12 +180,6 @@ def flat_power_for_speed(vehicle: Vehicle, speed: float, assist_level: int = 1) 
         motor = dataclasses.replace(motor, peak_power=min(motor.peak_power, motor.rated_power))
         ratio = motor.levels[assist_level - 1] if assist_level > 0 else 0.0
     watts = rider_power_for_speed(
-        motor,
-        ratio,
-        speed,
-        resistance=vehicle.resistance,
-        grade=0.0,
-        headwind=0.0,
-        air_density=SEA_LEVEL_AIR_DENSITY,
+        motor, ratio, speed, resistance=vehicle.resistance, grade=0.0, air=STILL_AIR
     )
     return max(1.0, float(watts))
