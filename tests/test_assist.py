@@ -105,7 +105,10 @@ def test_a_route_longer_than_the_battery_keeps_the_reserve(tmp_path):
     plan = make_plan(track, terrain, Rider.for_vehicle(vehicle, assist_between_climbs=2))
     budget = plan.motor.usable_battery * (1 - BATTERY_RESERVE)
     ride = plan.ride
-    drawn = np.sum(np.where(ride.motor_power > 0, ride.motor_power * ride.time, 0.0)) / plan.motor.drive_efficiency
+    drawn = (
+        np.sum(np.where(ride.motor_power > 0, ride.motor_power * ride.time, 0.0))
+        / plan.motor.drive_efficiency
+    )
     assert 0 < drawn <= budget and plan.effort.battery_empty_at is None
     assert "battery" not in {w.code for w in plan.warnings}
     assert plan.climbs and min(c.assist_level for c in plan.climbs) < len(plan.motor.levels)
