@@ -23,10 +23,10 @@ ROUTE_CAUTION = (
 def _route_plan(args):
     """Read, analyse and plan one route from the ``route`` command's options."""
     from cardgen.io.gpx import read_gpx
-    from cardgen.physics.atmosphere import Conditions
     from cardgen.plan import plan_route
     from cardgen.profiles.riders import Rider
     from cardgen.profiles.vehicles import find_vehicle
+    from cardgen.settings import Conditions
     from cardgen.units import celsius_to_kelvin, kmh_to_ms
 
     for name in ("power", "target_speed", "wind", "wind_from", "temperature", "cp", "w_prime"):

@@ -23,12 +23,11 @@ from cardgen.config.schema import SCHEMA, SECTIONS
 from cardgen.errors import CardgenError, ConfigError, close_matches
 from cardgen.io.files import read_toml
 from cardgen.io.tables import read_csv
-from cardgen.physics.atmosphere import Conditions
 from cardgen.profiles.limits import LIMITS
 from cardgen.profiles.riders import DEFAULT_ASSIST_LEVEL, Rider, flat_power_for_speed
 from cardgen.profiles.vehicles import Vehicle, vehicles_from_tables
 from cardgen.route.terrain import MAX_ROUTE_LENGTH
-from cardgen.settings import RiderConfig, RouteConfig, SiteConfig, Wave
+from cardgen.settings import Conditions, RiderConfig, RouteConfig, SiteConfig, Wave
 from cardgen.units import KMH_PER_MS, ZERO_CELSIUS_K
 
 
