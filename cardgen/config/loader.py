@@ -38,7 +38,7 @@ def load_config(path: Path) -> SiteConfig:
     return _from_data(data, path, text, path.resolve().parent)
 
 
-def _from_data(data: dict, path: Path | None, text: str, folder: Path) -> SiteConfig:
+def _from_data(data: dict[str, Any], path: Path | None, text: str, folder: Path) -> SiteConfig:
     check = Checker(path, text)
     for key in data:
         if key not in SECTIONS:
@@ -260,7 +260,7 @@ def _duplicates(check: Checker, values: list[tuple[int, Any]], key: str, words: 
             check.problems.append(f"{shown}{more}: {words.format(value)}; give each a different {key}")
 
 
-def _stops(check: Checker, index: int, route: dict) -> tuple[float, ...]:
+def _stops(check: Checker, index: int, route: dict[str, Any]) -> tuple[float, ...]:
     """``stops_min`` of one route, in seconds: numbers in range, one per checkpoint."""
     raw = route.get("stops_min")
     if not raw:
@@ -286,7 +286,7 @@ MAX_KM = MAX_ROUTE_LENGTH / 1000.0
 
 
 def _checkpoints(
-    check: Checker, index: int, route: dict, key: str = "checkpoints"
+    check: Checker, index: int, route: dict[str, Any], key: str = "checkpoints"
 ) -> tuple[str | float, ...]:
     """``checkpoints`` (or ``feeds``, ``marshals``: ``key``) of one route: waypoint
     names, and distances [m] from numbers in km, which must be finite (whether they lie
@@ -306,7 +306,7 @@ def _checkpoints(
     return tuple(out)
 
 
-def _cue_texts(check: Checker, index: int, route: dict) -> tuple[tuple[float, str], ...]:
+def _cue_texts(check: Checker, index: int, route: dict[str, Any]) -> tuple[tuple[float, str], ...]:
     """``cue_texts`` of one route: entries "km = text", the distance in km written as
     :data:`cardgen.config.numbers.FORMAT` says, within 0…:data:`MAX_KM`."""
     out = []
@@ -324,7 +324,7 @@ def _cue_texts(check: Checker, index: int, route: dict) -> tuple[tuple[float, st
     return tuple(out)
 
 
-def _speed_rule(check: Checker, event: dict) -> tuple[float, float] | None:
+def _speed_rule(check: Checker, event: dict[str, Any]) -> tuple[float, float] | None:
     """[event] min_kmh and max_kmh: both or neither, slowest below fastest."""
     slowest, fastest = event.get("min_kmh"), event.get("max_kmh")
     if slowest is None and fastest is None:
@@ -408,7 +408,7 @@ def _site_vehicles(check: Checker, raw: Any) -> dict[str, Vehicle]:
     return found
 
 
-def _route_tables(check: Checker, raw: Any, folder: Path) -> list[dict]:
+def _route_tables(check: Checker, raw: Any, folder: Path) -> list[dict[str, Any]]:
     """[[routes]] tables, or one pattern string: every GPX file it matches. A table's
     ``gpx`` may be a pattern too; a file named by a table of its own takes that
     table's settings wherever a pattern also matched it."""
@@ -417,7 +417,7 @@ def _route_tables(check: Checker, raw: Any, folder: Path) -> list[dict]:
     if not isinstance(raw, list) or not raw:
         check.problems.append(f'{check.path}: no routes; add [[routes]] tables, or routes = "routes/*.gpx"')
         return []
-    explicit: dict[Path, dict] = {}
+    explicit: dict[Path, dict[str, Any]] = {}
     expanded: list[tuple[Path | None, int, Any]] = []
     for i, table in enumerate(raw):
         pattern = table.get("gpx") if isinstance(table, dict) else None
@@ -447,7 +447,7 @@ def _route_tables(check: Checker, raw: Any, folder: Path) -> list[dict]:
     return tables
 
 
-def _rider(check: Checker, i: int, r: dict, routes: tuple[RouteConfig, ...]) -> RiderConfig | None:
+def _rider(check: Checker, i: int, r: dict[str, Any], routes: tuple[RouteConfig, ...]) -> RiderConfig | None:
     """One [[riders]] table as a rider on their vehicle; problems and the model's
     adjustments are recorded on ``check``."""
     vehicle: Vehicle | None = r["vehicle"]
@@ -515,7 +515,7 @@ def _with_assist(vehicle: Vehicle, level: int) -> str:
     return f" with assist level {level}" if level else " with the motor off"
 
 
-def _fitted_vehicle(check: Checker, i: int, r: dict, vehicle: Vehicle) -> Vehicle:
+def _fitted_vehicle(check: Checker, i: int, r: dict[str, Any], vehicle: Vehicle) -> Vehicle:
     """The rider's vehicle with their own body mass, load and battery."""
     changes: dict[str, Any] = {}
     if r["body_mass_kg"] is not None:

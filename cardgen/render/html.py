@@ -5,6 +5,7 @@ from __future__ import annotations
 
 import re
 import unicodedata
+from collections.abc import Callable
 from dataclasses import dataclass
 from datetime import datetime
 from pathlib import Path
@@ -114,7 +115,9 @@ class ThemeLoader(jinja2.FileSystemLoader):
         super().__init__(searchpath)
         self.own = None if own is None else Path(own).resolve()
 
-    def get_source(self, environment: jinja2.Environment, template: str) -> tuple:
+    def get_source(
+        self, environment: jinja2.Environment, template: str
+    ) -> tuple[str, str, Callable[[], bool]]:
         source, filename, uptodate = super().get_source(environment, template)
         real = Path(filename).resolve()
         if not any(Path(root).resolve() in real.parents for root in self.searchpath):

@@ -14,6 +14,7 @@ from __future__ import annotations
 import io
 import logging
 import warnings
+from typing import Any
 
 import numpy as np
 
@@ -142,7 +143,7 @@ def elevation_profile(
     # one compound path per grade band (a handful of SVG elements, not one per run: the
     # renderer's time goes with their number); edges in the face colour hide the
     # hairline seams between neighbouring runs
-    by_band: dict = {}
+    by_band: dict[tuple[float, float, float, float], list[Any]] = {}
     for poly, colour in zip(polys, colours, strict=True):
         by_band.setdefault(colour, []).append(MplPath(poly, closed=True))
     for colour, paths in by_band.items():
@@ -221,12 +222,12 @@ def _profile_alt(terrain, climbs, checkpoints, units: str, name: str) -> str:
 CURVES_PER_RIDER_UP_TO = 8
 
 
-def _curve_groups(rows, kinds) -> list[tuple[str, list]]:
+def _curve_groups(rows, kinds) -> list[tuple[str, list[Any]]]:
     """(legend label, climb rows) of each curve: each rider when there are few, else
     each vehicle kind with its riders counted."""
     if kinds is None or len(rows) <= CURVES_PER_RIDER_UP_TO:
         return [(label, [row]) for label, row in rows]
-    groups: dict[str, list] = {}
+    groups: dict[str, list[Any]] = {}
     for (_, row), kind in zip(rows, kinds, strict=True):
         groups.setdefault(kind, []).append(row)
     return [
