@@ -56,8 +56,17 @@ def test_unknown_motor():
         find_motor("no-such-motor")
 
 
-@pytest.mark.parametrize("km", [20, 160])
-def test_battery_use_is_bounded_and_warned_exactly_when_it_does_not_fit(tmp_path, km):
+def _battery_share(vehicle, share):
+    """``vehicle`` with ``share`` of its motor's catalogue battery fitted: a battery
+    short for 40 km is as short as the catalogue's for 160 km, at a quarter of the
+    planning (the level search re-plans the whole route for each choice it tries)."""
+    import dataclasses
+
+    return dataclasses.replace(vehicle, battery=find_motor(vehicle.motor).battery * share)
+
+
+@pytest.mark.parametrize(("km", "share"), [(20, 1.0), (40, 0.25)])
+def test_battery_use_is_bounded_and_warned_exactly_when_it_does_not_fit(tmp_path, km, share):
     """The motor gives at most ratio × the rider's power (pedal assist; EN 15194), so the
     battery can hold no more than ratio × the rider's work / drive efficiency; and the
     warning appears exactly when the use passes the usable capacity less the reserve."""
@@ -65,7 +74,7 @@ def test_battery_use_is_bounded_and_warned_exactly_when_it_does_not_fit(tmp_path
     e = 50 + 40 * np.sin(d / 1500)
     track = read_gpx(profile_gpx(tmp_path / "b.gpx", d, e))
     terrain = build_terrain(track)
-    vehicle = builtin_vehicles()["e-assist-city"]
+    vehicle = _battery_share(builtin_vehicles()["e-assist-city"], share)
     plan = make_plan(track, terrain, Rider.for_vehicle(vehicle, assist_between_climbs=2))
     motor = plan.motor
     ratio = max([motor.levels[1], *(motor.levels[c.assist_level - 1] for c in plan.climbs if c.assist_level)])
@@ -83,8 +92,8 @@ def _hilly(tmp_path, km, name="hilly.gpx"):
 
 
 def test_a_route_longer_than_the_battery_says_where_the_reserve_is_reached(tmp_path):
-    track, terrain = _hilly(tmp_path, 160)
-    vehicle = builtin_vehicles()["e-assist-cargo"]
+    track, terrain = _hilly(tmp_path, 40)
+    vehicle = _battery_share(builtin_vehicles()["e-assist-cargo"], 0.25)
     plan = make_plan(track, terrain, Rider.for_vehicle(vehicle, assist_between_climbs=2))
     budget = plan.motor.usable_battery * (1 - BATTERY_RESERVE)
     notice = next(w for w in plan.warnings if w.code == "battery")
@@ -152,13 +161,14 @@ def test_steady_assisted_speed_near_the_cutoff_matches_a_root_finder(vehicle_nam
 
 
 def test_the_level_between_climbs_gives_way_when_the_battery_is_short(tmp_path):
-    """On 160 km that needs more than the battery, a rider who asks for the top level
+    """On a route that needs more than the battery, a rider who asks for the top level
     between climbs is planned lower there (and told so); with battery to spare the
     level asked for stands. More assist between climbs never makes it slower."""
-    track, terrain = _hilly(tmp_path, 160)
+    track, terrain = _hilly(tmp_path, 40)
     vehicle = builtin_vehicles()["e-assist-city"]
     top = len(find_motor(vehicle.motor).levels)
-    long_plan = make_plan(track, terrain, Rider.for_vehicle(vehicle, assist_between_climbs=top))
+    short = _battery_share(vehicle, 0.25)
+    long_plan = make_plan(track, terrain, Rider.for_vehicle(short, assist_between_climbs=top))
     assert long_plan.assist_between < top
     assert "assist-lowered" in {w.code for w in long_plan.warnings}
     short_track, short_terrain = _hilly(tmp_path, 15, "short.gpx")

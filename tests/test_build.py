@@ -211,7 +211,7 @@ def test_output_may_not_hold_the_sources(tmp_path, where):
         build_site(load_config(src / "site.toml"), out, jobs=1)
 
 
-def test_folder_without_site_toml_uses_default_riders(tmp_path, run_cli):
+def test_folder_without_site_toml_uses_default_riders(tmp_path, cli):
     src = tmp_path / "gpx"
     src.mkdir()
     shutil.copy(SAMPLES / "riverside-loop.gpx", src)
@@ -222,16 +222,16 @@ def test_folder_without_site_toml_uses_default_riders(tmp_path, run_cli):
         "e-assist-city",
         "handcycle",
     ]
-    code, out, err = run_cli("build", str(src), "-o", str(tmp_path / "out"), "--no-pdf")
+    code, out, err = cli("build", str(src), "-o", str(tmp_path / "out"), "--no-pdf")
     assert code == 0, err
     assert "no site.toml" in err
     assert (tmp_path / "out" / "riverside-loop" / "index.html").is_file()
 
 
-def test_check_writes_nothing(tmp_path, run_cli):
+def test_check_writes_nothing(tmp_path, cli):
     src = _small_site(tmp_path)
     before = sorted(p.name for p in tmp_path.rglob("*"))
-    code, out, err = run_cli("check", str(src / "site.toml"))
+    code, out, err = cli("check", str(src / "site.toml"))
     assert code == 0, err
     assert "nothing was written" in out
     assert sorted(p.name for p in tmp_path.rglob("*")) == before

@@ -191,10 +191,10 @@ def test_route_json_warnings_are_objects_with_their_place(cli):
         assert descent["start_km"] <= w["at_km"] <= descent["end_km"] + 0.1
 
 
-def test_assist_level_is_a_whole_number_as_in_solve(run_cli):
+def test_assist_level_is_a_whole_number_as_in_solve(cli):
     """route --json and solve --json give assist_level the same type: the level's
     number (0 = off), null without a motor; the words are in "assist"."""
-    code, out, err = run_cli(
+    code, out, err = cli(
         "route", str(SAMPLES / "hill-loop.gpx"), "--vehicle", "e-assist-city", "--json", parse_json=True
     )
     assert code == 0, err
@@ -202,12 +202,12 @@ def test_assist_level_is_a_whole_number_as_in_solve(run_cli):
     for climb in out["climbs"]:
         assert isinstance(climb["assist_level"], int) and not isinstance(climb["assist_level"], bool)
         assert isinstance(climb["assist"], str)
-    code, out, err = run_cli(
+    code, out, err = cli(
         "route", str(SAMPLES / "hill-loop.gpx"), "--vehicle", "road-hoods", "--json", parse_json=True
     )
     assert code == 0, err
     assert all(c["assist_level"] is None and c["assist"] is None for c in out["climbs"])
-    code, solved, err = run_cli(
+    code, solved, err = cli(
         "solve",
         "--vehicle",
         "e-assist-city",
@@ -224,7 +224,7 @@ def test_assist_level_is_a_whole_number_as_in_solve(run_cli):
     assert solved["assist_level"] == 2
 
 
-def test_route_json_carries_the_route_notes(run_cli, tmp_path):
+def test_route_json_carries_the_route_notes(cli, tmp_path):
     """The notes the text output prints (here: two track segments 500 km apart) are
     in the JSON too, as objects with a code, the text and where."""
     a_lat, a_lon = to_latlon(np.arange(0.0, 1500.0, 10.0), np.zeros(150))
@@ -242,12 +242,12 @@ def test_route_json_carries_the_route_notes(run_cli, tmp_path):
         '<?xml version="1.0"?><gpx version="1.1" creator="t" xmlns="http://www.topografix.com/GPX/1/1">'
         f"<trk><name>Gap</name>{pts}</trk></gpx>"
     )
-    code, out, err = run_cli("route", str(path), "--json", parse_json=True)
+    code, out, err = cli("route", str(path), "--json", parse_json=True)
     assert code == 0, err
     notes = [n for n in out["notes"] if n["code"] == "track"]
     assert notes and all(set(n) >= {"code", "text", "at_km"} for n in notes)
     assert any("gap" in n["text"] for n in notes)
-    code, text_out, _ = run_cli("route", str(path))
+    code, text_out, _ = cli("route", str(path))
     assert all(f"note: {n['text']}" in text_out for n in out["notes"])
 
 

@@ -195,11 +195,11 @@ def test_assist_level_without_a_motor_is_refused(cli):
     assert code == 1 and "needs a --vehicle with a motor" in err
 
 
-def test_solve_and_route_print_short_cautions(run_cli):
+def test_solve_and_route_print_short_cautions(cli):
     """A speed from the power balance is an upper bound, not an allowance: the text
     output of solve (here 0 W down 12 %) and route says so."""
-    code, out, _ = run_cli("solve", "--vehicle", "road-hoods", "--power", "0", "--grade", "-12")
+    code, out, _ = cli("solve", "--vehicle", "road-hoods", "--power", "0", "--grade", "-12")
     assert code == 0 and "not a safe or target speed" in out
     sample = Path(__file__).resolve().parents[1] / "sample_routes" / "hill-loop.gpx"
-    code, out, _ = run_cli("route", str(sample))
+    code, out, _ = cli("route", str(sample))
     assert code == 0 and "not safe or target speeds" in out and "medical clearance" in out

@@ -165,11 +165,13 @@ HOSTILE = {
 
 
 @pytest.mark.parametrize("name", sorted(HOSTILE))
-def test_hostile_file_is_one_clear_error(tmp_path, run_cli, name):
+def test_hostile_file_is_one_clear_error(tmp_path, cli, name):
+    """In this process: the real process's refusal of hostile files (no traceback,
+    one line) is test_hostile's ``test_hostile_file_is_refused_in_a_real_process``."""
     text, fragment = HOSTILE[name]
     path = tmp_path / name
     path.write_text(text, encoding="utf-8")
-    code, out, err = run_cli("route", str(path))
+    code, out, err = cli("route", str(path))
     assert code == 1, (out, err)
     assert "Traceback" not in err
     assert str(path) in err

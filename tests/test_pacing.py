@@ -180,12 +180,12 @@ def test_the_motor_stops_when_the_battery_is_empty_mid_climb():
     assert used == pytest.approx(motor.usable_battery, rel=0.005)
 
 
-def test_route_trace_writes_every_node(tmp_path, run_cli):
+def test_route_trace_writes_every_node(tmp_path, cli):
     track_path = profile_gpx(
         tmp_path / "t.gpx", np.arange(0, 5001, 10.0), 30 * np.sin(np.arange(0, 5001, 10.0) / 800)
     )
     out = tmp_path / "trace.csv"
-    code, _, err = run_cli(
+    code, _, err = cli(
         "route", str(track_path), "--cp", "230", "--w-prime", "16000", "--pacing", "best", "--trace", str(out)
     )
     assert code == 0, err
@@ -207,7 +207,7 @@ def test_route_trace_writes_every_node(tmp_path, run_cli):
     assert data[0, 7] == 16000 and np.all(data[:, 7] >= -160)
     assert np.max(data[:, 3]) <= 230 * 1.1 + 1e-6
     # a bad place for the trace: one line, exit 1, nothing else written
-    code, _, err = run_cli("route", str(track_path), "--trace", str(tmp_path / "no" / "x.csv"))
+    code, _, err = cli("route", str(track_path), "--trace", str(tmp_path / "no" / "x.csv"))
     assert code == 1 and "cannot write the trace" in err and err.count("\n") == 1
 
 

@@ -902,8 +902,15 @@ def _render_index(config, site: dict, summaries: list[dict], packs: bool) -> dic
                 "slowest": times[-1] if times else None,
             }
         )
+    rides = sum(row["riders"] for row in rows)
     page = env.get_template("index.html").render(
-        site=site, routes=rows, packs=packs, root="", version=__version__
+        site=site,
+        routes=rows,
+        packs=packs,
+        root="",
+        version=__version__,
+        entrants=len(config.riders),
+        rides=rides,
     )
     return {
         "index.html": page,
