@@ -28,7 +28,7 @@ from cardgen.profiles.riders import DEFAULT_ASSIST_LEVEL, Rider, flat_power_for_
 from cardgen.profiles.vehicles import Vehicle, vehicles_from_tables
 from cardgen.route.terrain import MAX_ROUTE_LENGTH
 from cardgen.settings import Conditions, RiderConfig, RouteConfig, SiteConfig, Wave
-from cardgen.units import KMH_PER_MS, ZERO_CELSIUS_K
+from cardgen.units import J_PER_WH, KMH_PER_MS, ZERO_CELSIUS_K
 
 
 def load_config(path: Path) -> SiteConfig:
@@ -568,7 +568,7 @@ def _fitted_vehicle(check: Checker, i: int, r: dict[str, Any], vehicle: Vehicle)
                 f"{check.where('riders', i, 'battery_wh')}: the vehicle {vehicle.name!r} has no motor"
             )
         else:
-            changes["battery"] = float(r["battery_wh"]) * 3600.0
+            changes["battery"] = float(r["battery_wh"]) * J_PER_WH
     if r["assist_between_climbs"] is not None and vehicle.motor is None:
         check.warnings.append(
             f"{check.where('riders', i, 'assist_between_climbs')}: the vehicle {vehicle.name!r} "

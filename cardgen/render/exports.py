@@ -18,7 +18,7 @@ from cardgen.plan.model import Notice, Plan
 from cardgen.render import format as fmt
 from cardgen.render.advice import climb_advice, descent_advice, effort_line
 from cardgen.render.notices import notice_text
-from cardgen.units import J_PER_KCAL, KMH_PER_MS
+from cardgen.units import J_PER_KCAL, J_PER_WH, KMH_PER_MS
 
 
 def _num(x: float | None, digits: int = 3) -> float | None:
@@ -398,7 +398,7 @@ def route_json(plan: Plan) -> dict[str, Any]:
                 "time_s": totals.time,
                 "energy_kj": totals.energy / 1000,
                 "food_kcal": totals.food_energy / J_PER_KCAL,
-                "battery_wh": None if totals.battery is None else totals.battery / 3600,
+                "battery_wh": None if totals.battery is None else totals.battery / J_PER_WH,
             },
             # what the text output prints as notes: the route itself (joined gaps,
             # damaged elevation, points left off) and the rider's notices away from

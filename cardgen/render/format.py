@@ -17,10 +17,7 @@ from collections.abc import Callable
 from datetime import datetime, timedelta
 from typing import Concatenate, ParamSpec
 
-from cardgen.units import J_PER_KCAL, KMH_PER_MS, MPH_PER_MS
-
-M_PER_MI = 1609.344
-M_PER_FT = 0.3048
+from cardgen.units import J_PER_KCAL, J_PER_WH, KMH_PER_MS, M_PER_FT, M_PER_MI, MPH_PER_MS
 
 
 def _nearest(value: float, step: float) -> float:
@@ -209,7 +206,7 @@ def battery(joules: float, rounding: str = "nearest") -> str:
     """ "215 Wh": to 5 Wh, and to 1 Wh below 100 Wh. ``rounding="down"`` for what can
     be drawn (a limit: 54 Wh usable prints as 54 Wh, never 55), ``"up"`` for what the
     plan needs."""
-    wh = joules / 3600
+    wh = joules / J_PER_WH
     step = 1 if wh < 100 else 5
     rounded = {"down": _down, "up": _up}.get(rounding, _nearest)(wh, step)
     return f"{rounded:.0f} Wh"

@@ -19,7 +19,7 @@ from cardgen.plan.rider import BATTERY_RESERVE
 from cardgen.render import format as fmt
 from cardgen.render.notices import notice_text
 from cardgen.render.sandbox import ThemeEnvironment
-from cardgen.units import ZERO_CELSIUS_K
+from cardgen.units import S_PER_H, ZERO_CELSIUS_K
 
 #: The caution for vehicles with a motor (cards of other vehicles leave it out).
 ASSIST_CAUTION = (
@@ -32,7 +32,7 @@ DESCENT_CAUTION = (
 )
 #: Beside the descents table of a card whose ride is longer than :data:`LONG_RIDE` [s].
 REST_CAUTION = "On a long ride, rest before the big descents: tired arms and hands brake and steer less well."
-LONG_RIDE = 3 * 3600.0
+LONG_RIDE = 3 * S_PER_H
 #: The e-assist caution on cards (short: the range line follows it).
 CARD_ASSIST_CAUTION = "E-assist rules differ by place."
 DESCENTS_CAUTION = (
