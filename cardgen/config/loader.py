@@ -506,7 +506,7 @@ def _rider(
     return RiderConfig(rider, tuple(str(x) for x in (r["routes"] or ())), r["start"], r["bib"])
 
 
-def _flat_power(check: Checker, i: int, r: dict, vehicle: Vehicle, given: dict[str, Any]) -> bool:
+def _flat_power(check: Checker, i: int, r: dict[str, Any], vehicle: Vehicle, given: dict[str, Any]) -> bool:
     """The flat power of a [[riders]] table into ``given``: ``flat_w``, or the power
     ``flat_kmh`` takes on the rider's vehicle; False after a problem, reported at the
     key that was given (a flat power above a given CP is one)."""

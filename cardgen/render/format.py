@@ -88,7 +88,7 @@ def length(metres: float, units: str = "metric") -> str:
 
 
 @_dash_if_missing
-def leg(metres, units: str = "metric") -> str:
+def leg(metres: float, units: str = "metric") -> str:
     """A cue sheet's distance to the next cue, in one unit down the column: "0.35 km",
     "8.45 km" (10 m steps, as :func:`length`) and from 10 km "12.3 km" (as
     :func:`distance`); in miles likewise ("0.21 mi", "12.3 mi")."""

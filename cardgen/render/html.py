@@ -5,7 +5,7 @@ from __future__ import annotations
 
 import re
 import unicodedata
-from collections.abc import Callable
+from collections.abc import Callable, Iterable
 from dataclasses import dataclass
 from datetime import datetime
 from pathlib import Path
@@ -15,6 +15,7 @@ import jinja2
 from cardgen.errors import CardgenError
 from cardgen.paths import default_templates
 from cardgen.plan import Plan
+from cardgen.plan.model import Notice
 from cardgen.plan.rider import BATTERY_RESERVE
 from cardgen.render import format as fmt
 from cardgen.render.notices import notice_text
@@ -262,7 +263,7 @@ def symbol_of(code: str) -> str:
     return SYMBOLS[code][0] if code in SYMBOLS else ""
 
 
-def symbols_for(warnings) -> list[str]:
+def symbols_for(warnings: Iterable[Notice]) -> list[str]:
     """Distinct symbol letters for a row's warnings, in the order of :data:`SYMBOLS`."""
     codes = {w.code for w in warnings}
     return [SYMBOLS[c][0] for c in SYMBOLS if c in codes]
