@@ -137,7 +137,7 @@ def vehicle(raw: Any, spec: Spec, place: Place) -> Vehicle:
         raise Invalid(f"{place.where}: {exc}") from None
 
 
-def values(raw: Any, spec: Spec, place: Place) -> tuple:
+def values(raw: Any, spec: Spec, place: Place) -> tuple[Any, ...]:
     """A list of names and numbers."""
     if not isinstance(raw, list) or not all(
         isinstance(x, str | int | float) and not isinstance(x, bool) for x in raw
