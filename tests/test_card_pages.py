@@ -95,3 +95,20 @@ def test_the_cautions_are_whole_and_never_alone_on_a_page(demo_site):
     top = float(page_geometry(config.card_size, config.large_print)["margins"].split("mm")[0]) * MM
     for pdf in _cards(out):
         check_cautions(pdf, top)
+
+
+def test_a_coach_sheet_fills_its_pages(demo_site):
+    """The hill loop's coach sheet (7 riders, one group): its climb and notes tables run
+    on from the riders' table, row by row with their heads repeated, instead of each
+    starting a page (3 pages filled 53 %, 65 % and 44 % before; now 2, the first
+    full). Fill: the lowest word above the running cautions (32 mm bottom margin)."""
+    from test_sheets import _fill
+
+    _, out, _ = demo_site
+    pdf = out / "hill-loop" / "coach.pdf"
+    fill = _fill(pdf, 10, 32)
+    assert len(fill) == 2
+    assert fill[0] > 0.9
+    pages = _words(pdf)
+    heads = [" ".join(w[4] for w in page[:40]) for page in pages]
+    assert all("Rider" in head for head in heads)  # each page starts with a table's head
