@@ -500,14 +500,14 @@ def _render(config, routes, old, out, tmp, pdf, progress, report, reusable, jobs
 
     if pdf:
         t_pack = time.perf_counter()
-        for target, data in render_packs(
+        for target, write in render_packs(
             config,
             [(r.slug, manifest["routes"][r.slug]["summary"]) for r in routes if r.slug in manifest["routes"]],
             tmp,
             {r.slug for r in fresh},
         ):
-            target.write_bytes(data)  # one pack in memory at a time
-            del data
+            with target.open("wb") as sink:  # streamed: a pack is never whole in memory
+                write(sink)
         report.seconds["packs"] = time.perf_counter() - t_pack
     summaries = [manifest["routes"][r.slug]["summary"] for r in routes if r.slug in manifest["routes"]]
     write_files(tmp, render_index(config, site, summaries, packs=(tmp / "all-cards.pdf").is_file()))

@@ -39,7 +39,7 @@ from cardgen.plan.model import (
     Totals,
     arrival_time,
 )
-from cardgen.plan.pacing import W_PRIME_SLACK, Course, PacedRide, ceiling, day_effort, pace, ridden_mean
+from cardgen.plan.pacing import W_PRIME_SLACK, Course, Pacer, ceiling, day_effort, ridden_mean
 from cardgen.plan.walking import stretches, walking_mask, widened
 from cardgen.profiles.riders import Rider
 from cardgen.route.climbs import Climb, Descent, find_climbs, find_descents
@@ -344,17 +344,15 @@ def _paced(course: Course, rider: Rider, stretches: list[Stretch]) -> tuple[Effo
     if not rider.effort_given:
         asked, duration = day_effort(course, cp=rider.cp, w_prime=rider.w_prime, top=top)
 
-    def ride(on: Course) -> PacedRide:
-        return pace(on, mean_power=asked, cp=rider.cp, w_prime=rider.w_prime, top=top)
-
+    pacer = Pacer(asked, rider.cp, rider.w_prime, top)
     levels: list[int] = []
     if stretches and course.motor is not None:
         budget = course.motor.usable_battery * (1.0 - BATTERY_RESERVE)
         paced, levels = pace_assisted(
-            course, stretches, ride, budget=budget, min_speed=rider.vehicle.min_stable_speed
+            course, stretches, pacer, budget=budget, min_speed=rider.vehicle.min_stable_speed
         )
     else:
-        paced = ride(course)
+        paced = pacer(course)
     effort = Effort(
         style=style,
         mean_power=ridden_mean(paced.ride),
@@ -448,7 +446,14 @@ def _climb_row(
         assist_name=None if motor is None else motor.level_name(level or 0),
         warnings=tuple(warnings),
         rider_difficulty=climb_words(
-            climb.band, cp=rider.cp, rider_power=rider_power, walked=slow, speed=speeds, step=terrain.step
+            climb.band,
+            cp=rider.cp,
+            rider_power=rider_power,
+            walked=slow,
+            speed=speeds,
+            step=terrain.step,
+            w_prime=rider.w_prime,
+            w_prime_used=max(0.0, before - w_low),
         ),
         power_curve=(CURVE_SPEEDS, np.asarray(curve)),
         power_at_effort=float(needed(speed_at_effort)),
