@@ -726,14 +726,13 @@ def _fit(course: Course, mean_power: float, cp: float, w_prime: float, top: floa
         ridden = ridden_mean(ride)
         low = float(np.min(w_prime_balance(ride.rider_power, ride.time, cp, w_prime), initial=w_prime))
         short = low < -W_PRIME_SLACK * w_prime
-        if ridden <= 0 or (abs(ridden - mean_power) <= MEAN_TOLERANCE * mean_power and not short):
+        if ridden <= 0 or not short:
             break
-        if short:  # the ride's inertia spent more than the programme planned: keep more
-            floor += -low / w_prime + W_FLOOR
+        # the ride's inertia spent more than the programme planned: keep more
+        floor += -low / w_prime + W_FLOOR
         asked = min(asked * mean_power / ridden, top)
-    else:
-        if ridden > 0 and not short:
-            return _trim(course, pacing, ride, mean_power, cp, w_prime)
+    if ridden > 0 and not short and abs(ridden - mean_power) > MEAN_TOLERANCE * mean_power:
+        return _trim(course, pacing, ride, mean_power, cp, w_prime)
     return pacing, ride
 
 
