@@ -5,6 +5,7 @@ from __future__ import annotations
 import argparse
 import json
 import math
+from typing import Any
 
 from cardgen.cli.common import _ensure, _finite, _print, _ranged, _within
 
@@ -14,7 +15,7 @@ from cardgen.cli.common import _ensure, _finite, _print, _ranged, _within
 PLAUSIBLE_SPEED_KMH = 100.0
 
 
-def _air_density(args) -> tuple[float | None, float]:
+def _air_density(args: argparse.Namespace) -> tuple[float | None, float]:
     """The air density given (or None) and the altitude for the standard atmosphere."""
     if args.air_density is not None:
         _within("--air-density", args.air_density, "air_density_kg_m3")
@@ -23,7 +24,7 @@ def _air_density(args) -> tuple[float | None, float]:
     return None, args.altitude
 
 
-def _resistance(args):
+def _resistance(args: argparse.Namespace) -> tuple[float, float, float, float, bool, str]:
     """Mass, Crr, CdA, efficiency, bearing flag and a description from the options."""
     explicit = [args.mass, args.crr, args.cda]
     if args.vehicle is not None:
@@ -44,7 +45,7 @@ def _resistance(args):
     return args.mass, args.crr, args.cda, eff, False, "custom vehicle"
 
 
-def _solve_motor(args):
+def _solve_motor(args: argparse.Namespace) -> tuple[Any, float]:
     """The vehicle's motor (with the vehicle's battery) and the assist ratio asked for
     (None, 0 without a motor)."""
     from cardgen.profiles.vehicles import find_vehicle
@@ -65,7 +66,7 @@ def _solve_motor(args):
     return motor, (0.0 if level == 0 else motor.levels[level - 1])
 
 
-def cmd_solve(args) -> int:
+def cmd_solve(args: argparse.Namespace) -> int:
     from cardgen.plan.steady import steady_state
     from cardgen.units import kmh_to_ms, ms_to_kmh, pct_to_grade
 
@@ -140,7 +141,18 @@ SOLVE_CAUTION = (
 )
 
 
-def _print_solve(args, result, label, vehicle, rho, speed, power, motor, motor_w, bearings) -> None:
+def _print_solve(
+    args: argparse.Namespace,
+    result: dict[str, Any],
+    label: str,
+    vehicle: tuple[float, float, float, float],
+    rho: float,
+    speed: float,
+    power: float,
+    motor: Any,
+    motor_w: float,
+    bearings: bool,
+) -> None:
     """The solve command's words for a person."""
     mass, cda, crr, eff = vehicle
     breakdown = result["breakdown_w"]
@@ -175,7 +187,7 @@ def _print_solve(args, result, label, vehicle, rho, speed, power, motor, motor_w
     _print(f"\n{SOLVE_CAUTION}")
 
 
-def add_parser(sub: argparse._SubParsersAction) -> None:
+def add_parser(sub: argparse._SubParsersAction[argparse.ArgumentParser]) -> None:
     """The ``solve`` command's options."""
     solve = sub.add_parser(
         "solve",

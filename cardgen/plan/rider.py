@@ -20,7 +20,7 @@ from cardgen.physics.assist import (
     climb_options,
     rider_power_for_speed,
 )
-from cardgen.physics.atmosphere import Conditions, density_along
+from cardgen.physics.atmosphere import density_along
 from cardgen.physics.braking import braking, curve_speed
 from cardgen.physics.effort import sustainable_climb_power, w_prime_balance
 from cardgen.physics.forces import Air, gravity_power, headwind
@@ -46,6 +46,7 @@ from cardgen.route.climbs import Climb, Descent, find_climbs, find_descents
 from cardgen.route.cues import cue_sheet
 from cardgen.route.gpx import Track
 from cardgen.route.terrain import Terrain, doubtful
+from cardgen.settings import Conditions
 from cardgen.units import KMH_PER_MS, Floats
 
 #: Steepest 100 m grade that earns a "steep" note [-]: common practice, no published
