@@ -109,7 +109,7 @@ def cmd_solve(args: argparse.Namespace) -> int:
         ratio=ratio,
     )
     _ensure(math.isfinite(state.speed), "no steady speed exists for these values; check the inputs")
-    speed, power, motor_w, rho = state.speed, state.power, state.motor_power, state.air_density
+    speed, power, motor_w, air_density = state.speed, state.power, state.motor_power, state.air_density
     breakdown = {
         "rolling": state.rolling,
         "aero": state.aero,
@@ -121,7 +121,7 @@ def cmd_solve(args: argparse.Namespace) -> int:
         "power_w": power,
         "grade_pct": args.grade,
         "headwind_kmh": args.headwind,
-        "air_density_kg_m3": rho,
+        "air_density_kg_m3": air_density,
         "breakdown_w": breakdown,
     }
     if motor is not None:
@@ -130,7 +130,9 @@ def cmd_solve(args: argparse.Namespace) -> int:
     if args.json:
         print(json.dumps(result, indent=2))
         return 0
-    _print_solve(args, result, label, (mass, cda, crr, eff), rho, speed, power, motor, motor_w, bearings)
+    _print_solve(
+        args, result, label, (mass, cda, crr, eff), air_density, speed, power, motor, motor_w, bearings
+    )
     return 0
 
 
@@ -146,7 +148,7 @@ def _print_solve(
     result: dict[str, Any],
     label: str,
     vehicle: tuple[float, float, float, float],
-    rho: float,
+    air_density: float,
     speed: float,
     power: float,
     motor: Any,
@@ -158,7 +160,9 @@ def _print_solve(
     breakdown = result["breakdown_w"]
     _print(f"{label}: {mass:g} kg, CdA {cda:.3f} m², Crr {crr:.4f}, drivetrain {eff * 100:.1f} %")
     wind = "headwind" if args.headwind >= 0 else "tailwind"
-    _print(f"grade {args.grade:+.1f} %, {wind} {abs(args.headwind):.1f} km/h, air density {rho:.3f} kg/m³")
+    _print(
+        f"grade {args.grade:+.1f} %, {wind} {abs(args.headwind):.1f} km/h, air density {air_density:.3f} kg/m³"
+    )
     _print()
     if speed == 0 and args.power is not None:
         _print("  speed        0 km/h: this power cannot keep the vehicle moving here")

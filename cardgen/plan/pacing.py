@@ -726,19 +726,18 @@ def _fit(course: Course, mean_power: float, cp: float, w_prime: float, top: floa
         ridden = ridden_mean(ride)
         low = float(np.min(w_prime_balance(ride.rider_power, ride.time, cp, w_prime), initial=w_prime))
         short = low < -W_PRIME_SLACK * w_prime
-        if ridden <= 0 or (abs(ridden - mean_power) <= MEAN_TOLERANCE * mean_power and not short):
+        if ridden <= 0 or not short:
             break
-        if short:  # the ride's inertia spent more than the programme planned: keep more
-            floor += -low / w_prime + W_FLOOR
+        # the ride's inertia spent more than the programme planned: keep more
+        floor += -low / w_prime + W_FLOOR
         asked = min(asked * mean_power / ridden, top)
-    else:
-        if ridden > 0 and not short:
-            return _trim(course, pacing, ride, mean_power, cp, w_prime)
+    if ridden > 0 and not short and abs(ridden - mean_power) > MEAN_TOLERANCE * mean_power:
+        return _trim(course, pacing, ride, mean_power, cp, w_prime, top)
     return pacing, ride
 
 
 def _trim(
-    course: Course, pacing: Pacing, ride: Ride, mean_power: float, cp: float, w_prime: float
+    course: Course, pacing: Pacing, ride: Ride, mean_power: float, cp: float, w_prime: float, top: float
 ) -> tuple[Pacing, Ride]:
     """The plan with its power below CP scaled so that the ride's mean is
     ``mean_power`` [W], when the programme's levels could not come within
@@ -750,7 +749,7 @@ def _trim(
     Scaling the power P on the segments below CP by s moves the mean by about
     (s − 1)·Σ P t / Σ t (times held), the first guess; the times move too (with a
     motor, most), so the second is the secant through the first's ride (at most
-    :data:`TRIM_ROUNDS` rides). The scaled power stays below CP.
+    :data:`TRIM_ROUNDS` rides). The scaled power stays below CP and the ceiling ``top`` [W].
     """
     seconds = np.where(np.isfinite(ride.time), ride.time, 0.0)
     below = (pacing.power > 0) & (pacing.power < cp)
@@ -761,7 +760,7 @@ def _trim(
     points = [(1.0, ridden_mean(ride))]
     scale = 1.0 + (mean_power - points[0][1]) * float(np.sum(seconds)) / work
     for _ in range(TRIM_ROUNDS):
-        power = np.where(below, np.minimum(pacing.power * max(scale, 0.0), cp), pacing.power)
+        power = np.where(below, np.minimum(pacing.power * max(scale, 0.0), min(cp, top)), pacing.power)
         trimmed = course.ride(power)
         mean = ridden_mean(trimmed)
         low = float(np.min(w_prime_balance(trimmed.rider_power, trimmed.time, cp, w_prime), initial=w_prime))

@@ -82,8 +82,8 @@ def analyse(track: Track, terrain: Terrain) -> Analysis:
 
 def segment_air(terrain: Terrain, conditions: Conditions) -> Air:
     """The air on every segment: headwind [m/s] and air density [kg/m³], arrays (n,)."""
-    wind = headwind(terrain.heading, conditions.wind_speed, conditions.wind_from)
-    return Air(np.asarray(wind, dtype=float), density_along(terrain.elevation, conditions.temperature))
+    against = headwind(terrain.heading, conditions.wind_speed, conditions.wind_from)
+    return Air(np.asarray(against, dtype=float), density_along(terrain.elevation, conditions.temperature))
 
 
 def speed_caps(terrain: Terrain, rider: Rider) -> np.ndarray:

@@ -15,12 +15,16 @@ import io
 import logging
 import warnings
 from collections.abc import Callable, Sequence
-from typing import Any
+from types import ModuleType
+from typing import TYPE_CHECKING, Any
 
 import numpy as np
 
 from cardgen.render import format as fmt
 from cardgen.units import KMH_PER_MS, M_PER_FT, M_PER_MI, MPH_PER_MS
+
+if TYPE_CHECKING:
+    from matplotlib.figure import Figure
 
 MAX_POINTS = 1000
 GRADE_RANGE = 12.0  # [%] the colour scale runs from flat to 12 % up or down
@@ -31,7 +35,7 @@ SMALLEST_PT = 7.5
 LABEL_PT = 8.0
 
 
-def _figure(width_in: float, height_in: float):
+def _figure(width_in: float, height_in: float) -> Figure:
     from matplotlib.backends.backend_svg import FigureCanvasSVG
     from matplotlib.figure import Figure
 
@@ -40,7 +44,7 @@ def _figure(width_in: float, height_in: float):
     return fig
 
 
-def _svg(fig) -> str:
+def _svg(fig: Figure) -> str:
     import matplotlib
 
     buffer = io.StringIO()
@@ -52,7 +56,7 @@ def _svg(fig) -> str:
         return _savefig(fig, buffer, matplotlib)
 
 
-def _savefig(fig, buffer: io.StringIO, matplotlib) -> str:
+def _savefig(fig: Figure, buffer: io.StringIO, matplotlib: ModuleType) -> str:
     with matplotlib.rc_context(
         {"svg.hashsalt": "cardgen", "svg.fonttype": "none", "font.family": "DejaVu Sans"}
     ):
@@ -75,13 +79,13 @@ def thin_index(n: int, max_points: int = MAX_POINTS) -> np.ndarray:
     return np.unique(np.concatenate((np.arange(0, n, k), [n - 1])))
 
 
-def thin(distance, elevation, max_points: int = MAX_POINTS):
+def thin(distance: Any, elevation: Any, max_points: int = MAX_POINTS) -> tuple[np.ndarray, np.ndarray]:
     """Every k-th point (always keeping the last) so that at most ``max_points`` remain."""
     idx = thin_index(len(distance), max_points)
     return np.asarray(distance)[idx], np.asarray(elevation)[idx]
 
 
-def thinned_grade(grade, idx: np.ndarray):
+def thinned_grade(grade: np.ndarray, idx: np.ndarray) -> np.ndarray:
     """The terrain's own segment grades [-] averaged over each thinned stretch
     (``idx[j]`` to ``idx[j + 1]``): the grade the climb table reads, never one made
     again from the thinned points."""
@@ -90,16 +94,16 @@ def thinned_grade(grade, idx: np.ndarray):
 
 
 def elevation_profile(
-    terrain,
-    climbs,
-    checkpoints=(),
+    terrain: Any,
+    climbs: Sequence[Any],
+    checkpoints: Sequence[tuple[str, float]] = (),
     units: str = "metric",
     *,
     name: str = "",
     width_in: float = 6.6,
     height_in: float = 2.4,
     text_scale: float = 1.0,
-):
+) -> tuple[str, str]:
     """Elevation against distance, filled by grade, climbs numbered, checkpoints marked.
 
     ``climbs`` are Climb objects (numbered in order), ``checkpoints`` (name, distance)
@@ -307,7 +311,9 @@ def _climb_mark(ax, number: int, summit, k: float, boxes: list, renderer):
     return best[1], best[2]
 
 
-def _profile_alt(terrain, climbs, checkpoints, units: str, name: str) -> str:
+def _profile_alt(
+    terrain: Any, climbs: Sequence[Any], checkpoints: Sequence[tuple[str, float]], units: str, name: str
+) -> str:
     """The elevation profile in words, for screen readers and print."""
     parts = [
         f"Elevation profile{' of ' + name if name else ''}: {fmt.distance(terrain.length, units)}, "
@@ -412,8 +418,8 @@ def power_curves(
         ax.spines[spine].set_visible(False)
     # a fixed place: matplotlib's search for the best one grows with the points drawn
     place = {"loc": "upper left", "bbox_to_anchor": (-0.15, -0.22)} if legend_below else {"loc": "upper left"}
-    for text in ax.legend(fontsize=SMALLEST_PT, frameon=False, **place).get_texts():
-        text.set_parse_math(False)
+    for entry in ax.legend(fontsize=SMALLEST_PT, frameon=False, **place).get_texts():
+        entry.set_parse_math(False)
     each = "each rider" if len(groups) == len(rows) else "each vehicle kind (its median rider)"
     text = (
         f"Power needed against speed on a steady {fmt.grade(climb.avg_grade)} grade (the hardest climb's "
@@ -422,7 +428,7 @@ def power_curves(
     return _svg(fig), text
 
 
-def _curve_alt(label: str, members, units: str) -> str:
+def _curve_alt(label: str, members: Sequence[Any], units: str) -> str:
     """The text of one curve: where its rider rides the climb, or its riders' range."""
     if len(members) == 1:
         row = members[0]
