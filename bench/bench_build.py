@@ -9,6 +9,7 @@ of it, target ≥ 80 %), and a no-change rebuild as a share of the full build (t
 
 from __future__ import annotations
 
+import re
 import shutil
 import tempfile
 import time
@@ -32,10 +33,8 @@ def synthetic_site(folder: Path) -> Path:
             (folder / name).write_text(text, encoding="utf-8")
             routes.append(name)
     demo = (SAMPLES / "site.toml").read_text(encoding="utf-8")
-    riders = demo[demo.index("[[riders]]") :].replace(
-        'routes = ["riverside-loop", "hill-loop", "accessible-path"]\n', ""
-    )
-    riders = riders.replace('routes = ["riverside-loop", "accessible-path", "hill-loop"]\n', "")
+    # every rider on every copy: the demo's own route choices name the demo's routes
+    riders = re.sub(r"^routes = \[.*\]\n", "", demo[demo.index("[[riders]]") :], flags=re.M)
     # the demo's spreadsheet riders name the demo's routes: not these copies
     riders = riders.split("# More entrants")[0]
     body = '[site]\ntitle = "Synthetic"\n[event]\nstart = "08:00"\n'

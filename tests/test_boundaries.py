@@ -21,8 +21,12 @@ EXCEPTIONS = {
     ("build/cache.py", "open"): "hashes the inputs and the previous site's files for the cache keys",
     ("build/cache.py", "read_text"): "reads the previous site's manifest.json, the build's own output",
     ("build/publish.py", "open"): "the build's lock file beside the output (flock)",
+    ("build/pipeline.py", "open"): "a print pack's file, opened to write the pack into as it is streamed",
     ("render/pdf.py", "read_bytes"): "WeasyPrint's URL fetcher serves the build's own drawings to the card",
-    ("render/packs.py", "pikepdf.open"): "joins the cards this build made into packs (and PDFs in memory)",
+    (
+        "render/packs.py",
+        "pikepdf.open",
+    ): "reads the cards this build made, one at a time, to stream them into packs",
     ("render/pdf.py", "pikepdf.open"): "a PDF in memory, to add a blank page",
     ("render/sandbox.py", "open"): "the process's own memory use (/proc/self/statm), bounding a theme",
     (

@@ -15,7 +15,7 @@ import pytest
 from gpxmaker import profile_gpx
 from test_walking import FIRST_FOOT, LAST_TOP, pitched_climb, steady_speed
 
-from cardgen.plan.difficulty import CRAWL_SPEED, climb_words
+from cardgen.plan.difficulty import CRAWL_SPEED, W_PRIME_SHARE, climb_words
 
 # The ramp: 2 km flat, 400 m at 9 %, 2 km flat. FIETS = H²/(D·10) = 36²/4,000 = 0.32
 # (Fiets magazine's index, via the secondary sources of docs/sources.md [S]): "easy".
@@ -30,18 +30,49 @@ def ramp(path):
 
 def test_words_from_the_plan():
     fast, slow = np.full(40, 3.0), np.full(40, 3.5 / 3.6)
-    assert climb_words("easy", cp=100, rider_power=120, walked=0, speed=fast, step=10) == ("above CP",)
-    assert climb_words("hard", cp=100, rider_power=120, walked=0, speed=fast, step=10) == ()
-    assert climb_words("easy", cp=100, rider_power=90, walked=0, speed=fast, step=10) == ()
+    spent = dict(w_prime=10_000.0, w_prime_used=6_000.0)  # more than half of W′ on the climb
+    assert climb_words("easy", cp=100, rider_power=120, walked=0, speed=fast, step=10, **spent) == (
+        "above CP",
+    )
+    assert climb_words("hard", cp=100, rider_power=120, walked=0, speed=fast, step=10, **spent) == ()
+    assert climb_words("easy", cp=100, rider_power=90, walked=0, speed=fast, step=10, **spent) == ()
     # 400 m below 4 km/h is a crawl whatever the band; walking says more and replaces it
-    assert climb_words("very hard", cp=100, rider_power=90, walked=0, speed=slow, step=10) == ("crawl",)
-    assert climb_words("easy", cp=100, rider_power=120, walked=50, speed=slow, step=10) == (
+    assert climb_words("very hard", cp=100, rider_power=90, walked=0, speed=slow, step=10, **spent) == (
+        "crawl",
+    )
+    assert climb_words("easy", cp=100, rider_power=120, walked=50, speed=slow, step=10, **spent) == (
         "walk",
         "above CP",
     )
     # 150 m slow in a 400 m climb averaging above 4 km/h: no crawl
     part = np.concatenate((np.full(15, 3.5 / 3.6), np.full(25, 3.0)))
-    assert climb_words("easy", cp=100, rider_power=90, walked=0, speed=part, step=10) == ()
+    assert climb_words("easy", cp=100, rider_power=90, walked=0, speed=part, step=10, **spent) == ()
+
+
+def test_above_cp_needs_half_of_w_prime_spent_on_the_climb():
+    """A climb ridden a little above CP by design ("best" pacing spends W′ where it
+    saves most time) is no harder than its band says unless it costs the rider a large
+    part of their reserve: half of W′ (W_PRIME_SHARE; common practice, no published
+    source). Before, every climb with a mean power over CP got the word."""
+    fast = np.full(40, 3.0)
+
+    def words(used: float) -> tuple[str, ...]:
+        return climb_words(
+            "moderate",
+            cp=200,
+            rider_power=215,
+            walked=0,
+            speed=fast,
+            step=10,
+            w_prime=16_000.0,
+            w_prime_used=used,
+        )
+
+    assert W_PRIME_SHARE == 0.5
+    assert words(2_000.0) == ()  # an eighth of W′: the band says enough
+    assert words(7_999.0) == ()
+    assert words(8_000.0) == ("above CP",)  # half of W′
+    assert words(16_000.0) == ("above CP",)
 
 
 def test_route_json_gives_the_words_beside_the_band(cli, tmp_path):
@@ -131,20 +162,26 @@ needs_poppler = pytest.mark.skipif(
 
 @pytest.mark.slow
 @needs_poppler
-def test_an_easy_ramp_above_everyones_cp_says_so_everywhere(outing):
+def test_an_easy_ramp_says_above_cp_where_it_costs_half_of_w_prime_everywhere(outing):
     plans = json.loads((outing / "ramp" / "plan.json").read_text())["plans"]
+    worded = []
     for p in plans:
         (c,) = p["climbs"]
         assert c["band"] == "easy"
-        # the word follows the plan's own figures: mean power on the climb above CP,
-        # and for the crawl the planned speed under 4 km/h
-        assert ("above CP" in c["rider_difficulty"]) == (c["hold_w"] > p["rider"]["cp_w"])
+        # the word follows the plan's own figures: mean power on the climb above CP and
+        # at least half of W′ spent there; for the crawl the planned speed under 4 km/h
+        everyone_above = c["hold_w"] > p["rider"]["cp_w"]
+        assert everyone_above  # best pacing takes every rider of the outing over CP on the ramp
+        costly = c["w_prime_used_j"] >= W_PRIME_SHARE * p["rider"]["w_prime_j"]
+        assert ("above CP" in c["rider_difficulty"]) == costly
         assert ("crawl" in c["rider_difficulty"]) == (p["rider"]["name"] == "Hand rider")
-    assert all("above CP" in p["climbs"][0]["rider_difficulty"] for p in plans)
+        worded += [p["rider"]["name"]] if costly else []
+    # the hand rider, slowest up the ramp, spends the most of the smallest W′ there
+    assert worded == ["Hand rider"]
     coach = _text(outing / "ramp" / "coach.pdf")
-    assert "easy by its band; for these riders: crawl (Hand rider), above CP (all 4)" in coach
+    assert "easy by its band; for these riders: crawl (Hand rider), above CP (Hand rider)" in coach
     page = (outing / "ramp" / "index.html").read_text()
-    assert "easy; for riders: crawl (1 of 4), above CP (4 of 4)" in page
+    assert "easy; for riders: crawl (1 of 4), above CP (1 of 4)" in page
 
 
 @pytest.mark.slow

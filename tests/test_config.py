@@ -205,7 +205,7 @@ def test_routes_that_look_wrong_get_warnings(tmp_path, capsys):
 
 def test_plural_forms(tmp_path, capsys):
     code, out, _ = _check(capsys, _site(tmp_path))
-    assert code == 0 and "1 rider:" in out and "1 riders" not in out
+    assert code == 0 and "1 entrant, 1 ride:" in out and "1 entrants" not in out
 
 
 def test_serve_on_the_network_warns(tmp_path):

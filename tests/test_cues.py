@@ -61,3 +61,38 @@ def test_waypoints_become_cues_in_order(tmp_path):
     assert [c.text for c in cues] == ["First", "Second"]
     assert abs(cues[0].distance - 500) < 15
     assert "Far away" in warnings[0]
+
+
+def _square_loop(tmp_path, waypoints):
+    """A 4 km square loop starting and finishing at (0, 0), with ``waypoints`` given as
+    (x, y, name): each point named where the loop passes."""
+    side = np.arange(0, 1000, 10.0)
+    x = np.concatenate([side, np.full(100, 1000.0), 1000 - side, np.zeros(100), [0.0]])
+    y = np.concatenate([np.zeros(100), side, np.full(100, 1000.0), 1000 - side, [0.0]])
+    lat, lon = to_latlon(x, y)
+    marks = [
+        {"lat": a[0], "lon": b[0], "name": name, "desc": "by the bandstand"}
+        for (px, py, name) in waypoints
+        for a, b in [to_latlon(np.array([px]), np.array([py]))]
+    ]
+    track = read_gpx(write_gpx(tmp_path / "loop.gpx", lat, lon, np.zeros(x.size), waypoints=marks))
+    return track, build_terrain(track)
+
+
+def test_the_start_place_of_a_loop_is_not_a_cue_again_at_the_finish(tmp_path):
+    # the sheet's own "Finish" line stands there; before, the start place was listed
+    # again at the finish distance, beside it
+    track, terrain = _square_loop(tmp_path, [(5.0, 0.0, "Green"), (1000.0, 500.0, "Mill")])
+    cues, _ = cue_sheet(terrain, track)
+    greens = [c.distance for c in cues if c.text == "Green"]
+    assert greens == [min(greens)] and greens[0] < 20.0
+    assert [c.text for c in cues if c.kind == "waypoint"] == ["Green", "Mill"]
+
+
+def test_a_place_passed_only_at_the_finish_keeps_its_cue(tmp_path):
+    track, terrain = _square_loop(
+        tmp_path, [(0.0, 30.0, "Lock gate")]
+    )  # on the last side, 30 m before the end
+    cues, _ = cue_sheet(terrain, track)
+    (gate,) = [c for c in cues if c.text == "Lock gate"]
+    assert gate.distance > terrain.length - 100.0

@@ -1,22 +1,35 @@
 """The card fitter's choice and its count of layouts, on small documents of known
-page counts (each ``<div>`` a page)."""
+page counts (each ``<div>`` a page; the last one ``fill`` of a page high)."""
 
 from __future__ import annotations
 
 import io
 
+import pytest
 from pypdf import PdfReader
 
-from cardgen.render.pdf import Fitter
+from cardgen.render.pdf import PREDICTION_MARGIN, Fitter, extent
+
+#: The content height of an A4 page with WeasyPrint's default 75 px margins [mm].
+A4_CONTENT_MM = 297 - 2 * 75 * 25.4 / 96
 
 
-def _doc(pages: int, word: str = "x") -> str:
+def _doc(pages: int, word: str = "x", fill: float = 0.5) -> str:
     body = "".join(f'<div style="break-after: page">{word} {i}</div>' for i in range(pages - 1))
-    return f"<!DOCTYPE html><html><body>{body}<div>{word} last</div></body></html>"
+    last = f'<div style="height: {fill * A4_CONTENT_MM:.2f}mm">{word} last</div>'
+    return f"<!DOCTYPE html><html lang='en'><body style='margin: 0'>{body}{last}</body></html>"
 
 
 def _pages(data: bytes) -> int:
     return len(PdfReader(io.BytesIO(data)).pages)
+
+
+@pytest.mark.parametrize(("pages", "fill"), [(1, 0.25), (2, 0.5), (3, 0.9)])
+def test_extent_is_the_pages_before_the_last_and_the_last_ones_fill(tmp_path, pages, fill):
+    fitter = Fitter()
+    assert extent(fitter._layout(_doc(pages, fill=fill), tmp_path)) == pytest.approx(
+        pages - 1 + fill, abs=0.01
+    )
 
 
 def test_a_continuation_reuses_the_layout_of_its_step(tmp_path):
@@ -44,14 +57,36 @@ def test_within_the_budget_no_continuation(tmp_path):
     assert (index, pages) == (1, 2)
 
 
-def test_a_later_card_of_the_group_skips_what_overflowed(tmp_path):
-    """The second card of a group, no shorter, skips the steps that overflowed for the
-    first, within the budget and with the continuation alike: one layout."""
-    five, three = _doc(5, "b"), _doc(3, "a")
+def _first_card(fitter: Fitter, tmp_path) -> None:
+    """A group's first card: as is 3.5 pages, condensed 1.5 (a step of 2 pages)."""
+    _, index, _ = fitter.fit((_doc(4, "a"), _doc(2, "a"), _doc(1, "a")), tmp_path, 2, "g")
+    assert (index, fitter.layouts) == (1, 2)
+    assert fitter.learned["g"]["steps"][0] == pytest.approx(2.0, abs=0.01)
+
+
+def test_a_later_card_starts_from_the_groups_choice_and_takes_one_layout(tmp_path):
+    """Its condensed variant fits at 1.6 pages; the one before, predicted at 1.6 + 2
+    pages, is over the budget of 2 by far more than the margin: one layout."""
     fitter = Fitter()
-    fitter.fit((five, three, five, three, _doc(1)), tmp_path, 2, "g", continued_from=2)
-    before = fitter.layouts
-    five2, three2 = _doc(5, "c"), _doc(3, "d")
-    _, index, pages = fitter.fit((five2, three2, five2, three2, _doc(1)), tmp_path, 2, "g", continued_from=2)
-    assert (index, pages) == (3, 4)
-    assert fitter.layouts - before == 1
+    _first_card(fitter, tmp_path)
+    _, index, _ = fitter.fit((_doc(4, "b", 0.6), _doc(2, "b", 0.6), _doc(1, "b")), tmp_path, 2, "g")
+    assert (index, fitter.layouts) == (1, 3)
+
+
+def test_a_card_that_needs_less_is_laid_out_back_to_its_least_condensed(tmp_path):
+    """A group whose step is one page (2.5 → 1.5 pages); a card condensed to 0.9 of a
+    page: the one before, predicted at 1.9 pages, may fit, so it is laid out; it
+    fits (1.9 pages) and is printed."""
+    fitter = Fitter()
+    fitter.fit((_doc(3, "a"), _doc(2, "a"), _doc(1, "a")), tmp_path, 2, "g")
+    assert fitter.learned["g"]["steps"][0] == pytest.approx(1.0, abs=0.01)
+    assert 0.9 + 1.0 - PREDICTION_MARGIN <= 2
+    _, index, pages = fitter.fit((_doc(2, "c", 0.9), _doc(1, "c", 0.9), _doc(1, "c", 0.2)), tmp_path, 2, "g")
+    assert (index, pages, fitter.layouts) == (0, 2, 4)
+
+
+def test_a_card_that_needs_more_steps_on(tmp_path):
+    fitter = Fitter()
+    _first_card(fitter, tmp_path)
+    _, index, pages = fitter.fit((_doc(5, "d"), _doc(3, "d"), _doc(1, "d")), tmp_path, 2, "g")
+    assert (index, pages, fitter.layouts) == (2, 2, 4)  # the choice overflowed; the last, padded to a sheet

@@ -1,6 +1,6 @@
-"""The card fitter learns across the build's worker processes: a variant that
-overflowed for a card of one route and vehicle kind is skipped in later batches for
-cards of that kind whose HTML is no shorter, so a later batch lays each card out once."""
+"""The card fitter learns across the build's worker processes: what cards of one
+route and vehicle kind chose, and by how much each variant reaches further than the
+next, carries to later batches, so a later batch lays each card out once."""
 
 from __future__ import annotations
 
@@ -11,7 +11,10 @@ from cardgen.render.pages import CardSource
 
 
 def _html(pages: int, words: str = "") -> str:
-    body = '<p style="break-after: page">page</p>' * (pages - 1) + f"<p>last {words}</p>"
+    # the last page half full: its content reaches well past a page limit
+    body = (
+        '<p style="break-after: page">page</p>' * (pages - 1) + f'<p style="height: 120mm">last {words}</p>'
+    )
     return f"<!DOCTYPE html><html lang='en'><head><title>t</title></head><body>{body}</body></html>"
 
 
@@ -41,8 +44,17 @@ def test_a_later_batch_starts_from_what_earlier_batches_learned(tmp_path):
     assert _render_pdfs(alone)[1] == 3
 
 
-def test_what_fitters_learned_merges_to_the_shortest_overflowing_html():
+def test_what_fitters_learned_merges_steps_by_minimum_and_choices_by_count():
     learned: dict = {}
-    _learn(learned, {("r", "road"): {0: 900, 1: 500}})
-    _learn(learned, {("r", "road"): {0: 700}, ("r", "tandem"): {0: 800}})
-    assert learned == {("r", "road"): {0: 700, 1: 500}, ("r", "tandem"): {0: 800}}
+    _learn(learned, {("r", "road"): {"steps": {0: 0.9, 1: 0.5}, "chosen": {1: 3}}})
+    _learn(
+        learned,
+        {
+            ("r", "road"): {"steps": {0: 0.7}, "chosen": {1: 1, 2: 2}},
+            ("r", "tandem"): {"steps": {0: 0.8}, "chosen": {0: 1}},
+        },
+    )
+    assert learned == {
+        ("r", "road"): {"steps": {0: 0.7, 1: 0.5}, "chosen": {1: 4, 2: 2}},
+        ("r", "tandem"): {"steps": {0: 0.8}, "chosen": {0: 1}},
+    }

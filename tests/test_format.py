@@ -106,3 +106,17 @@ def test_fluid_ranges_never_print_as_one_figure():
     assert litres_range((0.2, 0.2)) == "0.2–0.3 L"
     assert litres_range((0.4, 0.6)) == "0.4–0.6 L"
     assert litres_range(None) == "–"
+
+
+def test_a_cue_sheet_leg_keeps_one_unit_down_the_column():
+    # "Next" mixed "850 m" and "12.3 km" in one column; now every row is in km (mi)
+    legs = [50.0, 850.0, 9994.0, 12_300.0]
+    assert [fmt.leg(m) for m in legs] == ["0.05 km", "0.85 km", "9.99 km", "12.3 km"]
+    assert [fmt.leg(m, "imperial") for m in (80.0, 1609.344, 20_000.0)] == ["0.05 mi", "1.00 mi", "12.4 mi"]
+
+
+def test_the_card_cue_sheet_prints_its_legs_with_the_leg_filter():
+    from cardgen.paths import default_templates
+
+    text = (default_templates() / "cues.html").read_text(encoding="utf-8")
+    assert "row.next | leg(units)" in text and "row.next | length" not in text

@@ -671,7 +671,7 @@ def test_check_10000_riders_lines(tmp_path, capsys):
     src = _src(tmp_path, riders=riders)
     assert _run("check", str(src / "site.toml")) == 0
     out = capsys.readouterr().out
-    assert "10000 riders" in out and "9,988 more" in out
+    assert "10000 entrants, 10000 rides" in out and "9,988 more" in out
     assert max(len(line) for line in out.splitlines()) < 400
 
 

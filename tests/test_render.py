@@ -128,7 +128,7 @@ def test_card_rasterises_non_blank_on_its_page_size(demo_site, tmp_path):
     from matplotlib.image import imread
 
     _, out, _ = demo_site
-    card = out / "hill-loop" / "maren-handcycle.pdf"
+    card = out / "accessible-path" / "maren-handcycle.pdf"
     info = subprocess.run(["pdfinfo", str(card)], capture_output=True, text=True, check=True).stdout
     width, height = map(float, re.search(r"Page size:\s+([\d.]+) x ([\d.]+) pts", info).groups())
     assert (width, height) == pytest.approx((419.53, 595.28), abs=0.5)  # ISO 216 A5: 148 × 210 mm

@@ -88,7 +88,9 @@ def test_an_e_assist_entrant_with_a_modest_cp_is_not_refused(tmp_path):
     # rider gives two thirds of the wheel power: well under a CP of 102 W
     rider = _rider(tmp_path, "e-assist-city", "flat_kmh = 20\ncp_w = 102\nassist_between_climbs = 1\n")
     assert rider.flat_power < 102 * 0.75
-    with pytest.raises(ConfigError, match="flat power"):
+    with pytest.raises(
+        ConfigError, match=r"flat_kmh: 20 km/h on the flat takes about 105 W .* above the CP \(102 W\)"
+    ):
         _rider(tmp_path, "e-assist-city", "flat_kmh = 20\ncp_w = 102\nassist_between_climbs = 0\n")
 
 

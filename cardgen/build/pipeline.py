@@ -245,7 +245,7 @@ def card_key(card) -> str:
 
 class _Batch(list):
     """Cards for one worker, with what the build's fitters learned before
-    (``learned``: :attr:`cardgen.render.pdf.Fitter.overflowed`, by route and kind)."""
+    (``learned``: :attr:`cardgen.render.pdf.Fitter.learned`, by route and kind)."""
 
     learned: dict = {}
 
@@ -275,16 +275,14 @@ def _render_pdfs(cards) -> tuple[list[str], int, dict]:
         else:
             data, _ = pdf_bytes(card.html, Path(card.base))
         Path(card.target).write_bytes(data)
-    return [c.target for c in cards], fitter.layouts, fitter.overflowed
+    return [c.target for c in cards], fitter.layouts, fitter.learned
 
 
-def _learn(learned: dict, overflowed: dict) -> None:
-    """Add one fitter's ``overflowed`` to ``learned``: per group and variant, the
-    shortest HTML seen to overflow."""
-    for group, seen in overflowed.items():
-        mine = learned.setdefault(group, {})
-        for index, length in seen.items():
-            mine[index] = min(mine.get(index, length), length)
+def _learn(learned: dict, more: dict) -> None:
+    """Add one fitter's ``learned`` to the build's (:func:`cardgen.render.pdf.merge_learned`)."""
+    from cardgen.render.pdf import merge_learned
+
+    merge_learned(learned, more)
 
 
 def _routes(config: SiteConfig, shared: str, starts) -> list[_Route]:
@@ -502,14 +500,14 @@ def _render(config, routes, old, out, tmp, pdf, progress, report, reusable, jobs
 
     if pdf:
         t_pack = time.perf_counter()
-        for target, data in render_packs(
+        for target, write in render_packs(
             config,
             [(r.slug, manifest["routes"][r.slug]["summary"]) for r in routes if r.slug in manifest["routes"]],
             tmp,
             {r.slug for r in fresh},
         ):
-            target.write_bytes(data)  # one pack in memory at a time
-            del data
+            with target.open("wb") as sink:  # streamed: a pack is never whole in memory
+                write(sink)
         report.seconds["packs"] = time.perf_counter() - t_pack
     summaries = [manifest["routes"][r.slug]["summary"] for r in routes if r.slug in manifest["routes"]]
     write_files(tmp, render_index(config, site, summaries, packs=(tmp / "all-cards.pdf").is_file()))

@@ -62,14 +62,23 @@ def _progress_printer():
     return plain, lambda: None
 
 
-def cmd_build(args) -> int:
+def output_folder(config, demo: bool, given: str | None = None):
+    """Where a build writes: ``-o``, else ``[site] output`` (relative to its site.toml,
+    so a build run from any folder lands beside the event), else ``./site`` for the
+    bundled demo, whose site.toml lies inside the installed package."""
     from pathlib import Path
 
+    if given:
+        return Path(given)
+    return Path.cwd() / "site" if demo else config.output
+
+
+def cmd_build(args) -> int:
     from cardgen.build import build_site
 
     config, demo = _site_config(args.site)
     _say_config(config)
-    out = Path(args.output) if args.output else (Path.cwd() / "site" if demo else config.output)
+    out = output_folder(config, demo, args.output)
     jobs = args.jobs or min(os.cpu_count() or 1, 64)
     progress, close = _progress_printer()
     try:

@@ -5,7 +5,7 @@ from __future__ import annotations
 import argparse
 import sys
 
-from cardgen.cli.build import _say_config, _site_config
+from cardgen.cli.build import _say_config, _site_config, output_folder
 from cardgen.cli.common import _print
 from cardgen.errors import CardgenError
 
@@ -31,13 +31,30 @@ def _print_waves(config) -> None:
             _print(f"wave {wave.name}: no riders start in it")
 
 
+def _entrants_and_rides(config) -> str:
+    """ "9 entrants, 9 rides", and what makes them differ: a rider entered on several
+    routes (or on none named: every route) has a card, a start and a place in the
+    checkpoint, feed and sweep counts on each route, as a ride of its own."""
+    from cardgen.config import plural
+
+    rides = [sum(1 for rc in config.routes if r.rides(rc, rc.name or rc.gpx.stem)) for r in config.riders]
+    said = f"{plural(len(config.riders), 'entrant')}, {plural(sum(rides), 'ride')}"
+    several = sum(1 for n in rides if n > 1)
+    if several:
+        said += (
+            f" ({plural(several, 'entrant')} on more than one route: each route counts them "
+            "as a ride of its own, with its own card, start and feed stock)"
+        )
+    return said
+
+
 def cmd_check(args) -> int:
     """Everything a build can find without rendering, all at once."""
     from cardgen.config import plural
     from cardgen.io.gpx import read_gpx
     from cardgen.plan import plan_route
 
-    config, _ = _site_config(args.site)
+    config, demo = _site_config(args.site)
     _say_config(config)
     problems = []
     for route in config.routes:
@@ -75,14 +92,14 @@ def cmd_check(args) -> int:
     names = [r.rider.name for r in config.riders[:CHECK_NAMES]]
     more = len(config.riders) - len(names)
     _print(
-        f"{plural(len(config.riders), 'rider')}: "
-        + "; ".join(names)
-        + (f"; and {more:,} more" if more > 0 else "")
+        f"{_entrants_and_rides(config)}: " + "; ".join(names) + (f"; and {more:,} more" if more > 0 else "")
     )
     _print_waves(config)
     if problems:
         raise CardgenError("\n  ".join([f"{plural(len(problems), 'route problem')}:"] + problems))
-    _print("configuration and routes are fine; nothing was written")
+    _print(
+        f"configuration and routes are fine; nothing was written (a build writes to {output_folder(config, demo)})"
+    )
     return 0
 
 

@@ -52,7 +52,9 @@ def _from_data(data: dict, path: Path | None, text: str, folder: Path) -> SiteCo
         for section in ("site", "event", "conditions")
     }
     vehicles = _site_vehicles(check, data.get("vehicles", []))
+    before = len(check.problems)
     routes = _route_tables(check, data.get("routes", []), folder)
+    routes_whole = len(check.problems) == before and all(r["gpx"] is not None for r in routes)
     before = len(check.problems)
     riders_raw = _rider_tables(check, data.get("riders", []), folder)
     if not riders_raw and len(check.problems) == before:  # not when an entrants file was refused
@@ -80,10 +82,11 @@ def _from_data(data: dict, path: Path | None, text: str, folder: Path) -> SiteCo
         if r["gpx"] is not None
     )
     numbered = [
-        (i, rc) for i, r in enumerate(riders) if (rc := _rider(check, i, r, route_objects)) is not None
+        (i, rc)
+        for i, r in enumerate(riders)
+        if (rc := _rider(check, i, r, route_objects if routes_whole else None)) is not None
     ]
     rider_objects = [rc for _, rc in numbered]
-    names = [rc.rider.name for rc in rider_objects]
     _duplicates(check, [(i, rc.rider.name) for i, rc in numbered], "name", "two riders are named {!r}")
     _duplicates(
         check,
@@ -91,7 +94,9 @@ def _from_data(data: dict, path: Path | None, text: str, folder: Path) -> SiteCo
         "bib",
         "bib {} is given to two riders",
     )
-    waves = _waves(check, data.get("waves", []), folder, set(names), route_objects)
+    # a wave may name a rider whose own entry has a problem: that one is reported there
+    entered = {str(r["name"]) for r in riders if r["name"] is not None}
+    waves = _waves(check, data.get("waves", []), folder, entered, route_objects if routes_whole else None)
     speed_rule = _speed_rule(check, tables["event"])
 
     site, event, cond = tables["site"], tables["event"], tables["conditions"]
@@ -340,13 +345,16 @@ def _speed_rule(check: Checker, event: dict) -> tuple[float, float] | None:
 
 
 def _waves(
-    check: Checker, raw: Any, folder: Path, riders: set[str], routes: tuple[RouteConfig, ...]
+    check: Checker, raw: Any, folder: Path, riders: set[str], routes: tuple[RouteConfig, ...] | None
 ) -> list[Wave]:
-    """The [[waves]] tables; every rider and route they name must exist."""
+    """The [[waves]] tables; every rider and route they name must exist (routes are
+    not checked, None, while a [[routes]] entry has a problem of its own)."""
     if not isinstance(raw, list):
         check.problems.append(f"{check.path}: waves must be [[waves]] tables")
         return []
-    route_names = {n for rc in routes for n in (rc.gpx.name, rc.gpx.stem, rc.name) if n}
+    route_names = (
+        None if routes is None else {n for rc in routes for n in (rc.gpx.name, rc.gpx.stem, rc.name) if n}
+    )
     waves = []
     for i, table in enumerate(raw):
         w = check.table("waves", table, i, folder)
@@ -360,7 +368,7 @@ def _waves(
             ("route", w["routes"] or (), route_names),
         ):
             for name in names:
-                if str(name) not in known:
+                if known is not None and str(name) not in known:
                     check.problems.append(
                         f"{check.where('waves', i, kind + 's')} no {kind} {name!r}"
                         f"{close_matches(str(name), known)}"
@@ -448,9 +456,11 @@ def _route_tables(check: Checker, raw: Any, folder: Path) -> list[dict]:
     return tables
 
 
-def _rider(check: Checker, i: int, r: dict, routes: tuple[RouteConfig, ...]) -> RiderConfig | None:
+def _rider(check: Checker, i: int, r: dict, routes: tuple[RouteConfig, ...] | None) -> RiderConfig | None:
     """One [[riders]] table as a rider on their vehicle; problems and the model's
-    adjustments are recorded on ``check``."""
+    adjustments are recorded on ``check``. ``routes`` is None while a [[routes]] entry
+    has a problem of its own: the routes riders name are then not checked (the route
+    they name may be the broken one, and one mistake is one message)."""
     vehicle: Vehicle | None = r["vehicle"]
     if vehicle is None or r["name"] is None:
         return None
@@ -471,26 +481,12 @@ def _rider(check: Checker, i: int, r: dict, routes: tuple[RouteConfig, ...]) -> 
         given["assist_between_climbs"] = r["assist_between_climbs"]
     if r["pacing"] is not None:
         given["pacing"] = r["pacing"]
-    if r["flat_kmh"] is not None:
-        if r["flat_w"] is not None:
-            check.problems.append(
-                f"{check.where('riders', i, 'flat_kmh')}: give flat_kmh or flat_w, not both"
-            )
-            return None
-        level = given.get("assist_between_climbs", DEFAULT_ASSIST_LEVEL) if vehicle.motor is not None else 0
-        try:
-            watts = flat_power_for_speed(vehicle, r["flat_kmh"] * LIMITS["flat_kmh"].to_si, level)
-        except CardgenError as exc:
-            check.problems.append(f"{check.where('riders', i, 'assist_between_climbs')}: {exc}")
-            return None
-        given["flat_power"] = watts
-        check.notes.append(
-            f"rider {name!r}: {r['flat_kmh']:g} km/h on the flat takes about {watts:.0f} W on "
-            f"a {vehicle.name} in still air{_with_assist(vehicle, level)}; the plans use that as the flat power"
-        )
-    unknown = [x for x in (r["routes"] or ()) if not any(_names_route(str(x), rc) for rc in routes)]
-    for x in unknown:
-        known = sorted({n for rc in routes for n in (rc.gpx.name, rc.gpx.stem, rc.name) if n})
+    if not _flat_power(check, i, r, vehicle, given):
+        return None
+    every = routes or ()
+    unknown = [x for x in (r["routes"] or ()) if not any(_names_route(str(x), rc) for rc in every)]
+    for x in unknown if routes is not None else ():
+        known = sorted({n for rc in every for n in (rc.gpx.name, rc.gpx.stem, rc.name) if n})
         check.problems.append(
             f"{check.where('riders', i, 'routes')}: no route {x!r}{close_matches(str(x), known)}; "
             f"the routes are {', '.join(known)}"
@@ -507,6 +503,48 @@ def _rider(check: Checker, i: int, r: dict, routes: tuple[RouteConfig, ...]) -> 
             f"{rider.climb_power_used:.0f} W (raise climb_share to allow more)"
         )
     return RiderConfig(rider, tuple(str(x) for x in (r["routes"] or ())), r["start"], r["bib"])
+
+
+def _flat_power(check: Checker, i: int, r: dict, vehicle: Vehicle, given: dict[str, Any]) -> bool:
+    """The flat power of a [[riders]] table into ``given``: ``flat_w``, or the power
+    ``flat_kmh`` takes on the rider's vehicle; False after a problem, reported at the
+    key that was given (a flat power above a given CP is one)."""
+    name = r["name"]
+    if r["flat_kmh"] is None:
+        if "cp" in given and given.get("flat_power", 0.0) > given["cp"]:
+            check.problems.append(
+                f"{check.where('riders', i, 'flat_w')}: {r['flat_w']:g} W on the flat is above the CP "
+                f"({r['cp_w']:g} W), which cannot be held for long; give at most {r['cp_w']:g} W"
+            )
+            return False
+        return True
+    if r["flat_w"] is not None:
+        check.problems.append(f"{check.where('riders', i, 'flat_kmh')}: give flat_kmh or flat_w, not both")
+        return False
+    level = given.get("assist_between_climbs", DEFAULT_ASSIST_LEVEL) if vehicle.motor is not None else 0
+    try:
+        watts = flat_power_for_speed(vehicle, r["flat_kmh"] * LIMITS["flat_kmh"].to_si, level)
+    except CardgenError as exc:
+        check.problems.append(f"{check.where('riders', i, 'assist_between_climbs')}: {exc}")
+        return False
+    given["flat_power"] = watts
+    said = (
+        f"{r['flat_kmh']:g} km/h on the flat takes about {_watts(watts)} on the vehicle {vehicle.name!r} "
+        f"in still air{_with_assist(vehicle, level)}"
+    )
+    if "cp" in given and watts > given["cp"]:
+        check.problems.append(
+            f"{check.where('riders', i, 'flat_kmh')}: {said}, above the CP ({r['cp_w']:g} W), "
+            "which cannot be held for long; give a lower flat_kmh or a higher cp_w"
+        )
+        return False
+    check.notes.append(f"rider {name!r}: {said}; the plans use that as the flat power")
+    return True
+
+
+def _watts(watts: float) -> str:
+    """A rider's power as the cards print it: to the nearest 5 W (``render.format.power``)."""
+    return f"{5 * round(watts / 5):.0f} W"
 
 
 def _with_assist(vehicle: Vehicle, level: int) -> str:

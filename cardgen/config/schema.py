@@ -41,7 +41,9 @@ SCHEMA = {
         "units": Spec("choice", default="metric", choices=UNITS, help="units on pages and cards"),
         "card_size": Spec("choice", default="A5", choices=CARD_SIZES, help="paper of the rider cards"),
         "large_print": Spec("bool", default=False, help="cards in 14 pt type"),
-        "output": Spec("str", default="site", help="output folder, relative to this file"),
+        "output": Spec(
+            "str", default="site", help="output folder, relative to this file (`cardgen check` names it)"
+        ),
         "base_url": Spec("url", default="", help="the site's address, for QR codes on cards"),
         "templates": Spec("str", default="", help="a folder of templates that override cardgen's"),
     },
@@ -119,7 +121,10 @@ SCHEMA = {
         ),
         "start": Spec("time", help='this rider\'s own start, like "08:42"'),
         "bib": Spec("int", limit="bib"),
-        "routes": Spec("list", help="only these routes (GPX file names or route names)"),
+        "routes": Spec(
+            "list",
+            help="only these routes (GPX file names or route names); unset: every route, a ride on each",
+        ),
     },
 }
 TABLE_ARRAYS = {"routes", "riders", "vehicles", "waves"}

@@ -11,7 +11,11 @@ understates what the rider's own plan shows, the climb gets words from that plan
   :data:`CRAWL_LENGTH` of the climb or more, or on average over the whole climb (and
   the rider does not walk);
 - ``above CP``: the plan's mean power on the climb is above the rider's critical
-  power, so it draws on W′ (Skiba et al. 2012) and cannot be held for long.
+  power, so it draws on W′ (Skiba et al. 2012) and cannot be held for long, and it
+  spends at least :data:`W_PRIME_SHARE` of the rider's W′ there. "Best" pacing goes a
+  little above CP on most climbs by design (W′ is spent where it saves most time): a
+  climb that costs a small part of W′ is no harder for the rider than its band says,
+  and the word on every such climb told a rider nothing.
 
 No band says that a rider must walk or crawl, so those words are always given; a band
 of "hard" or harder already tells a rider to expect to work at their limit, so
@@ -38,6 +42,11 @@ from cardgen.units import KMH_PER_MS
 CRAWL_SPEED = 4.0 / KMH_PER_MS
 #: Crawling over at least this much of a climb [m] earns the word (as the caution).
 CRAWL_LENGTH = 200.0
+#: Share of the rider's W′ [-] the plan must spend on a climb (its W′ balance falling
+#: from the foot to its lowest on the climb) for "above CP" to be said: half, where a
+#: rider reaches the top with less than half the reserve they set off with. Common
+#: practice, no published source.
+W_PRIME_SHARE = 0.5
 #: Bands that say less than "above CP" does.
 UNDERSTATING = ("easy", "moderate")
 #: The words, most severe first (the order they print in).
@@ -52,6 +61,8 @@ def climb_words(
     walked: float,
     speed: np.ndarray,
     step: float,
+    w_prime: float,
+    w_prime_used: float,
 ) -> tuple[str, ...]:
     """The rider's words for a climb where its band understates the plan, most severe
     first; empty where the band says enough.
@@ -64,6 +75,9 @@ def climb_words(
     walked : [m] walked on the climb by the plan
     speed : [m/s] planned mean speed on each segment of the climb
     step : [m] segment length
+    w_prime : [J] the rider's W′
+    w_prime_used : [J] the plan's W′ spent on the climb (balance at the foot minus its
+        lowest on the climb)
     """
     speed = np.asarray(speed, dtype=float)
     words = []
@@ -74,6 +88,6 @@ def climb_words(
         or speed.size / float(np.sum(1.0 / np.maximum(speed, 1e-9))) < CRAWL_SPEED
     ):
         words.append("crawl")
-    if rider_power > cp and band in UNDERSTATING:
+    if rider_power > cp and w_prime_used >= W_PRIME_SHARE * w_prime and band in UNDERSTATING:
         words.append("above CP")
     return tuple(words)

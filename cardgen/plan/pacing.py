@@ -131,11 +131,11 @@ class Course:
         return np.asarray(np.minimum(limit[:-1], limit[1:]), dtype=float)
 
     def key(self) -> str:
-        """A content hash of the course: the key of the tables its riders share."""
+        """A content hash of the course, its assist ratios left out: the key of the
+        tables its riders share (they keep times per assist ratio)."""
         digest = hashlib.sha1(repr((self.step, self.resistance, self.motor)).encode())
-        for array in (self.grade, self.headwind, self.air_density, self.speed_limit, self.assist_ratio):
-            if array is not None:
-                digest.update(np.ascontiguousarray(array, dtype=float).tobytes())
+        for array in (self.grade, self.headwind, self.air_density, self.speed_limit):
+            digest.update(np.ascontiguousarray(array, dtype=float).tobytes())
         return digest.hexdigest()
 
     def ride(self, power: np.ndarray, assist_ratio: np.ndarray | None = None) -> Ride:
@@ -175,16 +175,24 @@ class Course:
         starts.append(n)
         return np.asarray(starts)
 
-    def times(self, powers: np.ndarray) -> np.ndarray:
-        """Time [s] on every segment at each steady power: array (levels, n)."""
+    def times(
+        self, powers: np.ndarray, index: np.ndarray | None = None, ratio: float | np.ndarray | None = None
+    ) -> np.ndarray:
+        """Time [s] on every segment (or the segments ``index``) at each steady power:
+        array (levels, segments); with a motor at ``ratio`` [-] (one value or one per
+        segment asked; the course's own when None)."""
         p = np.asarray(powers, dtype=float)[:, None]
-        road: dict[str, Any] = dict(resistance=self.resistance, grade=self.grade, air=self.air)
-        if self.motor is not None and self.assist_ratio is not None:
-            speed = assisted_speed(self.motor, self.assist_ratio, p, **road)
+        at = slice(None) if index is None else index
+        grade = self.grade[at]
+        road: dict[str, Any] = dict(resistance=self.resistance, grade=grade, air=self.air.over(at))
+        if ratio is None and self.assist_ratio is not None:
+            ratio = self.assist_ratio[at]
+        if self.motor is not None and ratio is not None:
+            speed = assisted_speed(self.motor, ratio, p, **road)
         else:
             speed = steady_speed(p, **road, rtol=1e-6)
-        speed = np.minimum(np.nan_to_num(np.asarray(speed, dtype=float), nan=0.0), self.speed_limit)
-        length = self.step * np.sqrt(1.0 + self.grade**2)
+        speed = np.minimum(np.nan_to_num(np.asarray(speed, dtype=float), nan=0.0), self.speed_limit[at])
+        length = self.step * np.sqrt(1.0 + grade**2)
         with np.errstate(divide="ignore"):
             return np.minimum(np.where(speed > 0, length / speed, STALL_TIME), STALL_TIME)
 
@@ -342,27 +350,52 @@ GRID_RATIO = 1.08
 
 class _Grid:
     """The blocks of a course and their times on the shared power grid, grown as
-    riders ask for new powers (the values of a grid point never depend on who asked)."""
+    riders ask for new powers (the values of a grid point never depend on who asked).
+    With a motor, times are kept per assist ratio: a block under one ratio takes them
+    from the grid of that ratio, a block whose ratio changes inside it (a stretch's
+    end, where the battery runs out) is worked out segment by segment at the powers
+    asked, so a new choice of levels or a new battery cut costs no new grid."""
 
     def __init__(self, course: Course):
         self.starts = course.blocks()
-        self.columns: dict[int, np.ndarray] = {}
-        self.zero = self._log_times(course, np.zeros(1))[0]
+        self.columns: dict[float, dict[int, np.ndarray]] = {}
+        # no power, no assist: the same at every ratio
+        self.zero = self._log_times(course, np.zeros(1), 0.0)[0]
 
-    def _log_times(self, course: Course, powers: np.ndarray) -> np.ndarray:
-        return np.log(np.add.reduceat(course.times(powers), self.starts[:-1], axis=1))
+    def _log_times(self, course: Course, powers: np.ndarray, ratio: float) -> np.ndarray:
+        return np.log(np.add.reduceat(course.times(powers, ratio=ratio), self.starts[:-1], axis=1))
 
     def times(self, course: Course, powers: np.ndarray) -> np.ndarray:
         """Block times [s] at ``powers`` [W] (> 0): array (levels, blocks)."""
         x = np.log(powers / GRID_LOW) / np.log(GRID_RATIO)
+        if course.motor is None or course.assist_ratio is None:
+            return self._on_grid(course, x, 0.0)
+        ratio = course.assist_ratio
+        first = ratio[self.starts[:-1]]
+        uniform = np.maximum.reduceat(ratio, self.starts[:-1]) == np.minimum.reduceat(ratio, self.starts[:-1])
+        out = np.empty((powers.size, first.size))
+        for value in np.unique(first[uniform]):
+            on = uniform & (first == value)
+            out[:, on] = self._on_grid(course, x, float(value))[:, on]
+        mixed = np.flatnonzero(~uniform)
+        if mixed.size:
+            index = np.concatenate([np.arange(self.starts[b], self.starts[b + 1]) for b in mixed])
+            lengths = self.starts[mixed + 1] - self.starts[mixed]
+            local = np.concatenate(([0], np.cumsum(lengths)[:-1]))
+            out[:, mixed] = np.add.reduceat(course.times(powers, index=index), local, axis=1)
+        return out
+
+    def _on_grid(self, course: Course, x: np.ndarray, ratio: float) -> np.ndarray:
+        """Block times at the grid positions ``x``, interpolated in log–log."""
         low = np.floor(x).astype(np.int64)
-        missing = sorted({int(k) for k in np.concatenate((low, low + 1))} - self.columns.keys())
+        columns = self.columns.setdefault(ratio, {})
+        missing = sorted({int(k) for k in np.concatenate((low, low + 1))} - columns.keys())
         if missing:
             grid = GRID_LOW * GRID_RATIO ** np.asarray(missing, dtype=float)
-            for k, column in zip(missing, self._log_times(course, grid), strict=True):
-                self.columns[k] = column
-        below = np.stack([self.columns[int(k)] for k in low])
-        above = np.stack([self.columns[int(k) + 1] for k in low])
+            for k, column in zip(missing, self._log_times(course, grid, ratio), strict=True):
+                columns[k] = column
+        below = np.stack([columns[int(k)] for k in low])
+        above = np.stack([columns[int(k) + 1] for k in low])
         share = (x - low)[:, None]
         return np.asarray(np.exp(below + share * (above - below)))
 

@@ -448,7 +448,14 @@ def _climb_row(
         assist_name=None if motor is None else motor.level_name(level or 0),
         warnings=tuple(warnings),
         rider_difficulty=climb_words(
-            climb.band, cp=rider.cp, rider_power=rider_power, walked=slow, speed=speeds, step=terrain.step
+            climb.band,
+            cp=rider.cp,
+            rider_power=rider_power,
+            walked=slow,
+            speed=speeds,
+            step=terrain.step,
+            w_prime=rider.w_prime,
+            w_prime_used=max(0.0, before - w_low),
         ),
         power_curve=(CURVE_SPEEDS, np.asarray(curve)),
         power_at_effort=float(needed(speed_at_effort)),

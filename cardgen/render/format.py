@@ -81,6 +81,17 @@ def length(metres, units: str = "metric") -> str:
     return f"{_nearest(metres, 10):.0f} m"
 
 
+@_dash_if_missing
+def leg(metres, units: str = "metric") -> str:
+    """A cue sheet's distance to the next cue, in one unit down the column: "0.35 km",
+    "8.45 km" (10 m steps, as :func:`length`) and from 10 km "12.3 km" (as
+    :func:`distance`); in miles likewise ("0.21 mi", "12.3 mi")."""
+    per, unit = (M_PER_MI, "mi") if units == "imperial" else (1000.0, "km")
+    if metres >= 10 * per:
+        return distance(metres, units)
+    return f"{_nearest(metres / per, 0.01):.2f} {unit}"
+
+
 def radius_m(metres: float) -> float:
     """A curve's radius [m] as printed: rounded down (a tighter curve asks for a
     lower speed) to 1 m below 30 m, 5 m below 100 m, else 10 m."""
@@ -206,6 +217,7 @@ FILTERS = {
     "speed": speed,
     "distance": distance,
     "length": length,
+    "leg": leg,
     "radius": radius,
     "height": height,
     "grade": grade,

@@ -15,10 +15,14 @@ with "flip on short edge", as its cover says.
 
 from __future__ import annotations
 
+import contextlib
 import io
 from collections.abc import Sequence
 from dataclasses import dataclass
 from pathlib import Path
+from typing import BinaryIO
+
+from cardgen.render.pdfjoin import PageWriter
 
 #: A4 landscape and A5 in PostScript points.
 A4_LANDSCAPE = (841.89, 595.28)
@@ -38,84 +42,96 @@ class PackEntry:
     pdf: Path
 
 
-def make_pack(
-    entries: Sequence[PackEntry], cover_html, base: Path, title: str, page_size: tuple[float, float]
+def pack_cover(
+    entries: Sequence[PackEntry], cover_html, base: Path, page_size: tuple[float, float]
 ) -> tuple[bytes, list[int]]:
-    """The pack of ``entries`` (already in print order), titled ``title``.
+    """The cover of a pack of ``entries`` (already in print order), and the first page
+    of each card in the pack.
 
-    ``cover_html(rows)`` renders the cover for rows of (entry, first page) to HTML;
-    the cover is rendered once, and again if its own length moved the page numbers.
-    Returns the pack and the first page of each card. The cards' pages are copied by qpdf
-    (pikepdf), which neither parses their content nor their tagging.
-    """
+    ``cover_html(rows)`` renders the cover for rows of (entry, first page) to HTML; the
+    cover is rendered once, and again if its own length moved the page numbers. Each
+    card is opened only to count its pages."""
     import pikepdf
 
     from cardgen.render.pdf import pdf_bytes
 
-    opened = [pikepdf.open(e.pdf) for e in entries]
-    out = io.BytesIO()
-    try:
-        counts = [len(pdf.pages) for pdf in opened]
-        cover_pages = 2
-        for _ in range(3):
-            firsts, page = [], cover_pages + 1
-            for n in counts:
-                firsts.append(page)
-                page += n + n % 2
-            cover, _ = pdf_bytes(cover_html(list(zip(entries, firsts, strict=True))), base)
-            with pikepdf.open(io.BytesIO(cover)) as front:
-                length = len(front.pages)
-            if length + length % 2 == cover_pages:
-                break
-            cover_pages = length + length % 2
-        with pikepdf.open(io.BytesIO(cover)) as front, pikepdf.new() as pack:
-            for source in [front, *opened]:
-                pack.pages.extend(source.pages)
-                if len(source.pages) % 2:
-                    pack.add_blank_page(page_size=page_size)
-            pack.docinfo["/Title"] = title
-            pack.save(out, deterministic_id=True)
-    finally:
-        for pdf in opened:
-            pdf.close()
-    return out.getvalue(), firsts
+    counts = []
+    for entry in entries:
+        with pikepdf.open(entry.pdf) as pdf:
+            counts.append(len(pdf.pages))
+    cover_pages = 2
+    for _ in range(3):
+        firsts, page = [], cover_pages + 1
+        for n in counts:
+            firsts.append(page)
+            page += n + n % 2
+        cover, _ = pdf_bytes(cover_html(list(zip(entries, firsts, strict=True))), base)
+        with pikepdf.open(io.BytesIO(cover)) as front:
+            length = len(front.pages)
+        if length + length % 2 == cover_pages:
+            break
+        cover_pages = length + length % 2
+    return cover, firsts
 
 
-def impose_two_up(pack: bytes, title: str, card_firsts: Sequence[int]) -> bytes:
+def write_pack(
+    cover: bytes, entries: Sequence[PackEntry], sink: BinaryIO, title: str, page_size: tuple[float, float]
+) -> None:
+    """The pack into ``sink``: the cover, then every card, each padded with a blank
+    page of ``page_size`` to an even count. One card is open at a time
+    (:class:`~cardgen.render.pdfjoin.PageWriter`), so a pack of thousands of cards
+    takes about the memory of one."""
+
+    writer = PageWriter(sink)
+    for source in _sources(cover, entries):
+        with source as pdf:
+            if writer.add_pages(pdf) % 2:
+                writer.add_blank(page_size)
+    writer.finish(title)
+
+
+def write_two_up(cover: bytes, entries: Sequence[PackEntry], sink: BinaryIO, title: str) -> None:
     """Two A5 pages on each A4 landscape sheet, cards paired for cut-and-stack (see
-    the module notes). ``card_firsts`` are the 1-based first pages of the cards; the
-    cover (the pages before the first card) is paired like a card.
+    the module notes), into ``sink``. The cover is paired like a card. Each card
+    takes an even number of pages, as in the pack: a blank page pads an odd one.
 
     Each A5 page is drawn on its sheet as a form XObject (ISO 32000-1 §8.10), so its
-    content is copied, not parsed."""
+    content is copied, not parsed. Two cards are open at a time."""
+    writer = PageWriter(sink)
+    sources = iter(_sources(cover, entries))
+    for first in sources:
+        second = next(sources, None)
+        with first as left, second or contextlib.nullcontext() as right:
+            _two_up_pair(writer, left, right)
+            writer.forget(left)
+            writer.forget(right)
+    writer.finish(title)
+
+
+def _two_up_pair(writer: PageWriter, left, right) -> None:
+    """The sheets of two cards (``right`` None for a card left alone)."""
+    counts = [len(pdf.pages) if pdf is not None else 0 for pdf in (left, right)]
+    length = max(n + n % 2 for n in counts)
+    width, height = A4_LANDSCAPE
+    for i in range(length):
+        order = (0, 1) if i % 2 == 0 else (1, 0)  # a short-edge flip swaps left and right
+        forms, ops = [], []
+        for slot, side in enumerate(order):
+            pdf = (left, right)[side]
+            if i < counts[side]:  # fixed names, so the same input gives the same bytes
+                forms.append((f"/P{slot}", pdf.pages[i], pdf))
+                ops.append(f"q 1 0 0 1 {slot * A5[0]:.2f} 0 cm /P{slot} Do Q")
+        ops.append(
+            f"q 0.5 w 0 G {width / 2:.2f} 0 m {width / 2:.2f} {MARK:.2f} l S "
+            f"{width / 2:.2f} {height - MARK:.2f} m {width / 2:.2f} {height:.2f} l S Q"
+        )
+        writer.add_sheet((width, height), forms, " ".join(ops))
+
+
+def _sources(cover: bytes, entries: Sequence[PackEntry]):
+    """The cover and each card, opened one at a time as the caller takes them."""
     import pikepdf
 
-    data = io.BytesIO()
-    with pikepdf.open(io.BytesIO(pack)) as source, pikepdf.new() as out:
-        total = len(source.pages)
-        starts = [1, *card_firsts]
-        spans = [
-            list(range(a - 1, b - 1)) for a, b in zip(starts, [*starts[1:], total + 1], strict=True) if b > a
-        ]
-        width, height = A4_LANDSCAPE
-        for left, right in zip(spans[::2], [*spans[1::2], []], strict=False):
-            length = max(len(left), len(right))
-            for i in range(length + length % 2):
-                a = left[i] if i < len(left) else None
-                b = right[i] if i < len(right) else None
-                order = (a, b) if i % 2 == 0 else (b, a)  # a short-edge flip swaps left and right
-                sheet = out.add_blank_page(page_size=(width, height))
-                forms, ops = pikepdf.Dictionary(), []
-                for slot, index in enumerate(order):
-                    if index is not None:  # fixed names, so the same input gives the same bytes
-                        forms[f"/P{slot}"] = out.copy_foreign(source.pages[index].as_form_xobject())
-                        ops.append(f"q 1 0 0 1 {slot * A5[0]:.2f} 0 cm /P{slot} Do Q")
-                ops.append(
-                    f"q 0.5 w 0 G {width / 2:.2f} 0 m {width / 2:.2f} {MARK:.2f} l S "
-                    f"{width / 2:.2f} {height - MARK:.2f} m {width / 2:.2f} {height:.2f} l S Q"
-                )
-                sheet.obj.Resources = pikepdf.Dictionary(XObject=forms)
-                sheet.obj.Contents = out.make_stream(" ".join(ops).encode("ascii"))
-        out.docinfo["/Title"] = title
-        out.save(data, deterministic_id=True)
-    return data.getvalue()
+    yield pikepdf.open(io.BytesIO(cover))
+    for entry in entries:
+        yield pikepdf.open(entry.pdf)

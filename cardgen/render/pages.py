@@ -8,10 +8,11 @@ import contextlib
 import functools
 import re
 import traceback
-from collections.abc import Iterator
+from collections.abc import Callable, Iterator
 from dataclasses import dataclass
 from datetime import UTC, datetime
 from pathlib import Path
+from typing import BinaryIO
 
 import jinja2
 import numpy as np
@@ -807,28 +808,27 @@ def _pack_order(job: RouteJob, views, to_second: bool = False) -> list[dict]:
 
 def render_packs(
     config, routes: list[tuple[str, dict]], folder: Path, fresh: set[str]
-) -> Iterator[tuple[Path, bytes]]:
+) -> Iterator[tuple[Path, Callable[[BinaryIO], None]]]:
     """Print packs (docs/contracts.md): ``all-cards.pdf`` in each route folder that
     was rendered now (``fresh`` slugs; a reused route keeps its pack) and at the
     root for the whole event, with ``all-cards-2up.pdf`` beside each for A5 cards,
     made from the cards in ``folder``. ``routes`` are (slug, summary) in site order.
-    Yields each pack with the file it goes to, one at a time (a 300-rider event's
-    eight packs together are some 80 MB of PDF, and their making holds more: write
-    each before asking for the next)."""
-    from cardgen.render.packs import PackEntry, impose_two_up, make_pack
+    Yields each pack's file with the function that writes the pack into it (a binary
+    file open for writing): a pack is streamed card by card, never held whole (the
+    event's pack at 3,000 riders is some 400 MB of PDF)."""
+    from cardgen.render.packs import PackEntry, pack_cover, write_pack, write_two_up
 
     env = _environment(config.templates, config.units)
     page = page_geometry(config.card_size, config.large_print)
     size = {"A5": (419.53, 595.28), "A4": (595.28, 841.89), "pocket": (280.63, 595.28)}[config.card_size]
-    cover = env.get_template("cover.html")
+    template = env.get_template("cover.html")
 
-    def pack(entries, where: Path, subtitle: str, show_route: bool) -> Iterator[tuple[Path, bytes]]:
+    def pack(entries, where: Path, subtitle: str, show_route: bool):
         if not entries:
             return
-        target = where / "all-cards.pdf"
-        data, firsts = make_pack(
+        cover, _ = pack_cover(
             entries,
-            lambda rows: cover.render(
+            lambda rows: template.render(
                 title=config.title,
                 subtitle=subtitle,
                 rows=rows,
@@ -837,16 +837,17 @@ def render_packs(
                 two_up=config.card_size == "A5",
             ),
             where,
-            target.stem,
             size,
         )
+        yield (
+            where / "all-cards.pdf",
+            functools.partial(write_pack, cover, entries, title="all-cards", page_size=size),
+        )
         if config.card_size == "A5":
-            two_up = impose_two_up(data, "all-cards-2up", firsts)
-            yield target, data
-            del data
-            yield where / "all-cards-2up.pdf", two_up
-        else:
-            yield target, data
+            yield (
+                where / "all-cards-2up.pdf",
+                functools.partial(write_two_up, cover, entries, title="all-cards-2up"),
+            )
 
     everyone = []
     for slug, summary in routes:
@@ -902,8 +903,15 @@ def _render_index(config, site: dict, summaries: list[dict], packs: bool) -> dic
                 "slowest": times[-1] if times else None,
             }
         )
+    rides = sum(row["riders"] for row in rows)
     page = env.get_template("index.html").render(
-        site=site, routes=rows, packs=packs, root="", version=__version__
+        site=site,
+        routes=rows,
+        packs=packs,
+        root="",
+        version=__version__,
+        entrants=len(config.riders),
+        rides=rides,
     )
     return {
         "index.html": page,

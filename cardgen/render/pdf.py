@@ -11,6 +11,7 @@ import contextlib
 import gc
 import io
 import logging
+import math
 import mimetypes
 from collections.abc import Iterator
 from pathlib import Path
@@ -84,74 +85,99 @@ def pdf_bytes(html: str, base: Path) -> tuple[bytes, list[str]]:
     return data, fetcher.refused
 
 
+#: How far (in pages) a variant's predicted extent must pass its page limit for the
+#: fitter to take its overflow as known without laying it out.
+PREDICTION_MARGIN = 0.05
+
+
 class Fitter:
-    """Chooses each card's variant with as few WeasyPrint layouts as it can, learning
-    from the cards it has laid out.
+    """Chooses each card's variant (the least condensed whose layout is within its
+    page limit) with one WeasyPrint layout in the common case, learning from the
+    cards it has laid out.
 
     Cards of one group (one route, card size and vehicle kind: ``group`` of
-    :meth:`fit`) differ only by the rider's own notices and figures, so a variant that
-    overflowed for one card overflows for every card of the group whose HTML is no
-    shorter. The variants are tried from the least condensed; a variant is skipped
-    only when a card of the group with no longer HTML has already overflowed it.
-    The first variant tried that fits is written, from the very layout that was
-    measured (the check and the printed card are the same pages); when none fits,
-    the last is written. Continuation variants (twice the budget, ended on a whole
-    sheet) repeat the HTML of the steps before them: a step measured within the budget
-    is not laid out again, and the first layout within twice the budget is kept for
-    them.
+    :meth:`fit`) share their tables, cues and drawings and differ by the rider's
+    notes and figures, so the variants of one card differ from each other by nearly
+    the same height on every card of the group. The rule:
 
-    The rule is a prediction only in one direction: it may skip a variant that
-    would have fitted a card with fewer but longer words (the card is then condensed
-    one step more than it needs), never print a card over its budget.
+    1. The first card of a group is laid out from the least condensed variant on,
+       until one fits. From it the fitter learns, for each variant ``j`` it laid out
+       before the one after it, the *extent step* ``X[j] - X[j + 1]``, where the
+       extent ``X`` of a layout is its pages before the last plus the filled share of
+       the last (:func:`extent`); and the variant chosen.
+    2. A later card of the group starts from the variant most cards of the group have
+       chosen (of those tied, the least condensed), and steps on while it overflows
+       (learning, as above). The first card of a group starts from what the route's
+       cards of other groups (same ``base``) chose, and uses their steps.
+    3. When a variant ``i`` fits, the one before it overflows if its extent, predicted
+       as ``X[i]`` plus the least step the group (else the route) has shown, passes its page limit by
+       more than :data:`PREDICTION_MARGIN`; the card then takes that one layout.
+       Otherwise the variant before is laid out, and taken when it fits (and so on
+       back). A variant with the same HTML as one already laid out is never laid out
+       again.
+
+    The printed PDF is written from the layout that was measured. Continuation
+    variants (twice the budget, ended on a whole sheet) repeat the HTML of the steps
+    before them. ``tests/test_fitter_choice.py`` lays out the next less condensed
+    variant of sampled cards to see it overflow.
 
     One fitter serves the cards of one process: drawings that every card of a route
     shows alike are parsed once (WeasyPrint's image ``cache``).
     """
 
-    def __init__(self, overflowed: dict | None = None) -> None:
-        #: group → variant index → the shortest HTML (characters) seen to overflow it
-        #: (``overflowed``: what earlier fitters of the build learned, to start from)
-        self.overflowed: dict[object, dict[int, int]] = {g: dict(v) for g, v in (overflowed or {}).items()}
+    def __init__(self, learned: dict | None = None) -> None:
+        #: group → {"steps": {variant j: least extent step X[j] − X[j+1] seen
+        #: [pages]}, "chosen": {variant: cards}} (``learned``: what earlier fitters of
+        #: the build learned, to start from: :func:`merge_learned`)
+        self.learned: dict = merge_learned({}, learned or {})
         self.cache: dict = {}
         self.layouts = 0
-
-    def _skip(self, group, index: int, html: str) -> bool:
-        shortest = self.overflowed.get(group, {}).get(index)
-        return shortest is not None and len(html) >= shortest
-
-    def _learn(self, group, index: int, html: str) -> None:
-        seen = self.overflowed.setdefault(group, {})
-        seen[index] = min(seen.get(index, len(html)), len(html))
 
     def fit(
         self, variants, base: Path, budget: int, group=None, continued_from: int | None = None
     ) -> tuple[bytes, int, int]:
-        """The PDF of the first variant of a card whose layout is within its page
-        limit (the last when none is): ``budget`` pages, or twice that for the
+        """The PDF of the least condensed variant of a card whose layout is within its
+        page limit (the last when none is): ``budget`` pages, or twice that for the
         variants from ``continued_from`` on (default: the last alone), which carry a
-        continuation sheet and end on a whole sheet. A variant whose HTML is the same
-        as an earlier one's is not laid out again. Returns (PDF, variant index, pages)."""
+        continuation sheet and end on a whole sheet. Returns (PDF, variant index,
+        pages)."""
         last = len(variants) - 1
         continued = last if continued_from is None else continued_from
-        pages_of: dict[str, int] = {}  # HTML → pages of its layout in this call
-        spare: tuple[str, Any] | None = None  # the first layout within twice the budget
-        for index, html in enumerate(variants):
-            limit = 2 * budget if index >= continued else budget
-            if index < last and self._skip(group, index, html):
-                continue
-            if spare is not None and html == spare[0] and pages_of[html] <= limit:
-                document, pages = spare[1], pages_of[html]
+        limits = [2 * budget if i >= continued else budget for i in range(len(variants))]
+        laid: dict[str, tuple[Any, int, float]] = {}  # HTML → (layout, pages, extent)
+
+        def layout(index: int) -> tuple[Any, int, float]:
+            html = variants[index]
+            if html not in laid:
+                document = self._layout(html, base)
+                laid[html] = (document, len(document.pages), extent(document))
+            return laid[html]
+
+        known = self.learned.setdefault(group, {"steps": {}, "chosen": {}})
+        # the route's cards of every kind (they share the route's tables and drawings)
+        # guide a kind's first card
+        route = self.learned.setdefault(("route", str(base)), {"steps": {}, "chosen": {}})
+        steps = {**route["steps"], **known["steps"]}
+        chosen = known["chosen"] or route["chosen"]
+        index = min(min(chosen, key=lambda v: (-chosen[v], v)) if chosen else 0, last)
+        while layout(index)[1] > limits[index] and index < last:  # 2: step on while it overflows
+            index += 1
+        while index > 0 and layout(index)[1] <= limits[index]:  # 3: back while the one before fits
+            before = index - 1
+            if variants[before] not in laid:
+                step = steps.get(before)
+                if step is not None and layout(index)[2] + step - PREDICTION_MARGIN > limits[before]:
+                    break
+            if layout(before)[1] > limits[before]:
                 break
-            if html in pages_of and pages_of[html] > limit and index < last:
-                self._learn(group, index, html)
-                continue
-            document = self._layout(html, base)
-            pages = pages_of[html] = len(document.pages)
-            if pages <= limit or index == last:
-                break
-            self._learn(group, index, html)
-            if spare is None and pages <= 2 * budget:
-                spare = (html, document)
+            index = before
+        for table in (known, route):  # 1: what this card showed
+            for j in range(last):
+                a, b = variants[j], variants[j + 1]
+                if a != b and a in laid and b in laid:
+                    table["steps"][j] = min(table["steps"].get(j, math.inf), laid[a][2] - laid[b][2])
+            table["chosen"][index] = table["chosen"].get(index, 0) + 1
+        document, pages, _ = layout(index)
         with _quiet_collector():
             data = document.write_pdf(
                 pdf_identifier=b"cardgen", uncompressed_pdf=False, pdf_tags=True, cache=self.cache
@@ -172,6 +198,34 @@ class Fitter:
             ).render(pdf_tags=True, cache=self.cache)
         self.layouts += 1
         return document
+
+
+def merge_learned(learned: dict, more: dict) -> dict:
+    """Add what a fitter learned (``more``, :attr:`Fitter.learned`) to ``learned``
+    (changed and returned): per group, the least extent step of each variant and the
+    count of cards that chose each variant."""
+    for group, seen in more.items():
+        mine = learned.setdefault(group, {"steps": {}, "chosen": {}})
+        for j, step in seen["steps"].items():
+            mine["steps"][j] = min(mine["steps"].get(j, math.inf), step)
+        for v, cards in seen["chosen"].items():
+            mine["chosen"][v] = mine["chosen"].get(v, 0) + cards
+    return learned
+
+
+def extent(document) -> float:
+    """How far a layout reaches, in pages: its pages before the last plus the share
+    of the last page's content height that its content fills (the bottom of the
+    lowest box in the flow; running headers and footers are in the margins)."""
+    page = document.pages[-1]._page_box
+    top, height = page.content_box_y(), page.height
+    bottom = top
+    stack = [c for c in page.children if getattr(c, "element_tag", None) == "html"]
+    while stack:
+        box = stack.pop()
+        bottom = max(bottom, box.position_y + box.margin_height())
+        stack.extend(getattr(box, "children", None) or ())
+    return len(document.pages) - 1 + (bottom - top) / height
 
 
 @contextlib.contextmanager

@@ -14,6 +14,7 @@ from __future__ import annotations
 import io
 import logging
 import warnings
+from typing import Any
 
 import numpy as np
 
@@ -103,6 +104,13 @@ def elevation_profile(
     ``climbs`` are Climb objects (numbered in order), ``checkpoints`` (name, distance)
     pairs; ``text_scale`` enlarges every label (large print). Returns (svg, alt text).
     """
+    fig, _ = profile_figure(terrain, climbs, checkpoints, units, width_in, height_in, text_scale)
+    return _svg(fig), _profile_alt(terrain, climbs, checkpoints, units, name)
+
+
+def profile_figure(terrain, climbs, checkpoints, units, width_in, height_in, text_scale):
+    """The figure of :func:`elevation_profile` and its labels (checkpoints, then
+    climbs: :func:`place_profile_labels`)."""
     k = text_scale
     from matplotlib import colormaps
     from matplotlib.cm import ScalarMappable
@@ -157,40 +165,145 @@ def elevation_profile(
     ax.tick_params(labelsize=SMALLEST_PT * k, colors=INK)
     for spine in ("top", "right"):
         ax.spines[spine].set_visible(False)
-    for number, climb in enumerate(climbs, 1):
-        cx = 0.5 * (climb.start_distance + climb.end_distance) * x_scale
-        cy = climb.top * y_scale
-        ax.annotate(
-            str(number),
-            (cx, cy),
-            xytext=(0, 7),
-            textcoords="offset points",
-            ha="center",
-            va="bottom",
-            fontsize=8 * k,
-            fontweight="bold",
-            color="white",
-            bbox={"boxstyle": "circle,pad=0.25", "facecolor": INK, "edgecolor": "none"},
-        )
-    for number, (_, where) in enumerate(checkpoints, 1):
-        # short, upright labels above the plot; the alt text and tables give the names
-        ax.axvline(where * x_scale, color=INK, linewidth=0.7, linestyle=(0, (3, 2)))
-        ax.text(
-            where * x_scale,
-            top,
-            f"Chk{number}",
-            fontsize=SMALLEST_PT * k,
-            ha="center",
-            va="bottom",
-            color=INK,
-            parse_math=False,
-        )
     bar = fig.colorbar(
         ScalarMappable(norm=norm, cmap=cmap), ax=ax, pad=0.01, fraction=0.04, ticks=bounds[::2]
     )
     bar.set_label("grade up or down (%)", fontsize=SMALLEST_PT * k, color=INK)
     bar.ax.tick_params(labelsize=SMALLEST_PT * k, colors=INK)
-    return _svg(fig), _profile_alt(terrain, climbs, checkpoints, units, name)
+    # the labels go on last: the colour bar takes its room from the axes first, so
+    # the boxes measured below are where the labels print
+    tops = [
+        (climb.top * y_scale, 0.5 * (climb.start_distance + climb.end_distance) * x_scale) for climb in climbs
+    ]
+    for where in (where for _, where in checkpoints):
+        ax.axvline(where * x_scale, color=INK, linewidth=0.7, linestyle=(0, (3, 2)))
+    labels = place_profile_labels(
+        fig, ax, [(x, y) for y, x in tops], [w * x_scale for _, w in checkpoints], top, k
+    )
+    return fig, labels
+
+
+#: Where a climb's number may go around its summit, as (x, y) in points from it with
+#: its alignment, in order of preference: above, left, right, higher up (to clear a
+#: neighbour's number), below.
+CLIMB_MARK_SPOTS = (
+    ((0, 7), "center", "bottom"),
+    ((-8, 3), "right", "bottom"),
+    ((8, 3), "left", "bottom"),
+    ((-8, 17), "right", "bottom"),
+    ((8, 17), "left", "bottom"),
+    ((0, -8), "center", "top"),
+)
+
+
+#: At most this many rows of checkpoint labels above the profile.
+CHECKPOINT_ROWS = 4
+
+
+def _overlap(box, others) -> float:
+    """The area ``box`` shares with the boxes ``others`` (display units)."""
+    total = 0.0
+    for other in others:
+        w = min(box.x1, other.x1) - max(box.x0, other.x0)
+        h = min(box.y1, other.y1) - max(box.y0, other.y0)
+        total += max(w, 0.0) * max(h, 0.0)
+    return total
+
+
+def _label_box(label, renderer):
+    """The box a label prints in, its round background included (display units)."""
+    from matplotlib.transforms import Bbox
+
+    box = label.get_window_extent(renderer)
+    patch = label.get_bbox_patch()
+    if patch is not None:
+        label.update_bbox_position_size(renderer)
+        box = Bbox.union([box, patch.get_window_extent(renderer)])
+    return box.padded(1.0)
+
+
+def place_profile_labels(fig, ax, summits, checkpoints, top: float, k: float = 1.0) -> list:
+    """Put the checkpoint labels ("Chk1", … above the plot, at ``checkpoints`` [x in
+    data units]) and the climb numbers (at their ``summits``, (x, y) in data units) on
+    the profile so that no label touches another: a checkpoint label that would touch
+    the one before it rises by a line; a climb number takes the first place of
+    :data:`CLIMB_MARK_SPOTS` that touches no label placed before it, or the one that
+    touches least. Boxes are measured with the text's own font (Agg renderer).
+
+    Returns the labels, checkpoints first (their boxes are what tests measure)."""
+    from matplotlib.backends.backend_agg import RendererAgg
+
+    width, height = fig.get_size_inches() * fig.dpi
+    renderer = RendererAgg(width, height, fig.dpi)
+    placed: list = []
+    boxes: list = []
+    for number, x in enumerate(checkpoints, 1):
+        label, box = _checkpoint_label(ax, number, (x, top), k, boxes, renderer)
+        placed.append(label)
+        boxes.append(box)
+    for number, summit in enumerate(summits, 1):
+        label, box = _climb_mark(ax, number, summit, k, boxes, renderer)
+        placed.append(label)
+        boxes.append(box)
+    return placed
+
+
+def _checkpoint_label(ax, number: int, xy, k: float, boxes: list, renderer):
+    """ "Chk<number>" above the plot at ``xy``, risen by a line at a time (at most
+    :data:`CHECKPOINT_ROWS` rows) until it touches none of ``boxes``. Returns the
+    label and its box."""
+    # short, upright labels above the plot; the alt text and tables give the names
+    rise = 0.0
+    while True:
+        label = ax.annotate(
+            f"Chk{number}",
+            xy,
+            xytext=(0, rise),
+            textcoords="offset points",
+            fontsize=SMALLEST_PT * k,
+            ha="center",
+            va="bottom",
+            color=INK,
+            annotation_clip=False,
+        )
+        box = _label_box(label, renderer)
+        if rise >= CHECKPOINT_ROWS * SMALLEST_PT * k or not _overlap(box, boxes):
+            return label, box
+        label.remove()
+        rise += SMALLEST_PT * k * 1.4
+
+
+def _climb_mark(ax, number: int, summit, k: float, boxes: list, renderer):
+    """A climb's number in a dark circle at the first place of
+    :data:`CLIMB_MARK_SPOTS` around its ``summit`` that touches none of ``boxes``
+    (else where it touches least). Returns the label and its box."""
+    best: tuple[float, Any, Any] | None = None
+    for offset, ha, va in CLIMB_MARK_SPOTS:
+        label = ax.annotate(
+            str(number),
+            summit,
+            xytext=(offset[0] * k, offset[1] * k),
+            textcoords="offset points",
+            ha=ha,
+            va=va,
+            fontsize=8 * k,
+            fontweight="bold",
+            color="white",
+            bbox={"boxstyle": "circle,pad=0.25", "facecolor": INK, "edgecolor": "none"},
+            annotation_clip=False,
+        )
+        box = _label_box(label, renderer)
+        touched = _overlap(box, boxes)
+        if best is not None and touched >= best[0]:
+            label.remove()
+            continue
+        if best is not None:
+            best[1].remove()
+        best = (touched, label, box)
+        if not touched:
+            break
+    assert best is not None  # CLIMB_MARK_SPOTS is not empty
+    return best[1], best[2]
 
 
 def _profile_alt(terrain, climbs, checkpoints, units: str, name: str) -> str:

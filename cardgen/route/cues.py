@@ -154,8 +154,28 @@ def cue_sheet(terrain: Terrain, track: Track) -> tuple[list[Cue], list[str]]:
         for off in (off_w + off_r,)
         if off
     ]
-    cues = sorted(turns + wpts + rpts, key=lambda c: c.distance)
+    cues = sorted(
+        turns + _without_loop_ends(wpts, terrain) + _without_loop_ends(rpts, terrain),
+        key=lambda c: c.distance,
+    )
     return cues, warnings
+
+
+def _without_loop_ends(cues: list[Cue], terrain: Terrain, reach: float = WAYPOINT_REACH) -> list[Cue]:
+    """Point cues without the pass at the finish of a point also passed at the start:
+    on a loop, the start place comes round again at the finish, where the cue sheet's
+    own "Finish" line stands (the sheet printed both at the same distance). A point
+    passed only at the finish keeps its cue."""
+    at_start = {(c.text, c.description) for c in cues if c.distance <= reach}
+    return [
+        c
+        for c in cues
+        if not (
+            c.distance >= terrain.length - reach
+            and (c.text, c.description) in at_start
+            and c.distance > reach
+        )
+    ]
 
 
 #: An organiser's cue text applies to the cue within this distance [m] of where it

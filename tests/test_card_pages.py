@@ -1,0 +1,97 @@
+"""Card pages read back from the PDFs (poppler's word boxes): the running header's
+"page N of M" counts the card's own pages (a blank page that pads a card to a whole
+sheet is no card page: it carries nothing, header included), alike in a card's file
+and in the print pack; and the cautions come whole, on the card's last page with
+something of the card above them (never a page of cautions alone)."""
+
+from __future__ import annotations
+
+import re
+import shutil
+from pathlib import Path
+
+import pytest
+from test_sheets import _words
+
+from cardgen.render.pages import page_geometry
+
+pytestmark = [
+    pytest.mark.slow,
+    pytest.mark.skipif(shutil.which("pdftotext") is None, reason="poppler-utils is not installed"),
+]
+MM = 72 / 25.4
+HEADER = re.compile(r"page (\d+) of (\d+)$")
+
+
+def _cards(out: Path) -> list[Path]:
+    return sorted(p for p in out.glob("*/*.pdf") if p.stem not in ("coach", "all-cards", "all-cards-2up"))
+
+
+def _header(page, top_pt: float) -> tuple[int, int] | None:
+    """(N, M) of the page's "page N of M" in its top margin, or None."""
+    line = " ".join(w[4] for w in page if w[3] <= top_pt)
+    found = HEADER.search(line)
+    return (int(found[1]), int(found[2])) if found else None
+
+
+def check_page_counts(pdf: Path, top_pt: float) -> list[int]:
+    """The card page count M of each card in ``pdf`` (one card, or a pack of cards
+    after its cover), checking that each card's headers run 1..M and that every page
+    without a header is blank."""
+    counts: list[int] = []
+    expected = None  # the next page number of the card being read
+    for number, page in enumerate(_words(pdf), 1):
+        header = _header(page, top_pt)
+        if header is None:
+            if expected is None and counts:  # a pad page after a card: nothing on it
+                assert page == [], f"{pdf.name} page {number}: text on a page without a header"
+            continue
+        n, m = header
+        if n == 1:
+            assert expected is None, f"{pdf.name} page {number}: a card began inside another"
+            counts.append(m)
+        assert n == (expected or 1) and n <= m, f"{pdf.name} page {number}: page {n} of {m}"
+        expected = None if n == m else n + 1
+    assert expected is None, f"{pdf.name}: a card ended before its last page"
+    return counts
+
+
+def test_page_n_of_m_counts_the_cards_own_pages(demo_site):
+    config, out, _ = demo_site
+    top = float(page_geometry(config.card_size, config.large_print)["margins"].split("mm")[0]) * MM
+    padded = 0
+    for pdf in _cards(out):
+        words = _words(pdf)
+        (m,) = check_page_counts(pdf, top)
+        assert m == sum(1 for page in words if page), pdf  # M: the pages with anything on them
+        padded += len(words) - m
+    assert padded > 0  # the demo has cards padded to a whole sheet (the day ride's)
+    for pack in sorted(out.glob("*/all-cards.pdf")):
+        singles = [
+            len([p for p in _words(c) if p]) for c in sorted(pack.parent.glob("*.pdf")) if c in _cards(out)
+        ]
+        assert sorted(check_page_counts(pack, top)) == sorted(singles), pack
+
+
+def check_cautions(pdf: Path, top_pt: float) -> None:
+    """The cautions' heading ("Before you ride") is on the card's last page with text,
+    below something of the card's own (not at the top of the page)."""
+    pages = [p for p in _words(pdf) if p]
+    at = [
+        (i, w)
+        for i, page in enumerate(pages)
+        for k, w in enumerate(page[:-2])
+        if (w[4], page[k + 1][4], page[k + 2][4]) == ("Before", "you", "ride")
+    ]
+    assert len(at) == 1, f"{pdf.name}: the cautions' heading {len(at)} times"
+    i, heading = at[0]
+    assert i == len(pages) - 1, f"{pdf.name}: cautions on page {i + 1} of {len(pages)}: split or early"
+    above = [w for w in pages[i] if w[1] > top_pt and w[3] < heading[1]]
+    assert above, f"{pdf.name}: page {i + 1} holds only the cautions"
+
+
+def test_the_cautions_are_whole_and_never_alone_on_a_page(demo_site):
+    config, out, _ = demo_site
+    top = float(page_geometry(config.card_size, config.large_print)["margins"].split("mm")[0]) * MM
+    for pdf in _cards(out):
+        check_cautions(pdf, top)

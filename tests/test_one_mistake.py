@@ -1,0 +1,103 @@
+"""One mistake in site.toml is one message, at the key that holds it, with figures
+rounded as the cards print them (a new organiser's trial: a misspelt GPX path gave
+four more "no route" errors, a flat_kmh too fast for the CP was reported against
+the rider's name in watts to three decimals, and a wave naming a rider whose own
+entry was wrong got an error of its own)."""
+
+import re
+
+import numpy as np
+import pytest
+from gpxmaker import profile_gpx
+
+from cardgen.config import load_config
+from cardgen.errors import ConfigError
+
+SITE = """[site]
+title = "One mistake"
+
+[[waves]]
+name = "Early"
+start = "08:00"
+riders = ["Ada, handcycle", "Bo, road bike"]
+
+[[routes]]
+gpx = "flat.gpx"
+
+[[routes]]
+gpx = "hill.gpx"
+
+[[riders]]
+name = "Bo, road bike"
+vehicle = "road-hoods"
+cp_w = 230
+flat_w = 160
+routes = ["hill"]
+
+[[riders]]
+name = "Cy, city bike"
+vehicle = "city-upright"
+cp_w = 150
+flat_w = 100
+routes = ["flat", "hill"]
+
+[[riders]]
+name = "Ada, handcycle"
+vehicle = "handcycle"
+cp_w = 90
+routes = ["flat"]
+"""
+
+
+def _problems(tmp_path, old: str, new: str) -> list[str]:
+    distance = np.arange(0.0, 2000.0, 10.0)
+    profile_gpx(tmp_path / "flat.gpx", distance, np.full_like(distance, 50.0))
+    profile_gpx(tmp_path / "hill.gpx", distance, 50.0 + 0.05 * distance)
+    assert old in SITE
+    (tmp_path / "site.toml").write_text(SITE.replace(old, new, 1), encoding="utf-8")
+    with pytest.raises(ConfigError) as caught:
+        load_config(tmp_path / "site.toml")
+    return [line.strip() for line in str(caught.value).splitlines()[1:]]
+
+
+def _line_of(tmp_path, needle: str) -> int:
+    lines = (tmp_path / "site.toml").read_text(encoding="utf-8").splitlines()
+    return next(n for n, line in enumerate(lines, 1) if needle in line)
+
+
+def test_a_misspelt_gpx_path_is_one_message(tmp_path):
+    problems = _problems(tmp_path, 'gpx = "hill.gpx"', 'gpx = "hil.gpx"')
+    assert len(problems) == 1, problems
+    assert "routes[1].gpx" in problems[0] and "hil.gpx" in problems[0]
+
+
+def test_a_rider_naming_a_route_that_does_not_exist_is_still_reported(tmp_path):
+    problems = _problems(tmp_path, 'routes = ["flat", "hill"]', 'routes = ["flta"]')
+    assert len(problems) == 1 and "no route 'flta'" in problems[0], problems
+
+
+def test_a_flat_speed_too_fast_for_the_cp_is_reported_at_flat_kmh_in_printed_watts(tmp_path):
+    problems = _problems(tmp_path, "cp_w = 150\nflat_w = 100", "cp_w = 150\nflat_kmh = 40")
+    assert len(problems) == 1, problems
+    line = _line_of(tmp_path, "flat_kmh = 40")
+    assert f"line {line}: riders[1].flat_kmh" in problems[0]
+    watts = re.search(r"takes about (\S+) W", problems[0]).group(1)
+    assert watts.isdigit() and int(watts) % 5 == 0 and int(watts) > 150  # 5 W steps, as render.format.power
+    assert "cp_w" in problems[0]
+
+
+def test_a_flat_power_above_the_cp_is_reported_at_flat_w(tmp_path):
+    problems = _problems(tmp_path, "cp_w = 150\nflat_w = 100", "cp_w = 150\nflat_w = 180")
+    assert len(problems) == 1, problems
+    assert f"line {_line_of(tmp_path, 'flat_w = 180')}: riders[1].flat_w" in problems[0]
+
+
+def test_a_wave_naming_a_rider_with_a_broken_entry_adds_no_error(tmp_path):
+    # Ada is in the Early wave; her vehicle is misspelt: one message, at vehicle
+    problems = _problems(tmp_path, 'vehicle = "handcycle"', 'vehicle = "handcyle"')
+    assert len(problems) == 1 and "riders[2].vehicle" in problems[0], problems
+
+
+def test_a_wave_naming_an_unknown_rider_is_still_reported(tmp_path):
+    problems = _problems(tmp_path, '["Ada, handcycle", "Bo', '["Ada, handcyle", "Bo')
+    assert len(problems) == 1 and "waves[0].riders" in problems[0], problems
