@@ -30,7 +30,6 @@ sys.path.insert(0, str(HERE.parent / "tests"))
 from bench_route import OUT, make_route  # noqa: E402
 
 from cardgen.io.gpx import read_gpx  # noqa: E402
-from cardgen.physics.atmosphere import Conditions  # noqa: E402
 from cardgen.physics.effort import effort_power  # noqa: E402
 from cardgen.plan import analyse, make_plan  # noqa: E402
 from cardgen.plan import rider as plan_rider  # noqa: E402
@@ -41,6 +40,7 @@ from cardgen.plan.rider import segment_air  # noqa: E402
 from cardgen.profiles.riders import Rider  # noqa: E402
 from cardgen.profiles.vehicles import builtin_vehicles  # noqa: E402
 from cardgen.route.terrain import build_terrain  # noqa: E402
+from cardgen.settings import Conditions  # noqa: E402
 
 RIDERS = {
     "road": ("road-hoods", 250.0),

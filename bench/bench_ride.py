@@ -21,7 +21,6 @@ sys.path.insert(0, str(Path(__file__).resolve().parent))
 from bench_route import OUT, make_route  # noqa: E402
 
 from cardgen.io.gpx import read_gpx  # noqa: E402
-from cardgen.physics.atmosphere import Conditions  # noqa: E402
 from cardgen.physics.braking import BRAKING  # noqa: E402
 from cardgen.physics.effort import effort_power  # noqa: E402
 from cardgen.physics.ride import _scan, simulate, speed_limit_profile  # noqa: E402
@@ -31,6 +30,7 @@ from cardgen.profiles.motors import find_motor  # noqa: E402
 from cardgen.profiles.riders import Rider  # noqa: E402
 from cardgen.profiles.vehicles import builtin_vehicles  # noqa: E402
 from cardgen.route.terrain import build_terrain  # noqa: E402
+from cardgen.settings import Conditions  # noqa: E402
 
 RIDERS = ("road-hoods", "city-upright", "handcycle", "e-assist-cargo", "tandem")
 

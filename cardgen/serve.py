@@ -123,7 +123,7 @@ class PreviewServer(ThreadingHTTPServer):
         """Errors are the handler's to report; nothing is printed per request."""
 
 
-def file_state(paths: list[Path]) -> tuple:
+def file_state(paths: list[Path]) -> tuple[tuple[str, int | None, int | None], ...]:
     """(path, modification time, size) of each path; None where it cannot be read."""
     state: list[tuple[str, int | None, int | None]] = []
     for path in sorted(paths):

@@ -10,8 +10,17 @@ from dataclasses import dataclass, field
 from datetime import date, datetime, time
 from pathlib import Path
 
-from cardgen.physics.atmosphere import Conditions
 from cardgen.profiles.riders import Rider
+
+
+@dataclass(frozen=True)
+class Conditions:
+    """Weather: ``wind_speed`` [m/s], ``wind_from`` [rad] clockwise from north (where
+    the wind comes from), ``temperature`` [K] or None for the ISA temperature."""
+
+    wind_speed: float = 0.0
+    wind_from: float = 0.0
+    temperature: float | None = None
 
 
 @dataclass(frozen=True)

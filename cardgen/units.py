@@ -9,8 +9,14 @@ from typing import Any
 
 import numpy as np
 
+#: Seconds in an hour; joules in a watt-hour.
+S_PER_H = 3600.0
+J_PER_WH = 3600.0
+#: The international mile and foot (1959 agreement), exact.
+M_PER_MI = 1609.344
+M_PER_FT = 0.3048
 KMH_PER_MS = 3.6
-MPH_PER_MS = 3600.0 / 1609.344
+MPH_PER_MS = S_PER_H / M_PER_MI
 J_PER_KCAL = 4184.0  # thermochemical calorie, ISO 80000-5
 ZERO_CELSIUS_K = 273.15
 #: Standard gravity [m/s²], exact by definition (CGPM 1901): also converts g to m/s².

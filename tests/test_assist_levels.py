@@ -6,8 +6,9 @@ planned for it at the same mean power, ridden by an integration of the equation 
 this test (classical fourth-order Runge–Kutta over distance, 2 m steps, all
 combinations at once), the motor giving min(r·P, peak) tapered to zero at its
 cut-off (Regulation (EU) No 168/2013, Art. 2(2)(h)) and nothing once the usable
-battery is spent. The best combination walks least, then takes least time. The
-integration itself is checked against scipy's solve_ivp.
+battery is spent. The best combination keeps the battery's reserve (its draw within
+the budget), walks least, then takes least time. The integration itself is checked
+against scipy's solve_ivp.
 """
 
 from __future__ import annotations
@@ -21,7 +22,7 @@ from scipy.integrate import solve_ivp
 
 from cardgen.physics.assist import battery_energy
 from cardgen.plan.assist_levels import Stretch, pace_assisted
-from cardgen.plan.pacing import Course, ceiling, pace
+from cardgen.plan.pacing import Course, Pacer, ceiling
 from cardgen.profiles.motors import find_motor
 from cardgen.profiles.vehicles import builtin_vehicles
 
@@ -124,41 +125,52 @@ def _ratios(motor, stretches, combos):
     return out
 
 
+#: The share of the usable battery kept in reserve (the plan's BATTERY_RESERVE: common
+#: practice, no published source).
+RESERVE = 0.20
+
+
 @pytest.mark.slow
 @pytest.mark.parametrize("battery_wh", [25.0, 50.0])
 def test_the_levels_are_near_a_brute_force_search_at_the_plans_power(battery_wh):
     vehicle, motor, course, stretches = _setup(battery_wh)
     cp, w_prime, mean = 170.0, 12000.0, 110.0
     top = ceiling("best", cp, 0.10)
+    budget = motor.usable_battery * (1.0 - RESERVE)
 
-    def ride(on):
-        return pace(on, mean_power=mean, cp=cp, w_prime=w_prime, top=top)
-
-    paced, levels = pace_assisted(
-        course, stretches, ride, budget=motor.usable_battery, min_speed=vehicle.min_stable_speed
-    )
+    ride = Pacer(mean, cp, w_prime, top)
+    paced, levels = pace_assisted(course, stretches, ride, budget=budget, min_speed=vehicle.min_stable_speed)
     wanted = [s.wanted for s in stretches]
     combos = list(itertools.product(*(range(w + 1) for w in wanted)))
     ratios = _ratios(motor, stretches, combos)
     # each combination with the rider's power planned for it, at the same mean
     power = np.array([ride(dataclasses.replace(course, assist_ratio=r)).pacing.power for r in ratios])
     # the levels asked for do not fit the battery: the choice is the battery's
-    _, drawn, _ = _rk4(vehicle, motor, course.grade, power[-1:], ratios[-1:], cut=False)
-    assert combos[-1] == tuple(wanted) and drawn[0] > motor.usable_battery
+    _, drawn, _ = _rk4(vehicle, motor, course.grade, power, ratios, cut=False)
+    assert combos[-1] == tuple(wanted) and drawn[-1] > motor.usable_battery
     t, used, slow = _rk4(vehicle, motor, course.grade, power, ratios)
     # the motor stops when the battery is empty (within the draw of the 2 m step that empties it)
     assert np.all(used <= motor.usable_battery + motor.peak_power / motor.drive_efficiency * STEP / SUB / 0.3)
-    best = min(range(len(combos)), key=lambda c: (round(slow[c] / STEP), t[c]))
+    # the best of the combinations that keep the reserve
+    within = [c for c in range(len(combos)) if drawn[c] <= budget]
+    best = min(within, key=lambda c: (round(slow[c] / STEP), t[c]))
     mine = combos.index(tuple(levels))
-    print(f"chosen {levels}: {t[mine]:.0f} s, {slow[mine]:.0f} m slow; best {combos[best]}: {t[best]:.0f} s")
+    print(
+        f"chosen {levels}: {t[mine]:.0f} s, {slow[mine]:.0f} m slow, {drawn[mine] / 3600:.1f} Wh; "
+        f"best {combos[best]}: {t[best]:.0f} s, {drawn[best] / 3600:.1f} Wh; budget {budget / 3600:.1f} Wh"
+    )
+    # the reserve is kept, by the reference's own integration of the chosen plan (1 %:
+    # the two models' agreement on time below)
+    assert drawn[mine] <= budget * 1.01
     # walking first: no more slow riding than the best combination (within one segment)
     assert slow[mine] <= slow[best] + STEP
     # then time: within 0.5 % of the brute-force optimum (a greedy knapsack, not exhaustive)
     assert t[mine] <= t[best] * 1.005
     # and the plan's own ride agrees with the reference on the chosen levels (1 %)
     assert float(paced.ride.elapsed[-1]) == pytest.approx(t[mine], rel=0.01)
+    assert paced.empty_at is None
     spent = battery_energy(motor, paced.ride.motor_power, paced.ride.time)
-    assert spent <= motor.usable_battery * 1.001
+    assert spent <= budget
 
 
 def test_the_runge_kutta_reference_agrees_with_solve_ivp():

@@ -116,7 +116,7 @@ def test_unknown_keys_are_errors(tmp_path):
         ),
         (
             '[[routes]]\ngpx = "x.gpx"\n[[riders]]\nname = "a"\nvehicle = "tandem"\nflat_w = 900\ncp_w = 300\n',
-            "flat power",
+            "flat_w: 900 W on the flat is above the CP (300 W)",
         ),
     ],
 )

@@ -95,3 +95,24 @@ def test_the_cautions_are_whole_and_never_alone_on_a_page(demo_site):
     top = float(page_geometry(config.card_size, config.large_print)["margins"].split("mm")[0]) * MM
     for pdf in _cards(out):
         check_cautions(pdf, top)
+
+
+def test_a_coach_sheet_fills_its_pages(tmp_path):
+    """Eight riders (one group) on the demo's hill loop: the climb and notes tables run
+    on from the riders' table, row by row with their heads repeated, instead of each
+    starting a page (with each table kept whole the sheet took 3 pages). Fill: the
+    lowest word above the running cautions (32 mm bottom margin)."""
+    from test_fitter_choice import _event, rendered
+    from test_sheets import _fill
+
+    from cardgen.render.pdf import pdf_bytes
+
+    pages, folder = rendered(_event(tmp_path, "hill-loop.gpx", 8), tmp_path)
+    (coach,) = [c for c in pages.cards if not c.variants]
+    pdf = folder / "coach.pdf"
+    pdf.write_bytes(pdf_bytes(coach.html, folder)[0])
+    fill = _fill(pdf, 10, 32)
+    assert len(fill) == 2
+    assert fill[0] > 0.9
+    second = " ".join(w[4] for w in _words(pdf)[1][:60])
+    assert "Rider" in second  # the page goes on under a table's repeated head

@@ -65,14 +65,14 @@ def _points(plan: dict) -> list[dict]:
     arrivals (datetimes; None where a rider does not arrive)."""
     out = [
         {
-            "name": cp["name"],
+            "name": point["name"],
             "kind": "checkpoint",
-            "distance_m": cp["distance_m"],
-            "window": (cp["opens"], cp["closes"]),
+            "distance_m": point["distance_m"],
+            "window": (point["opens"], point["closes"]),
             "stop_s": plan["plans"][0]["checkpoints"][k]["stop_s"],
             "arrivals": [p["checkpoints"][k]["arrival"] for p in plan["plans"]],
         }
-        for k, cp in enumerate(plan["checkpoints"])
+        for k, point in enumerate(plan["checkpoints"])
     ] + [
         {
             "name": pt["name"],

@@ -1,5 +1,5 @@
 """The card fitter's choice and its count of layouts, on small documents of known
-page counts (each ``<div>`` a page; the last one ``fill`` of a page high)."""
+page counts (each ``<div>`` a page, all full but the last, ``fill`` of a page high)."""
 
 from __future__ import annotations
 
@@ -14,9 +14,16 @@ from cardgen.render.pdf import PREDICTION_MARGIN, Fitter, extent
 A4_CONTENT_MM = 297 - 2 * 75 * 25.4 / 96
 
 
+def _block(word: str, height_mm: float, last: bool = False) -> str:
+    """A word over an empty block (the innermost boxes the extent measures): the two
+    ``height_mm`` high."""
+    brk = "" if last else "break-after: page; "
+    return f'<div style="{brk}font-size: 10px; line-height: 10px">{word}<div style="height: {height_mm - 10 * 25.4 / 96:.2f}mm"></div></div>'
+
+
 def _doc(pages: int, word: str = "x", fill: float = 0.5) -> str:
-    body = "".join(f'<div style="break-after: page">{word} {i}</div>' for i in range(pages - 1))
-    last = f'<div style="height: {fill * A4_CONTENT_MM:.2f}mm">{word} last</div>'
+    body = "".join(_block(f"{word} {i}", A4_CONTENT_MM - 1) for i in range(pages - 1))  # full but 1 mm
+    last = _block(f"{word} last", fill * A4_CONTENT_MM, last=True)
     return f"<!DOCTYPE html><html lang='en'><body style='margin: 0'>{body}{last}</body></html>"
 
 
@@ -61,7 +68,7 @@ def _first_card(fitter: Fitter, tmp_path) -> None:
     """A group's first card: as is 3.5 pages, condensed 1.5 (a step of 2 pages)."""
     _, index, _ = fitter.fit((_doc(4, "a"), _doc(2, "a"), _doc(1, "a")), tmp_path, 2, "g")
     assert (index, fitter.layouts) == (1, 2)
-    assert fitter.learned["g"]["steps"][0] == pytest.approx(2.0, abs=0.01)
+    assert fitter.learned["g"]["steps"][0] == pytest.approx(2.0, abs=0.02)
 
 
 def test_a_later_card_starts_from_the_groups_choice_and_takes_one_layout(tmp_path):
@@ -79,7 +86,7 @@ def test_a_card_that_needs_less_is_laid_out_back_to_its_least_condensed(tmp_path
     fits (1.9 pages) and is printed."""
     fitter = Fitter()
     fitter.fit((_doc(3, "a"), _doc(2, "a"), _doc(1, "a")), tmp_path, 2, "g")
-    assert fitter.learned["g"]["steps"][0] == pytest.approx(1.0, abs=0.01)
+    assert fitter.learned["g"]["steps"][0] == pytest.approx(1.0, abs=0.02)
     assert 0.9 + 1.0 - PREDICTION_MARGIN <= 2
     _, index, pages = fitter.fit((_doc(2, "c", 0.9), _doc(1, "c", 0.9), _doc(1, "c", 0.2)), tmp_path, 2, "g")
     assert (index, pages, fitter.layouts) == (0, 2, 4)

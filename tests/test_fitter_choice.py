@@ -4,7 +4,7 @@ to overflow its page limit, and the printed one is within its own. The cards are
 invented event on the demo's hill loop and day ride (the steps a card needs differ
 there by rider: variants 1 and 3 within the budget, and the continuation), fitted in
 small batches as the build fits them: one fitter per batch, starting from what the
-build's earlier batches learned."""
+build's earlier batches learned; and the demo's routes as the build fits them."""
 
 from __future__ import annotations
 
@@ -41,18 +41,25 @@ def _event(folder: Path, gpx: str, riders: int) -> Path:
     return folder / "site.toml"
 
 
-def _fitted(site: Path, batch: int):
-    """Every card of the route, fitted as the build fits them. Returns (card, chosen
-    variant, its pages) for each card, and the layouts made."""
+def rendered(site: Path, out: Path, route_index: int = 0):
+    """A route of ``site`` planned and rendered into ``out``/out, its drawings
+    written (:class:`~cardgen.render.pages.RoutePages`, folder)."""
     config = load_config(site)
     starts = event_starts(config)
-    route = _routes(config, "test", starts)[0]
+    route = _routes(config, "test", starts)[route_index]
     job, error = _plan_route((route, config, route.starts))
     assert error is None, error
-    folder = site.parent / "out"
+    folder = out / "out"
     folder.mkdir()
     pages = render_route(config, site_context(config, starts), job, folder)
     write_files(folder, pages.files)
+    return pages, folder
+
+
+def _fitted(site: Path, batch: int, out: Path, route_index: int = 0):
+    """Every card of a route, fitted as the build fits them. Returns (card, chosen
+    variant, its pages) for each card, the layouts made and the folder."""
+    pages, folder = rendered(site, out, route_index)
     cards = [c for c in pages.cards if c.variants]
     learned: dict = {}
     chosen, layouts = [], 0
@@ -70,7 +77,26 @@ def _fitted(site: Path, batch: int):
 
 @pytest.mark.parametrize("gpx", ["hill-loop.gpx", "day-ride.gpx"])
 def test_no_less_condensed_variant_fits(tmp_path, gpx):
-    chosen, layouts, folder = _fitted(_event(tmp_path, gpx, 15), batch=4)
+    chosen, layouts, folder = _fitted(_event(tmp_path, gpx, 15), 4, tmp_path)
+    _check(chosen, folder)
+    assert layouts <= 2 * len(chosen)  # a sanity bound; the bench measures the mean
+
+
+def test_the_demo_cards_are_condensed_no_more_than_they_need(tmp_path):
+    """The demo's routes, each as the build fits it (one card per kind: each kind's
+    first card starts from what the route's other kinds chose)."""
+    chosen = []
+    for k in range(4):
+        (tmp_path / str(k)).mkdir()
+        got, _, folder = _fitted(demo_site(), 40, tmp_path / str(k), route_index=k)
+        _check(got, folder)
+        chosen += got
+    assert len({index for _, index, _ in chosen}) > 1
+
+
+def _check(chosen, folder: Path) -> None:
+    """Each card within its limit (unless it is the last variant), and the next less
+    condensed variant with other HTML laid out and seen to overflow its own."""
     check = Fitter()
     for card, index, pages in chosen:
         limit = 2 * card.budget if index >= CONTINUATION_STEP else card.budget
@@ -87,4 +113,3 @@ def test_no_less_condensed_variant_fits(tmp_path, gpx):
             limit_j = 2 * card.budget if j >= CONTINUATION_STEP else card.budget
             document = check._layout(card.variants[j], folder)
             assert len(document.pages) > limit_j, (card.target, index, j, len(document.pages))
-    assert layouts <= 2 * len(chosen)  # a sanity bound; the bench measures the mean

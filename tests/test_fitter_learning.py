@@ -12,9 +12,10 @@ from cardgen.render.pages import CardSource
 
 def _html(pages: int, words: str = "") -> str:
     # the last page half full: its content reaches well past a page limit
-    body = (
-        '<p style="break-after: page">page</p>' * (pages - 1) + f'<p style="height: 120mm">last {words}</p>'
+    full = (
+        '<div style="break-after: page"><p style="margin: 0">page</p><div style="height: 220mm"></div></div>'
     )
+    body = full * (pages - 1) + f'<p style="margin: 0">last {words}</p><div style="height: 120mm"></div>'
     return f"<!DOCTYPE html><html lang='en'><head><title>t</title></head><body>{body}</body></html>"
 
 

@@ -133,7 +133,7 @@ def tracks(draw):
 def test_fuzz_terrain_and_plans(tmp_path_factory, route, vehicle, wind, wind_from, temperature):
     from gpxmaker import write_gpx
 
-    from cardgen.physics.atmosphere import Conditions
+    from cardgen.settings import Conditions
 
     lat, lon, ele = route
     path = write_gpx(tmp_path_factory.mktemp("fuzz") / "r.gpx", lat, lon, ele)

@@ -69,6 +69,7 @@ def test_a_misspelt_gpx_path_is_one_message(tmp_path):
     problems = _problems(tmp_path, 'gpx = "hill.gpx"', 'gpx = "hil.gpx"')
     assert len(problems) == 1, problems
     assert "routes[1].gpx" in problems[0] and "hil.gpx" in problems[0]
+    assert "(did you mean 'hill.gpx'" in problems[0]  # the closest file beside it first
 
 
 def test_a_rider_naming_a_route_that_does_not_exist_is_still_reported(tmp_path):

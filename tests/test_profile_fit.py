@@ -113,3 +113,39 @@ def test_a_knots_range_holds_its_true_place_ninety_nine_times_in_a_hundred():
             j = int(np.argmin(np.abs(fit.knots - place)))
             held.append(fit.knot_low[j] <= place <= fit.knot_high[j])
     assert np.mean(held) >= 0.97
+
+
+# -- a bound on the fit's work --------------------------------------------------------
+
+
+def _rollers(km: float) -> np.ndarray:
+    """2 m rollers 200 m long on a 10 m grid: two knots every 200 m."""
+    d = np.arange(0.0, km * 1000.0 + 1.0, 10.0)
+    phase = (d % 200.0) / 200.0
+    return 50.0 + 2.0 * np.where(phase < 0.5, 2.0 * phase, 2.0 - 2.0 * phase)
+
+
+def test_the_fit_stops_at_max_knots(monkeypatch):
+    """The fit's work grows with its knots; past MAX_KNOTS it stops with RoughProfile
+    instead of running for minutes (10,000 km of such rollers had no bound)."""
+    e = _rollers(20.0)
+    fitted = pf.fit_profile(e, 10.0, pf.NOISE_FLOOR)
+    assert 150 <= fitted.knots.size <= 250  # about two knots per roller, 100 rollers
+    monkeypatch.setattr(pf, "MAX_KNOTS", 100)
+    with pytest.raises(pf.RoughProfile):
+        pf.fit_profile(e, 10.0, pf.NOISE_FLOOR)
+
+
+def test_a_route_past_max_knots_is_one_clear_message(monkeypatch, tmp_path, cli):
+    from gpxmaker import profile_gpx
+
+    e = _rollers(20.0)
+    gpx = profile_gpx(tmp_path / "rollers.gpx", np.arange(e.size) * 10.0, e)
+    monkeypatch.setattr(pf, "MAX_KNOTS", 100)
+    code, out, err = cli("route", str(gpx))
+    assert code == 1 and out == ""
+    lines = err.strip().splitlines()
+    assert (
+        len(lines) == 1 and "rollers.gpx" in lines[0] and "more than 100 places over 20 km" in lines[0]
+    ), err
+    assert "Traceback" not in err

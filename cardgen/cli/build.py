@@ -5,12 +5,19 @@ from __future__ import annotations
 import argparse
 import os
 import sys
+from collections.abc import Callable
+from typing import TYPE_CHECKING
 
 from cardgen.cli.common import _print, _ranged
 from cardgen.errors import CardgenError
 
+if TYPE_CHECKING:
+    from pathlib import Path
 
-def _site_config(target: str | None):
+    from cardgen.settings import SiteConfig
+
+
+def _site_config(target: str | None) -> tuple[SiteConfig, bool]:
     """The configuration for ``build``/``check``: the bundled demo, a site.toml, or a
     folder (with or without site.toml)."""
     from pathlib import Path
@@ -33,7 +40,7 @@ def _site_config(target: str | None):
     return load_config(path), False
 
 
-def _progress_printer():
+def _progress_printer() -> tuple[Callable[[int, int, str], None], Callable[[], None]]:
     """A rich progress bar on a terminal, plain lines otherwise. Returns (callback, close)."""
     if sys.stderr.isatty():
         from rich.progress import BarColumn, MofNCompleteColumn, Progress, TextColumn
@@ -47,7 +54,7 @@ def _progress_printer():
         )
         task = None
 
-        def update(done, total, label):
+        def update(done: int, total: int, label: str) -> None:
             nonlocal task
             if task is None:
                 bar.start()
@@ -56,13 +63,13 @@ def _progress_printer():
 
         return update, bar.stop
 
-    def plain(done, total, label):
+    def plain(done: int, total: int, label: str) -> None:
         _print(f"card {done}/{total}: {label}", file=sys.stderr)
 
     return plain, lambda: None
 
 
-def output_folder(config, demo: bool, given: str | None = None):
+def output_folder(config: SiteConfig, demo: bool, given: str | None = None) -> Path:
     """Where a build writes: ``-o``, else ``[site] output`` (relative to its site.toml,
     so a build run from any folder lands beside the event), else ``./site`` for the
     bundled demo, whose site.toml lies inside the installed package."""
@@ -73,7 +80,7 @@ def output_folder(config, demo: bool, given: str | None = None):
     return Path.cwd() / "site" if demo else config.output
 
 
-def cmd_build(args) -> int:
+def cmd_build(args: argparse.Namespace) -> int:
     from cardgen.build import build_site
 
     config, demo = _site_config(args.site)
@@ -106,7 +113,7 @@ def cmd_build(args) -> int:
     return 1 if report.failed else 0
 
 
-def _say_config(config) -> None:
+def _say_config(config: SiteConfig) -> None:
     """The configuration's warnings and what the model changed, once each."""
     for warning in config.warnings:
         _print(f"cardgen: warning: {warning}", file=sys.stderr)
@@ -114,7 +121,7 @@ def _say_config(config) -> None:
         _print(f"cardgen: note: {note}", file=sys.stderr)
 
 
-def add_parser(sub: argparse._SubParsersAction) -> None:
+def add_parser(sub: argparse._SubParsersAction[argparse.ArgumentParser]) -> None:
     """The ``build`` command's options."""
     build = sub.add_parser(
         "build",

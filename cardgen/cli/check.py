@@ -4,16 +4,20 @@ from __future__ import annotations
 
 import argparse
 import sys
+from typing import TYPE_CHECKING
 
 from cardgen.cli.build import _say_config, _site_config, output_folder
 from cardgen.cli.common import _print
 from cardgen.errors import CardgenError
 
+if TYPE_CHECKING:
+    from cardgen.settings import SiteConfig
+
 #: Riders named by ``check`` (a field of thousands is counted, not listed).
 CHECK_NAMES = 12
 
 
-def _print_waves(config) -> None:
+def _print_waves(config: SiteConfig) -> None:
     """Each start wave's riders and first and last start (one start line per wave,
     whatever the routes its riders ride)."""
     from cardgen.config import plural
@@ -31,7 +35,7 @@ def _print_waves(config) -> None:
             _print(f"wave {wave.name}: no riders start in it")
 
 
-def _entrants_and_rides(config) -> str:
+def _entrants_and_rides(config: SiteConfig) -> str:
     """ "9 entrants, 9 rides", and what makes them differ: a rider entered on several
     routes (or on none named: every route) has a card, a start and a place in the
     checkpoint, feed and sweep counts on each route, as a ride of its own."""
@@ -48,7 +52,7 @@ def _entrants_and_rides(config) -> str:
     return said
 
 
-def cmd_check(args) -> int:
+def cmd_check(args: argparse.Namespace) -> int:
     """Everything a build can find without rendering, all at once."""
     from cardgen.config import plural
     from cardgen.io.gpx import read_gpx
@@ -103,7 +107,7 @@ def cmd_check(args) -> int:
     return 0
 
 
-def add_parser(sub: argparse._SubParsersAction) -> None:
+def add_parser(sub: argparse._SubParsersAction[argparse.ArgumentParser]) -> None:
     """The ``check`` command's options."""
     check = sub.add_parser(
         "check",

@@ -6,6 +6,8 @@ from __future__ import annotations
 import argparse
 import math
 import re
+from collections.abc import Callable
+from typing import Any
 
 from cardgen.errors import CardgenError
 
@@ -14,7 +16,7 @@ from cardgen.errors import CardgenError
 _STEERING = re.compile("[\x00-\x09\x0b-\x1f\x7f-\x9f\u200e\u200f\u202a-\u202e\u2066-\u2069]")
 
 
-def _print(*parts: object, **kwargs) -> None:
+def _print(*parts: object, **kwargs: Any) -> None:
     """print(), with text that cannot steer the terminal."""
     print(*(_STEERING.sub("\ufffd", str(part)) for part in parts), **kwargs)
 
@@ -48,7 +50,7 @@ def _finite(value: float | None, name: str) -> None:
     _ensure(value is None or math.isfinite(value), f"{name} must be a finite number")
 
 
-def _ranged(low: int, high: int, what: str):
+def _ranged(low: int, high: int, what: str) -> Callable[[str], int]:
     """An argparse type: a whole number from ``low`` to ``high`` (else a usage error, exit 2)."""
 
     def parse(text: str) -> int:

@@ -33,7 +33,8 @@ def main(argv: list[str] | None = None) -> int:
     args = build_parser().parse_args(argv)
     _check_source_date_epoch()
     try:
-        return args.run(args)
+        code: int = args.run(args)
+        return code
     except CardgenError as exc:
         _print(f"cardgen: error: {exc}", file=sys.stderr)
         return 1

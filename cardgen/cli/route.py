@@ -6,11 +6,15 @@ import argparse
 import json
 import math
 import os
+from typing import TYPE_CHECKING, Any
 
 from cardgen.cli.common import _finite, _n, _print, _within
 from cardgen.errors import CardgenError
 from cardgen.profiles.riders import PACING_STYLES
 from cardgen.units import KMH_PER_MS
+
+if TYPE_CHECKING:
+    from cardgen.plan import Plan
 
 #: The short caution of ``cardgen route`` (the cards carry the full ones).
 ROUTE_CAUTION = (
@@ -20,13 +24,13 @@ ROUTE_CAUTION = (
 )
 
 
-def _route_plan(args):
+def _route_plan(args: argparse.Namespace) -> Plan:
     """Read, analyse and plan one route from the ``route`` command's options."""
     from cardgen.io.gpx import read_gpx
-    from cardgen.physics.atmosphere import Conditions
     from cardgen.plan import plan_route
     from cardgen.profiles.riders import Rider
     from cardgen.profiles.vehicles import find_vehicle
+    from cardgen.settings import Conditions
     from cardgen.units import celsius_to_kelvin, kmh_to_ms
 
     for name in ("power", "target_speed", "wind", "wind_from", "temperature", "cp", "w_prime"):
@@ -35,7 +39,7 @@ def _route_plan(args):
     _within("--power", args.power, "route_power_w")
     _within("--cp", args.cp, "cp_w")
     _within("--w-prime", None if args.w_prime is None else args.w_prime / 1000, "w_prime_kj")
-    given: dict = {}
+    given: dict[str, Any] = {}
     if args.power is not None:
         given.update(flat_power=args.power, climb_power=args.power)
     if args.cp is not None:
@@ -59,21 +63,21 @@ def _route_plan(args):
     return plan_route(read_gpx(args.gpx), [rider], conditions, where=str(args.gpx)).plans[0]
 
 
-def _speed(kmh):
+def _speed(kmh: float | None) -> str:
     """A speed of the JSON (km/h) as the notes and the card print it (to 0.5 km/h)."""
     from cardgen.render import format as fmt
 
     return fmt.speed(None if kmh is None else kmh / KMH_PER_MS)
 
 
-def _grade(pct):
+def _grade(pct: float | None) -> str:
     """A grade of the JSON (percent) as the notes and the card print it (to 0.5 %)."""
     from cardgen.render import format as fmt
 
     return fmt.grade(None if pct is None else pct / 100)
 
 
-def cmd_route(args) -> int:
+def cmd_route(args: argparse.Namespace) -> int:
     from cardgen.render import format as fmt
     from cardgen.render.exports import route_json
     from cardgen.render.format import duration
@@ -90,13 +94,12 @@ def cmd_route(args) -> int:
     _print(
         f"{r['name']}: {_n(r['distance_km'], '.1f')} km, +{_n(r['gain_m'], '.0f')} m / -{_n(r['loss_m'], '.0f')} m"
     )
-    e, rider = plan.effort, plan.rider
+    rider = plan.rider
     _print(
         f"{v.label} ({v.name}), {v.mass:.0f} kg; CP {rider.cp:.0f} W, W′ {rider.w_prime / 1000:.1f} kJ; "
         f"climb target {rider.target_speed * KMH_PER_MS:.1f} km/h"
     )
-    assumed = "" if e.given else f", the default for a ride of about {duration(e.duration or 0.0)}"
-    _print(f"Pacing: {e.style}, mean {e.mean_power:.0f} W ({e.mean_power / rider.cp:.0%} of CP{assumed})")
+    _print_pacing(plan)
     _print()
     if data["climbs"]:
         _print(" #   km        length  gain     avg    max  FIETS band       W@target  km/h  time")
@@ -141,7 +144,20 @@ def cmd_route(args) -> int:
     return 0
 
 
-def _write_trace(plan, path: str) -> None:
+def _print_pacing(plan: Plan) -> None:
+    """The day's pacing: its style and mean power, and the ride length it assumed."""
+    from cardgen.render.format import duration
+
+    e = plan.effort
+    if e is None:
+        return
+    assumed = "" if e.given else f", the default for a ride of about {duration(e.duration or 0.0)}"
+    _print(
+        f"Pacing: {e.style}, mean {e.mean_power:.0f} W ({e.mean_power / plan.rider.cp:.0%} of CP{assumed})"
+    )
+
+
+def _write_trace(plan: Plan, path: str) -> None:
     """Write the plan's node-by-node trace to ``path``, whole or not at all."""
     from pathlib import Path
 
@@ -157,7 +173,7 @@ def _write_trace(plan, path: str) -> None:
         raise CardgenError(f"{path}: cannot write the trace ({exc.strerror or exc})") from None
 
 
-def add_parser(sub: argparse._SubParsersAction) -> None:
+def add_parser(sub: argparse._SubParsersAction[argparse.ArgumentParser]) -> None:
     """The ``route`` command's options."""
     route = sub.add_parser(
         "route",

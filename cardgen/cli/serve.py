@@ -4,24 +4,27 @@ from __future__ import annotations
 
 import argparse
 import sys
+from pathlib import Path
+from typing import TYPE_CHECKING
 
 from cardgen.cli.build import _site_config
 from cardgen.cli.common import _ensure, _print, _ranged
 from cardgen.errors import CardgenError
 
+if TYPE_CHECKING:
+    from cardgen.settings import SiteConfig
 
-def _watch_paths(config) -> list:
+
+def _watch_paths(config: SiteConfig) -> list[Path]:
     """What a watched site is made of: every file its configuration reads, and its
     templates."""
-    from pathlib import Path
-
     paths = [Path(p) for p in config.inputs if Path(p).is_file()]
     if config.templates:
         paths.extend(p for p in Path(config.templates).rglob("*") if p.is_file())
     return paths
 
 
-def cmd_serve(args) -> int:
+def cmd_serve(args: argparse.Namespace) -> int:
     import ipaddress
     import threading
     from pathlib import Path
@@ -84,7 +87,7 @@ def cmd_serve(args) -> int:
     return 0
 
 
-def add_parser(sub: argparse._SubParsersAction) -> None:
+def add_parser(sub: argparse._SubParsersAction[argparse.ArgumentParser]) -> None:
     """The ``serve`` command's options."""
     serve = sub.add_parser(
         "serve",

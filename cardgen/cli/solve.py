@@ -5,6 +5,7 @@ from __future__ import annotations
 import argparse
 import json
 import math
+from typing import Any
 
 from cardgen.cli.common import _ensure, _finite, _print, _ranged, _within
 
@@ -14,7 +15,7 @@ from cardgen.cli.common import _ensure, _finite, _print, _ranged, _within
 PLAUSIBLE_SPEED_KMH = 100.0
 
 
-def _air_density(args) -> tuple[float | None, float]:
+def _air_density(args: argparse.Namespace) -> tuple[float | None, float]:
     """The air density given (or None) and the altitude for the standard atmosphere."""
     if args.air_density is not None:
         _within("--air-density", args.air_density, "air_density_kg_m3")
@@ -23,7 +24,7 @@ def _air_density(args) -> tuple[float | None, float]:
     return None, args.altitude
 
 
-def _resistance(args):
+def _resistance(args: argparse.Namespace) -> tuple[float, float, float, float, bool, str]:
     """Mass, Crr, CdA, efficiency, bearing flag and a description from the options."""
     explicit = [args.mass, args.crr, args.cda]
     if args.vehicle is not None:
@@ -44,7 +45,7 @@ def _resistance(args):
     return args.mass, args.crr, args.cda, eff, False, "custom vehicle"
 
 
-def _solve_motor(args):
+def _solve_motor(args: argparse.Namespace) -> tuple[Any, float]:
     """The vehicle's motor (with the vehicle's battery) and the assist ratio asked for
     (None, 0 without a motor)."""
     from cardgen.profiles.vehicles import find_vehicle
@@ -65,7 +66,7 @@ def _solve_motor(args):
     return motor, (0.0 if level == 0 else motor.levels[level - 1])
 
 
-def cmd_solve(args) -> int:
+def cmd_solve(args: argparse.Namespace) -> int:
     from cardgen.plan.steady import steady_state
     from cardgen.units import kmh_to_ms, ms_to_kmh, pct_to_grade
 
@@ -108,7 +109,7 @@ def cmd_solve(args) -> int:
         ratio=ratio,
     )
     _ensure(math.isfinite(state.speed), "no steady speed exists for these values; check the inputs")
-    speed, power, motor_w, rho = state.speed, state.power, state.motor_power, state.air_density
+    speed, power, motor_w, air_density = state.speed, state.power, state.motor_power, state.air_density
     breakdown = {
         "rolling": state.rolling,
         "aero": state.aero,
@@ -120,7 +121,7 @@ def cmd_solve(args) -> int:
         "power_w": power,
         "grade_pct": args.grade,
         "headwind_kmh": args.headwind,
-        "air_density_kg_m3": rho,
+        "air_density_kg_m3": air_density,
         "breakdown_w": breakdown,
     }
     if motor is not None:
@@ -129,7 +130,9 @@ def cmd_solve(args) -> int:
     if args.json:
         print(json.dumps(result, indent=2))
         return 0
-    _print_solve(args, result, label, (mass, cda, crr, eff), rho, speed, power, motor, motor_w, bearings)
+    _print_solve(
+        args, result, label, (mass, cda, crr, eff), air_density, speed, power, motor, motor_w, bearings
+    )
     return 0
 
 
@@ -140,13 +143,26 @@ SOLVE_CAUTION = (
 )
 
 
-def _print_solve(args, result, label, vehicle, rho, speed, power, motor, motor_w, bearings) -> None:
+def _print_solve(
+    args: argparse.Namespace,
+    result: dict[str, Any],
+    label: str,
+    vehicle: tuple[float, float, float, float],
+    air_density: float,
+    speed: float,
+    power: float,
+    motor: Any,
+    motor_w: float,
+    bearings: bool,
+) -> None:
     """The solve command's words for a person."""
     mass, cda, crr, eff = vehicle
     breakdown = result["breakdown_w"]
     _print(f"{label}: {mass:g} kg, CdA {cda:.3f} m², Crr {crr:.4f}, drivetrain {eff * 100:.1f} %")
     wind = "headwind" if args.headwind >= 0 else "tailwind"
-    _print(f"grade {args.grade:+.1f} %, {wind} {abs(args.headwind):.1f} km/h, air density {rho:.3f} kg/m³")
+    _print(
+        f"grade {args.grade:+.1f} %, {wind} {abs(args.headwind):.1f} km/h, air density {air_density:.3f} kg/m³"
+    )
     _print()
     if speed == 0 and args.power is not None:
         _print("  speed        0 km/h: this power cannot keep the vehicle moving here")
@@ -175,7 +191,7 @@ def _print_solve(args, result, label, vehicle, rho, speed, power, motor, motor_w
     _print(f"\n{SOLVE_CAUTION}")
 
 
-def add_parser(sub: argparse._SubParsersAction) -> None:
+def add_parser(sub: argparse._SubParsersAction[argparse.ArgumentParser]) -> None:
     """The ``solve`` command's options."""
     solve = sub.add_parser(
         "solve",

@@ -8,7 +8,7 @@ import json
 from cardgen.cli.common import _print
 
 
-def cmd_vehicles(args) -> int:
+def cmd_vehicles(args: argparse.Namespace) -> int:
     from cardgen.profiles.vehicles import builtin_vehicles
     from cardgen.units import ms_to_kmh
 
@@ -49,7 +49,7 @@ def cmd_vehicles(args) -> int:
     return 0
 
 
-def add_parser(sub: argparse._SubParsersAction) -> None:
+def add_parser(sub: argparse._SubParsersAction[argparse.ArgumentParser]) -> None:
     """The ``vehicles`` command's options."""
     vehicles = sub.add_parser(
         "vehicles", help="list the built-in vehicles", description="List the built-in vehicles."

@@ -62,7 +62,9 @@ class Checker:
         place = f"{self.path}" + (f", line {line}" if line else "") if self.path else "settings"
         return f"{place}: {name}"
 
-    def value(self, section: str, table: dict, index: int | None, key: str, spec: Spec, folder: Path) -> Any:
+    def value(
+        self, section: str, table: dict[str, Any], index: int | None, key: str, spec: Spec, folder: Path
+    ) -> Any:
         """The checked value of ``key`` (its default when missing or wrong: the problem
         is recorded)."""
         if key not in table:
@@ -79,8 +81,13 @@ class Checker:
             return spec.default
 
     def table(
-        self, section: str, table: Any, index: int | None, folder: Path, vehicles: dict | None = None
-    ) -> dict:
+        self,
+        section: str,
+        table: Any,
+        index: int | None,
+        folder: Path,
+        vehicles: dict[str, Any] | None = None,
+    ) -> dict[str, Any]:
         schema = SCHEMA[section]
         if not isinstance(table, dict):
             shape = f"[[{section}]] tables" if section in TABLE_ARRAYS else f"a [{section}] table"

@@ -9,10 +9,9 @@ from pathlib import Path
 from cardgen.config.loader import plural
 from cardgen.errors import CardgenError, ConfigError
 from cardgen.io.gpx import read_gpx
-from cardgen.physics.atmosphere import Conditions
 from cardgen.profiles.riders import Rider
 from cardgen.profiles.vehicles import builtin_vehicles
-from cardgen.settings import RiderConfig, RouteConfig, SiteConfig
+from cardgen.settings import Conditions, RiderConfig, RouteConfig, SiteConfig
 
 #: Riders of a zero-config build (a folder of GPX files without site.toml).
 DEFAULT_RIDERS = (

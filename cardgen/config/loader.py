@@ -23,13 +23,12 @@ from cardgen.config.schema import SCHEMA, SECTIONS
 from cardgen.errors import CardgenError, ConfigError, close_matches
 from cardgen.io.files import read_toml
 from cardgen.io.tables import read_csv
-from cardgen.physics.atmosphere import Conditions
 from cardgen.profiles.limits import LIMITS
 from cardgen.profiles.riders import DEFAULT_ASSIST_LEVEL, Rider, flat_power_for_speed
 from cardgen.profiles.vehicles import Vehicle, vehicles_from_tables
 from cardgen.route.terrain import MAX_ROUTE_LENGTH
-from cardgen.settings import RiderConfig, RouteConfig, SiteConfig, Wave
-from cardgen.units import KMH_PER_MS, ZERO_CELSIUS_K
+from cardgen.settings import Conditions, RiderConfig, RouteConfig, SiteConfig, Wave
+from cardgen.units import J_PER_WH, KMH_PER_MS, ZERO_CELSIUS_K
 
 
 def load_config(path: Path) -> SiteConfig:
@@ -39,7 +38,7 @@ def load_config(path: Path) -> SiteConfig:
     return _from_data(data, path, text, path.resolve().parent)
 
 
-def _from_data(data: dict, path: Path | None, text: str, folder: Path) -> SiteConfig:
+def _from_data(data: dict[str, Any], path: Path | None, text: str, folder: Path) -> SiteConfig:
     check = Checker(path, text)
     for key in data:
         if key not in SECTIONS:
@@ -266,7 +265,7 @@ def _duplicates(check: Checker, values: list[tuple[int, Any]], key: str, words: 
             check.problems.append(f"{shown}{more}: {words.format(value)}; give each a different {key}")
 
 
-def _stops(check: Checker, index: int, route: dict) -> tuple[float, ...]:
+def _stops(check: Checker, index: int, route: dict[str, Any]) -> tuple[float, ...]:
     """``stops_min`` of one route, in seconds: numbers in range, one per checkpoint."""
     raw = route.get("stops_min")
     if not raw:
@@ -292,7 +291,7 @@ MAX_KM = MAX_ROUTE_LENGTH / 1000.0
 
 
 def _checkpoints(
-    check: Checker, index: int, route: dict, key: str = "checkpoints"
+    check: Checker, index: int, route: dict[str, Any], key: str = "checkpoints"
 ) -> tuple[str | float, ...]:
     """``checkpoints`` (or ``feeds``, ``marshals``: ``key``) of one route: waypoint
     names, and distances [m] from numbers in km, which must be finite (whether they lie
@@ -312,7 +311,7 @@ def _checkpoints(
     return tuple(out)
 
 
-def _cue_texts(check: Checker, index: int, route: dict) -> tuple[tuple[float, str], ...]:
+def _cue_texts(check: Checker, index: int, route: dict[str, Any]) -> tuple[tuple[float, str], ...]:
     """``cue_texts`` of one route: entries "km = text", the distance in km written as
     :data:`cardgen.config.numbers.FORMAT` says, within 0…:data:`MAX_KM`."""
     out = []
@@ -330,7 +329,7 @@ def _cue_texts(check: Checker, index: int, route: dict) -> tuple[tuple[float, st
     return tuple(out)
 
 
-def _speed_rule(check: Checker, event: dict) -> tuple[float, float] | None:
+def _speed_rule(check: Checker, event: dict[str, Any]) -> tuple[float, float] | None:
     """[event] min_kmh and max_kmh: both or neither, slowest below fastest."""
     slowest, fastest = event.get("min_kmh"), event.get("max_kmh")
     if slowest is None and fastest is None:
@@ -417,7 +416,7 @@ def _site_vehicles(check: Checker, raw: Any) -> dict[str, Vehicle]:
     return found
 
 
-def _route_tables(check: Checker, raw: Any, folder: Path) -> list[dict]:
+def _route_tables(check: Checker, raw: Any, folder: Path) -> list[dict[str, Any]]:
     """[[routes]] tables, or one pattern string: every GPX file it matches. A table's
     ``gpx`` may be a pattern too; a file named by a table of its own takes that
     table's settings wherever a pattern also matched it."""
@@ -426,7 +425,7 @@ def _route_tables(check: Checker, raw: Any, folder: Path) -> list[dict]:
     if not isinstance(raw, list) or not raw:
         check.problems.append(f'{check.path}: no routes; add [[routes]] tables, or routes = "routes/*.gpx"')
         return []
-    explicit: dict[Path, dict] = {}
+    explicit: dict[Path, dict[str, Any]] = {}
     expanded: list[tuple[Path | None, int, Any]] = []
     for i, table in enumerate(raw):
         pattern = table.get("gpx") if isinstance(table, dict) else None
@@ -456,7 +455,9 @@ def _route_tables(check: Checker, raw: Any, folder: Path) -> list[dict]:
     return tables
 
 
-def _rider(check: Checker, i: int, r: dict, routes: tuple[RouteConfig, ...] | None) -> RiderConfig | None:
+def _rider(
+    check: Checker, i: int, r: dict[str, Any], routes: tuple[RouteConfig, ...] | None
+) -> RiderConfig | None:
     """One [[riders]] table as a rider on their vehicle; problems and the model's
     adjustments are recorded on ``check``. ``routes`` is None while a [[routes]] entry
     has a problem of its own: the routes riders name are then not checked (the route
@@ -505,7 +506,7 @@ def _rider(check: Checker, i: int, r: dict, routes: tuple[RouteConfig, ...] | No
     return RiderConfig(rider, tuple(str(x) for x in (r["routes"] or ())), r["start"], r["bib"])
 
 
-def _flat_power(check: Checker, i: int, r: dict, vehicle: Vehicle, given: dict[str, Any]) -> bool:
+def _flat_power(check: Checker, i: int, r: dict[str, Any], vehicle: Vehicle, given: dict[str, Any]) -> bool:
     """The flat power of a [[riders]] table into ``given``: ``flat_w``, or the power
     ``flat_kmh`` takes on the rider's vehicle; False after a problem, reported at the
     key that was given (a flat power above a given CP is one)."""
@@ -554,7 +555,7 @@ def _with_assist(vehicle: Vehicle, level: int) -> str:
     return f" with assist level {level}" if level else " with the motor off"
 
 
-def _fitted_vehicle(check: Checker, i: int, r: dict, vehicle: Vehicle) -> Vehicle:
+def _fitted_vehicle(check: Checker, i: int, r: dict[str, Any], vehicle: Vehicle) -> Vehicle:
     """The rider's vehicle with their own body mass, load and battery."""
     changes: dict[str, Any] = {}
     if r["body_mass_kg"] is not None:
@@ -567,7 +568,7 @@ def _fitted_vehicle(check: Checker, i: int, r: dict, vehicle: Vehicle) -> Vehicl
                 f"{check.where('riders', i, 'battery_wh')}: the vehicle {vehicle.name!r} has no motor"
             )
         else:
-            changes["battery"] = float(r["battery_wh"]) * 3600.0
+            changes["battery"] = float(r["battery_wh"]) * J_PER_WH
     if r["assist_between_climbs"] is not None and vehicle.motor is None:
         check.warnings.append(
             f"{check.where('riders', i, 'assist_between_climbs')}: the vehicle {vehicle.name!r} "

@@ -26,7 +26,7 @@ class Spec:
     required: bool = False
     default: Any = None
     limit: str = ""  # for numbers: the key of cardgen.profiles.limits.LIMITS with the range
-    choices: tuple = ()
+    choices: tuple[Any, ...] = ()
     help: str = ""
 
     @property

@@ -7,6 +7,7 @@ message that says where the value is, what is wrong and how to fix it.
 
 from __future__ import annotations
 
+import itertools
 from collections.abc import Callable, Mapping
 from dataclasses import dataclass
 from datetime import date, datetime, time
@@ -17,7 +18,7 @@ from cardgen.config.numbers import FORMAT
 from cardgen.config.patterns import local_path
 from cardgen.config.schema import EVENT_YEARS, MAX_URL_LENGTH, Spec
 from cardgen.config.text import control_problem, has_host
-from cardgen.errors import CardgenError, ConfigError
+from cardgen.errors import CardgenError, ConfigError, close_matches
 from cardgen.profiles.limits import LIMITS
 from cardgen.profiles.vehicles import Vehicle, find_vehicle
 
@@ -96,8 +97,28 @@ def path(raw: Any, spec: Spec, place: Place) -> Path:
     except ConfigError as exc:
         raise Invalid(str(exc)) from None
     if not resolved.is_file():
-        raise Invalid(f"{place.where}: no file {resolved}; check the path (relative to {place.folder})")
+        raise Invalid(
+            f"{place.where}: no file {resolved}{_near_names(resolved)}; check the path "
+            f"(relative to {place.folder})"
+        )
     return resolved
+
+
+#: Files of a folder looked at for a misspelt name's suggestion (a folder of a huge
+#: number of files is not listed whole for a message).
+NEAR_NAMES_LOOKED_AT = 1000
+
+
+def _near_names(missing: Path) -> str:
+    """ " (did you mean 'hill-loop.gpx'?)" for files beside a missing one with a close
+    name, or ""."""
+    try:
+        names = [
+            p.name for p in itertools.islice(missing.parent.iterdir(), NEAR_NAMES_LOOKED_AT) if p.is_file()
+        ]
+    except OSError:
+        return ""
+    return close_matches(missing.name, names)
 
 
 def vehicle(raw: Any, spec: Spec, place: Place) -> Vehicle:
@@ -116,7 +137,7 @@ def vehicle(raw: Any, spec: Spec, place: Place) -> Vehicle:
         raise Invalid(f"{place.where}: {exc}") from None
 
 
-def values(raw: Any, spec: Spec, place: Place) -> tuple:
+def values(raw: Any, spec: Spec, place: Place) -> tuple[Any, ...]:
     """A list of names and numbers."""
     if not isinstance(raw, list) or not all(
         isinstance(x, str | int | float) and not isinstance(x, bool) for x in raw

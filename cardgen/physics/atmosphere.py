@@ -11,8 +11,6 @@ doi:10.1175/1520-0450(1981)020<1527:NEFCVP>2.0.CO;2
 
 from __future__ import annotations
 
-from dataclasses import dataclass
-
 import numpy as np
 
 from cardgen.units import ZERO_CELSIUS_K, Floats
@@ -195,13 +193,3 @@ def density_along(elevation: Floats, temperature: float | None = None) -> np.nda
     z = np.asarray(elevation, dtype=float)
     mid = 0.5 * (z[1:] + z[:-1])
     return np.asarray(air_density_isa(np.clip(mid, *DENSITY_HEIGHTS), temperature), dtype=float)
-
-
-@dataclass(frozen=True)
-class Conditions:
-    """Weather: ``wind_speed`` [m/s], ``wind_from`` [rad] clockwise from north (where
-    the wind comes from), ``temperature`` [K] or None for the ISA temperature."""
-
-    wind_speed: float = 0.0
-    wind_from: float = 0.0
-    temperature: float | None = None

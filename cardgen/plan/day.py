@@ -113,36 +113,37 @@ def day_points(
     last_start = max(starts)
     rows, stocked = [], set()
     for window in windows:
-        cp = window.checkpoint
+        point = window.checkpoint
         due = [(a, i) for i, a in enumerate(window.arrivals) if a is not None]
         arrivals = [a for a, _ in due]
         carbs = fluid = 0.0
-        if supplies_food(cp) and cp.distance not in stocked:  # the next leg of everyone due there
-            stocked.add(cp.distance)  # two points at one place stock it once
+        if supplies_food(point) and point.distance not in stocked:  # the next leg of everyone due there
+            stocked.add(point.distance)  # two points at one place stock it once
             for _, i in due:
-                leg = rider_legs[i].get(cp.distance)
+                leg = rider_legs[i].get(point.distance)
                 carbs += leg.carbs[1] if leg and leg.carbs else 0.0
                 fluid += leg.fluid[1] if leg and leg.fluid else 0.0
-        stop = timedelta(seconds=cp.stop)
+        stop = timedelta(seconds=point.stop)
         arrivals_left = [max(arrivals) + stop] if arrivals else []
-        marshal = cp.kind == "marshal"
+        marshal = point.kind == "marshal"
         rows.append(
             PointDay(
-                cp.name,
-                cp.kind,
-                cp.distance,
+                point.name,
+                point.kind,
+                point.distance,
                 window.opens,
                 window.closes,
                 len(due),
                 min(arrivals) if arrivals else None,
                 max(arrivals) if arrivals else None,
                 _quarters(arrivals),
-                cp.stop,
+                point.stop,
                 None if marshal else carbs * (1 + STOCK_MARGIN),
                 None if marshal else fluid * (1 + STOCK_MARGIN),
                 max(arrivals) + stop if arrivals else None,
                 max(
-                    [last_start + timedelta(seconds=SWEEP_DELAY + cp.distance / SWEEP_SPEED)] + arrivals_left
+                    [last_start + timedelta(seconds=SWEEP_DELAY + point.distance / SWEEP_SPEED)]
+                    + arrivals_left
                 ),
             )
         )

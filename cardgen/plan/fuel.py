@@ -24,6 +24,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from cardgen.plan.model import Plan
+from cardgen.units import S_PER_H
 
 #: (longest whole-ride duration [h], carbohydrate g/h low, high), in order.
 CARB_BANDS = ((0.75, 0.0, 0.0), (1.25, 0.0, 30.0), (2.5, 30.0, 60.0), (float("inf"), 60.0, 90.0))
@@ -64,7 +65,7 @@ def legs(plan: Plan, feeds: Sequence[tuple[float, str]], temperature_c: float | 
     """The legs between the feed points ``feeds`` ((where [m], name)) and the finish."""
     terrain, ride = plan.terrain, plan.ride
     ends = sorted((d, n) for d, n in feeds if 0 < d < terrain.length) + [(terrain.length, "Finish")]
-    total = plan.finish_elapsed / 3600.0
+    total = plan.finish_elapsed / S_PER_H
     carbs = carb_rate(total if np.isfinite(total) else float("inf"))
     fluid = fluid_rate(temperature_c)
     finite = np.isfinite(ride.time)
@@ -76,7 +77,7 @@ def legs(plan: Plan, feeds: Sequence[tuple[float, str]], temperature_c: float | 
             np.interp(end, terrain.distance, ride.elapsed) - np.interp(start, terrain.distance, ride.elapsed)
         )
         joules = float(np.interp(end, terrain.distance, work) - np.interp(start, terrain.distance, work))
-        hours = seconds / 3600.0
+        hours = seconds / S_PER_H
         known = bool(np.isfinite(hours))
         out.append(
             Leg(

@@ -15,7 +15,6 @@ from typing import TYPE_CHECKING, Any
 import numpy as np
 
 from cardgen.physics.assist import Motor
-from cardgen.physics.atmosphere import Conditions
 from cardgen.physics.ride import Ride, RideTimes
 from cardgen.profiles.riders import Rider
 from cardgen.route.checkpoints import Checkpoint
@@ -23,6 +22,7 @@ from cardgen.route.climbs import Climb, Descent
 from cardgen.route.cues import Cue
 from cardgen.route.gpx import Track
 from cardgen.route.terrain import Terrain
+from cardgen.settings import Conditions
 
 if TYPE_CHECKING:  # made from plans: their modules import this one
     from cardgen.plan.day import PointDay

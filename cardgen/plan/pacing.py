@@ -617,6 +617,28 @@ class PacedRide:
     empty_at: float | None
 
 
+@dataclass(frozen=True)
+class Pacer:
+    """One rider's pacing on any course: the day's ``mean_power`` [W], ``cp`` [W],
+    ``w_prime`` [J] and the ceiling ``top`` [W]."""
+
+    mean_power: float
+    cp: float
+    w_prime: float
+    top: float
+
+    def __call__(self, course: Course, *, cut: bool = True) -> PacedRide:
+        """The plan ridden (:func:`pace`)."""
+        return pace(
+            course, mean_power=self.mean_power, cp=self.cp, w_prime=self.w_prime, top=self.top, cut=cut
+        )
+
+    def steady(self, course: Course) -> Pacing:
+        """The plan on steady speeds, not ridden (:func:`plan_pacing`): the cheap
+        judge of a change to the course, such as other assist levels."""
+        return plan_pacing(course, mean_power=self.mean_power, cp=self.cp, w_prime=self.w_prime, top=self.top)
+
+
 def ridden_mean(ride: Ride) -> float:
     """Time-weighted mean rider power [W] of a ride (stalled segments left out)."""
     finite = np.isfinite(ride.time)
@@ -624,9 +646,13 @@ def ridden_mean(ride: Ride) -> float:
     return float(np.sum(ride.rider_power[finite] * ride.time[finite]) / total) if total > 0 else 0.0
 
 
-def pace(course: Course, *, mean_power: float, cp: float, w_prime: float, top: float) -> PacedRide:
+def pace(
+    course: Course, *, mean_power: float, cp: float, w_prime: float, top: float, cut: bool = True
+) -> PacedRide:
     """Plan the power (:func:`plan_pacing`) and ride it, at ``mean_power`` [W] as
-    ridden; with a motor, the motor gives nothing once the battery is empty.
+    ridden; with a motor, the motor gives nothing once the battery is empty (without
+    ``cut`` the motor runs the whole way: the ride of levels meant to fit the battery,
+    which its caller checks, at the cost of one plan).
 
     Notes
     -----
@@ -642,16 +668,16 @@ def pace(course: Course, *, mean_power: float, cp: float, w_prime: float, top: f
     for _ in range(BATTERY_ROUNDS):
         ridden = course if ratio is full else dataclasses.replace(course, assist_ratio=ratio)
         pacing, ride = _fit(ridden, mean_power, cp, w_prime, top)
-        if course.motor is None or full is None:
+        if course.motor is None or full is None or not cut:
             break
         # the draw up to any point does not depend on the motor after it: ride this
         # power with the motor on throughout, and cut where that empties the battery
         unbounded = ride if ratio is full else course.ride(pacing.power, full)
-        cut = _battery_cut(unbounded, full, course.motor)
-        if cut is None:
+        emptied = _battery_cut(unbounded, full, course.motor)
+        if emptied is None:
             ratio, empty_at, ride = full, None, unbounded
             break
-        index, cut_ratio = cut
+        index, cut_ratio = emptied
         ride = course.ride(pacing.power, cut_ratio)
         settled = empty_at is not None and empty_at == float(course.distance[index + 1])
         ratio, empty_at = cut_ratio, float(course.distance[index + 1])
@@ -700,12 +726,57 @@ def _fit(course: Course, mean_power: float, cp: float, w_prime: float, top: floa
         ridden = ridden_mean(ride)
         low = float(np.min(w_prime_balance(ride.rider_power, ride.time, cp, w_prime), initial=w_prime))
         short = low < -W_PRIME_SLACK * w_prime
-        if ridden <= 0 or (abs(ridden - mean_power) <= MEAN_TOLERANCE * mean_power and not short):
+        if ridden <= 0 or not short:
             break
-        if short:  # the ride's inertia spent more than the programme planned: keep more
-            floor += -low / w_prime + W_FLOOR
+        # the ride's inertia spent more than the programme planned: keep more
+        floor += -low / w_prime + W_FLOOR
         asked = min(asked * mean_power / ridden, top)
+    if ridden > 0 and not short and abs(ridden - mean_power) > MEAN_TOLERANCE * mean_power:
+        return _trim(course, pacing, ride, mean_power, cp, w_prime, top)
     return pacing, ride
+
+
+def _trim(
+    course: Course, pacing: Pacing, ride: Ride, mean_power: float, cp: float, w_prime: float, top: float
+) -> tuple[Pacing, Ride]:
+    """The plan with its power below CP scaled so that the ride's mean is
+    ``mean_power`` [W], when the programme's levels could not come within
+    :data:`MEAN_TOLERANCE` of it (their steps are coarse on a short course); a scaled
+    plan is kept only when its ride is nearer the mean and W′ holds.
+
+    Notes
+    -----
+    Scaling the power P on the segments below CP by s moves the mean by about
+    (s − 1)·Σ P t / Σ t (times held), the first guess; the times move too (with a
+    motor, most), so the second is the secant through the first's ride (at most
+    :data:`TRIM_ROUNDS` rides). The scaled power stays below CP and the ceiling ``top`` [W].
+    """
+    seconds = np.where(np.isfinite(ride.time), ride.time, 0.0)
+    below = (pacing.power > 0) & (pacing.power < cp)
+    work = float(np.sum(pacing.power[below] * seconds[below]))
+    if work <= 0:
+        return pacing, ride
+    best = (abs(ridden_mean(ride) - mean_power), pacing, ride)
+    points = [(1.0, ridden_mean(ride))]
+    scale = 1.0 + (mean_power - points[0][1]) * float(np.sum(seconds)) / work
+    for _ in range(TRIM_ROUNDS):
+        power = np.where(below, np.minimum(pacing.power * max(scale, 0.0), min(cp, top)), pacing.power)
+        trimmed = course.ride(power)
+        mean = ridden_mean(trimmed)
+        low = float(np.min(w_prime_balance(trimmed.rider_power, trimmed.time, cp, w_prime), initial=w_prime))
+        if low >= -W_PRIME_SLACK * w_prime and abs(mean - mean_power) < best[0]:
+            best = (abs(mean - mean_power), dataclasses.replace(pacing, power=power), trimmed)
+        if best[0] <= TRIM_TOLERANCE * mean_power or mean == points[-1][1]:
+            break
+        (s0, m0), points = points[-1], [*points, (scale, mean)]
+        scale = s0 + (scale - s0) * (mean_power - m0) / (mean - m0)
+    return best[1], best[2]
+
+
+#: A trimmed plan's ride is within this share of the day's mean …
+TRIM_TOLERANCE = 0.003
+#: … or the best of this many rides.
+TRIM_ROUNDS = 2
 
 
 #: A day's ride, not a race: the default mean power is this share of the power the

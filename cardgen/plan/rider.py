@@ -20,7 +20,7 @@ from cardgen.physics.assist import (
     climb_options,
     rider_power_for_speed,
 )
-from cardgen.physics.atmosphere import Conditions, density_along
+from cardgen.physics.atmosphere import density_along
 from cardgen.physics.braking import braking, curve_speed
 from cardgen.physics.effort import sustainable_climb_power, w_prime_balance
 from cardgen.physics.forces import Air, gravity_power, headwind
@@ -39,13 +39,14 @@ from cardgen.plan.model import (
     Totals,
     arrival_time,
 )
-from cardgen.plan.pacing import W_PRIME_SLACK, Course, PacedRide, ceiling, day_effort, pace, ridden_mean
+from cardgen.plan.pacing import W_PRIME_SLACK, Course, Pacer, ceiling, day_effort, ridden_mean
 from cardgen.plan.walking import stretches, walking_mask, widened
 from cardgen.profiles.riders import Rider
 from cardgen.route.climbs import Climb, Descent, find_climbs, find_descents
 from cardgen.route.cues import cue_sheet
 from cardgen.route.gpx import Track
 from cardgen.route.terrain import Terrain, doubtful
+from cardgen.settings import Conditions
 from cardgen.units import KMH_PER_MS, Floats
 
 #: Steepest 100 m grade that earns a "steep" note [-]: common practice, no published
@@ -81,8 +82,8 @@ def analyse(track: Track, terrain: Terrain) -> Analysis:
 
 def segment_air(terrain: Terrain, conditions: Conditions) -> Air:
     """The air on every segment: headwind [m/s] and air density [kg/m³], arrays (n,)."""
-    wind = headwind(terrain.heading, conditions.wind_speed, conditions.wind_from)
-    return Air(np.asarray(wind, dtype=float), density_along(terrain.elevation, conditions.temperature))
+    against = headwind(terrain.heading, conditions.wind_speed, conditions.wind_from)
+    return Air(np.asarray(against, dtype=float), density_along(terrain.elevation, conditions.temperature))
 
 
 def speed_caps(terrain: Terrain, rider: Rider) -> np.ndarray:
@@ -344,17 +345,15 @@ def _paced(course: Course, rider: Rider, stretches: list[Stretch]) -> tuple[Effo
     if not rider.effort_given:
         asked, duration = day_effort(course, cp=rider.cp, w_prime=rider.w_prime, top=top)
 
-    def ride(on: Course) -> PacedRide:
-        return pace(on, mean_power=asked, cp=rider.cp, w_prime=rider.w_prime, top=top)
-
+    pacer = Pacer(asked, rider.cp, rider.w_prime, top)
     levels: list[int] = []
     if stretches and course.motor is not None:
         budget = course.motor.usable_battery * (1.0 - BATTERY_RESERVE)
         paced, levels = pace_assisted(
-            course, stretches, ride, budget=budget, min_speed=rider.vehicle.min_stable_speed
+            course, stretches, pacer, budget=budget, min_speed=rider.vehicle.min_stable_speed
         )
     else:
-        paced = ride(course)
+        paced = pacer(course)
     effort = Effort(
         style=style,
         mean_power=ridden_mean(paced.ride),

@@ -7,7 +7,6 @@ import dataclasses
 from collections.abc import Sequence
 from dataclasses import dataclass
 
-from cardgen.physics.atmosphere import Conditions
 from cardgen.plan.model import Analysis, Plan
 from cardgen.plan.rider import analyse, make_plan
 from cardgen.profiles.riders import Rider
@@ -15,6 +14,7 @@ from cardgen.route.checkpoints import Checkpoint, resolve_checkpoints, resolve_p
 from cardgen.route.cues import apply_cue_texts
 from cardgen.route.gpx import Track
 from cardgen.route.terrain import build_terrain
+from cardgen.settings import Conditions
 
 
 @dataclass(frozen=True)

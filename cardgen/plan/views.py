@@ -14,6 +14,7 @@ from cardgen.plan.event import CheckpointWindow, checkpoint_windows, group_sprea
 from cardgen.plan.fuel import carb_rate, fluid_rate, legs
 from cardgen.plan.model import Entry, RouteJob
 from cardgen.plan.route_plans import RoutePlans
+from cardgen.units import S_PER_H
 
 #: The longest ride [h] the carbohydrate guide is looked up for (a rider who never
 #: finishes gets the longest band, not an infinity).
@@ -44,7 +45,7 @@ def route_job(
             e,
             legs=tuple(legs(e.plan, feeds, temperature_c)),
             fuel_rates=(
-                carb_rate(min(e.plan.finish_elapsed / 3600.0, LONGEST_RIDE_H)),
+                carb_rate(min(e.plan.finish_elapsed / S_PER_H, LONGEST_RIDE_H)),
                 fluid_rate(temperature_c),
             ),
         )

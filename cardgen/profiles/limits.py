@@ -10,7 +10,7 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass
 
-from cardgen.units import G0, KMH_PER_MS
+from cardgen.units import G0, J_PER_WH, KMH_PER_MS
 
 
 @dataclass(frozen=True)
@@ -80,7 +80,7 @@ LIMITS: dict[str, Limit] = {
     "cutoff_kmh": Limit(1, 80, "km/h", 1 / KMH_PER_MS, "speed where assistance ends"),
     "taper_kmh": Limit(0, 20, "km/h", 1 / KMH_PER_MS, "speed span over which assistance fades"),
     "drive_efficiency": Limit(0.3, 1, help="battery to wheel"),
-    "battery_wh": Limit(1, 10000, "Wh", 3600.0, "battery capacity"),
+    "battery_wh": Limit(1, 10000, "Wh", J_PER_WH, "battery capacity"),
     "usable_share": Limit(0.1, 1, help="share of the battery that can be drawn"),
     # the event and the weather
     "start_interval_min": Limit(0, 120, "min", 60.0, "time between riders' starts"),

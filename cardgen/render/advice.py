@@ -5,7 +5,9 @@ rounding are made here (through :mod:`cardgen.render.format`)."""
 from __future__ import annotations
 
 import math
+from collections.abc import Callable, Sequence
 
+from cardgen.plan.model import ClimbRow, DescentRow, Plan
 from cardgen.render import format as fmt
 
 #: Names of the pacing styles on cards and pages.
@@ -22,7 +24,7 @@ SOME_LEFT = 0.6
 EASE_SHARE = 0.35
 
 
-def effort_line(plan, units: str = "metric") -> str:
+def effort_line(plan: Plan, units: str = "metric") -> str:
     """The day's effort and style: "Pacing: steady, never above CP · 150 W on
     average, 70 % of CP (the default for a ride of about 3:20) · reserve above CP
     (W′) 15.0 kJ"."""
@@ -37,7 +39,7 @@ def effort_line(plan, units: str = "metric") -> str:
     )
 
 
-def climb_advice(row, plan, units: str = "metric") -> str:
+def climb_advice(row: ClimbRow, plan: Plan, units: str = "metric") -> str:
     """Where to spend effort on a climb: "hold 265 W for 6 min; little left for the
     next 2.0 km". The reserve is W′, the work a rider can do above CP."""
     if row.time is None or not math.isfinite(row.time):  # the rider stalls on it
@@ -56,7 +58,7 @@ def climb_advice(row, plan, units: str = "metric") -> str:
     return text
 
 
-def descent_advice(row, plan, units: str = "metric") -> str:
+def descent_advice(row: DescentRow, plan: Plan, units: str = "metric") -> str:
     """ "ease off and let it roll", "ease off; brake where the notes say" (the plan
     brakes on it: for a curve or the speed cap, so letting it roll would contradict
     the descent's notes), or "keep pedalling, about 120 W"."""
@@ -66,7 +68,9 @@ def descent_advice(row, plan, units: str = "metric") -> str:
     return f"keep pedalling, about {fmt.power(row.rider_power)}"
 
 
-def _grouped(rows, advise, word: str) -> list[str]:
+def _grouped(
+    rows: Sequence[ClimbRow] | Sequence[DescentRow], advise: Callable[..., str], word: str
+) -> list[str]:
     """Rows' advice in as few lines as it takes: rows with the same words share a line
     ("Descents 1, 2: ease off and let it roll")."""
     groups: dict[str, list[str]] = {}
@@ -78,13 +82,13 @@ def _grouped(rows, advise, word: str) -> list[str]:
     ]
 
 
-def descents_advice(plan, units: str = "metric") -> list[str]:
+def descents_advice(plan: Plan, units: str = "metric") -> list[str]:
     """The descents' advice, one line per wording: "Descents 1, 2: ease off and let it
     roll"."""
     return _grouped(plan.descents, lambda row: descent_advice(row, plan, units), "Descent")
 
 
-def climbs_advice(plan, units: str = "metric") -> list[str]:
+def climbs_advice(plan: Plan, units: str = "metric") -> list[str]:
     """The climbs' advice, one line per wording, for a condensed card: "Climbs 1, 2,
     5: hold 135 W for 24 min"."""
     return _grouped(plan.climbs, lambda row: climb_advice(row, plan, units), "Climb")

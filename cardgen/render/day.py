@@ -6,11 +6,19 @@ from __future__ import annotations
 
 import csv
 import io
+from collections.abc import Iterable
+from datetime import datetime
 from pathlib import Path
+from typing import TYPE_CHECKING, Any
 
-from cardgen.plan.day import STOCK_MARGIN, SWEEP_DELAY, SWEEP_SPEED, fluid_band, supplies_food
+from cardgen.plan.day import STOCK_MARGIN, SWEEP_DELAY, SWEEP_SPEED, PointDay, fluid_band, supplies_food
 from cardgen.render import format as fmt
 from cardgen.units import ZERO_CELSIUS_K
+
+if TYPE_CHECKING:
+    import jinja2
+
+    from cardgen.settings import SiteConfig
 
 #: The CSV's columns, in order.
 COLUMNS = (
@@ -36,13 +44,13 @@ COLUMNS = (
 KIND_WORDS = {"checkpoint": "checkpoint", "feed": "feed point", "marshal": "marshal point"}
 
 
-def day_rows(route: str, points, to_second: bool) -> list[dict]:
+def day_rows(route: str, points: Iterable[PointDay], to_second: bool) -> list[dict[str, Any]]:
     """One route's rows of the day sheet (``points``: the days of its checkpoints,
     feed and marshal points, from :func:`cardgen.plan.day.day_points`), as text and
     numbers (they travel in the build's manifest, so that a route reused from the
     last build keeps its rows)."""
 
-    def clock(moment) -> str:
+    def clock(moment: datetime | None) -> str:
         return fmt.start_clock(moment, to_second) if moment is not None else ""
 
     rows = []
@@ -70,7 +78,7 @@ def day_rows(route: str, points, to_second: bool) -> list[dict]:
     return rows
 
 
-def day_csv_text(rows: list[dict]) -> str:
+def day_csv_text(rows: list[dict[str, Any]]) -> str:
     """The day sheet as CSV text, one row per point ("per_15_min" as "07:00=3;
     07:15=5"; a marshal point's stock cells empty)."""
     buffer = io.StringIO()
@@ -82,14 +90,14 @@ def day_csv_text(rows: list[dict]) -> str:
     return buffer.getvalue()
 
 
-def _cell(value):
+def _cell(value: object) -> object:
     """Text that a spreadsheet would run as a formula gets a leading apostrophe."""
     if isinstance(value, str) and value.startswith(("=", "+", "-", "@", "\t", "\r")):
         return "'" + value
     return "" if value is None else value
 
 
-def assumptions(temperature_c: float | None, units: str = "metric") -> dict:
+def assumptions(temperature_c: float | None, units: str = "metric") -> dict[str, Any]:
     """What the sheet states beside its numbers."""
     low, high = fluid_band(temperature_c)
     return {
@@ -101,7 +109,9 @@ def assumptions(temperature_c: float | None, units: str = "metric") -> dict:
     }
 
 
-def day_sheet_files(env, config, rows: list[dict], folder: Path, pdf: bool) -> dict[str, str | bytes]:
+def day_sheet_files(
+    env: jinja2.Environment, config: SiteConfig, rows: list[dict[str, Any]], folder: Path, pdf: bool
+) -> dict[str, str | bytes]:
     """``day-sheet.csv`` and (with PDFs) ``day-sheet.pdf``, by name; ``folder`` is
     where the build puts them (the PDF's links point there)."""
     # rows of a route reused from a build before feed and marshal points: checkpoints

@@ -8,31 +8,35 @@ import csv
 import io
 import json
 import math
+from collections.abc import Iterable, Sequence
+from datetime import datetime
+from typing import Any
 
 import numpy as np
 
+from cardgen.plan.model import Notice, Plan
 from cardgen.render import format as fmt
 from cardgen.render.advice import climb_advice, descent_advice, effort_line
 from cardgen.render.notices import notice_text
-from cardgen.units import J_PER_KCAL, KMH_PER_MS
+from cardgen.units import J_PER_KCAL, J_PER_WH, KMH_PER_MS
 
 
-def _num(x, digits=3):
+def _num(x: float | None, digits: int = 3) -> float | None:
     if x is None:
         return None
-    x = float(x)
+    value = float(x)
     # + 0.0 turns a negative zero (a loss of -0.0 m on a flat route) into 0.0
-    return round(x, digits) + 0.0 if math.isfinite(x) else None
+    return round(value, digits) + 0.0 if math.isfinite(value) else None
 
 
-def _notices(notices, units: str = "metric") -> list[dict]:
+def _notices(notices: Iterable[Notice], units: str = "metric") -> list[dict[str, Any]]:
     """Notices of plan.json: code, severity, text, where (at_m) and, for curves, the
     radius and the speed to slow to in SI units."""
     return [_notice(n, units, km=False) for n in notices]
 
 
-def _notice(n, units: str = "metric", *, km: bool) -> dict:
-    out = {"code": n.code, "severity": n.severity, "text": notice_text(n, units)}
+def _notice(n: Notice, units: str = "metric", *, km: bool) -> dict[str, Any]:
+    out: dict[str, Any] = {"code": n.code, "severity": n.severity, "text": notice_text(n, units)}
     if km:
         out["at_km"] = None if n.at is None else n.at / 1000
     else:
@@ -47,7 +51,7 @@ def _notice(n, units: str = "metric", *, km: bool) -> dict:
     return out
 
 
-def plan_dict(plan) -> dict:
+def plan_dict(plan: Plan) -> dict[str, Any]:
     """One rider's plan, JSON-ready, SI units named in the keys."""
     rider = plan.rider
     return {
@@ -128,7 +132,7 @@ def plan_dict(plan) -> dict:
     }
 
 
-def _pacing(plan) -> dict | None:
+def _pacing(plan: Plan) -> dict[str, Any] | None:
     """The day's effort and style of a plan (``plan.json``'s ``pacing``)."""
     e = plan.effort
     if e is None:
@@ -145,7 +149,7 @@ def _pacing(plan) -> dict | None:
     }
 
 
-def _legs(legs) -> list[dict]:
+def _legs(legs: Iterable[Any]) -> list[dict[str, Any]]:
     """A rider's legs between the checkpoints (the card's food and fluid table, from
     :func:`cardgen.plan.fuel.legs`): riding time, and carbohydrate [g] and fluid [L]
     as (low, high) guides."""
@@ -163,12 +167,12 @@ def _legs(legs) -> list[dict]:
 
 def plan_json_text(
     route_name: str,
-    plans,
-    entries=(),
-    windows=(),
+    plans: Sequence[Plan],
+    entries: Sequence[Any] = (),
+    windows: Sequence[Any] = (),
     dated: bool = False,
     to_second: bool = False,
-    points=(),
+    points: Sequence[Any] = (),
 ) -> str:
     """All riders' plans of one route as JSON text (stable key order), with each
     rider's start, bib, wave and food and fluid legs (from ``entries``), their arrival
@@ -177,14 +181,14 @@ def plan_json_text(
     date-times when the event has a date; to the second ("HH:MM:SS") when the
     event's starts are seconds apart (``to_second``)."""
 
-    def when(moment):
+    def when(moment: datetime | None) -> str | None:
         if moment is None:
             return None
         if dated:
             return moment.isoformat(timespec="seconds" if to_second else "minutes")
         return moment.strftime("%H:%M:%S" if to_second else "%H:%M")
 
-    def arrival(plan, start, distance):
+    def arrival(plan: Plan, start: datetime | None, distance: float) -> str | None:
         if start is None:
             return None
         seconds = plan.elapsed_at(distance)
@@ -247,11 +251,11 @@ class _SafeWriter:
     def __init__(self, out: io.StringIO):
         self._writer = csv.writer(out, lineterminator="\n")
 
-    def writerow(self, row: list) -> None:
+    def writerow(self, row: list[object]) -> None:
         self._writer.writerow([csv_cell(cell) for cell in row])
 
 
-def climbs_csv_text(plans) -> str:
+def climbs_csv_text(plans: Iterable[Plan]) -> str:
     """One row per rider and climb."""
     out = io.StringIO()
     writer = _SafeWriter(out)
@@ -296,7 +300,7 @@ def climbs_csv_text(plans) -> str:
     return out.getvalue()
 
 
-def route_gpx_text(track, terrain, climbs, checkpoints) -> str:
+def route_gpx_text(track: Any, terrain: Any, climbs: Iterable[Any], checkpoints: Iterable[Any]) -> str:
     """GPX 1.1 of the route's (resampled) line, with waypoints at the foot of each
     climb and at each checkpoint. Names come from the source file: gpxpy escapes them."""
     import gpxpy.gpx
@@ -338,12 +342,12 @@ def route_gpx_text(track, terrain, climbs, checkpoints) -> str:
     return gpx.to_xml(version="1.1")
 
 
-def route_json(plan) -> dict:
+def route_json(plan: Plan) -> dict[str, Any]:
     """The ``cardgen route --json`` object (docs/contracts.md): one rider on one route,
     in the units its key names carry."""
     kmh = KMH_PER_MS
     totals = plan.totals
-    return _rounded(
+    out: dict[str, Any] = _rounded(
         {
             "route": {
                 "name": plan.track.name,
@@ -394,7 +398,7 @@ def route_json(plan) -> dict:
                 "time_s": totals.time,
                 "energy_kj": totals.energy / 1000,
                 "food_kcal": totals.food_energy / J_PER_KCAL,
-                "battery_wh": None if totals.battery is None else totals.battery / 3600,
+                "battery_wh": None if totals.battery is None else totals.battery / J_PER_WH,
             },
             # what the text output prints as notes: the route itself (joined gaps,
             # damaged elevation, points left off) and the rider's notices away from
@@ -402,9 +406,10 @@ def route_json(plan) -> dict:
             "notes": [_notice(w, km=True) for w in plan.warnings],
         }
     )
+    return out
 
 
-def _rounded(tree):
+def _rounded(tree: Any) -> Any:
     """Every float of a JSON tree to 4 decimals; NaN and infinities become null."""
     if isinstance(tree, dict):
         return {key: _rounded(value) for key, value in tree.items()}
@@ -428,7 +433,7 @@ TRACE_HEADER = (
 )
 
 
-def trace_csv_text(plan) -> str:
+def trace_csv_text(plan: Plan) -> str:
     """One row per simulation node: where, how steep, the rider's and the motor's
     power on the segment that starts there (the last node repeats the last
     segment's), speed, time from the start and the W′ balance on arrival."""
@@ -436,6 +441,9 @@ def trace_csv_text(plan) -> str:
     n = terrain.grade.size
     follows = np.minimum(np.arange(n + 1), max(n - 1, 0))
     motor = getattr(ride, "motor_power", np.zeros(n))
+    speed = getattr(ride, "speed", None)
+    if speed is None:
+        raise ValueError("a trace needs the plan's whole ride, not one lightened for the pages")
     balance = np.concatenate(([plan.rider.w_prime], plan.w_prime_balance))
     columns = (
         terrain.distance,
@@ -443,7 +451,7 @@ def trace_csv_text(plan) -> str:
         terrain.grade[follows] * 100,
         ride.rider_power[follows],
         np.asarray(motor)[follows],
-        ride.speed * KMH_PER_MS,
+        speed * KMH_PER_MS,
         ride.elapsed,
         balance,
     )

@@ -13,12 +13,11 @@ from __future__ import annotations
 
 import functools
 import math
+from collections.abc import Callable
 from datetime import datetime, timedelta
+from typing import Concatenate, ParamSpec
 
-from cardgen.units import J_PER_KCAL, KMH_PER_MS, MPH_PER_MS
-
-M_PER_MI = 1609.344
-M_PER_FT = 0.3048
+from cardgen.units import J_PER_KCAL, J_PER_WH, KMH_PER_MS, M_PER_FT, M_PER_MI, MPH_PER_MS
 
 
 def _nearest(value: float, step: float) -> float:
@@ -31,28 +30,35 @@ def _down(value: float, step: float) -> float:
     return math.floor(value / step + 1e-9) * step
 
 
-def _missing(value) -> bool:
+_P = ParamSpec("_P")
+
+
+def _missing(value: object) -> bool:
     return value is None or (isinstance(value, float) and not math.isfinite(value))
 
 
-def _dash_if_missing(function):
+def _dash_if_missing(
+    function: Callable[Concatenate[float, _P], str],
+) -> Callable[Concatenate[float | None, _P], str]:
     """A value that is absent or not finite prints as a dash, never as "nan"."""
 
     @functools.wraps(function)
-    def wrapper(value, *args, **kwargs):
-        return "–" if _missing(value) else function(value, *args, **kwargs)
+    def wrapper(value: float | None, /, *args: _P.args, **kwargs: _P.kwargs) -> str:
+        if value is None or _missing(value):
+            return "–"
+        return function(value, *args, **kwargs)
 
     return wrapper
 
 
 @_dash_if_missing
-def power(watts, rounding: str = "nearest") -> str:
+def power(watts: float, rounding: str = "nearest") -> str:
     """ "185 W"; ``rounding="down"`` for a limit (223.5 W prints as 220 W)."""
     return f"{(_down if rounding == 'down' else _nearest)(watts, 5):.0f} W"
 
 
 @_dash_if_missing
-def speed(ms, units: str = "metric", rounding: str = "nearest") -> str:
+def speed(ms: float, units: str = "metric", rounding: str = "nearest") -> str:
     """ "12.5 km/h" or "7.5 mph"; ``rounding="down"`` for a limit (a speed to slow to)."""
     step = _down if rounding == "down" else _nearest
     if units == "imperial":
@@ -61,7 +67,7 @@ def speed(ms, units: str = "metric", rounding: str = "nearest") -> str:
 
 
 @_dash_if_missing
-def distance(metres, units: str = "metric") -> str:
+def distance(metres: float, units: str = "metric") -> str:
     """ "12.3 km" or "7.6 mi"."""
     if units == "imperial":
         return f"{_nearest(metres / M_PER_MI, 0.1):.1f} mi"
@@ -69,7 +75,7 @@ def distance(metres, units: str = "metric") -> str:
 
 
 @_dash_if_missing
-def length(metres, units: str = "metric") -> str:
+def length(metres: float, units: str = "metric") -> str:
     """Short lengths: "850 m" or "0.53 mi", and below a quarter mile in feet ("45 ft",
     a curve's radius); from 10 km as :func:`distance`."""
     if metres >= 10000:
@@ -82,7 +88,7 @@ def length(metres, units: str = "metric") -> str:
 
 
 @_dash_if_missing
-def leg(metres, units: str = "metric") -> str:
+def leg(metres: float, units: str = "metric") -> str:
     """A cue sheet's distance to the next cue, in one unit down the column: "0.35 km",
     "8.45 km" (10 m steps, as :func:`length`) and from 10 km "12.3 km" (as
     :func:`distance`); in miles likewise ("0.21 mi", "12.3 mi")."""
@@ -100,7 +106,7 @@ def radius_m(metres: float) -> float:
 
 
 @_dash_if_missing
-def radius(metres, units: str = "metric") -> str:
+def radius(metres: float, units: str = "metric") -> str:
     """A curve's radius: "7 m" (see :func:`radius_m`), or "20 ft" rounded down to 5 ft."""
     if units == "imperial":
         return f"{_down(metres / M_PER_FT, 5):.0f} ft"
@@ -113,7 +119,7 @@ def slow_to_kmh(ms: float) -> float:
 
 
 @_dash_if_missing
-def height(metres, units: str = "metric") -> str:
+def height(metres: float, units: str = "metric") -> str:
     """ "240 m" or "785 ft"."""
     if units == "imperial":
         return f"{_nearest(metres / M_PER_FT, 5):.0f} ft"
@@ -121,20 +127,20 @@ def height(metres, units: str = "metric") -> str:
 
 
 @_dash_if_missing
-def grade(fraction) -> str:
+def grade(fraction: float) -> str:
     """ "7.5 %"."""
     return f"{_nearest(fraction * 100, 0.5):.1f} %"
 
 
 @_dash_if_missing
-def duration(seconds) -> str:
+def duration(seconds: float) -> str:
     """ "1:07" (hours:minutes), to the minute."""
     minutes = int(_nearest(seconds / 60, 1))
     return f"{minutes // 60}:{minutes % 60:02d}"
 
 
 @_dash_if_missing
-def minutes(seconds) -> str:
+def minutes(seconds: float) -> str:
     """ "10 min", to the minute (planned stops)."""
     return f"{int(_nearest(seconds / 60, 1))} min"
 
@@ -147,7 +153,7 @@ def moment(start: datetime, seconds: float, to_second: bool = False) -> datetime
     return start + timedelta(seconds=_nearest(seconds / unit, 1) * unit)
 
 
-def litres_range(pair) -> str:
+def litres_range(pair: tuple[float, float] | None) -> str:
     """A fluid range "0.2–0.3 L": the low end rounded down, the high end up, to 0.1 L,
     so a range never prints as "0.2–0.2 L"; "–" without one."""
     if pair is None or _missing(pair[0]) or _missing(pair[1]):
@@ -163,9 +169,9 @@ def hhmm(when: datetime) -> str:
     return start_clock(when)
 
 
-def clock(start: datetime | None, seconds) -> str:
+def clock(start: datetime | None, seconds: float | None) -> str:
     """Time of day "09:42" after ``seconds`` from ``start``; "+1:07" without a start."""
-    if _missing(seconds):
+    if seconds is None or _missing(seconds):
         return "–"
     if start is None:
         return "+" + duration(seconds)
@@ -173,7 +179,7 @@ def clock(start: datetime | None, seconds) -> str:
     return when.strftime("%H:%M")
 
 
-def start_clock(when, to_second: bool = False) -> str:
+def start_clock(when: datetime | None, to_second: bool = False) -> str:
     """A start's (or an arrival's) time of day: "09:30", or "09:30:30" when the event's
     starts are seconds apart (half-minute starts would otherwise print as repeated
     minutes), rounded like :func:`moment`; "–" without one."""
@@ -185,7 +191,7 @@ def start_clock(when, to_second: bool = False) -> str:
 
 
 @_dash_if_missing
-def food(joules) -> str:
+def food(joules: float) -> str:
     """ "1,240 kcal"."""
     return f"{_nearest(joules / J_PER_KCAL, 10):,.0f} kcal"
 
@@ -196,18 +202,18 @@ def _up(value: float, step: float) -> float:
 
 
 @_dash_if_missing
-def battery(joules, rounding: str = "nearest") -> str:
+def battery(joules: float, rounding: str = "nearest") -> str:
     """ "215 Wh": to 5 Wh, and to 1 Wh below 100 Wh. ``rounding="down"`` for what can
     be drawn (a limit: 54 Wh usable prints as 54 Wh, never 55), ``"up"`` for what the
     plan needs."""
-    wh = joules / 3600
+    wh = joules / J_PER_WH
     step = 1 if wh < 100 else 5
     rounded = {"down": _down, "up": _up}.get(rounding, _nearest)(wh, step)
     return f"{rounded:.0f} Wh"
 
 
 @_dash_if_missing
-def score(value) -> str:
+def score(value: float) -> str:
     """FIETS index to one decimal."""
     return f"{value:.1f}"
 

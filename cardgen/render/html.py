@@ -5,6 +5,7 @@ from __future__ import annotations
 
 import re
 import unicodedata
+from collections.abc import Callable, Iterable
 from dataclasses import dataclass
 from datetime import datetime
 from pathlib import Path
@@ -14,11 +15,12 @@ import jinja2
 from cardgen.errors import CardgenError
 from cardgen.paths import default_templates
 from cardgen.plan import Plan
+from cardgen.plan.model import Notice
 from cardgen.plan.rider import BATTERY_RESERVE
 from cardgen.render import format as fmt
 from cardgen.render.notices import notice_text
 from cardgen.render.sandbox import ThemeEnvironment
-from cardgen.units import ZERO_CELSIUS_K
+from cardgen.units import S_PER_H, ZERO_CELSIUS_K
 
 #: The caution for vehicles with a motor (cards of other vehicles leave it out).
 ASSIST_CAUTION = (
@@ -31,7 +33,7 @@ DESCENT_CAUTION = (
 )
 #: Beside the descents table of a card whose ride is longer than :data:`LONG_RIDE` [s].
 REST_CAUTION = "On a long ride, rest before the big descents: tired arms and hands brake and steer less well."
-LONG_RIDE = 3 * 3600.0
+LONG_RIDE = 3 * S_PER_H
 #: The e-assist caution on cards (short: the range line follows it).
 CARD_ASSIST_CAUTION = "E-assist rules differ by place."
 DESCENTS_CAUTION = (
@@ -114,7 +116,9 @@ class ThemeLoader(jinja2.FileSystemLoader):
         super().__init__(searchpath)
         self.own = None if own is None else Path(own).resolve()
 
-    def get_source(self, environment: jinja2.Environment, template: str) -> tuple:
+    def get_source(
+        self, environment: jinja2.Environment, template: str
+    ) -> tuple[str, str, Callable[[], bool]]:
         source, filename, uptodate = super().get_source(environment, template)
         real = Path(filename).resolve()
         if not any(Path(root).resolve() in real.parents for root in self.searchpath):
@@ -259,7 +263,7 @@ def symbol_of(code: str) -> str:
     return SYMBOLS[code][0] if code in SYMBOLS else ""
 
 
-def symbols_for(warnings) -> list[str]:
+def symbols_for(warnings: Iterable[Notice]) -> list[str]:
     """Distinct symbol letters for a row's warnings, in the order of :data:`SYMBOLS`."""
     codes = {w.code for w in warnings}
     return [SYMBOLS[c][0] for c in SYMBOLS if c in codes]

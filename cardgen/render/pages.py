@@ -12,7 +12,7 @@ from collections.abc import Callable, Iterator
 from dataclasses import dataclass
 from datetime import UTC, datetime
 from pathlib import Path
-from typing import BinaryIO
+from typing import Any, BinaryIO
 
 import jinja2
 import numpy as np
@@ -484,32 +484,45 @@ def _render_route(config, site: dict, job: RouteJob, folder: Path) -> RoutePages
                 assets,
             )
         )
-    if views:
-        ordered = sorted(views, key=lambda v: (v.start.isoformat() if v.start else "~", v.name))
-        groups = [ordered[i : i + COACH_GROUP] for i in range(0, len(ordered), COACH_GROUP)]
-        coach = env.get_template("coach.html")
-        step = COACH_LAYOUT_GROUPS
-        parts = tuple(
-            coach.render(
-                **common,
-                groups=groups[first : first + step],
-                first_group=first,
-                group_size=COACH_GROUP,
-                rider_count=len(views),
-                together=list(job.together) if first + step >= len(groups) else [],
-                rider_notes=functools.partial(rider_notes, units=units),
-                climb_band=climb_band,
-            )
-            for first in range(0, len(groups), step)
-        )
-        cards.append(
-            CardSource(
-                parts[0], str(folder), str(folder / "coach.pdf"), parts=parts if len(parts) > 1 else ()
-            )
-        )
+    coach = _coach_source(env, common, views, job, folder, units)
+    if coach is not None:
+        cards.append(coach)
     summary = route_summary(job, views, units, site.get("to_second", False))
     summary["day"] = day_rows(job.name, job.day, site.get("to_second", False))
     return RoutePages(files, summary, cards)
+
+
+def _coach_source(
+    env: jinja2.Environment,
+    common: dict[str, Any],
+    views: list[RiderView],
+    job: RouteJob,
+    folder: Path,
+    units: str,
+) -> CardSource | None:
+    """The coach sheet of a route's riders, by start, in groups of
+    :data:`COACH_GROUP`; laid out :data:`COACH_LAYOUT_GROUPS` groups at a time (one
+    part each) when it is long. None without riders."""
+    if not views:
+        return None
+    ordered = sorted(views, key=lambda v: (v.start.isoformat() if v.start else "~", v.name))
+    groups = [ordered[i : i + COACH_GROUP] for i in range(0, len(ordered), COACH_GROUP)]
+    coach = env.get_template("coach.html")
+    step = COACH_LAYOUT_GROUPS
+    parts = tuple(
+        coach.render(
+            **common,
+            groups=groups[first : first + step],
+            first_group=first,
+            group_size=COACH_GROUP,
+            rider_count=len(views),
+            together=list(job.together) if first + step >= len(groups) else [],
+            rider_notes=functools.partial(rider_notes, units=units),
+            climb_band=climb_band,
+        )
+        for first in range(0, len(groups), step)
+    )
+    return CardSource(parts[0], str(folder), str(folder / "coach.pdf"), parts=parts if len(parts) > 1 else ())
 
 
 #: At most this many items in a card's "Watch for" box; the rest are in the tables.

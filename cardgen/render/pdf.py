@@ -103,8 +103,9 @@ class Fitter:
     1. The first card of a group is laid out from the least condensed variant on,
        until one fits. From it the fitter learns, for each variant ``j`` it laid out
        before the one after it, the *extent step* ``X[j] - X[j + 1]``, where the
-       extent ``X`` of a layout is its pages before the last plus the filled share of
-       the last (:func:`extent`); and the variant chosen.
+       extent ``X`` of a layout is the sum of its pages' filled shares (:func:`extent`:
+       the gap a page leaves when its next row does not fit is not counted, so a
+       layout whose extent passes its limit cannot fit); and the variant chosen.
     2. A later card of the group starts from the variant most cards of the group have
        chosen (of those tied, the least condensed), and steps on while it overflows
        (learning, as above). The first card of a group starts from what the route's
@@ -214,18 +215,28 @@ def merge_learned(learned: dict, more: dict) -> dict:
 
 
 def extent(document) -> float:
-    """How far a layout reaches, in pages: its pages before the last plus the share
-    of the last page's content height that its content fills (the bottom of the
-    lowest box in the flow; running headers and footers are in the margins)."""
-    page = document.pages[-1]._page_box
-    top, height = page.content_box_y(), page.height
-    bottom = top
-    stack = [c for c in page.children if getattr(c, "element_tag", None) == "html"]
-    while stack:
-        box = stack.pop()
-        bottom = max(bottom, box.position_y + box.margin_height())
-        stack.extend(getattr(box, "children", None) or ())
-    return len(document.pages) - 1 + (bottom - top) / height
+    """How much a layout holds, in pages: the sum over its pages of the share of the
+    content height down to the bottom of the page's lowest text line, drawing or
+    other innermost box (the running header and footer are in the margins). The
+    space a page leaves below its last row when the next one does not fit is not
+    counted, so the difference between two variants of a card is the height their
+    content differs by, and a layout whose content passes ``n`` pages cannot fit in
+    ``n``."""
+    total = 0.0
+    for page in document.pages:
+        box = page._page_box
+        top = box.content_box_y()
+        bottom = top
+        stack = [c for c in box.children if getattr(c, "element_tag", None) == "html"]
+        while stack:
+            child = stack.pop()
+            inner = getattr(child, "children", None)
+            if inner:
+                stack.extend(inner)
+            else:
+                bottom = max(bottom, child.position_y + child.margin_height())
+        total += (bottom - top) / box.height
+    return total
 
 
 @contextlib.contextmanager

@@ -14,12 +14,17 @@ from __future__ import annotations
 import io
 import logging
 import warnings
-from typing import Any
+from collections.abc import Callable, Sequence
+from types import ModuleType
+from typing import TYPE_CHECKING, Any
 
 import numpy as np
 
 from cardgen.render import format as fmt
-from cardgen.units import KMH_PER_MS
+from cardgen.units import KMH_PER_MS, M_PER_FT, M_PER_MI, MPH_PER_MS
+
+if TYPE_CHECKING:
+    from matplotlib.figure import Figure
 
 MAX_POINTS = 1000
 GRADE_RANGE = 12.0  # [%] the colour scale runs from flat to 12 % up or down
@@ -30,7 +35,7 @@ SMALLEST_PT = 7.5
 LABEL_PT = 8.0
 
 
-def _figure(width_in: float, height_in: float):
+def _figure(width_in: float, height_in: float) -> Figure:
     from matplotlib.backends.backend_svg import FigureCanvasSVG
     from matplotlib.figure import Figure
 
@@ -39,7 +44,7 @@ def _figure(width_in: float, height_in: float):
     return fig
 
 
-def _svg(fig) -> str:
+def _svg(fig: Figure) -> str:
     import matplotlib
 
     buffer = io.StringIO()
@@ -51,7 +56,7 @@ def _svg(fig) -> str:
         return _savefig(fig, buffer, matplotlib)
 
 
-def _savefig(fig, buffer: io.StringIO, matplotlib) -> str:
+def _savefig(fig: Figure, buffer: io.StringIO, matplotlib: ModuleType) -> str:
     with matplotlib.rc_context(
         {"svg.hashsalt": "cardgen", "svg.fonttype": "none", "font.family": "DejaVu Sans"}
     ):
@@ -74,13 +79,13 @@ def thin_index(n: int, max_points: int = MAX_POINTS) -> np.ndarray:
     return np.unique(np.concatenate((np.arange(0, n, k), [n - 1])))
 
 
-def thin(distance, elevation, max_points: int = MAX_POINTS):
+def thin(distance: Any, elevation: Any, max_points: int = MAX_POINTS) -> tuple[np.ndarray, np.ndarray]:
     """Every k-th point (always keeping the last) so that at most ``max_points`` remain."""
     idx = thin_index(len(distance), max_points)
     return np.asarray(distance)[idx], np.asarray(elevation)[idx]
 
 
-def thinned_grade(grade, idx: np.ndarray):
+def thinned_grade(grade: np.ndarray, idx: np.ndarray) -> np.ndarray:
     """The terrain's own segment grades [-] averaged over each thinned stretch
     (``idx[j]`` to ``idx[j + 1]``): the grade the climb table reads, never one made
     again from the thinned points."""
@@ -89,16 +94,16 @@ def thinned_grade(grade, idx: np.ndarray):
 
 
 def elevation_profile(
-    terrain,
-    climbs,
-    checkpoints=(),
+    terrain: Any,
+    climbs: Sequence[Any],
+    checkpoints: Sequence[tuple[str, float]] = (),
     units: str = "metric",
     *,
     name: str = "",
     width_in: float = 6.6,
     height_in: float = 2.4,
     text_scale: float = 1.0,
-):
+) -> tuple[str, str]:
     """Elevation against distance, filled by grade, climbs numbered, checkpoints marked.
 
     ``climbs`` are Climb objects (numbered in order), ``checkpoints`` (name, distance)
@@ -119,8 +124,8 @@ def profile_figure(terrain, climbs, checkpoints, units, width_in, height_in, tex
     from matplotlib.path import Path as MplPath
 
     imperial = units == "imperial"
-    x_scale = 1 / fmt.M_PER_MI if imperial else 1 / 1000
-    y_scale = 1 / fmt.M_PER_FT if imperial else 1.0
+    x_scale = 1 / M_PER_MI if imperial else 1 / 1000
+    y_scale = 1 / M_PER_FT if imperial else 1.0
     idx = thin_index(len(terrain.distance))
     d, e = terrain.distance[idx], terrain.elevation[idx]
     x, y = d * x_scale, e * y_scale
@@ -150,7 +155,7 @@ def profile_figure(terrain, climbs, checkpoints, units, width_in, height_in, tex
     # one compound path per grade band (a handful of SVG elements, not one per run: the
     # renderer's time goes with their number); edges in the face colour hide the
     # hairline seams between neighbouring runs
-    by_band: dict = {}
+    by_band: dict[tuple[float, float, float, float], list[Any]] = {}
     for poly, colour in zip(polys, colours, strict=True):
         by_band.setdefault(colour, []).append(MplPath(poly, closed=True))
     for colour, paths in by_band.items():
@@ -306,7 +311,9 @@ def _climb_mark(ax, number: int, summit, k: float, boxes: list, renderer):
     return best[1], best[2]
 
 
-def _profile_alt(terrain, climbs, checkpoints, units: str, name: str) -> str:
+def _profile_alt(
+    terrain: Any, climbs: Sequence[Any], checkpoints: Sequence[tuple[str, float]], units: str, name: str
+) -> str:
     """The elevation profile in words, for screen readers and print."""
     parts = [
         f"Elevation profile{' of ' + name if name else ''}: {fmt.distance(terrain.length, units)}, "
@@ -334,12 +341,12 @@ def _profile_alt(terrain, climbs, checkpoints, units: str, name: str) -> str:
 CURVES_PER_RIDER_UP_TO = 8
 
 
-def _curve_groups(rows, kinds) -> list[tuple[str, list]]:
+def _curve_groups(rows, kinds) -> list[tuple[str, list[Any]]]:
     """(legend label, climb rows) of each curve: each rider when there are few, else
     each vehicle kind with its riders counted."""
     if kinds is None or len(rows) <= CURVES_PER_RIDER_UP_TO:
         return [(label, [row]) for label, row in rows]
-    groups: dict[str, list] = {}
+    groups: dict[str, list[Any]] = {}
     for (_, row), kind in zip(rows, kinds, strict=True):
         groups.setdefault(kind, []).append(row)
     return [
@@ -368,7 +375,7 @@ def power_curves(
     from matplotlib import colormaps
 
     imperial = units == "imperial"
-    to_shown = fmt.MPH_PER_MS if imperial else KMH_PER_MS
+    to_shown = MPH_PER_MS if imperial else KMH_PER_MS
     fig = _figure(width_in, height_in)
     ax = fig.add_subplot()
     markers = ["o", "s", "^", "D", "v", "P", "X", "*"]
@@ -411,8 +418,8 @@ def power_curves(
         ax.spines[spine].set_visible(False)
     # a fixed place: matplotlib's search for the best one grows with the points drawn
     place = {"loc": "upper left", "bbox_to_anchor": (-0.15, -0.22)} if legend_below else {"loc": "upper left"}
-    for text in ax.legend(fontsize=SMALLEST_PT, frameon=False, **place).get_texts():
-        text.set_parse_math(False)
+    for entry in ax.legend(fontsize=SMALLEST_PT, frameon=False, **place).get_texts():
+        entry.set_parse_math(False)
     each = "each rider" if len(groups) == len(rows) else "each vehicle kind (its median rider)"
     text = (
         f"Power needed against speed on a steady {fmt.grade(climb.avg_grade)} grade (the hardest climb's "
@@ -421,7 +428,7 @@ def power_curves(
     return _svg(fig), text
 
 
-def _curve_alt(label: str, members, units: str) -> str:
+def _curve_alt(label: str, members: Sequence[Any], units: str) -> str:
     """The text of one curve: where its rider rides the climb, or its riders' range."""
     if len(members) == 1:
         row = members[0]
@@ -446,16 +453,16 @@ def _literal(label: str) -> str:
 
 
 def route_map(
-    terrain,
-    climbs,
-    checkpoints=(),
+    terrain: Any,
+    climbs: Sequence[Any],
+    checkpoints: Sequence[tuple[str, float]] = (),
     units: str = "metric",
     *,
     name: str = "",
     width_in: float = 5.2,
     height_in: float = 2.6,
     text_scale: float = 1.0,
-):
+) -> tuple[str, str]:
     """Where the route goes, drawn from the track alone (no tiles, no network): the
     outline on a local plane (equirectangular about the route's mean latitude, true to
     scale within about 0.1 % over a few tens of km; Snyder 1987, §12), start (circle)
@@ -464,9 +471,6 @@ def route_map(
     it reads in black and white and for colour-blind readers. ``text_scale`` enlarges
     every label and mark (large print). Returns (svg, alt text).
     """
-    import math
-
-    k = text_scale
     xy = terrain.plane()
     step = max(1, xy.shape[0] // (4 * MAX_POINTS))
     x, y = xy[::step, 0], xy[::step, 1]
@@ -478,10 +482,32 @@ def route_map(
     ax.plot(x, y, color="#8c8c8c", linewidth=3.2, solid_capstyle="round")
     ax.plot(x, y, color=INK, linewidth=1.0)
 
-    def at(distance):
+    def at(distance: float) -> tuple[float, float]:
         return float(np.interp(distance, d, x)), float(np.interp(distance, d, y))
 
     length = float(terrain.length)
+    ends = _map_marks(ax, at, length, climbs, checkpoints, text_scale)
+    # room around the route, then a scale bar of a round length and a north arrow
+    span = (float(np.ptp(x)) or 100.0, float(np.ptp(y)) or 100.0)
+    pad = 0.12 * max(span)
+    ax.set_xlim(x.min() - pad, x.max() + pad)
+    ax.set_ylim(y.min() - pad, y.max() + pad)
+    _map_scale(ax, (x.min(), x.max(), y.min(), y.max()), pad, span[0], units, text_scale)
+    svg = _svg(fig)
+    return svg, _map_alt(name, length, span, ends, len(checkpoints), len(climbs), units)
+
+
+def _map_marks(
+    ax: Any,
+    at: Callable[[float], tuple[float, float]],
+    length: float,
+    climbs: Sequence[Any],
+    checkpoints: Sequence[tuple[str, float]],
+    k: float,
+) -> tuple[tuple[float, float], tuple[float, float]]:
+    """The map's marks along the route: arrows in the direction of travel, start
+    (circle) and finish (square), climb numbers at their feet and checkpoints (Chk1,
+    …), ``k`` times their normal size. Returns the start and the finish (x, y)."""
     for share in (1 / 6, 2 / 6, 3 / 6, 4 / 6, 5 / 6):  # direction of travel
         a, b = at(share * length), at(share * length + max(length / 200, 20.0))
         ax.annotate(
@@ -523,19 +549,24 @@ def route_map(
             parse_math=False,
             bbox={"boxstyle": "square,pad=0.1", "facecolor": "white", "edgecolor": "none", "alpha": 0.8},
         )
-    # room around the route, then a scale bar of a round length and a north arrow
-    span_x, span_y = float(np.ptp(x)) or 100.0, float(np.ptp(y)) or 100.0
-    pad = 0.12 * max(span_x, span_y)
-    ax.set_xlim(x.min() - pad, x.max() + pad)
-    ax.set_ylim(y.min() - pad, y.max() + pad)
-    unit = fmt.M_PER_MI if units == "imperial" else 1000.0
+    return (sx, sy), (fx, fy)
+
+
+def _map_scale(
+    ax: Any, box: tuple[float, float, float, float], pad: float, span_x: float, units: str, k: float
+) -> None:
+    """A scale bar of a round length (about a quarter of the route's width ``span_x``
+    [m]) below the route's ``box`` (x min, x max, y min, y max [m]), and a north arrow
+    above it; labels ``k`` times their normal size."""
+    x_min, x_max, y_min, y_max = box
+    unit = M_PER_MI if units == "imperial" else 1000.0
     target = 0.25 * span_x / unit
     nice = max(
         (v for v in (0.1, 0.2, 0.25, 0.5, 1, 2, 5, 10, 20, 25, 50, 100, 200) if v <= max(target, 0.1)),
         default=0.1,
     )
     bar = nice * unit
-    x0, y0 = x.min() - pad * 0.6, y.min() - pad * 0.9
+    x0, y0 = x_min - pad * 0.6, y_min - pad * 0.9
     ax.plot([x0, x0 + bar], [y0, y0], color=INK, linewidth=2.0, solid_capstyle="butt")
     label = f"{nice:g} {'mi' if units == 'imperial' else 'km'}"
     # the labels sit outside the route, offset in points (they keep clear of it at any
@@ -551,7 +582,7 @@ def route_map(
         va="top",
         color=INK,
     )
-    nx, ny = x.max() + pad * 0.6, y.max() + pad * 0.2
+    nx, ny = x_max + pad * 0.6, y_max + pad * 0.2
     ax.annotate(
         "",
         xy=(nx, ny),
@@ -570,7 +601,23 @@ def route_map(
         fontweight="bold",
         color=INK,
     )
-    svg = _svg(fig)
+
+
+def _map_alt(
+    name: str,
+    length: float,
+    span: tuple[float, float],
+    ends: tuple[tuple[float, float], tuple[float, float]],
+    checkpoints: int,
+    climbs: int,
+    units: str,
+) -> str:
+    """The map's text for screen readers and print: its length and extent, a loop or
+    where the finish lies from the start, and what the marks mean."""
+    import math
+
+    (sx, sy), (fx, fy) = ends
+    span_x, span_y = span
     heading = math.degrees(math.atan2(fx - sx, fy - sy)) % 360
     closed = math.hypot(fx - sx, fy - sy) < 0.02 * max(span_x, span_y, 1.0)
     parts = [
@@ -583,12 +630,10 @@ def route_map(
         )
     ]
     if checkpoints:
-        parts.append(
-            f"{len(checkpoints)} checkpoint{'s' if len(checkpoints) != 1 else ''} marked Chk1 onwards."
-        )
+        parts.append(f"{checkpoints} checkpoint{'s' if checkpoints != 1 else ''} marked Chk1 onwards.")
     if climbs:
-        parts.append(f"Climbs numbered at their feet, 1 to {len(climbs)}.")
-    return svg, " ".join(parts)
+        parts.append(f"Climbs numbered at their feet, 1 to {climbs}.")
+    return " ".join(parts)
 
 
 def _compass(degrees: float) -> str:

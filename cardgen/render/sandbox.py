@@ -205,13 +205,13 @@ class ThemeEnvironment(jinja2.sandbox.SandboxedEnvironment):
 
     def call_binop(self, context: jinja2.runtime.Context, op: str, left: Any, right: Any) -> Any:
         if op == "*" and _repeat_size(left, right) > MAX_REPEAT:
-            raise jinja2.sandbox.SecurityError(
+            raise jinja2.exceptions.SecurityError(
                 f"a string or list of {_repeat_size(left, right):,} items; a template may make at most "
                 f"{MAX_REPEAT:,}"
             )
         if op == "**" and isinstance(left, int) and isinstance(right, int) and right > 0:
             if max(abs(left).bit_length() - 1, 0) * right > MAX_POWER_BITS:
-                raise jinja2.sandbox.SecurityError(
+                raise jinja2.exceptions.SecurityError(
                     f"{left} ** {right} is an integer of over {MAX_POWER_BITS:,} bits; a template may not "
                     "make one that large"
                 )

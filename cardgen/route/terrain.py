@@ -21,7 +21,13 @@ from cardgen.errors import GpxError
 from cardgen.route.corners import MIN_TURN_RADIUS, find_corners
 from cardgen.route.geodesy import bearing, course, cumulative_distance, local_plane
 from cardgen.route.gpx import Track
-from cardgen.route.profile_fit import NOISE_FLOOR, fit_profile, grid_noise, point_noise
+from cardgen.route.profile_fit import (
+    NOISE_FLOOR,
+    RoughProfile,
+    fit_profile,
+    grid_noise,
+    point_noise,
+)
 from cardgen.units import Floats
 
 #: Default grid step [m].
@@ -293,7 +299,9 @@ def build_terrain(track: Track, step: float = GRID_STEP) -> Terrain:
     Raises
     ------
     GpxError
-        When the route has no length, or is longer than :data:`MAX_ROUTE_LENGTH`.
+        When the route has no length, is longer than :data:`MAX_ROUTE_LENGTH`, or its
+        elevation changes grade at more than
+        :data:`~cardgen.route.profile_fit.MAX_KNOTS` places.
     """
     d = cumulative_distance(track.lat, track.lon)
     ele_in = track.elevation.copy()
@@ -321,7 +329,14 @@ def build_terrain(track: Track, step: float = GRID_STEP) -> Terrain:
     lon = (np.interp(grid, d, unwrapped) + 180.0) % 360.0 - 180.0
     raw = np.interp(grid, d, ele)
     noise = grid_noise(point_noise(d, ele_in[keep]), float(np.median(np.diff(d))), grid_step)
-    fitted = fit_profile(raw, grid_step, noise)
+    try:
+        fitted = fit_profile(raw, grid_step, noise)
+    except RoughProfile as rough:
+        raise GpxError(
+            f"{track.path}: the elevation changes grade at more than {rough.limit:,} places over "
+            f"{d[-1] / 1000:,.0f} km (one every {d[-1] / rough.limit:.0f} m or closer), more than "
+            "cardgen fits in reasonable time; check the elevation data, or split the route into stages"
+        ) from None
     smooth = fitted.elevation
     grade = np.diff(smooth) / grid_step
     heading = np.asarray(bearing(lat[:-1], lon[:-1], lat[1:], lon[1:]))
