@@ -30,10 +30,12 @@ lint:
 	$(BIN)/lint-imports
 	$(BIN)/mypy cardgen
 
-# Everything, as CI runs it, with the coverage figure of the installed package.
+# Everything, as CI runs it, with the coverage figure of the installed package: two
+# pytest-xdist workers, each test module on one worker (its module fixtures made once);
+# the workers share one demo build (tests/conftest.py).
 test: system $(VENV)/installed
 	$(MAKE) lint
-	$(BIN)/pytest -q --cov --cov-report=term
+	$(BIN)/pytest -q -n 2 --dist loadscope --cov --cov-report=term
 
 # Lint and the tests not marked slow, against the source tree (no re-install).
 check: lint

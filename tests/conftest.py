@@ -3,8 +3,11 @@
 from __future__ import annotations
 
 import contextlib
+import fcntl
 import io
 import json
+import os
+import pickle
 import subprocess
 
 import pytest
@@ -59,12 +62,22 @@ def cli(monkeypatch):
 
 @pytest.fixture(scope="session")
 def demo_site(tmp_path_factory):
-    """The bundled demo event, built once in-process (warnings are errors here)."""
+    """The bundled demo event, built once per test run in-process (warnings are errors
+    here). Under pytest-xdist (``make test``) the first worker to need it builds it and
+    the others wait for it, then read that build: one demo per run, not per worker."""
     from cardgen.build import build_site
     from cardgen.config import load_config
     from cardgen.paths import demo_site
 
     config = load_config(demo_site())
-    out = tmp_path_factory.mktemp("demo") / "site"
-    report = build_site(config, out, jobs=2)
-    return config, out, report
+    if os.environ.get("PYTEST_XDIST_WORKER") is None:
+        out = tmp_path_factory.mktemp("demo") / "site"
+        return config, out, build_site(config, out, jobs=2)
+    shared = tmp_path_factory.getbasetemp().parent  # this run's folder, above each worker's
+    out, built = shared / "demo" / "site", shared / "demo-report.pickle"
+    with open(shared / "demo.lock", "w") as lock:
+        fcntl.flock(lock, fcntl.LOCK_EX)  # released when the file closes
+        if not built.exists():
+            out.parent.mkdir(exist_ok=True)
+            built.write_bytes(pickle.dumps(build_site(config, out, jobs=2)))
+    return config, out, pickle.loads(built.read_bytes())

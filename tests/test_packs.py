@@ -142,13 +142,15 @@ def test_coach_sheet_groups_riders_a_group_to_a_page_in_start_order(tmp_path, mo
 
 
 @pytest.mark.slow
-def test_many_cards_render_in_fresh_batches_and_all_arrive(tmp_path):
-    """More cards than one worker makes (CARDS_PER_WORKER): every card is rendered,
+def test_many_cards_render_in_fresh_batches_and_all_arrive(tmp_path, monkeypatch):
+    """More cards than one worker makes (CARDS_PER_WORKER, here 4 instead of 40: the
+    same batches, three of them, for 9 cards instead of 45): every card is rendered,
     once, and the pack holds them all."""
-    from cardgen.build.pipeline import CARDS_PER_WORKER
+    from cardgen.build import pipeline
 
+    monkeypatch.setattr(pipeline, "CARDS_PER_WORKER", 4)
     shutil.copy(SAMPLES / "riverside-loop.gpx", tmp_path)
-    count = CARDS_PER_WORKER + 5
+    count = pipeline.CARDS_PER_WORKER + 5
     riders = "".join(f'[[riders]]\nname = "R{i:02d}"\nvehicle = "city-upright"\n' for i in range(count))
     (tmp_path / "site.toml").write_text('[[routes]]\ngpx = "riverside-loop.gpx"\n' + riders, encoding="utf-8")
     report = build_site(load_config(tmp_path / "site.toml"), out=tmp_path / "site", jobs=1)
