@@ -157,7 +157,7 @@ class PageWriter:
 
     def _page_dict(self, page) -> dict[str, Any]:
         """The page's own entries with its inherited ones, without its parent."""
-        entries = {key: page.get(key) for key in page.keys() if key != "/Parent"}
+        entries = {key: page.get(key) for key in sorted(page.keys()) if key != "/Parent"}
         node = page.get("/Parent")
         while node is not None and any(key not in entries for key in INHERITED):
             for key in INHERITED:
@@ -177,7 +177,9 @@ class PageWriter:
             elif _is(obj, "stream"):
                 data = obj.read_raw_bytes()
                 entries = obj.stream_dict
-                head = self._entries([(k, entries.get(k)) for k in entries.keys() if k != "/Length"], source)
+                head = self._entries(
+                    [(k, entries.get(k)) for k in sorted(entries.keys()) if k != "/Length"], source
+                )
                 if "/Filter" not in entries:  # made here (a form of a page): compress it, as qpdf saves
                     data = zlib.compress(data)
                     head += b" /Filter /FlateDecode"
@@ -215,7 +217,7 @@ class PageWriter:
             return text
         if _is(value, "dictionary"):
             page = value.get("/Type") == "/Page"  # a page that is not copied: no tree
-            items = [(k, value.get(k)) for k in value.keys() if not (page and k == "/Parent")]
+            items = [(k, value.get(k)) for k in sorted(value.keys()) if not (page and k == "/Parent")]
             return b"<< %s >>" % self._entries(items, source)
         if _is(value, "array"):
             return b"[ %s ]" % b" ".join(self._direct(v, source) for v in value)
