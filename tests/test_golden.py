@@ -42,6 +42,9 @@ P0, T0, LAPSE, EXPONENT = 101325.0, 288.15, 0.0065, 5.25588  # ISA troposphere, 
 BEARING_A, BEARING_B = 0.091, 0.0087  # wheel bearings v·(91 + 8.7·v)·1e-3 W: Dahn et al. 1991 via Martin 1998
 #: Battery share kept in reserve: common practice, no published source (the README's 20 %)
 RESERVE = 0.20
+#: Each demo card's text in reading order (pdftotext without -layout), by route file
+#: and rider: the cautions print in columns, which -layout interleaves.
+READING: dict[tuple[str, str], str] = {}
 #: The hairpins of the hill loop as sample_routes/make_routes.py draws them: arcs of
 #: 12 m (170°) and 14 m (165°) radius, around km 12.1 and 12.8 (hand-drawn geometry;
 #: the GPX adds 0.8 m of noise to every point)
@@ -126,6 +129,11 @@ def demo(demo_site):
             cards[plan["rider"]["name"]] = subprocess.run(
                 ["pdftotext", "-layout", str(pdf), "-"], capture_output=True, text=True, check=True
             ).stdout
+            READING[(rc.gpx.name, plan["rider"]["name"])] = " ".join(
+                subprocess.run(
+                    ["pdftotext", str(pdf), "-"], capture_output=True, text=True, check=True
+                ).stdout.split()
+            )
         routes.append((rc, build_terrain(read_gpx(rc.gpx)), plan_json, cards))
     return config, routes
 
@@ -430,6 +438,10 @@ def test_battery_figures(demo):
             wh = totals["battery_j"] / 3600
             (printed,) = {float(x) for x in re.findall(r"battery about (\d+) Wh", card)}
             assert _rounded(printed, wh), (rc.gpx.name, rider.name, printed, wh)
+            # the range line's reserve, the plan's share kept back
+            reading = READING[(rc.gpx.name, rider.name)]  # the cautions print in columns
+            (share,) = re.findall(r"Range: \d+ Wh usable of \d+ Wh, (\d+) % in reserve", reading)
+            assert float(share) == RESERVE * 100
             fits = totals["battery_j"] <= (1 - RESERVE) * usable
             assert totals["battery_fits"] is fits, (rc.gpx.name, rider.name)
             warned = [w for w in plan["warnings"] if w["code"] == "battery"]
