@@ -166,6 +166,7 @@ def environment(override: Path | None = None, units: str = "metric") -> jinja2.E
     env.globals.update(
         units=units,
         cautions=CAUTIONS,
+        assist_caution=ASSIST_CAUTION,
         descent_caution=DESCENT_CAUTION,
         rest_caution=REST_CAUTION,
         long_ride=LONG_RIDE,
@@ -210,13 +211,14 @@ def heat_caution(celsius: float) -> str:
 
 def cautions_for(plan: Plan) -> tuple[str, ...]:
     """The cautions at the end of this rider's card: the hot-weather one from
-    :data:`HOT_C`; the descents one only when the card has no descents (it is beside
-    them otherwise, as :data:`DESCENT_CAUTION`); the e-assist ones (rules, the range
-    with the battery the plan assumes, the motor's assist levels) only where there is a
-    motor."""
+    :data:`HOT_C`; never the descents one (it is beside the descents as
+    :data:`DESCENT_CAUTION`, and a card without descents shows no descent speeds); the
+    e-assist ones (rules, the range with the battery the plan assumes, the motor's
+    assist levels) only where there is a motor."""
     # once is enough: a card prints the descent caution beside its descents, and the
-    # traffic one in the footer of every page
-    skip = {ASSIST_CAUTION, TRAFFIC_CAUTION, *([DESCENTS_CAUTION] if plan.descents else [])}
+    # traffic one in the footer of every page; a card without descents shows no descent
+    # speeds, so the descents caution has nothing to speak of there
+    skip = {ASSIST_CAUTION, TRAFFIC_CAUTION, DESCENTS_CAUTION}
     general = tuple(c for c in CAUTIONS if c not in skip)
     temperature = plan.conditions.temperature
     if temperature is not None and temperature - ZERO_CELSIUS_K >= HOT_C:
