@@ -516,6 +516,7 @@ def _coach_source(
             first_group=first,
             group_size=COACH_GROUP,
             rider_count=len(views),
+            any_motor=any(v.plan.motor is not None for v in views),  # the whole sheet's riders
             together=list(job.together) if first + step >= len(groups) else [],
             rider_notes=functools.partial(rider_notes, units=units),
             climb_band=climb_band,
