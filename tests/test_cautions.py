@@ -49,3 +49,14 @@ def test_cautions_speak_to_their_sheet(demo_site):
             assert _start(ASSIST_CAUTION) not in _text(folder / "coach.pdf"), folder
     # the demo has routes of both kinds (sample_routes/site.toml)
     assert without_descents and with_descents and coach_without_motor
+
+
+def test_coach_notes_read_as_sentences(demo_site):
+    """The coach sheet's notes cell joins a rider's notes as sentences: a note that
+    ends in a full stop is not followed by a semicolon (a new user read "…or less.;
+    Descents 1: …")."""
+    _, out, _ = demo_site
+    sheets = sorted(out.glob("*/coach.pdf"))
+    texts = [_text(pdf) for pdf in sheets]
+    assert sheets and any("slow to" in t for t in texts)  # the demo has curve notes
+    assert not any(".;" in t for t in texts)
