@@ -80,3 +80,13 @@ def font_sizes(pdf: Path) -> Counter:
 
         page.extract_text(visitor_text=visit)
     return sizes
+
+
+def pdf_text(pdf: Path, layout: bool = False) -> str:
+    """A PDF's text with every run of white space one space: in reading order
+    (pdftotext), or as laid out (``layout``, pdftotext -layout)."""
+    mode = ["-layout"] if layout else []
+    raw = subprocess.run(
+        ["pdftotext", *mode, str(pdf), "-"], capture_output=True, text=True, check=True
+    ).stdout
+    return " ".join(raw.split())

@@ -7,9 +7,9 @@ from __future__ import annotations
 import json
 import re
 import shutil
-import subprocess
 
 import pytest
+from buildkit import pdf_text
 
 from cardgen.render.html import ASSIST_CAUTION, DESCENT_CAUTION, DESCENTS_CAUTION, slugify
 
@@ -17,11 +17,6 @@ pytestmark = [
     pytest.mark.slow,
     pytest.mark.skipif(shutil.which("pdftotext") is None, reason="needs poppler-utils (pdftotext)"),
 ]
-
-
-def _text(pdf) -> str:
-    out = subprocess.run(["pdftotext", str(pdf), "-"], capture_output=True, text=True, check=True).stdout
-    return " ".join(out.split())
 
 
 def _start(caution: str) -> str:
@@ -37,7 +32,7 @@ def test_cautions_speak_to_their_sheet(demo_site):
         for plan in plans:
             slug = slugify(plan["rider"]["name"], set())
             (pdf,) = [p for p in folder.glob("*.pdf") if re.fullmatch(re.escape(slug) + r"(-\d+)?", p.stem)]
-            text = _text(pdf)
+            text = pdf_text(pdf)
             if plan["descents"]:
                 with_descents += 1
                 assert _start(DESCENT_CAUTION) in text, pdf
@@ -46,7 +41,7 @@ def test_cautions_speak_to_their_sheet(demo_site):
                 assert _start(DESCENTS_CAUTION) not in text and _start(DESCENT_CAUTION) not in text, pdf
         if not any(p["totals"]["battery_j"] is not None for p in plans):
             coach_without_motor += 1
-            assert _start(ASSIST_CAUTION) not in _text(folder / "coach.pdf"), folder
+            assert _start(ASSIST_CAUTION) not in pdf_text(folder / "coach.pdf"), folder
     # the demo has routes of both kinds (sample_routes/site.toml)
     assert without_descents and with_descents and coach_without_motor
 
@@ -57,6 +52,6 @@ def test_coach_notes_read_as_sentences(demo_site):
     Descents 1: …")."""
     _, out, _ = demo_site
     sheets = sorted(out.glob("*/coach.pdf"))
-    texts = [_text(pdf) for pdf in sheets]
+    texts = [pdf_text(pdf) for pdf in sheets]
     assert sheets and any("slow to" in t for t in texts)  # the demo has curve notes
     assert not any(".;" in t for t in texts)

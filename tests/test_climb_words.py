@@ -8,10 +8,10 @@ from __future__ import annotations
 import json
 import re
 import shutil
-import subprocess
 
 import numpy as np
 import pytest
+from buildkit import pdf_text
 from gpxmaker import profile_gpx
 from test_walking import FIRST_FOOT, LAST_TOP, pitched_climb, steady_speed
 
@@ -150,11 +150,6 @@ def outing(tmp_path_factory):
     return out
 
 
-def _text(pdf) -> str:
-    raw = subprocess.run(["pdftotext", str(pdf), "-"], capture_output=True, text=True, check=True).stdout
-    return re.sub(r"\s+", " ", raw)
-
-
 needs_poppler = pytest.mark.skipif(
     shutil.which("pdftotext") is None, reason="needs poppler-utils (pdftotext)"
 )
@@ -178,7 +173,7 @@ def test_an_easy_ramp_says_above_cp_where_it_costs_half_of_w_prime_everywhere(ou
         worded += [p["rider"]["name"]] if costly else []
     # the hand rider, slowest up the ramp, spends the most of the smallest W′ there
     assert worded == ["Hand rider"]
-    coach = _text(outing / "ramp" / "coach.pdf")
+    coach = pdf_text(outing / "ramp" / "coach.pdf")
     assert "easy by its band; for these riders: crawl (Hand rider), above CP (Hand rider)" in coach
     page = (outing / "ramp" / "index.html").read_text()
     assert "easy; for riders: crawl (1 of 4), above CP (1 of 4)" in page
@@ -193,12 +188,12 @@ def test_the_tandem_reads_one_walk_on_the_pitched_climb(outing):
     assert not [w for w in plan["warnings"] if w["code"] == "walk"]
     assert abs(walk["at_m"] - FIRST_FOOT) <= 60
     assert abs(walk["at_m"] + plan["totals"]["walk_m"] - LAST_TOP) <= 100
-    card = _text(outing / "pitched" / "tandem-pair.pdf")
+    card = pdf_text(outing / "pitched" / "tandem-pair.pdf")
     printed = re.search(r"walking may be needed: ([\d,]+) m from (\d+\.\d) km", card)
     assert printed and abs(float(printed.group(1).replace(",", "")) - plan["totals"]["walk_m"]) <= 10
     assert float(printed.group(2)) * 1000 == pytest.approx(walk["at_m"], abs=50)
     assert "walk" in climb["rider_difficulty"]
-    coach = _text(outing / "pitched" / "coach.pdf")
+    coach = pdf_text(outing / "pitched" / "coach.pdf")
     assert "by its band; for these riders: walk (Tandem pair)" in coach
 
 
@@ -209,7 +204,7 @@ def test_the_card_says_what_the_carbohydrate_band_follows(outing):
     riding: the card says so beside the figures. Thomas, Erdman & Burke (2016), Med Sci
     Sports Exerc 48(3):543–568, Table 4 [V via plan/fuel.py's notes]: 45–75 min, small
     amounts (cardgen: up to 30 g an hour)."""
-    card = _text(outing / "pitched" / "tandem-pair.pdf")
+    card = pdf_text(outing / "pitched" / "tandem-pair.pdf")
     assert "per riding hour, band by time out with stops" in card
     row = re.search(r"Food and fluids .*? (\d+):(\d\d) [\d,]+ kcal (\d+)–(\d+) g", card)
     assert row, card

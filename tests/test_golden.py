@@ -28,6 +28,7 @@ import subprocess
 
 import numpy as np
 import pytest
+from buildkit import pdf_text
 from scipy.integrate import solve_ivp
 from scipy.optimize import brentq
 
@@ -129,11 +130,7 @@ def demo(demo_site):
             cards[plan["rider"]["name"]] = subprocess.run(
                 ["pdftotext", "-layout", str(pdf), "-"], capture_output=True, text=True, check=True
             ).stdout
-            READING[(rc.gpx.name, plan["rider"]["name"])] = " ".join(
-                subprocess.run(
-                    ["pdftotext", str(pdf), "-"], capture_output=True, text=True, check=True
-                ).stdout.split()
-            )
+            READING[(rc.gpx.name, plan["rider"]["name"])] = pdf_text(pdf)
         routes.append((rc, build_terrain(read_gpx(rc.gpx)), plan_json, cards))
     return config, routes
 

@@ -8,10 +8,10 @@ from __future__ import annotations
 import json
 import re
 import shutil
-import subprocess
 from pathlib import Path
 
 import pytest
+from buildkit import pdf_text
 from gpxmaker import switchback_climb, town_route
 
 from cardgen.paths import demo_site
@@ -114,11 +114,7 @@ def outing(tmp_path_factory):
 
 def text(pdf: Path, layout: bool = True) -> str:
     """The PDF's text, lines joined (pdftotext -layout, or in reading order)."""
-    mode = ["-layout"] if layout else []
-    raw = subprocess.run(
-        ["pdftotext", *mode, str(pdf), "-"], capture_output=True, text=True, check=True
-    ).stdout
-    return re.sub(r"\s+", " ", raw)
+    return pdf_text(pdf, layout=layout)
 
 
 def plans(out: Path, route: str) -> dict:
