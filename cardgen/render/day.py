@@ -29,6 +29,7 @@ COLUMNS = (
     "opens",
     "closes",
     "riders",
+    "people",
     "first",
     "last",
     "per_15_min",
@@ -64,6 +65,7 @@ def day_rows(route: str, points: Iterable[PointDay], to_second: bool) -> list[di
                 "opens": clock(p.opens),
                 "closes": clock(p.closes),
                 "riders": p.riders,
+                "people": p.people,
                 "first": clock(p.first),
                 "last": clock(p.last),
                 "per_15_min": [[clock(q), n] for q, n in p.quarters],
@@ -115,7 +117,7 @@ def day_sheet_files(
     """``day-sheet.csv`` and (with PDFs) ``day-sheet.pdf``, by name; ``folder`` is
     where the build puts them (the PDF's links point there)."""
     # rows of a route reused from a build before feed and marshal points: checkpoints
-    rows = [{"kind": "checkpoint", "food": bool(r.get("stop_min")), **r} for r in rows]
+    rows = [{"kind": "checkpoint", "food": bool(r.get("stop_min")), "people": r.get("riders"), **r} for r in rows]
     files: dict[str, str | bytes] = {"day-sheet.csv": day_csv_text(rows)}
     if not pdf:
         return files
