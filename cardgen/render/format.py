@@ -89,7 +89,8 @@ def length(metres: float, units: str = "metric") -> str:
 
 @_dash_if_missing
 def leg(metres: float, units: str = "metric") -> str:
-    """A cue sheet's distance to the next cue, in one unit down the column: "0.35 km",
+    """A length in one unit down a column (a cue sheet's distance to the next cue, a
+    climb's length): "0.35 km",
     "8.45 km" (10 m steps, as :func:`length`) and from 10 km "12.3 km" (as
     :func:`distance`); in miles likewise ("0.21 mi", "12.3 mi")."""
     per, unit = (M_PER_MI, "mi") if units == "imperial" else (1000.0, "km")
@@ -201,15 +202,19 @@ def _up(value: float, step: float) -> float:
     return math.ceil(value / step - 1e-9) * step
 
 
+def battery_wh(joules: float, rounding: str = "nearest") -> float:
+    """Battery energy [Wh] as :func:`battery` prints it."""
+    wh = joules / J_PER_WH
+    step = 1 if wh < 100 else 5
+    return float({"down": _down, "up": _up}.get(rounding, _nearest)(wh, step))
+
+
 @_dash_if_missing
 def battery(joules: float, rounding: str = "nearest") -> str:
     """ "215 Wh": to 5 Wh, and to 1 Wh below 100 Wh. ``rounding="down"`` for what can
     be drawn (a limit: 54 Wh usable prints as 54 Wh, never 55), ``"up"`` for what the
     plan needs."""
-    wh = joules / J_PER_WH
-    step = 1 if wh < 100 else 5
-    rounded = {"down": _down, "up": _up}.get(rounding, _nearest)(wh, step)
-    return f"{rounded:.0f} Wh"
+    return f"{battery_wh(joules, rounding):.0f} Wh"
 
 
 @_dash_if_missing
