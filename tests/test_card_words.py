@@ -77,10 +77,10 @@ def test_the_coasting_column_is_the_unbraked_speed_on_every_card(demo):
     """One meaning, named in the head: coasting with no brakes, from plan.json's
     coast_speed (above the cap where it is: the table is not the capped speed)."""
     over_cap = 0
-    for _, plan, _, laid_out in _plans(demo):
+    for _, plan, reading, laid_out in _plans(demo):
         if not plan["descents"]:
             continue
-        assert "Coasting, no brakes" in laid_out
+        assert "Coasting unbraked" in reading
         printed = [float(x) for x in re.findall(r"-[\d.]+ % +([\d.]+) km/h", laid_out)]
         expected = [float(_half_up(d["coast_speed_m_s"] * KMH, "0.5")) for d in plan["descents"]]
         assert printed == expected, plan["rider"]["name"]
@@ -118,14 +118,27 @@ def test_a_checkpoint_distance_prints_the_same_on_the_card_and_the_day_sheet(dem
 
 
 def test_the_climbs_length_column_is_in_one_unit(demo):
+    """Metres down the column (10 m steps), a climb of 10 km or more too: it printed
+    "12.3 km" under "1850 m"."""
     for _, plan, _, laid_out in _plans(demo):
         for c in plan["climbs"]:
             length = c["end_m"] - c["start_m"]
-            assert re.search(rf"\b{_half_up(length / 1000, '0.01'):.2f} km\b", laid_out), (
+            metres = int(_half_up(length, "10"))
+            assert re.search(
+                rf"km {metres:,} m [\d.]+ % /" if metres >= 10000 else rf"km {metres} m [\d.]+ % /", laid_out
+            ), (
                 plan["rider"]["name"],
                 length,
             )
-        assert not re.search(r"km +\d+ m +[\d.]+ % /", laid_out)  # no length in metres
+        assert not re.search(r"km [\d.]+ km [\d.]+ % /", laid_out)  # no length in km
+
+
+def test_a_climb_length_prints_in_metres_however_long():
+    from cardgen.render.format import climb_length
+
+    # worked by hand: 10 m steps, half up; a separator from five digits (as kcal)
+    assert [climb_length(m) for m in (925.0, 1934.9, 12345.0)] == ["930 m", "1930 m", "12,350 m"]
+    assert climb_length(1609.344 * 1.204, "imperial") == "1.20 mi"
 
 
 def test_a_climb_with_walking_says_what_the_plan_does_below_balance_speed(demo):

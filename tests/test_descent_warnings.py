@@ -94,4 +94,5 @@ def test_a_card_says_a_descent_warning_once(descent):
     assert "hold under" not in descent_brief(row, "metric", skip)
     assert not any("coasting" in line for line in descents_brief([row], "metric", skip))
     # without the box (the coach sheet) the notes still say it, once
-    assert sum("coasting would pass" in line for line in descents_brief([row], "metric")) == 1
+    (line,) = [line for line in descents_brief([row], "metric") if "coasting would pass" in line]
+    assert line.startswith("Descent 1: coasting would pass")  # one descent: "Descent", not "Descents 1"

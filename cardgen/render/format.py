@@ -89,14 +89,24 @@ def length(metres: float, units: str = "metric") -> str:
 
 @_dash_if_missing
 def leg(metres: float, units: str = "metric") -> str:
-    """A length in one unit down a column (a cue sheet's distance to the next cue, a
-    climb's length): "0.35 km",
+    """A cue sheet's distance to the next cue, in one unit down the column: "0.35 km",
     "8.45 km" (10 m steps, as :func:`length`) and from 10 km "12.3 km" (as
     :func:`distance`); in miles likewise ("0.21 mi", "12.3 mi")."""
     per, unit = (M_PER_MI, "mi") if units == "imperial" else (1000.0, "km")
     if metres >= 10 * per:
         return distance(metres, units)
     return f"{_nearest(metres / per, 0.01):.2f} {unit}"
+
+
+@_dash_if_missing
+def climb_length(metres: float, units: str = "metric") -> str:
+    """A climb's length, in one unit down its column: "930 m", "1930 m", "12,340 m"
+    (10 m steps, as :func:`length` below 10 km; a separator from five digits), or
+    "1.20 mi" (0.01 mi, as :func:`leg`)."""
+    if units == "imperial":
+        return f"{_nearest(metres / M_PER_MI, 0.01):.2f} mi"
+    rounded = _nearest(metres, 10)
+    return f"{rounded:,.0f} m" if rounded >= 10000 else f"{rounded:.0f} m"  # "1930 m" as before
 
 
 def radius_m(metres: float) -> float:
@@ -229,6 +239,7 @@ FILTERS = {
     "distance": distance,
     "length": length,
     "leg": leg,
+    "climb_length": climb_length,
     "radius": radius,
     "height": height,
     "grade": grade,

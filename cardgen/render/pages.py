@@ -644,7 +644,8 @@ def descents_brief(rows, units: str, skip=frozenset()) -> list[str]:
     if fast:
         cap = min(w.value("cap") for row in fast for w in row.warnings if w.code == "fast")
         numbers = ", ".join(str(row.number) for row in fast)
-        lines.append(f"Descents {numbers}: coasting would pass {fmt.speed(cap, units)}; control the speed.")
+        word = "Descent" if len(fast) == 1 else "Descents"
+        lines.append(f"{word} {numbers}: coasting would pass {fmt.speed(cap, units)}; control the speed.")
     return lines
 
 
