@@ -145,6 +145,7 @@ def _pacing(plan: Plan) -> dict[str, Any] | None:
         "given": e.given,
         "assumed_duration_s": _num(e.duration, 0),
         "battery_empty_at_m": _num(e.battery_empty_at, 0),
+        "assist_off_at_m": _num(e.assist_off_at, 0),
         "text": effort_line(plan),
     }
 
