@@ -183,10 +183,8 @@ def pace_assisted(
     return best[2], best[1]
 
 
-#: Budgets the knapsack's candidates are built for, as shares of the battery budget:
-#: a choice a little over it on steady speeds is ridden until the budget is spent
-#: (the ride carries speed into climbs, which the steady estimate leaves out).
-SHARES = (1.0, 1.15)
+#: Budgets the knapsack's candidates are built for, as shares of the battery budget.
+SHARES = (1.0,)
 
 
 def _candidates(
@@ -198,9 +196,9 @@ def _candidates(
     budget: float,
     min_speed: float,
 ) -> list[list[int]]:
-    """The levels asked for, and for each level between the climbs up to the one
-    asked, the climbs' levels within ``budget`` [J] (and :data:`SHARES` of it) by
-    :func:`best_levels`, at the
+    """For each level between the climbs up to the one asked: the climbs' levels
+    capped at each level in turn, down to off, ridden until the budget
+    is spent, and the climbs' levels within ``budget`` [J] by :func:`best_levels`, at the
     rider's power of the levels asked (``paced``: its multiplier prices each level's
     time, :func:`priced_options`)."""
     wanted = [s.wanted for s in stretches]
@@ -209,13 +207,18 @@ def _candidates(
         options = priced_options(course, stretches, kappa=kappa, top=top, min_speed=min_speed)
     else:
         options = level_options(course, stretches, paced.pacing.power, min_speed)
-    between = stretches and not stretches[-1].climb
-    choices = [wanted]
+    between = bool(stretches) and not stretches[-1].climb
+    choices = []
     for level in range(wanted[-1] + 1) if between else [None]:
         lowest = [0] * len(stretches)
         most = list(wanted)
         if level is not None:
             lowest[-1] = most[-1] = level
+        # every climb at most at one level (the levels asked for among them), until
+        # the budget is spent: a climb's assist for as long as it lasts
+        climbs = most[: len(most) - between]
+        for cap in range(max(climbs, default=0), -1, -1):
+            choices.append([min(w, cap) for w in climbs] + most[len(climbs) :])
         for share in SHARES:
             choices.append(best_levels(options, most, budget=budget * share, lowest=lowest))
     return [list(c) for c in dict.fromkeys(tuple(c) for c in choices)]
