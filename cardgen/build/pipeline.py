@@ -452,9 +452,31 @@ def _render_cards(cards: list, jobs: int, tmp: Path, progress) -> int:
     return layouts
 
 
+def _write_pack_group(task) -> None:
+    """Worker: the pack files of one :class:`~cardgen.render.pages.PackGroup`, each
+    streamed into its file (a pack is never whole in memory)."""
+    from cardgen.render.pages import render_pack_group
+
+    config, group = task
+    for target, write in render_pack_group(config, group):
+        with target.open("wb") as sink:
+            write(sink)
+
+
+def _write_packs(config, groups: list, jobs: int) -> None:
+    """Write the print packs, one group (a route's packs, the event's) per worker
+    process when ``jobs`` > 1. The event's pack holds every card, as many as all the
+    routes' packs together, so it goes first: with two workers, one makes it while the
+    other makes the routes'."""
+    groups = sorted(groups, key=lambda g: -len(g.entries))
+    with _pool(jobs, len(groups)) as pool:
+        for _ in _map(pool, _write_pack_group, [(config, g) for g in groups], "a print-pack process"):
+            pass
+
+
 def _render(config, routes, old, out, tmp, pdf, progress, report, reusable, jobs=1) -> dict:
     from cardgen.plan.starts import event_starts
-    from cardgen.render.pages import built_stamp, render_day_sheet, render_index, render_packs, site_context
+    from cardgen.render.pages import built_stamp, pack_groups, render_day_sheet, render_index, site_context
 
     site = site_context(config, event_starts(config), built_stamp(os.environ.get("SOURCE_DATE_EPOCH")))
     manifest: dict = {"version": __version__, "routes": {}}
@@ -500,14 +522,10 @@ def _render(config, routes, old, out, tmp, pdf, progress, report, reusable, jobs
 
     if pdf:
         t_pack = time.perf_counter()
-        for target, write in render_packs(
-            config,
-            [(r.slug, manifest["routes"][r.slug]["summary"]) for r in routes if r.slug in manifest["routes"]],
-            tmp,
-            {r.slug for r in fresh},
-        ):
-            with target.open("wb") as sink:  # streamed: a pack is never whole in memory
-                write(sink)
+        summaries_by_slug = [
+            (r.slug, manifest["routes"][r.slug]["summary"]) for r in routes if r.slug in manifest["routes"]
+        ]
+        _write_packs(config, pack_groups(config, summaries_by_slug, tmp, {r.slug for r in fresh}), jobs)
         report.seconds["packs"] = time.perf_counter() - t_pack
     summaries = [manifest["routes"][r.slug]["summary"] for r in routes if r.slug in manifest["routes"]]
     write_files(tmp, render_index(config, site, summaries, packs=(tmp / "all-cards.pdf").is_file()))
