@@ -168,7 +168,15 @@ def make_plan(
     stretches = _stretches(rider, motor, route.climbs, terrain, air)
     effort, ride, chosen = _paced(_course(terrain, rider, air, motor, None), rider, stretches)
     between_level = chosen.pop() if stretches and not stretches[-1].climb else None
-    levels = {c.start: level for c, level in zip(route.climbs, chosen, strict=True)} if chosen else {}
+    off = effort.assist_off_at
+    levels = (
+        {  # a climb that starts after the motor is switched off is ridden without it
+            c.start: 0 if off is not None and c.start_distance >= off else level
+            for c, level in zip(route.climbs, chosen, strict=True)
+        }
+        if chosen
+        else {}
+    )
     wbal = w_prime_balance(ride.rider_power, ride.time, rider.cp, rider.w_prime)
     walked = walking_mask(terrain.step, ride.time, ride.rider_power, ride.limited, vehicle.min_stable_speed)
 
@@ -361,6 +369,7 @@ def _paced(course: Course, rider: Rider, stretches: list[Stretch]) -> tuple[Effo
         )
     else:
         paced = pacer(course)
+    budgeted = bool(stretches) and course.motor is not None  # cut at the budget, not the empty battery
     effort = Effort(
         style=style,
         mean_power=ridden_mean(paced.ride),
@@ -368,7 +377,8 @@ def _paced(course: Course, rider: Rider, stretches: list[Stretch]) -> tuple[Effo
         ceiling=top,
         given=rider.effort_given,
         duration=duration,
-        battery_empty_at=paced.empty_at,
+        battery_empty_at=None if budgeted else paced.empty_at,
+        assist_off_at=paced.empty_at if budgeted else None,
     )
     return effort, paced.ride, levels
 

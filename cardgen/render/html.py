@@ -175,6 +175,7 @@ def environment(override: Path | None = None, units: str = "metric") -> jinja2.E
         start_clock=fmt.start_clock,
         cautions_for=cautions_for,
         legend_for=legend_for,
+        assist_plan=assist_plan,
     )
     return env
 
@@ -238,6 +239,23 @@ def assist_levels(plan: Plan) -> str:
     ratios = ", ".join(f"{r * 100:.0f}" for r in levels)
     which = "level 1" if len(levels) == 1 else f"levels 1–{len(levels)}"
     return f"Assist {which}: {ratios} % of the rider's power."
+
+
+def assist_plan(plan: Plan, units: str) -> str:
+    """The card's assist words for the day: the level between the climbs, and where
+    the plan has the motor switched off to keep the battery's reserve ("" without a
+    motor)."""
+    motor, effort = plan.motor, plan.effort
+    if motor is None:
+        return ""
+    off = effort.assist_off_at if effort is not None else None
+    keeps = f"keeps the {BATTERY_RESERVE * 100:.0f} % reserve"
+    if plan.assist_between is None:
+        return "" if off is None else f"assist off from {fmt.distance(off, units)}: {keeps}"
+    level = f"assist between climbs {motor.level_name(plan.assist_between)}"
+    if off is None or plan.assist_between == 0:
+        return level if off is None else f"{level}; all assist off from {fmt.distance(off, units)}: {keeps}"
+    return f"{level} until {fmt.distance(off, units)}, then off: {keeps}"
 
 
 def assist_range(plan: Plan) -> str:

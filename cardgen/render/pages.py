@@ -851,60 +851,84 @@ def _pack_order(job: RouteJob, views, to_second: bool = False) -> list[dict]:
     return rows
 
 
-def render_packs(
-    config, routes: list[tuple[str, dict]], folder: Path, fresh: set[str]
-) -> Iterator[tuple[Path, Callable[[BinaryIO], None]]]:
-    """Print packs (docs/contracts.md): ``all-cards.pdf`` in each route folder that
-    was rendered now (``fresh`` slugs; a reused route keeps its pack) and at the
-    root for the whole event, with ``all-cards-2up.pdf`` beside each for A5 cards,
-    made from the cards in ``folder``. ``routes`` are (slug, summary) in site order.
-    Yields each pack's file with the function that writes the pack into it (a binary
-    file open for writing): a pack is streamed card by card, never held whole (the
-    event's pack at 3,000 riders is some 400 MB of PDF)."""
-    from cardgen.render.packs import PackEntry, pack_cover, write_pack, write_two_up
+@dataclass(frozen=True)
+class PackGroup:
+    """The cards of one print pack (a route's, or the event's): its folder, the
+    cover's subtitle, whether the cover names each card's route, and the cards in
+    print order (:class:`~cardgen.render.packs.PackEntry`). Plain data, so that a
+    build can hand each pack to a process of its own."""
 
-    env = _environment(config.templates, config.units)
-    page = page_geometry(config.card_size, config.large_print)
-    size = {"A5": (419.53, 595.28), "A4": (595.28, 841.89), "pocket": (280.63, 595.28)}[config.card_size]
-    template = env.get_template("cover.html")
+    where: Path
+    subtitle: str
+    show_route: bool
+    entries: tuple
 
-    def pack(entries, where: Path, subtitle: str, show_route: bool):
-        if not entries:
-            return
-        cover, _ = pack_cover(
-            entries,
-            lambda rows: template.render(
-                title=config.title,
-                subtitle=subtitle,
-                rows=rows,
-                page=page,
-                show_route=show_route,
-                two_up=config.card_size == "A5",
-            ),
-            where,
-            size,
-        )
-        yield (
-            where / "all-cards.pdf",
-            functools.partial(write_pack, cover, entries, title="all-cards", page_size=size),
-        )
-        if config.card_size == "A5":
-            yield (
-                where / "all-cards-2up.pdf",
-                functools.partial(write_two_up, cover, entries, title="all-cards-2up"),
-            )
 
-    everyone = []
+def pack_groups(config, routes: list[tuple[str, dict]], folder: Path, fresh: set[str]) -> list[PackGroup]:
+    """The print packs to make (docs/contracts.md): one in each route folder that was
+    rendered now (``fresh`` slugs; a reused route keeps its pack) and one at the root
+    for the whole event, from the cards in ``folder``. ``routes`` are (slug, summary)
+    in site order. A pack without cards is left out."""
+    from cardgen.render.packs import PackEntry
+
+    groups, everyone = [], []
     for slug, summary in routes:
         entries = [
             PackEntry(r["name"], r["bib"], r["start"], summary["name"], folder / slug / r["card"])
             for r in summary.get("pack", [])
             if (folder / slug / r["card"]).is_file()
         ]
-        if slug in fresh:
-            yield from pack(entries, folder / slug, summary["name"], show_route=False)
+        if slug in fresh and entries:
+            groups.append(PackGroup(folder / slug, summary["name"], False, tuple(entries)))
         everyone.extend(entries)
-    yield from pack(everyone, folder, "every route", show_route=True)
+    if everyone:
+        groups.append(PackGroup(folder, "every route", True, tuple(everyone)))
+    return groups
+
+
+def render_pack_group(config, group: PackGroup) -> Iterator[tuple[Path, Callable[[BinaryIO], None]]]:
+    """``all-cards.pdf`` of ``group``, and ``all-cards-2up.pdf`` beside it for A5 cards:
+    yields each pack's file with the function that writes the pack into it (a binary
+    file open for writing). A pack is streamed card by card, never held whole (the
+    event's pack at 3,000 riders is some 400 MB of PDF); both share one cover."""
+    from cardgen.render.packs import pack_cover, write_pack, write_two_up
+
+    env = _environment(config.templates, config.units)
+    page = page_geometry(config.card_size, config.large_print)
+    size = {"A5": (419.53, 595.28), "A4": (595.28, 841.89), "pocket": (280.63, 595.28)}[config.card_size]
+    template = env.get_template("cover.html")
+    entries = list(group.entries)
+    cover, _ = pack_cover(
+        entries,
+        lambda rows: template.render(
+            title=config.title,
+            subtitle=group.subtitle,
+            rows=rows,
+            page=page,
+            show_route=group.show_route,
+            two_up=config.card_size == "A5",
+        ),
+        group.where,
+        size,
+    )
+    yield (
+        group.where / "all-cards.pdf",
+        functools.partial(write_pack, cover, entries, title="all-cards", page_size=size),
+    )
+    if config.card_size == "A5":
+        yield (
+            group.where / "all-cards-2up.pdf",
+            functools.partial(write_two_up, cover, entries, title="all-cards-2up"),
+        )
+
+
+def render_packs(
+    config, routes: list[tuple[str, dict]], folder: Path, fresh: set[str]
+) -> Iterator[tuple[Path, Callable[[BinaryIO], None]]]:
+    """Every print pack of :func:`pack_groups`, one after the other
+    (:func:`render_pack_group`)."""
+    for group in pack_groups(config, routes, folder, fresh):
+        yield from render_pack_group(config, group)
 
 
 def route_summary(job: RouteJob, views, units: str, to_second: bool = False) -> dict:
