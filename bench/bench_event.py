@@ -103,6 +103,7 @@ print(json.dumps({
     "cpu": own.ru_utime + own.ru_stime + kids.ru_utime + kids.ru_stime,
     "rss_own": own.ru_maxrss / 1024, "rss_worker": kids.ru_maxrss / 1024,
     "cards": report.cards_rendered, "reused": report.cards_reused, "seconds": report.seconds,
+    "phase_cpu": getattr(report, "cpu", {}),
 }))
 """
 
@@ -160,6 +161,11 @@ def _line(label: str, f: dict, riders: int) -> str:
         f"{f['cards']} cards rendered, layouts per fitted card {f['per_card']:.2f}, "
         f"peak RSS build {f['rss_own']:.0f} MiB, largest worker {f['rss_worker']:.0f} MiB; phases "
         + ", ".join(f"{k} {v:.1f}" for k, v in f["seconds"].items())
+        + (
+            "; phases' CPU " + ", ".join(f"{k} {v:.1f}" for k, v in f["phase_cpu"].items())
+            if f["phase_cpu"]
+            else ""
+        )
     )
 
 
@@ -213,10 +219,22 @@ def main() -> None:
     again = _build(ROOT, site, folder / "site", args.jobs, pdf)
     print(
         f"one rider changed: {again['wall']:.1f} s, {again['wall'] / now['wall']:.1%} of the full build "
-        f"(target <= 10 %); {again['cards']} cards rendered, {again['reused']} reused"
+        f"(target <= 10 %), CPU {again['cpu']:.1f} s, {again['cpu'] / now['cpu']:.1%} of the full build's; "
+        f"{again['cards']} cards rendered, {again['reused']} reused; phases "
+        + ", ".join(f"{k} {v:.1f}" for k, v in again["seconds"].items())
+        + (
+            "; phases' CPU " + ", ".join(f"{k} {v:.1f}" for k, v in again["phase_cpu"].items())
+            if again["phase_cpu"]
+            else ""
+        )
     )
     packs = now["seconds"].get("packs", 0.0)
-    print(f"print packs: {packs:.1f} s, {packs / now['wall']:.1%} of the build (target <= 5 %)")
+    packs_cpu = now["phase_cpu"].get("packs", 0.0)
+    print(
+        f"print packs: {packs:.1f} s, {packs / now['wall']:.1%} of the build (target <= 5 %); "
+        f"CPU {packs_cpu:.1f} s, {packs_cpu / now['cpu']:.1%} of the build's (wall shares move with the "
+        "machine's load, CPU shares much less)"
+    )
     own = resource.getrusage(resource.RUSAGE_CHILDREN).ru_maxrss / 1024
     print(f"largest process of the whole run: {own:.0f} MiB (target: each at most 1024 MiB)")
 

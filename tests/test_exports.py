@@ -2,12 +2,15 @@
 read back and compared with the plans they come from."""
 
 import csv
+import dataclasses
 import io
 import json
 import math
+import xml.etree.ElementTree as ET
 from pathlib import Path
 
 import gpxpy
+import gpxpy.gpx
 import pytest
 
 from cardgen.io.gpx import read_gpx
@@ -76,6 +79,78 @@ def test_route_gpx_reads_back_with_a_waypoint_at_every_climb_foot_and_checkpoint
         assert waypoint.latitude == pytest.approx(analysis.terrain.lat[climb.start], abs=1e-7)
         assert waypoint.longitude == pytest.approx(analysis.terrain.lon[climb.start], abs=1e-7)
     assert [w.name for w in gpx.waypoints if w.type == "checkpoint"] == [c.name for c in checkpoints]
+
+
+def _gpxpy_route(track, terrain, climbs, checkpoints) -> str:
+    """The route's GPX as gpxpy (an independent, widely used GPX library) writes it:
+    the reference that cardgen's own writer is read back against."""
+    gpx = gpxpy.gpx.GPX()
+    gpx.name = track.name
+    gpx.creator = "cardgen"
+    segment = gpxpy.gpx.GPXTrackSegment()
+    for la, lo, el in zip(terrain.lat, terrain.lon, terrain.elevation, strict=True):
+        segment.points.append(
+            gpxpy.gpx.GPXTrackPoint(round(float(la), 7), round(float(lo), 7), elevation=round(float(el), 1))
+        )
+    trk = gpxpy.gpx.GPXTrack(name=track.name)
+    trk.segments.append(segment)
+    gpx.tracks.append(trk)
+    marks = [
+        (c.start, f"Climb {n}", f"{c.length:.0f} m at {c.avg_grade * 100:.1f} %, +{c.height:.0f} m", "climb")
+        for n, c in enumerate(climbs, 1)
+    ]
+    marks += [(int(round(c.distance / terrain.step)), c.name, None, "checkpoint") for c in checkpoints]
+    for i, name, desc, kind in marks:
+        gpx.waypoints.append(
+            gpxpy.gpx.GPXWaypoint(
+                round(float(terrain.lat[i]), 7),
+                round(float(terrain.lon[i]), 7),
+                elevation=round(float(terrain.elevation[i]), 1),
+                name=name,
+                description=desc,
+                type=kind,
+            )
+        )
+    return gpx.to_xml(version="1.1")
+
+
+def _read_back(text: str) -> tuple:
+    """Everything gpxpy reads from a route's GPX: names, creator, every track point and
+    waypoint with its fields."""
+    gpx = gpxpy.parse(text)
+    points = [
+        (p.latitude, p.longitude, p.elevation) for t in gpx.tracks for s in t.segments for p in s.points
+    ]
+    waypoints = [(w.latitude, w.longitude, w.elevation, w.name, w.description, w.type) for w in gpx.waypoints]
+    return gpx.name, gpx.creator, gpx.version, [t.name for t in gpx.tracks], points, waypoints
+
+
+def test_route_gpx_reads_back_as_gpxpys_own_file_does(day_ride):
+    """The GPX written as text reads back with gpxpy exactly as the file gpxpy itself
+    writes from the same route (every point to the bit, every waypoint and name)."""
+    analysis, _ = day_ride
+    checkpoints = checkpoints_from_waypoints(analysis.track, analysis.terrain)
+    assert checkpoints and analysis.climbs  # both kinds of waypoint are compared
+    ours = exports.route_gpx_text(analysis.track, analysis.terrain, analysis.climbs, checkpoints)
+    reference = _gpxpy_route(analysis.track, analysis.terrain, analysis.climbs, checkpoints)
+    assert _read_back(ours) == _read_back(reference)
+
+
+def test_route_gpx_escapes_names_from_the_files(day_ride):
+    """Names come from GPX files and site.toml: markup is escaped, characters XML 1.0
+    forbids are dropped, so the file always parses and says what was meant."""
+    analysis, _ = day_ride
+    hostile = 'Tom & Jerry\'s <b>"loop"</b>\x01\x1f ]]> Łódź'
+    track = dataclasses.replace(analysis.track, name=hostile)
+    checkpoint = dataclasses.replace(
+        checkpoints_from_waypoints(analysis.track, analysis.terrain)[0], name=hostile
+    )
+    text = exports.route_gpx_text(track, analysis.terrain, analysis.climbs, [checkpoint])
+    gpx = gpxpy.parse(text)
+    meant = 'Tom & Jerry\'s <b>"loop"</b> ]]> Łódź'
+    assert gpx.name == gpx.tracks[0].name == meant
+    assert [w.name for w in gpx.waypoints if w.type == "checkpoint"] == [meant]
+    ET.fromstring(text.encode("utf-8"))  # well-formed for a strict XML parser too
 
 
 def test_route_json_is_rounded_and_always_valid(day_ride):

@@ -13,6 +13,7 @@ from __future__ import annotations
 import contextlib
 import json
 import os
+import resource
 import shutil
 import time
 import zlib
@@ -49,7 +50,15 @@ class BuildReport:
     up_to_date: bool = False
     layouts: int = 0  # WeasyPrint layouts made for the cards rendered
     failed: list[str] = field(default_factory=list)
-    seconds: dict[str, float] = field(default_factory=dict)
+    seconds: dict[str, float] = field(default_factory=dict)  # wall time of each phase
+    cpu: dict[str, float] = field(default_factory=dict)  # CPU time of each phase, workers included
+
+
+def _cpu() -> float:
+    """CPU seconds used so far by this process and its ended workers (a phase's pools
+    are shut down when it ends, so the difference over a phase includes its workers)."""
+    own, kids = resource.getrusage(resource.RUSAGE_SELF), resource.getrusage(resource.RUSAGE_CHILDREN)
+    return own.ru_utime + own.ru_stime + kids.ru_utime + kids.ru_stime
 
 
 @dataclass
@@ -304,7 +313,7 @@ def _routes(config: SiteConfig, shared: str, starts) -> list[_Route]:
 
 
 def _build_locked(config, out, jobs, pdf, keep_going, say, progress, report):
-    t0 = time.perf_counter()
+    t0, c0 = time.perf_counter(), _cpu()
     template_folders = ([config.templates] if config.templates else []) + [default_templates()]
     epoch = os.environ.get("SOURCE_DATE_EPOCH", "")
     shared = digest(
@@ -351,7 +360,7 @@ def _build_locked(config, out, jobs, pdf, keep_going, say, progress, report):
     published = False
     try:
         failures = _plan_routes(config, [r for r in routes if not reusable(r)], tmp, jobs, say)
-        report.seconds["plan"] = time.perf_counter() - t0
+        report.seconds["plan"], report.cpu["plan"] = time.perf_counter() - t0, _cpu() - c0
         if failures and (not keep_going or len(failures) == len(routes)):
             why = "every route failed" if keep_going else "the build stopped"
             raise BuildError(
@@ -373,7 +382,7 @@ def _build_locked(config, out, jobs, pdf, keep_going, say, progress, report):
     except BaseException:
         shutil.rmtree(tmp, ignore_errors=True)
         raise
-    report.seconds["total"] = time.perf_counter() - t0
+    report.seconds["total"], report.cpu["total"] = time.perf_counter() - t0, _cpu() - c0
     return report
 
 
@@ -452,9 +461,31 @@ def _render_cards(cards: list, jobs: int, tmp: Path, progress) -> int:
     return layouts
 
 
+def _write_pack_group(task) -> None:
+    """Worker: the pack files of one :class:`~cardgen.render.pages.PackGroup`, each
+    streamed into its file (a pack is never whole in memory)."""
+    from cardgen.render.pages import render_pack_group
+
+    config, group = task
+    for target, write in render_pack_group(config, group):
+        with target.open("wb") as sink:
+            write(sink)
+
+
+def _write_packs(config, groups: list, jobs: int) -> None:
+    """Write the print packs, one group (a route's packs, the event's) per worker
+    process when ``jobs`` > 1. The event's pack holds every card, as many as all the
+    routes' packs together, so it goes first: with two workers, one makes it while the
+    other makes the routes'."""
+    groups = sorted(groups, key=lambda g: -len(g.entries))
+    with _pool(jobs, len(groups)) as pool:
+        for _ in _map(pool, _write_pack_group, [(config, g) for g in groups], "a print-pack process"):
+            pass
+
+
 def _render(config, routes, old, out, tmp, pdf, progress, report, reusable, jobs=1) -> dict:
     from cardgen.plan.starts import event_starts
-    from cardgen.render.pages import built_stamp, render_day_sheet, render_index, render_packs, site_context
+    from cardgen.render.pages import built_stamp, pack_groups, render_day_sheet, render_index, site_context
 
     site = site_context(config, event_starts(config), built_stamp(os.environ.get("SOURCE_DATE_EPOCH")))
     manifest: dict = {"version": __version__, "routes": {}}
@@ -493,22 +524,18 @@ def _render(config, routes, old, out, tmp, pdf, progress, report, reusable, jobs
                 cards.append(card)
         route.cards = []
 
-    t_pdf = time.perf_counter()
+    t_pdf, c_pdf = time.perf_counter(), _cpu()
     report.layouts = _render_cards(cards, jobs, tmp, progress)
     report.cards_rendered = len(cards)
-    report.seconds["pdf"] = time.perf_counter() - t_pdf
+    report.seconds["pdf"], report.cpu["pdf"] = time.perf_counter() - t_pdf, _cpu() - c_pdf
 
     if pdf:
-        t_pack = time.perf_counter()
-        for target, write in render_packs(
-            config,
-            [(r.slug, manifest["routes"][r.slug]["summary"]) for r in routes if r.slug in manifest["routes"]],
-            tmp,
-            {r.slug for r in fresh},
-        ):
-            with target.open("wb") as sink:  # streamed: a pack is never whole in memory
-                write(sink)
-        report.seconds["packs"] = time.perf_counter() - t_pack
+        t_pack, c_pack = time.perf_counter(), _cpu()
+        summaries_by_slug = [
+            (r.slug, manifest["routes"][r.slug]["summary"]) for r in routes if r.slug in manifest["routes"]
+        ]
+        _write_packs(config, pack_groups(config, summaries_by_slug, tmp, {r.slug for r in fresh}), jobs)
+        report.seconds["packs"], report.cpu["packs"] = time.perf_counter() - t_pack, _cpu() - c_pack
     summaries = [manifest["routes"][r.slug]["summary"] for r in routes if r.slug in manifest["routes"]]
     write_files(tmp, render_index(config, site, summaries, packs=(tmp / "all-cards.pdf").is_file()))
     write_files(tmp, render_day_sheet(config, summaries, tmp, pdf))

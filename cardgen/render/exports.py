@@ -1,6 +1,6 @@
 """Plans as data files: JSON (everything), CSV (one row per climb and rider, one per
 cue and rider), and the route as GPX 1.1 with a waypoint at the foot of every climb
-and at each checkpoint (written with gpxpy)."""
+and at each checkpoint."""
 
 from __future__ import annotations
 
@@ -8,9 +8,11 @@ import csv
 import io
 import json
 import math
+import re
 from collections.abc import Iterable, Sequence
 from datetime import datetime
 from typing import Any
+from xml.sax.saxutils import escape as xml_escape
 
 import numpy as np
 
@@ -145,6 +147,7 @@ def _pacing(plan: Plan) -> dict[str, Any] | None:
         "given": e.given,
         "assumed_duration_s": _num(e.duration, 0),
         "battery_empty_at_m": _num(e.battery_empty_at, 0),
+        "assist_off_at_m": _num(e.assist_off_at, 0),
         "text": effort_line(plan),
     }
 
@@ -152,7 +155,7 @@ def _pacing(plan: Plan) -> dict[str, Any] | None:
 def _legs(legs: Iterable[Any]) -> list[dict[str, Any]]:
     """A rider's legs between the checkpoints (the card's food and fluid table, from
     :func:`cardgen.plan.fuel.legs`): riding time, and carbohydrate [g] and fluid [L]
-    as (low, high) guides."""
+    as (low, high) guides for each of the vehicle's ``people`` (2 on a tandem)."""
     return [
         {
             "to": leg.to,
@@ -160,6 +163,7 @@ def _legs(legs: Iterable[Any]) -> list[dict[str, Any]]:
             "time_s": _num(leg.time, 0),
             "carbs_g": [_num(x, 1) for x in leg.carbs] if leg.carbs else None,
             "fluid_l": [_num(x, 3) for x in leg.fluid] if leg.fluid else None,
+            "people": leg.people,
         }
         for leg in legs
     ]
@@ -300,46 +304,60 @@ def climbs_csv_text(plans: Iterable[Plan]) -> str:
     return out.getvalue()
 
 
-def route_gpx_text(track: Any, terrain: Any, climbs: Iterable[Any], checkpoints: Iterable[Any]) -> str:
-    """GPX 1.1 of the route's (resampled) line, with waypoints at the foot of each
-    climb and at each checkpoint. Names come from the source file: gpxpy escapes them."""
-    import gpxpy.gpx
+#: Characters XML 1.0 does not allow in a document (§2.2): control characters other
+#: than tab, line feed and carriage return, and the two non-characters U+FFFE/U+FFFF.
+_NOT_XML = re.compile("[\x00-\x08\x0b\x0c\x0e-\x1f\ufffe\uffff]")
+GPX_HEAD = (
+    '<?xml version="1.0" encoding="UTF-8"?>\n'
+    '<gpx xmlns="http://www.topografix.com/GPX/1/1" '
+    'xmlns:xsi="http://www.w3.org/2001/XMLSchema-instance" '
+    'xsi:schemaLocation="http://www.topografix.com/GPX/1/1 http://www.topografix.com/GPX/1/1/gpx.xsd" '
+    'version="1.1" creator="cardgen">\n'
+)
 
-    gpx = gpxpy.gpx.GPX()
-    gpx.name = track.name
-    gpx.creator = "cardgen"
-    segment = gpxpy.gpx.GPXTrackSegment()
-    for la, lo, el in zip(terrain.lat, terrain.lon, terrain.elevation, strict=True):
-        segment.points.append(
-            gpxpy.gpx.GPXTrackPoint(round(float(la), 7), round(float(lo), 7), elevation=round(float(el), 1))
-        )
-    trk = gpxpy.gpx.GPXTrack(name=track.name)
-    trk.segments.append(segment)
-    gpx.tracks.append(trk)
+
+def _xml_text(text: str) -> str:
+    """``text`` as XML character data: escaped, without the characters XML 1.0 forbids."""
+    return xml_escape(_NOT_XML.sub("", text))
+
+
+def _wpt(lat: float, lon: float, ele: float, name: str, kind: str, desc: str = "") -> str:
+    described = f"    <desc>{_xml_text(desc)}</desc>\n" if desc else ""
+    return (
+        f'  <wpt lat="{lat:.7f}" lon="{lon:.7f}">\n    <ele>{ele:.1f}</ele>\n'
+        f"    <name>{_xml_text(name)}</name>\n{described}    <type>{kind}</type>\n  </wpt>\n"
+    )
+
+
+def route_gpx_text(track: Any, terrain: Any, climbs: Iterable[Any], checkpoints: Iterable[Any]) -> str:
+    """GPX 1.1 (the schema's element order: metadata, waypoints, track) of the route's
+    (resampled) line, with waypoints at the foot of each climb and at each checkpoint:
+    latitude and longitude to 7 decimals (about 1 cm), elevation to 0.1 m. Names come
+    from the source file or the site's configuration and are escaped here. Written
+    as text directly: building gpxpy's object tree for a 160 km route (16,000
+    points) cost more than the rest of the route's exports together;
+    ``tests/test_exports.py`` reads the file back with gpxpy."""
+    lat, lon, ele = (
+        np.asarray(a, dtype=float).tolist() for a in (terrain.lat, terrain.lon, terrain.elevation)
+    )
+    name = _xml_text(track.name) if track.name else ""
+    parts = [GPX_HEAD]
+    if name:
+        parts.append(f"  <metadata>\n    <name>{name}</name>\n  </metadata>\n")
     for number, climb in enumerate(climbs, 1):
         i = climb.start
-        gpx.waypoints.append(
-            gpxpy.gpx.GPXWaypoint(
-                round(float(terrain.lat[i]), 7),
-                round(float(terrain.lon[i]), 7),
-                elevation=round(float(terrain.elevation[i]), 1),
-                name=f"Climb {number}",
-                description=f"{climb.length:.0f} m at {climb.avg_grade * 100:.1f} %, +{climb.height:.0f} m",
-                type="climb",
-            )
-        )
+        desc = f"{climb.length:.0f} m at {climb.avg_grade * 100:.1f} %, +{climb.height:.0f} m"
+        parts.append(_wpt(lat[i], lon[i], ele[i], f"Climb {number}", "climb", desc))
     for checkpoint in checkpoints:
         i = int(round(checkpoint.distance / terrain.step))
-        gpx.waypoints.append(
-            gpxpy.gpx.GPXWaypoint(
-                round(float(terrain.lat[i]), 7),
-                round(float(terrain.lon[i]), 7),
-                elevation=round(float(terrain.elevation[i]), 1),
-                name=checkpoint.name,
-                type="checkpoint",
-            )
-        )
-    return gpx.to_xml(version="1.1")
+        parts.append(_wpt(lat[i], lon[i], ele[i], checkpoint.name, "checkpoint"))
+    parts.append("  <trk>\n" + (f"    <name>{name}</name>\n" if name else "") + "    <trkseg>\n")
+    parts.extend(
+        f'      <trkpt lat="{a:.7f}" lon="{o:.7f}">\n        <ele>{e:.1f}</ele>\n      </trkpt>\n'
+        for a, o, e in zip(lat, lon, ele, strict=True)
+    )
+    parts.append("    </trkseg>\n  </trk>\n</gpx>")
+    return "".join(parts)
 
 
 def route_json(plan: Plan) -> dict[str, Any]:

@@ -48,12 +48,10 @@ def pack_cover(
     """The cover of a pack of ``entries`` (already in print order), and the first page
     of each card in the pack.
 
-    ``cover_html(rows)`` renders the cover for rows of (entry, first page) to HTML; the
-    cover is rendered once, and again if its own length moved the page numbers. Each
-    card is opened only to count its pages."""
+    ``cover_html(rows)`` renders the cover for rows of (entry, first page) to HTML. The
+    cover is laid out once, and again if its own length moved the page numbers; only
+    the last layout is written. Each card is opened only to count its pages."""
     import pikepdf
-
-    from cardgen.render.pdf import pdf_bytes
 
     counts = []
     for entry in entries:
@@ -65,13 +63,27 @@ def pack_cover(
         for n in counts:
             firsts.append(page)
             page += n + n % 2
-        cover, _ = pdf_bytes(cover_html(list(zip(entries, firsts, strict=True))), base)
-        with pikepdf.open(io.BytesIO(cover)) as front:
-            length = len(front.pages)
+        document = _layout(cover_html(list(zip(entries, firsts, strict=True))), base)
+        length = len(document.pages)
         if length + length % 2 == cover_pages:
             break
         cover_pages = length + length % 2
-    return cover, firsts
+    return document.write_pdf(pdf_identifier=b"cardgen", uncompressed_pdf=False, pdf_tags=True), firsts
+
+
+def _layout(html: str, base: Path):
+    """The WeasyPrint layout of ``html`` (links into ``base``, served by the build's
+    own fetcher: :func:`cardgen.render.pdf.build_only_fetcher`), as a tagged PDF."""
+    import logging
+
+    from weasyprint import HTML
+
+    from cardgen.render.pdf import build_only_fetcher
+
+    logging.getLogger("weasyprint").setLevel(logging.ERROR)
+    return HTML(
+        string=html, base_url=base.resolve().as_uri() + "/", url_fetcher=build_only_fetcher(base)
+    ).render(pdf_tags=True)
 
 
 def write_pack(
