@@ -205,7 +205,8 @@ class PackedCard:
     budget: int
     group: str
     key: str
-    blob: bytes  # zlib of the JSON [html, [variants]]
+    blob: bytes  # zlib of the JSON [html, [variants], [parts]]
+    parts: int = 0  # layout parts (a long coach sheet's), 0 for a card laid out whole
 
     @classmethod
     def of(cls, card) -> PackedCard:
@@ -213,7 +214,13 @@ class PackedCard:
         written) packed."""
         text = json.dumps([card.html, list(card.variants), list(card.parts)], ensure_ascii=False)
         return cls(
-            card.base, card.target, card.budget, card.group, card_key(card), zlib.compress(text.encode(), 1)
+            card.base,
+            card.target,
+            card.budget,
+            card.group,
+            card_key(card),
+            zlib.compress(text.encode(), 1),
+            len(card.parts),
         )
 
     @property
@@ -425,14 +432,45 @@ def card_batches(cards: list, size: int) -> list[list]:
     return batches
 
 
+def _render_part(task) -> bytes:
+    """Worker: one layout part of a card laid out in parts (a long coach sheet), as a
+    PDF (:func:`cardgen.render.pdf.pdf_bytes`)."""
+    from cardgen.render.pdf import pdf_bytes
+
+    packed, index = task
+    card = packed.source
+    return pdf_bytes(card.parts[index], Path(card.base))[0]
+
+
+def _render_parted(cards: list, workers: int, tick) -> None:
+    """The cards laid out in parts (long coach sheets), every part of every card in a
+    worker of its own (a part is about a third of a 100-rider sheet: laid out alone, a
+    changed rider's sheet no longer holds up a rebuild for the whole of it), joined
+    here in order (:func:`cardgen.render.pdf.join_parts`, as ``parts_pdf`` joins them:
+    the same bytes). Fresh processes for every round of ``workers`` parts."""
+    from cardgen.render.pdf import join_parts
+
+    tasks = [(card, i) for card in cards for i in range(card.parts)]
+    made: list[bytes] = []
+    for start in range(0, len(tasks), workers):
+        round_ = tasks[start : start + workers]
+        with ProcessPoolExecutor(max_workers=len(round_)) as fresh:
+            made += _map(fresh, _render_part, round_, "a card-rendering process")
+    for card in cards:
+        Path(card.target).write_bytes(join_parts(made[: card.parts]))
+        del made[: card.parts]
+        tick([card.target])
+
+
 def _render_cards(cards: list, jobs: int, tmp: Path, progress) -> int:
     """Render the cards' PDFs in batches (:func:`card_batches`): in this process for
     one job, else in worker processes that each make one batch and end: the
     renderer's memory grows with the cards a process has made (over 1 GB after 150),
-    so no process makes more than :data:`CARDS_PER_WORKER`. Returns the layouts made."""
+    so no process makes more than :data:`CARDS_PER_WORKER`. With more than one job,
+    cards laid out in parts are made part by part first (:func:`_render_parted`).
+    Returns the layouts made (of the fitted cards)."""
     done = layouts = 0
     workers = max(1, jobs)
-    batches = card_batches(cards, max(1, min(CARDS_PER_WORKER, -(-len(cards) // workers))))
 
     def tick(targets: list[str]) -> None:
         nonlocal done
@@ -441,6 +479,11 @@ def _render_cards(cards: list, jobs: int, tmp: Path, progress) -> int:
             if progress:
                 progress(done, len(cards), Path(target).relative_to(tmp).as_posix())
 
+    parted = [c for c in cards if getattr(c, "parts", 0) > 1] if workers > 1 else []
+    if parted:
+        _render_parted(parted, workers, tick)
+    rest = [c for c in cards if all(c is not p for p in parted)]
+    batches = card_batches(rest, max(1, min(CARDS_PER_WORKER, -(-len(rest) // workers))))
     if len(batches) <= 1:
         for batch in batches:
             targets, made, _ = _render_pdfs(batch)
