@@ -91,7 +91,7 @@ if os.environ.get("BENCH_OLD_FITTER"):  # this tree, with the fitter of commit 0
             else:
                 data, _ = pdf_bytes(card.html, Path(card.base))
             Path(card.target).write_bytes(data)
-        return [c.target for c in cards], layouts, {}
+        return [c.target for c in cards], layouts, {}, {}
 
     pipeline._render_pdfs = old_render_pdfs
 t0 = time.perf_counter()
