@@ -69,9 +69,10 @@ def _battery_share(vehicle, share):
 def test_battery_use_is_bounded_and_warned_exactly_when_it_does_not_fit(tmp_path, km, share):
     """The motor gives at most ratio × the rider's power (pedal assist; EN 15194), so the
     battery can hold no more than ratio × the rider's work / drive efficiency; the
-    levels keep the reserve (on 40 km of rollers with a quarter battery the lowest
-    level for the whole route passes it, so none is planned); and the warning appears
-    exactly when the use passes the usable capacity less the reserve."""
+    levels keep the reserve (on 40 km of rollers with a quarter battery the level
+    asked for cannot last the route within it, so it runs until the budget is spent
+    and the plan says where it is switched off); and the warning appears exactly when
+    the use passes the usable capacity less the reserve."""
     d = np.arange(0, km * 1000 + 1, 10.0)
     e = 50 + 40 * np.sin(d / 1500)
     track = read_gpx(profile_gpx(tmp_path / "b.gpx", d, e))
@@ -82,7 +83,14 @@ def test_battery_use_is_bounded_and_warned_exactly_when_it_does_not_fit(tmp_path
     ratio = max([motor.levels[1], *(motor.levels[c.assist_level - 1] for c in plan.climbs if c.assist_level)])
     assert 0 <= plan.totals.battery <= ratio * plan.totals.energy / motor.drive_efficiency
     assert plan.totals.battery <= motor.usable_battery * (1 - BATTERY_RESERVE)
-    assert (plan.totals.battery > 0) == (share == 1.0)
+    assert plan.totals.battery > 0
+    # switched off, not left at nothing: the draw stops at the budget, where the plan says
+    off = plan.effort.assist_off_at
+    assert (off is not None) == (share < 1.0)
+    if off is not None:
+        after = plan.terrain.distance[:-1] >= off + plan.terrain.step
+        assert not np.any(plan.ride.motor_power[after] > 0)
+        assert plan.totals.battery == pytest.approx(motor.usable_battery * (1 - BATTERY_RESERVE), rel=1e-3)
     over = plan.totals.battery > motor.usable_battery * (1 - BATTERY_RESERVE)
     assert ("battery" in {w.code for w in plan.warnings}) == over
     assert plan.totals.battery_fits == (not over)

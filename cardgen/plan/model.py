@@ -111,7 +111,9 @@ class Effort:
     for; ``ceiling`` [W] the most the plan asks; ``given``: the effort is the rider's
     own setting (flat_w, flat_kmh, --power), else the default for the ride's length,
     ``duration`` [s] (the moving time that default assumed); ``battery_empty_at`` [m] where the motor stops
-    for want of battery (None: it lasts or there is none)."""
+    for want of battery (None: it lasts or there is none); ``assist_off_at`` [m] where
+    the plan has the rider switch the motor off, its battery less the reserve spent
+    (None: the levels last the route within it, or there is no motor)."""
 
     style: str
     mean_power: float
@@ -120,6 +122,7 @@ class Effort:
     given: bool = True
     duration: float | None = None
     battery_empty_at: float | None = None
+    assist_off_at: float | None = None
 
 
 @dataclass(frozen=True)

@@ -603,6 +603,8 @@ FIT_ROUNDS = 2
 PICK = 0.006
 #: Rounds of cutting the motor where the battery runs out (each only cuts earlier).
 BATTERY_ROUNDS = 4
+#: The motor is cut where the draw reaches this share below the capacity [-].
+CUT_MARGIN = 1e-4
 
 
 @dataclass(frozen=True)
@@ -627,10 +629,16 @@ class Pacer:
     w_prime: float
     top: float
 
-    def __call__(self, course: Course, *, cut: bool = True) -> PacedRide:
+    def __call__(self, course: Course, *, cut: bool = True, capacity: float | None = None) -> PacedRide:
         """The plan ridden (:func:`pace`)."""
         return pace(
-            course, mean_power=self.mean_power, cp=self.cp, w_prime=self.w_prime, top=self.top, cut=cut
+            course,
+            mean_power=self.mean_power,
+            cp=self.cp,
+            w_prime=self.w_prime,
+            top=self.top,
+            cut=cut,
+            capacity=capacity,
         )
 
     def steady(self, course: Course) -> Pacing:
@@ -647,12 +655,21 @@ def ridden_mean(ride: Ride) -> float:
 
 
 def pace(
-    course: Course, *, mean_power: float, cp: float, w_prime: float, top: float, cut: bool = True
+    course: Course,
+    *,
+    mean_power: float,
+    cp: float,
+    w_prime: float,
+    top: float,
+    cut: bool = True,
+    capacity: float | None = None,
 ) -> PacedRide:
     """Plan the power (:func:`plan_pacing`) and ride it, at ``mean_power`` [W] as
-    ridden; with a motor, the motor gives nothing once the battery is empty (without
-    ``cut`` the motor runs the whole way: the ride of levels meant to fit the battery,
-    which its caller checks, at the cost of one plan).
+    ridden; with a motor, the motor gives nothing once the battery is empty, or once
+    it has given ``capacity`` [J] when that is set (the battery less a reserve: the
+    rider switches it off there). Without ``cut`` the motor runs the whole way: the
+    ride of levels meant to fit the battery, which its caller checks, at the cost of
+    one plan.
 
     Notes
     -----
@@ -673,12 +690,18 @@ def pace(
         # the draw up to any point does not depend on the motor after it: ride this
         # power with the motor on throughout, and cut where that empties the battery
         unbounded = ride if ratio is full else course.ride(pacing.power, full)
-        emptied = _battery_cut(unbounded, full, course.motor)
+        emptied = battery_cut(unbounded, full, course.motor, capacity)
         if emptied is None:
             ratio, empty_at, ride = full, None, unbounded
             break
         index, cut_ratio = emptied
         ride = course.ride(pacing.power, cut_ratio)
+        for _ in range(BATTERY_ROUNDS):  # the ride cut there may still pass it, a little
+            again = battery_cut(ride, cut_ratio, course.motor, capacity)
+            if again is None:
+                break
+            index, cut_ratio = min(index, again[0]), again[1]
+            ride = course.ride(pacing.power, cut_ratio)
         settled = empty_at is not None and empty_at == float(course.distance[index + 1])
         ratio, empty_at = cut_ratio, float(course.distance[index + 1])
         if settled:
@@ -686,16 +709,21 @@ def pace(
     return PacedRide(pacing, ride, ratio, empty_at)
 
 
-def _battery_cut(ride: Ride, ratio: np.ndarray, motor: Motor) -> tuple[int, np.ndarray] | None:
-    """Where the ride empties the usable battery: the segment, and the assist ratio
-    cut there (pro rata on that segment, 0 after it); None when the battery lasts."""
+def battery_cut(
+    ride: Ride, ratio: np.ndarray, motor: Motor, capacity: float | None = None
+) -> tuple[int, np.ndarray] | None:
+    """Where the ride has drawn ``capacity`` [J] (the usable battery when None): the
+    segment, and the assist ratio cut there (pro rata on that segment, 0 after it);
+    None when the battery lasts."""
+    capacity = motor.usable_battery if capacity is None else capacity
     energy = np.nan_to_num(ride.motor_power * ride.time, posinf=0.0) / motor.drive_efficiency
     drawn = np.cumsum(energy)
-    over = np.flatnonzero(drawn > motor.usable_battery * (1.0 + 1e-6))
+    over = np.flatnonzero(drawn > capacity * (1.0 + 1e-6))
     if not over.size:
         return None
     i = int(over[0])
-    left = motor.usable_battery - (drawn[i - 1] if i else 0.0)
+    # a hair inside: the ride cut here draws a little differently on its last segment
+    left = capacity * (1.0 - CUT_MARGIN) - (drawn[i - 1] if i else 0.0)
     cut = ratio.copy()
     cut[i] *= max(left, 0.0) / max(energy[i], 1e-9)
     cut[i + 1 :] = 0.0

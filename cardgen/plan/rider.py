@@ -52,6 +52,13 @@ from cardgen.units import KMH_PER_MS, Floats
 #: Steepest 100 m grade that earns a "steep" note [-]: common practice, no published
 #: source (AASHTO's bicycle guide calls grades over 5 % undesirable on shared paths).
 STEEP_GRADE = 0.10
+#: A descent's coasting speed earns a "fast" warning only past the vehicle's speed cap
+#: by more than this share of the cap [-]: common practice, no published source. 3 %
+#: is about what a drag area 6 % off changes the coasting speed by (it goes as
+#: CdA^-1/2 where drag dominates), well inside how much CdA varies between riders
+#: of one vehicle: within it the model cannot tell coasting from the cap (45.09 km/h
+#: against 45.0 km/h is no hazard to warn of). The ride still brakes at the cap.
+FAST_MARGIN = 0.03
 #: Battery share kept in reserve when judging whether a route fits: common practice,
 #: no published source.
 BATTERY_RESERVE = 0.20
@@ -161,7 +168,15 @@ def make_plan(
     stretches = _stretches(rider, motor, route.climbs, terrain, air)
     effort, ride, chosen = _paced(_course(terrain, rider, air, motor, None), rider, stretches)
     between_level = chosen.pop() if stretches and not stretches[-1].climb else None
-    levels = {c.start: level for c, level in zip(route.climbs, chosen, strict=True)} if chosen else {}
+    off = effort.assist_off_at
+    levels = (
+        {  # a climb that starts after the motor is switched off is ridden without it
+            c.start: 0 if off is not None and c.start_distance >= off else level
+            for c, level in zip(route.climbs, chosen, strict=True)
+        }
+        if chosen
+        else {}
+    )
     wbal = w_prime_balance(ride.rider_power, ride.time, rider.cp, rider.w_prime)
     walked = walking_mask(terrain.step, ride.time, ride.rider_power, ride.limited, vehicle.min_stable_speed)
 
@@ -354,6 +369,7 @@ def _paced(course: Course, rider: Rider, stretches: list[Stretch]) -> tuple[Effo
         )
     else:
         paced = pacer(course)
+    budgeted = bool(stretches) and course.motor is not None  # cut at the budget, not the empty battery
     effort = Effort(
         style=style,
         mean_power=ridden_mean(paced.ride),
@@ -361,7 +377,8 @@ def _paced(course: Course, rider: Rider, stretches: list[Stretch]) -> tuple[Effo
         ceiling=top,
         given=rider.effort_given,
         duration=duration,
-        battery_empty_at=paced.empty_at,
+        battery_empty_at=None if budgeted else paced.empty_at,
+        assist_off_at=paced.empty_at if budgeted else None,
     )
     return effort, paced.ride, levels
 
@@ -652,7 +669,7 @@ def _descent_row(
     tight = descent.start + int(np.argmin(radii))
     slowest = float(curve_speed(vehicle.curve_accel, terrain.curve_radius[tight]))
     warnings = []
-    if coast > vehicle.max_descent_speed:
+    if coast > vehicle.max_descent_speed * (1.0 + FAST_MARGIN):
         warnings.append(Notice("fast", "warning", (("coast", coast), ("cap", vehicle.max_descent_speed))))
     warnings = [dataclasses.replace(w, at=descent.start_distance) for w in warnings]
     warnings.extend(curves)

@@ -147,6 +147,7 @@ def _pacing(plan: Plan) -> dict[str, Any] | None:
         "given": e.given,
         "assumed_duration_s": _num(e.duration, 0),
         "battery_empty_at_m": _num(e.battery_empty_at, 0),
+        "assist_off_at_m": _num(e.assist_off_at, 0),
         "text": effort_line(plan),
     }
 
@@ -154,7 +155,7 @@ def _pacing(plan: Plan) -> dict[str, Any] | None:
 def _legs(legs: Iterable[Any]) -> list[dict[str, Any]]:
     """A rider's legs between the checkpoints (the card's food and fluid table, from
     :func:`cardgen.plan.fuel.legs`): riding time, and carbohydrate [g] and fluid [L]
-    as (low, high) guides."""
+    as (low, high) guides for each of the vehicle's ``people`` (2 on a tandem)."""
     return [
         {
             "to": leg.to,
@@ -162,6 +163,7 @@ def _legs(legs: Iterable[Any]) -> list[dict[str, Any]]:
             "time_s": _num(leg.time, 0),
             "carbs_g": [_num(x, 1) for x in leg.carbs] if leg.carbs else None,
             "fluid_l": [_num(x, 3) for x in leg.fluid] if leg.fluid else None,
+            "people": leg.people,
         }
         for leg in legs
     ]

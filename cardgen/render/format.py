@@ -98,6 +98,17 @@ def leg(metres: float, units: str = "metric") -> str:
     return f"{_nearest(metres / per, 0.01):.2f} {unit}"
 
 
+@_dash_if_missing
+def climb_length(metres: float, units: str = "metric") -> str:
+    """A climb's length, in one unit down its column: "930 m", "1930 m", "12,340 m"
+    (10 m steps, as :func:`length` below 10 km; a separator from five digits), or
+    "1.20 mi" (0.01 mi, as :func:`leg`)."""
+    if units == "imperial":
+        return f"{_nearest(metres / M_PER_MI, 0.01):.2f} mi"
+    rounded = _nearest(metres, 10)
+    return f"{rounded:,.0f} m" if rounded >= 10000 else f"{rounded:.0f} m"  # "1930 m" as before
+
+
 def radius_m(metres: float) -> float:
     """A curve's radius [m] as printed: rounded down (a tighter curve asks for a
     lower speed) to 1 m below 30 m, 5 m below 100 m, else 10 m."""
@@ -201,15 +212,19 @@ def _up(value: float, step: float) -> float:
     return math.ceil(value / step - 1e-9) * step
 
 
+def battery_wh(joules: float, rounding: str = "nearest") -> float:
+    """Battery energy [Wh] as :func:`battery` prints it."""
+    wh = joules / J_PER_WH
+    step = 1 if wh < 100 else 5
+    return float({"down": _down, "up": _up}.get(rounding, _nearest)(wh, step))
+
+
 @_dash_if_missing
 def battery(joules: float, rounding: str = "nearest") -> str:
     """ "215 Wh": to 5 Wh, and to 1 Wh below 100 Wh. ``rounding="down"`` for what can
     be drawn (a limit: 54 Wh usable prints as 54 Wh, never 55), ``"up"`` for what the
     plan needs."""
-    wh = joules / J_PER_WH
-    step = 1 if wh < 100 else 5
-    rounded = {"down": _down, "up": _up}.get(rounding, _nearest)(wh, step)
-    return f"{rounded:.0f} Wh"
+    return f"{battery_wh(joules, rounding):.0f} Wh"
 
 
 @_dash_if_missing
@@ -224,6 +239,7 @@ FILTERS = {
     "distance": distance,
     "length": length,
     "leg": leg,
+    "climb_length": climb_length,
     "radius": radius,
     "height": height,
     "grade": grade,

@@ -175,6 +175,7 @@ def environment(override: Path | None = None, units: str = "metric") -> jinja2.E
         start_clock=fmt.start_clock,
         cautions_for=cautions_for,
         legend_for=legend_for,
+        assist_plan=assist_plan,
     )
     return env
 
@@ -240,15 +241,38 @@ def assist_levels(plan: Plan) -> str:
     return f"Assist {which}: {ratios} % of the rider's power."
 
 
+def assist_plan(plan: Plan, units: str) -> str:
+    """The card's assist words for the day: the level between the climbs, and where
+    the plan has the motor switched off to keep the battery's reserve ("" without a
+    motor)."""
+    motor, effort = plan.motor, plan.effort
+    if motor is None:
+        return ""
+    off = effort.assist_off_at if effort is not None else None
+    keeps = f"keeps the {BATTERY_RESERVE * 100:.0f} % reserve"
+    if plan.assist_between is None:
+        return "" if off is None else f"assist off from {fmt.distance(off, units)}: {keeps}"
+    level = f"assist between climbs {motor.level_name(plan.assist_between)}"
+    if off is None or plan.assist_between == 0:
+        return level if off is None else f"{level}; all assist off from {fmt.distance(off, units)}: {keeps}"
+    return f"{level} until {fmt.distance(off, units)}, then off: {keeps}"
+
+
 def assist_range(plan: Plan) -> str:
-    """The e-assist range line: the battery the plan assumes, its usable share and the
-    reserve kept, and what shortens the range."""
+    """The e-assist range line, one statement: what the plan may spend of the usable
+    battery and what it keeps in reserve ("Range: the plan spends at most 360 Wh of
+    the 450 Wh usable, keeping 90 Wh (20 %) in reserve"), and what shortens the range.
+    What can be drawn and what may be spent round down (limits); the reserve is their
+    difference as printed, so the line adds up."""
     motor = plan.motor
     if motor is None:
         return ""
+    usable = fmt.battery_wh(motor.usable_battery, "down")
+    spend = fmt.battery_wh(motor.usable_battery * (1.0 - BATTERY_RESERVE), "down")
     return (
-        f"Range: {fmt.battery(motor.usable_battery, 'down')} usable of {fmt.battery(motor.battery, 'down')}, "
-        f"{BATTERY_RESERVE * 100:.0f} % in reserve; cold, age, load cut it: plan to finish unassisted."
+        f"Range: the plan spends at most {spend:.0f} Wh of the {usable:.0f} Wh usable, keeping "
+        f"{usable - spend:.0f} Wh ({BATTERY_RESERVE * 100:.0f} %) in reserve; "
+        "cold, age, load cut it: plan to finish unassisted."
     )
 
 
