@@ -923,7 +923,7 @@ def render_pack_group(config, group: PackGroup) -> tuple[int, list[tuple[Path, C
         size,
         group.cover_pages,
     )
-    files = [
+    files: list[tuple[Path, Callable[[BinaryIO], None]]] = [
         (
             group.where / "all-cards.pdf",
             functools.partial(write_pack, cover, entries, title="all-cards", page_size=size),
