@@ -4,19 +4,22 @@ from __future__ import annotations
 
 from types import SimpleNamespace
 
-from cardgen.plan.model import Effort
+from cardgen.plan.model import Effort, Notice
 from cardgen.render.advice import climb_advice, climbs_advice, descent_advice, descents_advice, effort_line
 
 
 def _plan(**effort):
     values = dict(style="best", mean_power=163.4, asked=163.6, ceiling=235.0, given=False, duration=3960.0)
     values.update(effort)
-    rider = SimpleNamespace(cp=214.0, w_prime=15000.0, flat_power=150.0)
+    vehicle = SimpleNamespace(max_descent_speed=12.5)  # 45 km/h
+    rider = SimpleNamespace(cp=214.0, w_prime=15000.0, flat_power=150.0, vehicle=vehicle)
     return SimpleNamespace(effort=Effort(**values), rider=rider)
 
 
-def _climb(power, time, top, after):
-    return SimpleNamespace(rider_power=power, time=time, w_prime_top=top, recovered_after=after)
+def _climb(power, time, top, after, warnings=()):
+    return SimpleNamespace(
+        rider_power=power, time=time, w_prime_top=top, recovered_after=after, warnings=warnings
+    )
 
 
 def test_the_effort_line_says_the_style_the_mean_and_what_was_assumed():
@@ -49,9 +52,13 @@ def test_descent_advice_is_to_ease_or_to_pedal():
         descent_advice(SimpleNamespace(rider_power=20.0, braking_energy=0.0), plan)
         == "ease off and let it roll"
     )
-    # a descent the plan brakes on (a curve, the speed cap) is never "let it roll"
-    braked = SimpleNamespace(rider_power=20.0, braking_energy=4000.0)
+    # a descent the plan brakes on for its notes (a curve, the speed cap) is never "let it roll"
+    curve = Notice("curve", "warning", (("radius", 12.0), ("speed", 4.9), ("where", 900.0)))
+    braked = SimpleNamespace(rider_power=20.0, braking_energy=4000.0, warnings=(curve,))
     assert descent_advice(braked, plan) == "ease off; brake where the notes say"
+    # braked at the cap with nothing to warn of (coasting a hair over it): where it brakes
+    capped = SimpleNamespace(rider_power=20.0, braking_energy=300.0, warnings=())
+    assert descent_advice(capped, plan) == "ease off; let it roll, braking at 45.0 km/h"
     assert (
         descent_advice(SimpleNamespace(rider_power=118.0, braking_energy=0.0), plan)
         == "keep pedalling, about 120 W"
@@ -77,3 +84,13 @@ def test_condensed_climb_advice_groups_climbs_with_the_same_words():
     plan.climbs = [SimpleNamespace(number=n, **vars(c)) for n, c in ((1, same), (2, other), (3, same))]
     # worked by hand: 263 W → 260 W (down); 362 s → 6 min, 722 s → 12 min
     assert climbs_advice(plan) == ["Climbs 1, 3: hold 260 W for 6 min", "Climb 2: hold 260 W for 12 min"]
+
+
+def test_a_climb_ridden_below_balance_speed_says_so_beside_the_power():
+    """The plan rides on below a two-wheeler's balance speed and times it so: the
+    advice says where, beside the power to hold (850 m below 1.53 m/s = 5.5 km/h)."""
+    walk = Notice("walk", "warning", (("speed", 5.5 / 3.6), ("length", 846.0)), at=5300.0)
+    row = _climb(152.0, 1190.0, 14000.0, None, warnings=(walk,))
+    assert climb_advice(row, _plan()) == (
+        "hold 150 W for 20 min; 850 m below 5.5 km/h, timed as ridden: walk there if you must"
+    )

@@ -78,7 +78,9 @@ def test_a_capped_climbing_power_is_said(tmp_path, capsys):
     path = _site(tmp_path, BASE + "cp_w = 290\nclimb_w = 380\n")
     code, _, err = _check(capsys, path)
     assert code == 0
-    assert "climb_w 380 W is above CP × 1.10 = 319 W; the plans use 319 W" in err
+    # worked by hand: 290 W × 1.10 = 319 W, which the cards print as "hold 315 W" (5 W steps,
+    # rounded down for a power to hold): the note says the cards' figure, not a second rounding
+    assert "climb_w 380 W is above CP × 1.10; the plans hold at most 315 W, as the cards print it" in err
 
 
 def test_body_mass_load_and_battery_per_rider(tmp_path):
@@ -310,3 +312,17 @@ def test_toml_and_csv_riders_mix(tmp_path):
     text = BASE + '\n[[riders]]\ncsv = "entrants.csv"\n'
     config = load_config(_site(tmp_path, text))
     assert [r.rider.name for r in config.riders] == ["A", "Rider 0", "Rider 1", "Rider 2"]
+
+
+def test_check_without_an_argument_checks_the_demo_as_build_builds_it(capsys):
+    """`cardgen build` with no argument builds the demo; `check` with none checked
+    nothing and exited 2 (a usage error). It checks the demo now."""
+    code, out, err = _check_args(capsys, [])
+    assert code == 0, err
+    assert "configuration and routes are fine" in out and "hill-loop.gpx" in out
+
+
+def _check_args(capsys, args: list[str]) -> tuple[int, str, str]:
+    code = main(["check", *args])
+    captured = capsys.readouterr()
+    return code, captured.out, captured.err

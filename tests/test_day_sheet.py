@@ -98,13 +98,17 @@ CARBS_TOP = ((0.75, 0.0), (1.25, 30.0), (2.5, 60.0), (float("inf"), 90.0))
 #: The top of the fluid guide at 22 °C [L/h]: Sawka et al. 2007's 0.4–0.8 L/h split by
 #: temperature, 0.5–0.7 L/h from 15 to 25 °C (common practice, no published source).
 FLUID_TOP_22C = 0.7
+#: People on a vehicle: a tandem carries two (what the word means), the others one;
+#: the guides above are per person, so a feed stocks the tandem's leg twice.
+PEOPLE = {"tandem": 2}
 
 
 def _stock(plan: dict, points: list[dict], k: int) -> tuple[float, float]:
     """Carbohydrate [g] and fluid [L] to stock at ``points[k]``, worked out from the
     arrivals alone: each rider due there rides from there to the next place with food
     (a feed point or a checkpoint with a stop) or the finish; the riding time of that
-    leg is the arrival there less the arrival here and the stop here."""
+    leg is the arrival there less the arrival here and the stop here; once per person
+    on the rider's vehicle."""
     here = points[k]
     later = [x for x in points[k + 1 :] if x["distance_m"] > here["distance_m"]]
     after = next((x for x in later if x["kind"] == "feed" or x["stop_s"] > 0), None)
@@ -117,8 +121,9 @@ def _stock(plan: dict, points: list[dict], k: int) -> tuple[float, float]:
         hours = ((end - arrive).total_seconds() - here["stop_s"]) / 3600
         stopped = sum(c["stop_s"] for c in p["checkpoints"])
         ride_h = ((_t(p["finish"]) - _t(p["rider"]["start"])).total_seconds() - stopped) / 3600
-        carbs += next(top for limit, top in CARBS_TOP if ride_h <= limit) * hours
-        fluid += FLUID_TOP_22C * hours
+        people = PEOPLE.get(p["rider"]["vehicle"], 1)
+        carbs += next(top for limit, top in CARBS_TOP if ride_h <= limit) * hours * people
+        fluid += FLUID_TOP_22C * hours * people
     return carbs * (1 + STOCK_MARGIN), fluid * (1 + STOCK_MARGIN)
 
 
@@ -132,6 +137,7 @@ def test_every_number_of_the_day_sheet_comes_from_the_plans(site):
     for k, (row, x) in enumerate(zip(rows, points, strict=True)):
         arrivals = [a for a in x["arrivals"] if a is not None]
         assert int(row["riders"]) == len(arrivals) == len(plan["plans"])
+        assert int(row["people"]) == sum(PEOPLE.get(p["rider"]["vehicle"], 1) for p in plan["plans"])
         assert float(row["km"]) == pytest.approx(x["distance_m"] / 1000, abs=0.005)
         # the clock is printed to the minute (starts are half a minute apart: to the second)
         assert _t(row["first"]) == min(arrivals).replace(microsecond=0)

@@ -437,8 +437,18 @@ def test_battery_figures(demo):
             assert _rounded(printed, wh), (rc.gpx.name, rider.name, printed, wh)
             # the range line's reserve, the plan's share kept back
             reading = READING[(rc.gpx.name, rider.name)]  # the cautions print in columns
-            (share,) = re.findall(r"Range: \d+ Wh usable of \d+ Wh, (\d+) % in reserve", reading)
+            ((spend, of, kept, share),) = re.findall(
+                r"Range: the plan spends at most (\d+) Wh of the (\d+) Wh usable, keeping (\d+) Wh \((\d+) %\) in reserve",
+                reading,
+            )
             assert float(share) == RESERVE * 100
+            # each figure rounded down from the usable battery and the 20 % kept back
+            assert _rounded(float(of), usable / 3600) and float(of) <= usable / 3600 + 1e-6
+            assert _rounded(float(spend), (1 - RESERVE) * usable / 3600)
+            assert float(spend) <= (1 - RESERVE) * usable / 3600 + 1e-6
+            # what is kept is the rest of the printed usable energy: the line adds up
+            assert float(kept) == float(of) - float(spend)
+            assert _rounded(float(kept), RESERVE * usable / 3600)
             fits = totals["battery_j"] <= (1 - RESERVE) * usable
             assert totals["battery_fits"] is fits, (rc.gpx.name, rider.name)
             warned = [w for w in plan["warnings"] if w["code"] == "battery"]

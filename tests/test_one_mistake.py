@@ -102,3 +102,18 @@ def test_a_wave_naming_a_rider_with_a_broken_entry_adds_no_error(tmp_path):
 def test_a_wave_naming_an_unknown_rider_is_still_reported(tmp_path):
     problems = _problems(tmp_path, '["Ada, handcycle", "Bo', '["Ada, handcyle", "Bo')
     assert len(problems) == 1 and "waves[0].riders" in problems[0], problems
+
+
+def test_a_misspelt_gpx_path_offers_only_close_names(tmp_path):
+    """Beside the demo's four routes, "hill-lop.gpx" is "hill-loop.gpx" misspelt;
+    "riverside-loop.gpx" was offered too, only because the names share ".gpx"
+    (difflib's ratio 0.6, the general cutoff)."""
+    distance = np.arange(0.0, 2000.0, 10.0)
+    for name in ("riverside-loop", "hill-loop", "day-ride", "accessible-path"):
+        profile_gpx(tmp_path / f"{name}.gpx", distance, np.full_like(distance, 50.0))
+    (tmp_path / "site.toml").write_text('[[routes]]\ngpx = "hill-lop.gpx"\n', encoding="utf-8")
+    with pytest.raises(ConfigError) as caught:
+        load_config(tmp_path / "site.toml")
+    message = str(caught.value)
+    assert "(did you mean 'hill-loop.gpx'?)" in message
+    assert "riverside-loop" not in message and "day-ride" not in message

@@ -111,8 +111,9 @@ def add_parser(sub: argparse._SubParsersAction[argparse.ArgumentParser]) -> None
     """The ``check`` command's options."""
     check = sub.add_parser(
         "check",
-        help="check a site's configuration and routes; writes nothing",
-        description="Check a site's configuration and routes; writes nothing.",
+        help="check a site's configuration and routes; writes nothing (no argument: the demo event)",
+        description="Check a site's configuration and routes; writes nothing. No argument: the bundled "
+        "demo event, as build takes it.",
     )
-    check.add_argument("site", metavar="SITE.toml|FOLDER")
+    check.add_argument("site", nargs="?", metavar="SITE.toml|FOLDER")
     check.set_defaults(run=cmd_check)

@@ -21,6 +21,7 @@ def cmd_vehicles(args: argparse.Namespace) -> int:
                     "name": v.name,
                     "label": v.label,
                     "wheels": v.wheels,
+                    "riders": v.riders,
                     "propulsion": v.propulsion,
                     "vehicle_mass_kg": v.vehicle_mass,
                     "rider_mass_kg": v.rider_mass,

@@ -500,8 +500,8 @@ def _rider(
     if rider.climb_power_used < rider.climb_power - 0.5 and r["climb_w"] is not None:
         check.notes.append(
             f"rider {name!r}: climb_w {rider.climb_power:.0f} W is above CP × "
-            f"{1 + rider.climb_share:.2f} = {rider.climb_power_used:.0f} W; the plans use "
-            f"{rider.climb_power_used:.0f} W (raise climb_share to allow more)"
+            f"{1 + rider.climb_share:.2f}; the plans hold at most {_watts(rider.climb_power_used, 'down')}, "
+            "as the cards print it (raise climb_share to allow more)"
         )
     return RiderConfig(rider, tuple(str(x) for x in (r["routes"] or ())), r["start"], r["bib"])
 
@@ -543,8 +543,12 @@ def _flat_power(check: Checker, i: int, r: dict[str, Any], vehicle: Vehicle, giv
     return True
 
 
-def _watts(watts: float) -> str:
-    """A rider's power as the cards print it: to the nearest 5 W (``render.format.power``)."""
+def _watts(watts: float, rounding: str = "nearest") -> str:
+    """A rider's power as the cards print it (``render.format.power``): to the nearest
+    5 W, or with ``rounding="down"`` for a limit ("hold 250 W", never more than the
+    plan holds)."""
+    if rounding == "down":
+        return f"{5 * math.floor(watts / 5 + 1e-9):.0f} W"
     return f"{5 * round(watts / 5):.0f} W"
 
 

@@ -18,7 +18,7 @@ from cardgen.config.numbers import FORMAT
 from cardgen.config.patterns import local_path
 from cardgen.config.schema import EVENT_YEARS, MAX_URL_LENGTH, Spec
 from cardgen.config.text import control_problem, has_host
-from cardgen.errors import CardgenError, ConfigError, close_matches
+from cardgen.errors import CardgenError, ConfigError, close_file_names
 from cardgen.profiles.limits import LIMITS
 from cardgen.profiles.vehicles import Vehicle, find_vehicle
 
@@ -118,7 +118,7 @@ def _near_names(missing: Path) -> str:
         ]
     except OSError:
         return ""
-    return close_matches(missing.name, names)
+    return close_file_names(missing.name, names)
 
 
 def vehicle(raw: Any, spec: Spec, place: Place) -> Vehicle:

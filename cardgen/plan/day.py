@@ -7,8 +7,8 @@ number comes from the riders' own plans (the same ones their cards print).
   marshal point's window by the same rule as a checkpoint's).
 - Stock where riders get food: at a feed point (``[[routes]] feeds``) and at a
   checkpoint with a planned stop. Carbohydrate and fluid for the leg from there to
-  the next such place (or the finish), summed over the riders due there, each at the
-  top of the rider's own guide (:func:`cardgen.plan.fuel.legs`: the ride's length for
+  the next such place (or the finish), summed over the people due there (both riders
+  of a tandem: the guides are per person), each at the top of the rider's own guide (:func:`cardgen.plan.fuel.legs`: the ride's length for
   carbohydrate, the day's temperature band for fluid), plus :data:`STOCK_MARGIN`.
   A marshal point stocks nothing.
 - Sweep: when the last rider is planned to leave the checkpoint (their stop
@@ -51,7 +51,7 @@ class PointDay:
     distance: float  # [m]
     opens: datetime
     closes: datetime
-    riders: int  # riders planned to reach it
+    riders: int  # riders planned to reach it (vehicles: a tandem is one)
     first: datetime | None
     last: datetime | None
     quarters: tuple[tuple[datetime, int], ...]  # (quarter hour, riders due in it)
@@ -60,6 +60,7 @@ class PointDay:
     fluid_l: float | None  # planned; None at a marshal point (it stocks nothing)
     last_leaves: datetime | None  # the last rider's planned departure (stop included)
     sweep: datetime  # when the sweep reaches it
+    people: int = 0  # people planned to reach it (a tandem's two); the stock is theirs
 
 
 def _quarters(arrivals: list[datetime]) -> tuple[tuple[datetime, int], ...]:
@@ -121,8 +122,9 @@ def day_points(
             stocked.add(point.distance)  # two points at one place stock it once
             for _, i in due:
                 leg = rider_legs[i].get(point.distance)
-                carbs += leg.carbs[1] if leg and leg.carbs else 0.0
-                fluid += leg.fluid[1] if leg and leg.fluid else 0.0
+                stock = leg.stock() if leg else None
+                carbs += stock[0] if stock else 0.0
+                fluid += stock[1] if stock else 0.0
         stop = timedelta(seconds=point.stop)
         arrivals_left = [max(arrivals) + stop] if arrivals else []
         marshal = point.kind == "marshal"
@@ -145,6 +147,7 @@ def day_points(
                     [last_start + timedelta(seconds=SWEEP_DELAY + point.distance / SWEEP_SPEED)]
                     + arrivals_left
                 ),
+                sum(plans[i].rider.vehicle.riders for _, i in due),
             )
         )
     return rows

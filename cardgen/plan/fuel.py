@@ -14,6 +14,12 @@ the weather (Sawka et al. 2007, ACSM position stand "Exercise and Fluid Replacem
 Med Sci Sports Exerc 39(2):377–390; the 0.4–0.8 L/h figure from memory of that stand).
 How cardgen splits that range by air temperature (:data:`FLUID_BANDS`) is its own
 choice: common practice, no published source.
+
+Both guides are for one person (the position statements speak of an athlete): on a
+vehicle with more riders (a tandem, ``Vehicle.riders``) each of them eats and drinks
+by the guide, so a leg's carbohydrate and fluid are per person and a feed stocks
+them once per person (:attr:`Leg.people`). The leg's food energy is the whole
+vehicle's: its riders' work together.
 """
 
 from __future__ import annotations
@@ -38,8 +44,9 @@ DEFAULT_TEMPERATURE_C = 20.0
 @dataclass(frozen=True)
 class Leg:
     """One leg: from ``start`` to ``end`` [m], ending at ``to`` (a feed or the finish);
-    riding ``time`` [s], ``food_energy`` [J] metabolic; ``carbs`` and ``fluid`` are
-    (low, high) totals for the leg in g and L."""
+    riding ``time`` [s], ``food_energy`` [J] metabolic, all the vehicle's riders
+    together; ``carbs`` and ``fluid`` are (low, high) totals for the leg in g and L
+    for each person, and ``people`` how many ride the vehicle (2 on a tandem)."""
 
     start: float
     end: float
@@ -48,6 +55,15 @@ class Leg:
     food_energy: float
     carbs: tuple[float, float] | None  # None where the leg cannot be finished
     fluid: tuple[float, float] | None
+    people: int = 1
+
+    def stock(self) -> tuple[float, float] | None:
+        """Carbohydrate [g] and fluid [L] for everyone on the vehicle over the leg, at
+        the top of each guide (what a feed stocks for them); None where the leg cannot
+        be finished."""
+        if self.carbs is None or self.fluid is None:
+            return None
+        return self.carbs[1] * self.people, self.fluid[1] * self.people
 
 
 def carb_rate(ride_hours: float) -> tuple[float, float]:
@@ -88,6 +104,7 @@ def legs(plan: Plan, feeds: Sequence[tuple[float, str]], temperature_c: float | 
                 joules / plan.rider.vehicle.gross_efficiency,
                 (carbs[0] * hours, carbs[1] * hours) if known else None,
                 (fluid[0] * hours, fluid[1] * hours) if known else None,
+                plan.rider.vehicle.riders,
             )
         )
         start = end

@@ -52,6 +52,13 @@ from cardgen.units import KMH_PER_MS, Floats
 #: Steepest 100 m grade that earns a "steep" note [-]: common practice, no published
 #: source (AASHTO's bicycle guide calls grades over 5 % undesirable on shared paths).
 STEEP_GRADE = 0.10
+#: A descent's coasting speed earns a "fast" warning only past the vehicle's speed cap
+#: by more than this share of the cap [-]: common practice, no published source. 3 %
+#: is about what a drag area 6 % off changes the coasting speed by (it goes as
+#: CdA^-1/2 where drag dominates), well inside how much CdA varies between riders
+#: of one vehicle: within it the model cannot tell coasting from the cap (45.09 km/h
+#: against 45.0 km/h is no hazard to warn of). The ride still brakes at the cap.
+FAST_MARGIN = 0.03
 #: Battery share kept in reserve when judging whether a route fits: common practice,
 #: no published source.
 BATTERY_RESERVE = 0.20
@@ -662,7 +669,7 @@ def _descent_row(
     tight = descent.start + int(np.argmin(radii))
     slowest = float(curve_speed(vehicle.curve_accel, terrain.curve_radius[tight]))
     warnings = []
-    if coast > vehicle.max_descent_speed:
+    if coast > vehicle.max_descent_speed * (1.0 + FAST_MARGIN):
         warnings.append(Notice("fast", "warning", (("coast", coast), ("cap", vehicle.max_descent_speed))))
     warnings = [dataclasses.replace(w, at=descent.start_distance) for w in warnings]
     warnings.extend(curves)

@@ -44,7 +44,9 @@ NUMBERS = {
 _TEXT = {"label", "propulsion", "base", "motor"}
 #: Optional numbers: key → attribute (None when not given).
 OPTIONAL = {"battery_wh": "battery"}
-_KNOWN = set(NUMBERS) | set(OPTIONAL) | _TEXT | {"wheels", "sources"}
+_KNOWN = set(NUMBERS) | set(OPTIONAL) | _TEXT | {"wheels", "riders", "sources"}
+#: The most people one vehicle carries (a quad tandem).
+MAX_RIDERS = 4
 
 
 @dataclass(frozen=True)
@@ -56,6 +58,7 @@ class Vehicle:
     name : str  key in the library or file
     label : str  plain description
     wheels : int  2 or 3
+    riders : int  people riding it (2 on a tandem): food and fluid are per person
     propulsion : str  "legs" or "arms"
     vehicle_mass : float [kg]  vehicle and its load
     rider_mass : float [kg]
@@ -90,6 +93,7 @@ class Vehicle:
     motor: str | None = None
     sources: Mapping[str, str] = field(default_factory=dict, compare=False)
     battery: float | None = None  # [J] the battery fitted, when it differs from the motor catalogue's
+    riders: int = 1  # people on the vehicle (a tandem's two eat and drink each)
 
     @property
     def mass(self) -> float:
@@ -135,6 +139,9 @@ class Vehicle:
         wheels = table.get("wheels")
         if wheels not in (2, 3) or isinstance(wheels, bool):
             problems.append(f"'wheels' must be 2 or 3, not {wheels!r}")
+        riders = table.get("riders", 1)
+        if not isinstance(riders, int) or isinstance(riders, bool) or not 1 <= riders <= MAX_RIDERS:
+            problems.append(f"'riders' must be a whole number from 1 to {MAX_RIDERS}, not {riders!r}")
         propulsion = table.get("propulsion", "legs")
         if propulsion not in ("legs", "arms"):
             problems.append(f'\'propulsion\' must be "legs" or "arms", not {propulsion!r}')
@@ -159,6 +166,7 @@ class Vehicle:
             name=name,
             label=str(table.get("label", name)),
             wheels=int(wheels),
+            riders=int(riders),
             propulsion=str(propulsion),
             motor=motor,
             sources=dict(sources),
@@ -224,6 +232,7 @@ def _as_table(vehicle: Vehicle) -> dict[str, Any]:
     table: dict[str, Any] = {
         "label": vehicle.label,
         "wheels": vehicle.wheels,
+        "riders": vehicle.riders,
         "propulsion": vehicle.propulsion,
         "sources": dict(vehicle.sources),
     }

@@ -45,6 +45,7 @@ def climb_advice(row: ClimbRow, plan: Plan, units: str = "metric") -> str:
     if row.time is None or not math.isfinite(row.time):  # the rider stalls on it
         return "not ridable at this effort (see the notes)"
     text = f"hold {fmt.power(row.rider_power, rounding='down')} for {fmt.minutes(row.time)}"
+    text += _below_balance(row, units)
     if row.w_prime_top is None or plan.rider.w_prime <= 0:
         return text
     left = row.w_prime_top / plan.rider.w_prime
@@ -58,13 +59,35 @@ def climb_advice(row: ClimbRow, plan: Plan, units: str = "metric") -> str:
     return text
 
 
+def _below_balance(row: ClimbRow, units: str) -> str:
+    """What the plan does where a two-wheeler falls below balance speed on a climb: it
+    rides on at the same power, slowly, and times it so ("; 850 m below 5.5 km/h,
+    timed as ridden: walk there if you must"); "" where it never does. Said beside the
+    power to hold, so that "hold 150 W" does not read as if it kept the rider upright."""
+    walks = [w for w in row.warnings if w.code == "walk"]
+    if not walks:
+        return ""
+    length = sum(w.value("length") for w in walks)
+    speed = min(w.value("speed") for w in walks)
+    return (
+        f"; {fmt.length(length, units)} below {fmt.speed(speed, units)}, timed as ridden: "
+        "walk there if you must"
+    )
+
+
 def descent_advice(row: DescentRow, plan: Plan, units: str = "metric") -> str:
     """ "ease off and let it roll", "ease off; brake where the notes say" (the plan
-    brakes on it: for a curve or the speed cap, so letting it roll would contradict
-    the descent's notes), or "keep pedalling, about 120 W"."""
+    brakes on it and the descent has notes: a curve or coasting past the speed cap, so
+    letting it roll would contradict them), "ease off; let it roll, braking at 45.0 km/h"
+    (the plan brakes at the cap but coasting passes it by too little to warn of:
+    :data:`cardgen.plan.rider.FAST_MARGIN`), or "keep pedalling, about 120 W"."""
     mean = plan.effort.mean_power if plan.effort is not None else plan.rider.flat_power
     if row.rider_power < EASE_SHARE * mean:
-        return "ease off; brake where the notes say" if row.braking_energy > 0 else "ease off and let it roll"
+        if row.braking_energy <= 0:
+            return "ease off and let it roll"
+        if row.warnings:
+            return "ease off; brake where the notes say"
+        return f"ease off; let it roll, braking at {fmt.speed(plan.rider.vehicle.max_descent_speed, units, 'down')}"
     return f"keep pedalling, about {fmt.power(row.rider_power)}"
 
 

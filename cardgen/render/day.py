@@ -29,6 +29,7 @@ COLUMNS = (
     "opens",
     "closes",
     "riders",
+    "people",
     "first",
     "last",
     "per_15_min",
@@ -61,9 +62,13 @@ def day_rows(route: str, points: Iterable[PointDay], to_second: bool) -> list[di
                 "checkpoint": p.name,
                 "kind": p.kind,
                 "km": round(p.distance / 1000, 2),
+                # the sheet prints this through the one distance formatter, as the cards do
+                # (12149.6 m: 12.1 km; the CSV's 12.15 km rounded again gave 12.2)
+                "distance_m": p.distance,
                 "opens": clock(p.opens),
                 "closes": clock(p.closes),
                 "riders": p.riders,
+                "people": p.people,
                 "first": clock(p.first),
                 "last": clock(p.last),
                 "per_15_min": [[clock(q), n] for q, n in p.quarters],
@@ -115,7 +120,16 @@ def day_sheet_files(
     """``day-sheet.csv`` and (with PDFs) ``day-sheet.pdf``, by name; ``folder`` is
     where the build puts them (the PDF's links point there)."""
     # rows of a route reused from a build before feed and marshal points: checkpoints
-    rows = [{"kind": "checkpoint", "food": bool(r.get("stop_min")), **r} for r in rows]
+    rows = [
+        {
+            "kind": "checkpoint",
+            "food": bool(r.get("stop_min")),
+            "people": r.get("riders"),
+            "distance_m": r["km"] * 1000,
+            **r,
+        }
+        for r in rows
+    ]
     files: dict[str, str | bytes] = {"day-sheet.csv": day_csv_text(rows)}
     if not pdf:
         return files

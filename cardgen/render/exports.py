@@ -155,7 +155,7 @@ def _pacing(plan: Plan) -> dict[str, Any] | None:
 def _legs(legs: Iterable[Any]) -> list[dict[str, Any]]:
     """A rider's legs between the checkpoints (the card's food and fluid table, from
     :func:`cardgen.plan.fuel.legs`): riding time, and carbohydrate [g] and fluid [L]
-    as (low, high) guides."""
+    as (low, high) guides for each of the vehicle's ``people`` (2 on a tandem)."""
     return [
         {
             "to": leg.to,
@@ -163,6 +163,7 @@ def _legs(legs: Iterable[Any]) -> list[dict[str, Any]]:
             "time_s": _num(leg.time, 0),
             "carbs_g": [_num(x, 1) for x in leg.carbs] if leg.carbs else None,
             "fluid_l": [_num(x, 3) for x in leg.fluid] if leg.fluid else None,
+            "people": leg.people,
         }
         for leg in legs
     ]

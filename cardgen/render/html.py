@@ -259,14 +259,20 @@ def assist_plan(plan: Plan, units: str) -> str:
 
 
 def assist_range(plan: Plan) -> str:
-    """The e-assist range line: the battery the plan assumes, its usable share and the
-    reserve kept, and what shortens the range."""
+    """The e-assist range line, one statement: what the plan may spend of the usable
+    battery and what it keeps in reserve ("Range: the plan spends at most 360 Wh of
+    the 450 Wh usable, keeping 90 Wh (20 %) in reserve"), and what shortens the range.
+    What can be drawn and what may be spent round down (limits); the reserve is their
+    difference as printed, so the line adds up."""
     motor = plan.motor
     if motor is None:
         return ""
+    usable = fmt.battery_wh(motor.usable_battery, "down")
+    spend = fmt.battery_wh(motor.usable_battery * (1.0 - BATTERY_RESERVE), "down")
     return (
-        f"Range: {fmt.battery(motor.usable_battery, 'down')} usable of {fmt.battery(motor.battery, 'down')}, "
-        f"{BATTERY_RESERVE * 100:.0f} % in reserve; cold, age, load cut it: plan to finish unassisted."
+        f"Range: the plan spends at most {spend:.0f} Wh of the {usable:.0f} Wh usable, keeping "
+        f"{usable - spend:.0f} Wh ({BATTERY_RESERVE * 100:.0f} %) in reserve; "
+        "cold, age, load cut it: plan to finish unassisted."
     )
 
 

@@ -7,6 +7,7 @@ from __future__ import annotations
 import contextlib
 import functools
 import re
+import statistics
 import traceback
 from collections.abc import Callable, Iterator
 from dataclasses import dataclass
@@ -435,6 +436,8 @@ def _render_route(config, site: dict, job: RouteJob, folder: Path) -> RoutePages
     cards = []
     for view, entry in zip(views, job.riders, strict=True):
         watch = watch_list(view.plan, units)
+        # a descent's warning said in the "Watch for" box is not said again beside the table
+        said = {item["code"] for item in watch} & {"fast"}
         context = dict(
             **common,
             rider=view,
@@ -454,9 +457,10 @@ def _render_route(config, site: dict, job: RouteJob, folder: Path) -> RoutePages
             watch=watch,
             watch_codes={"battery", "stall"},
             cue_rows=cue_rows(view.plan),
-            descent_brief=functools.partial(descent_brief, units=units),
+            descent_brief=functools.partial(descent_brief, units=units, skip=said),
+            descent_notes=functools.partial(descent_notes, skip=said),
             short_name=short_name,
-            descents_brief=functools.partial(descents_brief, units=units),
+            descents_brief=functools.partial(descents_brief, units=units, skip=said),
             warnings_brief=functools.partial(warnings_brief, units=units, skip={"battery", "stall"}),
         )
         # a continuation variant is the same HTML as its step within the budget (the
@@ -549,7 +553,7 @@ def watch_list(plan: Plan, units: str) -> list[dict]:
                     if code == "stall"
                     else f"battery reaches its reserve near {fmt.distance(w.at, units)}"
                 )
-                items.append({"symbol": symbol_of(code), "text": text})
+                items.append({"code": code, "symbol": symbol_of(code), "text": text})
                 break
     walks = [w for w in _all_warnings(plan) if w.code == "walk"]
     if walks:
@@ -563,14 +567,14 @@ def watch_list(plan: Plan, units: str) -> list[dict]:
         if len(walks) > len(shown):
             total = sum(w.value("length") for w in walks)
             where = f"{where} ({len(walks)} stretches, {fmt.distance(total, units)} in all, in the tables)"
-        items.append({"symbol": symbol_of("walk"), "text": f"walking may be needed: {where}"})
+        items.append({"code": "walk", "symbol": symbol_of("walk"), "text": f"walking may be needed: {where}"})
     said = {"w-prime": "W′ runs out at the planned effort"}
     for code, words in said.items():
         rows = [row for row in plan.climbs if code in {w.code for w in row.warnings}]
         if rows:
             where = ", ".join(f"{r.number} ({fmt.distance(r.climb.start_distance, units)})" for r in rows)
             name = "climb" if len(rows) == 1 else "climbs"
-            items.append({"symbol": symbol_of(code), "text": f"{name} {where}: {words}"})
+            items.append({"code": code, "symbol": symbol_of(code), "text": f"{name} {where}: {words}"})
     curves = [w for w in _all_warnings(plan) if w.code == "curve"]
     if curves:
         tight = min(curves, key=lambda w: w.value("speed"))
@@ -578,6 +582,7 @@ def watch_list(plan: Plan, units: str) -> list[dict]:
         more = f" ({len(curves)} in all, in the tables)" if len(curves) > 1 else ""
         items.append(
             {
+                "code": "curve",
                 "symbol": symbol_of("curve"),
                 "text": f"slowest {kind} near {fmt.distance(tight.value('where'), units)}: "
                 f"{fmt.radius(tight.value('radius'), units)} radius, slow to "
@@ -590,6 +595,7 @@ def watch_list(plan: Plan, units: str) -> list[dict]:
         cap = min(w.value("cap") for row in fast for w in row.warnings if w.code == "fast")
         items.append(
             {
+                "code": "fast",
                 "symbol": symbol_of("fast"),
                 "text": f"descent{'s' if len(fast) > 1 else ''} {numbers}: coasting would pass "
                 f"{fmt.speed(cap, units)}; brake to hold the speed",
@@ -598,7 +604,13 @@ def watch_list(plan: Plan, units: str) -> list[dict]:
     crawl = [row for row in plan.climbs if "crawl" in {w.code for w in row.warnings}]
     if crawl:
         where = ", ".join(f"{r.number} ({fmt.distance(r.climb.start_distance, units)})" for r in crawl)
-        items.append({"symbol": symbol_of("crawl"), "text": f"climb {where}: a long crawl, plan rests"})
+        items.append(
+            {
+                "code": "crawl",
+                "symbol": symbol_of("crawl"),
+                "text": f"climb {where}: a long crawl, plan rests",
+            }
+        )
     return items[:WATCH_MAX]
 
 
@@ -618,12 +630,13 @@ def _curve_places(curves, units: str) -> tuple[str, str]:
     return places, fmt.speed(min(w.value("speed") for w in curves), units, "down")
 
 
-def descents_brief(rows, units: str) -> list[str]:
+def descents_brief(rows, units: str, skip=frozenset()) -> list[str]:
     """All descents' notes in a few lines (the second condensing step): every curve
     on them in one line (where, and the slowest speed), and the descents where coasting
-    would pass the vehicle's limit in another."""
+    would pass the vehicle's limit in another. Codes in ``skip`` are said elsewhere
+    (the "Watch for" box: a warning is said once on a card)."""
     curves = [w for row in rows for w in row.warnings if w.code == "curve"]
-    fast = [row for row in rows if any(w.code == "fast" for w in row.warnings)]
+    fast = [row for row in rows if any(w.code == "fast" for w in row.warnings)] if "fast" not in skip else []
     lines = []
     if curves:
         places, slowest = _curve_places(curves, units)
@@ -631,19 +644,26 @@ def descents_brief(rows, units: str) -> list[str]:
     if fast:
         cap = min(w.value("cap") for row in fast for w in row.warnings if w.code == "fast")
         numbers = ", ".join(str(row.number) for row in fast)
-        lines.append(f"Descents {numbers}: coasting would pass {fmt.speed(cap, units)}; control the speed.")
+        word = "Descent" if len(fast) == 1 else "Descents"
+        lines.append(f"{word} {numbers}: coasting would pass {fmt.speed(cap, units)}; control the speed.")
     return lines
 
 
-def descent_brief(row, units: str) -> str:
+def descent_notes(row, skip=frozenset()) -> list:
+    """A descent's notices less the codes in ``skip`` (said in the "Watch for" box)."""
+    return [w for w in row.warnings if w.code not in skip]
+
+
+def descent_brief(row, units: str, skip=frozenset()) -> str:
     """A descent's notes in one line (the first condensing step): its curves as the
-    slowest speed and where they are, and the speed limit where coasting would pass it."""
+    slowest speed and where they are, and the speed limit where coasting would pass it
+    (unless ``skip`` holds its code: said in the "Watch for" box)."""
     curves = [w for w in row.warnings if w.code == "curve"]
     parts = []
     if curves:
         places, slowest = _curve_places(curves, units)
         parts.append(f"{len(curves)} curve{'s' if len(curves) > 1 else ''} at {places}: slow to {slowest}")
-    for w in row.warnings:
+    for w in descent_notes(row, skip):
         if w.code == "fast":
             parts.append(f"hold under {fmt.speed(w.value('cap'), units)}")
         elif w.code != "curve":
@@ -713,12 +733,24 @@ def cue_rows(plan: Plan) -> list[dict]:
     return rows
 
 
+#: Fewest riders for which a median says more than the fastest and slowest do: with
+#: two, the median is one of them (or their mean), which readers took for a third rider.
+MEDIAN_FROM = 3
+
+
+def median_of(values: list[float]) -> float | None:
+    """The median of sorted ``values`` (the mean of the middle two for an even count),
+    or None below :data:`MEDIAN_FROM` values."""
+    return statistics.median(values) if len(values) >= MEDIAN_FROM else None
+
+
 def _spread(values: list[float]) -> tuple:
-    """(fastest, median, slowest) of finite values, or Nones."""
+    """(fastest, median, slowest) of finite values, or Nones (the median also below
+    :data:`MEDIAN_FROM` values)."""
     finite = sorted(v for v in values if v == v and v != float("inf"))
     if not finite:
         return None, None, None
-    return finite[0], finite[(len(finite) - 1) // 2], finite[-1]
+    return finite[0], median_of(finite), finite[-1]
 
 
 def _when(start: datetime | None, seconds: float):
@@ -794,9 +826,8 @@ def route_overview(job: RouteJob, views, to_second: bool = False) -> dict:
             "wave": e.wave,
             "finish": _clock_text(_when(e.start, v.plan.finish_elapsed)),
             "moving": v.plan.totals.time,
-            "warnings": sum(len(r.warnings) for r in v.plan.climbs)
-            + sum(len(r.warnings) for r in v.plan.descents)
-            + sum(1 for w in v.plan.warnings if w.severity == "warning"),
+            # the items of the card's "Watch for" box: one count on the page and the card
+            "watch_for": len(watch_list(v.plan, "metric")),
             "card": v.card,
         }
         for e, v in zip(job.riders, views, strict=True)
@@ -831,35 +862,46 @@ class PackGroup:
     subtitle: str
     show_route: bool
     entries: tuple
+    cover_pages: int = 2  # the cover's length, as a first guess (the last build's)
 
 
-def pack_groups(config, routes: list[tuple[str, dict]], folder: Path, fresh: set[str]) -> list[PackGroup]:
+def pack_groups(
+    config, routes: list[tuple[str, dict]], folder: Path, fresh: set[str], covers: dict | None = None
+) -> list[PackGroup]:
     """The print packs to make (docs/contracts.md): one in each route folder that was
     rendered now (``fresh`` slugs; a reused route keeps its pack) and one at the root
     for the whole event, from the cards in ``folder``. ``routes`` are (slug, summary)
-    in site order. A pack without cards is left out."""
+    in site order; ``covers`` the length of each pack's cover in the last build (by
+    the pack's folder relative to ``folder``, "." for the event's), a first guess for
+    its layout. A pack without cards is left out."""
     from cardgen.render.packs import PackEntry
 
     groups, everyone = [], []
+    covers = covers or {}
     for slug, summary in routes:
         entries = [
-            PackEntry(r["name"], r["bib"], r["start"], summary["name"], folder / slug / r["card"])
+            PackEntry(
+                r["name"], r["bib"], r["start"], summary["name"], folder / slug / r["card"], r.get("pages")
+            )
             for r in summary.get("pack", [])
             if (folder / slug / r["card"]).is_file()
         ]
         if slug in fresh and entries:
-            groups.append(PackGroup(folder / slug, summary["name"], False, tuple(entries)))
+            groups.append(
+                PackGroup(folder / slug, summary["name"], False, tuple(entries), covers.get(slug, 2))
+            )
         everyone.extend(entries)
     if everyone:
-        groups.append(PackGroup(folder, "every route", True, tuple(everyone)))
+        groups.append(PackGroup(folder, "every route", True, tuple(everyone), covers.get(".", 2)))
     return groups
 
 
-def render_pack_group(config, group: PackGroup) -> Iterator[tuple[Path, Callable[[BinaryIO], None]]]:
-    """``all-cards.pdf`` of ``group``, and ``all-cards-2up.pdf`` beside it for A5 cards:
-    yields each pack's file with the function that writes the pack into it (a binary
-    file open for writing). A pack is streamed card by card, never held whole (the
-    event's pack at 3,000 riders is some 400 MB of PDF); both share one cover."""
+def render_pack_group(config, group: PackGroup) -> tuple[int, list[tuple[Path, Callable[[BinaryIO], None]]]]:
+    """The cover's length and the files of ``group``: ``all-cards.pdf``, and
+    ``all-cards-2up.pdf`` beside it for A5 cards, each with the function that writes
+    the pack into it (a binary file open for writing). A pack is streamed card by
+    card, never held whole (the event's pack at 3,000 riders is some 400 MB of PDF);
+    both share one cover."""
     from cardgen.render.packs import pack_cover, write_pack, write_two_up
 
     env = _environment(config.templates, config.units)
@@ -867,7 +909,7 @@ def render_pack_group(config, group: PackGroup) -> Iterator[tuple[Path, Callable
     size = {"A5": (419.53, 595.28), "A4": (595.28, 841.89), "pocket": (280.63, 595.28)}[config.card_size]
     template = env.get_template("cover.html")
     entries = list(group.entries)
-    cover, _ = pack_cover(
+    cover, firsts = pack_cover(
         entries,
         lambda rows: template.render(
             title=config.title,
@@ -879,16 +921,22 @@ def render_pack_group(config, group: PackGroup) -> Iterator[tuple[Path, Callable
         ),
         group.where,
         size,
+        group.cover_pages,
     )
-    yield (
-        group.where / "all-cards.pdf",
-        functools.partial(write_pack, cover, entries, title="all-cards", page_size=size),
-    )
-    if config.card_size == "A5":
-        yield (
-            group.where / "all-cards-2up.pdf",
-            functools.partial(write_two_up, cover, entries, title="all-cards-2up"),
+    files: list[tuple[Path, Callable[[BinaryIO], None]]] = [
+        (
+            group.where / "all-cards.pdf",
+            functools.partial(write_pack, cover, entries, title="all-cards", page_size=size),
         )
+    ]
+    if config.card_size == "A5":
+        files.append(
+            (
+                group.where / "all-cards-2up.pdf",
+                functools.partial(write_two_up, cover, entries, title="all-cards-2up"),
+            )
+        )
+    return firsts[0] - 1, files
 
 
 def render_packs(
@@ -897,7 +945,7 @@ def render_packs(
     """Every print pack of :func:`pack_groups`, one after the other
     (:func:`render_pack_group`)."""
     for group in pack_groups(config, routes, folder, fresh):
-        yield from render_pack_group(config, group)
+        yield from render_pack_group(config, group)[1]
 
 
 def route_summary(job: RouteJob, views, units: str, to_second: bool = False) -> dict:
@@ -937,7 +985,7 @@ def _render_index(config, site: dict, summaries: list[dict], packs: bool) -> dic
                 **summary,
                 "riders": len(summary["times"]),
                 "fastest": times[0] if times else None,
-                "median": times[(len(times) - 1) // 2] if times else None,
+                "median": median_of(times),
                 "slowest": times[-1] if times else None,
             }
         )
