@@ -243,9 +243,9 @@ def _screen(
         segments[stretch.segments] = level
     at = np.arange(segments.size)
     on = np.cumsum(options["segment_battery"][segments, at]) <= budget
-    level = np.where(on, segments, 0)
-    walked = float(np.sum(options["segment_slow"][level, at]))
-    return round(walked, -1), float(np.sum(options["segment_time"][level, at]))
+    given = np.where(on, segments, 0)
+    walked = float(np.sum(options["segment_slow"][given, at]))
+    return round(walked, -1), float(np.sum(options["segment_time"][given, at]))
 
 
 def _judge(step: float, paced: PacedRide, min_speed: float) -> tuple[float, float]:
