@@ -142,10 +142,10 @@ def assisted_speed(
     # no assist it is the full speed already)
     boosted = (out > start) & (np.broadcast_to(boost, shape) > 0)
     if not boosted.any():
-        return out[()]
+        return scalar_or_array(out)
 
     def at(x: Floats, mask: np.ndarray) -> np.ndarray:
-        return np.broadcast_to(np.asarray(x, dtype=float), shape)[mask]
+        return np.asarray(np.broadcast_to(np.asarray(x, dtype=float), shape)[mask], dtype=float)
 
     def road_at(mask: np.ndarray) -> dict[str, Any]:
         return dict(

@@ -695,7 +695,7 @@ def pace(
         # the draw up to any point does not depend on the motor after it: where this
         # power spends the capacity, on its own ride when before the last cut, else
         # with the motor on throughout
-        emptied = battery_cut(ride, full if ratio is full else ratio, course.motor, capacity)
+        emptied = battery_cut(ride, ratio if ratio is not None else full, course.motor, capacity)
         if emptied is None and ratio is not full:
             unbounded = course.ride(pacing.power, full)
             emptied = battery_cut(unbounded, full, course.motor, capacity)
@@ -709,10 +709,11 @@ def pace(
         empty_at = where
         if settled:
             break
-    assert ratio is not None
+    motor = course.motor
+    assert ratio is not None and motor is not None
     ride = course.ride(pacing.power, ratio)
     for _ in range(BATTERY_ROUNDS):  # the ride cut there may still pass it, a little
-        again = battery_cut(ride, ratio, course.motor, capacity)
+        again = battery_cut(ride, ratio, motor, capacity)
         if again is None:
             break
         index, ratio = min(index, again[0]), again[1]
