@@ -135,19 +135,35 @@ def assisted_speed(
     if motor.taper <= 0 or not np.any(full > start):
         return np.where(full < motor.cutoff_speed, full, steady_speed(wheel, **road, rtol=1e-6))[()]
     alone = np.asarray(steady_speed(wheel + 0.0 * boost, **road, rtol=1e-6), dtype=float)
-    lo = np.broadcast_to(np.maximum(alone, start), full.shape).copy()
-    hi = np.broadcast_to(np.minimum(full, motor.cutoff_speed), full.shape).copy()
-    shape = np.broadcast(wheel, boost, *(np.asarray(x) for x in (grade, air.headwind, air.air_density))).shape
-    wheel_b, boost_b = np.broadcast_to(wheel, shape), np.broadcast_to(boost, shape)
-    for _ in range(40):
-        mid = 0.5 * (lo + hi)
-        surplus = (
-            wheel_b + boost_b * taper_factor(mid, motor.cutoff_speed, motor.taper) - steady_power(mid, **road)
+    shape = np.broadcast(
+        wheel, boost, full, *(np.asarray(x) for x in (grade, air.headwind, air.air_density))
+    ).shape
+    out = np.broadcast_to(np.where(full > start, alone, full), shape).copy()
+    inside = np.broadcast_to((full > start) & (alone < motor.cutoff_speed), shape)
+    if inside.any():  # bisect only where the speed lies inside the taper
+
+        def at(x: Floats) -> np.ndarray:
+            return np.broadcast_to(np.asarray(x, dtype=float), shape)[inside]
+
+        lo, hi = np.maximum(at(alone), start), np.minimum(at(full), motor.cutoff_speed)
+        wheel_i, boost_i = at(wheel), at(boost)
+        there: dict[str, Any] = dict(
+            resistance=resistance,
+            grade=at(grade),
+            air=Air(at(air.headwind), at(air.air_density)),
+            at_wheel=True,
         )
-        lo = np.where(surplus > 0, mid, lo)
-        hi = np.where(surplus > 0, hi, mid)
-    inside = (full > start) & (alone < motor.cutoff_speed)
-    return np.where(inside, 0.5 * (lo + hi), np.where(full > start, alone, full))[()]
+        for _ in range(40):
+            mid = 0.5 * (lo + hi)
+            surplus = (
+                wheel_i
+                + boost_i * taper_factor(mid, motor.cutoff_speed, motor.taper)
+                - steady_power(mid, **there)
+            )
+            lo = np.where(surplus > 0, mid, lo)
+            hi = np.where(surplus > 0, hi, mid)
+        out[inside] = 0.5 * (lo + hi)
+    return out[()]
 
 
 def rider_power_for_speed(

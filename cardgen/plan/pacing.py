@@ -605,6 +605,9 @@ PICK = 0.006
 BATTERY_ROUNDS = 4
 #: The motor is cut where the draw reaches this share below the capacity [-].
 CUT_MARGIN = 1e-4
+#: The plan is made again for its cut until the cut moves less than this [m] (after
+#: the first re-plan it moves tens of metres, a few kilometres before).
+CUT_SETTLE = 250.0
 
 
 @dataclass(frozen=True)
@@ -702,8 +705,9 @@ def pace(
                 break
             index, cut_ratio = min(index, again[0]), again[1]
             ride = course.ride(pacing.power, cut_ratio)
-        settled = empty_at is not None and empty_at == float(course.distance[index + 1])
-        ratio, empty_at = cut_ratio, float(course.distance[index + 1])
+        where = float(course.distance[index + 1])
+        settled = empty_at is not None and abs(empty_at - where) <= CUT_SETTLE
+        ratio, empty_at = cut_ratio, where
         if settled:
             break
     return PacedRide(pacing, ride, ratio, empty_at)
