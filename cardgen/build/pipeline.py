@@ -11,6 +11,7 @@ route whose inputs did not change, and skip the whole build when nothing did.
 from __future__ import annotations
 
 import contextlib
+import itertools
 import json
 import os
 import resource
@@ -436,7 +437,7 @@ def card_batches(cards: list, size: int) -> list[list]:
         members.sort(key=lambda c: (getattr(c, "group", ""), c.target))
         count = -(-len(members) // size)
         cuts = [len(members) * k // count for k in range(count + 1)]
-        batches += [members[a:b] for a, b in zip(cuts, cuts[1:])]
+        batches += [members[a:b] for a, b in itertools.pairwise(cuts)]
     return batches
 
 
