@@ -134,25 +134,35 @@ def assisted_speed(
     start = motor.cutoff_speed - motor.taper
     if motor.taper <= 0 or not np.any(full > start):
         return np.where(full < motor.cutoff_speed, full, steady_speed(wheel, **road, rtol=1e-6))[()]
-    alone = np.asarray(steady_speed(wheel + 0.0 * boost, **road, rtol=1e-6), dtype=float)
     shape = np.broadcast(
         wheel, boost, full, *(np.asarray(x) for x in (grade, air.headwind, air.air_density))
     ).shape
-    out = np.broadcast_to(np.where(full > start, alone, full), shape).copy()
-    inside = np.broadcast_to((full > start) & (alone < motor.cutoff_speed), shape)
-    if inside.any():  # bisect only where the speed lies inside the taper
+    out = np.broadcast_to(full, shape).copy()
+    # only where the assist reaches the taper does the rider's own speed matter (with
+    # no assist it is the full speed already)
+    boosted = (out > start) & (np.broadcast_to(boost, shape) > 0)
+    if not boosted.any():
+        return scalar_or_array(out)
 
-        def at(x: Floats) -> np.ndarray:
-            return np.broadcast_to(np.asarray(x, dtype=float), shape)[inside]
+    def at(x: Floats, mask: np.ndarray) -> np.ndarray:
+        return np.asarray(np.broadcast_to(np.asarray(x, dtype=float), shape)[mask], dtype=float)
 
-        lo, hi = np.maximum(at(alone), start), np.minimum(at(full), motor.cutoff_speed)
-        wheel_i, boost_i = at(wheel), at(boost)
-        there: dict[str, Any] = dict(
+    def road_at(mask: np.ndarray) -> dict[str, Any]:
+        return dict(
             resistance=resistance,
-            grade=at(grade),
-            air=Air(at(air.headwind), at(air.air_density)),
+            grade=at(grade, mask),
+            air=Air(at(air.headwind, mask), at(air.air_density, mask)),
             at_wheel=True,
         )
+
+    alone = np.asarray(steady_speed(at(wheel, boosted), **road_at(boosted), rtol=1e-6), dtype=float)
+    out[boosted] = alone
+    inside = np.zeros(shape, dtype=bool)
+    inside[boosted] = alone < motor.cutoff_speed
+    if inside.any():  # bisect only where the speed lies inside the taper
+        lo = np.maximum(alone[alone < motor.cutoff_speed], start)
+        hi = np.minimum(at(full, inside), motor.cutoff_speed)
+        wheel_i, boost_i, there = at(wheel, inside), at(boost, inside), road_at(inside)
         for _ in range(40):
             mid = 0.5 * (lo + hi)
             surplus = (
