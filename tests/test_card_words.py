@@ -187,3 +187,12 @@ def test_the_index_gives_a_median_only_from_three_riders(demo):
     times = sorted(p["totals"]["time_s"] for p in plan_json["plans"])
     minutes = int(_half_up(times[1] / 60, "1"))
     assert f"{minutes // 60}:{minutes % 60:02d}" in medians
+
+
+@pytest.mark.parametrize("metres", [2150.0, 12150.0, 12149.6, 1150.0, 350.0, 45648.7, 95049.99])
+def test_one_distance_rounding_half_up(metres):
+    """A checkpoint given at 2.15 km is 2150 m: 2.2 km half up (Python's decimal module
+    here); float noise printed it 2.1 km (and 1150 m, 350 m a step low too)."""
+    from cardgen.render.format import distance
+
+    assert distance(metres) == f"{_half_up(metres / 1000, '0.1'):.1f} km"

@@ -70,6 +70,14 @@ def _speed(kmh: float | None) -> str:
     return fmt.speed(None if kmh is None else kmh / KMH_PER_MS)
 
 
+def _km(km: float | None) -> str:
+    """A distance of the JSON (km) as the card prints it (0.1 km, half up), without
+    its unit: one formatter for distances everywhere."""
+    from cardgen.render import format as fmt
+
+    return fmt.distance(None if km is None else km * 1000).removesuffix(" km")
+
+
 def _grade(pct: float | None) -> str:
     """A grade of the JSON (percent) as the notes and the card print it (to 0.5 %)."""
     from cardgen.render import format as fmt
@@ -92,7 +100,7 @@ def cmd_route(args: argparse.Namespace) -> int:
         return 0
     r, v, t = data["route"], plan.rider.vehicle, data["totals"]
     _print(
-        f"{r['name']}: {_n(r['distance_km'], '.1f')} km, +{_n(r['gain_m'], '.0f')} m / -{_n(r['loss_m'], '.0f')} m"
+        f"{r['name']}: {_km(r['distance_km'])} km, +{_n(r['gain_m'], '.0f')} m / -{_n(r['loss_m'], '.0f')} m"
     )
     rider = plan.rider
     _print(
@@ -102,13 +110,16 @@ def cmd_route(args: argparse.Namespace) -> int:
     _print_pacing(plan)
     _print()
     if data["climbs"]:
-        _print(" #   km        length  gain     avg    max  FIETS band       W@target  km/h  time")
+        _print(
+            f" #  {'km':>5} {'':<5} {'length':>8} {'gain':>5} {'avg':>6} {'max':>6} {'FIETS':>5} {'band':<10} "
+            f"{'W@target':>8} {'km/h':>5} {'time':>5}"
+        )
         for i, c in enumerate(data["climbs"], 1):
             _print(
-                f"{i:2}  {_n(c['start_km'], '5.1f')}-{_n(c['end_km'], '<5.1f')} {_n(c['length_m'], '6.0f')} m {_n(c['gain_m'], '4.0f')}m "
-                f"{_grade(c['avg_grade_pct']):>6} {_grade(c['max_grade_pct']):>6} {_n(c['score'], '5.2f')} "
-                f"{c['band']:<10} {fmt.power(c['power_for_target_w']):>8} {_n(c['speed_at_effort_kmh'], '5.1f')} "
-                f"{duration(c['time_s']):>5}"
+                f"{i:2}  {_km(c['start_km']):>5}-{_km(c['end_km']):<5} {fmt.climb_length(c['length_m']):>8} "
+                f"{fmt.height(c['gain_m']):>5} {_grade(c['avg_grade_pct']):>6} {_grade(c['max_grade_pct']):>6} "
+                f"{fmt.score(c['score']):>5} {c['band']:<10} {fmt.power(c['power_for_target_w']):>8} "
+                f"{_speed(c['speed_at_effort_kmh']).removesuffix(' km/h'):>5} {duration(c['time_s']):>5}"
             )
             if c["rider_difficulty"]:
                 _print(f"      {c['band']} by its band; for this rider: {', '.join(c['rider_difficulty'])}")
@@ -120,10 +131,10 @@ def cmd_route(args: argparse.Namespace) -> int:
         _print("No climbs.")
     _print()
     if data["descents"]:
-        _print(" #   km          drop  avg       coasting   gravity")
+        _print(f" #  {'km':>5} {'':<5} {'drop':>7} {'avg':>7} {'unbraked':>10}   gravity")
         for i, d in enumerate(data["descents"], 1):
             _print(
-                f"{i:2}  {_n(d['start_km'], '5.1f')}-{_n(d['end_km'], '<5.1f')} {_n(d['drop_m'], '5.0f')} m {_grade(d['avg_grade_pct']):>7} "
+                f"{i:2}  {_km(d['start_km']):>5}-{_km(d['end_km']):<5} {fmt.height(d['drop_m']):>7} {_grade(d['avg_grade_pct']):>7} "
                 f"{_speed(d['coast_speed_kmh']):>10} {_n(d['gravity_power_w'], '6.0f', -1)} W from gravity"
             )
             for w in d["warnings"]:
