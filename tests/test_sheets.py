@@ -123,7 +123,9 @@ def _continued(out: Path, budget: int, top: float, bottom: float, full: float) -
                 # or the next page carries only the cue sheet's last cue and its finish,
                 # which go with the cautions (never alone on their page)
                 carried = words[budget].split("Before you ride")[0]
-                tail = len(re.findall(r"\b\d\d:\d\d\b", carried)) <= 2 and "Cue sheet" not in carried  # a time a row
+                tail = (
+                    len(re.findall(r"\b\d\d:\d\d\b", carried)) <= 2 and "Cue sheet" not in carried
+                )  # a time a row
                 assert min(fill[: budget - 1]) >= full and (fill[budget - 1] >= full or ends or tail), (
                     card.relative_to(out),
                     fill,
