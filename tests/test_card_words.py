@@ -165,6 +165,7 @@ def test_the_tandem_eats_by_the_guide_each(demo):
     (tandem,) = [p for p in plan_json["plans"] if p["rider"]["vehicle"] == "tandem"]
     reading, laid_out = cards[tandem["rider"]["name"]]
     assert "Carbs each" in laid_out and "for each of the 2 riders" in reading
+    assert re.search(r"energy spent riding about [\d,]+ kcal \(2 riders together\)", reading)
     for leg in tandem["legs"]:
         assert leg["people"] == 2
         hours = leg["time_s"] / 3600
