@@ -92,5 +92,5 @@ def test_a_climb_ridden_below_balance_speed_says_so_beside_the_power():
     walk = Notice("walk", "warning", (("speed", 5.5 / 3.6), ("length", 846.0)), at=5300.0)
     row = _climb(152.0, 1190.0, 14000.0, None, warnings=(walk,))
     assert climb_advice(row, _plan()) == (
-        "hold 150 W for 20 min; 850 m below 5.5 km/h, timed as ridden: walk there if you must"
+        "hold 150 W for 20 min; 850 m below 5.5 km/h, timed as ridden; walking may be needed there"
     )

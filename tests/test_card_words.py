@@ -152,7 +152,7 @@ def test_a_climb_with_walking_says_what_the_plan_does_below_balance_speed(demo):
             if not walks:
                 continue
             (length,) = {re.search(r"about (\d+) m", w["text"]).group(1) for w in walks}
-            assert f"{length} m below 5.5 km/h, timed as ridden: walk there if you must" in reading
+            assert f"{length} m below 5.5 km/h, timed as ridden; walking may be needed there" in reading
             said += 1
     assert said
 
@@ -197,3 +197,17 @@ def test_one_distance_rounding_half_up(metres):
     from cardgen.render.format import distance
 
     assert distance(metres) == f"{_half_up(metres / 1000, '0.1'):.1f} km"
+
+
+def test_the_coach_sheet_says_a_climbs_walking_once(demo):
+    """The Plan cell says where the plan rides below balance speed; the Notes cell
+    beside it no longer says it again (Theo's 850 m was said in both)."""
+    out, routes = demo
+    total = 0
+    for slug, (plan_json, _) in routes.items():
+        plans = plan_json["plans"]
+        assert not any(w["code"] == "walk" for p in plans for w in p["warnings"])  # none off the climbs
+        walking = sum(any(w["code"] == "walk" for w in c["warnings"]) for p in plans for c in p["climbs"])
+        assert pdf_text(out / slug / "coach.pdf").count("walking may be needed") == walking, slug
+        total += walking
+    assert total

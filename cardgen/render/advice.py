@@ -62,7 +62,7 @@ def climb_advice(row: ClimbRow, plan: Plan, units: str = "metric") -> str:
 def _below_balance(row: ClimbRow, units: str) -> str:
     """What the plan does where a two-wheeler falls below balance speed on a climb: it
     rides on at the same power, slowly, and times it so ("; 850 m below 5.5 km/h,
-    timed as ridden: walk there if you must"); "" where it never does. Said beside the
+    timed as ridden; walking may be needed there"); "" where it never does. Said beside the
     power to hold, so that "hold 150 W" does not read as if it kept the rider upright."""
     walks = [w for w in row.warnings if w.code == "walk"]
     if not walks:
@@ -70,8 +70,8 @@ def _below_balance(row: ClimbRow, units: str) -> str:
     length = sum(w.value("length") for w in walks)
     speed = min(w.value("speed") for w in walks)
     return (
-        f"; {fmt.length(length, units)} below {fmt.speed(speed, units)}, timed as ridden: "
-        "walk there if you must"
+        f"; {fmt.length(length, units)} below {fmt.speed(speed, units)}, timed as ridden; "
+        "walking may be needed there"
     )
 
 
