@@ -12,7 +12,7 @@ as a share of the earlier commit's (target <= 0.35), the one-rider rebuild as a 
 of the full build (target <= 10 %) and the print packs' share (target <= 5 %).
 
     .venv/bin/python bench/bench_event.py [--riders 300] [--baseline REV | --no-baseline | --old-fitter]
-                                          [--no-pdf] [--jobs 2]
+                                          [--no-pdf] [--no-rebuild] [--jobs 2]
 
 ``--baseline`` names the commit to compare with (default: the last commit before the
 fitter learned variants); it is unpacked with ``git archive`` into bench/out, no
@@ -91,7 +91,7 @@ if os.environ.get("BENCH_OLD_FITTER"):  # this tree, with the fitter of commit 0
             else:
                 data, _ = pdf_bytes(card.html, Path(card.base))
             Path(card.target).write_bytes(data)
-        return [c.target for c in cards], layouts, {}
+        return [c.target for c in cards], layouts, {}, {}
 
     pipeline._render_pdfs = old_render_pdfs
 t0 = time.perf_counter()
@@ -181,6 +181,9 @@ def main() -> None:
         "with the baseline commit: isolates the fitter from other changes since",
     )
     parser.add_argument("--no-pdf", action="store_true")
+    parser.add_argument(
+        "--no-rebuild", action="store_true", help="leave out the one-rider rebuild (for the scaling runs)"
+    )
     parser.add_argument("--jobs", type=int, default=2)
     args = parser.parse_args()
     pdf = not args.no_pdf
@@ -215,6 +218,21 @@ def main() -> None:
             f"this tree / {label}: wall {now['wall'] / before['wall']:.2f}, "
             f"CPU {now['cpu'] / before['cpu']:.2f} (target <= 0.35)"
         )
+    packs = now["seconds"].get("packs", 0.0)
+    packs_cpu = now["phase_cpu"].get("packs", 0.0)
+    print(
+        f"print packs: {packs:.1f} s, {packs / now['wall']:.1%} of the build (target <= 5 %); "
+        f"CPU {packs_cpu:.1f} s, {packs_cpu / now['cpu']:.1%} of the build's (wall shares move with the "
+        "machine's load, CPU shares much less)"
+    )
+    if not args.no_rebuild:
+        _rebuild(site, folder, args, now, pdf)
+    own = resource.getrusage(resource.RUSAGE_CHILDREN).ru_maxrss / 1024
+    print(f"largest process of the whole run: {own:.0f} MiB (target: each at most 1024 MiB)")
+
+
+def _rebuild(site: Path, folder: Path, args, now: dict, pdf: bool) -> None:
+    """The site again after one mid-field rider's power changed."""
     _write_riders(folder, args.riders, changed=True)
     again = _build(ROOT, site, folder / "site", args.jobs, pdf)
     print(
@@ -228,15 +246,6 @@ def main() -> None:
             else ""
         )
     )
-    packs = now["seconds"].get("packs", 0.0)
-    packs_cpu = now["phase_cpu"].get("packs", 0.0)
-    print(
-        f"print packs: {packs:.1f} s, {packs / now['wall']:.1%} of the build (target <= 5 %); "
-        f"CPU {packs_cpu:.1f} s, {packs_cpu / now['cpu']:.1%} of the build's (wall shares move with the "
-        "machine's load, CPU shares much less)"
-    )
-    own = resource.getrusage(resource.RUSAGE_CHILDREN).ru_maxrss / 1024
-    print(f"largest process of the whole run: {own:.0f} MiB (target: each at most 1024 MiB)")
 
 
 if __name__ == "__main__":

@@ -270,9 +270,9 @@ def _plan_case(tmp_path, case):
 @pytest.mark.slow
 @pytest.mark.parametrize("case", ["flat", "hilly"])
 def test_a_level_the_battery_cannot_carry_runs_until_the_budget_then_off(tmp_path, case):
-    """The plan's own power and levels ridden by this test's Runge–Kutta integration:
-    the reserve is kept, and the plan walks no more than the levels asked for would,
-    ridden at the same power until the budget is spent and then switched off (the
+    """The plan's own power and levels ridden by this test's integration: the reserve
+    is kept, and the plan walks no more than the levels asked for would, with their
+    own pacing plan, ridden until the budget is spent and then switched off (the
     choice of a battery without a reserve, held to the budget). Integrated by scipy's
     solve_ivp: at the hilly route's walking pace (0.5 m/s on 14 %) the 2 m Runge–Kutta
     steps of the brute force are too coarse."""
@@ -290,8 +290,14 @@ def test_a_level_the_battery_cannot_carry_runs_until_the_budget_then_off(tmp_pat
     wanted = np.zeros(terrain.grade.size)
     for stretch in asked:
         wanted[stretch.segments] = table[stretch.wanted]
+    # the levels asked for, with the rider's own pacing plan for them, switched off at
+    # the budget (the planner's pace; ridden below by this test's integration)
+    effort = plan.effort
+    pacer = Pacer(effort.asked, plan.rider.cp, plan.rider.w_prime, effort.ceiling)
+    asked_plan = pacer(plan_rider._course(terrain, plan.rider, air, motor, wanted), capacity=budget)
     (t0, u0, s0), (t1, u1, s1) = (
-        _ivp(vehicle, motor, terrain.grade, ride.rider_power, r, budget) for r in (chosen, wanted)
+        _ivp(vehicle, motor, terrain.grade, power, r, budget)
+        for power, r in ((ride.rider_power, chosen), (asked_plan.pacing.power, wanted))
     )
     t, used, slow = (t0, t1), (u0, u1), (s0, s1)
     print(
@@ -305,8 +311,10 @@ def test_a_level_the_battery_cannot_carry_runs_until_the_budget_then_off(tmp_pat
         used[0] <= budget + motor.peak_power / motor.drive_efficiency * STEP / SUB / 0.3
     )  # its last 2 m step
     assert plan.totals.time == pytest.approx(t[0], rel=0.02)
-    # walking first: no more than the levels asked for, held to the budget (one segment)
-    assert slow[0] <= slow[1] + STEP
+    # walking first: no more than the levels asked for, held to the budget (1 % and one
+    # segment: the planner counts walking by the card's rule, 50 m averages, and this
+    # integration every metre below the balance speed)
+    assert slow[0] <= slow[1] * 1.01 + STEP
     if case == "flat":
         # the level runs until the budget is spent, then off: not no assist at all
         assert plan.assist_between == 1 and plan.effort.assist_off_at is not None

@@ -66,3 +66,22 @@ def test_a_coach_sheet_in_parts_reads_as_one_layout(tmp_path, monkeypatch):
     (route,) = hill.routes
     n = sum(1 for r in hill.riders if r.rides(route, route.name or route.gpx.stem))
     assert n >= 3 and len(riders) == n and riders[-1].endswith(f"riders {n}–{n} of {n}")
+
+
+def test_parts_made_in_worker_processes_join_to_the_same_bytes(tmp_path):
+    """With --jobs 2 the build lays each part out in a worker of its own and joins
+    them (build/pipeline._render_parted): the sheet is byte for byte what parts_pdf
+    makes in one process, beside a card laid out whole."""
+    from cardgen.build.pipeline import PackedCard, _render_cards
+    from cardgen.render.pages import CardSource
+
+    parts = (_page("Sheet", ["alpha", "bravo"]), _page("other", ["charlie"]), _page("x", ["delta", "echo"]))
+    sheet = CardSource(parts[0], str(tmp_path), str(tmp_path / "coach.pdf"), parts=parts)
+    whole = CardSource(_page("Card", ["one"]), str(tmp_path), str(tmp_path / "card.pdf"))
+    seen: list[str] = []
+    _render_cards(
+        [PackedCard.of(whole), PackedCard.of(sheet)], 2, tmp_path, lambda done, total, name: seen.append(name)
+    )
+    assert (tmp_path / "coach.pdf").read_bytes() == parts_pdf(parts, tmp_path)
+    assert _text((tmp_path / "card.pdf").read_bytes(), tmp_path) == ["one"]
+    assert sorted(seen) == ["card.pdf", "coach.pdf"]  # each card reported once

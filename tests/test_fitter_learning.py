@@ -6,6 +6,8 @@ from __future__ import annotations
 
 from pathlib import Path
 
+import pikepdf
+
 from cardgen.build.pipeline import PackedCard, _Batch, _learn, _render_pdfs
 from cardgen.render.pages import CardSource
 
@@ -34,12 +36,15 @@ def _cards(folder: Path, names: list[str]) -> list[PackedCard]:
 
 def test_a_later_batch_starts_from_what_earlier_batches_learned(tmp_path):
     first = _Batch(_cards(tmp_path, ["a", "b"]))
-    targets, layouts, learned = _render_pdfs(first)
+    targets, layouts, learned, pages = _render_pdfs(first)
     assert layouts == 3  # a: the variant as is overflows, then the condensed one; b: condensed at once
     assert all(Path(t).read_bytes().startswith(b"%PDF") for t in targets)
+    for target in targets:  # the pages the packs' covers count on, as the files have them
+        with pikepdf.open(target) as pdf:
+            assert pages[target] == len(pdf.pages)
     later = _Batch(_cards(tmp_path, ["c", "d"]))
     later.learned = learned
-    _, layouts, _ = _render_pdfs(later)
+    _, layouts, _, _ = _render_pdfs(later)
     assert layouts == 2  # one each
     alone = _Batch(_cards(tmp_path, ["c", "d"]))  # without what was learned: c learns again
     assert _render_pdfs(alone)[1] == 3

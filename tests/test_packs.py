@@ -159,3 +159,37 @@ def test_many_cards_render_in_fresh_batches_and_all_arrive(tmp_path, monkeypatch
     assert len(cards) == count and all(_pages(p) >= 2 for p in cards)
     pack = PdfReader(tmp_path / "site" / "riverside-loop" / "all-cards.pdf")
     assert sum("page 1 of" in p.extract_text() for p in pack.pages) == count
+
+
+@pytest.mark.slow
+def test_a_rebuild_numbers_the_cover_from_the_cards_it_kept_and_made(tmp_path):
+    """A one-rider rebuild counts the pages of the cards it keeps from the last build's
+    manifest and of the cards it makes from their layout, and guesses the cover's
+    length from the last build: the event's cover still gives each card's first page,
+    and the manifest's counts are the files'."""
+    import json
+
+    src = tmp_path / "src"
+    src.mkdir()
+    for name in ("riverside-loop.gpx", "hill-loop.gpx"):
+        shutil.copy(SAMPLES / name, src)
+    (src / "site.toml").write_text(SITE, encoding="utf-8")
+    out = tmp_path / "site"
+    build_site(load_config(src / "site.toml"), out=out, jobs=1)
+    (src / "site.toml").write_text(SITE.replace('"handcycle"', '"tandem"'), encoding="utf-8")
+    report = build_site(load_config(src / "site.toml"), out=out, jobs=2)
+    assert report.cards_reused >= 1  # a card whose rider did not change is kept
+    manifest = json.loads((out / "manifest.json").read_text())
+    for slug, route in manifest["routes"].items():
+        for row in route["summary"]["pack"]:
+            assert row["pages"] == _pages(out / slug / row["card"])
+    assert manifest["covers"]["."] == 2
+    text = [p.extract_text() for p in PdfReader(out / "all-cards.pdf").pages]
+    cover = text[0]
+    rows = [x for x in cover.splitlines() if x[:1].isdigit() and " Rider" in x]
+    assert len(rows) == 5  # three riders on the riverside loop, two on the hill loop
+    for line in rows:
+        name = next(n for n in ("Early Rider", "Middle Rider", "Late Rider") if n in line)
+        route = next(r for r in ("Riverside", "Pellowind") if r in line)
+        first = int(line.split()[-1])
+        assert "page 1 of" in text[first - 1] and name in text[first - 1] and route in text[first - 1], line

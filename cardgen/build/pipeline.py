@@ -11,6 +11,7 @@ route whose inputs did not change, and skip the whole build when nothing did.
 from __future__ import annotations
 
 import contextlib
+import itertools
 import json
 import os
 import resource
@@ -205,7 +206,8 @@ class PackedCard:
     budget: int
     group: str
     key: str
-    blob: bytes  # zlib of the JSON [html, [variants]]
+    blob: bytes  # zlib of the JSON [html, [variants], [parts]]
+    parts: int = 0  # layout parts (a long coach sheet's), 0 for a card laid out whole
 
     @classmethod
     def of(cls, card) -> PackedCard:
@@ -213,7 +215,13 @@ class PackedCard:
         written) packed."""
         text = json.dumps([card.html, list(card.variants), list(card.parts)], ensure_ascii=False)
         return cls(
-            card.base, card.target, card.budget, card.group, card_key(card), zlib.compress(text.encode(), 1)
+            card.base,
+            card.target,
+            card.budget,
+            card.group,
+            card_key(card),
+            zlib.compress(text.encode(), 1),
+            len(card.parts),
         )
 
     @property
@@ -259,20 +267,23 @@ class _Batch(list):
     learned: dict = {}
 
 
-def _render_pdfs(cards) -> tuple[list[str], int, dict]:
+def _render_pdfs(cards) -> tuple[list[str], int, dict, dict[str, int]]:
     """Worker: cards' HTML → PDF files, each the first of its condensed variants that
     fits its page budget (the last one otherwise), by one fitter that learns from the
     cards before, in this batch and (``cards.learned``) in the build's earlier
     batches (:class:`cardgen.render.pdf.Fitter`; a group is a route's folder and a
-    vehicle kind). Returns the files, the layouts made and what the fitter learned."""
+    vehicle kind). Returns the files, the layouts made, what the fitter learned and
+    the pages of each fitted card's file (by file; the packs' covers number pages
+    from them without opening the cards)."""
     from cardgen.render.pages import CONTINUATION_STEP
     from cardgen.render.pdf import Fitter, parts_pdf, pdf_bytes
 
     fitter = Fitter(getattr(cards, "learned", None))
+    pages: dict[str, int] = {}
     for packed in cards:
         card = packed.source if isinstance(packed, PackedCard) else packed
         if card.variants:
-            data, _, _ = fitter.fit(
+            data, _, pages[card.target] = fitter.fit(
                 card.variants,
                 Path(card.base),
                 card.budget,
@@ -284,7 +295,7 @@ def _render_pdfs(cards) -> tuple[list[str], int, dict]:
         else:
             data, _ = pdf_bytes(card.html, Path(card.base))
         Path(card.target).write_bytes(data)
-    return [c.target for c in cards], fitter.layouts, fitter.learned
+    return [c.target for c in cards], fitter.layouts, fitter.learned, pages
 
 
 def _learn(learned: dict, more: dict) -> None:
@@ -414,25 +425,63 @@ def _plan_routes(config, todo: list[_Route], tmp: Path, jobs: int, say) -> list[
 def card_batches(cards: list, size: int) -> list[list]:
     """The cards in batches of at most ``size``, each from one route and, within it,
     by vehicle kind: the cards of a batch share their drawings and their fitter learns
-    the variant of each kind from the first card of that kind."""
+    the variant of each kind from the first card of that kind. A route's cards are
+    split into batches of nearly one size (100 cards in batches of 40: 34, 33 and 33,
+    not 40, 40 and 20), so that the workers of a round, which all wait for its
+    longest batch, finish together."""
     by_route: dict[str, list] = {}
     for card in cards:
         by_route.setdefault(card.base, []).append(card)
     batches = []
     for members in by_route.values():
         members.sort(key=lambda c: (getattr(c, "group", ""), c.target))
-        batches += [members[i : i + size] for i in range(0, len(members), size)]
+        count = -(-len(members) // size)
+        cuts = [len(members) * k // count for k in range(count + 1)]
+        batches += [members[a:b] for a, b in itertools.pairwise(cuts)]
     return batches
 
 
-def _render_cards(cards: list, jobs: int, tmp: Path, progress) -> int:
+def _render_part(task) -> bytes:
+    """Worker: one layout part of a card laid out in parts (a long coach sheet), as a
+    PDF (:func:`cardgen.render.pdf.pdf_bytes`)."""
+    from cardgen.render.pdf import pdf_bytes
+
+    packed, index = task
+    card = packed.source
+    return pdf_bytes(card.parts[index], Path(card.base))[0]
+
+
+def _render_parted(cards: list, workers: int, tick) -> None:
+    """The cards laid out in parts (long coach sheets), every part of every card in a
+    worker of its own (a part is about a third of a 100-rider sheet: laid out alone, a
+    changed rider's sheet no longer holds up a rebuild for the whole of it), joined
+    here in order (:func:`cardgen.render.pdf.join_parts`, as ``parts_pdf`` joins them:
+    the same bytes). Fresh processes for every round of ``workers`` parts."""
+    from cardgen.render.pdf import join_parts
+
+    tasks = [(card, i) for card in cards for i in range(card.parts)]
+    made: list[bytes] = []
+    for start in range(0, len(tasks), workers):
+        round_ = tasks[start : start + workers]
+        with ProcessPoolExecutor(max_workers=len(round_)) as fresh:
+            made += _map(fresh, _render_part, round_, "a card-rendering process")
+    for card in cards:
+        Path(card.target).write_bytes(join_parts(made[: card.parts]))
+        del made[: card.parts]
+        tick([card.target])
+
+
+def _render_cards(cards: list, jobs: int, tmp: Path, progress) -> tuple[int, dict[str, int]]:
     """Render the cards' PDFs in batches (:func:`card_batches`): in this process for
     one job, else in worker processes that each make one batch and end: the
     renderer's memory grows with the cards a process has made (over 1 GB after 150),
-    so no process makes more than :data:`CARDS_PER_WORKER`. Returns the layouts made."""
+    so no process makes more than :data:`CARDS_PER_WORKER`. With more than one job,
+    cards laid out in parts are made part by part first (:func:`_render_parted`).
+    Returns the layouts made (of the fitted cards) and each fitted card's pages (by
+    file)."""
     done = layouts = 0
+    pages: dict[str, int] = {}
     workers = max(1, jobs)
-    batches = card_batches(cards, max(1, min(CARDS_PER_WORKER, -(-len(cards) // workers))))
 
     def tick(targets: list[str]) -> None:
         nonlocal done
@@ -441,12 +490,18 @@ def _render_cards(cards: list, jobs: int, tmp: Path, progress) -> int:
             if progress:
                 progress(done, len(cards), Path(target).relative_to(tmp).as_posix())
 
+    parted = [c for c in cards if getattr(c, "parts", 0) > 1] if workers > 1 else []
+    if parted:
+        _render_parted(parted, workers, tick)
+    rest = [c for c in cards if all(c is not p for p in parted)]
+    batches = card_batches(rest, max(1, min(CARDS_PER_WORKER, -(-len(rest) // workers))))
     if len(batches) <= 1:
         for batch in batches:
-            targets, made, _ = _render_pdfs(batch)
+            targets, made, _, counted = _render_pdfs(batch)
             layouts += made
+            pages.update(counted)
             tick(targets)
-        return layouts
+        return layouts, pages
     learned: dict = {}  # each round starts from what the rounds before learned
     for start in range(0, len(batches), workers):  # fresh processes for every round
         round_ = [_Batch(b) for b in batches[start : start + workers]]
@@ -454,33 +509,77 @@ def _render_cards(cards: list, jobs: int, tmp: Path, progress) -> int:
         for batch in round_:
             batch.learned = known
         with ProcessPoolExecutor(max_workers=len(round_)) as fresh:
-            for targets, made, overflowed in _map(fresh, _render_pdfs, round_, "a card-rendering process"):
+            for targets, made, overflowed, counted in _map(
+                fresh, _render_pdfs, round_, "a card-rendering process"
+            ):
                 layouts += made
+                pages.update(counted)
                 _learn(learned, overflowed)
                 tick(targets)
-    return layouts
+    return layouts, pages
 
 
-def _write_pack_group(task) -> None:
+def _write_pack_group(task) -> int:
     """Worker: the pack files of one :class:`~cardgen.render.pages.PackGroup`, each
-    streamed into its file (a pack is never whole in memory)."""
+    streamed into its file (a pack is never whole in memory). Returns the length of
+    the packs' cover."""
     from cardgen.render.pages import render_pack_group
 
     config, group = task
-    for target, write in render_pack_group(config, group):
+    cover_pages, files = render_pack_group(config, group)
+    for target, write in files:
         with target.open("wb") as sink:
             write(sink)
+    return cover_pages
 
 
-def _write_packs(config, groups: list, jobs: int) -> None:
+def _write_packs(config, groups: list, jobs: int, tmp: Path) -> dict[str, int]:
     """Write the print packs, one group (a route's packs, the event's) per worker
     process when ``jobs`` > 1. The event's pack holds every card, as many as all the
     routes' packs together, so it goes first: with two workers, one makes it while the
-    other makes the routes'."""
+    other makes the routes'. Returns each pack's cover length, by its folder relative
+    to ``tmp`` (for the manifest: the next build's first guess)."""
     groups = sorted(groups, key=lambda g: -len(g.entries))
+    covers = {}
     with _pool(jobs, len(groups)) as pool:
-        for _ in _map(pool, _write_pack_group, [(config, g) for g in groups], "a print-pack process"):
-            pass
+        tasks = [(config, g) for g in groups]
+        for group, length in zip(
+            groups, _map(pool, _write_pack_group, tasks, "a print-pack process"), strict=True
+        ):
+            covers[group.where.relative_to(tmp).as_posix()] = length
+    return covers
+
+
+def _pack_pages(old: dict, slug: str) -> dict:
+    """The pages of each card of route ``slug`` in the previous site's manifest (by
+    card file; a card kept from it has the same file)."""
+    try:
+        rows = old["routes"][slug]["summary"]["pack"]
+        return {row["card"]: row["pages"] for row in rows if _count(row.get("pages"))}
+    except (KeyError, TypeError):  # no previous site, or not one this version wrote
+        return {}
+
+
+def _dict(value) -> dict:
+    return value if isinstance(value, dict) else {}
+
+
+def _count(value) -> bool:
+    """Whether ``value`` (from a manifest) is a count of pages."""
+    return isinstance(value, int) and not isinstance(value, bool) and 0 < value < 1_000_000
+
+
+#: What every card-rendering and pack worker imports: loaded once in the build
+#: process before it forks them, each worker starts with it (a worker importing it
+#: itself spent 0.6 CPU-s; a 300-rider build forks some twenty).
+PRELOAD = ("weasyprint", "pikepdf", "cardgen.render.pdf", "cardgen.render.packs")
+
+
+def _preload() -> None:
+    import importlib
+
+    for name in PRELOAD:
+        importlib.import_module(name)
 
 
 def _render(config, routes, old, out, tmp, pdf, progress, report, reusable, jobs=1) -> dict:
@@ -525,7 +624,13 @@ def _render(config, routes, old, out, tmp, pdf, progress, report, reusable, jobs
         route.cards = []
 
     t_pdf, c_pdf = time.perf_counter(), _cpu()
-    report.layouts = _render_cards(cards, jobs, tmp, progress)
+    if pdf and jobs > 1:
+        _preload()
+    report.layouts, pages = _render_cards(cards, jobs, tmp, progress)
+    for route in fresh:  # each card's pages beside it in the pack order, kept in the manifest
+        was = _pack_pages(old, route.slug)
+        for row in route.summary.get("pack", []):
+            row["pages"] = pages.get(str(tmp / route.slug / row["card"]), was.get(row["card"]))
     report.cards_rendered = len(cards)
     report.seconds["pdf"], report.cpu["pdf"] = time.perf_counter() - t_pdf, _cpu() - c_pdf
 
@@ -534,7 +639,9 @@ def _render(config, routes, old, out, tmp, pdf, progress, report, reusable, jobs
         summaries_by_slug = [
             (r.slug, manifest["routes"][r.slug]["summary"]) for r in routes if r.slug in manifest["routes"]
         ]
-        _write_packs(config, pack_groups(config, summaries_by_slug, tmp, {r.slug for r in fresh}), jobs)
+        covers = {k: v for k, v in _dict(old.get("covers")).items() if isinstance(k, str) and _count(v)}
+        groups = pack_groups(config, summaries_by_slug, tmp, {r.slug for r in fresh}, covers)
+        manifest["covers"] = covers | _write_packs(config, groups, jobs, tmp)
         report.seconds["packs"], report.cpu["packs"] = time.perf_counter() - t_pack, _cpu() - c_pack
     summaries = [manifest["routes"][r.slug]["summary"] for r in routes if r.slug in manifest["routes"]]
     write_files(tmp, render_index(config, site, summaries, packs=(tmp / "all-cards.pdf").is_file()))

@@ -134,20 +134,46 @@ def assisted_speed(
     start = motor.cutoff_speed - motor.taper
     if motor.taper <= 0 or not np.any(full > start):
         return np.where(full < motor.cutoff_speed, full, steady_speed(wheel, **road, rtol=1e-6))[()]
-    alone = np.asarray(steady_speed(wheel + 0.0 * boost, **road, rtol=1e-6), dtype=float)
-    lo = np.broadcast_to(np.maximum(alone, start), full.shape).copy()
-    hi = np.broadcast_to(np.minimum(full, motor.cutoff_speed), full.shape).copy()
-    shape = np.broadcast(wheel, boost, *(np.asarray(x) for x in (grade, air.headwind, air.air_density))).shape
-    wheel_b, boost_b = np.broadcast_to(wheel, shape), np.broadcast_to(boost, shape)
-    for _ in range(40):
-        mid = 0.5 * (lo + hi)
-        surplus = (
-            wheel_b + boost_b * taper_factor(mid, motor.cutoff_speed, motor.taper) - steady_power(mid, **road)
+    shape = np.broadcast(
+        wheel, boost, full, *(np.asarray(x) for x in (grade, air.headwind, air.air_density))
+    ).shape
+    out = np.broadcast_to(full, shape).copy()
+    # only where the assist reaches the taper does the rider's own speed matter (with
+    # no assist it is the full speed already)
+    boosted = (out > start) & (np.broadcast_to(boost, shape) > 0)
+    if not boosted.any():
+        return scalar_or_array(out)
+
+    def at(x: Floats, mask: np.ndarray) -> np.ndarray:
+        return np.asarray(np.broadcast_to(np.asarray(x, dtype=float), shape)[mask], dtype=float)
+
+    def road_at(mask: np.ndarray) -> dict[str, Any]:
+        return dict(
+            resistance=resistance,
+            grade=at(grade, mask),
+            air=Air(at(air.headwind, mask), at(air.air_density, mask)),
+            at_wheel=True,
         )
-        lo = np.where(surplus > 0, mid, lo)
-        hi = np.where(surplus > 0, hi, mid)
-    inside = (full > start) & (alone < motor.cutoff_speed)
-    return np.where(inside, 0.5 * (lo + hi), np.where(full > start, alone, full))[()]
+
+    alone = np.asarray(steady_speed(at(wheel, boosted), **road_at(boosted), rtol=1e-6), dtype=float)
+    out[boosted] = alone
+    inside = np.zeros(shape, dtype=bool)
+    inside[boosted] = alone < motor.cutoff_speed
+    if inside.any():  # bisect only where the speed lies inside the taper
+        lo = np.maximum(alone[alone < motor.cutoff_speed], start)
+        hi = np.minimum(at(full, inside), motor.cutoff_speed)
+        wheel_i, boost_i, there = at(wheel, inside), at(boost, inside), road_at(inside)
+        for _ in range(40):
+            mid = 0.5 * (lo + hi)
+            surplus = (
+                wheel_i
+                + boost_i * taper_factor(mid, motor.cutoff_speed, motor.taper)
+                - steady_power(mid, **there)
+            )
+            lo = np.where(surplus > 0, mid, lo)
+            hi = np.where(surplus > 0, hi, mid)
+        out[inside] = 0.5 * (lo + hi)
+    return out[()]
 
 
 def rider_power_for_speed(

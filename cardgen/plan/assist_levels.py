@@ -89,7 +89,9 @@ def level_options(
     """What each level does on each stretch at the planned rider ``power`` [W] per
     segment (or per level and segment), on steady speeds capped by the braking
     envelope: arrays (levels 0…N, stretches) of ``time`` [s], ``battery`` [J] drawn,
-    the rider's ``work`` [J] and the length ``walked`` [m] below ``min_speed`` [m/s]."""
+    the rider's ``work`` [J] and the length ``walked`` [m] below ``min_speed`` [m/s];
+    and per level and segment ``segment_time``, ``segment_battery``, ``segment_slow``
+    (the length below ``min_speed``)."""
     ratios = _ratios(course)
     power = np.broadcast_to(power, (ratios.size, power.shape[-1]))
     speed, seconds, drawn = _steady(course, ratios, power)  # every segment at once
@@ -102,7 +104,10 @@ def level_options(
         columns["work"].append(work[:, i].sum(axis=1))
         columns["battery"].append(drawn[:, i].sum(axis=1))
         columns["walked"].append(slow[:, i].sum(axis=1))
-    return {key: np.column_stack(value) for key, value in columns.items()}
+    options = {key: np.column_stack(value) for key, value in columns.items()}
+    # and per segment (levels 0…N, segments), for the screen of a switch-off (:func:`_screen`)
+    options.update(segment_time=seconds, segment_battery=drawn, segment_slow=slow)
+    return options
 
 
 def priced_options(
@@ -173,8 +178,13 @@ def pace_assisted(
     paced = pacer(on(wanted), cut=False)
     if battery_energy(motor, paced.ride.motor_power, paced.ride.time) <= budget:
         return paced, wanted
+    options = _options(course, stretches, paced, pacer.top, min_speed)
+    screened = sorted(
+        _candidates(stretches, options, budget=budget),
+        key=lambda levels: _screen(stretches, options, levels, budget),
+    )
     best: tuple[tuple[float, float], list[int], PacedRide] | None = None
-    for levels in _candidates(course, stretches, paced, pacer.top, budget=budget, min_speed=min_speed):
+    for levels in [wanted, *[c for c in screened if c != wanted][:RIDDEN]]:
         ridden = pacer(on(levels), capacity=budget)
         rank = _judge(course.step, ridden, min_speed)
         if best is None or rank < best[0]:
@@ -183,30 +193,29 @@ def pace_assisted(
     return best[2], best[1]
 
 
-#: Budgets the knapsack's candidates are built for, as shares of the battery budget.
-SHARES = (1.0,)
+def _options(
+    course: Course, stretches: Sequence[Stretch], paced: PacedRide, top: float, min_speed: float
+) -> dict[str, np.ndarray]:
+    """What each level does on each stretch and segment at the rider's power of the
+    levels asked (``paced``: its multiplier prices each level's time,
+    :func:`priced_options`)."""
+    kappa = paced.pacing.kappa
+    if np.isfinite(kappa):
+        return priced_options(course, stretches, kappa=kappa, top=top, min_speed=min_speed)
+    return level_options(course, stretches, paced.pacing.power, min_speed)
+
+
+#: Candidates ridden besides the levels asked for: the best of the screen.
+RIDDEN = 2
 
 
 def _candidates(
-    course: Course,
-    stretches: Sequence[Stretch],
-    paced: PacedRide,
-    top: float,
-    *,
-    budget: float,
-    min_speed: float,
+    stretches: Sequence[Stretch], options: dict[str, np.ndarray], *, budget: float
 ) -> list[list[int]]:
     """For each level between the climbs up to the one asked: the climbs' levels
-    capped at each level in turn, down to off, ridden until the budget
-    is spent, and the climbs' levels within ``budget`` [J] by :func:`best_levels`, at the
-    rider's power of the levels asked (``paced``: its multiplier prices each level's
-    time, :func:`priced_options`)."""
+    capped at each level in turn, down to off (each to be ridden until the budget is
+    spent), and the climbs' levels within ``budget`` [J] by :func:`best_levels`."""
     wanted = [s.wanted for s in stretches]
-    kappa = paced.pacing.kappa
-    if np.isfinite(kappa):
-        options = priced_options(course, stretches, kappa=kappa, top=top, min_speed=min_speed)
-    else:
-        options = level_options(course, stretches, paced.pacing.power, min_speed)
     between = bool(stretches) and not stretches[-1].climb
     choices = []
     for level in range(wanted[-1] + 1) if between else [None]:
@@ -219,9 +228,24 @@ def _candidates(
         climbs = most[: len(most) - between]
         for cap in range(max(climbs, default=0), -1, -1):
             choices.append([min(w, cap) for w in climbs] + most[len(climbs) :])
-        for share in SHARES:
-            choices.append(best_levels(options, most, budget=budget * share, lowest=lowest))
+        choices.append(best_levels(options, most, budget=budget, lowest=lowest))
     return [list(c) for c in dict.fromkeys(tuple(c) for c in choices)]
+
+
+def _screen(
+    stretches: Sequence[Stretch], options: dict[str, np.ndarray], levels: Sequence[int], budget: float
+) -> tuple[float, float]:
+    """Metres walked and time [s] of ``levels`` on steady speeds at the options' power,
+    the motor off from where their draw passes ``budget`` [J]: the cheap judge that
+    picks the candidates to ride (walked metres to the nearest 10 m first)."""
+    segments = np.zeros(options["segment_time"].shape[1], dtype=np.int64)
+    for stretch, level in zip(stretches, levels, strict=True):
+        segments[stretch.segments] = level
+    at = np.arange(segments.size)
+    on = np.cumsum(options["segment_battery"][segments, at]) <= budget
+    given = np.where(on, segments, 0)
+    walked = float(np.sum(options["segment_slow"][given, at]))
+    return round(walked, -1), float(np.sum(options["segment_time"][given, at]))
 
 
 def _judge(step: float, paced: PacedRide, min_speed: float) -> tuple[float, float]:

@@ -605,6 +605,9 @@ PICK = 0.006
 BATTERY_ROUNDS = 4
 #: The motor is cut where the draw reaches this share below the capacity [-].
 CUT_MARGIN = 1e-4
+#: The plan is made again for its cut until the cut moves less than this [m] (after
+#: the first re-plan it moves tens of metres, a few kilometres before).
+CUT_SETTLE = 250.0
 
 
 @dataclass(frozen=True)
@@ -676,9 +679,11 @@ def pace(
     The programme works with steady speeds; the ride has inertia, so its mean power
     differs a little. The programme is asked again for the mean scaled by the miss
     (at most :data:`FIT_ROUNDS` times). With a motor, the ride's battery draw is
-    summed along the route; where it passes the usable capacity the assist ratio is
-    cut (pro rata on that segment, to 0 after it) and the rider's power planned and
-    ridden again, until the battery lasts to the cut.
+    summed along the route; where it passes the capacity the assist ratio is cut (pro
+    rata on that segment, to 0 after it) and the rider's power planned and ridden
+    again for that cut, until the cut moves less than :data:`CUT_SETTLE` (at most
+    :data:`BATTERY_ROUNDS` plans); the last plan is ridden with its own cut, cut again
+    if that ride still passes the capacity.
     """
     full = course.assist_ratio
     ratio, empty_at = full, None
@@ -686,26 +691,34 @@ def pace(
         ridden = course if ratio is full else dataclasses.replace(course, assist_ratio=ratio)
         pacing, ride = _fit(ridden, mean_power, cp, w_prime, top)
         if course.motor is None or full is None or not cut:
-            break
-        # the draw up to any point does not depend on the motor after it: ride this
-        # power with the motor on throughout, and cut where that empties the battery
-        unbounded = ride if ratio is full else course.ride(pacing.power, full)
-        emptied = battery_cut(unbounded, full, course.motor, capacity)
+            return PacedRide(pacing, ride, ratio, empty_at)
+        # the draw up to any point does not depend on the motor after it: where this
+        # power spends the capacity, on its own ride when before the last cut, else
+        # with the motor on throughout
+        emptied = battery_cut(ride, ratio if ratio is not None else full, course.motor, capacity)
+        if emptied is None and ratio is not full:
+            unbounded = course.ride(pacing.power, full)
+            emptied = battery_cut(unbounded, full, course.motor, capacity)
+            if emptied is None:
+                return PacedRide(pacing, unbounded, full, None)
         if emptied is None:
-            ratio, empty_at, ride = full, None, unbounded
-            break
-        index, cut_ratio = emptied
-        ride = course.ride(pacing.power, cut_ratio)
-        for _ in range(BATTERY_ROUNDS):  # the ride cut there may still pass it, a little
-            again = battery_cut(ride, cut_ratio, course.motor, capacity)
-            if again is None:
-                break
-            index, cut_ratio = min(index, again[0]), again[1]
-            ride = course.ride(pacing.power, cut_ratio)
-        settled = empty_at is not None and empty_at == float(course.distance[index + 1])
-        ratio, empty_at = cut_ratio, float(course.distance[index + 1])
+            return PacedRide(pacing, ride, full, None)
+        index, ratio = emptied
+        where = float(course.distance[index + 1])
+        settled = empty_at is not None and abs(empty_at - where) <= CUT_SETTLE
+        empty_at = where
         if settled:
             break
+    motor = course.motor
+    assert ratio is not None and motor is not None
+    ride = course.ride(pacing.power, ratio)
+    for _ in range(BATTERY_ROUNDS):  # the ride cut there may still pass it, a little
+        again = battery_cut(ride, ratio, motor, capacity)
+        if again is None:
+            break
+        index, ratio = min(index, again[0]), again[1]
+        empty_at = float(course.distance[index + 1])
+        ride = course.ride(pacing.power, ratio)
     return PacedRide(pacing, ride, ratio, empty_at)
 
 

@@ -22,6 +22,7 @@ from dataclasses import dataclass
 from pathlib import Path
 from typing import BinaryIO
 
+from cardgen.errors import CardgenError
 from cardgen.render.pdfjoin import PageWriter
 
 #: A4 landscape and A5 in PostScript points.
@@ -33,31 +34,41 @@ MARK = 11.3
 
 @dataclass(frozen=True)
 class PackEntry:
-    """One card in a pack: who, and the PDF file."""
+    """One card in a pack: who, the PDF file and its pages (None: not known, the
+    file is opened to count them)."""
 
     name: str
     bib: int | None
     start: str  # "08:42", or "" without a start time
     route: str
     pdf: Path
+    pages: int | None = None
 
 
 def pack_cover(
-    entries: Sequence[PackEntry], cover_html, base: Path, page_size: tuple[float, float]
+    entries: Sequence[PackEntry],
+    cover_html,
+    base: Path,
+    page_size: tuple[float, float],
+    cover_pages: int = 2,
 ) -> tuple[bytes, list[int]]:
     """The cover of a pack of ``entries`` (already in print order), and the first page
     of each card in the pack.
 
     ``cover_html(rows)`` renders the cover for rows of (entry, first page) to HTML. The
-    cover is laid out once, and again if its own length moved the page numbers; only
-    the last layout is written. Each card is opened only to count its pages."""
+    cover is laid out once, taking its own length to be ``cover_pages`` (the last
+    build's, else 2), and again if its length moved the page numbers; only the last
+    layout is written. A card is opened to count its pages only when its entry does
+    not say them."""
     import pikepdf
 
     counts = []
     for entry in entries:
-        with pikepdf.open(entry.pdf) as pdf:
-            counts.append(len(pdf.pages))
-    cover_pages = 2
+        if entry.pages is None:
+            with pikepdf.open(entry.pdf) as pdf:
+                counts.append(len(pdf.pages))
+        else:
+            counts.append(entry.pages)
     for _ in range(3):
         firsts, page = [], cover_pages + 1
         for n in counts:
@@ -95,9 +106,17 @@ def write_pack(
     takes about the memory of one."""
 
     writer = PageWriter(sink)
-    for source in _sources(cover, entries):
+    for entry, source in zip([None, *entries], _sources(cover, entries), strict=True):
         with source as pdf:
-            if writer.add_pages(pdf) % 2:
+            pages = writer.add_pages(pdf)
+            if entry is not None and entry.pages is not None and pages != entry.pages:
+                # the cover numbered the pages from the count it was given (the last
+                # build's manifest, for a card kept from it)
+                raise CardgenError(
+                    f"{entry.pdf.name} has {pages} pages, not the {entry.pages} that manifest.json "
+                    "says; remove the output folder and build again"
+                )
+            if pages % 2:
                 writer.add_blank(page_size)
     writer.finish(title)
 

@@ -862,35 +862,46 @@ class PackGroup:
     subtitle: str
     show_route: bool
     entries: tuple
+    cover_pages: int = 2  # the cover's length, as a first guess (the last build's)
 
 
-def pack_groups(config, routes: list[tuple[str, dict]], folder: Path, fresh: set[str]) -> list[PackGroup]:
+def pack_groups(
+    config, routes: list[tuple[str, dict]], folder: Path, fresh: set[str], covers: dict | None = None
+) -> list[PackGroup]:
     """The print packs to make (docs/contracts.md): one in each route folder that was
     rendered now (``fresh`` slugs; a reused route keeps its pack) and one at the root
     for the whole event, from the cards in ``folder``. ``routes`` are (slug, summary)
-    in site order. A pack without cards is left out."""
+    in site order; ``covers`` the length of each pack's cover in the last build (by
+    the pack's folder relative to ``folder``, "." for the event's), a first guess for
+    its layout. A pack without cards is left out."""
     from cardgen.render.packs import PackEntry
 
     groups, everyone = [], []
+    covers = covers or {}
     for slug, summary in routes:
         entries = [
-            PackEntry(r["name"], r["bib"], r["start"], summary["name"], folder / slug / r["card"])
+            PackEntry(
+                r["name"], r["bib"], r["start"], summary["name"], folder / slug / r["card"], r.get("pages")
+            )
             for r in summary.get("pack", [])
             if (folder / slug / r["card"]).is_file()
         ]
         if slug in fresh and entries:
-            groups.append(PackGroup(folder / slug, summary["name"], False, tuple(entries)))
+            groups.append(
+                PackGroup(folder / slug, summary["name"], False, tuple(entries), covers.get(slug, 2))
+            )
         everyone.extend(entries)
     if everyone:
-        groups.append(PackGroup(folder, "every route", True, tuple(everyone)))
+        groups.append(PackGroup(folder, "every route", True, tuple(everyone), covers.get(".", 2)))
     return groups
 
 
-def render_pack_group(config, group: PackGroup) -> Iterator[tuple[Path, Callable[[BinaryIO], None]]]:
-    """``all-cards.pdf`` of ``group``, and ``all-cards-2up.pdf`` beside it for A5 cards:
-    yields each pack's file with the function that writes the pack into it (a binary
-    file open for writing). A pack is streamed card by card, never held whole (the
-    event's pack at 3,000 riders is some 400 MB of PDF); both share one cover."""
+def render_pack_group(config, group: PackGroup) -> tuple[int, list[tuple[Path, Callable[[BinaryIO], None]]]]:
+    """The cover's length and the files of ``group``: ``all-cards.pdf``, and
+    ``all-cards-2up.pdf`` beside it for A5 cards, each with the function that writes
+    the pack into it (a binary file open for writing). A pack is streamed card by
+    card, never held whole (the event's pack at 3,000 riders is some 400 MB of PDF);
+    both share one cover."""
     from cardgen.render.packs import pack_cover, write_pack, write_two_up
 
     env = _environment(config.templates, config.units)
@@ -898,7 +909,7 @@ def render_pack_group(config, group: PackGroup) -> Iterator[tuple[Path, Callable
     size = {"A5": (419.53, 595.28), "A4": (595.28, 841.89), "pocket": (280.63, 595.28)}[config.card_size]
     template = env.get_template("cover.html")
     entries = list(group.entries)
-    cover, _ = pack_cover(
+    cover, firsts = pack_cover(
         entries,
         lambda rows: template.render(
             title=config.title,
@@ -910,16 +921,22 @@ def render_pack_group(config, group: PackGroup) -> Iterator[tuple[Path, Callable
         ),
         group.where,
         size,
+        group.cover_pages,
     )
-    yield (
-        group.where / "all-cards.pdf",
-        functools.partial(write_pack, cover, entries, title="all-cards", page_size=size),
-    )
-    if config.card_size == "A5":
-        yield (
-            group.where / "all-cards-2up.pdf",
-            functools.partial(write_two_up, cover, entries, title="all-cards-2up"),
+    files: list[tuple[Path, Callable[[BinaryIO], None]]] = [
+        (
+            group.where / "all-cards.pdf",
+            functools.partial(write_pack, cover, entries, title="all-cards", page_size=size),
         )
+    ]
+    if config.card_size == "A5":
+        files.append(
+            (
+                group.where / "all-cards-2up.pdf",
+                functools.partial(write_two_up, cover, entries, title="all-cards-2up"),
+            )
+        )
+    return firsts[0] - 1, files
 
 
 def render_packs(
@@ -928,7 +945,7 @@ def render_packs(
     """Every print pack of :func:`pack_groups`, one after the other
     (:func:`render_pack_group`)."""
     for group in pack_groups(config, routes, folder, fresh):
-        yield from render_pack_group(config, group)
+        yield from render_pack_group(config, group)[1]
 
 
 def route_summary(job: RouteJob, views, units: str, to_second: bool = False) -> dict:

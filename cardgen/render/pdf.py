@@ -53,14 +53,23 @@ def parts_pdf(parts: tuple[str, ...], base: Path) -> bytes:
     links into ``base``) and joined in order: a layout holds every page of its
     document in memory, so a coach sheet of hundreds of riders is laid out a few
     groups at a time (one layout of 300 riders peaked at 1.2 GB). The tags (the
-    structure for screen readers) are those of the first part."""
+    structure for screen readers) are those of the first part (:func:`join_parts`)."""
+    return join_parts(pdf_bytes(html, base)[0] for html in parts)
+
+
+def join_parts(datas) -> bytes:
+    """The PDFs ``datas`` (bytes, in order) joined into one: the first part's
+    document (its title, language and tags) with every later part's pages added. A
+    part stays open until the join is saved. The same parts give the same bytes,
+    whichever process laid them out."""
     import pikepdf
 
     out = io.BytesIO()
     with contextlib.ExitStack() as stack:  # a part stays open until the join is saved
-        joined = stack.enter_context(pikepdf.open(io.BytesIO(pdf_bytes(parts[0], base)[0])))
-        for html in parts[1:]:
-            part = stack.enter_context(pikepdf.open(io.BytesIO(pdf_bytes(html, base)[0])))
+        parts = iter(datas)
+        joined = stack.enter_context(pikepdf.open(io.BytesIO(next(parts))))
+        for data in parts:
+            part = stack.enter_context(pikepdf.open(io.BytesIO(data)))
             joined.pages.extend(part.pages)
         joined.save(out, deterministic_id=True)
     return out.getvalue()
