@@ -77,7 +77,7 @@ def test_the_coasting_column_is_the_unbraked_speed_on_every_card(demo):
     """One meaning, named in the head: coasting with no brakes, from plan.json's
     coast_speed (above the cap where it is: the table is not the capped speed)."""
     over_cap = 0
-    for _, plan, reading, laid_out in _plans(demo):
+    for _, plan, _, laid_out in _plans(demo):
         if not plan["descents"]:
             continue
         assert re.search(r"Avg Unbraked\b", laid_out)
