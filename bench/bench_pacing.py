@@ -9,7 +9,8 @@
    by the test's solve_ivp model at the plan's own mean power.
 3. An event's planning, 300 riders on 40, 100 and 160 km (the rider mix of
    bench_event.py), with the pacing plan and with the earlier heuristic, side by side
-   (target: within 2×).
+   (target: within 2×), in wall and CPU seconds (the CPU ratio is the steadier on a
+   shared machine).
 
     .venv/bin/python bench/bench_pacing.py [--riders 300] [--skip-event]
 """
