@@ -92,5 +92,23 @@ def test_a_climb_ridden_below_balance_speed_says_so_beside_the_power():
     walk = Notice("walk", "warning", (("speed", 5.5 / 3.6), ("length", 846.0)), at=5300.0)
     row = _climb(152.0, 1190.0, 14000.0, None, warnings=(walk,))
     assert climb_advice(row, _plan()) == (
-        "hold 150 W for 20 min; 850 m below 5.5 km/h, timed as ridden: walk there if you must"
+        "hold 150 W for 20 min; 850 m below 5.5 km/h, timed as ridden; walking may be needed there"
     )
+
+
+def test_condensed_advice_groups_climbs_walked_for_different_lengths():
+    """A condensed card's climbs share a line when only their walked lengths differ
+    (the lengths are in the "Watch for" box): twelve lines of one 200 km card took a
+    page of their own."""
+    plan = _plan()
+    walks = [
+        Notice("walk", "warning", (("speed", 5.5 / 3.6), ("length", m)), at=0.0) for m in (2360.0, 2990.0)
+    ]
+    plan.climbs = [
+        SimpleNamespace(number=n, **vars(_climb(132.0, 2040.0, 14000.0, None, warnings=(w,))))
+        for n, w in enumerate(walks, 1)
+    ]
+    # worked by hand: 132 W → 130 W (down), 2,040 s → 34 min, 5.5 km/h
+    assert climbs_advice(plan) == [
+        "Climbs 1, 2: hold 130 W for 34 min; below 5.5 km/h in places, timed as ridden"
+    ]

@@ -77,10 +77,10 @@ def test_the_coasting_column_is_the_unbraked_speed_on_every_card(demo):
     """One meaning, named in the head: coasting with no brakes, from plan.json's
     coast_speed (above the cap where it is: the table is not the capped speed)."""
     over_cap = 0
-    for _, plan, reading, laid_out in _plans(demo):
+    for _, plan, _, laid_out in _plans(demo):
         if not plan["descents"]:
             continue
-        assert "Coasting unbraked" in reading
+        assert re.search(r"Avg Unbraked\b", laid_out)
         printed = [float(x) for x in re.findall(r"-[\d.]+ % +([\d.]+) km/h", laid_out)]
         expected = [float(_half_up(d["coast_speed_m_s"] * KMH, "0.5")) for d in plan["descents"]]
         assert printed == expected, plan["rider"]["name"]
@@ -152,7 +152,7 @@ def test_a_climb_with_walking_says_what_the_plan_does_below_balance_speed(demo):
             if not walks:
                 continue
             (length,) = {re.search(r"about (\d+) m", w["text"]).group(1) for w in walks}
-            assert f"{length} m below 5.5 km/h, timed as ridden: walk there if you must" in reading
+            assert f"{length} m below 5.5 km/h, timed as ridden; walking may be needed there" in reading
             said += 1
     assert said
 
@@ -165,6 +165,7 @@ def test_the_tandem_eats_by_the_guide_each(demo):
     (tandem,) = [p for p in plan_json["plans"] if p["rider"]["vehicle"] == "tandem"]
     reading, laid_out = cards[tandem["rider"]["name"]]
     assert "Carbs each" in laid_out and "for each of the 2 riders" in reading
+    assert re.search(r"energy spent riding about [\d,]+ kcal \(2 riders together\)", reading)
     for leg in tandem["legs"]:
         assert leg["people"] == 2
         hours = leg["time_s"] / 3600
@@ -196,3 +197,17 @@ def test_one_distance_rounding_half_up(metres):
     from cardgen.render.format import distance
 
     assert distance(metres) == f"{_half_up(metres / 1000, '0.1'):.1f} km"
+
+
+def test_the_coach_sheet_says_a_climbs_walking_once(demo):
+    """The Plan cell says where the plan rides below balance speed; the Notes cell
+    beside it no longer says it again (Theo's 850 m was said in both)."""
+    out, routes = demo
+    total = 0
+    for slug, (plan_json, _) in routes.items():
+        plans = plan_json["plans"]
+        assert not any(w["code"] == "walk" for p in plans for w in p["warnings"])  # none off the climbs
+        walking = sum(any(w["code"] == "walk" for w in c["warnings"]) for p in plans for c in p["climbs"])
+        assert pdf_text(out / slug / "coach.pdf").count("walking may be needed") == walking, slug
+        total += walking
+    assert total

@@ -437,17 +437,17 @@ def test_battery_figures(demo):
             assert _rounded(printed, wh), (rc.gpx.name, rider.name, printed, wh)
             # the range line's reserve, the plan's share kept back
             reading = READING[(rc.gpx.name, rider.name)]  # the cautions print in columns
-            ((spend, of, kept, share),) = re.findall(
-                r"Range: the plan spends at most (\d+) Wh of the (\d+) Wh usable, keeping (\d+) Wh \((\d+) %\) in reserve",
-                reading,
+            ((spend, kept, share),) = re.findall(
+                r"Range: uses up to (\d+) Wh, keeps (\d+) Wh \((\d+) %\)", reading
             )
             assert float(share) == RESERVE * 100
-            # each figure rounded down from the usable battery and the 20 % kept back
-            assert _rounded(float(of), usable / 3600) and float(of) <= usable / 3600 + 1e-6
+            # what may be used, rounded down from 80 % of the usable battery; what is kept,
+            # the rest of the usable figure page 1 prints (rounded down): the line adds up
             assert _rounded(float(spend), (1 - RESERVE) * usable / 3600)
             assert float(spend) <= (1 - RESERVE) * usable / 3600 + 1e-6
-            # what is kept is the rest of the printed usable energy: the line adds up
-            assert float(kept) == float(of) - float(spend)
+            (of,) = {float(x) for x in re.findall(r"Wh of (\d+) Wh usable", card)}
+            assert _rounded(of, usable / 3600) and of <= usable / 3600 + 1e-6
+            assert float(spend) + float(kept) == of
             assert _rounded(float(kept), RESERVE * usable / 3600)
             fits = totals["battery_j"] <= (1 - RESERVE) * usable
             assert totals["battery_fits"] is fits, (rc.gpx.name, rider.name)

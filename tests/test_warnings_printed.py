@@ -194,11 +194,9 @@ def test_a_60_wh_battery_rounds_toward_caution(outing):
     need = plan["totals"]["battery_j"] / 3600
     assert f"battery about {-int(-need // 1)} Wh of 54 Wh usable" in card
     reading = text(outing / "hill-loop" / "cargo-rider.pdf", layout=False)
-    # worked by hand: 54 Wh usable, 80 % of it 43.2 Wh to spend (printed down: 43 Wh), and
+    # worked by hand: 54 Wh usable, 80 % of it 43.2 Wh to use (printed down: 43 Wh), and
     # the rest of the printed 54 Wh, 11 Wh, kept back (20 % of 54 Wh is 10.8 Wh)
-    assert (
-        "Range: the plan spends at most 43 Wh of the 54 Wh usable, keeping 11 Wh (20 %) in reserve" in reading
-    )
+    assert "Range: uses up to 43 Wh, keeps 11 Wh (20 %)" in reading
     assert "unassisted" in reading
 
 

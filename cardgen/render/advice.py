@@ -39,13 +39,14 @@ def effort_line(plan: Plan, units: str = "metric") -> str:
     )
 
 
-def climb_advice(row: ClimbRow, plan: Plan, units: str = "metric") -> str:
+def climb_advice(row: ClimbRow, plan: Plan, units: str = "metric", brief: bool = False) -> str:
     """Where to spend effort on a climb: "hold 265 W for 6 min; little left for the
-    next 2.0 km". The reserve is W′, the work a rider can do above CP."""
+    next 2.0 km". The reserve is W′, the work a rider can do above CP. ``brief``: the
+    walking part without its length, so that climbs alike share a condensed line."""
     if row.time is None or not math.isfinite(row.time):  # the rider stalls on it
         return "not ridable at this effort (see the notes)"
     text = f"hold {fmt.power(row.rider_power, rounding='down')} for {fmt.minutes(row.time)}"
-    text += _below_balance(row, units)
+    text += _below_balance(row, units, brief)
     if row.w_prime_top is None or plan.rider.w_prime <= 0:
         return text
     left = row.w_prime_top / plan.rider.w_prime
@@ -59,19 +60,21 @@ def climb_advice(row: ClimbRow, plan: Plan, units: str = "metric") -> str:
     return text
 
 
-def _below_balance(row: ClimbRow, units: str) -> str:
+def _below_balance(row: ClimbRow, units: str, brief: bool = False) -> str:
     """What the plan does where a two-wheeler falls below balance speed on a climb: it
     rides on at the same power, slowly, and times it so ("; 850 m below 5.5 km/h,
-    timed as ridden: walk there if you must"); "" where it never does. Said beside the
+    timed as ridden; walking may be needed there"); "" where it never does. Said beside the
     power to hold, so that "hold 150 W" does not read as if it kept the rider upright."""
     walks = [w for w in row.warnings if w.code == "walk"]
     if not walks:
         return ""
     length = sum(w.value("length") for w in walks)
     speed = min(w.value("speed") for w in walks)
+    if brief:  # the lengths are in the "Watch for" box
+        return f"; below {fmt.speed(speed, units)} in places, timed as ridden"
     return (
-        f"; {fmt.length(length, units)} below {fmt.speed(speed, units)}, timed as ridden: "
-        "walk there if you must"
+        f"; {fmt.length(length, units)} below {fmt.speed(speed, units)}, timed as ridden; "
+        "walking may be needed there"
     )
 
 
@@ -113,5 +116,6 @@ def descents_advice(plan: Plan, units: str = "metric") -> list[str]:
 
 def climbs_advice(plan: Plan, units: str = "metric") -> list[str]:
     """The climbs' advice, one line per wording, for a condensed card: "Climbs 1, 2,
-    5: hold 135 W for 24 min"."""
-    return _grouped(plan.climbs, lambda row: climb_advice(row, plan, units), "Climb")
+    5: hold 135 W for 24 min" (walking without its lengths: "…; below 5.5 km/h in
+    places, timed as ridden")."""
+    return _grouped(plan.climbs, lambda row: climb_advice(row, plan, units, brief=True), "Climb")

@@ -259,19 +259,19 @@ def assist_plan(plan: Plan, units: str) -> str:
 
 
 def assist_range(plan: Plan) -> str:
-    """The e-assist range line, one statement: what the plan may spend of the usable
-    battery and what it keeps in reserve ("Range: the plan spends at most 360 Wh of
-    the 450 Wh usable, keeping 90 Wh (20 %) in reserve"), and what shortens the range.
-    What can be drawn and what may be spent round down (limits); the reserve is their
-    difference as printed, so the line adds up."""
+    """The e-assist range line, one statement: what the plan may use of the usable
+    battery and what it keeps back ("Range: uses up to 360 Wh, keeps 90 Wh (20 %)"; the
+    two add up to the usable figure page 1 gives), and what shortens the range. What
+    may be used rounds down (a limit); what is kept is the rest of the usable figure as
+    printed, so the line adds up. No longer than the line it replaced: a longer one
+    added a page to large-print e-assist cards."""
     motor = plan.motor
     if motor is None:
         return ""
     usable = fmt.battery_wh(motor.usable_battery, "down")
     spend = fmt.battery_wh(motor.usable_battery * (1.0 - BATTERY_RESERVE), "down")
     return (
-        f"Range: the plan spends at most {spend:.0f} Wh of the {usable:.0f} Wh usable, keeping "
-        f"{usable - spend:.0f} Wh ({BATTERY_RESERVE * 100:.0f} %) in reserve; "
+        f"Range: uses up to {spend:.0f} Wh, keeps {usable - spend:.0f} Wh ({BATTERY_RESERVE * 100:.0f} %); "
         "cold, age, load cut it: plan to finish unassisted."
     )
 
