@@ -538,6 +538,11 @@ class _Programme:
         position = np.clip(after, 0.0, w_prime) / w_prime * (W_LEVELS - 1)
         self.cell = np.minimum(position.astype(np.int64), W_LEVELS - 2)
         self.frac = position - self.cell
+        # the backward pass's per-block constants, worked out once for every multiplier
+        # and every call (the same arithmetic as inline, so the same values bit for bit)
+        self.next_cell = self.cell + 1
+        self.keep_share = 1.0 - self.frac
+        self.infeasible = ~self.feasible
         self.spend, self.decay, self.above = spend, decay, above
         self.w_prime = w_prime
 
@@ -557,10 +562,16 @@ class _Programme:
             ahead = value[b + 1]
             if b + 1 < blocks and self.resets[b + 1]:  # a new run starts with W′ full
                 ahead = np.repeat(ahead[:, -1:], W_LEVELS, axis=1)
-            cell, frac = self.cell[b], self.frac[b]
-            later = ahead[:, cell] * (1.0 - frac) + ahead[:, cell + 1] * frac  # (m, W, levels)
-            total = np.where(self.feasible[b], later, INFEASIBLE) + cost[:, b, None, :]
-            value[b] = total.min(axis=2)
+            # ahead[cell]·(1 − frac) + ahead[cell + 1]·frac, (m, W, levels), in place:
+            # the pass is bound by arithmetic on these arrays, not by the loop
+            total = np.take(ahead, self.cell[b], axis=1)
+            upper = np.take(ahead, self.next_cell[b], axis=1)
+            total *= self.keep_share[b]
+            upper *= self.frac[b]
+            total += upper
+            np.copyto(total, INFEASIBLE, where=self.infeasible[b])
+            total += cost[:, b, None, :]
+            np.min(total, axis=2, out=value[b])
         return value
 
     def _forward(self, cost: np.ndarray, value: np.ndarray) -> np.ndarray:

@@ -1,0 +1,80 @@
+"""The W′ dynamic programme's backward pass against the Bellman recursion written out
+here, one state at a time (Bellman 1957), with the W′ balance of Skiba et al. (2015)
+moved by the exact solution of its differential form for a constant power (above CP:
+W′ falls by (P − CP)·t; below: the gap to W′₀ shrinks by exp(−(CP − P)·t / W′₀))."""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+
+from cardgen.plan.pacing import INFEASIBLE, W_LEVELS, _Programme
+
+
+def _programme() -> tuple[_Programme, np.ndarray]:
+    """A programme with levels above and below CP, W′ that runs out in some blocks
+    (infeasible cells) and two runs of window blocks (a reset to full W′ between)."""
+    rng = np.random.default_rng(7)
+    powers = np.concatenate(([0.0], np.linspace(0.15 * 330.0, 330.0, 24)))
+    times = rng.uniform(5.0, 90.0, size=(powers.size, 30))
+    window = np.ones(30, dtype=bool)
+    window[[0, 11, 12, 29]] = False
+    programme = _Programme(powers, times, 240.0, 12_000.0, window, 0.01 * 12_000.0)
+    kappas = np.array([15.0, 120.0, 900.0])
+    cost = programme.times[None, :, :] * (powers[None, None, :] + kappas[:, None, None])
+    return programme, cost
+
+
+def _bellman(programme: _Programme, cost: np.ndarray, cp: float, w0: float, keep: float) -> np.ndarray:
+    """Least cost to go by (block, multiplier, W′ level), state by state."""
+    blocks, levels = programme.times.shape
+    grid = [w0 * i / (W_LEVELS - 1) for i in range(W_LEVELS)]
+    value = np.zeros((blocks + 1, cost.shape[0], W_LEVELS))
+    for b in range(blocks - 1, -1, -1):
+        ahead = value[b + 1].copy()
+        if b + 1 < blocks and programme.resets[b + 1]:
+            ahead[:, :] = ahead[:, -1:]  # the next run starts with W′ full
+        for m in range(cost.shape[0]):
+            for i, w in enumerate(grid):
+                best = math.inf
+                for j, power in enumerate(programme.powers):
+                    t = programme.times[b, j]
+                    if power >= cp:
+                        after = w - (power - cp) * t
+                    else:
+                        after = w0 - (w0 - w) * math.exp(-(cp - power) * t / w0)
+                    position = min(max(after, 0.0), w0) / w0 * (W_LEVELS - 1)
+                    cell = min(int(position), W_LEVELS - 2)
+                    share = position - cell
+                    later = ahead[m, cell] * (1.0 - share) + ahead[m, cell + 1] * share
+                    best = min(best, (later if after >= keep else INFEASIBLE) + cost[m, b, j])
+                value[b, m, i] = best
+    return value
+
+
+def test_the_backward_pass_is_the_bellman_recursion():
+    programme, cost = _programme()
+    assert not programme.feasible.all() and programme.feasible.any()  # W′ does bind
+    assert programme.resets.sum() == 2  # two runs
+    reference = _bellman(programme, cost, 240.0, 12_000.0, 120.0)
+    value = programme._backward(cost)
+    assert np.all(value < INFEASIBLE)  # from every state some level is feasible here
+    np.testing.assert_allclose(value, reference, rtol=1e-12, atol=0.0)
+
+
+def test_the_backward_pass_keeps_the_earlier_arithmetic_bit_for_bit():
+    """The in-place form gives the values of the earlier expression (gather, blend,
+    mask, add, min) exactly, so the plans and the demo's figures stay as they were."""
+    programme, cost = _programme()
+    blocks = programme.times.shape[0]
+    earlier = np.zeros((blocks + 1, cost.shape[0], W_LEVELS))
+    for b in range(blocks - 1, -1, -1):
+        ahead = earlier[b + 1]
+        if b + 1 < blocks and programme.resets[b + 1]:
+            ahead = np.repeat(ahead[:, -1:], W_LEVELS, axis=1)
+        cell, frac = programme.cell[b], programme.frac[b]
+        later = ahead[:, cell] * (1.0 - frac) + ahead[:, cell + 1] * frac
+        total = np.where(programme.feasible[b], later, INFEASIBLE) + cost[:, b, None, :]
+        earlier[b] = total.min(axis=2)
+    assert np.array_equal(programme._backward(cost), earlier)
