@@ -27,7 +27,7 @@ def test_the_effort_line_says_the_style_the_mean_and_what_was_assumed():
     # 163.4 W rounds to 165 W (5 W steps); 163.4 / 214 = 76 %; 3,960 s is 1:06
     assert "best use of the day's effort" in text and "165 W on average, 76 % of CP" in text
     assert "the default for a ride of about 1:06" in text
-    assert "reserve above CP (W′) 15.0 kJ" in text
+    assert "W′ (work above CP) 15.0 kJ" in text and "reserve" not in text
     assert "your setting" in effort_line(_plan(given=True, duration=None, style="steady"))
     assert "steady, never above CP" in effort_line(_plan(style="steady"))
 
@@ -40,7 +40,7 @@ def test_climb_advice_says_the_power_the_time_and_the_reserve_left():
         "hold 260 W for 6 min; little left for the next 2.0 km"
     )
     assert climb_advice(_climb(230.0, 600.0, 6000.0, 900.0), plan) == (
-        "hold 230 W for 10 min; about half the reserve left at the top"
+        "hold 230 W for 10 min; about half of W′ left at the top"
     )
     assert climb_advice(_climb(201.0, 90.0, 14000.0, None), plan) == "hold 200 W for 2 min"
     assert climb_advice(_climb(263.0, 362.0, 1500.0, 2040.0), plan, "imperial").endswith("1.3 mi")

@@ -35,7 +35,8 @@ from cardgen.render import format as fmt
         (fmt.duration, 4020.0, None, "1:07"),  # 67 min
         (fmt.duration, 29.0, None, "0:00"),
         (fmt.food, 1237 * 4184.0, None, "1,240 kcal"),  # to 10 kcal
-        (fmt.battery, 217 * 3600.0, None, "215 Wh"),  # to 5 Wh
+        (fmt.battery, 217.4 * 3600.0, None, "217 Wh"),  # to 1 Wh
+        (fmt.battery, 217.5 * 3600.0, None, "218 Wh"),  # half up
         (fmt.score, 1.2345, None, "1.2"),
     ],
 )

@@ -406,15 +406,15 @@ def test_the_hill_loops_hairpins_have_their_drawn_radius(demo):
 
 
 def _rounded(printed, value):
-    """Whether ``printed`` is ``value`` on the card's battery step (5 Wh, 1 Wh below
-    100 Wh), rounded down, to the nearest or up."""
-    step = 1.0 if value < 100 else 5.0
+    """Whether ``printed`` is ``value`` on the card's battery step (1 Wh), rounded down,
+    to the nearest or up."""
+    step = 1.0
     return printed % step == 0 and abs(printed - value) < step + 1e-6
 
 
 def test_battery_figures(demo):
     """Battery: the card's "battery about N Wh" is plan.json's energy to its rounding
-    step (5 Wh, 1 Wh below 100 Wh; up or to the nearest), the usable energy never
+    step (1 Wh; up or to the nearest), the usable energy never
     above nominal × usable share (a limit, rounded down); the plan
     fits exactly when it uses at most (1 − 20 %) of the usable battery (nominal ×
     usable share); a plan that does not fit says so on the card with the 20 % reserve;
@@ -437,17 +437,15 @@ def test_battery_figures(demo):
             assert _rounded(printed, wh), (rc.gpx.name, rider.name, printed, wh)
             # the range line's reserve, the plan's share kept back
             reading = READING[(rc.gpx.name, rider.name)]  # the cautions print in columns
-            ((spend, kept, share),) = re.findall(
-                r"Range: uses up to (\d+) Wh, keeps (\d+) Wh \((\d+) %\)", reading
-            )
+            ((kept, share),) = re.findall(r"Range: keeps at least (\d+) Wh \((\d+) %\)", reading)
             assert float(share) == RESERVE * 100
-            # what may be used, rounded down from 80 % of the usable battery; what is kept,
-            # the rest of the usable figure page 1 prints (rounded down): the line adds up
-            assert _rounded(float(spend), (1 - RESERVE) * usable / 3600)
-            assert float(spend) <= (1 - RESERVE) * usable / 3600 + 1e-6
+            # what may be used, 80 % of the usable battery rounded down; what is kept,
+            # the rest of the usable figure page 1 prints (rounded down): they add up
+            spend = math.floor((1 - RESERVE) * usable / 3600 + 1e-9)
             (of,) = {float(x) for x in re.findall(r"Wh of (\d+) Wh usable", card)}
             assert _rounded(of, usable / 3600) and of <= usable / 3600 + 1e-6
-            assert float(spend) + float(kept) == of
+            assert spend + float(kept) == of
+            assert printed + float(kept) <= of
             assert _rounded(float(kept), RESERVE * usable / 3600)
             fits = totals["battery_j"] <= (1 - RESERVE) * usable
             assert totals["battery_fits"] is fits, (rc.gpx.name, rider.name)

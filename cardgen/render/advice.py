@@ -26,8 +26,8 @@ EASE_SHARE = 0.35
 
 def effort_line(plan: Plan, units: str = "metric") -> str:
     """The day's effort and style: "Pacing: steady, never above CP · 150 W on
-    average, 70 % of CP (the default for a ride of about 3:20) · reserve above CP
-    (W′) 15.0 kJ"."""
+    average, 70 % of CP (the default for a ride of about 3:20) · W′ (work above CP)
+    15.0 kJ". W′ is not called a reserve: an e-assist card has a battery reserve too."""
     e = plan.effort
     if e is None:
         return ""
@@ -35,13 +35,14 @@ def effort_line(plan: Plan, units: str = "metric") -> str:
     assumed = "your setting" if e.given else f"the default for a ride of about {fmt.duration(e.duration)}"
     return (
         f"Pacing: {STYLE_NAMES.get(e.style, e.style)} · {fmt.power(e.mean_power)} on average, "
-        f"{share * 100:.0f} % of CP ({assumed}) · reserve above CP (W′) {plan.rider.w_prime / 1000:.1f} kJ"
+        f"{share * 100:.0f} % of CP ({assumed}) · W′ (work above CP) {plan.rider.w_prime / 1000:.1f} kJ"
     )
 
 
 def climb_advice(row: ClimbRow, plan: Plan, units: str = "metric", brief: bool = False) -> str:
     """Where to spend effort on a climb: "hold 265 W for 6 min; little left for the
-    next 2.0 km". The reserve is W′, the work a rider can do above CP. ``brief``: the
+    next 2.0 km". What is left is W′, the work a rider can do above CP (named so on
+    the card's pacing line). ``brief``: the
     walking part without its length, so that climbs alike share a condensed line."""
     if row.time is None or not math.isfinite(row.time):  # the rider stalls on it
         return "not ridable at this effort (see the notes)"
@@ -54,9 +55,9 @@ def climb_advice(row: ClimbRow, plan: Plan, units: str = "metric", brief: bool =
         after = row.recovered_after
         if after is not None and after > 0:
             return f"{text}; little left for the next {fmt.distance(after, units)}"
-        return f"{text}; little reserve left at the top"
+        return f"{text}; little W′ left at the top"
     if left < SOME_LEFT:
-        return f"{text}; about half the reserve left at the top"
+        return f"{text}; about half of W′ left at the top"
     return text
 
 

@@ -146,8 +146,10 @@ def _pacing(plan: Plan) -> dict[str, Any] | None:
         "ceiling_w": _num(e.ceiling, 1),
         "given": e.given,
         "assumed_duration_s": _num(e.duration, 0),
-        "battery_empty_at_m": _num(e.battery_empty_at, 0),
-        "assist_off_at_m": _num(e.assist_off_at, 0),
+        # to the centimetre, as other places along the route: to the metre, 6,749.97 m
+        # (printed 6.7 km) read as 6,750 m, which rounds to 6.8 km
+        "battery_empty_at_m": _num(e.battery_empty_at, 2),
+        "assist_off_at_m": _num(e.assist_off_at, 2),
         "text": effort_line(plan),
     }
 

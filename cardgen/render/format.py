@@ -3,7 +3,7 @@ site's units. Pure functions of SI values; the templates call them as filters.
 
 Rounding (what a model estimate supports): power to 5 W, speed to 0.5 km/h (or
 0.5 mph), time to the minute, distance to 0.1 km (or 0.1 mi), height to 1 m (or 5 ft),
-grade to 0.5 %, food energy to 10 kcal, battery to 5 Wh (1 Wh below 100 Wh); a curve's radius down to
+grade to 0.5 %, food energy to 10 kcal, battery to 1 Wh; a curve's radius down to
 1 m below 30 m, 5 m below 100 m, else 10 m (5 ft in imperial units). Limits round
 toward caution: a speed to slow to, a power to hold and a usable battery share round
 down.
@@ -219,13 +219,13 @@ def _up(value: float, step: float) -> float:
 def battery_wh(joules: float, rounding: str = "nearest") -> float:
     """Battery energy [Wh] as :func:`battery` prints it."""
     wh = joules / J_PER_WH
-    step = 1 if wh < 100 else 5
-    return float({"down": _down, "up": _up}.get(rounding, _nearest)(wh, step))
+    return float({"down": _down, "up": _up}.get(rounding, _nearest)(wh, 1))
 
 
 @_dash_if_missing
 def battery(joules: float, rounding: str = "nearest") -> str:
-    """ "215 Wh": to 5 Wh, and to 1 Wh below 100 Wh. ``rounding="down"`` for what can
+    """ "213 Wh": to 1 Wh, so that what is drawn and what is kept add up to the usable
+    figure on every page. ``rounding="down"`` for what can
     be drawn (a limit: 54 Wh usable prints as 54 Wh, never 55), ``"up"`` for what the
     plan needs."""
     return f"{battery_wh(joules, rounding):.0f} Wh"

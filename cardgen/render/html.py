@@ -176,6 +176,7 @@ def environment(override: Path | None = None, units: str = "metric") -> jinja2.E
         cautions_for=cautions_for,
         legend_for=legend_for,
         assist_plan=assist_plan,
+        battery_use=battery_use,
     )
     return env
 
@@ -258,21 +259,48 @@ def assist_plan(plan: Plan, units: str) -> str:
     return f"{level} until {fmt.distance(off, units)}, then off: {keeps}"
 
 
-def assist_range(plan: Plan) -> str:
-    """The e-assist range line, one statement: what the plan may use of the usable
-    battery and what it keeps back ("Range: uses up to 360 Wh, keeps 90 Wh (20 %)"; the
-    two add up to the usable figure page 1 gives), and what shortens the range. What
-    may be used rounds down (a limit); what is kept is the rest of the usable figure as
-    printed, so the line adds up. No longer than the line it replaced: a longer one
-    added a page to large-print e-assist cards."""
+def battery_figures(plan: Plan) -> tuple[float, float, float] | None:
+    """The battery figures a card, a coach sheet and a range line print [Wh], one
+    rounding each so that they agree wherever they appear: (drawn, usable, kept).
+    Usable rounds down (a limit); drawn rounds up (a need) but never past the share
+    the plan may draw (usable less :data:`BATTERY_RESERVE`, rounded down) when the
+    plan keeps the reserve; kept is the rest of the printed usable figure above that
+    share, so drawn + kept never exceeds usable on paper. None without a motor."""
     motor = plan.motor
     if motor is None:
-        return ""
+        return None
     usable = fmt.battery_wh(motor.usable_battery, "down")
-    spend = fmt.battery_wh(motor.usable_battery * (1.0 - BATTERY_RESERVE), "down")
+    limit = fmt.battery_wh(motor.usable_battery * (1.0 - BATTERY_RESERVE), "down")
+    drawn = fmt.battery_wh(plan.totals.battery or 0.0, "up")
+    if plan.totals.battery_fits:
+        drawn = min(drawn, limit)
+    return drawn, usable, usable - limit
+
+
+def battery_use(plan: Plan) -> str:
+    """ "108 Wh of 135 Wh": what the plan draws of the usable battery ("" without a
+    motor), the figures of :func:`battery_figures`."""
+    figures = battery_figures(plan)
+    if figures is None:
+        return ""
+    drawn, usable, _ = figures
+    return f"{drawn:.0f} Wh of {usable:.0f} Wh"
+
+
+def assist_range(plan: Plan) -> str:
+    """The e-assist range line, one statement: what the plan keeps back of the usable
+    battery ("Range: keeps at least 27 Wh (20 %)"; the figures of
+    :func:`battery_figures`, so it adds up with page 1's "108 Wh of 135 Wh"), what
+    shortens the range, and that the rider should be able to finish with the motor
+    off. No longer than the line it replaced: a longer one added a page to
+    large-print e-assist cards."""
+    figures = battery_figures(plan)
+    if figures is None:
+        return ""
+    kept = figures[2]
     return (
-        f"Range: uses up to {spend:.0f} Wh, keeps {usable - spend:.0f} Wh ({BATTERY_RESERVE * 100:.0f} %); "
-        "cold, age, load cut it: plan to finish unassisted."
+        f"Range: keeps at least {kept:.0f} Wh ({BATTERY_RESERVE * 100:.0f} %); "
+        "cold, age, load cut it: be able to finish with assist off."
     )
 
 
