@@ -8,6 +8,7 @@ import io
 import json
 import os
 import pickle
+import shutil
 import subprocess
 
 import pytest
@@ -81,3 +82,22 @@ def demo_site(tmp_path_factory):
             out.parent.mkdir(exist_ok=True)
             built.write_bytes(pickle.dumps(build_site(config, out, jobs=2)))
     return config, out, pickle.loads(built.read_bytes())
+
+
+@pytest.fixture(scope="session")
+def large_print_demo(tmp_path_factory):
+    """The demo event in large print: a copy of its folder with ``large_print = true``,
+    built once per test process. Returns (config, site folder, report)."""
+    from cardgen.build import build_site
+    from cardgen.config import load_config
+    from cardgen.paths import demo_site
+
+    src = tmp_path_factory.mktemp("large-demo") / "src"
+    shutil.copytree(demo_site().parent, src, ignore=shutil.ignore_patterns("__pycache__", "*.py"))
+    toml = src / "site.toml"
+    text = toml.read_text(encoding="utf-8")
+    assert "large_print = false" in text
+    toml.write_text(text.replace("large_print = false", "large_print = true"), encoding="utf-8")
+    config = load_config(toml)
+    out = src.parent / "site"
+    return config, out, build_site(config, out, jobs=2)

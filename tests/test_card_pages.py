@@ -6,6 +6,7 @@ something of the card above them (never a page of cautions alone)."""
 
 from __future__ import annotations
 
+import html
 import re
 import shutil
 from pathlib import Path
@@ -56,8 +57,9 @@ def check_page_counts(pdf: Path, top_pt: float) -> list[int]:
     return counts
 
 
-def test_page_n_of_m_counts_the_cards_own_pages(demo_site):
-    config, out, _ = demo_site
+@pytest.mark.parametrize("site", ["demo_site", "large_print_demo"])
+def test_page_n_of_m_counts_the_cards_own_pages(site, request):
+    config, out, _ = request.getfixturevalue(site)
     top = float(page_geometry(config.card_size, config.large_print)["margins"].split("mm")[0]) * MM
     padded = 0
     for pdf in _cards(out):
@@ -65,7 +67,9 @@ def test_page_n_of_m_counts_the_cards_own_pages(demo_site):
         (m,) = check_page_counts(pdf, top)
         assert m == sum(1 for page in words if page), pdf  # M: the pages with anything on them
         padded += len(words) - m
-    assert padded > 0  # the demo has cards padded to a whole sheet (the day ride's)
+    # the large-print demo has cards padded to a whole sheet (the day ride's; in A5 it
+    # fits its two pages)
+    assert padded > 0 or not config.large_print
     for pack in sorted(out.glob("*/all-cards.pdf")):
         singles = [
             len([p for p in _words(c) if p]) for c in sorted(pack.parent.glob("*.pdf")) if c in _cards(out)
@@ -90,8 +94,9 @@ def check_cautions(pdf: Path, top_pt: float) -> None:
     assert above, f"{pdf.name}: page {i + 1} holds only the cautions"
 
 
-def test_the_cautions_are_whole_and_never_alone_on_a_page(demo_site):
-    config, out, _ = demo_site
+@pytest.mark.parametrize("site", ["demo_site", "large_print_demo"])
+def test_the_cautions_are_whole_and_never_alone_on_a_page(site, request):
+    config, out, _ = request.getfixturevalue(site)
     top = float(page_geometry(config.card_size, config.large_print)["margins"].split("mm")[0]) * MM
     for pdf in _cards(out):
         check_cautions(pdf, top)
@@ -116,3 +121,71 @@ def test_a_coach_sheet_fills_its_pages(tmp_path):
     assert fill[0] > 0.9
     second = " ".join(w[4] for w in _words(pdf)[1][:60])
     assert "Rider" in second  # the page goes on under a table's repeated head
+
+
+# -- page breaks that read well -------------------------------------------------------
+
+#: The running footer's phrases: a line may end after any of them, never inside one
+#: (the A5 footer once ended a line on "cautions: at the" with "end" alone below).
+FOOTER_PHRASES = (
+    "Model estimates, not guarantees ·",
+    "roads open to traffic:",
+    "local road rules apply ·",
+    "cautions: at the end",
+)
+#: At least this many rows of the cue sheet on the page that ends it, when it began
+#: on an earlier page (the finish is never carried over alone).
+CUE_TAIL_ROWS = 2
+ROW = re.compile(r"[\d.]+ (km|mi) .* \d\d:\d\d$")
+
+
+def _lines(page) -> list[str]:
+    """A page's text lines, top to bottom: words whose tops are within 1 pt, in x order
+    (XML entities of the word boxes read back as their characters)."""
+    lines: list[list] = []
+    for word in sorted(page, key=lambda w: (w[1], w[0])):
+        if lines and abs(lines[-1][0][1] - word[1]) < 1:
+            lines[-1].append(word)
+        else:
+            lines.append([word])
+    return [html.unescape(" ".join(w[4] for w in sorted(line))) for line in lines]
+
+
+def break_problems(pdf: Path) -> list[str]:
+    """What reads badly at the page breaks of a card: a footer line broken inside a
+    phrase; a cue sheet whose last page holds fewer than :data:`CUE_TAIL_ROWS` of its
+    rows; the food table away from its heading, or its guide away from its last row
+    (the table's rows may run on to the next page, but not away from either)."""
+    problems = []
+    for number, page in enumerate((p for p in _words(pdf) if p), 1):
+        lines = _lines(page)
+        text = " ".join(lines)
+        footer = [line for line in lines if any(w in line for w in ("guarantees", "road rules", "cautions:"))]
+        for phrase in FOOTER_PHRASES:
+            if not any(phrase in line for line in footer):
+                problems.append(f"page {number}: footer phrase {phrase!r} broken: {footer}")
+        finish = [i for i, line in enumerate(lines) if re.fullmatch(r"[\d.]+ (km|mi) Finish \d\d:\d\d", line)]
+        if finish and "Cue sheet" not in text:
+            head = max(i for i, line in enumerate(lines[: finish[0]]) if line.startswith("At Cue Next"))
+            rows = [line for line in lines[head + 1 : finish[0] + 1] if ROW.fullmatch(line)]
+            if len(rows) < CUE_TAIL_ROWS:
+                problems.append(f"page {number}: the cue sheet ends with {len(rows)} row(s): {rows}")
+        # the heading over the table's head and first row; the guide whole, after a row
+        if "Food and fluids" in text and not re.search(r"Food and fluids Leg to [^·]*? L\b", text):
+            problems.append(f"page {number}: the food heading without its table")
+        if "A starting guide" in text and not re.search(r" L A starting guide.* clinician's plan\.", text):
+            problems.append(f"page {number}: the food guide away from its table, or split")
+    return problems
+
+
+@pytest.mark.parametrize("site", ["demo_site", "large_print_demo"])
+def test_page_breaks_read_well(site, request):
+    """Every card of the demo, in its A5 print and in large print, read back from the
+    PDF. Before this, on the A5 demo: every footer broke "cautions: at the / end",
+    the handcycle's cue sheet carried its Finish row alone on to page 2, and the cargo
+    bike's food table stood on page 1 with its guide on page 2."""
+    _, out, _ = request.getfixturevalue(site)
+    cards = _cards(out)
+    assert len(cards) == 9
+    found = {card.relative_to(out).as_posix(): break_problems(card) for card in cards}
+    assert not any(found.values()), {k: v for k, v in found.items() if v}

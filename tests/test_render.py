@@ -116,7 +116,9 @@ def test_cautions_on_every_card_page(demo_site):
             if page.strip():  # the short form at the foot of every page
                 assert "model estimate" in page.lower() and "road rules apply" in page, pdf
         if pdf.name not in ("coach.pdf", "day-sheet.pdf"):  # and every caution in full at a card's end
-            pages = [" ".join(p.split()) for p in _pdftotext(pdf).strip("\f").split("\f")]
+            # in reading order (not -layout, which interleaves the map's labels beside them)
+            reading = subprocess.run(["pdftotext", str(pdf), "-"], capture_output=True, text=True, check=True)
+            pages = [" ".join(p.split()) for p in reading.stdout.strip("\f").split("\f")]
             ends = " ".join(pages[-2:])  # they may start on the page before the last
             tail = ends[ends.rfind("Before you ride") :]
             assert "Before you ride" in ends and "qualified professional" in tail, pdf

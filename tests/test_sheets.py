@@ -17,6 +17,7 @@ from pypdf import PdfReader
 
 from cardgen.build import build_site
 from cardgen.config import load_config
+from cardgen.render.pages import page_geometry
 
 pytestmark = [
     pytest.mark.slow,
@@ -81,32 +82,56 @@ def test_nothing_the_demo_prints_is_below_7_5_pt(demo_site):
         assert sizes and min(sizes) >= 7.5 - 0.05, (pdf.relative_to(out), sorted(sizes.items())[:3])
 
 
-def test_a_card_fills_its_first_sheet_before_a_continuation(demo_site):
-    """The demo's A5 cards (12 mm top and 14 mm bottom margin): a card of more than
-    two pages runs on from page 2 (its cue sheet is not moved to a sheet of its own):
-    the cue sheet starts by page 2, and page 2 is written at least 90 % of the way
-    down unless the whole cue sheet ends on it (what follows, the route map, is a
-    drawing that cannot split). Before this, the day ride's four cards took four pages
-    each with page 2 about half empty (0.56–0.66) and the cue sheet on page 3."""
-    _, out, _ = demo_site
+def test_a_card_fills_its_first_sheet_before_a_continuation(demo_site, large_print_demo):
+    """The demo's cards, A5 and large print (margins from ``page_geometry``): a card of
+    more than its budget runs on from its last page within budget (its cue sheet is
+    not moved to a sheet of its own): the cue sheet starts by then, and the page before
+    the continuation is written at least 90 % of the way down unless the whole cue
+    sheet ends on it (what follows, the route map, is a drawing that cannot split;
+    in large print 75 %, below) or the next page carries only the cue sheet's last
+    cue and finish, taken with the cautions.
+    Before this, the day ride's four cards took four pages each with page 2 about half
+    empty (0.56–0.66) and the cue sheet on page 3. (The A5 day ride now fits its two
+    pages; in large print it runs on.)"""
+    continued = 0
+    for config, out, _ in (demo_site, large_print_demo):
+        page = page_geometry(config.card_size, config.large_print)
+        top, _, bottom, _ = (float(m) for m in page["margins"].replace("mm", "").split())
+        # large print: a page may end before what cannot split, each up to a sixth of a
+        # page in 14 pt: the food guide (kept with the table's last row), a cue and its
+        # note, the cue sheet's last rows (taken with the cautions: never alone there)
+        full = 0.75 if config.large_print else 0.9
+        continued += _continued(out, page["budget"], top, bottom, full)
+    assert continued >= 1  # the day ride's large-print cards run on to a second sheet
+
+
+def _continued(out: Path, budget: int, top: float, bottom: float, full: float) -> int:
+    """Check the continued cards of a demo build (see above); returns how many."""
     continued = 0
     for folder in sorted(p for p in out.iterdir() if p.is_dir()):
         for card in _cards(folder):
-            fill = _fill(card, 12, 14)
-            assert len(fill) in (2, 4), (card, fill)
-            if len(fill) == 4:
+            fill = _fill(card, top, bottom)
+            # within budget, or run on and ended on a whole sheet (an even count)
+            assert len(fill) <= budget or (len(fill) % 2 == 0 and len(fill) <= 2 * budget), (card, fill)
+            if len(fill) > budget:
                 continued += 1
                 words = [" ".join(w[4] for w in page) for page in _words(card)]
                 # the cue sheet's heading over its table, and its last row (not the
                 # food table's "Finish (95.0 km)")
-                assert re.search(r"Cue sheet At Cue", " ".join(words[:2])), card.relative_to(out)
-                ends = re.search(r"\d (km|mi) Finish\b", words[1])
-                assert fill[0] >= 0.9 and (fill[1] >= 0.9 or ends), (
+                assert re.search(r"Cue sheet At Cue", " ".join(words[:budget])), card.relative_to(out)
+                ends = re.search(r"\d (km|mi) Finish\b", words[budget - 1])
+                # or the next page carries only the cue sheet's last cue and its finish,
+                # which go with the cautions (never alone on their page)
+                carried = words[budget].split("Before you ride")[0]
+                tail = (
+                    len(re.findall(r"\b\d\d:\d\d\b", carried)) <= 2 and "Cue sheet" not in carried
+                )  # a time a row
+                assert min(fill[: budget - 1]) >= full and (fill[budget - 1] >= full or ends or tail), (
                     card.relative_to(out),
                     fill,
                 )
-                assert fill[2] > 0  # the card runs on: the third page is not the blank back
-    assert continued >= 1  # the day ride's e-assist card runs on to a second sheet
+                assert fill[budget] > 0  # the card runs on: the next page is not the blank back
+    return continued
 
 
 # -- a short outing in large print ----------------------------------------------------
@@ -168,16 +193,56 @@ def test_large_print_map_reads_at_the_body_size(large_outing):
     measure on the card before this gave the e-assist card's thumbnail map 18.7 mm
     with labels 9.3 pt tall against the body's 16.3."""
     for card in _cards(large_outing):
-        pages = _words(card)
-        body = sorted(y1 - y0 for page in pages for _, y0, _, y1, text in page if text == "Finish")
-        assert body, card.name
-        page = next(p for p in pages if any(text == "N" for *_, text in p))
-        north = next(w for w in page if w[4] == "N")
-        bar = _scale_label(page, north[3])
-        assert bar is not None, card.name
-        assert north[3] - north[1] >= body[0] - 0.2, (card.name, north, body[0])
-        assert bar[3] - bar[1] >= body[0] - 0.2, (card.name, bar, body[0])
-        assert bar[1] - north[1] >= 28 * MM, (card.name, (bar[1] - north[1]) / MM)
+        check_map_reads(card)
+
+
+def check_map_reads(card: Path) -> None:
+    """The card's map labels (N, the scale bar's) are as tall as its "Finish" (body
+    text), and the map is at least 28 mm from its north arrow to its scale bar."""
+    pages = _words(card)
+    body = sorted(y1 - y0 for page in pages for _, y0, _, y1, text in page if text == "Finish")
+    assert body, card.name
+    page = next(p for p in pages if any(text == "N" for *_, text in p))
+    north = next(w for w in page if w[4] == "N")
+    bar = _scale_label(page, north[3])
+    assert bar is not None, card.name
+    assert north[3] - north[1] >= body[0] - 0.2, (card.name, north, body[0])
+    assert bar[3] - bar[1] >= body[0] - 0.2, (card.name, bar, body[0])
+    assert bar[1] - north[1] >= 28 * MM, (card.name, (bar[1] - north[1]) / MM)
+
+
+#: The demo's short outings: the hill loop (26 km), the accessible path and the
+#: riverside loop (the 95 km day ride may run on to a continuation sheet).
+SHORT_OUTINGS = ("hill-loop", "accessible-path", "riverside-loop")
+
+
+def test_the_demos_short_outings_in_large_print_keep_within_four_pages(large_print_demo):
+    """Every card of the demo's short outings in large print: at most four A5 pages,
+    with a map that reads (:func:`check_map_reads`). Before this the hill loop's three
+    cards took six pages each (five and a blank back): the profile, a drawing that
+    cannot split, left a third of page 1 empty; the cue sheet's notes ran down a column
+    a few words wide; and the map took a page's width above the cautions, which then
+    started a page of their own."""
+    _, out, _ = large_print_demo
+    cards = [card for route in SHORT_OUTINGS for card in _cards(out / route)]
+    assert len(cards) == 6
+    for card in cards:
+        assert len(PdfReader(card).pages) <= 4, card.relative_to(out)
+        check_map_reads(card)
+
+
+def test_large_print_keeps_its_type_size(large_print_demo):
+    """Large print promises 14 pt type: on every card of the demo in large print the
+    body (the size of most of the characters) is 14 pt, and nothing is smaller than
+    12 pt (the running header and footer, the event's name over the title, the
+    profile's axis labels). The event's name printed at 11.9 pt before."""
+    _, out, _ = large_print_demo
+    cards = sorted(p for p in out.glob("*/*.pdf") if p.stem not in ("coach", "all-cards", "all-cards-2up"))
+    assert len(cards) == 9
+    for card in cards:
+        sizes = font_sizes(card)
+        assert sizes.most_common(1)[0][0] == pytest.approx(14, abs=0.05), card.name
+        assert min(sizes) >= 12 - 0.05, (card.relative_to(out), sorted(sizes.items())[:3])
 
 
 # -- the assist levels ----------------------------------------------------------------
