@@ -11,6 +11,7 @@ from datetime import datetime, timedelta
 from pathlib import Path
 
 import pytest
+from buildkit import pdf_text
 
 from cardgen.build import build_site
 from cardgen.config import load_config
@@ -178,3 +179,13 @@ def test_the_index_links_the_day_sheet(demo_site):
     index = (out / "index.html").read_text()
     for name in ("day-sheet.pdf", "day-sheet.csv"):
         assert f'href="{name}"' in index and (out / name).is_file()
+
+
+def test_the_sheet_says_who_stays_for_a_sweep_after_closing(demo_site):
+    """A trial read Chk4 "closes 12:10" beside "sweep 12:44" as a point left empty
+    before the sweep arrives: the sheet says the window is the riders' and the staff
+    stay for the sweep, and on the demo that case does occur."""
+    _, out, _ = demo_site
+    rows = list(csv.DictReader((out / "day-sheet.csv").read_text(encoding="utf-8").splitlines()))
+    assert any(_t(r["sweep"]) > _t(r["closes"]) for r in rows)
+    assert "the point's staff stay until it has passed" in pdf_text(out / "day-sheet.pdf").replace("’", "'")

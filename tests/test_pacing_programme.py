@@ -78,3 +78,48 @@ def test_the_backward_pass_keeps_the_earlier_arithmetic_bit_for_bit():
         total = np.where(programme.feasible[b], later, INFEASIBLE) + cost[:, b, None, :]
         earlier[b] = total.min(axis=2)
     assert np.array_equal(programme._backward(cost), earlier)
+
+
+def test_the_forward_pass_keeps_the_earlier_choices():
+    """The forward pass (the exact balance along each run, the best level against the
+    values ahead) chooses exactly what the earlier expression chose."""
+    programme, cost = _programme()
+    value = programme._backward(cost)
+    blocks = programme.times.shape[0]
+    m = cost.shape[0]
+    w0 = programme.w_prime
+    earlier = np.empty((m, blocks), dtype=np.int64)
+    w = np.full(m, w0)
+    for b in range(blocks):
+        if programme.resets[b]:
+            w = np.full(m, w0)
+        after = np.where(
+            programme.above[None, :],
+            w[:, None] - programme.spend[b][None, :],
+            w0 - (w0 - w[:, None]) * programme.decay[b][None, :],
+        )
+        position = np.clip(after, 0.0, w0) / w0 * (W_LEVELS - 1)
+        cell = np.minimum(position.astype(np.int64), W_LEVELS - 2)
+        frac = position - cell
+        ahead = value[b + 1]
+        if b + 1 < blocks and programme.resets[b + 1]:
+            ahead = np.repeat(ahead[:, -1:], W_LEVELS, axis=1)
+        rows = np.arange(m)[:, None]
+        later = ahead[rows, cell] * (1.0 - frac) + ahead[rows, cell + 1] * frac
+        total = np.where(after >= programme.floor, later, INFEASIBLE) + cost[:, b, :]
+        earlier[:, b] = np.argmin(total, axis=1)
+        w = np.maximum(after[np.arange(m), earlier[:, b]], 0.0)
+    chosen = programme._forward(cost, value)
+    assert np.array_equal(chosen, earlier)
+    assert np.unique(chosen).size > 3  # the levels do vary along the route
+    # W′ never planned below the floor along the chosen levels (Skiba et al. 2015)
+    for row in range(m):
+        w = w0
+        for b in range(blocks):
+            if programme.resets[b]:
+                w = w0
+            j = chosen[row, b]
+            t, power = programme.times[b, j], programme.powers[j]
+            cp = 240.0
+            w = w - (power - cp) * t if power >= cp else w0 - (w0 - w) * math.exp(-(cp - power) * t / w0)
+            assert w >= programme.floor - 1e-9

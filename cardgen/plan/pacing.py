@@ -579,7 +579,8 @@ class _Programme:
         values ahead: (m, window blocks)."""
         blocks = self.times.shape[0]
         m = cost.shape[0]
-        rows = np.arange(m)[:, None]
+        rows = np.arange(m)
+        base = rows[:, None] * W_LEVELS  # row offsets into a flattened (m, W) array
         chosen = np.empty((m, blocks), dtype=np.int64)
         w = np.full(m, self.w_prime)
         for b in range(blocks):
@@ -590,17 +591,29 @@ class _Programme:
                 w[:, None] - self.spend[b][None, :],
                 self.w_prime - (self.w_prime - w[:, None]) * self.decay[b][None, :],
             )
-            position = np.clip(after, 0.0, self.w_prime) / self.w_prime * (W_LEVELS - 1)
+            position = np.clip(after, 0.0, self.w_prime)
+            position /= self.w_prime
+            position *= W_LEVELS - 1
             cell = np.minimum(position.astype(np.int64), W_LEVELS - 2)
             frac = position - cell
             ahead = value[b + 1]
             if b + 1 < blocks and self.resets[b + 1]:
                 ahead = np.repeat(ahead[:, -1:], W_LEVELS, axis=1)
-            later = ahead[rows, cell] * (1.0 - frac) + ahead[rows, cell + 1] * frac
-            total = np.where(after >= self.floor, later, INFEASIBLE) + cost[:, b, :]
-            k = np.argmin(total, axis=1)
+            # ahead[cell]·(1 − frac) + ahead[cell + 1]·frac, gathered from the flat array
+            # (the pass is bound by its many small operations per block)
+            flat = ahead.ravel()
+            cell += base
+            total = flat.take(cell)
+            total *= 1.0 - frac
+            cell += 1
+            upper = flat.take(cell)
+            upper *= frac
+            total += upper
+            total[after < self.floor] = INFEASIBLE
+            total += cost[:, b, :]
+            k = total.argmin(axis=1)
             chosen[:, b] = k
-            w = np.maximum(after[np.arange(m), k], 0.0)
+            w = np.maximum(after[rows, k], 0.0)
         return chosen
 
 
