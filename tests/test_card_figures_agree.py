@@ -44,6 +44,20 @@ flat_w = 90
 climb_w = 130
 assist_between_climbs = 2
 battery_wh = 150
+
+[[riders]]
+name = "City rider"
+vehicle = "city-upright"
+cp_w = 150
+flat_w = 100
+climb_w = 150
+
+[[riders]]
+name = "Tandem pair"
+vehicle = "tandem"
+cp_w = 360
+flat_w = 240
+climb_w = 340
 """
 
 #: The cargo bike's motor may draw 90 % of its nominal battery (cardgen's eu-pedelec
@@ -73,11 +87,15 @@ def pages(pdf: Path) -> list[str]:
     return [" ".join(page.split()) for page in raw.split("\f") if page.strip()]
 
 
+def plans(out: Path) -> dict:
+    return {p["rider"]["name"]: p for p in json.loads((out / "plan.json").read_text())["plans"]}
+
+
 def test_battery_figures_agree_on_both_pages_the_coach_sheet_and_plan_json(outing):
     """Seen failing on the old code: page 1 said "battery about 110 Wh of 135 Wh usable",
     page 2 "uses up to 105 Wh, keeps 30 Wh (20 %)" while plan.json drew 108 Wh and 20 %
     of 135 Wh is 27 Wh."""
-    (plan,) = json.loads((outing / "plan.json").read_text())["plans"]
+    plan = plans(outing)["Small battery"]
     card = pages(outing / "small-battery.pdf")
     assert len(card) >= 2
     whole = " ".join(card)
@@ -112,3 +130,40 @@ def test_w_prime_is_not_called_a_reserve_beside_the_battery_reserve(outing):
     assert "W′ (work above CP) 9.1 kJ" in whole  # cp 130 W, W′ the default 70 s × CP
     assert "reserve above CP" not in whole and "reserve left" not in whole
     assert "finish unassisted" not in whole and "be able to finish with assist off" in whole
+
+
+def _curves(plan: dict) -> list[tuple[str, str]]:
+    """(place, speed) of every curve notice in plan.json, as the card prints them: the
+    place to 0.1 km half up, the speed plan.json gives, already the card's rounded-down figure
+    (docs/contracts.md), to 0.5 km/h."""
+    notices = [w for d in plan["descents"] for w in d["warnings"]] + plan["warnings"]
+    return [
+        (
+            f"{math.floor(w['at_m'] / 100 + 0.5 + 1e-9) / 10:.1f} km",
+            f"{round(w['slow_to_m_s'] * 3.6 * 2) / 2:.1f}",
+        )
+        for w in notices
+        if w["code"] == "curve"
+    ]
+
+
+@pytest.mark.parametrize("name", ["City rider", "Tandem pair", "Small battery"])
+def test_each_curve_is_printed_with_its_own_speed(outing, name):
+    """Seen failing on the old code: "6 curves at 11.4 km, … 13.5 km: slow to 17.5 km/h"
+    where plan.json asked 37.0, 35.5, 17.5, 18.0, 39.0 and 35.5 km/h. The card and the
+    coach sheet give every curve its own speed, and no curve another's."""
+    plan = plans(outing)[name]
+    curves = _curves(plan)
+    assert curves
+    card = " ".join(pages(outing / f"{name.lower().replace(' ', '-')}.pdf"))
+    coach = " ".join(pages(outing / "coach.pdf"))
+    for place, speed in curves:
+        # a card with room prints each notice whole; a condensed card and the coach
+        # sheet list the places, each with its speed
+        whole = f"at {place}: slow to {speed} km/h or less"
+        listed = re.compile(rf"(?:slow to|,) {re.escape(speed)}(?: km/h)? at {re.escape(place)}")
+        assert whole in card or listed.search(card), (name, place, speed)
+        assert listed.search(coach), (name, place, speed)
+    speeds = {speed for _, speed in curves}
+    if len(speeds) > 1:  # the old grouped line: one speed for all
+        assert not re.search(r"curves at [^:]*: slow to", card + coach)

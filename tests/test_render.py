@@ -389,5 +389,5 @@ def test_condensed_descent_notes_are_words_not_codes():
         )
     )
     line = descent_brief(row, "metric")
-    assert "1 curve at 1.5 km: slow to 18.0 km/h" in line and "hold under 50.0 km/h" in line
+    assert "curve: slow to 18.0 km/h at 1.5 km" in line and "hold under 50.0 km/h" in line
     assert "steepest 100 m at" in line and "steep;" not in line and not line.endswith("steep")

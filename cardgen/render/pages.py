@@ -457,11 +457,13 @@ def _render_route(config, site: dict, job: RouteJob, folder: Path) -> RoutePages
             watch=watch,
             watch_codes={"battery", "stall"},
             cue_rows=cue_rows(view.plan),
-            descent_brief=functools.partial(descent_brief, units=units, skip=said),
+            descent_brief=functools.partial(descent_brief, units=units, skip=said, each=False),
             descent_notes=functools.partial(descent_notes, skip=said),
             short_name=short_name,
-            descents_brief=functools.partial(descents_brief, units=units, skip=said),
-            warnings_brief=functools.partial(warnings_brief, units=units, skip={"battery", "stall"}),
+            descents_brief=functools.partial(descents_brief, units=units, skip=said, each=False),
+            warnings_brief=functools.partial(
+                warnings_brief, units=units, skip={"battery", "stall"}, each=False
+            ),
         )
         # a continuation variant is the same HTML as its step within the budget (the
         # card flows on), so the fitter measures each step once
@@ -623,24 +625,42 @@ def _all_warnings(plan: Plan):
         yield from descent.warnings
 
 
-def _curve_places(curves, units: str) -> tuple[str, str]:
-    """Where the curve notices are, as a list of distances, and the slowest speed any
-    of them asks for (rounded down, toward caution)."""
-    places = ", ".join(fmt.distance(w.value("where"), units) for w in curves)
-    return places, fmt.speed(min(w.value("speed") for w in curves), units, "down")
+#: Most curves a card's condensed line lists each with its speed; more are given as
+#: the range of speeds and the slowest (a list of 14 added a sheet to the tandem's card).
+CURVES_LISTED = 4
 
 
-def descents_brief(rows, units: str, skip=frozenset()) -> list[str]:
+def _curve_words(curves, units: str, each: bool = True) -> str:
+    """What a line of curve notices says after its subject, each curve keeping its own
+    speed (rounded down, toward caution): ": slow to 37.0 km/h at 11.4 km, 17.5 at
+    12.1 km"; on a card with more than :data:`CURVES_LISTED` curves (``each`` false)
+    " at 11.4–13.5 km: slow to 17.5–39.0 km/h, slowest at 12.1 km". A grouped line
+    that gave the slowest speed for all asked 17.5 km/h of a curve the rider may take
+    at 37.0 km/h, a warning riders learn to ignore."""
+    said = [fmt.speed(w.value("speed"), units, "down") for w in curves]
+    places = [fmt.distance(w.value("where"), units) for w in curves]
+    if each or len(curves) <= CURVES_LISTED:
+        rest = "".join(
+            f", {speed.rsplit(' ', 1)[0]} at {place}"
+            for speed, place in zip(said[1:], places[1:], strict=True)
+        )
+        return f": slow to {said[0]} at {places[0]}{rest}"
+    tight = min(range(len(curves)), key=lambda i: curves[i].value("speed"))
+    high = max(said, key=lambda x: float(x.rsplit(" ", 1)[0]))
+    span = high if said[tight] == high else f"{said[tight].rsplit(' ', 1)[0]}–{high}"
+    return f" at {places[0].rsplit(' ', 1)[0]}–{places[-1]}: slow to {span}, slowest at {places[tight]}"
+
+
+def descents_brief(rows, units: str, skip=frozenset(), each: bool = True) -> list[str]:
     """All descents' notes in a few lines (the second condensing step): every curve
-    on them in one line (where, and the slowest speed), and the descents where coasting
+    on them in one line (where, and the speed each asks for), and the descents where coasting
     would pass the vehicle's limit in another. Codes in ``skip`` are said elsewhere
     (the "Watch for" box: a warning is said once on a card)."""
     curves = [w for row in rows for w in row.warnings if w.code == "curve"]
     fast = [row for row in rows if any(w.code == "fast" for w in row.warnings)] if "fast" not in skip else []
     lines = []
     if curves:
-        places, slowest = _curve_places(curves, units)
-        lines.append(f"Curves on the descents at {places}: slow to {slowest} or less.")
+        lines.append(f"Curves on the descents{_curve_words(curves, units, each)}.")
     if fast:
         cap = min(w.value("cap") for row in fast for w in row.warnings if w.code == "fast")
         numbers = ", ".join(str(row.number) for row in fast)
@@ -654,15 +674,15 @@ def descent_notes(row, skip=frozenset()) -> list:
     return [w for w in row.warnings if w.code not in skip]
 
 
-def descent_brief(row, units: str, skip=frozenset()) -> str:
-    """A descent's notes in one line (the first condensing step): its curves as the
-    slowest speed and where they are, and the speed limit where coasting would pass it
+def descent_brief(row, units: str, skip=frozenset(), each: bool = True) -> str:
+    """A descent's notes in one line (the first condensing step): its curves, where
+    they are and the speed each asks for, and the speed limit where coasting would pass it
     (unless ``skip`` holds its code: said in the "Watch for" box)."""
     curves = [w for w in row.warnings if w.code == "curve"]
     parts = []
     if curves:
-        places, slowest = _curve_places(curves, units)
-        parts.append(f"{len(curves)} curve{'s' if len(curves) > 1 else ''} at {places}: slow to {slowest}")
+        word = "curve" if len(curves) == 1 else f"{len(curves)} curves"
+        parts.append(f"{word}{_curve_words(curves, units, each)}")
     for w in descent_notes(row, skip):
         if w.code == "fast":
             parts.append(f"hold under {fmt.speed(w.value('cap'), units)}")
@@ -680,9 +700,9 @@ def short_name(name: str) -> str:
     return _NUMBERED.sub("", name) or name
 
 
-def warnings_brief(warnings, units: str, skip=frozenset()) -> list[str]:
+def warnings_brief(warnings, units: str, skip=frozenset(), each: bool = True) -> list[str]:
     """The route-wide notices in few lines (the first condensing step): every curve
-    away from the descents in one line (where, and the slowest speed); the others as
+    away from the descents in one line (where, and the speed each asks for); the others as
     they are, but walking stretches, more than one, in one line too. Codes in ``skip``
     are said elsewhere (the "Watch for" box)."""
     curves = [w for w in warnings if w.code == "curve"]
@@ -698,10 +718,9 @@ def warnings_brief(warnings, units: str, skip=frozenset()) -> list[str]:
             "hard to balance on two wheels; walking may be needed"
         )
     if curves:
-        places, slowest = _curve_places(curves, units)
         lines.append(
-            f"{len(curves)} curve{'s' if len(curves) > 1 else ''} away from the descents, at {places}: "
-            f"slow to {slowest} or less"
+            f"{len(curves)} curve{'s' if len(curves) > 1 else ''} off the descents"
+            f"{_curve_words(curves, units, each)}"
         )
     return lines
 
