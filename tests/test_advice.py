@@ -24,12 +24,21 @@ def _climb(power, time, top, after, warnings=()):
 
 def test_the_effort_line_says_the_style_the_mean_and_what_was_assumed():
     text = effort_line(_plan())
-    # 163.4 W rounds to 165 W (5 W steps); 163.4 / 214 = 76 %; 3,960 s is 1:06
-    assert "best use of the day's effort" in text and "165 W on average, 76 % of CP" in text
+    # 163.4 W rounds to 165 W (5 W steps); the share is of that printed figure, 165 / 214
+    # = 77 % (163.4 / 214 = 76 % gave two figures that disagree); 3,960 s is 1:06
+    assert "best use of the day's effort" in text and "165 W on average, 77 % of CP" in text
     assert "the default for a ride of about 1:06" in text
     assert "W′ (work above CP) 15.0 kJ" in text and "reserve" not in text
     assert "your setting" in effort_line(_plan(given=True, duration=None, style="steady"))
     assert "steady, never above CP" in effort_line(_plan(style="steady"))
+
+
+def test_the_effort_share_is_of_the_printed_power():
+    """Seen failing on the old code: the tandem's "240 W on average, 66 % of CP" where
+    240 / 360 = 66.7 % (the plan's 239.4 W is 66.5 %)."""
+    plan = _plan(mean_power=239.4, given=True)
+    plan.rider.cp = 360.0
+    assert "240 W on average, 67 % of CP" in effort_line(plan)
 
 
 def test_climb_advice_says_the_power_the_time_and_the_reserve_left():
@@ -83,16 +92,19 @@ def test_condensed_climb_advice_groups_climbs_with_the_same_words():
     other = _climb(263.0, 722.0, 9000.0, None)  # 12 min
     plan.climbs = [SimpleNamespace(number=n, **vars(c)) for n, c in ((1, same), (2, other), (3, same))]
     # worked by hand: 263 W → 260 W (down); 362 s → 6 min, 722 s → 12 min
-    assert climbs_advice(plan) == ["Climbs 1, 3: hold 260 W for 6 min", "Climb 2: hold 260 W for 12 min"]
+    # grouped, the time is each climb's, not both together (6 + 6 = 12 min)
+    assert climbs_advice(plan) == ["Climbs 1, 3: hold 260 W for 6 min each", "Climb 2: hold 260 W for 12 min"]
 
 
 def test_a_climb_ridden_below_balance_speed_says_so_beside_the_power():
     """The plan rides on below a two-wheeler's balance speed and times it so: the
-    advice says where, beside the power to hold (850 m below 1.53 m/s = 5.5 km/h)."""
+    advice says where, beside the power to hold (850 m below 1.53 m/s = 5.5 km/h), and
+    that the power is for riding (seen failing on the old code: "hold 150 W for 20 min;
+    … walking may be needed there" read as holding 150 W while walking)."""
     walk = Notice("walk", "warning", (("speed", 5.5 / 3.6), ("length", 846.0)), at=5300.0)
     row = _climb(152.0, 1190.0, 14000.0, None, warnings=(walk,))
     assert climb_advice(row, _plan()) == (
-        "hold 150 W for 20 min; 850 m below 5.5 km/h, timed as ridden; walking may be needed there"
+        "hold 150 W while riding, 20 min if all ridden; 850\u00a0m below 5.5 km/h: walking may be needed"
     )
 
 
@@ -110,5 +122,5 @@ def test_condensed_advice_groups_climbs_walked_for_different_lengths():
     ]
     # worked by hand: 132 W → 130 W (down), 2,040 s → 34 min, 5.5 km/h
     assert climbs_advice(plan) == [
-        "Climbs 1, 2: hold 130 W for 34 min; below 5.5 km/h in places, timed as ridden"
+        "Climbs 1, 2: hold 130 W while riding, 34 min each if all ridden; below 5.5 km/h in places"
     ]

@@ -167,3 +167,41 @@ def test_each_curve_is_printed_with_its_own_speed(outing, name):
     speeds = {speed for _, speed in curves}
     if len(speeds) > 1:  # the old grouped line: one speed for all
         assert not re.search(r"curves at [^:]*: slow to", card + coach)
+
+
+def test_a_climbs_speed_is_printed_once_and_cp_is_not_suggested_where_held(outing):
+    """Seen failing on the old code: the city rider's coach row gave Speed "6.0 km/h"
+    and "at CP expect about 5.5 km/h" while the plan held 150 W = CP at 1.607 m/s
+    (5.79 km/h). The speed column is plan.json's speed to the nearest 0.5 km/h
+    (README: numbers to 0.5 km/h); "at CP expect" is said only where the plan holds
+    less than CP, and then gives a speed at least the column's (more power, more speed)."""
+    coach = " ".join(pages(outing / "coach.pdf"))
+    plans_ = plans(outing)
+    city = plans_["City rider"]["climbs"][0]
+    assert city["hold_w"] == 150.0  # CP: climb_w 150 = cp_w 150
+    kmh = math.floor(city["speed_m_s"] * 3.6 * 2 + 0.5) / 2
+    assert kmh == 6.0  # 1.607 m/s × 3.6 = 5.79 km/h
+    laid = subprocess.run(
+        ["pdftotext", "-layout", str(outing / "coach.pdf"), "-"], capture_output=True, text=True, check=True
+    ).stdout.splitlines()
+    (at,) = [i for i, line in enumerate(laid) if "City rider" in line and " W for " in line]
+    row = " ".join(" ".join(laid[at : at + 2]).split())  # the row and its wrapped line
+    assert f"{kmh:.1f} km/h" in row and "at CP expect" not in row
+    assert "above this rider's CP of 150 W" in row
+    tandem = plans_["Tandem pair"]["climbs"][0]
+    assert tandem["hold_w"] < 360 * 0.97  # 340 W held against a CP of 360 W
+    (at_cp,) = re.findall(r"at CP expect about ([\d.]+) km/h", coach)
+    assert float(at_cp) >= math.floor(tandem["speed_m_s"] * 3.6 * 2 + 0.5) / 2
+
+
+def test_a_walking_climb_holds_its_power_while_riding(outing):
+    """Seen failing on the old code: "hold 150 W for 20 min; 850 m below 5.5 km/h,
+    timed as ridden; walking may be needed there" read as holding 150 W while walking."""
+    city = plans(outing)["City rider"]["climbs"][0]
+    (walk,) = [w for w in city["warnings"] if w["code"] == "walk"]
+    length = re.search(r"about (\d+) m", walk["text"]).group(1)
+    minutes = math.floor(city["time_s"] / 60 + 0.5)
+    assert city["advice"].replace("\u00a0", " ") == (
+        f"hold 150 W while riding, {minutes} min if all ridden; {length} m below 5.5 km/h: walking may be needed"
+    )
+    assert " ".join(city["advice"].split()) in " ".join(pages(outing / "city-rider.pdf"))

@@ -52,6 +52,11 @@ from cardgen.units import KMH_PER_MS, Floats
 #: Steepest 100 m grade that earns a "steep" note [-]: common practice, no published
 #: source (AASHTO's bicycle guide calls grades over 5 % undesirable on shared paths).
 STEEP_GRADE = 0.10
+#: A plan whose mean power on a climb is at least this share of CP already holds CP
+#: there as the card prints it (powers print to 5 W: 3 % of a 150 W CP is 4.5 W); its
+#: "over-cp" notice then gives no speed at CP, which the speed column already shows.
+#: Common practice, no published source.
+HOLDS_CP_SHARE = 0.97
 #: A descent's coasting speed earns a "fast" warning only past the vehicle's speed cap
 #: by more than this share of the cap [-]: common practice, no published source. 3 %
 #: is about what a drag area 6 % off changes the coasting speed by (it goes as
@@ -438,6 +443,8 @@ def _climb_row(
             Notice("steep", "caution", (("grade", climb.steepest_grade), ("length", climb.pitch_length)))
         )
     warnings.extend(_rider_cautions(climb, terrain, rider, motor, ratio, ride, float(np.mean(need)), road))
+    if rider_power >= HOLDS_CP_SHARE * rider.cp:  # no sentence suggests a power the plan holds
+        warnings = [_without_speed(w) if w.code == "over-cp" else w for w in warnings]
     warnings = [w if w.at is not None else dataclasses.replace(w, at=climb.start_distance) for w in warnings]
     # power needed against speed on the climb's average grade, in its mean wind and air
     mean_air = air.over(segs).mean()
@@ -564,6 +571,11 @@ def _rider_cautions(
     if vehicle.propulsion == "arms" and climb.steepest_grade >= TRACTION_GRADE:
         notices.append(Notice("traction", "caution", (("grade", climb.steepest_grade),)))
     return notices
+
+
+def _without_speed(notice: Notice) -> Notice:
+    """``notice`` without its "speed" value."""
+    return dataclasses.replace(notice, values=tuple((k, v) for k, v in notice.values if k != "speed"))
 
 
 def curve_notices(terrain: Terrain, rider: Rider, ride: Ride, air: Air) -> list[Notice]:

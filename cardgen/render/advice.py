@@ -5,6 +5,7 @@ rounding are made here (through :mod:`cardgen.render.format`)."""
 from __future__ import annotations
 
 import math
+import re
 from collections.abc import Callable, Sequence
 
 from cardgen.plan.model import ClimbRow, DescentRow, Plan
@@ -31,7 +32,9 @@ def effort_line(plan: Plan, units: str = "metric") -> str:
     e = plan.effort
     if e is None:
         return ""
-    share = e.mean_power / plan.rider.cp
+    # the share of the printed power, so that the two figures agree (240 W of a 360 W
+    # CP is 67 %, though the plan's 239.4 W is 66 %)
+    share = float(fmt.power(e.mean_power).split()[0]) / plan.rider.cp
     assumed = "your setting" if e.given else f"the default for a ride of about {fmt.duration(e.duration)}"
     return (
         f"Pacing: {STYLE_NAMES.get(e.style, e.style)} · {fmt.power(e.mean_power)} on average, "
@@ -46,8 +49,7 @@ def climb_advice(row: ClimbRow, plan: Plan, units: str = "metric", brief: bool =
     walking part without its length, so that climbs alike share a condensed line."""
     if row.time is None or not math.isfinite(row.time):  # the rider stalls on it
         return "not ridable at this effort (see the notes)"
-    text = f"hold {fmt.power(row.rider_power, rounding='down')} for {fmt.minutes(row.time)}"
-    text += _below_balance(row, units, brief)
+    text = _hold(row, units, brief)
     if row.w_prime_top is None or plan.rider.w_prime <= 0:
         return text
     left = row.w_prime_top / plan.rider.w_prime
@@ -61,22 +63,24 @@ def climb_advice(row: ClimbRow, plan: Plan, units: str = "metric", brief: bool =
     return text
 
 
-def _below_balance(row: ClimbRow, units: str, brief: bool = False) -> str:
-    """What the plan does where a two-wheeler falls below balance speed on a climb: it
-    rides on at the same power, slowly, and times it so ("; 850 m below 5.5 km/h,
-    timed as ridden; walking may be needed there"); "" where it never does. Said beside the
-    power to hold, so that "hold 150 W" does not read as if it kept the rider upright."""
+def _hold(row: ClimbRow, units: str, brief: bool = False) -> str:
+    """The power to hold and the time, and what the plan does where a two-wheeler
+    falls below balance speed on a climb: it rides on at the same power, slowly, and
+    times it so ("hold 150 W while riding, 20 min if all ridden; 850 m below 5.5 km/h:
+    walking may be needed"). The power is for riding only: "hold 150 W for 20 min; …
+    walk there if you must" read as holding 150 W while walking."""
+    power = fmt.power(row.rider_power, rounding="down")
     walks = [w for w in row.warnings if w.code == "walk"]
     if not walks:
-        return ""
-    length = sum(w.value("length") for w in walks)
+        return f"hold {power} for {fmt.minutes(row.time)}"
+    text = f"hold {power} while riding, {fmt.minutes(row.time)} if all ridden"
     speed = min(w.value("speed") for w in walks)
     if brief:  # the lengths are in the "Watch for" box
-        return f"; below {fmt.speed(speed, units)} in places, timed as ridden"
-    return (
-        f"; {fmt.length(length, units)} below {fmt.speed(speed, units)}, timed as ridden; "
-        "walking may be needed there"
-    )
+        return f"{text}; below {fmt.speed(speed, units)} in places"
+    # the length keeps its unit on its line (a no-break space): "1260" ended a coach
+    # sheet's line with "m below 5.5 km/h" on the next
+    length = fmt.length(sum(w.value("length") for w in walks), units).replace(" ", "\u00a0")
+    return f"{text}; {length} below {fmt.speed(speed, units)}: walking may be needed"
 
 
 def descent_advice(row: DescentRow, plan: Plan, units: str = "metric") -> str:
@@ -99,14 +103,22 @@ def _grouped(
     rows: Sequence[ClimbRow] | Sequence[DescentRow], advise: Callable[..., str], word: str
 ) -> list[str]:
     """Rows' advice in as few lines as it takes: rows with the same words share a line
-    ("Descents 1, 2: ease off and let it roll")."""
+    ("Descents 1, 2: ease off and let it roll"); a time shared is each row's ("Climbs
+    2, 3: hold 240 W for 13 min each", not 13 min for both)."""
     groups: dict[str, list[str]] = {}
     for row in rows:
         groups.setdefault(advise(row), []).append(str(row.number))
     return [
-        f"{word if len(numbers) == 1 else word + 's'} {', '.join(numbers)}: {text}"
+        f"{word} {numbers[0]}: {text}"
+        if len(numbers) == 1
+        else f"{word}s {', '.join(numbers)}: {_each(text)}"
         for text, numbers in groups.items()
     ]
+
+
+def _each(text: str) -> str:
+    """ "hold 240 W for 13 min" → "hold 240 W for 13 min each" (the first time in it)."""
+    return re.sub(r"(\d+ min|\d+:\d\d)\b", r"\1 each", text, count=1)
 
 
 def descents_advice(plan: Plan, units: str = "metric") -> list[str]:
@@ -118,5 +130,5 @@ def descents_advice(plan: Plan, units: str = "metric") -> list[str]:
 def climbs_advice(plan: Plan, units: str = "metric") -> list[str]:
     """The climbs' advice, one line per wording, for a condensed card: "Climbs 1, 2,
     5: hold 135 W for 24 min" (walking without its lengths: "…; below 5.5 km/h in
-    places, timed as ridden")."""
+    places")."""
     return _grouped(plan.climbs, lambda row: climb_advice(row, plan, units, brief=True), "Climb")

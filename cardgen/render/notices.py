@@ -22,6 +22,16 @@ def _battery(n: Notice, units: str) -> str:
     )
 
 
+def _over_cp(n: Notice, units: str) -> str:
+    """The target speed's power above CP, and the speed at CP (to the nearest 0.5
+    km/h, as the climb's speed column) where the plan holds less than CP there: where
+    it already holds CP the speed column gives that speed, and "at CP expect" would
+    suggest a power the plan holds."""
+    text = f"the target speed takes {fmt.power(n.value('power'))}, above this rider's CP of {n.value('cp'):.0f} W"
+    speed = n.value("speed")
+    return text if speed is None else f"{text}; at CP expect about {fmt.speed(speed, units)}"
+
+
 def _curve(n: Notice, units: str) -> str:
     slow = f"slow to {fmt.speed(n.value('speed'), units, 'down')} or less"
     where = fmt.distance(n.value("where"), units)
@@ -71,10 +81,7 @@ _WORDS: dict[str, Callable[[Notice, str], str]] = {
         f"slow going: below {fmt.speed(n.value('speed'), units)} for about {fmt.length(n.value('length'), units)}, "
         f"{fmt.duration(n.value('time'))} on this climb; plan rests and drink"
     ),
-    "over-cp": lambda n, units: (
-        f"the target speed takes {fmt.power(n.value('power'))}, above this rider's CP of {n.value('cp'):.0f} W; "
-        f"at CP expect about {fmt.speed(n.value('speed'), units, 'down')}"
-    ),
+    "over-cp": lambda n, units: _over_cp(n, units),
     "traction": lambda n, units: (
         f"{fmt.grade(n.value('grade'))} at the steepest: a driven front wheel may slip; ask your coach or "
         "clinician how best to ride it (keeping weight over the front wheel may help)"
