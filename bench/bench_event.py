@@ -155,17 +155,19 @@ def _build(tree: Path, site: Path, out: Path, jobs: int, pdf: bool, old_fitter: 
     return figures
 
 
+def _phases(f: dict) -> str:
+    """A build's phases in wall seconds, then in CPU seconds when it reports them."""
+    wall = ", ".join(f"{k} {v:.1f}" for k, v in f["seconds"].items())
+    cpu = ", ".join(f"{k} {v:.1f}" for k, v in f["phase_cpu"].items())
+    return wall + (f"; phases' CPU {cpu}" if f["phase_cpu"] else "")
+
+
 def _line(label: str, f: dict, riders: int) -> str:
     return (
         f"{label}: wall {f['wall']:.0f} s, CPU {f['cpu']:.0f} s ({f['cpu'] / riders:.2f} CPU-s per card), "
         f"{f['cards']} cards rendered, layouts per fitted card {f['per_card']:.2f}, "
         f"peak RSS build {f['rss_own']:.0f} MiB, largest worker {f['rss_worker']:.0f} MiB; phases "
-        + ", ".join(f"{k} {v:.1f}" for k, v in f["seconds"].items())
-        + (
-            "; phases' CPU " + ", ".join(f"{k} {v:.1f}" for k, v in f["phase_cpu"].items())
-            if f["phase_cpu"]
-            else ""
-        )
+        + _phases(f)
     )
 
 
@@ -238,13 +240,7 @@ def _rebuild(site: Path, folder: Path, args, now: dict, pdf: bool) -> None:
     print(
         f"one rider changed: {again['wall']:.1f} s, {again['wall'] / now['wall']:.1%} of the full build "
         f"(target <= 10 %), CPU {again['cpu']:.1f} s, {again['cpu'] / now['cpu']:.1%} of the full build's; "
-        f"{again['cards']} cards rendered, {again['reused']} reused; phases "
-        + ", ".join(f"{k} {v:.1f}" for k, v in again["seconds"].items())
-        + (
-            "; phases' CPU " + ", ".join(f"{k} {v:.1f}" for k, v in again["phase_cpu"].items())
-            if again["phase_cpu"]
-            else ""
-        )
+        f"{again['cards']} cards rendered, {again['reused']} reused; phases " + _phases(again)
     )
 
 
