@@ -276,3 +276,23 @@ def test_assist_is_the_lowest_level_that_holds_the_target_within_cp(cli, tmp_pat
         need.append(solved["power_w"])
     assert need[level] <= cp * 1.02
     assert level == 0 or need[level - 1] > cp
+
+
+def test_a_given_mean_power_is_paced_as_the_label_says(cli, tmp_path):
+    """`--power` is the ride's mean (its help) and "Pacing: best" is printed: seen
+    failing on the old code, the trace held 240 W at every node (the mean was also
+    set as the climbing power, capping every climb at it), a constant-power ride under
+    a "best" label. Now the trace's time-weighted mean is the 240 W asked (within 1 %)
+    and the climb is ridden above it; its last time is the moving time printed."""
+    trace = tmp_path / "trace.csv"
+    code, out, err = cli(
+        "route", str(SAMPLES / "hill-loop.gpx"), "--vehicle", "city-upright", "--power", "240",
+        "--trace", str(trace), "--json", parse_json=True,
+    )  # fmt: skip
+    assert code == 0, err
+    rows = np.genfromtxt(trace, delimiter=",", names=True)
+    dt = np.diff(rows["time_s"])
+    mean = float(np.sum(rows["rider_w"][:-1] * dt) / np.sum(dt))
+    assert mean == pytest.approx(240.0, rel=0.01)
+    assert rows["rider_w"].max() > 250.0
+    assert rows["time_s"][-1] == pytest.approx(out["totals"]["time_s"], abs=0.5)

@@ -41,7 +41,10 @@ def _route_plan(args: argparse.Namespace) -> Plan:
     _within("--w-prime", None if args.w_prime is None else args.w_prime / 1000, "w_prime_kj")
     given: dict[str, Any] = {}
     if args.power is not None:
-        given.update(flat_power=args.power, climb_power=args.power)
+        # a mean over the ride (its help): the pacing style decides the climbs' power,
+        # as in a build for a rider with flat_w; setting it as the climbing power too
+        # capped every climb at the mean, a constant-power ride under a "best" label
+        given["flat_power"] = args.power
     if args.cp is not None:
         given["cp"] = args.cp
     elif args.power is not None:
@@ -142,7 +145,10 @@ def cmd_route(args: argparse.Namespace) -> int:
     else:
         _print("No descents.")
     _print()
-    battery = "" if t["battery_wh"] is None else f", battery about {_n(t['battery_wh'], '.0f')} Wh"
+    # rounded up, as the card prints what the plan draws
+    battery = (
+        "" if t["battery_wh"] is None else f", battery about {fmt.battery(t['battery_wh'] * 3600.0, 'up')}"
+    )
     _print(
         f"Moving time {duration(t['time_s'])}, work {_n(t['energy_kj'], '.0f')} kJ, "
         f"energy spent riding about {_n(t['food_kcal'], '.0f')} kcal{battery}"
