@@ -11,7 +11,7 @@ from typing import TYPE_CHECKING, Any
 from cardgen.cli.common import _finite, _n, _print, _within
 from cardgen.errors import CardgenError
 from cardgen.profiles.riders import PACING_STYLES
-from cardgen.units import KMH_PER_MS
+from cardgen.units import J_PER_WH, KMH_PER_MS
 
 if TYPE_CHECKING:
     from cardgen.plan import Plan
@@ -147,7 +147,7 @@ def cmd_route(args: argparse.Namespace) -> int:
     _print()
     # rounded up, as the card prints what the plan draws
     battery = (
-        "" if t["battery_wh"] is None else f", battery about {fmt.battery(t['battery_wh'] * 3600.0, 'up')}"
+        "" if t["battery_wh"] is None else f", battery about {fmt.battery(t['battery_wh'] * J_PER_WH, 'up')}"
     )
     _print(
         f"Moving time {duration(t['time_s'])}, work {_n(t['energy_kj'], '.0f')} kJ, "
