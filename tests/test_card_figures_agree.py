@@ -121,6 +121,8 @@ def test_battery_figures_agree_on_both_pages_the_coach_sheet_and_plan_json(outin
     assert f"{said_drawn} Wh of {said_usable} Wh, off at {off_km}" in coach
     assert f"until {off_km}, then off" in card[0]
     assert set(re.findall(r"(\d+) Wh", coach)) <= {said_drawn, said_usable}
+    # the cue sheet has a row at that km, in distance order, timed as the plan arrives
+    assert f"{off_km} assist off: keeps the 20 % reserve" in whole
 
 
 def test_w_prime_is_not_called_a_reserve_beside_the_battery_reserve(outing):

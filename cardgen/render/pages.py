@@ -21,7 +21,8 @@ import numpy as np
 from cardgen import __version__
 from cardgen.errors import CardgenError
 from cardgen.plan import Plan
-from cardgen.plan.model import RouteJob
+from cardgen.plan.model import RouteJob, TimedCue
+from cardgen.plan.rider import BATTERY_RESERVE
 from cardgen.render import advice, difficulty, exports, plots
 from cardgen.render import format as fmt
 from cardgen.render.day import day_rows, day_sheet_files
@@ -732,11 +733,28 @@ def rider_notes(plan: Plan, units: str) -> list[str]:
     return [*descents_brief(plan.descents, units), *warnings_brief(plan.warnings, units)]
 
 
+@dataclass(frozen=True)
+class _Mark:
+    """A cue sheet row of the plan's own (not the route's): the fields of a cue that a
+    row reads."""
+
+    distance: float
+    kind: str
+    text: str
+    description: str = ""
+
+
 def cue_rows(plan: Plan) -> list[dict]:
     """Each cue with the distance to the next (or the finish), the elevation there
-    and the rider's time to it."""
+    and the rider's time to it; where the plan has the motor switched off to keep the
+    battery's reserve, a row "assist off" at that place (page 1 says the same km)."""
     terrain = plan.terrain
     cues = list(plan.cues)
+    off = plan.effort.assist_off_at if plan.effort is not None and plan.motor is not None else None
+    if off is not None:
+        mark = _Mark(off, "assist", f"assist off: keeps the {BATTERY_RESERVE * 100:.0f} % reserve")
+        row = TimedCue(mark, plan.elapsed_at(off))  # type: ignore[arg-type]  # the fields a row reads
+        cues.insert(sum(1 for c in cues if c.cue.distance <= off), row)
     rows = []
     for i, timed in enumerate(cues):
         following = cues[i + 1].cue.distance if i + 1 < len(cues) else terrain.length
