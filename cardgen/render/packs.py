@@ -23,6 +23,7 @@ from pathlib import Path
 from typing import BinaryIO
 
 from cardgen.errors import CardgenError
+from cardgen.render.pdf import layout, written
 from cardgen.render.pdfjoin import PageWriter
 
 #: A4 landscape and A5 in PostScript points.
@@ -74,27 +75,12 @@ def pack_cover(
         for n in counts:
             firsts.append(page)
             page += n + n % 2
-        document = _layout(cover_html(list(zip(entries, firsts, strict=True))), base)
+        document = layout(cover_html(list(zip(entries, firsts, strict=True))), base)
         length = len(document.pages)
         if length + length % 2 == cover_pages:
             break
         cover_pages = length + length % 2
-    return document.write_pdf(pdf_identifier=b"cardgen", uncompressed_pdf=False, pdf_tags=True), firsts
-
-
-def _layout(html: str, base: Path):
-    """The WeasyPrint layout of ``html`` (links into ``base``, served by the build's
-    own fetcher: :func:`cardgen.render.pdf.build_only_fetcher`), as a tagged PDF."""
-    import logging
-
-    from weasyprint import HTML
-
-    from cardgen.render.pdf import build_only_fetcher
-
-    logging.getLogger("weasyprint").setLevel(logging.ERROR)
-    return HTML(
-        string=html, base_url=base.resolve().as_uri() + "/", url_fetcher=build_only_fetcher(base)
-    ).render(pdf_tags=True)
+    return written(document), firsts
 
 
 def write_pack(

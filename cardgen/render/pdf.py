@@ -75,23 +75,34 @@ def join_parts(datas) -> bytes:
     return out.getvalue()
 
 
-def pdf_bytes(html: str, base: Path) -> tuple[bytes, list[str]]:
-    """Render ``html`` (whose relative links point into ``base``) as a tagged PDF
-    (structure for screen readers; its language and title from the HTML).
-
-    Returns the PDF and the URLs that were refused (nothing is fetched from outside
-    ``base``).
-    """
+def layout(html: str, base: Path, cache=None, fetcher=None):
+    """One WeasyPrint layout of ``html`` (whose relative links point into ``base``,
+    served by ``fetcher``, by default :func:`build_only_fetcher`), as a tagged PDF
+    document (structure for screen readers; its language and title from the HTML)."""
     from weasyprint import HTML
 
     # WeasyPrint reports refused resources and unsupported CSS as log warnings; the
     # fetcher already records refusals, so keep its log quiet on the terminal.
     logging.getLogger("weasyprint").setLevel(logging.ERROR)
+    return HTML(
+        string=html, base_url=base.resolve().as_uri() + "/", url_fetcher=fetcher or build_only_fetcher(base)
+    ).render(pdf_tags=True, cache=cache)
+
+
+def written(document, cache=None) -> bytes:
+    """The PDF of a :func:`layout`, with cardgen's fixed identifier (the same card
+    gives the same bytes)."""
+    return document.write_pdf(pdf_identifier=b"cardgen", uncompressed_pdf=False, pdf_tags=True, cache=cache)
+
+
+def pdf_bytes(html: str, base: Path) -> tuple[bytes, list[str]]:
+    """Render ``html`` (whose relative links point into ``base``) as a tagged PDF.
+
+    Returns the PDF and the URLs that were refused (nothing is fetched from outside
+    ``base``).
+    """
     fetcher = build_only_fetcher(base)
-    data = HTML(string=html, base_url=base.resolve().as_uri() + "/", url_fetcher=fetcher).write_pdf(
-        pdf_identifier=b"cardgen", uncompressed_pdf=False, pdf_tags=True
-    )
-    return data, fetcher.refused
+    return written(layout(html, base, fetcher=fetcher)), fetcher.refused
 
 
 #: How far (in pages) a variant's predicted extent must pass its page limit for the
@@ -189,9 +200,7 @@ class Fitter:
             table["chosen"][index] = table["chosen"].get(index, 0) + 1
         document, pages, _ = layout(index)
         with _quiet_collector():
-            data = document.write_pdf(
-                pdf_identifier=b"cardgen", uncompressed_pdf=False, pdf_tags=True, cache=self.cache
-            )
+            data = written(document, self.cache)
         if index >= continued and pages % 2:  # the continuation is a whole sheet: end on a back page
             data = _add_blank_page(data)
             pages += 1
@@ -199,13 +208,8 @@ class Fitter:
 
     def _layout(self, html: str, base: Path):
         """One WeasyPrint layout of ``html`` (links into ``base``), counted."""
-        from weasyprint import HTML
-
-        logging.getLogger("weasyprint").setLevel(logging.ERROR)
         with _quiet_collector():
-            document = HTML(
-                string=html, base_url=base.resolve().as_uri() + "/", url_fetcher=build_only_fetcher(base)
-            ).render(pdf_tags=True, cache=self.cache)
+            document = layout(html, base, self.cache)
         self.layouts += 1
         return document
 
