@@ -34,7 +34,7 @@ def effort_line(plan: Plan, units: str = "metric") -> str:
         return ""
     # the share of the printed power, so that the two figures agree (240 W of a 360 W
     # CP is 67 %, though the plan's 239.4 W is 66 %)
-    share = float(fmt.power(e.mean_power).split()[0]) / plan.rider.cp
+    share = fmt.power_w(e.mean_power) / plan.rider.cp
     assumed = "your setting" if e.given else f"the default for a ride of about {fmt.duration(e.duration)}"
     return (
         f"Pacing: {STYLE_NAMES.get(e.style, e.style)} · {fmt.power(e.mean_power)} on average, "

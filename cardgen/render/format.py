@@ -55,10 +55,15 @@ def _dash_if_missing(
     return wrapper
 
 
+def power_w(watts: float, rounding: str = "nearest") -> float:
+    """A power [W] as :func:`power` prints it: to 5 W."""
+    return (_down if rounding == "down" else _nearest)(watts, 5)
+
+
 @_dash_if_missing
 def power(watts: float, rounding: str = "nearest") -> str:
     """ "185 W"; ``rounding="down"`` for a limit (223.5 W prints as 220 W)."""
-    return f"{(_down if rounding == 'down' else _nearest)(watts, 5):.0f} W"
+    return f"{power_w(watts, rounding):.0f} W"
 
 
 @_dash_if_missing

@@ -81,7 +81,7 @@ _WORDS: dict[str, Callable[[Notice, str], str]] = {
         f"slow going: below {fmt.speed(n.value('speed'), units)} for about {fmt.length(n.value('length'), units)}, "
         f"{fmt.duration(n.value('time'))} on this climb; plan rests and drink"
     ),
-    "over-cp": lambda n, units: _over_cp(n, units),
+    "over-cp": _over_cp,
     "traction": lambda n, units: (
         f"{fmt.grade(n.value('grade'))} at the steepest: a driven front wheel may slip; ask your coach or "
         "clinician how best to ride it (keeping weight over the front wheel may help)"

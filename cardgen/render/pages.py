@@ -647,7 +647,7 @@ def _curve_words(curves, units: str, each: bool = True) -> str:
         )
         return f": slow to {said[0]} at {places[0]}{rest}"
     tight = min(range(len(curves)), key=lambda i: curves[i].value("speed"))
-    high = max(said, key=lambda x: float(x.rsplit(" ", 1)[0]))
+    high = fmt.speed(max(w.value("speed") for w in curves), units, "down")
     span = high if said[tight] == high else f"{said[tight].rsplit(' ', 1)[0]}–{high}"
     return f" at {places[0].rsplit(' ', 1)[0]}–{places[-1]}: slow to {span}, slowest at {places[tight]}"
 
