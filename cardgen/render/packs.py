@@ -129,7 +129,8 @@ def write_packs(packs: Sequence[PackFiles]) -> None:
         return
     order = max(packs, key=lambda pack: len(pack.entries)).entries
     position = {entry.pdf: i for i, entry in enumerate(order)}
-    together, alone = [], []
+    together: list[PackFiles] = []
+    alone: list[PackFiles] = []
     for pack in packs:
         places = [position.get(entry.pdf, -1) for entry in pack.entries]
         in_order = min(places, default=0) >= 0 and all(a < b for a, b in itertools.pairwise(places))

@@ -970,13 +970,18 @@ def render_packs(
     """Every file of the print packs of :func:`pack_groups`, one after the other, each
     with the function that writes it into a binary file open for writing (a pass over
     the cards per file; the build writes them all in one pass)."""
-    from cardgen.render.packs import write_packs
-
     for group in pack_groups(config, routes, folder, fresh):
         _, pack, (flat, two_up) = render_pack_group(config, group)
-        yield flat, lambda sink, pack=pack: write_packs([replace(pack, flat=sink)])
+        yield flat, functools.partial(_write_one, pack, "flat")
         if two_up is not None:
-            yield two_up, lambda sink, pack=pack: write_packs([replace(pack, two_up=sink)])
+            yield two_up, functools.partial(_write_one, pack, "two_up")
+
+
+def _write_one(pack, field: str, sink: BinaryIO) -> None:
+    """One file of ``pack`` (``field``: "flat" or "two_up") into ``sink``."""
+    from cardgen.render.packs import write_packs
+
+    write_packs([replace(pack, **{field: sink})])
 
 
 def route_summary(job: RouteJob, views, units: str, to_second: bool = False) -> dict:
