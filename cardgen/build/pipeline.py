@@ -524,25 +524,29 @@ def _pack_cover(task):
     out and written (:func:`~cardgen.render.pages.render_pack_group`)."""
     from cardgen.render.pages import render_pack_group
 
-    config, group = task
-    return render_pack_group(config, group)
+    return render_pack_group(*task)
 
 
 def _write_packs(config, groups: list, jobs: int, tmp: Path) -> dict[str, int]:
-    """Write the print packs: the covers laid out one group (a route's packs, the
-    event's) per worker process when ``jobs`` > 1, the event's (the longest) first;
-    then every pack file in one pass over the cards, here
-    (:func:`~cardgen.render.packs.write_packs`: each card read once for its route's
-    packs and the event's). Returns each pack's cover length, by its folder relative
-    to ``tmp`` (for the manifest: the next build's first guess)."""
+    """Write the print packs. The covers first: the shortest group's (a route's packs,
+    or the event's) here, then the others from its rows per page (each laid out once
+    where that guess of its length holds), one group per worker process when ``jobs``
+    > 1, the event's (the longest) first; then every pack file in one pass over the
+    cards, here (:func:`~cardgen.render.packs.write_packs`: each card read once for
+    its route's packs and the event's). Returns each pack's cover length, by its
+    folder relative to ``tmp`` (for the manifest: the next build's first guess)."""
     from cardgen.render.packs import write_packs
 
+    if not groups:
+        return {}
     groups = sorted(groups, key=lambda g: -len(g.entries))
+    first = _pack_cover((config, groups[-1]))
+    tasks = [(config, g, first[3]) for g in groups[:-1]]
+    with _pool(jobs, len(tasks)) as pool:
+        made = [*_map(pool, _pack_cover, tasks, "a print-pack process"), first]
     covers, packs = {}, []
     with contextlib.ExitStack() as files:
-        with _pool(jobs, len(groups)) as pool:
-            made = list(_map(pool, _pack_cover, [(config, g) for g in groups], "a print-pack process"))
-        for group, (length, pack, (flat, two_up)) in zip(groups, made, strict=True):
+        for group, (length, pack, (flat, two_up), _) in zip(groups, made, strict=True):
             covers[group.where.relative_to(tmp).as_posix()] = length
             sinks = [files.enter_context(path.open("wb")) if path else None for path in (flat, two_up)]
             packs.append(replace(pack, flat=sinks[0], two_up=sinks[1]))

@@ -52,15 +52,17 @@ def pack_cover(
     base: Path,
     page_size: tuple[float, float],
     cover_pages: int = 2,
-) -> tuple[bytes, list[int]]:
-    """The cover of a pack of ``entries`` (already in print order), and the first page
-    of each card in the pack.
+    per_page: tuple[int, int] | None = None,
+) -> tuple[bytes, list[int], tuple[int, int] | None]:
+    """The cover of a pack of ``entries`` (already in print order), the first page of
+    each card in the pack, and the cover's rows per page (:func:`rows_per_page`).
 
     ``cover_html(rows)`` renders the cover for rows of (entry, first page) to HTML. The
     cover is laid out once, taking its own length to be ``cover_pages`` (the last
-    build's, else 2), and again if its length moved the page numbers; only the last
-    layout is written. A card is opened to count its pages only when its entry does
-    not say them."""
+    build's, else 2) or, given another cover's ``per_page``, the length its rows take
+    at that many a page (:func:`cover_length`), and again if its length moved the page
+    numbers; only the last layout is written. A card is opened to count its pages only
+    when its entry does not say them."""
     import pikepdf
 
     counts = []
@@ -70,6 +72,8 @@ def pack_cover(
                 counts.append(len(pdf.pages))
         else:
             counts.append(entry.pages)
+    if per_page is not None:
+        cover_pages = cover_length(len(entries), per_page)
     for _ in range(3):
         firsts, page = [], cover_pages + 1
         for n in counts:
@@ -80,7 +84,34 @@ def pack_cover(
         if length + length % 2 == cover_pages:
             break
         cover_pages = length + length % 2
-    return written(document), firsts
+    return written(document), firsts, rows_per_page(document)
+
+
+def rows_per_page(document) -> tuple[int, int] | None:
+    """A cover layout's table rows on its first page and on a full page after it (its
+    second, when a third follows), or None for a cover of fewer than three pages."""
+    counts = [_body_rows(page._page_box) for page in document.pages]
+    return (counts[0], counts[1]) if len(counts) >= 3 and counts[1] > 0 else None
+
+
+def cover_length(rows: int, per_page: tuple[int, int]) -> int:
+    """The pages (an even count) a cover of ``rows`` rows takes at ``per_page`` (rows on
+    its first page, on each later one)."""
+    first, full = per_page
+    pages = 1 + max(0, -(-(rows - first) // full))
+    return pages + pages % 2
+
+
+def _body_rows(box) -> int:
+    """Rows of table bodies (not their repeated headers) laid out in ``box``."""
+    count, stack = 0, [box]
+    while stack:
+        box = stack.pop()
+        if type(box).__name__ == "TableRowGroupBox" and not box.is_header and not box.is_footer:
+            count += sum(type(row).__name__ == "TableRowBox" for row in box.children)
+            continue
+        stack.extend(getattr(box, "children", None) or ())
+    return count
 
 
 def write_pack(

@@ -933,12 +933,14 @@ def pack_groups(
     return groups
 
 
-def render_pack_group(config, group: PackGroup):
+def render_pack_group(config, group: PackGroup, per_page: tuple[int, int] | None = None):
     """The cover's length, the packs of ``group`` to write
-    (:class:`~cardgen.render.packs.PackFiles`, without their files) and their files:
-    ``all-cards.pdf``, and ``all-cards-2up.pdf`` beside it for A5 cards (else None).
-    Both share one cover; :func:`~cardgen.render.packs.write_packs` streams them card
-    by card, never whole (the event's pack at 3,000 riders is some 400 MB of PDF)."""
+    (:class:`~cardgen.render.packs.PackFiles`, without their files), their files
+    (``all-cards.pdf``, and ``all-cards-2up.pdf`` beside it for A5 cards, else None)
+    and the cover's rows per page (``per_page``: another cover's, for a first guess
+    of this one's length: :func:`~cardgen.render.packs.pack_cover`). Both files share
+    one cover; :func:`~cardgen.render.packs.write_packs` streams them card by card,
+    never whole (the event's pack at 3,000 riders is some 400 MB of PDF)."""
     from cardgen.render.packs import PackFiles, pack_cover
 
     env = _environment(config.templates, config.units)
@@ -946,7 +948,7 @@ def render_pack_group(config, group: PackGroup):
     size = {"A5": (419.53, 595.28), "A4": (595.28, 841.89), "pocket": (280.63, 595.28)}[config.card_size]
     template = env.get_template("cover.html")
     entries = tuple(group.entries)
-    cover, firsts = pack_cover(
+    cover, firsts, rows = pack_cover(
         entries,
         lambda rows: template.render(
             title=config.title,
@@ -959,9 +961,11 @@ def render_pack_group(config, group: PackGroup):
         group.where,
         size,
         group.cover_pages,
+        per_page,
     )
     two_up = group.where / "all-cards-2up.pdf" if config.card_size == "A5" else None
-    return firsts[0] - 1, PackFiles(cover, entries, size, None, None), (group.where / "all-cards.pdf", two_up)
+    files = (group.where / "all-cards.pdf", two_up)
+    return firsts[0] - 1, PackFiles(cover, entries, size, None, None), files, rows
 
 
 def render_packs(
@@ -971,7 +975,7 @@ def render_packs(
     with the function that writes it into a binary file open for writing (a pass over
     the cards per file; the build writes them all in one pass)."""
     for group in pack_groups(config, routes, folder, fresh):
-        _, pack, (flat, two_up) = render_pack_group(config, group)
+        _, pack, (flat, two_up), _ = render_pack_group(config, group)
         yield flat, functools.partial(_write_one, pack, "flat")
         if two_up is not None:
             yield two_up, functools.partial(_write_one, pack, "two_up")
