@@ -1,7 +1,8 @@
 """Plots as SVG text, with matplotlib's object API on the Agg-free SVG backend (no
 pyplot state). Each function returns (svg, alt text). The data are thinned to the
 print resolution first: a card is about 130 mm wide, so ~1,000 points is finer than
-the eye or the printer can tell, and keeps the SVG small for WeasyPrint.
+the eye or the printer can tell, and keeps the SVG small for WeasyPrint; the profile's filled bands carry its outline
+thinned further, to within 0.1 pt of it at the printed size (:mod:`cardgen.render.simplify`).
 
 Colours: the colour-blind-safe "cividis" colormap (Nuñez, Anderton & Renslow 2018,
 PLoS ONE 13(7):e0199239), whose lightness rises steadily along it. The profile is
@@ -21,6 +22,7 @@ from typing import TYPE_CHECKING, Any
 import numpy as np
 
 from cardgen.render import format as fmt
+from cardgen.render.simplify import TOLERANCE_PT, douglas_peucker
 from cardgen.units import KMH_PER_MS, M_PER_FT, M_PER_MI, MPH_PER_MS
 
 if TYPE_CHECKING:
@@ -121,7 +123,6 @@ def profile_figure(terrain, climbs, checkpoints, units, width_in, height_in, tex
     from matplotlib.cm import ScalarMappable
     from matplotlib.colors import BoundaryNorm
     from matplotlib.patches import PathPatch
-    from matplotlib.path import Path as MplPath
 
     imperial = units == "imperial"
     x_scale = 1 / M_PER_MI if imperial else 1 / 1000
@@ -137,31 +138,13 @@ def profile_figure(terrain, climbs, checkpoints, units, width_in, height_in, tex
     bins = np.digitize(steep, bounds)
     base = min(y.min(), 0.0) if y.min() < 0 else y.min() - 0.08 * max(np.ptp(y), 10)
     top = y.max() + 0.25 * max(np.ptp(y), 10)
-    polys, colours = [], []
-    start = 0
-    for i in range(1, len(bins) + 1):  # one polygon for each run of the same colour band
-        if i == len(bins) or bins[i] != bins[start]:
-            xs, ys = x[start : i + 1], y[start : i + 1]
-            polys.append(
-                np.column_stack(
-                    (np.concatenate((xs, xs[::-1])), np.concatenate((ys, np.full(xs.size, base))))
-                )
-            )
-            colours.append(cmap(norm(float(np.mean(steep[start:i])))))
-            start = i
-
     fig = _figure(width_in, height_in)
     ax = fig.add_subplot()
-    # one compound path per grade band (a handful of SVG elements, not one per run: the
-    # renderer's time goes with their number); edges in the face colour hide the
-    # hairline seams between neighbouring runs
-    by_band: dict[tuple[float, float, float, float], list[Any]] = {}
-    for poly, colour in zip(polys, colours, strict=True):
-        by_band.setdefault(colour, []).append(MplPath(poly, closed=True))
-    for colour, paths in by_band.items():
-        ax.add_patch(
-            PathPatch(MplPath.make_compound_path(*paths), facecolor=colour, edgecolor=colour, linewidth=0.4)
-        )
+    # points per data unit of the printed drawing, at most (the axes are smaller than
+    # the figure): the fills' outlines are thinned to within TOLERANCE_PT of it
+    scale = (72.0 * width_in / (x[-1] - x[0]), 72.0 * height_in / (top - base))
+    for colour, path in _grade_fills(x, y, steep, bins, lambda s: cmap(norm(s)), base, scale).items():
+        ax.add_patch(PathPatch(path, facecolor=colour, edgecolor=colour, linewidth=0.4))
     ax.plot(x, y, color=INK, linewidth=0.8)
     ax.set_xlim(x[0], x[-1])
     ax.set_ylim(base, top)
@@ -186,6 +169,41 @@ def profile_figure(terrain, climbs, checkpoints, units, width_in, height_in, tex
         fig, ax, [(x, y) for y, x in tops], [w * x_scale for _, w in checkpoints], top, k
     )
     return fig, labels
+
+
+def _grade_fills(x, y, steep, bins, colour_of, base: float, scale: tuple[float, float]) -> dict:
+    """The profile's fill: one compound path per grade band (a handful of SVG elements,
+    not one per run: the renderer's time goes with their number), each run of one band
+    a polygon from the profile down to ``base``, in the colour (``colour_of``) of its
+    drawn stretches' mean steepness (``steep`` [%], one per stretch, in bands
+    ``bins``). The profile's outline in them is thinned
+    (:func:`cardgen.render.simplify.douglas_peucker`, at ``scale`` points per data
+    unit on x and y) to within :data:`~cardgen.render.simplify.TOLERANCE_PT` of the
+    full one, keeping every point where the band changes; the bottom edge is a single
+    segment. Edges in the face colour hide the hairline seams between neighbouring
+    runs. Returns {colour: path}."""
+    from matplotlib.path import Path as MplPath
+
+    kept = np.zeros(x.size, dtype=bool)
+    kept[douglas_peucker(x * scale[0], y * scale[1], TOLERANCE_PT)] = True
+    changes = np.flatnonzero(np.diff(bins)) + 1  # where a run of one band ends
+    kept[changes] = True
+    by_band: dict[Any, list[Any]] = {}
+    for start, end in zip(
+        np.concatenate(([0], changes)), np.concatenate((changes, [x.size - 1])), strict=True
+    ):
+        top = np.flatnonzero(kept[start : end + 1]) + start
+        # down to the base and back along it; the last vertex only closes the polygon
+        # (matplotlib ignores a closed path's last vertex)
+        outline = np.column_stack(
+            (
+                np.concatenate((x[top], [x[end], x[start], x[start]])),
+                np.concatenate((y[top], [base, base, y[start]])),
+            )
+        )
+        colour = colour_of(float(np.mean(steep[start:end])))
+        by_band.setdefault(colour, []).append(MplPath(outline, closed=True))
+    return {colour: MplPath.make_compound_path(*paths) for colour, paths in by_band.items()}
 
 
 #: Where a climb's number may go around its summit, as (x, y) in points from it with
