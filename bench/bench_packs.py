@@ -1,6 +1,7 @@
-"""Benchmark: the print packs' memory. The build's pack step (``render_packs``: each
-route's pack and the event's, with the cover from the theme and the two-up
-imposition) on an event of N cards on three routes, copies of real cards (the demo's,
+"""Benchmark: the print packs' memory. The build's pack step (this tree: the build's
+own ``_write_packs``, every pack in one pass over the cards; an earlier commit:
+``render_packs``, each route's pack and the event's, with the cover from the theme
+and the two-up imposition) on an event of N cards on three routes, copies of real cards (the demo's,
 built once with PDFs), by this tree and by an earlier commit side by side in the same
 run, each in a fresh interpreter; reports the peak resident memory and CPU seconds
 of each. Not part of the test run.
@@ -41,7 +42,19 @@ folder, routes = Path(sys.argv[1]), json.loads(Path(sys.argv[2]).read_text())
 config = SimpleNamespace(templates=None, units="metric", card_size="A5", large_print=False, title="Invented")
 t0 = time.process_time()
 written = 0
-for target, made in render_packs(config, routes, folder, {slug for slug, _ in routes}):
+try:  # this tree: the build's pack step, every file in one pass
+    from cardgen.build.pipeline import _write_packs
+    from cardgen.render.packs import write_packs
+    from cardgen.render.pages import pack_groups
+except ImportError:
+    made_here = []
+else:
+    _write_packs(config, pack_groups(config, routes, folder, {slug for slug, _ in routes}), 1, folder)
+    made_here = sorted(folder.rglob("all-cards*.pdf"))
+for target in made_here:
+    written += target.stat().st_size
+    target.unlink()
+for target, made in ([] if made_here else render_packs(config, routes, folder, {slug for slug, _ in routes})):
     if callable(made):  # this tree: the pack is streamed into its file
         with target.open("wb") as sink:
             made(sink)

@@ -228,3 +228,46 @@ def test_within_cp_allows_a_short_pitch_that_w_prime_covers():
     none = climb_options(motor, [(0, 90)], w_prime=excess * 0.5, **common)["within_cp"][:, 0]
     assert int(np.argmax(lots)) == 3  # level 3: W′ covers the pitch
     assert int(np.argmax(none)) == 4  # not enough W′: one level more
+
+
+def test_the_taper_root_is_brentqs_and_keeps_an_end_without_a_crossing():
+    """``falling_root`` against scipy's brentq (an independent root finder) on
+    functions that fall through zero steeply, gently and not at all; where the
+    function keeps one sign it gives the end the old bisection converged to."""
+    from scipy.optimize import brentq
+
+    from cardgen.physics.assist import ROOT_WIDTH, falling_root
+
+    roots = np.array([5.1, 6.2, 6.9, 5.0001])
+    scale = np.array([1.0, 300.0, 0.01, 50.0])
+
+    def fun(v, sel):  # a cubic that falls through zero at each root
+        return -scale[sel] * (v - roots[sel]) * (1.0 + (v - 5.0) ** 2)
+
+    got = falling_root(fun, np.full(4, 5.0), np.full(4, 7.0))
+    for k in range(4):
+        want = brentq(lambda v, k=k: float(fun(np.array([v]), np.array([k]))[0]), 5.0, 7.0, xtol=1e-14)
+        assert abs(got[k] - want) <= 2 * ROOT_WIDTH
+    # no crossing: positive throughout gives the upper end, negative the lower
+    ends = falling_root(
+        lambda v, sel: np.where(sel == 0, 1.0, -1.0) + 0 * v, np.full(2, 5.0), np.full(2, 7.0)
+    )
+    assert ends.tolist() == [7.0, 5.0]
+
+
+def test_assisted_speed_from_a_guess_is_the_same_speed():
+    """A first guess (the speeds at a nearby power, as the pacing grid passes them)
+    changes the steps, not the answer: within the solver's tolerance (1e-6) of the
+    speeds without one, on grades where many segments end inside the taper."""
+    from cardgen.physics.assist import assisted_speed
+
+    motor, res = find_motor("eu-pedelec"), builtin_vehicles()["e-assist-city"].resistance
+    grade = np.linspace(-0.06, 0.10, 400)
+    air = Air(np.linspace(-3.0, 3.0, 400), 1.2)
+    for ratio in motor.levels:
+        before = None
+        for power in (60.0, 65.0, 140.0):
+            cold = assisted_speed(motor, ratio, power, resistance=res, grade=grade, air=air)
+            warm = assisted_speed(motor, ratio, power, resistance=res, grade=grade, air=air, guess=before)
+            assert np.max(np.abs(warm - cold) / cold) < 1e-6
+            before = warm

@@ -123,7 +123,6 @@ def test_a_coach_sheet_fills_its_pages(tmp_path):
     assert "Rider" in second  # the page goes on under a table's repeated head
 
 
-
 def test_a_coach_sheets_climb_tables_line_up_and_nothing_overflows(tmp_path):
     """The coach sheet's climb tables take stated column widths (``table-layout:
     fixed``, no measuring of every cell): every climb table's heads stand at the same

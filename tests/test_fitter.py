@@ -8,7 +8,7 @@ import io
 import pytest
 from pypdf import PdfReader
 
-from cardgen.render.pdf import PREDICTION_MARGIN, Fitter, extent
+from cardgen.render.pdf import PREDICTION_MARGIN, Fitter, _keep, extent, predicted_over
 
 #: The content height of an A4 page with WeasyPrint's default 75 px margins [mm].
 A4_CONTENT_MM = 297 - 2 * 75 * 25.4 / 96
@@ -97,3 +97,65 @@ def test_a_card_that_needs_more_steps_on(tmp_path):
     _first_card(fitter, tmp_path)
     _, index, pages = fitter.fit((_doc(5, "d"), _doc(3, "d"), _doc(1, "d")), tmp_path, 2, "g")
     assert (index, pages, fitter.layouts) == (2, 2, 4)  # the choice overflowed; the last, padded to a sheet
+
+
+def _stacked(word: str, *shares: float) -> str:
+    """Blocks of the given shares of a page, none split across pages: a block that
+    does not fit below the one before starts a page, and the gap it leaves is not
+    in the extent."""
+    blocks = "".join(
+        f'<div style="break-inside: avoid; font-size: 10px; line-height: 10px">{word}'
+        f'<div style="height: {share * A4_CONTENT_MM - 10 * 25.4 / 96:.2f}mm"></div></div>'
+        for share in shares
+    )
+    return f"<!DOCTYPE html><html lang='en'><body style='margin: 0'>{blocks}</body></html>"
+
+
+def _tight(word: str, first: float = 0.6) -> tuple[str, str, str]:
+    """A card whose variant as is takes 3 pages though its extent is 1.95, within the
+    margin of the budget of 2 (blocks 0.6, 0.5, 0.85: the 0.5 and the 0.85 each start a
+    page), and whose condensed variant fits (0.6 + 0.3, then 0.85)."""
+    return (_stacked(word, first, 0.5, 0.85), _stacked(word, first, 0.3, 0.85), _stacked(word, 0.2))
+
+
+def test_a_card_as_large_as_one_that_overflowed_takes_one_layout(tmp_path):
+    """The extent step cannot tell: the first card's condensed variant (1.75 pages)
+    plus its step (0.2) is 1.95, within the margin of 2, yet the variant as is takes 3
+    pages. A later card of the group as large as the first (its name is longer, in
+    every variant alike) takes one layout; a smaller one (its first block 0.55 of a
+    page: condensed 1.70) lays the variant before out, and it overflows too."""
+    fitter = Fitter()
+    _, index, pages = fitter.fit(_tight("first"), tmp_path, 2, "g")
+    assert (index, pages, fitter.layouts) == (1, 2, 2)  # as is (3 pages), then condensed
+    assert 1.75 + fitter.learned["g"]["steps"][0] - PREDICTION_MARGIN <= 2
+    _, index, pages = fitter.fit(_tight("a longer name"), tmp_path, 2, "g")
+    assert (index, pages, fitter.layouts) == (1, 2, 3)
+    _, index, pages = fitter.fit(_tight("smaller", first=0.55), tmp_path, 2, "g")
+    assert (index, pages, fitter.layouts) == (1, 2, 5)
+    assert len(fitter._layout(_tight("a longer name")[0], tmp_path).pages) == 3  # the one it did not lay out
+
+
+def test_what_a_larger_card_fitted_keeps_a_card_from_being_predicted_over():
+    """Sizes are (extent of the measured variant [pages], characters the target
+    variant adds). Overflowed at (1.90, 100); fitted at (2.00, 120): the group's
+    layouts do not grow with size between them, so a card between is laid out; a
+    card larger than both is known to overflow, one smaller than the overflow is not."""
+    sizes: dict = {}
+    _keep(sizes.setdefault((1, 0), {"over": [], "fit": []}), "over", (1.90, 100))
+    _keep(sizes[(1, 0)], "fit", (2.00, 120))
+    assert not predicted_over(sizes, (1, 0), (1.95, 110))
+    assert predicted_over(sizes, (1, 0), (2.05, 130))
+    assert predicted_over(sizes, (1, 0), (1.95, 125))  # adds more than the fitted card
+    assert not predicted_over(sizes, (1, 0), (1.85, 130))
+    assert not predicted_over(sizes, (1, 0), (1.95, 90))  # adds less than the one that overflowed
+    assert not predicted_over(sizes, (2, 0), (2.05, 130))  # nothing seen for that pair
+
+
+def test_only_the_sizes_that_decide_are_kept():
+    points = {"over": [], "fit": []}
+    for size in [(1.9, 100), (2.0, 110), (1.8, 120), (1.7, 130)]:
+        _keep(points, "over", size)
+    assert sorted(points["over"]) == [(1.7, 130), (1.8, 120), (1.9, 100)]  # (2.0, 110) is above (1.9, 100)
+    for size in [(1.5, 50), (1.6, 60), (1.4, 70)]:
+        _keep(points, "fit", size)
+    assert sorted(points["fit"]) == [(1.4, 70), (1.6, 60)]

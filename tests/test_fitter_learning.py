@@ -64,3 +64,24 @@ def test_what_fitters_learned_merges_steps_by_minimum_and_choices_by_count():
         ("r", "road"): {"steps": {0: 0.7, 1: 0.5}, "chosen": {1: 4, 2: 2}},
         ("r", "tandem"): {"steps": {0: 0.8}, "chosen": {0: 1}},
     }
+
+
+def test_sizes_learned_in_two_processes_merge_to_what_decides():
+    """Overflowed sizes keep their least, fitted sizes their largest
+    (:func:`cardgen.render.pdf.predicted_over`)."""
+    learned: dict = {}
+    _learn(
+        learned,
+        {("r", "road"): {"steps": {}, "chosen": {}, "sizes": {(1, 0): {"over": [(1.9, 10)], "fit": []}}}},
+    )
+    _learn(
+        learned,
+        {
+            ("r", "road"): {
+                "steps": {},
+                "chosen": {},
+                "sizes": {(1, 0): {"over": [(1.8, 10)], "fit": [(1.5, 4)]}},
+            }
+        },
+    )
+    assert learned[("r", "road")]["sizes"] == {(1, 0): {"over": [(1.8, 10)], "fit": [(1.5, 4)]}}

@@ -180,6 +180,42 @@ def test_the_motor_stops_when_the_battery_is_empty_mid_climb():
     assert used == pytest.approx(motor.usable_battery, rel=0.005)
 
 
+def test_a_plan_already_ridden_is_the_first_round_of_the_battery_cut():
+    """Handing ``pace`` the plan it would work out first (``fitted``) changes nothing:
+    the same power, ride and switch-off, bit for bit."""
+    course, _, _ = _battery_course()
+    rider = dict(mean_power=100.0, cp=150.0, w_prime=10500.0, top=165.0)
+    uncut = pace(course, **rider, cut=False)
+    fresh = pace(course, **rider)
+    reused = pace(course, **rider, fitted=uncut)
+    assert reused.empty_at == fresh.empty_at
+    assert np.array_equal(reused.pacing.power, fresh.pacing.power)
+    assert np.array_equal(reused.ride.elapsed, fresh.ride.elapsed)
+    assert np.array_equal(reused.assist_ratio, fresh.assist_ratio)
+
+
+@pytest.mark.parametrize("motor", [False, True])
+def test_the_grids_block_times_are_the_times_at_the_grid_powers(motor):
+    """The shared grid solves each power from the speeds of the one before: its block
+    times are the sums of :meth:`Course.times` worked out from nothing at the same
+    powers (within the solver's 1e-6), with and without a motor."""
+    from cardgen.plan import pacing
+
+    course, _, _ = _battery_course()
+    if not motor:
+        course = dataclasses.replace(course, motor=None, assist_ratio=None)
+    pacing._grids.clear()
+    grid = pacing._Grid(course)
+    ks = [20, 21, 22, 40, 41, 60, 61, 62, 75]
+    ratio = 1.0 if motor else 0.0
+    columns = grid._columns(course, ks[:3], ratio, {})  # the first from nothing
+    columns.update(grid._columns(course, ks[3:], ratio, columns))  # from the nearest
+    powers = pacing.GRID_LOW * pacing.GRID_RATIO ** np.asarray(ks, dtype=float)
+    cold = np.add.reduceat(course.times(powers, ratio=ratio), grid.starts[:-1], axis=1)
+    warm = np.exp(np.stack([columns[k] for k in ks]))
+    assert np.allclose(warm, cold, rtol=1e-6, atol=0)
+
+
 def test_route_trace_writes_every_node(tmp_path, cli):
     track_path = profile_gpx(
         tmp_path / "t.gpx", np.arange(0, 5001, 10.0), 30 * np.sin(np.arange(0, 5001, 10.0) / 800)

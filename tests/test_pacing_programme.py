@@ -123,3 +123,30 @@ def test_the_forward_pass_keeps_the_earlier_choices():
             cp = 240.0
             w = w - (power - cp) * t if power >= cp else w0 - (w0 - w) * math.exp(-(cp - power) * t / w0)
             assert w >= programme.floor - 1e-9
+
+
+def test_plans_worked_out_a_few_multipliers_at_a_time_are_those_of_all_at_once():
+    """``_closest`` solves the programme from the lowest (or middle) multipliers
+    outward until the means cross the target: for targets below, inside, above and
+    between its multipliers' means, the κ and plan are those of the closest mean of
+    every multiplier solved at once (what the earlier code did), and each row is the
+    same bit for bit whatever it is solved with."""
+    from cardgen.plan.pacing import FIRST_KAPPAS, _closest, _mean, _Tried
+
+    programme, _ = _programme()
+    powers, times = programme.powers, programme.all_times
+    kappas = np.geomspace(20.0, 80.0, 16)
+    every = programme.solve(kappas)
+    means = _mean(powers, times, every)
+    assert np.all(np.diff(means) >= 0) and means[-1] > means[0]  # the mean rises with κ
+    assert np.array_equal(every[5:9], programme.solve(kappas[5:9]))
+    targets = [means[0] - 5.0, means[1], 0.5 * (means[2] + means[3]), means[9] + 0.1, means[-1] + 5.0]
+    for target in targets:
+        want = int(np.argmin(np.abs(means - target)))
+        for start in (0, None):
+            tried = _Tried()
+            kappa, plan = _closest(programme.solve, powers, times, target, kappas, start, tried)
+            assert kappa == kappas[want]
+            assert np.array_equal(plan, every[want])
+            if start == 0 and want < FIRST_KAPPAS - 1:  # bracketed by the first few: no more solved
+                assert len(tried.plans) == FIRST_KAPPAS

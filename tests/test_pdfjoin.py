@@ -12,7 +12,7 @@ import pikepdf
 import pytest
 from pypdf import PdfReader
 
-from cardgen.render.packs import A5, PackEntry, write_pack, write_two_up
+from cardgen.render.packs import A5, PackEntry, PackFiles, write_pack, write_packs, write_two_up
 from cardgen.render.pdfjoin import PageWriter
 
 
@@ -238,3 +238,54 @@ def test_the_bytes_do_not_depend_on_the_string_hash_seed():
         for seed in ("1", "2", "3")
     }
     assert len(digests) == 1
+
+
+def test_one_pass_writes_each_pack_as_a_pass_of_its_own_would_and_reads_each_card_once(
+    cards, tmp_path, monkeypatch
+):
+    """Two routes' packs and the event's (the routes' cards one after the other), each
+    as it is and two-up, written together: the same bytes as each file written on
+    its own, and every card file opened once (not four times)."""
+    cover, entries = cards
+    routes = [tuple(entries[:3]), tuple(entries[3:])]  # 3 cards (an odd count: pairs shift) and 2
+    everyone = tuple(entries)
+    alone = []
+    for members in (*routes, everyone):
+        flat, two = io.BytesIO(), io.BytesIO()
+        write_pack(cover, members, flat, "all-cards", A5)
+        write_two_up(cover, members, two, "all-cards-2up")
+        alone += [flat.getvalue(), two.getvalue()]
+    opened: list[str] = []
+    real_open = pikepdf.open
+
+    def counted(source, *args, **kwargs):
+        if isinstance(source, Path):
+            opened.append(source.name)
+        return real_open(source, *args, **kwargs)
+
+    monkeypatch.setattr(pikepdf, "open", counted)
+    sinks = [io.BytesIO() for _ in range(6)]
+    write_packs(
+        [
+            PackFiles(cover, members, A5, sinks[2 * k], sinks[2 * k + 1])
+            for k, members in enumerate((*routes, everyone))
+        ]
+    )
+    assert [s.getvalue() for s in sinks] == alone
+    assert sorted(opened) == sorted(e.pdf.name for e in entries)
+
+
+def test_a_pack_out_of_the_common_order_gets_a_pass_of_its_own(cards):
+    cover, entries = cards
+    backwards = tuple(reversed(entries))
+    expected = io.BytesIO()
+    write_pack(cover, backwards, expected, "all-cards", A5)
+    sinks = [io.BytesIO(), io.BytesIO()]
+    write_packs(
+        [
+            PackFiles(cover, tuple(entries), A5, sinks[0], None),
+            PackFiles(cover, backwards, A5, sinks[1], None),
+        ]
+    )
+    assert sinks[1].getvalue() == expected.getvalue()
+    assert _labels(sinks[1].getvalue())[4:6] == ["c5/1", "c5/2"]  # after the cover of 3 pages and its blank

@@ -117,3 +117,22 @@ def test_round_trip_speed_power_speed(v, grade, wind, mass, cda):
         assert power_for_speed(back, grade=grade, headwind=wind, **params) == pytest.approx(
             power, rel=1e-6, abs=1e-6
         )
+
+
+def test_a_first_guess_gives_the_same_speed_as_a_root_finder():
+    """``guess`` only moves where the iteration starts: from guesses too low, too high,
+    zero, NaN and near the answer, the speed is scipy's brentq root of v·F(v) = P (an
+    independent root finder) on climbs, the flat and descents, within rtol."""
+    from scipy.optimize import brentq
+
+    grades = np.array([-0.08, -0.03, 0.0, 0.02, 0.06, 0.12])
+    powers = np.array([[5.0], [60.0], [180.0], [400.0]])
+    cold = speed_for_power(powers, grade=grades, **UPRIGHT)
+    for guess in (0.3 * cold, 3.0 * cold, np.zeros_like(cold), np.full_like(cold, np.nan), 1.01 * cold):
+        warm = speed_for_power(powers, grade=grades, rtol=1e-10, guess=guess, **UPRIGHT)
+        for (i, j), got in np.ndenumerate(warm):
+
+            def excess(v, i=i, j=j):
+                return float(power_for_speed(v, grade=grades[j], **UPRIGHT)) - powers[i, 0]
+
+            assert got == pytest.approx(brentq(excess, 1e-6, 60.0, xtol=1e-12), rel=1e-9)

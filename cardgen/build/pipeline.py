@@ -21,7 +21,7 @@ import zlib
 from collections.abc import Callable, Iterable, Iterator, Mapping
 from concurrent.futures import ProcessPoolExecutor
 from concurrent.futures.process import BrokenProcessPool
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from pathlib import Path
 
 from cardgen import __version__
@@ -519,34 +519,38 @@ def _render_cards(cards: list, jobs: int, tmp: Path, progress) -> tuple[int, dic
     return layouts, pages
 
 
-def _write_pack_group(task) -> int:
-    """Worker: the pack files of one :class:`~cardgen.render.pages.PackGroup`, each
-    streamed into its file (a pack is never whole in memory). Returns the length of
-    the packs' cover."""
+def _pack_cover(task):
+    """Worker: the cover of one :class:`~cardgen.render.pages.PackGroup`'s packs laid
+    out and written (:func:`~cardgen.render.pages.render_pack_group`)."""
     from cardgen.render.pages import render_pack_group
 
-    config, group = task
-    cover_pages, files = render_pack_group(config, group)
-    for target, write in files:
-        with target.open("wb") as sink:
-            write(sink)
-    return cover_pages
+    return render_pack_group(*task)
 
 
 def _write_packs(config, groups: list, jobs: int, tmp: Path) -> dict[str, int]:
-    """Write the print packs, one group (a route's packs, the event's) per worker
-    process when ``jobs`` > 1. The event's pack holds every card, as many as all the
-    routes' packs together, so it goes first: with two workers, one makes it while the
-    other makes the routes'. Returns each pack's cover length, by its folder relative
-    to ``tmp`` (for the manifest: the next build's first guess)."""
+    """Write the print packs. The covers first: the shortest group's (a route's packs,
+    or the event's) here, then the others from its rows per page (each laid out once
+    where that guess of its length holds), one group per worker process when ``jobs``
+    > 1, the event's (the longest) first; then every pack file in one pass over the
+    cards, here (:func:`~cardgen.render.packs.write_packs`: each card read once for
+    its route's packs and the event's). Returns each pack's cover length, by its
+    folder relative to ``tmp`` (for the manifest: the next build's first guess)."""
+    from cardgen.render.packs import write_packs
+
+    if not groups:
+        return {}
     groups = sorted(groups, key=lambda g: -len(g.entries))
-    covers = {}
-    with _pool(jobs, len(groups)) as pool:
-        tasks = [(config, g) for g in groups]
-        for group, length in zip(
-            groups, _map(pool, _write_pack_group, tasks, "a print-pack process"), strict=True
-        ):
+    first = _pack_cover((config, groups[-1]))
+    tasks = [(config, g, first[3]) for g in groups[:-1]]
+    with _pool(jobs, len(tasks)) as pool:
+        made = [*_map(pool, _pack_cover, tasks, "a print-pack process"), first]
+    covers, packs = {}, []
+    with contextlib.ExitStack() as files:
+        for group, (length, pack, (flat, two_up), _) in zip(groups, made, strict=True):
             covers[group.where.relative_to(tmp).as_posix()] = length
+            sinks = [files.enter_context(path.open("wb")) if path else None for path in (flat, two_up)]
+            packs.append(replace(pack, flat=sinks[0], two_up=sinks[1]))
+        write_packs(packs)
     return covers
 
 

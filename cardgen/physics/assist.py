@@ -114,26 +114,29 @@ def assisted_speed(
     resistance: Resistance,
     grade: Floats,
     air: Air,
+    guess: Floats | None = None,
 ) -> Floats:
     """Steady speed [m/s] with the rider's power and assist at ``ratio``, on ``grade``
-    [-] in ``air``.
+    [-] in ``air``; ``guess`` [m/s] starts the speed iterations (as in
+    :func:`~cardgen.physics.steady.speed_for_power`).
 
     Notes
     -----
     The wheel power available, P_r·E + boost·taper(v), falls with speed inside the
     taper while the power needed rises, so there is one steady speed. Full assist
     stands when it stays below the taper; the rider alone stands when that already
-    reaches the cut-off; otherwise the speed lies inside the taper and is found by
-    bisection there (40 halvings: far below any printed digit).
+    reaches the cut-off; otherwise the speed lies inside the taper and is found there
+    to 1e-12 m/s (:func:`falling_root`).
     """
     rider_power = np.asarray(rider_power, dtype=float)
     wheel = np.where(rider_power > 0, rider_power * resistance.efficiency, rider_power)
     boost = np.minimum(ratio * np.maximum(rider_power, 0.0), motor.peak_power)
     road: dict[str, Any] = dict(resistance=resistance, grade=grade, air=air, at_wheel=True)
-    full = np.asarray(steady_speed(wheel + boost, **road, rtol=1e-6), dtype=float)
+    full = np.asarray(steady_speed(wheel + boost, **road, rtol=1e-6, guess=guess), dtype=float)
     start = motor.cutoff_speed - motor.taper
     if motor.taper <= 0 or not np.any(full > start):
-        return np.where(full < motor.cutoff_speed, full, steady_speed(wheel, **road, rtol=1e-6))[()]
+        alone = steady_speed(wheel, **road, rtol=1e-6, guess=guess)
+        return np.where(full < motor.cutoff_speed, full, alone)[()]
     shape = np.broadcast(
         wheel, boost, full, *(np.asarray(x) for x in (grade, air.headwind, air.air_density))
     ).shape
@@ -155,7 +158,10 @@ def assisted_speed(
             at_wheel=True,
         )
 
-    alone = np.asarray(steady_speed(at(wheel, boosted), **road_at(boosted), rtol=1e-6), dtype=float)
+    first = None if guess is None else at(guess, boosted)
+    alone = np.asarray(
+        steady_speed(at(wheel, boosted), **road_at(boosted), rtol=1e-6, guess=first), dtype=float
+    )
     out[boosted] = alone
     inside = np.zeros(shape, dtype=bool)
     inside[boosted] = alone < motor.cutoff_speed
@@ -163,17 +169,62 @@ def assisted_speed(
         lo = np.maximum(alone[alone < motor.cutoff_speed], start)
         hi = np.minimum(at(full, inside), motor.cutoff_speed)
         wheel_i, boost_i, there = at(wheel, inside), at(boost, inside), road_at(inside)
-        for _ in range(40):
-            mid = 0.5 * (lo + hi)
-            surplus = (
-                wheel_i
-                + boost_i * taper_factor(mid, motor.cutoff_speed, motor.taper)
-                - steady_power(mid, **there)
-            )
-            lo = np.where(surplus > 0, mid, lo)
-            hi = np.where(surplus > 0, hi, mid)
-        out[inside] = 0.5 * (lo + hi)
+
+        def surplus(v: np.ndarray, sel: np.ndarray) -> np.ndarray:
+            road = dict(there, grade=there["grade"][sel], air=there["air"].over(sel))
+            taper = taper_factor(v, motor.cutoff_speed, motor.taper)
+            return np.asarray(wheel_i[sel] + boost_i[sel] * taper - steady_power(v, **road), dtype=float)
+
+        out[inside] = falling_root(surplus, lo, hi)
     return out[()]
+
+
+#: The taper's speed is found to this width [m/s] (far below any printed digit) …
+ROOT_WIDTH = 1e-12
+#: … in at most this many steps.
+ROOT_STEPS = 60
+
+
+def falling_root(fun: Any, lo: np.ndarray, hi: np.ndarray) -> np.ndarray:
+    """Where ``fun(v, sel)`` (of the elements ``sel``) falls through 0 between ``lo``
+    and ``hi`` [m/s], element by element: the end where it keeps one sign throughout
+    (``lo`` where it is ≤ 0 there, ``hi`` where it is still > 0 at ``hi``).
+
+    Notes
+    -----
+    The Illinois variant of regula falsi (Dowell & Jarratt 1971): the bracket shrinks
+    from both ends, superlinearly, to :data:`ROOT_WIDTH`; elements that have
+    converged drop out.
+
+    References
+    ----------
+    Dowell, M. & Jarratt, P. (1971). A modified regula falsi method for computing the
+    root of an equation. *BIT* 11:168–174.
+    """
+    lo, hi = np.array(lo, dtype=float), np.array(hi, dtype=float)
+    every = np.arange(lo.size)
+    f_lo, f_hi = fun(lo, every), fun(hi, every)
+    out = np.where(f_lo <= 0, lo, hi)
+    active = np.flatnonzero((f_lo > 0) & (f_hi <= 0) & (hi - lo > ROOT_WIDTH))
+    a, b, fa, fb = lo[active], hi[active], f_lo[active], f_hi[active]
+    side = np.zeros(active.size, dtype=np.int8)  # the end moved last: 1 low, −1 high
+    for _ in range(ROOT_STEPS):
+        if not active.size:
+            break
+        x = np.clip(b - fb * (b - a) / (fb - fa), a, b)
+        f = fun(x, active)
+        up = f > 0
+        # Illinois: an end kept twice in a row has its value halved
+        fb = np.where(up & (side == 1), 0.5 * fb, fb)
+        fa = np.where(~up & (side == -1), 0.5 * fa, fa)
+        a, fa = np.where(up, x, a), np.where(up, f, fa)
+        b, fb = np.where(up, b, x), np.where(up, fb, f)
+        side = np.where(up, 1, -1).astype(np.int8)
+        out[active] = 0.5 * (a + b)
+        done = (b - a <= ROOT_WIDTH) | (f == 0)
+        out[active[f == 0]] = x[f == 0]
+        active, a, b, fa, fb, side = (v[~done] for v in (active, a, b, fa, fb, side))
+    return out
 
 
 def rider_power_for_speed(

@@ -10,7 +10,7 @@ import re
 import statistics
 import traceback
 from collections.abc import Callable, Iterator
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from datetime import UTC, datetime
 from pathlib import Path
 from typing import Any, BinaryIO
@@ -933,20 +933,22 @@ def pack_groups(
     return groups
 
 
-def render_pack_group(config, group: PackGroup) -> tuple[int, list[tuple[Path, Callable[[BinaryIO], None]]]]:
-    """The cover's length and the files of ``group``: ``all-cards.pdf``, and
-    ``all-cards-2up.pdf`` beside it for A5 cards, each with the function that writes
-    the pack into it (a binary file open for writing). A pack is streamed card by
-    card, never held whole (the event's pack at 3,000 riders is some 400 MB of PDF);
-    both share one cover."""
-    from cardgen.render.packs import pack_cover, write_pack, write_two_up
+def render_pack_group(config, group: PackGroup, per_page: tuple[int, int] | None = None):
+    """The cover's length, the packs of ``group`` to write
+    (:class:`~cardgen.render.packs.PackFiles`, without their files), their files
+    (``all-cards.pdf``, and ``all-cards-2up.pdf`` beside it for A5 cards, else None)
+    and the cover's rows per page (``per_page``: another cover's, for a first guess
+    of this one's length: :func:`~cardgen.render.packs.pack_cover`). Both files share
+    one cover; :func:`~cardgen.render.packs.write_packs` streams them card by card,
+    never whole (the event's pack at 3,000 riders is some 400 MB of PDF)."""
+    from cardgen.render.packs import PackFiles, pack_cover
 
     env = _environment(config.templates, config.units)
     page = page_geometry(config.card_size, config.large_print)
     size = {"A5": (419.53, 595.28), "A4": (595.28, 841.89), "pocket": (280.63, 595.28)}[config.card_size]
     template = env.get_template("cover.html")
-    entries = list(group.entries)
-    cover, firsts = pack_cover(
+    entries = tuple(group.entries)
+    cover, firsts, rows = pack_cover(
         entries,
         lambda rows: template.render(
             title=config.title,
@@ -959,30 +961,31 @@ def render_pack_group(config, group: PackGroup) -> tuple[int, list[tuple[Path, C
         group.where,
         size,
         group.cover_pages,
+        per_page,
     )
-    files: list[tuple[Path, Callable[[BinaryIO], None]]] = [
-        (
-            group.where / "all-cards.pdf",
-            functools.partial(write_pack, cover, entries, title="all-cards", page_size=size),
-        )
-    ]
-    if config.card_size == "A5":
-        files.append(
-            (
-                group.where / "all-cards-2up.pdf",
-                functools.partial(write_two_up, cover, entries, title="all-cards-2up"),
-            )
-        )
-    return firsts[0] - 1, files
+    two_up = group.where / "all-cards-2up.pdf" if config.card_size == "A5" else None
+    files = (group.where / "all-cards.pdf", two_up)
+    return firsts[0] - 1, PackFiles(cover, entries, size, None, None), files, rows
 
 
 def render_packs(
     config, routes: list[tuple[str, dict]], folder: Path, fresh: set[str]
 ) -> Iterator[tuple[Path, Callable[[BinaryIO], None]]]:
-    """Every print pack of :func:`pack_groups`, one after the other
-    (:func:`render_pack_group`)."""
+    """Every file of the print packs of :func:`pack_groups`, one after the other, each
+    with the function that writes it into a binary file open for writing (a pass over
+    the cards per file; the build writes them all in one pass)."""
     for group in pack_groups(config, routes, folder, fresh):
-        yield from render_pack_group(config, group)[1]
+        _, pack, (flat, two_up), _ = render_pack_group(config, group)
+        yield flat, functools.partial(_write_one, pack, "flat")
+        if two_up is not None:
+            yield two_up, functools.partial(_write_one, pack, "two_up")
+
+
+def _write_one(pack, field: str, sink: BinaryIO) -> None:
+    """One file of ``pack`` (``field``: "flat" or "two_up") into ``sink``."""
+    from cardgen.render.packs import write_packs
+
+    write_packs([replace(pack, **{field: sink})])
 
 
 def route_summary(job: RouteJob, views, units: str, to_second: bool = False) -> dict:

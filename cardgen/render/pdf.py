@@ -132,10 +132,13 @@ class Fitter:
        cards of other groups (same ``base``) chose, and uses their steps.
     3. When a variant ``i`` fits, the one before it overflows if its extent, predicted
        as ``X[i]`` plus the least step the group (else the route) has shown, passes its page limit by
-       more than :data:`PREDICTION_MARGIN`; the card then takes that one layout.
-       Otherwise the variant before is laid out, and taken when it fits (and so on
-       back). A variant with the same HTML as one already laid out is never laid out
-       again.
+       more than :data:`PREDICTION_MARGIN`, or if the card is at least as large as a
+       card of its group seen to overflow there (:func:`predicted_over`: the
+       measured extent and the text the variant adds); the card then takes that one
+       layout. Otherwise the variant before is laid out, and taken when it fits (and
+       so on back). Stepping on (2), a variant the card is at least as large as a
+       card seen to overflow there is passed over (never the last). A variant with the
+       same HTML as one already laid out is never laid out again.
 
     The printed PDF is written from the layout that was measured. Continuation
     variants (twice the budget, ended on a whole sheet) repeat the HTML of the steps
@@ -148,8 +151,9 @@ class Fitter:
 
     def __init__(self, learned: dict | None = None) -> None:
         #: group → {"steps": {variant j: least extent step X[j] − X[j+1] seen
-        #: [pages]}, "chosen": {variant: cards}} (``learned``: what earlier fitters of
-        #: the build learned, to start from: :func:`merge_learned`)
+        #: [pages]}, "chosen": {variant: cards}, "sizes": (:func:`predicted_over`)}
+        #: (``learned``: what earlier fitters of the build learned, to start from:
+        #: :func:`merge_learned`)
         self.learned: dict = merge_learned({}, learned or {})
         self.cache: dict = {}
         self.layouts = 0
@@ -180,24 +184,31 @@ class Fitter:
         route = self.learned.setdefault(("route", str(base)), {"steps": {}, "chosen": {}})
         steps = {**route["steps"], **known["steps"]}
         chosen = known["chosen"] or route["chosen"]
+        sizes = known.setdefault("sizes", {})
+
+        def over(measured: int, target: int) -> bool:  # known to overflow without a layout
+            if variants[target] in laid:
+                return False
+            x = layout(measured)[2]
+            step = steps.get(target) if target == measured - 1 else None
+            if step is not None and x + step - PREDICTION_MARGIN > limits[target]:
+                return True
+            size = (x, len(variants[target]) - len(variants[measured]))
+            return predicted_over(sizes, (measured, target), size)
+
         index = min(min(chosen, key=lambda v: (-chosen[v], v)) if chosen else 0, last)
         while layout(index)[1] > limits[index] and index < last:  # 2: step on while it overflows
-            index += 1
+            measured, index = index, index + 1
+            while index < last and over(measured, index):
+                index += 1
         while index > 0 and layout(index)[1] <= limits[index]:  # 3: back while the one before fits
             before = index - 1
-            if variants[before] not in laid:
-                step = steps.get(before)
-                if step is not None and layout(index)[2] + step - PREDICTION_MARGIN > limits[before]:
-                    break
-            if layout(before)[1] > limits[before]:
+            if over(index, before) or layout(before)[1] > limits[before]:
                 break
             index = before
         for table in (known, route):  # 1: what this card showed
-            for j in range(last):
-                a, b = variants[j], variants[j + 1]
-                if a != b and a in laid and b in laid:
-                    table["steps"][j] = min(table["steps"].get(j, math.inf), laid[a][2] - laid[b][2])
-            table["chosen"][index] = table["chosen"].get(index, 0) + 1
+            _learn_steps(table, variants, laid, index)
+        _learn_sizes(sizes, variants, laid, limits)
         document, pages, _ = layout(index)
         with _quiet_collector():
             data = written(document, self.cache)
@@ -214,6 +225,16 @@ class Fitter:
         return document
 
 
+def _learn_steps(table: dict, variants, laid: dict, chosen: int) -> None:
+    """Add a card's extent steps (between variants laid out one after the other) and
+    its chosen variant to ``table`` (:attr:`Fitter.learned` of a group or route)."""
+    for j in range(len(variants) - 1):
+        a, b = variants[j], variants[j + 1]
+        if a != b and a in laid and b in laid:
+            table["steps"][j] = min(table["steps"].get(j, math.inf), laid[a][2] - laid[b][2])
+    table["chosen"][chosen] = table["chosen"].get(chosen, 0) + 1
+
+
 def merge_learned(learned: dict, more: dict) -> dict:
     """Add what a fitter learned (``more``, :attr:`Fitter.learned`) to ``learned``
     (changed and returned): per group, the least extent step of each variant and the
@@ -224,7 +245,66 @@ def merge_learned(learned: dict, more: dict) -> dict:
             mine["steps"][j] = min(mine["steps"].get(j, math.inf), step)
         for v, cards in seen["chosen"].items():
             mine["chosen"][v] = mine["chosen"].get(v, 0) + cards
+        for pair, points in seen.get("sizes", {}).items():
+            for outcome, kept in points.items():
+                for size in kept:
+                    _keep(
+                        mine.setdefault("sizes", {}).setdefault(pair, {"over": [], "fit": []}), outcome, size
+                    )
     return learned
+
+
+def predicted_over(sizes: dict, pair: tuple[int, int], size: tuple[float, int]) -> bool:
+    """Whether variant ``t`` of a card overflows its page limit, judged without laying
+    it out from the card's layout of variant ``m`` (``pair`` = (m, t)) and what other
+    cards of its group showed.
+
+    A card's *size* for the pair is (the extent ``X[m]`` of its layout of ``m``
+    [pages], the characters variant ``t``'s HTML has more than ``m``'s). Cards of one
+    group share their tables, cues and drawings, so a card at least as large as
+    another in both (more content at ``m``, and at least as much added by ``t``) has
+    at least as much content at ``t``. ``t`` is taken to overflow when some card of
+    the group whose size is at most this card's overflowed at ``t``, and no card of
+    at least this card's size fitted there (where the group has shown both, the
+    layouts do not grow with size there, and ``t`` is laid out). ``sizes`` holds,
+    per pair, the least sizes seen to overflow and the largest seen to fit
+    (:func:`_learn_sizes`). Page breaks make the extent at which a variant overflows
+    vary by a few hundredths of a page between cards (a card of 1.94 pages that
+    overflows two beside one of 1.96 that fits), which a margin on the extent alone
+    cannot tell apart; the card's own size against its group's can."""
+    seen = sizes.get(pair)
+    if not seen:
+        return False
+    x, d = size
+    below = any(px <= x and pd <= d for px, pd in seen["over"])
+    return below and not any(qx >= x and qd >= d for qx, qd in seen["fit"])
+
+
+def _learn_sizes(sizes: dict, variants, laid: dict, limits: list[int]) -> None:
+    """Add a card's outcomes to ``sizes`` (:func:`predicted_over`): for every two of
+    its variants with different HTML that were laid out, measured ``m`` and target
+    ``t``, the card's size and whether ``t`` was within its limit."""
+    for m, measured in enumerate(variants):
+        for t, target in enumerate(variants):
+            if measured == target or measured not in laid or target not in laid:
+                continue
+            outcome = "fit" if laid[target][1] <= limits[t] else "over"
+            size = (laid[measured][2], len(target) - len(measured))
+            _keep(sizes.setdefault((m, t), {"over": [], "fit": []}), outcome, size)
+
+
+def _keep(points: dict, outcome: str, size: tuple[float, int]) -> None:
+    """Add ``size`` to ``points[outcome]``, keeping only the least sizes that
+    overflowed and the largest that fitted (the others decide nothing)."""
+    kept = points[outcome]
+    sign = 1 if outcome == "over" else -1  # "over": keep the minima; "fit": the maxima
+
+    def covers(a, b) -> bool:  # a decides at least what b does
+        return sign * (b[0] - a[0]) >= 0 and sign * (b[1] - a[1]) >= 0
+
+    if any(covers(p, size) for p in kept):
+        return
+    kept[:] = [p for p in kept if not covers(size, p)] + [tuple(size)]
 
 
 def extent(document) -> float:

@@ -7,6 +7,11 @@ source's pages to the output as soon as it is reached, renumbered, and forgets t
 source when the caller closes it: what it keeps is one offset per object written
 (8 bytes) and one number per page.
 
+A source is read once (:class:`Source`): each object it reaches is turned into its
+PDF text with the references left open, so one card goes into several packs (its
+route's and the event's, each as it is and two-up) for the price of one reading;
+each pack numbers the references as it writes them.
+
 The output is a plain PDF (ISO 32000-1 §7.5: header, indirect objects, one
 cross-reference table, trailer) with one flat page tree. Stream data is copied as it
 is stored (still compressed, never decoded; a stream without a filter is
@@ -32,13 +37,129 @@ INHERITED = ("/Resources", "/MediaBox", "/CropBox", "/Rotate")
 CATALOG, PAGES = 1, 2
 
 
+class Source:
+    """A PDF read once, for any number of :class:`PageWriter`: each page as a page and
+    as a form XObject, and every object these reach, as PDF text whose references are
+    left open (*templates*: byte strings, and the (object, generation) keys of the
+    source's objects in the order they appear). The PDF (an open ``pikepdf.Pdf``) is
+    read while this is made and may be closed after."""
+
+    def __init__(self, pdf) -> None:
+        self.pages: list[tuple[int, int]] = []  # each page's key
+        self.page_bodies: list[list] = []  # each page as a page of the output's tree
+        self.forms: list[tuple[str, Any]] = []  # each page as a form: ("body", template) or ("ref", key)
+        self.objects: dict[tuple[int, int], list] = {}  # key → template of the object's body
+        self._pdf = pdf
+        for page in pdf.pages:
+            entries = _page_dict(page.obj)
+            self.pages.append(page.obj.objgen)
+            self.page_bodies.append(
+                [
+                    b"<< /Type /Page /Parent 2 0 R ",
+                    *self._entries([(k, v) for k, v in entries.items() if k != "/Type"]),
+                    b" >>",
+                ]
+            )
+            self.forms.append(self._form(page, entries))
+        done: set = set()
+        todo = [
+            piece
+            for t in (*self.page_bodies, *(f for kind, f in self.forms if kind == "body"))
+            for piece in t
+            if type(piece) is tuple
+        ]
+        todo += [f for kind, f in self.forms if kind == "ref"]
+        while todo:  # every object the pages reach, each once
+            key = todo.pop()
+            if key in done:
+                continue
+            done.add(key)
+            template = self.objects[key] = self._object(pdf.get_object(key))
+            todo.extend(piece for piece in template if type(piece) is tuple)
+        self._pdf = None
+
+    def _form(self, page, entries: dict) -> tuple[str, Any]:
+        """The page as a form XObject (ISO 32000-1 §8.10): its content stream as stored
+        (not decoded), its resources, and its trim box (else crop box, else media
+        box) as the form's bounding box, as qpdf's form of a page has. A page of
+        several content streams or turned (/Rotate) is left to qpdf
+        (``as_form_xobject``)."""
+        import pikepdf
+
+        contents = entries.get("/Contents")
+        if contents is None or not _is(contents, "stream") or entries.get("/Rotate", 0) % 360:
+            form = pikepdf.Page(page).as_form_xobject()
+            return "ref", (form if form.is_indirect else self._pdf.make_indirect(form)).objgen
+        box = next(entries[k] for k in ("/TrimBox", "/CropBox", "/MediaBox") if k in entries)
+        head = [("/Type", pikepdf.Name.XObject), ("/Subtype", pikepdf.Name.Form), ("/BBox", box)]
+        head += [(k, entries[k]) for k in ("/Resources",) if k in entries]
+        stored = contents.stream_dict
+        head += [(k, stored.get(k)) for k in ("/Filter", "/DecodeParms") if k in stored]
+        data = contents.read_raw_bytes()
+        return "body", [
+            b"<< ",
+            *self._entries(head),
+            b" /Length %d >>\nstream\n%s\nendstream" % (len(data), data),
+        ]
+
+    def _object(self, obj) -> list:
+        """The body of an indirect object."""
+        if not _is(obj, "stream"):
+            return self._direct(obj, top=True)
+        data = obj.read_raw_bytes()
+        entries = obj.stream_dict
+        head = self._entries([(k, entries.get(k)) for k in sorted(entries.keys()) if k != "/Length"])
+        if "/Filter" not in entries:  # made here (a form of a page): compress it, as qpdf saves
+            data = zlib.compress(data)
+            head.append(b" /Filter /FlateDecode")
+        return [b"<< ", *head, b" /Length %d >>\nstream\n%s\nendstream" % (len(data), data)]
+
+    def _entries(self, items: list[tuple[str, Any]]) -> list:
+        out: list = []
+        for k, v in items:
+            if out:
+                out.append(b" ")
+            out.append(_name(k) + b" ")
+            out += self._direct(v)
+        return out
+
+    def _direct(self, value, top: bool = False) -> list:
+        """``value`` in PDF syntax, indirect objects inside it as open references."""
+        if isinstance(value, bool):
+            return [b"true" if value else b"false"]
+        if isinstance(value, int):
+            return [b"%d" % value]
+        if isinstance(value, Decimal):
+            return [_real(value)]
+        if value is None:
+            return [b"null"]
+        if not top and value.is_indirect:
+            return [value.objgen]
+        text = bytes(value.unparse(resolved=True))
+        if b" R" not in text:  # nothing inside refers to another object: qpdf's own syntax
+            return [text]
+        if _is(value, "dictionary"):
+            page = value.get("/Type") == "/Page"  # a page that is not copied: no tree
+            items = [(k, value.get(k)) for k in sorted(value.keys()) if not (page and k == "/Parent")]
+            return [b"<< ", *self._entries(items), b" >>"]
+        if _is(value, "array"):
+            out: list = [b"[ "]
+            for i, v in enumerate(value):
+                if i:
+                    out.append(b" ")
+                out += self._direct(v)
+            return [*out, b" ]"]
+        return [text]  # a name or a string
+
+
 class PageWriter:
     """Write a PDF into ``sink`` (a binary file open for writing) one page at a time.
 
     Add pages with :meth:`add_pages` (all pages of a source), :meth:`add_blank` and
     :meth:`add_sheet`; then :meth:`finish`. Objects of a source are numbered in a
     table of their own (:meth:`forget` drops it once the source is done with), so
-    an object shared by pages of one source is written once."""
+    an object shared by pages of one source is written once. A source is a
+    :class:`Source` (read once, for several writers) or an open ``pikepdf.Pdf``."""
 
     def __init__(self, sink: BinaryIO):
         self._sink = sink
@@ -47,7 +168,7 @@ class PageWriter:
         self._position = 0
         self._kids: list[int] = []
         self._tables: dict[int, dict[tuple[int, int], int]] = {}
-        self._queue: deque[tuple[int, Any, Any]] = deque()
+        self._queue: deque[tuple[int, list, Source]] = deque()
         self._emit(b"%PDF-1.7\n%\xe2\xe3\xcf\xd3\n")
 
     @property
@@ -56,18 +177,18 @@ class PageWriter:
         return len(self._kids)
 
     def add_pages(self, source) -> int:
-        """Every page of ``source`` (an open ``pikepdf.Pdf``), in order; returns their
-        count. References from one page to another of the same source stay pages.
-        The source may be closed afterwards: its numbering is dropped."""
+        """Every page of ``source``, in order; returns their count. References from
+        one page to another of the same source stay pages. The source's numbering is
+        dropped afterwards."""
+        source = _read(source)
         table = self._tables.setdefault(id(source), {})
-        pages = [page.obj for page in source.pages]
-        for page in pages:  # numbered first: a link from one page to another stays a page
-            self._kids.append(table.setdefault(page.objgen, self._new()))
-        for page in pages:
-            self._queue.append((table[page.objgen], self._page_dict(page), source))
+        for key in source.pages:  # numbered first: a link from one page to another stays a page
+            self._kids.append(table.setdefault(key, self._new()))
+        for key, body in zip(source.pages, source.page_bodies, strict=True):
+            self._queue.append((table[key], body, source))
         self._drain()
         self.forget(source)
-        return len(pages)
+        return len(source.pages)
 
     def add_blank(self, size: tuple[float, float]) -> None:
         """An empty page of ``size`` (width, height) [pt]."""
@@ -75,11 +196,13 @@ class PageWriter:
         self._kids.append(number)
         self._object(number, b"<< /Type /Page /Parent 2 0 R /MediaBox %s /Resources << >> >>" % _box(size))
 
-    def add_sheet(self, size: tuple[float, float], forms: list[tuple[str, Any, Any]], content: str) -> None:
+    def add_sheet(
+        self, size: tuple[float, float], forms: list[tuple[str, Source, int]], content: str
+    ) -> None:
         """A page of ``size`` whose ``content`` (page description operators) draws
-        pages as form XObjects (:meth:`_form`): ``forms`` are (name under
-        ``/XObject``, page, its source) each."""
-        refs = [b"%s %s" % (_name(name), self._form(page, source)) for name, page, source in forms]
+        pages as form XObjects (:meth:`Source._form`): ``forms`` are (name under
+        ``/XObject``, source, page index) each."""
+        refs = [b"%s %s" % (_name(name), self._form(source, index)) for name, source, index in forms]
         stream = content.encode("ascii")
         contents = self._new()
         self._object(contents, b"<< /Length %d >>\nstream\n%s\nendstream" % (len(stream), stream))
@@ -92,35 +215,18 @@ class PageWriter:
         )
         self._drain()
 
-    def _form(self, page, source) -> bytes:
-        """A reference to ``page`` of ``source`` drawn as a form XObject (ISO 32000-1
-        §8.10): its content stream as stored (not decoded), its resources, and its
-        trim box (else crop box, else media box) as the form's bounding box, as
-        qpdf's form of a page has. A page of several content streams or turned
-        (/Rotate) is left to qpdf (``as_form_xobject``)."""
-        import pikepdf
-
-        entries = self._page_dict(page.obj)
-        contents = entries.get("/Contents")
-        if contents is None or not _is(contents, "stream") or entries.get("/Rotate", 0) % 360:
-            form = pikepdf.Page(page).as_form_xobject()
-            return self._ref(form if form.is_indirect else source.make_indirect(form), source)
-        box = next(entries[k] for k in ("/TrimBox", "/CropBox", "/MediaBox") if k in entries)
-        head = [("/Type", pikepdf.Name.XObject), ("/Subtype", pikepdf.Name.Form), ("/BBox", box)]
-        head += [(k, entries[k]) for k in ("/Resources",) if k in entries]
-        stored = contents.stream_dict
-        head += [(k, stored.get(k)) for k in ("/Filter", "/DecodeParms") if k in stored]
-        data = contents.read_raw_bytes()
+    def _form(self, source: Source, index: int) -> bytes:
+        """A reference to page ``index`` of ``source`` drawn as a form XObject."""
+        kind, form = source.forms[index]
+        if kind == "ref":
+            return self._number(form, source)
         number = self._new()
-        self._object(
-            number,
-            b"<< %s /Length %d >>\nstream\n%s\nendstream" % (self._entries(head, source), len(data), data),
-        )
+        self._object(number, self._fill(form, source))
         return b"%d 0 R" % number
 
     def forget(self, source) -> None:
-        """Drop the numbering of ``source`` (call it before closing a source given to
-        :meth:`add_sheet`: numberings are kept by the source's identity)."""
+        """Drop the numbering of ``source`` (call it when a source given to
+        :meth:`add_sheet` is done with: numberings are kept by the source's identity)."""
         self._tables.pop(id(source), None)
 
     def finish(self, title: str) -> None:
@@ -155,73 +261,40 @@ class PageWriter:
         self._offsets[number] = self._position
         self._emit(b"%d 0 obj\n%s\nendobj\n" % (number, body))
 
-    def _page_dict(self, page) -> dict[str, Any]:
-        """The page's own entries with its inherited ones, without its parent."""
-        entries = {key: page.get(key) for key in sorted(page.keys()) if key != "/Parent"}
-        node = page.get("/Parent")
-        while node is not None and any(key not in entries for key in INHERITED):
-            for key in INHERITED:
-                if key not in entries and key in node:
-                    entries[key] = node.get(key)
-            node = node.get("/Parent")
-        return entries
-
     def _drain(self) -> None:
         """Write every queued object, and what each reaches that is not written yet."""
         while self._queue:
-            number, obj, source = self._queue.popleft()
-            if isinstance(obj, dict):  # a page's entries
-                body = b"<< /Type /Page /Parent 2 0 R %s >>" % self._entries(
-                    [(k, v) for k, v in obj.items() if k != "/Type"], source
-                )
-            elif _is(obj, "stream"):
-                data = obj.read_raw_bytes()
-                entries = obj.stream_dict
-                head = self._entries(
-                    [(k, entries.get(k)) for k in sorted(entries.keys()) if k != "/Length"], source
-                )
-                if "/Filter" not in entries:  # made here (a form of a page): compress it, as qpdf saves
-                    data = zlib.compress(data)
-                    head += b" /Filter /FlateDecode"
-                body = b"<< %s /Length %d >>\nstream\n%s\nendstream" % (head, len(data), data)
-            else:
-                body = self._direct(obj, source, top=True)
-            self._object(number, body)
+            number, template, source = self._queue.popleft()
+            self._object(number, self._fill(template, source))
 
-    def _ref(self, obj, source) -> bytes:
-        """A reference to indirect ``obj`` of ``source``, numbered (and queued) once."""
+    def _fill(self, template: list, source: Source) -> bytes:
+        """``template`` with its references numbered (each new object numbered and
+        queued once, in the order it appears)."""
+        return b"".join(piece if type(piece) is bytes else self._number(piece, source) for piece in template)
+
+    def _number(self, key: tuple[int, int], source: Source) -> bytes:
+        """A reference to object ``key`` of ``source``, numbered (and queued) once."""
         table = self._tables.setdefault(id(source), {})
-        key = obj.objgen
         if key not in table:
             table[key] = self._new()
-            self._queue.append((table[key], obj, source))
+            self._queue.append((table[key], source.objects[key], source))
         return b"%d 0 R" % table[key]
 
-    def _entries(self, items: list[tuple[str, Any]], source) -> bytes:
-        return b" ".join(b"%s %s" % (_name(k), self._direct(v, source)) for k, v in items)
 
-    def _direct(self, value, source, top: bool = False) -> bytes:
-        """``value`` in PDF syntax, indirect objects inside it as references."""
-        if isinstance(value, bool):
-            return b"true" if value else b"false"
-        if isinstance(value, int):
-            return b"%d" % value
-        if isinstance(value, Decimal):
-            return _real(value)
-        if value is None:
-            return b"null"
-        if not top and value.is_indirect:
-            return self._ref(value, source)
-        text = bytes(value.unparse(resolved=True))
-        if b" R" not in text:  # nothing inside refers to another object: qpdf's own syntax
-            return text
-        if _is(value, "dictionary"):
-            page = value.get("/Type") == "/Page"  # a page that is not copied: no tree
-            items = [(k, value.get(k)) for k in sorted(value.keys()) if not (page and k == "/Parent")]
-            return b"<< %s >>" % self._entries(items, source)
-        if _is(value, "array"):
-            return b"[ %s ]" % b" ".join(self._direct(v, source) for v in value)
-        return text  # a name or a string
+def _read(source) -> Source:
+    return source if isinstance(source, Source) else Source(source)
+
+
+def _page_dict(page) -> dict[str, Any]:
+    """The page's own entries with its inherited ones, without its parent."""
+    entries = {key: page.get(key) for key in sorted(page.keys()) if key != "/Parent"}
+    node = page.get("/Parent")
+    while node is not None and any(key not in entries for key in INHERITED):
+        for key in INHERITED:
+            if key not in entries and key in node:
+                entries[key] = node.get(key)
+        node = node.get("/Parent")
+    return entries
 
 
 def _is(obj, kind: str) -> bool:
