@@ -7,6 +7,7 @@ something of the card above them (never a page of cautions alone)."""
 from __future__ import annotations
 
 import html
+import itertools
 import re
 import shutil
 from pathlib import Path
@@ -151,7 +152,7 @@ def test_a_coach_sheets_climb_tables_line_up_and_nothing_overflows(tmp_path):
                 for word in line:
                     if word[4] in heads:
                         heads[word[4]].add(round(word[0], 1))
-            for left, right in zip(line, line[1:]):
+            for left, right in itertools.pairwise(line):
                 assert left[2] <= right[0] + 0.01, f"{left[4]!r} runs into {right[4]!r}"
     assert climbs >= 3
     assert all(len(places) == 1 for places in heads.values()), heads
