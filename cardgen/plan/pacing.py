@@ -34,6 +34,7 @@ from __future__ import annotations
 import dataclasses
 import functools
 import hashlib
+import threading
 from collections import OrderedDict
 from collections.abc import Callable
 from dataclasses import dataclass
@@ -46,6 +47,7 @@ from cardgen.physics.effort import sustainable_power_omni, w_prime_balance
 from cardgen.physics.forces import Air, Resistance
 from cardgen.physics.ride import Ride, simulate, speed_limit_profile
 from cardgen.physics.steady import steady_speed
+from cardgen.plan import together
 from cardgen.profiles.riders import PACING_STYLES as RIDER_STYLES
 
 #: Pacing styles: "best" spends W′ where it saves most time; "steady" never goes above
@@ -311,7 +313,8 @@ def plan_pacing(
         programme = _programme(powers, times, cp, w_prime, window, keep)
         seen = _Tried()
         kappas = np.geomspace(low, high, count)
-        kappa, index = _closest(programme.solve, powers, times, mean_power, kappas, start, seen)
+        solve = functools.partial(together.solve, programme)
+        kappa, index = _closest(solve, powers, times, mean_power, kappas, start, seen)
         balance = w_prime_balance(powers[index], times[index, np.arange(index.size)], cp, w_prime)
         wider = window | _windows(balance, w_prime, keep)
         if np.array_equal(wider, window):
@@ -337,7 +340,8 @@ def _windows(balance: np.ndarray, w_prime: float, keep: float) -> np.ndarray:
     return np.asarray(inside & (run >= 0) & (lowest[np.maximum(run, 0)] < keep))
 
 
-_last: dict[str, tuple[tuple[object, ...], _Programme]] = {}
+#: The last programme built, per thread (riders planned together each have their own).
+_last = threading.local()
 
 
 def _programme(
@@ -346,10 +350,11 @@ def _programme(
     """The programme for these windows, kept for the next call with the same ones
     (the ride's mean is matched by asking again with a corrected mean)."""
     key = (id(times), times.shape, float(cp), float(w_prime), float(keep), window.tobytes())
-    if "last" in _last and _last["last"][0] == key:
-        return _last["last"][1]
+    last = getattr(_last, "last", None)
+    if last is not None and last[0] == key:
+        return last[1]
     programme = _Programme(powers, times, cp, w_prime, window, keep)
-    _last["last"] = (key, programme)
+    _last.last = (key, programme)
     return programme
 
 
