@@ -183,11 +183,18 @@ def test_a_climbs_speed_is_printed_once_and_cp_is_not_suggested_where_held(outin
     assert city["hold_w"] == 150.0  # CP: climb_w 150 = cp_w 150
     kmh = math.floor(city["speed_m_s"] * 3.6 * 2 + 0.5) / 2
     assert kmh == 6.0  # 1.607 m/s × 3.6 = 5.79 km/h
+    # the climb row, cell after cell in reading order (-raw), its wrapped lines up to
+    # the next rider's row or the next table
     laid = subprocess.run(
-        ["pdftotext", "-layout", str(outing / "coach.pdf"), "-"], capture_output=True, text=True, check=True
+        ["pdftotext", "-raw", str(outing / "coach.pdf"), "-"], capture_output=True, text=True, check=True
     ).stdout.splitlines()
-    (at,) = [i for i, line in enumerate(laid) if "City rider" in line and " W for " in line]
-    row = " ".join(" ".join(laid[at : at + 2]).split())  # the row and its wrapped line
+    (at,) = [i for i, line in enumerate(laid) if line.startswith("City rider") and " W for " in line]
+    end = next(
+        i
+        for i in range(at + 1, len(laid))
+        if laid[i].startswith((*plans_, "Climb", "Descents")) or laid[i].startswith("\f")
+    )
+    row = " ".join(" ".join(laid[at:end]).split())
     assert f"{kmh:.1f} km/h" in row and "at CP expect" not in row
     assert "above this rider's CP of 150 W" in row
     tandem = plans_["Tandem pair"]["climbs"][0]

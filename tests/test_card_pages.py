@@ -7,6 +7,7 @@ something of the card above them (never a page of cautions alone)."""
 from __future__ import annotations
 
 import html
+import itertools
 import re
 import shutil
 from pathlib import Path
@@ -121,6 +122,40 @@ def test_a_coach_sheet_fills_its_pages(tmp_path):
     assert fill[0] > 0.9
     second = " ".join(w[4] for w in _words(pdf)[1][:60])
     assert "Rider" in second  # the page goes on under a table's repeated head
+
+
+def test_a_coach_sheets_climb_tables_line_up_and_nothing_overflows(tmp_path):
+    """The coach sheet's climb tables take stated column widths (``table-layout:
+    fixed``, no measuring of every cell): every climb table's heads stand at the same
+    places, and no word runs into its neighbour on any line (a figure wider than its
+    column would print over the next one). Eight riders on the demo's day ride, three
+    climbs."""
+    from test_fitter_choice import _event, rendered
+
+    from cardgen.render.pdf import pdf_bytes
+
+    pages, folder = rendered(_event(tmp_path, "day-ride.gpx", 8), tmp_path)
+    (coach,) = [c for c in pages.cards if not c.variants]
+    pdf = folder / "coach.pdf"
+    pdf.write_bytes(pdf_bytes(coach.html, folder)[0])
+    heads = {name: set() for name in ("Speed", "Time", "Assist", "Plan", "Notes")}
+    climbs = 0
+    for page in _words(pdf):
+        lines: dict[float, list] = {}
+        for word in page:
+            lines.setdefault(round(word[1], 1), []).append(word)
+        for line in lines.values():
+            line.sort()
+            texts = [w[4] for w in line]
+            if texts[:3] == ["Rider", "W", "for"]:  # a climb table's head
+                climbs += 1
+                for word in line:
+                    if word[4] in heads:
+                        heads[word[4]].add(round(word[0], 1))
+            for left, right in itertools.pairwise(line):
+                assert left[2] <= right[0] + 0.01, f"{left[4]!r} runs into {right[4]!r}"
+    assert climbs >= 3
+    assert all(len(places) == 1 for places in heads.values()), heads
 
 
 # -- page breaks that read well -------------------------------------------------------
