@@ -60,7 +60,7 @@ from cardgen.config import load_config
 
 site, out, jobs, pdf, count = sys.argv[1], sys.argv[2], int(sys.argv[3]), sys.argv[4] == "1", sys.argv[5]
 render = weasyprint.HTML.render
-FITTING = {"fit", "write_fitting_pdf", "halving_fit", "layout", "fits"}
+FITTING = {"fit", "write_fitting_pdf", "halving_fit", "fits"}  # not "layout": covers and coach sheets go through render.pdf.layout too
 
 def counted(self, *args, **kwargs):
     frame, names = sys._getframe(1), set()
