@@ -77,7 +77,9 @@ def test_riders_planned_together_get_the_plans_they_get_alone(tmp_path, width):
 
     together.solve_together = counting
     try:
-        both = together.plan_together([functools.partial(make_plan, analysis, rider=r) for r in riders], width)
+        both = together.plan_together(
+            [functools.partial(make_plan, analysis, rider=r) for r in riders], width
+        )
     finally:
         together.solve_together = original
     # the group is what the test claims: some programmes were solved together, one

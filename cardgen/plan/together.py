@@ -179,7 +179,9 @@ class _Stack:
                 self.infeasible[r, :pad] = False
                 self.decay[r, :pad] = 1.0
             np.multiply(
-                p.times[None, :, :], p.powers[None, None, :] + kappas[:, None, None], out=self.cost[r, :, pad:]
+                p.times[None, :, :],
+                p.powers[None, None, :] + kappas[:, None, None],
+                out=self.cost[r, :, pad:],
             )
             self.cell[r, pad:] = _small_cell(p)
             self.frac[r, pad:] = p.frac
