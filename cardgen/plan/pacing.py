@@ -350,7 +350,7 @@ def _programme(
     """The programme for these windows, kept for the next call with the same ones
     (the ride's mean is matched by asking again with a corrected mean)."""
     key = (id(times), times.shape, float(cp), float(w_prime), float(keep), window.tobytes())
-    last = getattr(_last, "last", None)
+    last: tuple[tuple[object, ...], _Programme] | None = getattr(_last, "last", None)
     if last is not None and last[0] == key:
         return last[1]
     programme = _Programme(powers, times, cp, w_prime, window, keep)

@@ -39,7 +39,7 @@ _local = threading.local()
 def solve(programme: _Programme, kappas: np.ndarray) -> np.ndarray:
     """The programme's levels for ``kappas`` (:meth:`_Programme.solve`), solved with
     other riders' when this thread plans in a group (:func:`plan_together`)."""
-    group = getattr(_local, "group", None)
+    group: _Worker | None = getattr(_local, "group", None)
     if group is None:
         return programme.solve(kappas)
     return group.ask(programme, kappas)
@@ -138,9 +138,10 @@ def solve_together(asked: Sequence[tuple[_Programme, np.ndarray]]) -> list[np.nd
 def _small_cell(programme: _Programme) -> np.ndarray:
     """The programme's W′ cells as int8 (0 … W − 2), kept with it: an eighth of the
     bytes to copy into each batch."""
-    small = getattr(programme, "small_cell", None)
+    small: np.ndarray | None = getattr(programme, "small_cell", None)
     if small is None:
-        small = programme.small_cell = programme.cell.astype(np.int8)
+        small = programme.cell.astype(np.int8)
+        setattr(programme, "small_cell", small)  # noqa: B010 (only batches use it)
     return small
 
 
@@ -210,7 +211,7 @@ class _Stack:
             reset = self.resets[:, j + 1]
             if reset.any():
                 ahead = np.where(reset[:, None, None], ahead[:, :, -1:], ahead)
-        return ahead
+        return np.asarray(ahead)
 
     def _backward(self) -> np.ndarray:
         """Least cost from each aligned block on: (blocks + 1, r, m, W)."""
