@@ -640,17 +640,19 @@ class _Programme:
             w_prime - (w_prime - grid[None, :, None]) * decay[:, None, :],
         )  # (blocks, W levels, power levels)
         self.floor = keep
-        self.feasible = after >= self.floor
+        self.infeasible = ~(after >= self.floor)
         position = np.clip(after, 0.0, w_prime) / w_prime * (W_LEVELS - 1)
         self.cell = np.minimum(position.astype(np.int64), W_LEVELS - 2)
         self.frac = position - self.cell
-        # the backward pass's per-block constants, worked out once for every multiplier
-        # and every call (the same arithmetic as inline, so the same values bit for bit)
-        self.next_cell = self.cell + 1
-        self.keep_share = 1.0 - self.frac
-        self.infeasible = ~self.feasible
         self.spend, self.decay, self.above = spend, decay, above
         self.w_prime = w_prime
+        self.next_cell: np.ndarray | None = None
+        self.keep_share: np.ndarray | None = None
+
+    @property
+    def feasible(self) -> np.ndarray:
+        """Whether each (block, W′ level, power level) keeps W′ above the floor."""
+        return np.asarray(~self.infeasible)
 
     def solve(self, kappas: np.ndarray) -> np.ndarray:
         """Chosen level in every block for each multiplier: array (kappas, blocks)."""
@@ -662,6 +664,12 @@ class _Programme:
 
     def _backward(self, cost: np.ndarray) -> np.ndarray:
         """Least cost from each window block on, by W′ level: (blocks + 1, m, W)."""
+        next_cell, keep_share = self.next_cell, self.keep_share
+        if next_cell is None or keep_share is None:  # a batch's pass does not use them
+            # the pass's per-block constants, worked out once for every multiplier and
+            # every call (the same arithmetic as inline, so the same values bit for bit)
+            next_cell = self.next_cell = self.cell + 1
+            keep_share = self.keep_share = 1.0 - self.frac
         blocks = self.times.shape[0]
         value = np.zeros((blocks + 1, cost.shape[0], W_LEVELS))
         for b in range(blocks - 1, -1, -1):
@@ -671,8 +679,8 @@ class _Programme:
             # ahead[cell]·(1 − frac) + ahead[cell + 1]·frac, (m, W, levels), in place:
             # the pass is bound by arithmetic on these arrays, not by the loop
             total = np.take(ahead, self.cell[b], axis=1)
-            upper = np.take(ahead, self.next_cell[b], axis=1)
-            total *= self.keep_share[b]
+            upper = np.take(ahead, next_cell[b], axis=1)
+            total *= keep_share[b]
             upper *= self.frac[b]
             total += upper
             np.copyto(total, INFEASIBLE, where=self.infeasible[b])

@@ -190,6 +190,7 @@ class _Stack:
             self.resets[r, pad:] = p.resets
             self.spend[r, pad:] = p.spend
             self.decay[r, pad:] = p.decay
+        self.any_reset = [bool(x) for x in np.any(self.resets, axis=0).tolist()]  # per aligned block
         # offset of every (rider, multiplier) row in a flattened (r, m, W) array
         self.base = (np.arange(riders)[:, None] * m + np.arange(m)[None, :]) * W_LEVELS
 
@@ -207,10 +208,8 @@ class _Stack:
     def _ahead(self, value: np.ndarray, j: int) -> np.ndarray:
         """The values after aligned block j, W′ full where a rider's next run starts."""
         ahead = value[j + 1]
-        if j + 1 < self.resets.shape[1]:
-            reset = self.resets[:, j + 1]
-            if reset.any():
-                ahead = np.where(reset[:, None, None], ahead[:, :, -1:], ahead)
+        if j + 1 < self.resets.shape[1] and self.any_reset[j + 1]:
+            ahead = np.where(self.resets[:, j + 1, None, None], ahead[:, :, -1:], ahead)
         return np.asarray(ahead)
 
     def _backward(self) -> np.ndarray:
@@ -241,8 +240,10 @@ class _Stack:
         full = np.broadcast_to(self.w_prime[:, None], (riders, m))
         top = self.w_prime[:, None, None]
         w = full.copy()
+        rows = np.arange(riders * m) * self.cost.shape[3]  # row offsets into (r·m, levels)
         for j in range(blocks):
-            w = np.where(self.resets[:, j][:, None], full, w)
+            if self.any_reset[j]:
+                w = np.where(self.resets[:, j][:, None], full, w)
             after = np.where(
                 self.above[:, None, :],
                 w[:, :, None] - self.spend[:, j][:, None, :],
@@ -265,5 +266,5 @@ class _Stack:
             total += self.cost[:, :, j, :]
             k = total.argmin(axis=2)
             chosen[:, :, j] = k
-            w = np.maximum(np.take_along_axis(after, k[:, :, None], axis=2)[:, :, 0], 0.0)
+            w = np.maximum(after.ravel().take(rows + k.ravel()).reshape(riders, m), 0.0)
         return chosen
