@@ -19,7 +19,7 @@ def _ride(grade, power, cap=None, step=10.0, **kw):
     d = np.arange(n + 1) * step
     params = {**ROAD, **kw}
     headwind, rho = params.pop("headwind", 0.0), params.pop("air_density", 1.2)
-    extra = {k: params.pop(k) for k in ("start_speed", "passes", "motor") if k in params}
+    extra = {k: params.pop(k) for k in ("start_speed", "passes", "motor", "warm") if k in params}
     return simulate(
         step=step,
         grade=grade,
@@ -180,3 +180,24 @@ def test_w_prime_recovers_only_below_cp_exponentially():
     # dW/dt = (W′ − W)(CP − P)/W′ solved over 600 s at D_CP = 100 W
     assert bal[659] == pytest.approx(w_prime - spent * math.exp(-100.0 * 600 / w_prime), rel=1e-9)
     assert bal[-1] == pytest.approx(bal[659])  # at exactly CP: neither spent nor recovered
+
+
+def test_a_warm_start_from_a_nearby_ride_is_the_same_ride_in_fewer_passes():
+    """A re-ride at a few per cent more power, started from the first ride's speeds,
+    agrees with the same ride started cold to the simulation's tolerance (1e-6 of
+    each node's speed); it keeps the rolling start (the first segment's steady speed)
+    and takes fewer passes; and it still meets the fine Runge–Kutta integration of
+    the test above (the reference outside the model)."""
+    d = np.arange(0, 6001, 10.0)
+    e = np.interp(d, [0, 1000, 2000, 2500, 3500, 4500, 6000], [0, 0, 80, 80, -20, -20, 30])
+    grade = np.diff(e) / 10.0
+    power = np.where(grade > 0.02, 250.0, np.where(grade < -0.02, 0.0, 150.0))
+    first = _ride(grade, power, headwind=2.0)
+    cold = _ride(grade, 1.03 * power, headwind=2.0)
+    warm = _ride(grade, 1.03 * power, headwind=2.0, warm=first.speed)
+    np.testing.assert_allclose(warm.speed, cold.speed, rtol=1e-5)
+    assert warm.elapsed[-1] == pytest.approx(cold.elapsed[-1], rel=1e-6)
+    assert warm.speed[0] == cold.speed[0]
+    assert warm.passes < cold.passes
+    reference = _rk4_reference(grade, 1.03 * power, 10.0, 2.0, float(cold.speed[0]))
+    np.testing.assert_allclose(warm.speed, reference, rtol=0.01)

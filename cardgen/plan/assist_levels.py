@@ -187,7 +187,9 @@ def pace_assisted(
     )
     best: tuple[tuple[float, float], list[int], PacedRide] | None = None
     for levels in [wanted, *[c for c in screened if c != wanted][:RIDDEN]]:
-        ridden = pacer(on(levels), capacity=budget, fitted=paced if levels == wanted else None)
+        ridden = pacer(
+            on(levels), capacity=budget, fitted=paced if levels == wanted else None, warm=paced.ride
+        )
         rank = _judge(course.step, ridden, min_speed)
         if best is None or rank < best[0]:
             best = (rank, levels, ridden)

@@ -140,8 +140,11 @@ class Course:
             digest.update(np.ascontiguousarray(array, dtype=float).tobytes())
         return digest.hexdigest()
 
-    def ride(self, power: np.ndarray, assist_ratio: np.ndarray | None = None) -> Ride:
-        """The ride at ``power`` [W] per segment (:func:`~cardgen.physics.ride.simulate`)."""
+    def ride(
+        self, power: np.ndarray, assist_ratio: np.ndarray | None = None, warm: Ride | None = None
+    ) -> Ride:
+        """The ride at ``power`` [W] per segment (:func:`~cardgen.physics.ride.simulate`),
+        started from the speeds of ``warm`` (a ride of nearly the same power) when given."""
         ratio = self.assist_ratio if assist_ratio is None else assist_ratio
         return simulate(
             step=self.step,
@@ -154,6 +157,7 @@ class Course:
             deceleration=self.deceleration,
             motor=self.motor,
             assist_ratio=0.0 if ratio is None else ratio,
+            warm=None if warm is None else warm.speed,
         )
 
     def blocks(self) -> np.ndarray:
@@ -777,6 +781,7 @@ class Pacer:
         cut: bool = True,
         capacity: float | None = None,
         fitted: PacedRide | None = None,
+        warm: Ride | None = None,
     ) -> PacedRide:
         """The plan ridden (:func:`pace`)."""
         return pace(
@@ -788,6 +793,7 @@ class Pacer:
             cut=cut,
             capacity=capacity,
             fitted=fitted,
+            warm=warm,
         )
 
     def steady(self, course: Course) -> Pacing:
@@ -813,6 +819,7 @@ def pace(
     cut: bool = True,
     capacity: float | None = None,
     fitted: PacedRide | None = None,
+    warm: Ride | None = None,
 ) -> PacedRide:
     """Plan the power (:func:`plan_pacing`) and ride it, at ``mean_power`` [W] as
     ridden; with a motor, the motor gives nothing once the battery is empty, or once
@@ -821,7 +828,9 @@ def pace(
     ride of levels meant to fit the battery, which its caller checks, at the cost of
     one plan. ``fitted`` is this rider's plan of this course already ridden without
     ``cut`` (the same arguments): its plan and ride are the first round's, not
-    worked out again.
+    worked out again. ``warm`` is the ride of a nearby plan (other assist levels,
+    say): the first ride's passes start from its speeds (the same ride to the
+    simulation's tolerance, in fewer passes).
 
     Notes
     -----
@@ -841,7 +850,7 @@ def pace(
         if fitted is not None and ratio is full:
             pacing, ride = fitted.pacing, fitted.ride
         else:
-            pacing, ride = _fit(ridden, mean_power, cp, w_prime, top)
+            pacing, ride = _fit(ridden, mean_power, cp, w_prime, top, warm=warm if ratio is full else ride)
         if course.motor is None or full is None or not cut:
             return PacedRide(pacing, ride, ratio, empty_at)
         # the draw up to any point does not depend on the motor after it: where this
@@ -863,14 +872,14 @@ def pace(
             break
     motor = course.motor
     assert ratio is not None and motor is not None
-    ride = course.ride(pacing.power, ratio)
+    ride = course.ride(pacing.power, ratio, warm=ride)
     for _ in range(BATTERY_ROUNDS):  # the ride cut there may still pass it, a little
         again = battery_cut(ride, ratio, motor, capacity)
         if again is None:
             break
         index, ratio = min(index, again[0]), again[1]
         empty_at = float(course.distance[index + 1])
-        ride = course.ride(pacing.power, ratio)
+        ride = course.ride(pacing.power, ratio, warm=ride)
     return PacedRide(pacing, ride, ratio, empty_at)
 
 
@@ -895,8 +904,11 @@ def battery_cut(
     return i, cut
 
 
-def _fit(course: Course, mean_power: float, cp: float, w_prime: float, top: float) -> tuple[Pacing, Ride]:
-    """The pacing plan and its ride whose ridden mean power is ``mean_power``."""
+def _fit(
+    course: Course, mean_power: float, cp: float, w_prime: float, top: float, warm: Ride | None = None
+) -> tuple[Pacing, Ride]:
+    """The pacing plan and its ride whose ridden mean power is ``mean_power``;
+    ``warm``, a ride of a nearby plan, starts the first ride's passes."""
     table = block_times(course, top)
     asked = mean_power
     hint = None
@@ -915,7 +927,8 @@ def _fit(course: Course, mean_power: float, cp: float, w_prime: float, top: floa
             tried=tried,
         )
         hint = pacing.kappa if np.isfinite(pacing.kappa) else None
-        ride = course.ride(pacing.power)
+        ride = course.ride(pacing.power, warm=warm)
+        warm = ride  # the next round's plan is near this one
         ridden = ridden_mean(ride)
         low = float(np.min(w_prime_balance(ride.rider_power, ride.time, cp, w_prime), initial=w_prime))
         short = low < -W_PRIME_SLACK * w_prime
@@ -954,7 +967,7 @@ def _trim(
     scale = 1.0 + (mean_power - points[0][1]) * float(np.sum(seconds)) / work
     for _ in range(TRIM_ROUNDS):
         power = np.where(below, np.minimum(pacing.power * max(scale, 0.0), min(cp, top)), pacing.power)
-        trimmed = course.ride(power)
+        trimmed = course.ride(power, warm=ride)  # a few per cent of power away
         mean = ridden_mean(trimmed)
         low = float(np.min(w_prime_balance(trimmed.rider_power, trimmed.time, cp, w_prime), initial=w_prime))
         if low >= -W_PRIME_SLACK * w_prime and abs(mean - mean_power) < best[0]:
