@@ -82,3 +82,40 @@ def test_a_wrong_guess_of_rows_costs_a_layout_not_the_numbers(tmp_path, layouts)
 )
 def test_cover_length_counts_the_first_page_then_full_pages_and_ends_on_a_sheet(rows, per_page, pages):
     assert cover_length(rows, per_page) == pages
+
+
+def test_the_build_guesses_covers_from_the_first_cover_long_enough_to_show_its_rows(tmp_path, layouts):
+    """Routes of 3, 90 and 200 cards and the event's pack: the 3-card cover (one page)
+    shows no full page of rows, so the 90-card one is laid out next, here (a guess of
+    two pages, then again); the 200-card cover and the event's take one layout each
+    from its rows per page. Every pack is written and reads back whole."""
+    import shutil
+    from types import SimpleNamespace
+
+    import pikepdf
+
+    from cardgen.build.pipeline import _write_packs
+    from cardgen.render.pages import PackGroup
+
+    card = tmp_path / "card.pdf"
+    with pikepdf.new() as pdf:
+        pdf.add_blank_page(page_size=A5)
+        pdf.save(card)
+    groups, everyone = [], []
+    for name, count in (("short", 3), ("middle", 90), ("long", 200)):
+        (tmp_path / name).mkdir()
+        entries = []
+        for i in range(count):
+            shutil.copy(card, tmp_path / name / f"{i}.pdf")
+            entries.append(PackEntry(f"Rider {name} {i}", i, "07:00", name, tmp_path / name / f"{i}.pdf", 1))
+        groups.append(PackGroup(tmp_path / name, name, False, tuple(entries)))
+        everyone += entries
+    groups.append(PackGroup(tmp_path, "every route", True, tuple(everyone)))
+    config = SimpleNamespace(templates=None, units="metric", card_size="A5", large_print=False, title="T")
+    covers = _write_packs(config, groups, 1, tmp_path)
+    assert len(layouts) == 5  # short 1, middle 2, long 1, the event's 1
+    for where, count in (("short", 3), ("middle", 90), ("long", 200), (".", 293)):
+        for name in ("all-cards.pdf", "all-cards-2up.pdf"):
+            assert (tmp_path / where / name).is_file()
+        pages = len(PdfReader(tmp_path / where / "all-cards.pdf").pages)
+        assert pages == covers[where] + 2 * count  # each one-page card padded to a sheet

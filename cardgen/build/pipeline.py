@@ -529,7 +529,8 @@ def _pack_cover(task):
 
 def _write_packs(config, groups: list, jobs: int, tmp: Path) -> dict[str, int]:
     """Write the print packs. The covers first: the shortest group's (a route's packs,
-    or the event's) here, then the others from its rows per page (each laid out once
+    or the event's) here, and the next shortest until one is long enough to show its
+    rows per page (three pages); then the others from those rows (each laid out once
     where that guess of its length holds), one group per worker process when ``jobs``
     > 1, the event's (the longest) first; then every pack file in one pass over the
     cards, here (:func:`~cardgen.render.packs.write_packs`: each card read once for
@@ -540,13 +541,21 @@ def _write_packs(config, groups: list, jobs: int, tmp: Path) -> dict[str, int]:
     if not groups:
         return {}
     groups = sorted(groups, key=lambda g: -len(g.entries))
-    first = _pack_cover((config, groups[-1]))
-    tasks = [(config, g, first[3]) for g in groups[:-1]]
-    with _pool(jobs, len(tasks)) as pool:
-        made = [*_map(pool, _pack_cover, tasks, "a print-pack process"), first]
+    made: dict[int, tuple] = {}
+    per_page = None
+    for k in reversed(range(len(groups))):  # shortest first, until a cover shows its rows per page
+        made[k] = _pack_cover((config, groups[k]))
+        per_page = made[k][3]
+        if per_page is not None:
+            break
+    rest = [k for k in range(len(groups)) if k not in made]
+    with _pool(jobs, len(rest)) as pool:
+        tasks = [(config, groups[k], per_page) for k in rest]
+        made.update(zip(rest, _map(pool, _pack_cover, tasks, "a print-pack process"), strict=True))
     covers, packs = {}, []
     with contextlib.ExitStack() as files:
-        for group, (length, pack, (flat, two_up), _) in zip(groups, made, strict=True):
+        for k, group in enumerate(groups):
+            length, pack, (flat, two_up), _ = made[k]
             covers[group.where.relative_to(tmp).as_posix()] = length
             sinks = [files.enter_context(path.open("wb")) if path else None for path in (flat, two_up)]
             packs.append(replace(pack, flat=sinks[0], two_up=sinks[1]))
