@@ -19,7 +19,6 @@ from __future__ import annotations
 
 import argparse
 import dataclasses
-import functools
 import sys
 import time
 from pathlib import Path
@@ -39,7 +38,6 @@ from cardgen.plan.assist_levels import assist_ratio  # noqa: E402
 from cardgen.plan.model import Effort  # noqa: E402
 from cardgen.plan.pacing import Course, ceiling, pace, ridden_mean  # noqa: E402
 from cardgen.plan.rider import segment_air  # noqa: E402
-from cardgen.plan.together import plan_together  # noqa: E402
 from cardgen.profiles.riders import Rider  # noqa: E402
 from cardgen.profiles.vehicles import builtin_vehicles  # noqa: E402
 from cardgen.route.terrain import build_terrain  # noqa: E402
@@ -186,16 +184,12 @@ def event_planning(riders: int) -> None:
     timings, cpu = {}, {}
     for label in ("heuristic", "pacing plan"):
         t0, c0 = time.perf_counter(), time.process_time()
-        if label == "heuristic":  # the earlier code: one rider after another
-            for route, rider in entrants:
+        for route, rider in entrants:
+            if label == "heuristic":
                 _old_paced.analysis = analyses[route]
                 plan_rider._paced = _old_paced
-                make_plan(analyses[route], rider=rider)
-                plan_rider._paced = new_paced
-        else:  # as the build plans a route's riders (plan.route_plans.plan_route)
-            for route in names:
-                group = [rider for name, rider in entrants if name == route]
-                plan_together([functools.partial(make_plan, analyses[route], rider=rider) for rider in group])
+            make_plan(analyses[route], rider=rider)
+            plan_rider._paced = new_paced
         timings[label] = time.perf_counter() - t0
         cpu[label] = time.process_time() - c0
     ratio = timings["pacing plan"] / timings["heuristic"]

@@ -34,7 +34,6 @@ from __future__ import annotations
 import dataclasses
 import functools
 import hashlib
-import threading
 from collections import OrderedDict
 from collections.abc import Callable
 from dataclasses import dataclass
@@ -47,7 +46,6 @@ from cardgen.physics.effort import sustainable_power_omni, w_prime_balance
 from cardgen.physics.forces import Air, Resistance
 from cardgen.physics.ride import Ride, simulate, speed_limit_profile
 from cardgen.physics.steady import steady_speed
-from cardgen.plan import together
 from cardgen.profiles.riders import PACING_STYLES as RIDER_STYLES
 
 #: Pacing styles: "best" spends W′ where it saves most time; "steady" never goes above
@@ -317,8 +315,7 @@ def plan_pacing(
         programme = _programme(powers, times, cp, w_prime, window, keep)
         seen = _Tried()
         kappas = np.geomspace(low, high, count)
-        solve = functools.partial(together.solve, programme)
-        kappa, index = _closest(solve, powers, times, mean_power, kappas, start, seen)
+        kappa, index = _closest(programme.solve, powers, times, mean_power, kappas, start, seen)
         balance = w_prime_balance(powers[index], times[index, np.arange(index.size)], cp, w_prime)
         wider = window | _windows(balance, w_prime, keep)
         if np.array_equal(wider, window):
@@ -344,8 +341,7 @@ def _windows(balance: np.ndarray, w_prime: float, keep: float) -> np.ndarray:
     return np.asarray(inside & (run >= 0) & (lowest[np.maximum(run, 0)] < keep))
 
 
-#: The last programme built, per thread (riders planned together each have their own).
-_last = threading.local()
+_last: dict[str, tuple[tuple[object, ...], _Programme]] = {}
 
 
 def _programme(
@@ -354,11 +350,10 @@ def _programme(
     """The programme for these windows, kept for the next call with the same ones
     (the ride's mean is matched by asking again with a corrected mean)."""
     key = (id(times), times.shape, float(cp), float(w_prime), float(keep), window.tobytes())
-    last: tuple[tuple[object, ...], _Programme] | None = getattr(_last, "last", None)
-    if last is not None and last[0] == key:
-        return last[1]
+    if "last" in _last and _last["last"][0] == key:
+        return _last["last"][1]
     programme = _Programme(powers, times, cp, w_prime, window, keep)
-    _last.last = (key, programme)
+    _last["last"] = (key, programme)
     return programme
 
 
@@ -644,19 +639,17 @@ class _Programme:
             w_prime - (w_prime - grid[None, :, None]) * decay[:, None, :],
         )  # (blocks, W levels, power levels)
         self.floor = keep
-        self.infeasible = ~(after >= self.floor)
+        self.feasible = after >= self.floor
         position = np.clip(after, 0.0, w_prime) / w_prime * (W_LEVELS - 1)
         self.cell = np.minimum(position.astype(np.int64), W_LEVELS - 2)
         self.frac = position - self.cell
+        # the backward pass's per-block constants, worked out once for every multiplier
+        # and every call (the same arithmetic as inline, so the same values bit for bit)
+        self.next_cell = self.cell + 1
+        self.keep_share = 1.0 - self.frac
+        self.infeasible = ~self.feasible
         self.spend, self.decay, self.above = spend, decay, above
         self.w_prime = w_prime
-        self.next_cell: np.ndarray | None = None
-        self.keep_share: np.ndarray | None = None
-
-    @property
-    def feasible(self) -> np.ndarray:
-        """Whether each (block, W′ level, power level) keeps W′ above the floor."""
-        return np.asarray(~self.infeasible)
 
     def solve(self, kappas: np.ndarray) -> np.ndarray:
         """Chosen level in every block for each multiplier: array (kappas, blocks)."""
@@ -668,12 +661,6 @@ class _Programme:
 
     def _backward(self, cost: np.ndarray) -> np.ndarray:
         """Least cost from each window block on, by W′ level: (blocks + 1, m, W)."""
-        next_cell, keep_share = self.next_cell, self.keep_share
-        if next_cell is None or keep_share is None:  # a batch's pass does not use them
-            # the pass's per-block constants, worked out once for every multiplier and
-            # every call (the same arithmetic as inline, so the same values bit for bit)
-            next_cell = self.next_cell = self.cell + 1
-            keep_share = self.keep_share = 1.0 - self.frac
         blocks = self.times.shape[0]
         value = np.zeros((blocks + 1, cost.shape[0], W_LEVELS))
         for b in range(blocks - 1, -1, -1):
@@ -683,8 +670,8 @@ class _Programme:
             # ahead[cell]·(1 − frac) + ahead[cell + 1]·frac, (m, W, levels), in place:
             # the pass is bound by arithmetic on these arrays, not by the loop
             total = np.take(ahead, self.cell[b], axis=1)
-            upper = np.take(ahead, next_cell[b], axis=1)
-            total *= keep_share[b]
+            upper = np.take(ahead, self.next_cell[b], axis=1)
+            total *= self.keep_share[b]
             upper *= self.frac[b]
             total += upper
             np.copyto(total, INFEASIBLE, where=self.infeasible[b])

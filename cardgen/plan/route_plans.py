@@ -4,13 +4,11 @@ by the build and by the ``route`` command alike."""
 from __future__ import annotations
 
 import dataclasses
-import functools
 from collections.abc import Sequence
 from dataclasses import dataclass
 
 from cardgen.plan.model import Analysis, Plan
 from cardgen.plan.rider import analyse, make_plan
-from cardgen.plan.together import plan_together
 from cardgen.profiles.riders import Rider
 from cardgen.route.checkpoints import Checkpoint, resolve_checkpoints, resolve_points
 from cardgen.route.cues import apply_cue_texts
@@ -76,11 +74,8 @@ def plan_route(
         key=lambda c: c.distance,
     )
     pauses = tuple((c.distance, c.stop) for c in found)
-
-    def one(rider: Rider) -> Plan:
+    plans = []
+    for rider in riders:
         plan = make_plan(analysis, rider=rider, conditions=conditions, stops=pauses)
-        return plan.lightened() if light else plan
-
-    # the riders' W′ programmes are solved together (the same plans, less CPU)
-    plans = plan_together([functools.partial(one, rider) for rider in riders])
+        plans.append(plan.lightened() if light else plan)
     return RoutePlans(analysis, tuple(found), tuple(plans), tuple(points))
