@@ -11,8 +11,13 @@
    bench_event.py), with the pacing plan and with the earlier heuristic, side by side
    (target: within 2×), in wall and CPU seconds (the CPU ratio is the steadier on a
    shared machine).
+4. The same riders planned by this tree and by the code before the pacing plan
+   (commit 0f5edd5, bench_event.py's baseline), each in a process of its own, side by
+   side, twice: the event's planning as organisers saw it before, against now. Part
+   3's heuristic runs on today's physics, which has grown faster since, so its ratio
+   is the stricter one: the pacing plan's own cost over one heuristic ride.
 
-    .venv/bin/python bench/bench_pacing.py [--riders 300] [--skip-event]
+    .venv/bin/python bench/bench_pacing.py [--riders 300] [--skip-event] [--baseline REV]
 """
 
 from __future__ import annotations
@@ -200,9 +205,77 @@ def event_planning(riders: int) -> None:
     )
 
 
+#: Plans bench_event.py's riders with the cardgen on PYTHONPATH (this tree or an
+#: earlier commit's, whose GPX reader lived in cardgen.route) and prints its CPU and
+#: wall seconds, the routes' analyses left out.
+PLAN_EVENT = """
+import json, sys, time
+from pathlib import Path
+sys.path.insert(0, sys.argv[1])
+import bench_event
+try:
+    from cardgen.io.gpx import read_gpx
+except ImportError:
+    from cardgen.route.gpx import read_gpx
+from cardgen.plan import analyse, make_plan
+from cardgen.profiles.riders import Rider
+from cardgen.profiles.vehicles import builtin_vehicles
+from cardgen.route.terrain import build_terrain
+lib = builtin_vehicles()
+names = list(bench_event.ROUTES)
+analyses = {}
+for name in names:
+    track = read_gpx(Path(sys.argv[2]) / f"{name}.gpx")
+    analyses[name] = analyse(track, build_terrain(track))
+entrants = []
+for i in range(int(sys.argv[3])):
+    cp = 120 + (i * 7) % 180
+    vehicle = lib[bench_event.VEHICLES[i % len(bench_event.VEHICLES)]]
+    entrants.append((names[i % len(names)], Rider.for_vehicle(vehicle, cp=cp, flat_power=int(cp * 0.7))))
+t0, c0 = time.perf_counter(), time.process_time()
+for route, rider in entrants:
+    make_plan(analyses[route], rider=rider)
+print(json.dumps({"wall": time.perf_counter() - t0, "cpu": time.process_time() - c0}))
+"""
+
+
+def against_baseline(riders: int, revision: str) -> None:
+    import json
+    import os
+    import subprocess
+
+    import bench_event
+
+    for name, points in bench_event.ROUTES.items():
+        if not (OUT / f"{name}.gpx").exists():
+            make_route(OUT / f"{name}.gpx", points=points)
+    trees = {revision: bench_event._unpack(revision), "this tree": HERE.parent}
+    seen: dict[str, list[dict]] = {label: [] for label in trees}
+    for _ in range(2):
+        for label, tree in trees.items():
+            done = subprocess.run(
+                [sys.executable, "-c", PLAN_EVENT, str(HERE), str(OUT), str(riders)],
+                capture_output=True,
+                text=True,
+                env={**os.environ, "PYTHONPATH": str(tree)},
+                cwd=tree,
+                check=True,
+            )
+            seen[label].append(json.loads(done.stdout.strip().splitlines()[-1]))
+    old, new = (min(seen[label], key=lambda f: f["cpu"]) for label in trees)
+    print(
+        f"\n4. {riders} riders' plans, commit {revision} against this tree, side by side (least of two "
+        f"runs each): CPU {old['cpu']:.1f} and {new['cpu']:.1f} s, ratio {new['cpu'] / old['cpu']:.2f}x "
+        f"(target <= 2x); wall {old['wall']:.1f} and {new['wall']:.1f} s, ratio {new['wall'] / old['wall']:.2f}x"
+    )
+
+
 def main() -> None:
+    import bench_event
+
     parser = argparse.ArgumentParser()
     parser.add_argument("--riders", type=int, default=300)
+    parser.add_argument("--baseline", default=bench_event.BASELINE)
     parser.add_argument("--skip-event", action="store_true")
     parser.add_argument("--skip-table", action="store_true")
     args = parser.parse_args()
@@ -211,6 +284,7 @@ def main() -> None:
         gain_table()
     if not args.skip_event:
         event_planning(args.riders)
+        against_baseline(args.riders, args.baseline)
 
 
 if __name__ == "__main__":
