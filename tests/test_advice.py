@@ -124,3 +124,21 @@ def test_condensed_advice_groups_climbs_walked_for_different_lengths():
     assert climbs_advice(plan) == [
         "Climbs 1, 2: hold 130 W while riding, 34 min each if all ridden; below 5.5 km/h in places"
     ]
+
+
+def test_a_climb_where_the_assist_is_switched_off_says_where():
+    """Seen on the old code: a cargo bike with a 60 Wh battery on the demo's hill loop
+    has its assist switched off 5.8 km in, part way up its only climb (4.6 to 6.6 km),
+    while the climb's row named only the level it starts with. The place is the plan's,
+    to 0.1 km half up; a climb the switch-off is not inside says nothing of it."""
+    climb = SimpleNamespace(start_distance=4640.0, length=1930.0)
+    row = _climb(130.0, 1200.0, None, None)
+    row.climb = climb
+    text = climb_advice(row, _plan(assist_off_at=5829.69))
+    assert text == "hold 130 W for 20 min; assist off at 5.8 km"
+    for off in (4640.0, 6570.0, 7859.6, None):  # at its foot, at its top, after it, none
+        assert "assist off" not in climb_advice(row, _plan(assist_off_at=off))
+    row.number = 1
+    plan = _plan(assist_off_at=5829.69)
+    plan.climbs = [row]
+    assert climbs_advice(plan) == ["Climb 1: hold 130 W for 20 min; assist off at 5.8 km"]

@@ -49,7 +49,7 @@ def climb_advice(row: ClimbRow, plan: Plan, units: str = "metric", brief: bool =
     walking part without its length, so that climbs alike share a condensed line."""
     if row.time is None or not math.isfinite(row.time):  # the rider stalls on it
         return "not ridable at this effort (see the notes)"
-    text = _hold(row, units, brief)
+    text = _hold(row, units, brief) + _assist_off(row, plan, units)
     if row.w_prime_top is None or plan.rider.w_prime <= 0:
         return text
     left = row.w_prime_top / plan.rider.w_prime
@@ -61,6 +61,16 @@ def climb_advice(row: ClimbRow, plan: Plan, units: str = "metric", brief: bool =
     if left < SOME_LEFT:
         return f"{text}; about half of W′ left at the top"
     return text
+
+
+def _assist_off(row: ClimbRow, plan: Plan, units: str) -> str:
+    """Where the motor is switched off part way up this climb to keep the battery's
+    reserve ("; assist off at 5.3 km"): the climb's row names the level it starts
+    with, and its speed and time already ride the rest without the motor."""
+    off = plan.effort.assist_off_at if plan.effort is not None else None  # None without a motor
+    if off is None or not row.climb.start_distance < off < row.climb.start_distance + row.climb.length:
+        return ""
+    return f"; assist off at {fmt.distance(off, units)}"
 
 
 def _hold(row: ClimbRow, units: str, brief: bool = False) -> str:
