@@ -11,7 +11,7 @@ import subprocess
 from pathlib import Path
 
 import pytest
-from buildkit import cardgen_command, leftovers, snapshot, wait_until_rendering
+from buildkit import cardgen_command, leftovers, snapshot
 
 from cardgen.build import pipeline as build_module
 from cardgen.cli import main
@@ -96,6 +96,18 @@ def test_a_worker_process_dies(tmp_path, monkeypatch, capsys):
     assert snapshot(out) == before and _clean(out)
 
 
+def _ignores_sigint(pid: int) -> bool | None:
+    """Whether process ``pid`` ignores SIGINT (Linux: the SigIgn mask in
+    /proc/PID/status; None where it cannot be read): a process started with SIGINT
+    ignored keeps ignoring it, and Python then installs no KeyboardInterrupt handler."""
+    try:
+        status = Path(f"/proc/{pid}/status").read_text()
+    except OSError:
+        return None
+    mask = next((line.split()[1] for line in status.splitlines() if line.startswith("SigIgn:")), None)
+    return None if mask is None else bool(int(mask, 16) & (1 << (signal.SIGINT - 1)))
+
+
 def test_ctrl_c_during_rendering(tmp_path):
     src, out = _site(tmp_path)
     before = snapshot(out)
@@ -105,10 +117,19 @@ def test_ctrl_c_during_rendering(tmp_path):
         stderr=subprocess.PIPE,
         text=True,
     )
-    wait_until_rendering(out)
+    # the first card's progress line: the build is rendering, with cards still to make
+    # (waiting a fixed moment after its temporary folder appeared once let a fast
+    # build finish first, exit 0, on a loaded machine)
+    seen = []
+    while not seen or not seen[-1].startswith("card 1/"):
+        line = proc.stderr.readline()
+        assert line, "the build ended before it rendered a card: " + "".join(seen)
+        seen.append(line)
+    ignored = _ignores_sigint(proc.pid)  # said if the build runs on regardless
     proc.send_signal(signal.SIGINT)
-    stdout, stderr = proc.communicate(timeout=60)
-    assert proc.returncode == 130, stderr
+    stdout, rest = proc.communicate(timeout=60)
+    stderr = "".join(seen) + rest
+    assert proc.returncode == 130, f"SIGINT ignored by the process: {ignored}\n{stderr}"
     assert "interrupted" in stderr and "Traceback" not in stderr
     assert snapshot(out) == before and _clean(out)
 
