@@ -15,6 +15,7 @@ from buildkit import cardgen_command, leftovers, snapshot
 
 from cardgen.build import pipeline as build_module
 from cardgen.cli import main
+from cardgen.config import load_config
 
 pytestmark = pytest.mark.slow  # builds whole sites, fuzzes or checks the install: not in make check
 
@@ -168,3 +169,34 @@ def test_ctrl_c_wrapped_by_a_first_import_is_still_an_interruption(monkeypatch, 
     assert main(["solve", "--power", "150"]) == 130
     err = capsys.readouterr().err
     assert "interrupted" in err and "Traceback" not in err
+
+
+@pytest.mark.filterwarnings("ignore::pytest.PytestUnraisableExceptionWarning")
+def test_ctrl_c_that_a_callback_drops_still_stops_the_build(tmp_path, monkeypatch):
+    """Seen on the old code (1 of 40 builds sent SIGINT at a random moment): the
+    KeyboardInterrupt arrived inside a weakref callback run by the XML parser reading
+    the GPX, where Python prints and drops it; the build ran on, published and exited
+    0. Here the signal comes inside such a callback during planning: the build stops
+    before publishing and leaves the previous site as it was."""
+    import weakref
+
+    src, out = _site(tmp_path)
+    before = snapshot(out)
+    real = build_module._plan_routes
+
+    def plan_with_a_dropped_ctrl_c(*args, **kwargs):
+        class Thing:
+            pass
+
+        thing = Thing()
+        # the handler runs inside the callback, so its KeyboardInterrupt is dropped
+        ref = weakref.ref(thing, lambda _: signal.raise_signal(signal.SIGINT))
+        del thing
+        assert ref() is None
+        return real(*args, **kwargs)
+
+    monkeypatch.setattr(build_module, "_plan_routes", plan_with_a_dropped_ctrl_c)
+    with pytest.raises(KeyboardInterrupt, match="nothing was published"):
+        build_module.build_site(load_config(src / "site.toml"), out, jobs=1)
+    assert snapshot(out) == before and _clean(out)
+    assert signal.getsignal(signal.SIGINT) is signal.default_int_handler  # put back

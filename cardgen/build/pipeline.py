@@ -16,6 +16,8 @@ import json
 import os
 import resource
 import shutil
+import signal
+import threading
 import time
 import zlib
 from collections.abc import Callable, Iterable, Iterator, Mapping
@@ -88,10 +90,46 @@ def build_site(
     ``progress(done, total, label)`` is called as cards are rendered."""
     out = check_output(out, list(config.inputs), config.templates)
     report = BuildReport()
-    with Lock(out):
+    with Lock(out), _ctrl_c() as ctrl_c:
         for line in recover(out):
             say(line)
-        return _build_locked(config, out, jobs, pdf, keep_going, say, progress, report)
+        return _build_locked(config, out, jobs, pdf, keep_going, say, progress, report, ctrl_c)
+
+
+class _CtrlC:
+    """Whether Ctrl-C (SIGINT) came during a build, remembered: Python raises its
+    KeyboardInterrupt wherever the main thread is, and one raised inside a weakref
+    callback or a ``__del__`` (the XML parser's, a library's) is printed and dropped,
+    so the build ran on and published. :meth:`check` raises it again at the build's
+    phase boundaries, before anything is published."""
+
+    def __init__(self) -> None:
+        self.seen = False
+
+    def handler(self, signum, frame) -> None:
+        self.seen = True
+        signal.default_int_handler(signum, frame)
+
+    def check(self) -> None:
+        if self.seen:
+            raise KeyboardInterrupt
+
+
+@contextlib.contextmanager
+def _ctrl_c() -> Iterator[_CtrlC]:
+    """A :class:`_CtrlC` for one build, its handler in place when the build runs in the
+    main thread with Python's own Ctrl-C handling (not where SIGINT is ignored, nor
+    beside another handler); the one before comes back after."""
+    ctrl_c = _CtrlC()
+    before = signal.getsignal(signal.SIGINT)
+    if threading.current_thread() is not threading.main_thread() or before is not signal.default_int_handler:
+        yield ctrl_c
+        return
+    signal.signal(signal.SIGINT, ctrl_c.handler)
+    try:
+        yield ctrl_c
+    finally:
+        signal.signal(signal.SIGINT, before)
 
 
 #: Cards one worker process renders before it is replaced (bounds its memory).
@@ -323,7 +361,7 @@ def _routes(config: SiteConfig, shared: str, starts) -> list[_Route]:
     return routes
 
 
-def _build_locked(config, out, jobs, pdf, keep_going, say, progress, report):
+def _build_locked(config, out, jobs, pdf, keep_going, say, progress, report, ctrl_c):
     t0, c0 = time.perf_counter(), _cpu()
     template_folders = ([config.templates] if config.templates else []) + [default_templates()]
     epoch = os.environ.get("SOURCE_DATE_EPOCH", "")
@@ -371,6 +409,7 @@ def _build_locked(config, out, jobs, pdf, keep_going, say, progress, report):
     published = False
     try:
         failures = _plan_routes(config, [r for r in routes if not reusable(r)], tmp, jobs, say)
+        ctrl_c.check()
         report.seconds["plan"], report.cpu["plan"] = time.perf_counter() - t0, _cpu() - c0
         if failures and (not keep_going or len(failures) == len(routes)):
             why = "every route failed" if keep_going else "the build stopped"
@@ -383,6 +422,7 @@ def _build_locked(config, out, jobs, pdf, keep_going, say, progress, report):
         manifest = _render(config, routes, old, out, tmp, pdf, progress, report, reusable, jobs)
         manifest["site_key"] = site_key if not failures else ""
         write_manifest(tmp, manifest)
+        ctrl_c.check()  # a Ctrl-C a library dropped still stops the build here
         publish(tmp, out)
         published = True
     except KeyboardInterrupt:
