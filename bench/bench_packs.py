@@ -36,7 +36,6 @@ JOIN = r"""
 import json, resource, sys, time
 from pathlib import Path
 from types import SimpleNamespace
-from cardgen.render.pages import render_packs
 
 folder, routes = Path(sys.argv[1]), json.loads(Path(sys.argv[2]).read_text())
 config = SimpleNamespace(templates=None, units="metric", card_size="A5", large_print=False, title="Invented")
@@ -54,15 +53,17 @@ else:
 for target in made_here:
     written += target.stat().st_size
     target.unlink()
-for target, made in ([] if made_here else render_packs(config, routes, folder, {slug for slug, _ in routes})):
-    if callable(made):  # this tree: the pack is streamed into its file
-        with target.open("wb") as sink:
-            made(sink)
-    else:  # before: the pack as bytes
-        target.write_bytes(made)
-        del made
-    written += target.stat().st_size
-    target.unlink()
+if not made_here:  # the earlier commit: a pass over the cards per pack, each as bytes or streamed
+    from cardgen.render.pages import render_packs
+    for target, made in render_packs(config, routes, folder, {slug for slug, _ in routes}):
+        if callable(made):
+            with target.open("wb") as sink:
+                made(sink)
+        else:
+            target.write_bytes(made)
+            del made
+        written += target.stat().st_size
+        target.unlink()
 own = resource.getrusage(resource.RUSAGE_SELF)
 print(json.dumps({"cpu": time.process_time() - t0, "rss": own.ru_maxrss / 1024, "mb": written / 2**20}))
 """

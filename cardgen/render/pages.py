@@ -9,11 +9,11 @@ import functools
 import re
 import statistics
 import traceback
-from collections.abc import Callable, Iterator
-from dataclasses import dataclass, replace
+from collections.abc import Iterator
+from dataclasses import dataclass
 from datetime import UTC, datetime
 from pathlib import Path
-from typing import Any, BinaryIO
+from typing import Any
 
 import jinja2
 import numpy as np
@@ -966,26 +966,6 @@ def render_pack_group(config, group: PackGroup, per_page: tuple[int, int] | None
     two_up = group.where / "all-cards-2up.pdf" if config.card_size == "A5" else None
     files = (group.where / "all-cards.pdf", two_up)
     return firsts[0] - 1, PackFiles(cover, entries, size, None, None), files, rows
-
-
-def render_packs(
-    config, routes: list[tuple[str, dict]], folder: Path, fresh: set[str]
-) -> Iterator[tuple[Path, Callable[[BinaryIO], None]]]:
-    """Every file of the print packs of :func:`pack_groups`, one after the other, each
-    with the function that writes it into a binary file open for writing (a pass over
-    the cards per file; the build writes them all in one pass)."""
-    for group in pack_groups(config, routes, folder, fresh):
-        _, pack, (flat, two_up), _ = render_pack_group(config, group)
-        yield flat, functools.partial(_write_one, pack, "flat")
-        if two_up is not None:
-            yield two_up, functools.partial(_write_one, pack, "two_up")
-
-
-def _write_one(pack, field: str, sink: BinaryIO) -> None:
-    """One file of ``pack`` (``field``: "flat" or "two_up") into ``sink``."""
-    from cardgen.render.packs import write_packs
-
-    write_packs([replace(pack, **{field: sink})])
 
 
 def route_summary(job: RouteJob, views, units: str, to_second: bool = False) -> dict:
