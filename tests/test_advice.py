@@ -13,7 +13,8 @@ def _plan(**effort):
     values.update(effort)
     vehicle = SimpleNamespace(max_descent_speed=12.5)  # 45 km/h
     rider = SimpleNamespace(cp=214.0, w_prime=15000.0, flat_power=150.0, vehicle=vehicle)
-    return SimpleNamespace(effort=Effort(**values), rider=rider)
+    effort = Effort(**values)
+    return SimpleNamespace(effort=effort, rider=rider, assist_off_at=effort.assist_off_at)  # as Plan's
 
 
 def _climb(power, time, top, after, warnings=()):

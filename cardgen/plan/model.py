@@ -169,6 +169,12 @@ class Plan:
         return arrival_time(self.terrain.distance, self.ride.elapsed, self.stops, distance)
 
     @property
+    def assist_off_at(self) -> float | None:
+        """Where [m] the plan has the motor switched off to keep the battery's reserve
+        (None: the battery lasts, or there is no motor): :attr:`Effort.assist_off_at`."""
+        return self.effort.assist_off_at if self.effort is not None else None
+
+    @property
     def finish_elapsed(self) -> float:
         """Time [s] from the start to the finish, stops included."""
         return self.elapsed_at(self.terrain.length)

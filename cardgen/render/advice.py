@@ -67,7 +67,7 @@ def _assist_off(row: ClimbRow, plan: Plan, units: str) -> str:
     """Where the motor is switched off part way up this climb to keep the battery's
     reserve ("; assist off at 5.3 km"): the climb's row names the level it starts
     with, and its speed and time already ride the rest without the motor."""
-    off = plan.effort.assist_off_at if plan.effort is not None else None  # None without a motor
+    off = plan.assist_off_at
     if off is None or not row.climb.start_distance < off < row.climb.start_distance + row.climb.length:
         return ""
     return f"; assist off at {fmt.distance(off, units)}"

@@ -246,10 +246,9 @@ def assist_plan(plan: Plan, units: str) -> str:
     """The card's assist words for the day: the level between the climbs, and where
     the plan has the motor switched off to keep the battery's reserve ("" without a
     motor)."""
-    motor, effort = plan.motor, plan.effort
+    motor, off = plan.motor, plan.assist_off_at
     if motor is None:
         return ""
-    off = effort.assist_off_at if effort is not None else None
     keeps = f"keeps the {BATTERY_RESERVE * 100:.0f} % reserve"
     if plan.assist_between is None:
         return "" if off is None else f"assist off from {fmt.distance(off, units)}: {keeps}"

@@ -750,7 +750,7 @@ def cue_rows(plan: Plan) -> list[dict]:
     battery's reserve, a row "assist off" at that place (page 1 says the same km)."""
     terrain = plan.terrain
     cues = list(plan.cues)
-    off = plan.effort.assist_off_at if plan.effort is not None and plan.motor is not None else None
+    off = plan.assist_off_at
     if off is not None:
         mark = _Mark(off, "assist", f"assist off: keeps the {BATTERY_RESERVE * 100:.0f} % reserve")
         row = TimedCue(mark, plan.elapsed_at(off))  # type: ignore[arg-type]  # the fields a row reads
