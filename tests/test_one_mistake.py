@@ -57,7 +57,13 @@ def _problems(tmp_path, old: str, new: str) -> list[str]:
     (tmp_path / "site.toml").write_text(SITE.replace(old, new, 1), encoding="utf-8")
     with pytest.raises(ConfigError) as caught:
         load_config(tmp_path / "site.toml")
-    return [line.strip() for line in str(caught.value).splitlines()[1:]]
+    return _listed(str(caught.value))
+
+
+def _listed(message: str) -> list[str]:
+    """The problems of a ConfigError: one on its own line, several after a count."""
+    lines = message.splitlines()
+    return [lines[0]] if len(lines) == 1 else [line.strip() for line in lines[1:]]
 
 
 def _line_of(tmp_path, needle: str) -> int:
@@ -140,6 +146,18 @@ def test_an_unreadable_entrants_file_is_one_message_though_a_wave_names_its_ride
         (tmp_path / "entrants.csv").write_text(entrants, encoding="utf-8")
     with pytest.raises(ConfigError) as caught:
         load_config(tmp_path / "site.toml")
-    problems = [line.strip() for line in str(caught.value).splitlines()[1:]]
+    problems = _listed(str(caught.value))
     assert len(problems) == 1 and "entrants.csv" in problems[0], problems
     assert "waves[0]" not in str(caught.value)
+
+
+def test_one_mistake_is_one_line(tmp_path, capsys):
+    """A typo is one line on stderr, the place first (it was two: "1 problem in the
+    configuration:" and the problem under it)."""
+    from cardgen.cli import main
+
+    _problems(tmp_path, 'start = "08:00"', 'start = "8:0O"')
+    assert main(["check", str(tmp_path / "site.toml")]) == 1
+    err = capsys.readouterr().err.strip().splitlines()
+    assert len(err) == 1 and err[0].startswith(f"cardgen: error: {tmp_path / 'site.toml'}, line "), err
+    assert "waves[0].start" in err[0]

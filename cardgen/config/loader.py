@@ -112,9 +112,7 @@ def _from_data(data: dict[str, Any], path: Path | None, text: str, folder: Path)
         problems = [
             p.replace(":: ", ": ").replace(": =", " =") for p in check.problems
         ]  # CSV places end in ":"
-        raise ConfigError(
-            f"{plural(len(problems), 'problem')} in the configuration:\n  " + "\n  ".join(problems)
-        )
+        raise ConfigError(one_or_listed(problems, "in the configuration"))
     conditions = Conditions(
         cond["wind_kmh"] / KMH_PER_MS,
         math.radians(cond["wind_from_deg"]),
@@ -386,6 +384,13 @@ def _waves(
                 )
             )
     return waves
+
+
+def one_or_listed(problems: list[str], where: str) -> str:
+    """One problem on its own line; several counted, then one a line, indented."""
+    if len(problems) == 1:
+        return problems[0]
+    return f"{plural(len(problems), 'problem')} {where}:\n  " + "\n  ".join(problems)
 
 
 def plural(count: int, word: str) -> str:
