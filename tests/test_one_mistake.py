@@ -137,7 +137,7 @@ def test_an_unreadable_entrants_file_is_one_message_though_a_wave_names_its_ride
     """A semicolon-separated CSV (a spreadsheet saved in a comma-decimal language) whose
     riders a wave names: one message, at the CSV. Tried with a 300-rider event whose
     adaptive wave names 42 riders: the semicolon hint came with 42 "no rider" errors."""
-    site = SITE.split("[[riders]]")[0] + "[[riders]]\ncsv = \"entrants.csv\"\n"
+    site = SITE.split("[[riders]]")[0] + '[[riders]]\ncsv = "entrants.csv"\n'
     distance = np.arange(0.0, 2000.0, 10.0)
     profile_gpx(tmp_path / "flat.gpx", distance, np.full_like(distance, 50.0))
     profile_gpx(tmp_path / "hill.gpx", distance, 50.0 + 0.05 * distance)
