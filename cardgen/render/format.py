@@ -199,13 +199,14 @@ def hhmm(when: datetime) -> str:
 
 
 def clock(start: datetime | None, seconds: float | None) -> str:
-    """Time of day "09:42" after ``seconds`` from ``start``; "+1:07" without a start."""
+    """Time of day "09:42" after ``seconds`` from ``start``; "+1:07" without a start.
+    The moment itself rounds to the nearest minute, so a start with seconds (09:42:45)
+    counts them, as plan.json and the day sheet do."""
     if seconds is None or _missing(seconds):
         return "–"
     if start is None:
         return "+" + duration(seconds)
-    when = start + timedelta(seconds=_nearest(seconds / 60, 1) * 60)
-    return when.strftime("%H:%M")
+    return start_clock(start + timedelta(seconds=seconds))
 
 
 def start_clock(when: datetime | None, to_second: bool = False) -> str:
