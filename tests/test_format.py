@@ -122,6 +122,20 @@ def test_fluid_ranges_never_print_as_one_figure():
     assert litres_range(None) == "–"
 
 
+def test_a_carbohydrate_range_rounds_half_up_like_every_other_figure():
+    """62.5 g is 63 g, as a half rounds everywhere on the card; Jinja's ``round``
+    filter, which the card used, rounds half to even and printed 62 (and 38.5 as 38)."""
+    from cardgen.render.format import grams_range
+
+    assert grams_range((62.5, 93.75)) == "63–94 g"
+    assert grams_range((38.5, 77.0)) == "39–77 g"
+    assert grams_range((24.49, 36.7)) == "24–37 g"
+    assert grams_range((0.0, 26.4)) == "0–26 g"  # under 75 min: 0–30 g an hour
+    assert grams_range((0.0, 0.0)) == "–"  # under 45 min: none (Thomas et al. 2016)
+    assert grams_range(None) == "–"
+    assert grams_range((float("nan"), 1.0)) == "–"
+
+
 def test_a_cue_sheet_leg_keeps_one_unit_down_the_column():
     # "Next" mixed "850 m" and "12.3 km" in one column; now every row is in km (mi)
     legs = [50.0, 850.0, 9994.0, 12_300.0]
