@@ -22,6 +22,7 @@ def _print_waves(config: SiteConfig) -> None:
     whatever the routes its riders ride)."""
     from cardgen.config import plural
     from cardgen.plan.starts import event_starts
+    from cardgen.render.format import gap
 
     starts = event_starts(config)
     shown = "%H:%M:%S" if starts.to_second else "%H:%M"
@@ -30,6 +31,11 @@ def _print_waves(config: SiteConfig) -> None:
             _print(
                 f"wave {wave.name}: {plural(wave.riders, 'start')}, first {wave.first:{shown}}, "
                 f"last {wave.last:{shown}}"
+                + (
+                    (f", {gap(wave.interval)} apart" if wave.interval else ", together")
+                    if wave.riders > 1
+                    else ""
+                )
             )
         else:
             _print(f"wave {wave.name}: no riders start in it")
@@ -54,7 +60,7 @@ def _entrants_and_rides(config: SiteConfig) -> str:
 
 def cmd_check(args: argparse.Namespace) -> int:
     """Everything a build can find without rendering, all at once."""
-    from cardgen.config import plural
+    from cardgen.config import one_or_listed, plural
     from cardgen.io.gpx import read_gpx
     from cardgen.plan import plan_route
 
@@ -100,7 +106,7 @@ def cmd_check(args: argparse.Namespace) -> int:
     )
     _print_waves(config)
     if problems:
-        raise CardgenError("\n  ".join([f"{plural(len(problems), 'route problem')}:"] + problems))
+        raise CardgenError(one_or_listed(problems, "in the routes"))
     _print(
         f"configuration and routes are fine; nothing was written (a build writes to {output_folder(config, demo)})"
     )
