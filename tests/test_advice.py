@@ -67,11 +67,37 @@ def test_descent_advice_is_to_ease_or_to_pedal():
     braked = SimpleNamespace(rider_power=20.0, braking_energy=4000.0, warnings=(curve,))
     assert descent_advice(braked, plan) == "ease off; brake where the notes say"
     # braked at the cap with nothing to warn of (coasting a hair over it): where it brakes
-    capped = SimpleNamespace(rider_power=20.0, braking_energy=300.0, warnings=())
+    capped = SimpleNamespace(
+        rider_power=20.0, braking_energy=300.0, warnings=(), coast_speed=12.52, max_speed=12.5
+    )
     assert descent_advice(capped, plan) == "ease off; let it roll, braking at 45.0 km/h"
     assert (
         descent_advice(SimpleNamespace(rider_power=118.0, braking_energy=0.0), plan)
         == "keep pedalling, about 120 W"
+    )
+
+
+def test_a_descent_names_the_cap_only_where_the_plan_reaches_it():
+    """Seen on the demo's day ride (road bike, cap 60 km/h): descent 2 coasts to 37.9
+    km/h on its average grade, tops out at 38.5 km/h, and the plan brakes 23 J for the
+    junction at its foot, a turn too gentle to warn of; the card said "let it roll,
+    braking at 60.0 km/h", a speed the descent never reaches."""
+    plan = _plan()
+    plan.rider.vehicle.max_descent_speed = 60 / 3.6
+    below = SimpleNamespace(
+        rider_power=4.0, braking_energy=23.0, warnings=(), coast_speed=37.9 / 3.6, max_speed=38.5 / 3.6
+    )
+    assert descent_advice(below, plan) == "ease off and let it roll"
+    # coasting on the average grade stays under the cap (the table's 43.0 km/h), but the
+    # ride reaches the cap of 45 km/h and brakes there: said so, without contradicting
+    # the table's lower unbraked figure
+    plan.rider.vehicle.max_descent_speed = 12.5
+    steeper = SimpleNamespace(
+        rider_power=0.0, braking_energy=900.0, warnings=(), coast_speed=43.0 / 3.6, max_speed=12.5
+    )
+    assert (
+        descent_advice(steeper, plan)
+        == "ease off; let it roll: it reaches 45.0 km/h in places, brake to hold that"
     )
 
 

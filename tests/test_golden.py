@@ -1,6 +1,7 @@
 """Golden numbers: every watts, speed, time, curve slow-to speed and battery figure the
-demo's cards and ``plan.json`` print, against values worked out here without
-cardgen's physics.
+demo's cards and ``plan.json`` print, the moving time, and each food leg's riding time,
+energy, carbohydrate and fluid, against values worked out here without cardgen's
+physics.
 
 What is cardgen's and what is the test's own:
 - inputs come from cardgen: the demo's configuration (riders, vehicles, motors,
@@ -468,3 +469,201 @@ def test_battery_figures(demo):
             checked += 1
     # the demo's two e-assist riders, both on the hill loop (sample_routes/site.toml)
     assert checked >= 2
+
+
+# --- moving time, food, fluids, battery ------------------------------------------------
+
+#: Carbohydrate guide [g/h] by the whole outing's duration [h] (Thomas, Erdman & Burke
+#: 2016, Med Sci Sports Exerc 48(3):543–568, Table 4 [S]): under 45 min none; up to
+#: 75 min small amounts (cardgen's 0–30 g/h); 1–2.5 h 30–60 g/h; longer, up to 90 g/h
+#: (cardgen's 60–90 g/h)
+CARB_GUIDE = ((0.75, 0.0, 0.0), (1.25, 0.0, 30.0), (2.5, 30.0, 60.0), (math.inf, 60.0, 90.0))
+#: Fluid [L/h] at 13 °C, the demo's air: the low third of the 0.4–0.8 L/h starting
+#: point of Sawka et al. (2007), ACSM position stand [M]; the split by temperature is
+#: common practice, no published source
+FLUID_AT_13C = (0.4, 0.6)
+J_PER_KCAL = 4184.0  # thermochemical calorie (ISO 80000-5)
+#: A motor's thermal filter: the first-order time constant within which its output
+#: may average its continuous rating (common practice, no published source: the README)
+THERMAL_TAU = 600.0
+
+
+def _free_ride_times(vehicle, terrain, cond, ride, ends):
+    """Elapsed time [s] at each distance of ``ends`` (ascending, within the route):
+    the equation of motion of :func:`_ride_time` integrated in one ``solve_ivp`` call
+    per stretch the plan rides freely, with the plan's own rider and motor power on
+    each 10 m and its speed at the stretch's start; across segments where a speed limit
+    holds the plan's speed down (braking for a curve, a turn or the cap: ``limited``)
+    the plan's own times are taken as they are. Returns the times and the share of
+    the total taken from the plan."""
+    d = terrain.distance
+    inertia = vehicle.mass + vehicle.wheel_inertia_mass
+    rider_w = ride.rider_power
+    drive = np.where(rider_w > 0, rider_w * vehicle.efficiency, rider_w) + ride.motor_power
+    n = terrain.grade.size
+    wind, rho = _air(cond, terrain, slice(0, n))
+    node_t = np.zeros(n + 1)  # the test's own elapsed time at each node it passes
+    taken = 0.0
+    i = 0
+    while i < n:
+        j = i
+        while j < n and ride.limited[j] == ride.limited[i]:
+            j += 1
+        if ride.limited[i]:
+            node_t[i + 1 : j + 1] = node_t[i] + np.cumsum(ride.time[i:j])
+            taken += float(np.sum(ride.time[i:j]))
+        else:
+            grade = terrain.grade[i:j]
+            edges = np.concatenate(([0.0], np.cumsum(terrain.step * np.sqrt(1.0 + grade**2))))
+
+            def motion(s, y, i=i, j=j, edges=edges):
+                k = i + min(int(np.searchsorted(edges, s, "right")) - 1, j - i - 1)
+                v = max(y[0], 0.05)
+                resist = wheel_power(
+                    v, terrain.grade[k], wind[k], rho[k], vehicle.mass, vehicle.crr, vehicle.cda
+                )
+                return [(drive[k] - resist) / (inertia * v * v), 1.0 / v]
+
+            sol = solve_ivp(
+                motion,
+                (0.0, edges[-1]),
+                [float(ride.speed[i]), 0.0],
+                t_eval=edges,
+                rtol=1e-7,
+                atol=1e-8,
+                max_step=terrain.step,
+            )
+            node_t[i + 1 : j + 1] = node_t[i] + sol.y[1, 1:]
+        i = j
+    return [float(np.interp(e, d, node_t)) for e in ends], taken / node_t[-1]
+
+
+def test_moving_time_food_and_fluids(demo):
+    """Every card's moving time and each food leg's riding time, energy, carbohydrate
+    and fluid: the times from the equation of motion integrated with SciPy's
+    ``solve_ivp`` (Martin et al. 1998, kinetic term included) at the plan's own power;
+    food energy = rider's work / gross efficiency (the definition of gross efficiency,
+    Gaesser & Brooks 1975 [M]), the vehicle's efficiency an input; carbohydrate and
+    fluid = the guides above × the leg's riding hours, each end of the carbohydrate
+    range to the nearest gram (half up), fluid low end down and high end up to 0.1 L."""
+    from cardgen.io.gpx import read_gpx
+    from cardgen.plan import plan_route
+
+    config, routes = demo
+    cond = config.conditions
+    checked = 0
+    for rc, terrain, plan_json, cards in routes:
+        riders = [_rider(config, p["rider"]["name"]) for p in plan_json["plans"]]
+        full = plan_route(
+            read_gpx(rc.gpx), riders, cond, checkpoints=rc.checkpoints, stops=rc.stops, stop=rc.stop
+        ).plans
+        for plan, rider, ridden in zip(plan_json["plans"], riders, full, strict=True):
+            vehicle, ride = rider.vehicle, ridden.ride
+            card = cards[rider.name]
+            ends = [leg["end_m"] for leg in plan["legs"]]
+            times, taken = _free_ride_times(vehicle, terrain, cond, ride, ends)
+            assert taken < 0.10  # braking stretches: 5 % of the cargo bike's hill loop (its 35 km/h cap)
+            assert plan["totals"]["time_s"] == pytest.approx(times[-1], rel=2e-3), (rc.gpx.name, rider.name)
+            if not near_a_boundary(times[-1] / 60, 1.0, 0.05):
+                assert f"moving time {hm(times[-1])}" in card, (rider.name, hm(times[-1]))
+            # the day's food energy on page 1, all the vehicle's riders together
+            total = (
+                float(np.sum(np.maximum(ride.rider_power, 0.0) * ride.time))
+                / vehicle.gross_efficiency
+                / J_PER_KCAL
+            )
+            if not near_a_boundary(total, 10.0, 0.5):
+                said = f"energy spent riding about {nearest(total, 10.0):,.0f} kcal"
+                assert said in " ".join(card.split()), (rider.name, said)
+            # the food table: one row per leg, in order
+            rows = re.findall(
+                r"\((\d+\.\d) km\)\s+(\d+:\d\d)\s+([\d,]+) kcal\s+(\d+)–(\d+) g\s+(\d\.\d)–(\d\.\d) L", card
+            )
+            assert len(rows) == len(plan["legs"]), (rider.name, rows)
+            out_h = _time_out(plan, times[-1])
+            low, high = next((lo, hi) for limit, lo, hi in CARB_GUIDE if out_h <= limit)
+            work = np.concatenate(([0.0], np.cumsum(np.maximum(ride.rider_power, 0.0) * ride.time)))
+            start_t, start_w = 0.0, 0.0
+            for leg, end_t, row in zip(plan["legs"], times, rows, strict=True):
+                hours = (end_t - start_t) / 3600
+                end_w = float(np.interp(leg["end_m"], terrain.distance, work))
+                kcal = (end_w - start_w) / vehicle.gross_efficiency / J_PER_KCAL
+                start_t, start_w = end_t, end_w
+                if not near_a_boundary(hours * 60, 1.0, 0.05):
+                    assert row[1] == hm(hours * 3600), (rider.name, leg["to"])
+                if not near_a_boundary(kcal, 10.0, 0.5):
+                    assert int(row[2].replace(",", "")) == nearest(kcal, 10.0), (rider.name, leg["to"])
+                for printed, rate in ((row[3], low), (row[4], high)):
+                    if not near_a_boundary(rate * hours, 1.0, 0.05):
+                        assert int(printed) == nearest(rate * hours, 1.0), (rider.name, leg["to"])
+                for printed, rate, rounding in (
+                    (row[5], FLUID_AT_13C[0], down),
+                    (row[6], FLUID_AT_13C[1], None),
+                ):
+                    litres = rate * hours
+                    expected = rounding(litres, 0.1) if rounding else math.ceil(litres / 0.1 - 1e-9) * 0.1
+                    if abs(litres / 0.1 - round(litres / 0.1)) > 0.01:
+                        assert float(printed) == pytest.approx(expected), (rider.name, leg["to"])
+                checked += 1
+    assert checked >= 13  # the day ride's 5 legs for 3 riders, one or two legs elsewhere
+
+
+def _time_out(plan, moving_s):
+    """The whole outing [h]: moving time and every planned stop (plan.json's checkpoints)."""
+    stops = sum(c.get("stop_s", 0.0) for c in plan.get("checkpoints", []))
+    return (moving_s + stops) / 3600
+
+
+def test_battery_use(demo):
+    """Each e-assist card's "battery about N Wh": the motor's power at the wheel worked
+    out again on every 10 m from the plan's own rider power and speed, the assist ratio
+    of the level each climb row and the plan between climbs name, the taper to zero
+    at the cut-off (Regulation (EU) No 168/2013, Art. 2(2)(h)), the peak power and the
+    continuous rating held by a first-order filter of the output (``THERMAL_TAU``,
+    marched segment by segment); battery = ∫ motor power dt / drive efficiency,
+    rounded up to 1 Wh (a need)."""
+    from cardgen.io.gpx import read_gpx
+    from cardgen.plan import plan_route
+
+    config, routes = demo
+    checked = 0
+    for rc, terrain, plan_json, cards in routes:
+        riders = [_rider(config, p["rider"]["name"]) for p in plan_json["plans"]]
+        if all(_motor(r) is None for r in riders):
+            continue
+        full = plan_route(
+            read_gpx(rc.gpx),
+            riders,
+            config.conditions,
+            checkpoints=rc.checkpoints,
+            stops=rc.stops,
+            stop=rc.stop,
+        ).plans
+        for plan, rider, ridden in zip(plan_json["plans"], riders, full, strict=True):
+            motor = _motor(rider)
+            if motor is None or ridden.assist_off_at is not None:
+                continue  # a switch-off part way is not worked out here
+            ride = ridden.ride
+            ratio = np.full(terrain.grade.size, _ratio(motor, plan["totals"]["assist_between_level"]))
+            for climb in plan["climbs"]:
+                ratio[_segments(terrain, climb["start_m"], climb["end_m"])] = _ratio(
+                    motor, climb.get("assist_level", climb.get("assist"))
+                )
+            taper_share = np.clip((motor.cutoff_speed - ride.mean_speed) / motor.taper, 0.0, 1.0)
+            asked = np.minimum(ratio * np.maximum(ride.rider_power, 0.0), motor.peak_power) * taper_share
+            filtered, energy = 0.0, 0.0
+            for want, dt in zip(asked, ride.time, strict=True):
+                keep = math.exp(-dt / THERMAL_TAU)
+                given = min(want, max(motor.rated_power, (motor.rated_power - filtered * keep) / (1 - keep)))
+                filtered = filtered * keep + given * (1 - keep)
+                energy += given * dt
+            wh = energy / motor.drive_efficiency / 3600
+            assert plan["totals"]["battery_j"] / 3600 == pytest.approx(wh, rel=2e-3), (
+                rc.gpx.name,
+                rider.name,
+            )
+            card = " ".join(cards[rider.name].split())
+            if abs(wh - round(wh)) > 0.05:
+                assert f"battery about {math.ceil(wh):.0f} Wh" in card, (rider.name, wh)
+            checked += 1
+    assert checked >= 2  # the hill loop's two e-assist riders

@@ -57,7 +57,13 @@ def _problems(tmp_path, old: str, new: str) -> list[str]:
     (tmp_path / "site.toml").write_text(SITE.replace(old, new, 1), encoding="utf-8")
     with pytest.raises(ConfigError) as caught:
         load_config(tmp_path / "site.toml")
-    return [line.strip() for line in str(caught.value).splitlines()[1:]]
+    return _listed(str(caught.value))
+
+
+def _listed(message: str) -> list[str]:
+    """The problems of a ConfigError: one on its own line, several after a count."""
+    lines = message.splitlines()
+    return [lines[0]] if len(lines) == 1 else [line.strip() for line in lines[1:]]
 
 
 def _line_of(tmp_path, needle: str) -> int:
@@ -117,3 +123,41 @@ def test_a_misspelt_gpx_path_offers_only_close_names(tmp_path):
     message = str(caught.value)
     assert "(did you mean 'hill-loop.gpx'?)" in message
     assert "riverside-loop" not in message and "day-ride" not in message
+
+
+@pytest.mark.parametrize(
+    "entrants",
+    [
+        "name;vehicle;cp_w\nBo, road bike;road-hoods;230\nAda, handcycle;handcycle;90\n",  # semicolons
+        None,  # the file is missing
+        "nom,vehicle,cp_w\n",  # a header that is not the [[riders]] keys
+    ],
+)
+def test_an_unreadable_entrants_file_is_one_message_though_a_wave_names_its_riders(tmp_path, entrants):
+    """A semicolon-separated CSV (a spreadsheet saved in a comma-decimal language) whose
+    riders a wave names: one message, at the CSV. Tried with a 300-rider event whose
+    adaptive wave names 42 riders: the semicolon hint came with 42 "no rider" errors."""
+    site = SITE.split("[[riders]]")[0] + '[[riders]]\ncsv = "entrants.csv"\n'
+    distance = np.arange(0.0, 2000.0, 10.0)
+    profile_gpx(tmp_path / "flat.gpx", distance, np.full_like(distance, 50.0))
+    profile_gpx(tmp_path / "hill.gpx", distance, 50.0 + 0.05 * distance)
+    (tmp_path / "site.toml").write_text(site, encoding="utf-8")
+    if entrants is not None:
+        (tmp_path / "entrants.csv").write_text(entrants, encoding="utf-8")
+    with pytest.raises(ConfigError) as caught:
+        load_config(tmp_path / "site.toml")
+    problems = _listed(str(caught.value))
+    assert len(problems) == 1 and "entrants.csv" in problems[0], problems
+    assert "waves[0]" not in str(caught.value)
+
+
+def test_one_mistake_is_one_line(tmp_path, capsys):
+    """A typo is one line on stderr, the place first (it was two: "1 problem in the
+    configuration:" and the problem under it)."""
+    from cardgen.cli import main
+
+    _problems(tmp_path, 'start = "08:00"', 'start = "8:0O"')
+    assert main(["check", str(tmp_path / "site.toml")]) == 1
+    err = capsys.readouterr().err.strip().splitlines()
+    assert len(err) == 1 and err[0].startswith(f"cardgen: error: {tmp_path / 'site.toml'}, line "), err
+    assert "waves[0].start" in err[0]

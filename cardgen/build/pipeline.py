@@ -414,7 +414,8 @@ def _build_locked(config, out, jobs, pdf, keep_going, say, progress, report, ctr
         if failures and (not keep_going or len(failures) == len(routes)):
             why = "every route failed" if keep_going else "the build stopped"
             raise BuildError(
-                f"{why}; nothing was published (the previous site is unchanged):\n  " + "\n  ".join(failures)
+                f"{why}; nothing was published (the previous site is unchanged):"
+                + ("\n  " + "\n  ".join(failures) if len(failures) > 1 else " " + failures[0])
             )
         report.failed = failures
         for failure in failures:

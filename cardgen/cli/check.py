@@ -54,7 +54,7 @@ def _entrants_and_rides(config: SiteConfig) -> str:
 
 def cmd_check(args: argparse.Namespace) -> int:
     """Everything a build can find without rendering, all at once."""
-    from cardgen.config import plural
+    from cardgen.config import one_or_listed, plural
     from cardgen.io.gpx import read_gpx
     from cardgen.plan import plan_route
 
@@ -100,7 +100,7 @@ def cmd_check(args: argparse.Namespace) -> int:
     )
     _print_waves(config)
     if problems:
-        raise CardgenError("\n  ".join([f"{plural(len(problems), 'route problem')}:"] + problems))
+        raise CardgenError(one_or_listed(problems, "in the routes"))
     _print(
         f"configuration and routes are fine; nothing was written (a build writes to {output_folder(config, demo)})"
     )

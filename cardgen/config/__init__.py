@@ -6,7 +6,7 @@ its README table.
 """
 
 from cardgen.config.defaults import folder_config, gpx_config
-from cardgen.config.loader import load_config, plural, rider_start
+from cardgen.config.loader import load_config, one_or_listed, plural, rider_start
 from cardgen.config.schema import SCHEMA, SECTIONS, reference_table
 
 __all__ = [
@@ -15,6 +15,7 @@ __all__ = [
     "folder_config",
     "gpx_config",
     "load_config",
+    "one_or_listed",
     "plural",
     "reference_table",
     "rider_start",

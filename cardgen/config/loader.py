@@ -56,7 +56,8 @@ def _from_data(data: dict[str, Any], path: Path | None, text: str, folder: Path)
     routes_whole = len(check.problems) == before and all(r["gpx"] is not None for r in routes)
     before = len(check.problems)
     riders_raw = _rider_tables(check, data.get("riders", []), folder)
-    if not riders_raw and len(check.problems) == before:  # not when an entrants file was refused
+    riders_whole = len(check.problems) == before  # every entrants file read
+    if not riders_raw and riders_whole:  # not when an entrants file was refused
         check.problems.append(
             f'{path}: no [[riders]] entries; add [[riders]] tables, or riders = "entrants.csv"'
         )
@@ -93,8 +94,9 @@ def _from_data(data: dict[str, Any], path: Path | None, text: str, folder: Path)
         "bib",
         "bib {} is given to two riders",
     )
-    # a wave may name a rider whose own entry has a problem: that one is reported there
-    entered = {str(r["name"]) for r in riders if r["name"] is not None}
+    # a wave may name a rider whose own entry has a problem: that one is reported there;
+    # and riders of an entrants file that could not be read are not looked for at all
+    entered = {str(r["name"]) for r in riders if r["name"] is not None} if riders_whole else None
     waves = _waves(check, data.get("waves", []), folder, entered, route_objects if routes_whole else None)
     speed_rule = _speed_rule(check, tables["event"])
 
@@ -110,9 +112,7 @@ def _from_data(data: dict[str, Any], path: Path | None, text: str, folder: Path)
         problems = [
             p.replace(":: ", ": ").replace(": =", " =") for p in check.problems
         ]  # CSV places end in ":"
-        raise ConfigError(
-            f"{plural(len(problems), 'problem')} in the configuration:\n  " + "\n  ".join(problems)
-        )
+        raise ConfigError(one_or_listed(problems, "in the configuration"))
     conditions = Conditions(
         cond["wind_kmh"] / KMH_PER_MS,
         math.radians(cond["wind_from_deg"]),
@@ -214,16 +214,16 @@ def _csv_rows(check: Checker, path: Path) -> list[tuple[int, dict[str, Any]]]:
             )
             return []
     unknown = [f"column {i}{close_matches(c, known)}" for i, c in enumerate(header, 1) if c not in known]
-    if unknown:  # by position: the file may be anything (/etc/passwd), its text is not repeated
-        check.problems.append(
-            f"{path}:row 1: {plural(len(unknown), 'unknown column')} ({', '.join(unknown[:5])}"
-            f"{', …' if len(unknown) > 5 else ''}); the header row names the keys of [[riders]]: {', '.join(known)}"
-        )
     missing = [key for key, spec in known.items() if spec.required and key not in header]
-    if missing:
-        check.problems.append(
-            f"{path}:row 1: no column {' or '.join(missing)}; the header row names the columns"
+    no_column = f"no column {' or '.join(missing)}" if missing else ""
+    if unknown:  # by position: the file may be anything (/etc/passwd), its text is not repeated
+        check.problems.append(  # with the missing column: a misspelt "name" is one mistake
+            f"{path}:row 1: {plural(len(unknown), 'unknown column')} ({', '.join(unknown[:5])}"
+            f"{', …' if len(unknown) > 5 else ''}){' and ' + no_column if missing else ''}; "
+            f"the header row names the keys of [[riders]]: {', '.join(known)}"
         )
+    elif missing:
+        check.problems.append(f"{path}:row 1: {no_column}; the header row names the columns")
     if over:
         check.problems.append(over)
     if unknown or missing:  # the rows cannot be read as riders: one message for the file, not one per row
@@ -344,10 +344,11 @@ def _speed_rule(check: Checker, event: dict[str, Any]) -> tuple[float, float] | 
 
 
 def _waves(
-    check: Checker, raw: Any, folder: Path, riders: set[str], routes: tuple[RouteConfig, ...] | None
+    check: Checker, raw: Any, folder: Path, riders: set[str] | None, routes: tuple[RouteConfig, ...] | None
 ) -> list[Wave]:
     """The [[waves]] tables; every rider and route they name must exist (routes are
-    not checked, None, while a [[routes]] entry has a problem of its own)."""
+    not checked, None, while a [[routes]] entry has a problem of its own; riders, None,
+    while an entrants file could not be read)."""
     if not isinstance(raw, list):
         check.problems.append(f"{check.path}: waves must be [[waves]] tables")
         return []
@@ -383,6 +384,13 @@ def _waves(
                 )
             )
     return waves
+
+
+def one_or_listed(problems: list[str], where: str) -> str:
+    """One problem on its own line; several counted, then one a line, indented."""
+    if len(problems) == 1:
+        return problems[0]
+    return f"{plural(len(problems), 'problem')} {where}:\n  " + "\n  ".join(problems)
 
 
 def plural(count: int, word: str) -> str:

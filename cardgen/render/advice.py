@@ -23,6 +23,9 @@ SOME_LEFT = 0.6
 #: A descent where the plan's mean power is below this share of the day's mean is
 #: "ease off and let it roll"; otherwise "keep pedalling".
 EASE_SHARE = 0.35
+#: A descent's top speed within this share of the speed cap reaches it: the ride holds
+#: the speed at the cap itself, to the solver's tolerance (1e-6 of the speed).
+CAP_REACHED = 1e-3
 
 
 def effort_line(plan: Plan, units: str = "metric") -> str:
@@ -98,15 +101,28 @@ def descent_advice(row: DescentRow, plan: Plan, units: str = "metric") -> str:
     brakes on it and the descent has notes: a curve or coasting past the speed cap, so
     letting it roll would contradict them), "ease off; let it roll, braking at 45.0 km/h"
     (the plan brakes at the cap but coasting passes it by too little to warn of:
-    :data:`cardgen.plan.rider.FAST_MARGIN`), or "keep pedalling, about 120 W"."""
+    :data:`cardgen.plan.rider.FAST_MARGIN`), "ease off; let it roll: it reaches 45.0
+    km/h in places, brake to hold that" (coasting on the average grade stays under the
+    cap, the table's unbraked speed, but steeper stretches or speed carried in reach
+    it), or "keep pedalling, about 120 W".
+
+    The cap is named only where the plan reaches it: a descent it brakes on only for a
+    bend or turn too gentle to warn of (never at the cap of 60 km/h, its top 38.5 km/h)
+    is "let it roll"; "braking at 60.0 km/h" there read as a speed to reach."""
     mean = plan.effort.mean_power if plan.effort is not None else plan.rider.flat_power
-    if row.rider_power < EASE_SHARE * mean:
-        if row.braking_energy <= 0:
-            return "ease off and let it roll"
-        if row.warnings:
-            return "ease off; brake where the notes say"
-        return f"ease off; let it roll, braking at {fmt.speed(plan.rider.vehicle.max_descent_speed, units, 'down')}"
-    return f"keep pedalling, about {fmt.power(row.rider_power)}"
+    if row.rider_power >= EASE_SHARE * mean:
+        return f"keep pedalling, about {fmt.power(row.rider_power)}"
+    if row.braking_energy <= 0:
+        return "ease off and let it roll"
+    if row.warnings:
+        return "ease off; brake where the notes say"
+    cap = plan.rider.vehicle.max_descent_speed
+    if row.max_speed < cap * (1.0 - CAP_REACHED):
+        return "ease off and let it roll"
+    said = fmt.speed(cap, units, "down")
+    if row.coast_speed < cap:
+        return f"ease off; let it roll: it reaches {said} in places, brake to hold that"
+    return f"ease off; let it roll, braking at {said}"
 
 
 def _grouped(

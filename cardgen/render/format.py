@@ -184,19 +184,29 @@ def litres_range(pair: tuple[float, float] | None) -> str:
     return f"{low:.1f}–{high:.1f} L"
 
 
+def grams_range(pair: tuple[float, float] | None) -> str:
+    """A carbohydrate range "39–77 g", each end to the nearest gram, half up like
+    every other figure of this module (Jinja's ``round`` rounds half to even: 62.5 g
+    printed 62); "–" without one, or where the guide gives none (under 45 min)."""
+    if pair is None or _missing(pair[0]) or _missing(pair[1]) or pair[1] <= 0:
+        return "–"
+    return f"{_nearest(pair[0], 1):.0f}–{_nearest(pair[1], 1):.0f} g"
+
+
 def hhmm(when: datetime) -> str:
     """A moment as "09:42", rounded to the nearest minute like :func:`moment`."""
     return start_clock(when)
 
 
 def clock(start: datetime | None, seconds: float | None) -> str:
-    """Time of day "09:42" after ``seconds`` from ``start``; "+1:07" without a start."""
+    """Time of day "09:42" after ``seconds`` from ``start``; "+1:07" without a start.
+    The moment itself rounds to the nearest minute, so a start with seconds (09:42:45)
+    counts them, as plan.json and the day sheet do."""
     if seconds is None or _missing(seconds):
         return "–"
     if start is None:
         return "+" + duration(seconds)
-    when = start + timedelta(seconds=_nearest(seconds / 60, 1) * 60)
-    return when.strftime("%H:%M")
+    return start_clock(start + timedelta(seconds=seconds))
 
 
 def start_clock(when: datetime | None, to_second: bool = False) -> str:
@@ -259,4 +269,5 @@ FILTERS = {
     "score": score,
     "hhmm": hhmm,
     "litres_range": litres_range,
+    "grams_range": grams_range,
 }
