@@ -107,8 +107,9 @@ def test_every_arrival_lies_inside_every_window_with_the_margin(event):
 def test_check_prints_each_wave(event, capsys):
     assert main(["check", str(event.source)]) == 0
     out = capsys.readouterr().out
-    assert "wave Early: 2 starts, first 07:30, last 07:32" in out
-    assert "wave Main: 2 starts, first 08:15, last 08:16" in out
+    # the interval too: an organiser checks it against the waves they wrote
+    assert "wave Early: 2 starts, first 07:30, last 07:32, 2 min apart\n" in out
+    assert "wave Main: 2 starts, first 08:15, last 08:16, 1 min apart\n" in out
 
 
 def test_plan_json_carries_starts_bibs_waves_and_windows(event, tmp_path):

@@ -40,6 +40,7 @@ class WaveStarts:
     riders: int
     first: datetime | None
     last: datetime | None
+    interval: float = 0.0  # [s] between its riders' starts
 
 
 @dataclass(frozen=True)
@@ -118,6 +119,6 @@ def event_starts(site: SiteConfig) -> Starts:
         count = len(slots[w])
         first = datetime.combine(day, wave.start) if count else None
         last = first + timedelta(seconds=(count - 1) * wave.interval) if first else None
-        summary.append(WaveStarts(wave.name, count, first, last))
+        summary.append(WaveStarts(wave.name, count, first, last, wave.interval))
     to_second = any(s.at is not None and (s.at.second or s.at.microsecond) for s in by_entry.values())
     return Starts(by_entry, tuple(summary), to_second, len(opened))

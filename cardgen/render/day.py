@@ -71,7 +71,8 @@ def day_rows(route: str, points: Iterable[PointDay], to_second: bool) -> list[di
                 "people": p.people,
                 "first": clock(p.first),
                 "last": clock(p.last),
-                "per_15_min": [[clock(q), n] for q, n in p.quarters],
+                # a quarter hour has no seconds, whatever the starts carry
+                "per_15_min": [[fmt.start_clock(q), n] for q, n in p.quarters],
                 "stop_min": round(p.stop / 60),
                 "carbs_g": None if p.carbs_g is None else round(p.carbs_g),
                 "fluid_l": None if p.fluid_l is None else round(p.fluid_l, 1),

@@ -209,6 +209,14 @@ def clock(start: datetime | None, seconds: float | None) -> str:
     return start_clock(start + timedelta(seconds=seconds))
 
 
+def gap(seconds: float) -> str:
+    """Time between starts: "2 min", "30 s", "1 min 30 s"."""
+    minutes, rest = divmod(round(seconds), 60)
+    if not rest:
+        return f"{minutes} min"
+    return f"{minutes} min {rest} s" if minutes else f"{rest} s"
+
+
 def start_clock(when: datetime | None, to_second: bool = False) -> str:
     """A start's (or an arrival's) time of day: "09:30", or "09:30:30" when the event's
     starts are seconds apart (half-minute starts would otherwise print as repeated

@@ -133,11 +133,16 @@ def site_context(config, starts, built: str = "") -> dict:
         span = fmt.start_clock(wave.first, to_second)
         if wave.last != wave.first:
             span += "–" + fmt.start_clock(wave.last, to_second)
-        parts.append(f"wave {wave.name} {span} ({wave.riders} rider{'s' if wave.riders != 1 else ''})")
+        apart = (
+            (f", {fmt.gap(wave.interval)} apart" if wave.interval else ", together")
+            if wave.riders > 1
+            else ""
+        )
+        parts.append(f"wave {wave.name} {span} ({wave.riders} rider{'s' if wave.riders != 1 else ''}{apart})")
     if config.start is not None and (starts.open_start or not parts):
         line = f"{'other riders from ' if parts else ''}{fmt.start_clock(config.start, to_second)}"
         if config.start_interval:
-            line += f", riders {_interval_text(config.start_interval)} apart"
+            line += f", riders {fmt.gap(config.start_interval)} apart"
         parts.append(line)
     event_line = ""
     if parts:
@@ -165,14 +170,6 @@ def _start_span(job, to_second: bool) -> str:
         return ""
     first, last = fmt.start_clock(starts[0], to_second), fmt.start_clock(starts[-1], to_second)
     return first if first == last else f"{first}–{last}"
-
-
-def _interval_text(seconds: float) -> str:
-    """ "2 min", "30 s", "1 min 30 s"."""
-    minutes, rest = divmod(round(seconds), 60)
-    if not rest:
-        return f"{minutes} min"
-    return f"{minutes} min {rest} s" if minutes else f"{rest} s"
 
 
 #: Paper [mm] (width, height), margins [mm] (top, sides, bottom), body type size and
