@@ -120,6 +120,23 @@ def _write_riders(folder: Path, riders: int, changed: bool = False) -> None:
     (folder / "entrants.csv").write_text("\n".join(rows) + "\n", encoding="utf-8")
 
 
+def make_event(folder: Path, riders: int) -> Path:
+    """The invented event in ``folder`` (emptied first): the three routes, ``riders``
+    entrants in a CSV and its ``site.toml`` (returned)."""
+    shutil.rmtree(folder, ignore_errors=True)
+    folder.mkdir(parents=True)
+    for name, points in ROUTES.items():
+        make_route(folder / f"{name}.gpx", points=points)
+    _write_riders(folder, riders)
+    site = folder / "site.toml"
+    site.write_text(
+        'riders = "entrants.csv"\n[site]\ntitle = "Invented sportive"\n[event]\nstart = "07:00"\n'
+        "start_interval_min = 0.5\n" + "".join(f'[[routes]]\ngpx = "{n}.gpx"\n' for n in ROUTES),
+        encoding="utf-8",
+    )
+    return site
+
+
 def _unpack(revision: str) -> Path:
     """The tree of ``revision`` in bench/out (``git archive``: no worktree registered)."""
     tree = OUT / f"tree-{revision}"
@@ -190,17 +207,7 @@ def main() -> None:
     args = parser.parse_args()
     pdf = not args.no_pdf
     folder = OUT / f"event-{args.riders}"
-    shutil.rmtree(folder, ignore_errors=True)
-    folder.mkdir(parents=True)
-    for name, points in ROUTES.items():
-        make_route(folder / f"{name}.gpx", points=points)
-    _write_riders(folder, args.riders)
-    (folder / "site.toml").write_text(
-        'riders = "entrants.csv"\n[site]\ntitle = "Invented sportive"\n[event]\nstart = "07:00"\n'
-        "start_interval_min = 0.5\n" + "".join(f'[[routes]]\ngpx = "{n}.gpx"\n' for n in ROUTES),
-        encoding="utf-8",
-    )
-    site = folder / "site.toml"
+    site = make_event(folder, args.riders)
     print(
         f"{args.riders} riders on 40, 100 and 160 km, {'with' if pdf else 'without'} PDFs, --jobs {args.jobs}"
     )
