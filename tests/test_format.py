@@ -148,3 +148,27 @@ def test_the_card_cue_sheet_prints_its_legs_with_the_leg_filter():
 
     text = (default_templates() / "cues.html").read_text(encoding="utf-8")
     assert "row.next | leg(units)" in text and "row.next | length" not in text
+
+
+@pytest.mark.parametrize(
+    ("wind_kmh", "from_deg", "celsius", "units", "text"),
+    [
+        # the demo's day: 12 km/h from 240°, which lies within 11.25° of WSW (247.5°)
+        (12.0, 240.0, 13.0, "metric", "wind 12.0 km/h from WSW (240°), 13 °C"),
+        # 12 km/h = 7.46 mph, to 0.5 mph; 13 °C = 55.4 °F
+        (12.0, 240.0, 13.0, "imperial", "wind 7.5 mph from WSW (240°), 55 °F"),
+        (20.0, 359.6, None, "metric", "wind 20.0 km/h from N (0°), ISA air temperature"),
+        (20.0, 11.3, -4.0, "metric", "wind 20.0 km/h from N (11°), -4 °C"),  # the point of the printed 11°
+        (20.0, 11.6, -4.0, "metric", "wind 20.0 km/h from NNE (12°), -4 °C"),  # past 11.25°
+        (0.0, 90.0, 25.0, "metric", "no wind, 25 °C"),
+    ],
+)
+def test_the_weather_the_figures_assume(wind_kmh, from_deg, celsius, units, text):
+    from cardgen.settings import Conditions
+
+    weather = Conditions(
+        wind_speed=wind_kmh / 3.6,
+        wind_from=math.radians(from_deg),
+        temperature=None if celsius is None else celsius + 273.15,
+    )
+    assert fmt.conditions(weather, units) == text

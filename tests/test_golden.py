@@ -667,3 +667,15 @@ def test_battery_use(demo):
                 assert f"battery about {math.ceil(wh):.0f} Wh" in card, (rider.name, wh)
             checked += 1
     assert checked >= 2  # the hill loop's two e-assist riders
+
+
+def test_cards_and_coach_sheets_say_the_weather_they_assume(demo_site):
+    """The demo's [conditions] (sample_routes/site.toml: wind 12 km/h from 240°, 13 °C),
+    worked into words by hand: 240° is within 11.25° of west-south-west (247.5°)."""
+    _, out, _ = demo_site
+    said = "figures assume wind 12.0 km/h from WSW (240°), 13 °C"
+    sheets = sorted(p for p in out.glob("*/*.pdf") if not p.stem.startswith("all-cards"))
+    assert len(sheets) >= 9 + 4  # the 9 cards and 4 coach sheets
+    for pdf in sheets:
+        text = subprocess.run(["pdftotext", str(pdf), "-"], capture_output=True, text=True, check=True).stdout
+        assert said in " ".join(text.split()), pdf.name

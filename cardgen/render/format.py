@@ -17,7 +17,7 @@ from collections.abc import Callable
 from datetime import datetime, timedelta
 from typing import Concatenate, ParamSpec
 
-from cardgen.units import J_PER_KCAL, J_PER_WH, KMH_PER_MS, M_PER_FT, M_PER_MI, MPH_PER_MS
+from cardgen.units import J_PER_KCAL, J_PER_WH, KMH_PER_MS, M_PER_FT, M_PER_MI, MPH_PER_MS, ZERO_CELSIUS_K
 
 
 def _nearest(value: float, step: float) -> float:
@@ -193,6 +193,31 @@ def grams_range(pair: tuple[float, float] | None) -> str:
     return f"{_nearest(pair[0], 1):.0f}–{_nearest(pair[1], 1):.0f} g"
 
 
+#: The 16 points of the compass, clockwise from north, 22.5° apart.
+COMPASS = ("N", "NNE", "NE", "ENE", "E", "ESE", "SE", "SSE", "S", "SSW", "SW", "WSW", "W", "WNW", "NW", "NNW")
+
+
+def conditions(weather: object, units: str = "metric") -> str:
+    """The weather every figure assumes, so that a coach can tell when the day's
+    differs: "wind 12.0 km/h from WSW (240°), 13 °C"; "no wind" when calm; "ISA air
+    temperature" when none is given (the standard atmosphere's at each height).
+    ``weather`` is a :class:`cardgen.settings.Conditions` (SI: m/s, rad, K)."""
+    wind_speed = float(getattr(weather, "wind_speed", 0.0))
+    if wind_speed > 0:
+        degrees = int(_nearest(math.degrees(float(getattr(weather, "wind_from", 0.0))), 1)) % 360
+        point = COMPASS[int(_nearest(degrees / 22.5, 1)) % 16]
+        wind = f"wind {speed(wind_speed, units)} from {point} ({degrees}°)"
+    else:
+        wind = "no wind"
+    kelvin = getattr(weather, "temperature", None)
+    if kelvin is None or _missing(kelvin):
+        return f"{wind}, ISA air temperature"
+    celsius = kelvin - ZERO_CELSIUS_K
+    if units == "imperial":
+        return f"{wind}, {_nearest(celsius * 9 / 5 + 32, 1):.0f} °F"
+    return f"{wind}, {_nearest(celsius, 1):.0f} °C"
+
+
 def hhmm(when: datetime) -> str:
     """A moment as "09:42", rounded to the nearest minute like :func:`moment`."""
     return start_clock(when)
@@ -278,4 +303,5 @@ FILTERS = {
     "hhmm": hhmm,
     "litres_range": litres_range,
     "grams_range": grams_range,
+    "conditions": conditions,
 }

@@ -415,6 +415,7 @@ def _render_route(config, site: dict, job: RouteJob, folder: Path) -> RoutePages
         descents_advice=functools.partial(advice.descents_advice, units=units),
         climbs_advice=functools.partial(advice.climbs_advice, units=units),
         hot_caution=hot_caution,
+        conditions=config.conditions,  # the weather every figure assumes
     )
     files["index.html"] = env.get_template("route.html").render(
         **common,
