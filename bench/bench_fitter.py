@@ -120,7 +120,7 @@ def main() -> None:
                     (out / Path(c.target).name).write_bytes(data)
                     chosen[c.target] = (index, pages_)
                 counter[0] += fitter.layouts
-                _learn(learned, fitter.learned)
+                _learn(learned, fitter.news())
         cpu = time.process_time() - t0
         results[name] = (cpu, counter[0], chosen)
         budget = cards[0].budget

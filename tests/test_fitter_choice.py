@@ -71,7 +71,7 @@ def _fitted(site: Path, batch: int, out: Path, route_index: int = 0):
             )
             chosen.append((card, index, n))
         layouts += fitter.layouts
-        _learn(learned, fitter.learned)
+        _learn(learned, fitter.news())
     return chosen, layouts, folder
 
 

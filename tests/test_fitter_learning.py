@@ -85,3 +85,21 @@ def test_sizes_learned_in_two_processes_merge_to_what_decides():
         },
     )
     assert learned[("r", "road")]["sizes"] == {(1, 0): {"over": [(1.8, 10)], "fit": [(1.5, 4)]}}
+
+
+def test_a_batch_reports_only_the_cards_it_chose_itself(tmp_path):
+    """A worker starts from what earlier batches learned and reports what it learned:
+    the build adds the reports up, so a count of chosen variants it was handed must
+    not come back in its report (three rounds of two workers had counted the first
+    round's cards 3 × 3 = 9 times each, outweighing what later rounds chose)."""
+    first = _Batch(_cards(tmp_path, ["a", "b"]))
+    learned: dict = {}
+    _learn(learned, _render_pdfs(first)[2])
+    assert learned[(str(tmp_path), "road")]["chosen"] == {1: 2}
+    for names in (["c", "d"], ["e"]):  # two workers of the next round, handed the same
+        later = _Batch(_cards(tmp_path, names))
+        later.learned = {group: dict(seen) for group, seen in learned.items()}
+        report = _render_pdfs(later)[2]
+        assert report[(str(tmp_path), "road")]["chosen"] == {1: len(names)}
+        _learn(learned, report)
+    assert learned[(str(tmp_path), "road")]["chosen"] == {1: 5}  # a to e, once each

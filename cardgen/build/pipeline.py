@@ -310,7 +310,8 @@ def _render_pdfs(cards) -> tuple[list[str], int, dict, dict[str, int]]:
     fits its page budget (the last one otherwise), by one fitter that learns from the
     cards before, in this batch and (``cards.learned``) in the build's earlier
     batches (:class:`cardgen.render.pdf.Fitter`; a group is a route's folder and a
-    vehicle kind). Returns the files, the layouts made, what the fitter learned and
+    vehicle kind). Returns the files, the layouts made, what the fitter learned
+    (:meth:`~cardgen.render.pdf.Fitter.news`) and
     the pages of each fitted card's file (by file; the packs' covers number pages
     from them without opening the cards)."""
     from cardgen.render.pages import CONTINUATION_STEP
@@ -333,7 +334,7 @@ def _render_pdfs(cards) -> tuple[list[str], int, dict, dict[str, int]]:
         else:
             data, _ = pdf_bytes(card.html, Path(card.base))
         Path(card.target).write_bytes(data)
-    return [c.target for c in cards], fitter.layouts, fitter.learned, pages
+    return [c.target for c in cards], fitter.layouts, fitter.news(), pages
 
 
 def _learn(learned: dict, more: dict) -> None:

@@ -72,8 +72,12 @@ SCHEMA = {
             required=True,
             help='a GPX file, relative to this file, or a pattern like "routes/*.gpx" (routes = "..." alone also works)',
         ),
-        "name": Spec("str"),
-        "notes": Spec("str", default=""),
+        "name": Spec(
+            "str",
+            help="the route's name on pages and cards (unset: the GPX's track name, else its file name); riders and waves name "
+            "a route by this or by its GPX file name",
+        ),
+        "notes": Spec("str", default="", help="the organiser's note on the route, on its page and its cards"),
         "checkpoints": Spec("list", help="waypoint names or distances in km"),
         "start": Spec("time", help='this route\'s own first start, like "09:00"'),
         "stop_min": Spec("number", default=0.0, limit="stop_min", help="planned stop at each checkpoint"),
@@ -97,11 +101,13 @@ SCHEMA = {
         "interval_min": Spec(
             "number", default=0.0, limit="start_interval_min", help="time between its riders"
         ),
-        "routes": Spec("list", help="riders on these routes start in this wave"),
+        "routes": Spec(
+            "list", help="riders on these routes start in this wave (route names or GPX file names)"
+        ),
         "riders": Spec("list", help="these riders (by name) start in this wave"),
     },
     "riders": {
-        "name": Spec("str", required=True),
+        "name": Spec("str", required=True, help="the rider's name, printed on the card; one rider, one name"),
         "vehicle": Spec("vehicle", required=True, help="a built-in vehicle or a .toml profile"),
         "cp_w": Spec("number", limit="cp_w"),
         "w_prime_kj": Spec("number", limit="w_prime_kj"),

@@ -155,8 +155,22 @@ class Fitter:
         #: (``learned``: what earlier fitters of the build learned, to start from:
         #: :func:`merge_learned`)
         self.learned: dict = merge_learned({}, learned or {})
+        #: the counts of chosen variants it was handed (:meth:`news` leaves them out)
+        self._handed = {group: dict(seen["chosen"]) for group, seen in self.learned.items()}
         self.cache: dict = {}
         self.layouts = 0
+
+    def news(self) -> dict:
+        """What this fitter has to tell the build, which adds up the reports of its
+        fitters (:func:`merge_learned`): its steps and sizes (least and largest seen,
+        so that repeating what it was handed changes nothing) and the cards it chose
+        itself, without the counts it was handed (those the build has already)."""
+        report = {}
+        for group, seen in self.learned.items():
+            handed = self._handed.get(group, {})
+            chosen = {v: n - handed.get(v, 0) for v, n in seen["chosen"].items() if n > handed.get(v, 0)}
+            report[group] = {**seen, "chosen": chosen}
+        return report
 
     def fit(
         self, variants, base: Path, budget: int, group=None, continued_from: int | None = None
