@@ -679,3 +679,18 @@ def test_cards_and_coach_sheets_say_the_weather_they_assume(demo_site):
     for pdf in sheets:
         text = subprocess.run(["pdftotext", str(pdf), "-"], capture_output=True, text=True, check=True).stdout
         assert said in " ".join(text.split()), pdf.name
+
+
+def test_the_fluid_guide_says_whose_range_it_splits(demo):
+    """The fluid band by temperature is cardgen's own split (common practice, no
+    published source); the stand's range is 0.4–0.8 L an hour (Sawka et al. 2007 [M]).
+    The card said "0.4–0.6 L an hour at the day's temperature (ACSM, 2007)", which
+    put cardgen's band in the stand's name."""
+    _, routes = demo
+    for _, _, _, cards in routes:
+        for name, text in cards.items():
+            words = " ".join(text.split())
+            assert (
+                "0.4–0.6 L an hour, our share for the day's temperature of the 0.4–0.8 L of ACSM (2007)"
+                in words
+            ), name
