@@ -127,6 +127,21 @@ def test_an_assist_level_on_a_bike_without_a_motor_is_a_warning(tmp_path, capsys
     assert code == 0 and "has no motor; the assist level is ignored" in err
 
 
+def test_a_warning_at_a_csv_cell_reads_like_a_problem_there(tmp_path, capsys):
+    """From a spreadsheet, the warning read "...:row 2, column assist_between_climbs:: the
+    vehicle 'road-hoods' has no motor" (the place's colon doubled); problems at a cell
+    were already tidied."""
+    path = _site(tmp_path)
+    path.write_text('riders = "e.csv"\n[[routes]]\ngpx = "riverside-loop.gpx"\n', encoding="utf-8")
+    (tmp_path / "e.csv").write_text("name,vehicle,assist_between_climbs\nA,road-hoods,2\n", encoding="utf-8")
+    code, _, err = _check(capsys, path)
+    assert (
+        code == 0
+        and "e.csv:row 2, column assist_between_climbs: the vehicle 'road-hoods' has no motor" in err
+    )
+    assert "::" not in err
+
+
 def test_riders_by_speed(tmp_path, capsys):
     code, _, err = _check(capsys, _site(tmp_path, BASE + "flat_kmh = 25\n"))
     assert code == 0 and "25 km/h on the flat takes about" in err

@@ -161,3 +161,12 @@ def test_one_mistake_is_one_line(tmp_path, capsys):
     err = capsys.readouterr().err.strip().splitlines()
     assert len(err) == 1 and err[0].startswith(f"cardgen: error: {tmp_path / 'site.toml'}, line "), err
     assert "waves[0].start" in err[0]
+
+
+def test_a_wave_naming_an_unknown_route_lists_the_routes(tmp_path):
+    """A wave written with the name the pages show (the GPX track's, "Hill climb"),
+    where only the [[routes]] name or the file name counts: the message said "no route
+    'Hill climb'" and nothing more; a rider's did list the routes."""
+    problems = _problems(tmp_path, 'riders = ["Ada, handcycle", "Bo, road bike"]', 'routes = ["Hill climb"]')
+    assert len(problems) == 1 and "waves[0].routes no route 'Hill climb'" in problems[0], problems
+    assert problems[0].endswith("; the routes are flat, flat.gpx, hill, hill.gpx"), problems

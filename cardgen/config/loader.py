@@ -109,10 +109,7 @@ def _from_data(data: dict[str, Any], path: Path | None, text: str, folder: Path)
         check.problems.append(f"{check.where('site', None, 'templates')}: no folder {templates}")
     output = _folder(check, folder, site["output"], "output")
     if check.problems:
-        problems = [
-            p.replace(":: ", ": ").replace(": =", " =") for p in check.problems
-        ]  # CSV places end in ":"
-        raise ConfigError(one_or_listed(problems, "in the configuration"))
+        raise ConfigError(one_or_listed([_tidy(p) for p in check.problems], "in the configuration"))
     conditions = Conditions(
         cond["wind_kmh"] / KMH_PER_MS,
         math.radians(cond["wind_from_deg"]),
@@ -134,7 +131,7 @@ def _from_data(data: dict[str, Any], path: Path | None, text: str, folder: Path)
         conditions=conditions,
         routes=route_objects,
         riders=tuple(rider_objects),
-        warnings=tuple(check.warnings),
+        warnings=tuple(_tidy(w) for w in check.warnings),
         inputs=tuple(
             dict.fromkeys(
                 [
@@ -369,9 +366,10 @@ def _waves(
         ):
             for name in names:
                 if known is not None and str(name) not in known:
+                    listed = f"; the routes are {', '.join(sorted(known))}" if kind == "route" else ""
                     check.problems.append(
                         f"{check.where('waves', i, kind + 's')} no {kind} {name!r}"
-                        f"{close_matches(str(name), known)}"
+                        f"{close_matches(str(name), known)}{listed}"
                     )
         if w["name"] is not None and w["start"] is not None:
             waves.append(
@@ -384,6 +382,11 @@ def _waves(
                 )
             )
     return waves
+
+
+def _tidy(message: str) -> str:
+    """A message at a CSV cell: its place ends in ":" already ("row 2, column bib:")."""
+    return message.replace(":: ", ": ").replace(": =", " =")
 
 
 def one_or_listed(problems: list[str], where: str) -> str:
