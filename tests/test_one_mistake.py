@@ -170,3 +170,23 @@ def test_a_wave_naming_an_unknown_route_lists_the_routes(tmp_path):
     problems = _problems(tmp_path, 'riders = ["Ada, handcycle", "Bo, road bike"]', 'routes = ["Hill climb"]')
     assert len(problems) == 1 and "waves[0].routes no route 'Hill climb'" in problems[0], problems
     assert problems[0].endswith("; the routes are flat, flat.gpx, hill, hill.gpx"), problems
+
+
+def test_routes_separated_by_commas_in_a_csv_cell_get_the_separator(tmp_path):
+    """A spreadsheet cell "lakes-160,lakes-40" (quoted, so one cell): the message
+    offered the closest single route ("did you mean 'lakes-160'"), not the fix."""
+    site = 'riders = "e.csv"\n' + SITE.split("[[riders]]")[0].replace(
+        'riders = ["Ada, handcycle", "Bo, road bike"]', 'routes = ["flat"]'
+    )
+    distance = np.arange(0.0, 2000.0, 10.0)
+    profile_gpx(tmp_path / "flat.gpx", distance, np.full_like(distance, 50.0))
+    profile_gpx(tmp_path / "hill.gpx", distance, 50.0 + 0.05 * distance)
+    (tmp_path / "site.toml").write_text(site, encoding="utf-8")
+    (tmp_path / "e.csv").write_text(
+        'name,vehicle,cp_w,routes\nBo,road-hoods,230,"flat,hill"\n', encoding="utf-8"
+    )
+    with pytest.raises(ConfigError) as caught:
+        load_config(tmp_path / "site.toml")
+    assert str(caught.value).endswith(
+        "e.csv:row 2, column routes: no route 'flat,hill'; separate routes with ';', not ','"
+    )

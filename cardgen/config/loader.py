@@ -499,6 +499,12 @@ def _rider(
     unknown = [x for x in (r["routes"] or ()) if not any(_names_route(str(x), rc) for rc in every)]
     for x in unknown if routes is not None else ():
         known = sorted({n for rc in every for n in (rc.gpx.name, rc.gpx.stem, rc.name) if n})
+        parts = [p.strip() for p in str(x).split(",")]
+        if len(parts) > 1 and all(any(_names_route(p, rc) for rc in every) for p in parts):
+            check.problems.append(  # a spreadsheet cell "a,b": the separator is ";"
+                f"{check.where('riders', i, 'routes')}: no route {x!r}; separate routes with ';', not ','"
+            )
+            continue
         check.problems.append(
             f"{check.where('riders', i, 'routes')}: no route {x!r}{close_matches(str(x), known)}; "
             f"the routes are {', '.join(known)}"
