@@ -96,3 +96,30 @@ def test_a_card_says_a_descent_warning_once(descent):
     # without the box (the coach sheet) the notes still say it, once
     (line,) = [line for line in descents_brief([row], "metric") if "coasting would pass" in line]
     assert line.startswith("Descent 1: coasting would pass")  # one descent: "Descent", not "Descents 1"
+
+
+@pytest.fixture(scope="module")
+def steeper_end(tmp_path_factory):
+    """2 km at 6 % down, then 1 km at 12 % down, between flats, no wind: the average
+    grade (8 %) coasts slower than the steep kilometre."""
+    d = np.arange(0, 5001, 10.0)
+    e = np.interp(d, [0, 1000, 3000, 4000, 5000], [400, 400, 280, 160, 160])
+    track = read_gpx(profile_gpx(tmp_path_factory.mktemp("steeper") / "steeper.gpx", d, e))
+    return analyse(track, build_terrain(track))
+
+
+def test_a_cap_reached_only_on_the_steeper_part_is_said_so(steeper_end):
+    """Coasting on the average grade stays under the cap (the table's unbraked
+    speed), the steep kilometre runs past it and the plan brakes there: the advice
+    says the cap is reached in places, not "braking at" a speed above the table's."""
+    (row,) = _plan(steeper_end).descents
+    coast = row.coast_speed * KMH
+    cap = math.floor((coast + 4.0) * 2) / 2  # above the average grade's coasting speed
+    plan = _plan(steeper_end, cap_kmh=cap)
+    (row,) = plan.descents
+    assert row.coast_speed * KMH < cap and not row.warnings
+    assert row.braking_energy > 0 and row.max_speed * KMH == pytest.approx(cap, abs=1e-3)
+    assert (
+        descent_advice(row, plan)
+        == f"ease off; let it roll: it reaches {cap:.1f} km/h in places, brake to hold that"
+    )
