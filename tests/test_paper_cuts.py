@@ -114,14 +114,18 @@ def test_duplicate_names_and_bibs_point_at_their_csv_rows(tmp_path):
         tmp_path,
         "name,vehicle,bib\nAda,road-hoods,7\nBea,road-hoods,8\nAda,handcycle,9\nCy,tandem,8\n",
     )
-    assert (
-        "entrants.csv:row 2, column name; " in message
-        and "entrants.csv:row 4, column name: two riders" in message
+    # one spreadsheet: its name once, then the rows (it was named before each row)
+    assert "entrants.csv:rows 2, 4, column name: two riders are named 'Ada'; give each" in message
+    assert "entrants.csv:rows 3, 5, column bib: bib 8 is given to two riders; give each" in message
+    assert "site.toml: two riders" not in message and message.count("entrants.csv") == 2
+
+
+def test_a_bib_given_to_three_riders_says_three(tmp_path):
+    """It said "two riders" whatever the count (a 300-rider trial's copy-paste slip)."""
+    message = _csv_site(tmp_path, "name,vehicle,bib\nAda,road-hoods,7\nBea,road-hoods,7\nCy,tandem,7\n")
+    assert message.endswith(
+        "entrants.csv:rows 2, 3, 4, column bib: bib 7 is given to three riders; give each a different bib"
     )
-    assert (
-        "entrants.csv:row 3, column bib; " in message and "entrants.csv:row 5, column bib: bib 8" in message
-    )
-    assert "site.toml: two riders" not in message
 
 
 def test_a_semicolon_separated_csv_gets_a_hint(tmp_path):

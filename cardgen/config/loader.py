@@ -87,12 +87,12 @@ def _from_data(data: dict[str, Any], path: Path | None, text: str, folder: Path)
         if (rc := _rider(check, i, r, route_objects if routes_whole else None)) is not None
     ]
     rider_objects = [rc for _, rc in numbered]
-    _duplicates(check, [(i, rc.rider.name) for i, rc in numbered], "name", "two riders are named {!r}")
+    _duplicates(check, [(i, rc.rider.name) for i, rc in numbered], "name", "{n} riders are named {v!r}")
     _duplicates(
         check,
         [(i, rc.bib) for i, rc in numbered if rc.bib is not None],
         "bib",
-        "bib {} is given to two riders",
+        "bib {v} is given to {n} riders",
     )
     # a wave may name a rider whose own entry has a problem: that one is reported there;
     # and riders of an entrants file that could not be read are not looked for at all
@@ -263,9 +263,25 @@ def _duplicates(check: Checker, values: list[tuple[int, Any]], key: str, words: 
         places.setdefault(value, []).append(index)
     for value, where in places.items():
         if len(where) > 1:
-            shown = "; ".join(check.where("riders", i, key).rstrip(":") for i in where[:3])
             more = f" (and {len(where) - 3} more)" if len(where) > 3 else ""
-            check.problems.append(f"{shown}{more}: {words.format(value)}; give each a different {key}")
+            check.problems.append(
+                f"{_places(check, where[:3], key)}{more}: {words.format(v=value, n=_count_word(len(where)))}; "
+                f"give each a different {key}"
+            )
+
+
+def _count_word(n: int) -> str:
+    return {2: "two", 3: "three"}.get(n, f"{n:,}")
+
+
+def _places(check: Checker, indexes: list[int], key: str) -> str:
+    """Where riders are: "entrants.csv:rows 4, 5, column bib" when one spreadsheet holds
+    them all, else each place in turn."""
+    rows = [check.csv_rows.get(("riders", i)) for i in indexes]
+    files = {r[0] for r in rows if r is not None}
+    if None not in rows and len(files) == 1:
+        return f"{files.pop()}:rows {', '.join(str(r[1]) for r in rows if r)}, column {key}"
+    return "; ".join(check.where("riders", i, key).rstrip(":") for i in indexes)
 
 
 def _stops(check: Checker, index: int, route: dict[str, Any]) -> tuple[float, ...]:
