@@ -73,6 +73,8 @@ def test_every_rider_has_bib_wave_and_start_and_the_index_gives_the_waves(event)
         assert rider["start"] == want.at.isoformat(timespec="seconds")
         assert f'<td class="num" data-label="Start (wave)">{want.at:%H:%M:%S} ({want.wave})</td>' in page
     index = (site / "index.html").read_text()
-    for wave in starts.waves:
-        assert f"wave {wave.name} {wave.first:%H:%M:%S}–{wave.last:%H:%M:%S} ({wave.riders} riders)" in index
+    for wave, (_, _, minutes) in zip(starts.waves, WAVES, strict=True):
+        apart = "30 s" if minutes == 0.5 else f"{minutes} min"
+        span = f"{wave.first:%H:%M:%S}–{wave.last:%H:%M:%S}"
+        assert f"wave {wave.name} {span} ({wave.riders} riders, {apart} apart)" in index
     assert [w.first.strftime("%H:%M") for w in starts.waves] == [s for _, s, _ in WAVES]
