@@ -248,7 +248,6 @@ def test_no_card_page_or_json_calls_a_speed_safe(outing):
         assert not pattern.search(body), (path, body[max(0, pattern.search(body).start() - 80) :][:160])
 
 
-
 def test_descent_speeds_are_not_called_upper_bounds(demo_site):
     """The descents table's speed is the steady coasting speed on the descent's average
     grade; the planned ride passes it where a pitch is steeper or speed is carried in
