@@ -233,7 +233,8 @@ def test_fuzz_config_loader(tmp_path_factory, data):
     try:
         config = _from_data(data, folder / "site.toml", "", folder)
     except ConfigError as exc:
-        assert "problem" in str(exc) or "site.toml" in str(exc)
+        # every message names the file at fault: site.toml, or one it names beside it
+        assert str(folder) in str(exc)
         return
     except CardgenError as exc:  # pragma: no cover - would be a wrong exception class
         raise AssertionError(f"not a ConfigError: {exc!r}") from exc

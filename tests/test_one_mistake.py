@@ -190,3 +190,20 @@ def test_routes_separated_by_commas_in_a_csv_cell_get_the_separator(tmp_path):
     assert str(caught.value).endswith(
         "e.csv:row 2, column routes: no route 'flat,hill'; separate routes with ';', not ','"
     )
+
+
+@pytest.mark.parametrize("value", ["", ".", "routes"])
+def test_riders_naming_a_folder_says_where(tmp_path, value):
+    """riders = "" read "/path/to/event: not a regular file; give the path of a
+    entrants (CSV) file": neither site.toml nor the key (found by the config fuzz
+    once a single problem lost its "1 problem in the configuration" line)."""
+    (tmp_path / "routes").mkdir()
+    profile_gpx(tmp_path / "flat.gpx", np.arange(0.0, 2000.0, 10.0), np.full(200, 50.0))
+    (tmp_path / "site.toml").write_text(
+        f'riders = "{value}"\n[[routes]]\ngpx = "flat.gpx"\n', encoding="utf-8"
+    )
+    with pytest.raises(ConfigError) as caught:
+        load_config(tmp_path / "site.toml")
+    assert str(caught.value) == (
+        f"{tmp_path / 'site.toml'}: riders = {value!r} is a folder; give the entrants' CSV file, like \"entrants.csv\""
+    )

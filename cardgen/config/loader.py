@@ -185,6 +185,12 @@ def _rider_tables(check: Checker, raw: Any, folder: Path) -> list[Any]:
             except ConfigError as exc:
                 check.problems.append(str(exc))
                 continue
+            if csv_path.is_dir():  # riders = "" or "." or a folder's name
+                check.problems.append(
+                    f"{check.path}: riders = {table['csv']!r} is a folder; give the entrants' CSV file, "
+                    'like "entrants.csv"'
+                )
+                continue
             check.inputs.append(csv_path)
             for row_number, row in _csv_rows(check, csv_path):
                 check.csv_rows[("riders", len(tables))] = (csv_path, row_number)
