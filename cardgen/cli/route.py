@@ -18,7 +18,8 @@ if TYPE_CHECKING:
 
 #: The short caution of ``cardgen route`` (the cards carry the full ones).
 ROUTE_CAUTION = (
-    "Model estimates, not guarantees: speeds are model upper bounds, not safe or target speeds. "
+    "Model estimates, not guarantees: descent speeds are for the average grade "
+    "(steeper pitches go faster), not safe or target speeds. "
     "Check brakes and ride descents and curves to the conditions; local road rules apply; hard "
     "efforts need medical clearance."
 )

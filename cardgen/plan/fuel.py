@@ -32,7 +32,9 @@ import numpy as np
 from cardgen.plan.model import Plan
 from cardgen.units import S_PER_H
 
-#: (longest whole-ride duration [h], carbohydrate g/h low, high), in order.
+#: (longest whole-ride duration [h], carbohydrate g/h low, high), in order. The 45–75 min
+#: band's "small amounts" is the statement's; its 0–30 g/h is cardgen's own figure
+#: (common practice, no published source), and the card says so.
 CARB_BANDS = ((0.75, 0.0, 0.0), (1.25, 0.0, 30.0), (2.5, 30.0, 60.0), (float("inf"), 60.0, 90.0))
 #: (air temperature up to [°C], fluid L/h low, high): the published 0.4–0.8 L/h split
 #: by temperature (cardgen's own banding; see the module notes).

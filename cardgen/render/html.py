@@ -28,7 +28,8 @@ ASSIST_CAUTION = (
 )
 #: Beside every table of descent speeds (card and route page): what the speeds are.
 DESCENT_CAUTION = (
-    "Speeds are model upper bounds, not safe or target speeds: check brakes before the start, brake "
+    "Speeds are model estimates on the average grade (steeper pitches and speed carried in go faster), "
+    "not safe or target speeds: check brakes before the start, brake "
     "before bends, and ride slower for the conditions, visibility, surface, traffic and posted limits."
 )
 #: Beside the descents table of a card whose ride is longer than :data:`LONG_RIDE` [s].
@@ -37,7 +38,8 @@ LONG_RIDE = 3 * S_PER_H
 #: The e-assist caution on cards (short: the range line follows it).
 CARD_ASSIST_CAUTION = "E-assist rules differ by place."
 DESCENTS_CAUTION = (
-    "Descents: speeds shown are model upper bounds, not safe or target speeds; check brakes, "
+    "Descents: speeds shown are model estimates (steeper pitches go faster), not safe or target speeds; "
+    "check brakes, "
     "and ride slower where you cannot see ahead."
 )
 #: Also in the footer of every card page, in these words.
