@@ -39,3 +39,17 @@ def test_quarter_hours_print_without_seconds_when_starts_carry_them():
     assert ",07:15=1; 07:30=2; 07:45=1," in day_csv_text([row])
     (row,) = day_rows("lakes-40", [_point()], to_second=False)
     assert row["first"] == "07:28" and [q for q, _ in row["per_15_min"]] == ["07:15", "07:30", "07:45"]
+
+
+def test_stock_rounds_up_to_what_is_needed():
+    """What a feed point must stock rounds up (a need, as the cards round a battery's):
+    Python's round, which the sheet used, is half to even and rounds down below it, so
+    312.5 g printed 312 and 4.04 L printed 4.0, under the sum of the riders' plans."""
+    import dataclasses
+
+    (row,) = day_rows("lakes-40", [dataclasses.replace(_point(), carbs_g=312.5, fluid_l=4.04)], to_second=False)
+    assert row["carbs_g"] == 313 and row["fluid_l"] == 4.1
+    (row,) = day_rows("lakes-40", [dataclasses.replace(_point(), carbs_g=312.0, fluid_l=4.0)], to_second=False)
+    assert row["carbs_g"] == 312 and row["fluid_l"] == 4.0  # a whole amount stays as it is
+    (row,) = day_rows("lakes-40", [dataclasses.replace(_point(), carbs_g=0.0, fluid_l=0.0)], to_second=False)
+    assert row["carbs_g"] == 0 and row["fluid_l"] == 0.0

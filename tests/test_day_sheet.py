@@ -159,8 +159,10 @@ def test_every_number_of_the_day_sheet_comes_from_the_plans(site):
             assert row["carbs_g"] == row["fluid_l"] == ""
         elif x["kind"] == "feed" or stop:  # food here: the next leg of everyone due, plus the margin
             carbs, fluid = _stock(plan, points, k)
-            assert float(row["carbs_g"]) == pytest.approx(carbs, abs=1.5)
-            assert float(row["fluid_l"]) == pytest.approx(fluid, abs=0.06)
+            # rounded up to the gram and the tenth of a litre (plan.json's figures carry
+            # their own rounding, a few hundredths)
+            assert carbs - 0.05 <= float(row["carbs_g"]) < carbs + 1.05
+            assert fluid - 0.005 <= float(row["fluid_l"]) < fluid + 0.105
             assert float(row["carbs_g"]) > 0 and float(row["fluid_l"]) > 0
         else:
             assert float(row["carbs_g"]) == 0

@@ -203,7 +203,7 @@ def _rider_tables(check: Checker, raw: Any, folder: Path) -> list[Any]:
 def _csv_rows(check: Checker, path: Path) -> list[tuple[int, dict[str, Any]]]:
     """The rows of an entrants file as [[riders]] tables, numbers as numbers."""
     try:
-        header, found, over = read_csv(path, "entrants (CSV)", ConfigError, MAX_CSV_ROWS)
+        header, found, over = read_csv(path, "CSV entrants", ConfigError, MAX_CSV_ROWS)
     except ConfigError as exc:
         check.problems.append(str(exc))
         return []

@@ -74,8 +74,9 @@ def day_rows(route: str, points: Iterable[PointDay], to_second: bool) -> list[di
                 # a quarter hour has no seconds, whatever the starts carry
                 "per_15_min": [[fmt.start_clock(q), n] for q, n in p.quarters],
                 "stop_min": round(p.stop / 60),
-                "carbs_g": None if p.carbs_g is None else round(p.carbs_g),
-                "fluid_l": None if p.fluid_l is None else round(p.fluid_l, 1),
+                # what to stock rounds up: never below the riders' plans' sum
+                "carbs_g": None if p.carbs_g is None else int(fmt.need(p.carbs_g, 1)),
+                "fluid_l": None if p.fluid_l is None else fmt.need(p.fluid_l, 0.1),
                 "food": supplies_food(p),
                 "last_leaves": clock(p.last_leaves),
                 "sweep": clock(p.sweep),

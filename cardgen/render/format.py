@@ -264,6 +264,12 @@ def _up(value: float, step: float) -> float:
     return math.ceil(value / step - 1e-9) * step
 
 
+def need(value: float, step: float) -> float:
+    """``value`` rounded up to a multiple of ``step`` (what to stock: never printed
+    below the sum it stands for), without a float's tail (4.1, not 4.1000000000000005)."""
+    return round(_up(value, step), max(0, -math.floor(math.log10(step))))
+
+
 def battery_wh(joules: float, rounding: str = "nearest") -> float:
     """Battery energy [Wh] as :func:`battery` prints it."""
     wh = joules / J_PER_WH
