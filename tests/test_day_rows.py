@@ -47,9 +47,13 @@ def test_stock_rounds_up_to_what_is_needed():
     312.5 g printed 312 and 4.04 L printed 4.0, under the sum of the riders' plans."""
     import dataclasses
 
-    (row,) = day_rows("lakes-40", [dataclasses.replace(_point(), carbs_g=312.5, fluid_l=4.04)], to_second=False)
+    (row,) = day_rows(
+        "lakes-40", [dataclasses.replace(_point(), carbs_g=312.5, fluid_l=4.04)], to_second=False
+    )
     assert row["carbs_g"] == 313 and row["fluid_l"] == 4.1
-    (row,) = day_rows("lakes-40", [dataclasses.replace(_point(), carbs_g=312.0, fluid_l=4.0)], to_second=False)
+    (row,) = day_rows(
+        "lakes-40", [dataclasses.replace(_point(), carbs_g=312.0, fluid_l=4.0)], to_second=False
+    )
     assert row["carbs_g"] == 312 and row["fluid_l"] == 4.0  # a whole amount stays as it is
     (row,) = day_rows("lakes-40", [dataclasses.replace(_point(), carbs_g=0.0, fluid_l=0.0)], to_second=False)
     assert row["carbs_g"] == 0 and row["fluid_l"] == 0.0
