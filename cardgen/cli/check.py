@@ -22,7 +22,7 @@ def _print_waves(config: SiteConfig) -> None:
     whatever the routes its riders ride)."""
     from cardgen.config import plural
     from cardgen.plan.starts import event_starts
-    from cardgen.render.format import gap
+    from cardgen.render.format import spacing
 
     starts = event_starts(config)
     shown = "%H:%M:%S" if starts.to_second else "%H:%M"
@@ -30,12 +30,7 @@ def _print_waves(config: SiteConfig) -> None:
         if wave.riders and wave.first and wave.last:
             _print(
                 f"wave {wave.name}: {plural(wave.riders, 'start')}, first {wave.first:{shown}}, "
-                f"last {wave.last:{shown}}"
-                + (
-                    (f", {gap(wave.interval)} apart" if wave.interval else ", together")
-                    if wave.riders > 1
-                    else ""
-                )
+                f"last {wave.last:{shown}}{spacing(wave.riders, wave.interval)}"
             )
         else:
             _print(f"wave {wave.name}: no riders start in it")

@@ -242,6 +242,14 @@ def gap(seconds: float) -> str:
     return f"{minutes} min {rest} s" if minutes else f"{rest} s"
 
 
+def spacing(riders: int, interval: float) -> str:
+    """How a wave's riders start, after its count: ", 30 s apart", ", together" (no
+    interval), or "" for a single rider."""
+    if riders <= 1:
+        return ""
+    return f", {gap(interval)} apart" if interval else ", together"
+
+
 def start_clock(when: datetime | None, to_second: bool = False) -> str:
     """A start's (or an arrival's) time of day: "09:30", or "09:30:30" when the event's
     starts are seconds apart (half-minute starts would otherwise print as repeated

@@ -133,11 +133,7 @@ def site_context(config, starts, built: str = "") -> dict:
         span = fmt.start_clock(wave.first, to_second)
         if wave.last != wave.first:
             span += "–" + fmt.start_clock(wave.last, to_second)
-        apart = (
-            (f", {fmt.gap(wave.interval)} apart" if wave.interval else ", together")
-            if wave.riders > 1
-            else ""
-        )
+        apart = fmt.spacing(wave.riders, wave.interval)
         parts.append(f"wave {wave.name} {span} ({wave.riders} rider{'s' if wave.riders != 1 else ''}{apart})")
     if config.start is not None and (starts.open_start or not parts):
         line = f"{'other riders from ' if parts else ''}{fmt.start_clock(config.start, to_second)}"
