@@ -150,22 +150,32 @@ def _unpack(revision: str) -> Path:
     return tree
 
 
-def _build(tree: Path, site: Path, out: Path, jobs: int, pdf: bool, old_fitter: bool = False) -> dict:
-    count = out.parent / f"{out.name}.layouts"
-    count.unlink(missing_ok=True)
-    env = {**os.environ, "PYTHONPATH": str(tree)}
-    if old_fitter:
-        env["BENCH_OLD_FITTER"] = str(Path(__file__).resolve().parent)
+def run_json(code: str, args: list[str], tree: Path, failed: str, env: dict[str, str] | None = None) -> dict:
+    """Run ``code`` with ``args`` in a fresh interpreter, in ``tree`` and with it first
+    on the path (and ``env`` added), and read the JSON line it prints last; exit with
+    ``failed`` and the end of its error output when it fails."""
     done = subprocess.run(
-        [sys.executable, "-c", BUILD, str(site), str(out), str(jobs), "1" if pdf else "0", str(count)],
+        [sys.executable, "-c", code, *args],
         capture_output=True,
         text=True,
-        env=env,
+        env={**os.environ, "PYTHONPATH": str(tree), **(env or {})},
         cwd=tree,
     )
     if done.returncode:
-        sys.exit(f"the build of {tree} failed:\n{done.stderr[-3000:]}")
-    figures = json.loads(done.stdout.strip().splitlines()[-1])
+        sys.exit(f"{failed}:\n{done.stderr[-3000:]}")
+    return json.loads(done.stdout.strip().splitlines()[-1])
+
+
+def _build(tree: Path, site: Path, out: Path, jobs: int, pdf: bool, old_fitter: bool = False) -> dict:
+    count = out.parent / f"{out.name}.layouts"
+    count.unlink(missing_ok=True)
+    figures = run_json(
+        BUILD,
+        [str(site), str(out), str(jobs), "1" if pdf else "0", str(count)],
+        tree,
+        f"the build of {tree} failed",
+        {"BENCH_OLD_FITTER": str(Path(__file__).resolve().parent)} if old_fitter else None,
+    )
     figures["layouts"] = count.stat().st_size if count.exists() else 0
     fitted = figures["cards"] - len(ROUTES)  # the coach sheets are not fitted
     figures["per_card"] = figures["layouts"] / fitted if fitted > 0 else float("nan")

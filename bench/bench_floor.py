@@ -21,14 +21,11 @@ and write, or a faster renderer, can.
 from __future__ import annotations
 
 import argparse
-import json
-import os
-import subprocess
 import sys
 from pathlib import Path
 
 sys.path.insert(0, str(Path(__file__).resolve().parent))
-from bench_event import BASELINE, OUT, ROOT, _build, _unpack, make_event  # noqa: E402
+from bench_event import BASELINE, OUT, ROOT, _build, _unpack, make_event, run_json  # noqa: E402
 
 #: Run in a fresh interpreter with this tree on sys.path: builds the site with the
 #: measuring wrappers in place (set before the workers fork, so they run there) and
@@ -96,18 +93,10 @@ def _floor(site: Path, out: Path, jobs: int) -> dict:
     the once-only card and coach-part costs."""
     log = out.parent / f"{out.name}.floor"
     log.unlink(missing_ok=True)
-    done = subprocess.run(
-        [sys.executable, "-c", FLOOR, str(site), str(out), str(jobs), str(log)],
-        capture_output=True,
-        text=True,
-        env={**os.environ, "PYTHONPATH": str(ROOT)},
-        cwd=ROOT,
-    )
-    if done.returncode:
-        sys.exit(f"the floor build failed:\n{done.stderr[-3000:]}")
-    figures = json.loads(done.stdout.strip().splitlines()[-1])
-    cards = [line.split()[1:] for line in log.read_text().splitlines() if line.startswith("card ")]
-    sheets = [float(line.split()[1]) for line in log.read_text().splitlines() if line.startswith("sheet ")]
+    figures = run_json(FLOOR, [str(site), str(out), str(jobs), str(log)], ROOT, "the floor build failed")
+    lines = log.read_text().splitlines()
+    cards = [line.split()[1:] for line in lines if line.startswith("card ")]
+    sheets = [float(line.split()[1]) for line in lines if line.startswith("sheet ")]
     figures["fitted"] = len(cards)
     figures["once"] = sum(float(real) for real, _ in cards)
     figures["once_blank"] = sum(float(empty) for _, empty in cards)

@@ -23,7 +23,7 @@ import sys
 from pathlib import Path
 
 sys.path.insert(0, str(Path(__file__).resolve().parent))
-from bench_event import _unpack  # noqa: E402
+from bench_event import _unpack, run_json  # noqa: E402
 from bench_route import OUT  # noqa: E402
 
 ROOT = Path(__file__).resolve().parent.parent
@@ -107,16 +107,7 @@ def _event(count: int, demo: list[Path]) -> Path:
 
 def _join(tree: Path, listing: Path) -> dict:
     folder = OUT / listing.stem
-    done = subprocess.run(
-        [sys.executable, "-c", JOIN, str(folder), str(listing)],
-        capture_output=True,
-        text=True,
-        env={**os.environ, "PYTHONPATH": str(tree)},
-        cwd=tree,
-    )
-    if done.returncode:
-        sys.exit(f"the packs with {tree} failed:\n{done.stderr[-3000:]}")
-    return json.loads(done.stdout.strip().splitlines()[-1])
+    return run_json(JOIN, [str(folder), str(listing)], tree, f"the packs with {tree} failed")
 
 
 def main() -> None:
