@@ -149,6 +149,22 @@ def _rider(config, name):
     return found
 
 
+def _replanned(config, rc, riders):
+    """The route's plans for ``riders`` as the build makes them (the whole Plan, ride
+    included, where plan.json holds its figures)."""
+    from cardgen.io.gpx import read_gpx
+    from cardgen.plan import plan_route
+
+    return plan_route(
+        read_gpx(rc.gpx),
+        riders,
+        config.conditions,
+        checkpoints=rc.checkpoints,
+        stops=rc.stops,
+        stop=rc.stop,
+    ).plans
+
+
 def _segments(terrain, start_m, end_m):
     d = terrain.distance
     return slice(int(np.argmin(np.abs(d - start_m))), int(np.argmin(np.abs(d - end_m))))
@@ -260,22 +276,13 @@ def test_climb_speeds_and_times(demo):
     (Martin et al. 1998 with the kinetic term), given the plan's own rider and motor
     power on each 10 m and its speed at the foot; the card's speed is length / time and
     its time the same seconds to the minute."""
-    from cardgen.io.gpx import read_gpx
-    from cardgen.plan import plan_route
 
     config, routes = demo
     checked = 0
     for rc, terrain, plan_json, cards in routes:
         names = [p["rider"]["name"] for p in plan_json["plans"]]
         riders = [_rider(config, n) for n in names]
-        full = plan_route(
-            read_gpx(rc.gpx),
-            riders,
-            config.conditions,
-            checkpoints=rc.checkpoints,
-            stops=rc.stops,
-            stop=rc.stop,
-        ).plans
+        full = _replanned(config, rc, riders)
         cond = config.conditions
         for plan, rider, ridden in zip(plan_json["plans"], riders, full, strict=True):
             vehicle = rider.vehicle
@@ -546,17 +553,13 @@ def test_moving_time_food_and_fluids(demo):
     Gaesser & Brooks 1975 [M]), the vehicle's efficiency an input; carbohydrate and
     fluid = the guides above × the leg's riding hours, each end of the carbohydrate
     range to the nearest gram (half up), fluid low end down and high end up to 0.1 L."""
-    from cardgen.io.gpx import read_gpx
-    from cardgen.plan import plan_route
 
     config, routes = demo
     cond = config.conditions
     checked = 0
     for rc, terrain, plan_json, cards in routes:
         riders = [_rider(config, p["rider"]["name"]) for p in plan_json["plans"]]
-        full = plan_route(
-            read_gpx(rc.gpx), riders, cond, checkpoints=rc.checkpoints, stops=rc.stops, stop=rc.stop
-        ).plans
+        full = _replanned(config, rc, riders)
         for plan, rider, ridden in zip(plan_json["plans"], riders, full, strict=True):
             vehicle, ride = rider.vehicle, ridden.ride
             card = cards[rider.name]
@@ -622,8 +625,6 @@ def test_battery_use(demo):
     continuous rating held by a first-order filter of the output (``THERMAL_TAU``,
     marched segment by segment); battery = ∫ motor power dt / drive efficiency,
     rounded up to 1 Wh (a need)."""
-    from cardgen.io.gpx import read_gpx
-    from cardgen.plan import plan_route
 
     config, routes = demo
     checked = 0
@@ -631,14 +632,7 @@ def test_battery_use(demo):
         riders = [_rider(config, p["rider"]["name"]) for p in plan_json["plans"]]
         if all(_motor(r) is None for r in riders):
             continue
-        full = plan_route(
-            read_gpx(rc.gpx),
-            riders,
-            config.conditions,
-            checkpoints=rc.checkpoints,
-            stops=rc.stops,
-            stop=rc.stop,
-        ).plans
+        full = _replanned(config, rc, riders)
         for plan, rider, ridden in zip(plan_json["plans"], riders, full, strict=True):
             motor = _motor(rider)
             if motor is None or ridden.assist_off_at is not None:
