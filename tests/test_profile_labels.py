@@ -82,3 +82,25 @@ def test_a_summit_under_a_checkpoint_moves_its_number_not_the_checkpoint():
     chk3, climb3 = labels[2], labels[5]
     assert chk3.xyann == (0, 0)  # the checkpoint label stays in its row
     assert climb3.xyann != plots.CLIMB_MARK_SPOTS[0][0]  # not the first place: above the summit
+
+
+def test_a_map_label_never_covers_a_climb_number():
+    """On the route map a checkpoint's label goes where it covers no other mark: the
+    demo's day ride printed "Chk1" over climb 2's number, which starts 5 km on, since
+    the label had one place only (up and right of its mark). Here a straight road east,
+    its climb's foot 600 m past the checkpoint."""
+    from matplotlib.backends.backend_agg import RendererAgg
+
+    fig = plots._figure(5.2, 2.6)
+    ax = fig.add_axes((0.0, 0.0, 1.0, 1.0))
+    ax.set_aspect("equal")
+    ax.axis("off")
+    ax.set_xlim(-1000.0, 21000.0)
+    ax.set_ylim(-5000.0, 5000.0)
+    ax.apply_aspect()
+    climbs = [SimpleNamespace(start_distance=10600.0)]
+    plots._map_marks(ax, lambda d: (d, 0.0), 20000.0, climbs, [("Bridge", 10000.0)], 1.0)
+    renderer = RendererAgg(*(fig.get_size_inches() * fig.dpi), fig.dpi)
+    boxes = {t.get_text(): plots._label_box(t, renderer).padded(-1.0) for t in ax.texts if t.get_text()}
+    assert set(boxes) == {"1", "Chk1"}
+    assert plots._overlap(boxes["Chk1"], [boxes["1"]]) == 0

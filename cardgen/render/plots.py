@@ -209,6 +209,18 @@ def _grade_fills(x, y, steep, bins, colour_of, base: float, scale: tuple[float, 
 #: Where a climb's number may go around its summit, as (x, y) in points from it with
 #: its alignment, in order of preference: above, left, right, higher up (to clear a
 #: neighbour's number), below.
+#: Where a checkpoint's label may go on the route map, from its mark [pt]: (offset, ha,
+#: va), in order of preference (the first that covers no other mark).
+MAP_LABEL_SPOTS = (
+    ((5, 4), "left", "bottom"),
+    ((-5, 4), "right", "bottom"),
+    ((5, -4), "left", "top"),
+    ((-5, -4), "right", "top"),
+    ((0, 7), "center", "bottom"),
+    ((0, -7), "center", "top"),
+    ((0, 16), "center", "bottom"),
+    ((0, -16), "center", "top"),
+)
 CLIMB_MARK_SPOTS = (
     ((0, 7), "center", "bottom"),
     ((-8, 3), "right", "bottom"),
@@ -300,9 +312,9 @@ def _climb_mark(ax, number: int, summit, k: float, boxes: list, renderer):
     """A climb's number in a dark circle at the first place of
     :data:`CLIMB_MARK_SPOTS` around its ``summit`` that touches none of ``boxes``
     (else where it touches least). Returns the label and its box."""
-    best: tuple[float, Any, Any] | None = None
-    for offset, ha, va in CLIMB_MARK_SPOTS:
-        label = ax.annotate(
+
+    def mark(offset, ha: str, va: str):
+        return ax.annotate(
             str(number),
             summit,
             xytext=(offset[0] * k, offset[1] * k),
@@ -315,6 +327,17 @@ def _climb_mark(ax, number: int, summit, k: float, boxes: list, renderer):
             bbox={"boxstyle": "circle,pad=0.25", "facecolor": INK, "edgecolor": "none"},
             annotation_clip=False,
         )
+
+    return _first_free(mark, CLIMB_MARK_SPOTS, boxes, renderer)
+
+
+def _first_free(make, spots, boxes: list, renderer):
+    """The label ``make(offset, ha, va)`` makes at the first of ``spots`` where it
+    touches none of ``boxes``, else where it touches least (the others are removed).
+    Returns the label and its box."""
+    best: tuple[float, Any, Any] | None = None
+    for offset, ha, va in spots:
+        label = make(offset, ha, va)
         box = _label_box(label, renderer)
         touched = _overlap(box, boxes)
         if best is not None and touched >= best[0]:
@@ -325,7 +348,7 @@ def _climb_mark(ax, number: int, summit, k: float, boxes: list, renderer):
         best = (touched, label, box)
         if not touched:
             break
-    assert best is not None  # CLIMB_MARK_SPOTS is not empty
+    assert best is not None  # spots is not empty
     return best[1], best[2]
 
 
@@ -504,12 +527,14 @@ def route_map(
         return float(np.interp(distance, d, x)), float(np.interp(distance, d, y))
 
     length = float(terrain.length)
-    ends = _map_marks(ax, at, length, climbs, checkpoints, text_scale)
-    # room around the route, then a scale bar of a round length and a north arrow
+    # room around the route (set first: the labels are placed where they print), the
+    # marks, then a scale bar of a round length and a north arrow
     span = (float(np.ptp(x)) or 100.0, float(np.ptp(y)) or 100.0)
     pad = 0.12 * max(span)
     ax.set_xlim(x.min() - pad, x.max() + pad)
     ax.set_ylim(y.min() - pad, y.max() + pad)
+    ax.apply_aspect()  # the equal aspect moves the axes at drawing: measure where they print
+    ends = _map_marks(ax, at, length, climbs, checkpoints, text_scale)
     _map_scale(ax, (x.min(), x.max(), y.min(), y.max()), pad, span[0], units, text_scale)
     svg = _svg(fig)
     return svg, _map_alt(name, length, span, ends, len(checkpoints), len(climbs), units)
@@ -534,15 +559,20 @@ def _map_marks(
             xytext=a,
             arrowprops={"arrowstyle": "-|>", "color": INK, "lw": 1.0, "mutation_scale": 12 * k},
         )
+    from matplotlib.backends.backend_agg import RendererAgg
+
+    fig = ax.figure
+    renderer = RendererAgg(*(fig.get_size_inches() * fig.dpi), fig.dpi)
     sx, sy = at(0.0)
     fx, fy = at(length)
-    ax.plot(
+    (start,) = ax.plot(
         [sx], [sy], marker="o", markersize=11 * k, color=INK, markerfacecolor="white", markeredgewidth=1.6
     )
-    ax.plot([fx], [fy], marker="s", markersize=5 * k, color=INK)
+    (finish,) = ax.plot([fx], [fy], marker="s", markersize=5 * k, color=INK)
+    boxes = [start.get_window_extent(renderer), finish.get_window_extent(renderer)]
     for number, climb in enumerate(climbs, 1):
         cx, cy = at(climb.start_distance)
-        ax.annotate(
+        mark = ax.annotate(
             str(number),
             (cx, cy),
             fontsize=SMALLEST_PT * k,
@@ -552,21 +582,33 @@ def _map_marks(
             va="center",
             bbox={"boxstyle": "circle,pad=0.2", "facecolor": INK, "edgecolor": "none"},
         )
-    for number, (_, where) in enumerate(checkpoints, 1):
-        cx, cy = at(where)
-        ax.plot(
+        boxes.append(_label_box(mark, renderer))
+    places = [at(where) for _, where in checkpoints]
+    triangles = []
+    for cx, cy in places:
+        (triangle,) = ax.plot(
             [cx], [cy], marker="^", markersize=7 * k, color=INK, markerfacecolor="white", markeredgewidth=1.2
         )
-        ax.annotate(
-            f"Chk{number}",
-            (cx, cy),
-            xytext=(5, 4),
-            textcoords="offset points",
-            fontsize=SMALLEST_PT * k,
-            color=INK,
-            parse_math=False,
-            bbox={"boxstyle": "square,pad=0.1", "facecolor": "white", "edgecolor": "none", "alpha": 0.8},
-        )
+        triangles.append(triangle.get_window_extent(renderer))
+    labels: list = []
+    for number, (cx, cy) in enumerate(places, 1):  # each label where it covers no other mark
+        others = boxes + labels + triangles[: number - 1] + triangles[number:]
+
+        def label(offset, ha: str, va: str, number=number, xy=(cx, cy)):
+            return ax.annotate(
+                f"Chk{number}",
+                xy,
+                xytext=offset,
+                textcoords="offset points",
+                ha=ha,
+                va=va,
+                fontsize=SMALLEST_PT * k,
+                color=INK,
+                parse_math=False,
+                bbox={"boxstyle": "square,pad=0.1", "facecolor": "white", "edgecolor": "none", "alpha": 0.8},
+            )
+
+        labels.append(_first_free(label, MAP_LABEL_SPOTS, others, renderer)[1])
     return (sx, sy), (fx, fy)
 
 
