@@ -562,7 +562,8 @@ def _map_marks(
     from matplotlib.backends.backend_agg import RendererAgg
 
     fig = ax.figure
-    renderer = RendererAgg(*(fig.get_size_inches() * fig.dpi), fig.dpi)
+    width, height = fig.get_size_inches() * fig.dpi
+    renderer = RendererAgg(width, height, fig.dpi)
     sx, sy = at(0.0)
     fx, fy = at(length)
     (start,) = ax.plot(
