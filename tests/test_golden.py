@@ -685,6 +685,6 @@ def test_the_fluid_guide_says_whose_range_it_splits(demo):
         for name, text in cards.items():
             words = " ".join(text.split())
             assert (
-                "0.4–0.6 L an hour, our share for the day's temperature of the 0.4–0.8 L of ACSM (2007)"
+                "0.4–0.6 L an hour: our temperature band of ACSM's 0.4–0.8 L (2007)"
                 in words
             ), name

@@ -216,7 +216,7 @@ def test_tandem_descent_flags_and_figures_agree(outing):
     for coast, marks in rows:
         assert (float(coast) > cap) == ("F" in marks.split()), (coast, marks)
     assert not re.search(r"up to [\d.]+ km/h", card)
-    assert "steeper pitches and speed carried in go faster), not safe or target speeds" in card
+    assert "Speeds are model estimates (steeper pitches go faster), not safe or target speeds" in card
 
 
 def test_heat_caution_and_settled_ride_at_38_c(outing):

@@ -28,8 +28,8 @@ ASSIST_CAUTION = (
 )
 #: Beside every table of descent speeds (card and route page): what the speeds are.
 DESCENT_CAUTION = (
-    "Speeds are model estimates on the average grade (steeper pitches and speed carried in go faster), "
-    "not safe or target speeds: check brakes before the start, brake "
+    "Speeds are model estimates (steeper pitches go faster), not safe or target speeds: check brakes "
+    "before the start, brake "
     "before bends, and ride slower for the conditions, visibility, surface, traffic and posted limits."
 )
 #: Beside the descents table of a card whose ride is longer than :data:`LONG_RIDE` [s].
