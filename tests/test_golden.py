@@ -684,7 +684,4 @@ def test_the_fluid_guide_says_whose_range_it_splits(demo):
     for _, _, _, cards in routes:
         for name, text in cards.items():
             words = " ".join(text.split())
-            assert (
-                "0.4–0.6 L an hour: our temperature band of ACSM's 0.4–0.8 L (2007)"
-                in words
-            ), name
+            assert "0.4–0.6 L an hour: our temperature band of ACSM's 0.4–0.8 L (2007)" in words, name
